@@ -1,0 +1,30 @@
+/**
+ * What one element kind module provides: its keys (in design.md "Beam keys" order, which is also the
+ * order serialize writes), how it routes, how it is read from the document, and the defaults of a new
+ * element of that kind in the editor.
+ */
+import type { Element } from '../types.ts';
+import type { Obj, ReadCtx } from '../read.ts';
+
+export type ElementBody<E extends Element> = Omit<E, 'id' | 'kind' | 'gap' | 'path'>;
+
+export interface KindModule<E extends Element = Element> {
+  readonly kind: E['kind'];
+  /** Kind-specific keys in design.md order, without id, kind, gap and the output key. */
+  readonly keys: readonly string[];
+  /** "ports" (a magnet), "to" (one output) or "none" (a leaf: the detector). */
+  readonly output: 'ports' | 'to' | 'none';
+  /** Keys that apply to hyperfine species only. */
+  readonly hyperfineOnly: readonly string[];
+  /** Read the kind-specific keys (the output included); problems go to ctx. */
+  read(o: Obj, path: string, ctx: ReadCtx): ElementBody<E> | undefined;
+  /** Kind-specific keys of a new element in the editor (without id, kind, gap, output), given the line's port labels. */
+  defaults(portLabels: readonly string[]): Record<string, unknown>;
+}
+
+/** Output routing of a normalized element: one entry per "to" or port key ("*" included). */
+export function outputsOf(el: Element): { port: string | null; target: string }[] {
+  if (el.kind === 'detector') return [];
+  if (el.kind === 'magnet') return Object.entries(el.ports).map(([port, target]) => ({ port, target }));
+  return [{ port: null, target: el.to }];
+}

@@ -1,0 +1,193 @@
+/**
+ * Shared readers for the document: every reader records Problems in the context and returns undefined
+ * on failure, so one pass reports ALL problems of a file.
+ */
+import type { LabelSpecies } from './labels.ts';
+import type { Axis, Problem, Rect, Vec3 } from './types.ts';
+import { type Dimension, degreesText, isProblem, parseQuantity } from './units.ts';
+
+export interface ReadCtx {
+  readonly problems: Problem[];
+  readonly warnings: Problem[];
+  /** The line's species, when it could be resolved (labels are checked only then). */
+  readonly species: LabelSpecies | undefined;
+}
+
+export type Obj = Record<string, unknown>;
+
+/** JSON path of a key: "oven.to", "elements[4].ports[\"F=2,mF=+1\"]". */
+export function at(base: string, key: string | number): string {
+  if (typeof key === 'number') return `${base}[${key}]`;
+  if (/^[A-Za-z_$][A-Za-z0-9_$]*$/.test(key)) return base ? `${base}.${key}` : key;
+  return `${base}[${JSON.stringify(key)}]`;
+}
+
+export function problem(ctx: ReadCtx, path: string, message: string): undefined {
+  ctx.problems.push({ path, message });
+  return undefined;
+}
+
+export function warn(ctx: ReadCtx, path: string, message: string): void {
+  ctx.warnings.push({ path, message });
+}
+
+export function isObj(v: unknown): v is Obj {
+  return typeof v === 'object' && v !== null && !Array.isArray(v);
+}
+
+export function describe(v: unknown): string {
+  if (v === null) return 'null';
+  if (Array.isArray(v)) return 'a list';
+  if (typeof v === 'object') return 'an object';
+  if (typeof v === 'string') return `"${v}"`;
+  return `${typeof v} ${String(v)}`;
+}
+
+/** Levenshtein distance, for "did you mean" on unknown keys. */
+function distance(a: string, b: string): number {
+  const d = Array.from({ length: a.length + 1 }, (_, i) => [i, ...Array<number>(b.length).fill(0)]);
+  for (let j = 1; j <= b.length; j++) d[0][j] = j;
+  for (let i = 1; i <= a.length; i++)
+    for (let j = 1; j <= b.length; j++)
+      d[i][j] = Math.min(d[i - 1][j] + 1, d[i][j - 1] + 1, d[i - 1][j - 1] + (a[i - 1].toLowerCase() === b[j - 1].toLowerCase() ? 0 : 1));
+  return d[a.length][b.length];
+}
+
+export function suggest(k: string, allowed: readonly string[]): string {
+  let best = '';
+  let bd = Infinity;
+  for (const a of allowed) {
+    const dd = distance(k, a);
+    if (dd < bd) {
+      bd = dd;
+      best = a;
+    }
+  }
+  return bd <= Math.max(1, Math.floor(k.length / 3)) ? ` (did you mean "${best}"?)` : '';
+}
+
+/**
+ * Reject keys of `o` not in `allowed`. `why` gives keys that exist in the format but do not apply here,
+ * with the reason ("group applies to hyperfine species only").
+ */
+export function checkKeys(ctx: ReadCtx, o: Obj, path: string, allowed: readonly string[], what: string, why: Readonly<Record<string, string>> = {}): void {
+  for (const k of Object.keys(o)) {
+    if (allowed.includes(k)) continue;
+    if (k in why) problem(ctx, at(path, k), `${JSON.stringify(k)} does not apply here: ${why[k]}`);
+    else problem(ctx, at(path, k), `unknown key ${JSON.stringify(k)} in ${what}${suggest(k, allowed)}; allowed: ${allowed.join(', ')}`);
+  }
+}
+
+/** An object-valued key; `required` reports its absence. */
+export function object(ctx: ReadCtx, o: Obj, k: string, path: string, required: boolean): Obj | undefined {
+  const v = o[k];
+  const p = at(path, k);
+  if (v === undefined) return required ? problem(ctx, p, `missing ${JSON.stringify(k)}`) : undefined;
+  if (!isObj(v)) return problem(ctx, p, `expected an object, got ${describe(v)}`);
+  return v;
+}
+
+export interface Bounds {
+  /** Reject values below 0. */
+  nonNegative?: boolean;
+  /** Reject values ≤ 0. */
+  positive?: boolean;
+  /** Reject values outside [0, 1]. */
+  unit?: boolean;
+}
+
+/** Check a number against bounds; the message names the bound. */
+export function bounded(ctx: ReadCtx, n: number, p: string, what: string, b: Bounds): number | undefined {
+  if (b.positive && !(n > 0)) return problem(ctx, p, `${what} must be positive, got ${n}`);
+  if (b.nonNegative && n < 0) return problem(ctx, p, `${what} must not be negative, got ${n}`);
+  if (b.unit && (n < 0 || n > 1)) return problem(ctx, p, `${what} must lie in [0, 1], got ${n}`);
+  return n;
+}
+
+/** A quantity of dimension `dim` at o[k], in SI. `fallback` is used when the key is absent (optional key). */
+export function quantity(ctx: ReadCtx, o: Obj, k: string, dim: Dimension, path: string,
+  opts: Bounds & { required?: boolean; fallback?: number; what?: string } = {}): number | undefined {
+  const p = at(path, k);
+  const v = o[k];
+  if (v === undefined) {
+    if (opts.fallback !== undefined) return opts.fallback;
+    return opts.required === false ? undefined : problem(ctx, p, `missing ${JSON.stringify(k)}`);
+  }
+  const r = parseQuantity(v, dim, p);
+  if (isProblem(r)) {
+    ctx.problems.push(r);
+    return undefined;
+  }
+  return bounded(ctx, r, p, opts.what ?? k, opts);
+}
+
+/** Unit vector n̂(θ, φ) = (sinθ cosφ, sinθ sinφ, cosθ). */
+export function axisFromAngles(theta: number, phi: number): Vec3 {
+  return { x: Math.sin(theta) * Math.cos(phi), y: Math.sin(theta) * Math.sin(phi), z: Math.cos(theta) };
+}
+
+/**
+ * An axis at o[k]: {theta, phi} → n̂(θ, φ), or {roll} → n̂ = (sin α, 0, cos α) (a roll α about the beam).
+ * A component along the beam (y) is accepted here; the engine warns.
+ */
+export function axis(ctx: ReadCtx, o: Obj, k: string, path: string): Axis | undefined {
+  const a = object(ctx, o, k, path, true);
+  if (!a) return undefined;
+  const p = at(path, k);
+  const keys = Object.keys(a);
+  if (keys.length === 1 && keys[0] === 'roll') {
+    const roll = quantity(ctx, a, 'roll', 'angle', p);
+    if (roll === undefined) return undefined;
+    return { x: Math.sin(roll), y: 0, z: Math.cos(roll), text: `roll ${degreesText(roll)}` };
+  }
+  if (keys.length === 2 && keys.includes('theta') && keys.includes('phi')) {
+    const theta = quantity(ctx, a, 'theta', 'angle', p);
+    const phi = quantity(ctx, a, 'phi', 'angle', p);
+    if (theta === undefined || phi === undefined) return undefined;
+    return { ...axisFromAngles(theta, phi), text: `θ ${degreesText(theta)}, φ ${degreesText(phi)}` };
+  }
+  return problem(ctx, p, `an axis is {"theta", "phi"} or {"roll"}, got keys ${keys.length ? keys.map((x) => JSON.stringify(x)).join(', ') : 'none'}`);
+}
+
+/** A vector {x, y, z} of dimension `dim` (all three components required). */
+export function vec(ctx: ReadCtx, o: Obj, k: string, dim: Dimension, path: string, required = true): Vec3 | undefined {
+  const v = object(ctx, o, k, path, required);
+  if (!v) return undefined;
+  const p = at(path, k);
+  checkKeys(ctx, v, p, ['x', 'y', 'z'], 'a vector');
+  const x = quantity(ctx, v, 'x', dim, p);
+  const y = quantity(ctx, v, 'y', dim, p);
+  const z = quantity(ctx, v, 'z', dim, p);
+  return x === undefined || y === undefined || z === undefined ? undefined : { x, y, z };
+}
+
+/** A rectangle {width, height, x?, z?} (positive sizes; x, z offsets from the beam axis, default 0). */
+export function rect(ctx: ReadCtx, o: Obj, k: string, path: string): Rect | undefined {
+  const r = object(ctx, o, k, path, false);
+  if (!r) return undefined;
+  const p = at(path, k);
+  checkKeys(ctx, r, p, ['x', 'z', 'width', 'height'], 'a rectangle');
+  const width = quantity(ctx, r, 'width', 'length', p, { positive: true });
+  const height = quantity(ctx, r, 'height', 'length', p, { positive: true });
+  const x = quantity(ctx, r, 'x', 'length', p, { fallback: 0 });
+  const z = quantity(ctx, r, 'z', 'length', p, { fallback: 0 });
+  if (width === undefined || height === undefined || x === undefined || z === undefined) return undefined;
+  return { x, z, width, height };
+}
+
+/** A routing target at o[k]: an element id or "stop" (existence is checked on the whole line). */
+export function target(ctx: ReadCtx, o: Obj, k: string, path: string, what: string): string | undefined {
+  const v = o[k];
+  const p = at(path, k);
+  if (v === undefined) return problem(ctx, p, `missing ${JSON.stringify(k)}: ${what} has one output; route it to an element id or "stop"`);
+  if (typeof v !== 'string' || v === '') return problem(ctx, p, `a target is an element id or "stop", got ${describe(v)}`);
+  return v;
+}
+
+/** One of a fixed set of strings. */
+export function choice<T extends string>(ctx: ReadCtx, o: Obj, k: string, path: string, options: readonly T[]): T | undefined {
+  const v = o[k];
+  if (v === undefined) return undefined;
+  if (typeof v === 'string' && (options as readonly string[]).includes(v)) return v as T;
+  return problem(ctx, at(path, k), `expected one of ${options.map((x) => JSON.stringify(x)).join(', ')}, got ${describe(v)}`);
+}
