@@ -27,8 +27,8 @@ export function axisFromRoll(alpha: number): Vec3 {
 
 /** Polar angles (θ, φ) of a non-zero vector. */
 export function anglesOf(n: Vec3): { theta: number; phi: number } {
-  const r = Math.hypot(n.x, n.y, n.z);
-  return { theta: Math.acos(Math.max(-1, Math.min(1, n.z / r))), phi: Math.atan2(n.y, n.x) };
+  // atan2 keeps full precision near the poles, where acos(z) loses it
+  return { theta: Math.atan2(Math.hypot(n.x, n.y), n.z), phi: Math.atan2(n.y, n.x) };
 }
 
 export function vecNorm(v: Vec3): number {

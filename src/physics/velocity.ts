@@ -1,0 +1,202 @@
+/**
+ * Beam velocity distributions (flux-weighted, normalised to 1) and the averages the engine needs.
+ *
+ *   effusive:   f(v) = 2 v³/a⁴ · exp(−v²/a²),  a = √(2kT/M)           (Ramsey, Molecular Beams, ch. II)
+ *   supersonic: f(v) ∝ v³ exp(−(v − u)²/α²),   α = u/S                  (design.md, Conventions)
+ *   fixed:      δ(v − v₀)
+ *   table:      Σ_k w_k δ(v − v_k), weights normalised by their sum, used as they are
+ *
+ * Everything velocity dependent in the engine is a sum of terms c·e^{−iΦ/v} (Φ in rad·m/s: a Bohr
+ * frequency times a length). The average of one term is the characteristic function of the transit
+ * variable s = 1/v,
+ *
+ *   χ_n(Φ) = ⟨s^n e^{−iΦ s}⟩ = ∫ f(v) v^{−n} e^{−iΦ/v} dv,
+ *
+ * computed frequency by frequency, so that no sampling grid can alias a fast phase:
+ * - effusive: in u = v/a, χ_n = a^{−n} ∫₀^∞ 2u^{3−n} e^{−u²} e^{−iW/u} du with W = Φ/a. The integrand is
+ *   analytic in the right half plane; for W > 0 the contour is rotated onto the ray u = r·e^{iπ/6}, where
+ *   |integrand| = 2r^{3−n} exp(−r²/2 − W/(2r)) has no cancellation, and integrated by adaptive
+ *   Gauss–Kronrod to ~1e-15 absolute. (W < 0 by complex conjugation.) This is exact for every W: at
+ *   W = 10⁷ the result is ~exp(−1.5 (W/2)^{2/3}) ≈ 0 to all digits, instead of an aliased grid sum.
+ * - supersonic: adaptive Gauss–Kronrod on the real axis over u ± 12α, with a Gaussian decay bound
+ *   |χ| ≲ exp(−(Φα/u²)²/4) beyond which the term is zero to double precision.
+ * - fixed and table: the exact finite sums.
+ */
+import { integrateAdaptive, compositeRule } from './quadrature.ts';
+
+export type VelocityDistribution =
+  | { readonly kind: 'fixed'; readonly speed: number }
+  | { readonly kind: 'effusive'; readonly a: number }
+  | { readonly kind: 'supersonic'; readonly u: number; readonly alpha: number }
+  | { readonly kind: 'table'; readonly speeds: Float64Array; readonly weights: Float64Array };
+
+/** Boltzmann constant, J/K (SI, exact since 2019; CODATA 2018). */
+export const BOLTZMANN = 1.380649e-23;
+
+/** Effusive (flux-weighted) beam of temperature T and atomic mass M: a = √(2kT/M). */
+export function effusiveDistribution(temperature: number, massKg: number): VelocityDistribution {
+  return { kind: 'effusive', a: Math.sqrt((2 * BOLTZMANN * temperature) / massKg) };
+}
+
+export function supersonicDistribution(speed: number, ratio: number): VelocityDistribution {
+  return { kind: 'supersonic', u: speed, alpha: speed / ratio };
+}
+
+export function tableDistribution(points: readonly (readonly [number, number])[]): VelocityDistribution {
+  const total = points.reduce((s, p) => s + p[1], 0);
+  return {
+    kind: 'table',
+    speeds: Float64Array.from(points, (p) => p[0]),
+    weights: Float64Array.from(points, (p) => p[1] / total),
+  };
+}
+
+export interface CharValue {
+  re: number;
+  im: number;
+  /** Estimated absolute error. */
+  error: number;
+  /** Integrand evaluations (quadrature nodes) used. */
+  nodes: number;
+}
+
+const SIN30 = 0.5, COS30 = Math.sqrt(3) / 2;
+
+function gammaHalf(k2: number): number {
+  // Γ(k2/2) for k2 = 1, 2, 3, 4
+  return [NaN, Math.sqrt(Math.PI), 1, Math.sqrt(Math.PI) / 2, 1][k2];
+}
+
+/** I_n(W) = ∫₀^∞ 2u^{3−n} e^{−u²} e^{−iW/u} du for W ≥ 0, on the rotated ray. */
+function effusiveIntegral(n: number, w: number): CharValue {
+  if (w === 0) {
+    if (n >= 4) return { re: Infinity, im: 0, error: 0, nodes: 0 };
+    return { re: gammaHalf(4 - n), im: 0, error: 0, nodes: 0 };
+  }
+  if (w > 2e4) return { re: 0, im: 0, error: Math.exp(-1.5 * Math.cbrt((w / 2) ** 2) + 10), nodes: 0 };
+  const p = 3 - n;
+  const ph0 = (4 - n) * (Math.PI / 6);
+  const f = (r: number): readonly [number, number] => {
+    if (r <= 0) return [0, 0];
+    // E = −r² e^{iπ/3} − iW e^{−iπ/6}/r + i(4−n)π/6 + ln(2 r^p)
+    const reE = -r * r * 0.5 - (w * SIN30) / r;
+    if (reE < -745) return [0, 0];
+    const imE = -r * r * COS30 - (w * COS30) / r + ph0;
+    const mag = 2 * Math.pow(r, p) * Math.exp(reE);
+    return [mag * Math.cos(imE), mag * Math.sin(imE)];
+  };
+  // the integrand peaks near r³ ≈ W/2 + …; integrate to where e^{−r²/2} is below 1e-30 of the peak
+  const rPeak = Math.max(1, Math.cbrt(w / 2) * 1.2);
+  const rMax = Math.sqrt(rPeak * rPeak + 2 * 80);
+  const res = integrateAdaptive(f, 0, rMax, 1e-16, 1e-14, 4000);
+  return { re: res.re, im: res.im, error: res.error + 1e-16, nodes: res.evaluations };
+}
+
+let supersonicNorm = new Map<string, number>();
+
+function supersonicDensity(d: { u: number; alpha: number }): { f: (v: number) => number; lo: number; hi: number } {
+  const key = `${d.u}/${d.alpha}`;
+  const lo = Math.max(0, d.u - 12 * d.alpha), hi = d.u + 12 * d.alpha;
+  const raw = (v: number) => v ** 3 * Math.exp(-(((v - d.u) / d.alpha) ** 2));
+  let norm = supersonicNorm.get(key);
+  if (norm === undefined) {
+    norm = integrateAdaptive((v) => [raw(v), 0], lo, hi, 0, 1e-15).re;
+    if (supersonicNorm.size > 64) supersonicNorm = new Map();
+    supersonicNorm.set(key, norm);
+  }
+  const nn = norm;
+  return { f: (v) => raw(v) / nn, lo, hi };
+}
+
+/** χ_n(Φ) = ⟨v^{−n} e^{−iΦ/v}⟩ over the distribution (see module doc). */
+export function charFunction(d: VelocityDistribution, phi: number, n: number = 0): CharValue {
+  switch (d.kind) {
+    case 'fixed': {
+      const s = 1 / d.speed;
+      const a = Math.pow(s, n);
+      return { re: a * Math.cos(phi * s), im: -a * Math.sin(phi * s), error: 0, nodes: 1 };
+    }
+    case 'table': {
+      let re = 0, im = 0;
+      for (let k = 0; k < d.speeds.length; k++) {
+        const s = 1 / d.speeds[k];
+        const a = d.weights[k] * Math.pow(s, n);
+        re += a * Math.cos(phi * s);
+        im -= a * Math.sin(phi * s);
+      }
+      return { re, im, error: 0, nodes: d.speeds.length };
+    }
+    case 'effusive': {
+      const r = effusiveIntegral(n, Math.abs(phi) / d.a);
+      const sc = Math.pow(d.a, -n);
+      return { re: r.re * sc, im: (phi < 0 ? -r.im : r.im) * sc, error: r.error * sc, nodes: r.nodes };
+    }
+    case 'supersonic': {
+      const { f, lo, hi } = supersonicDensity(d);
+      const decay = (Math.abs(phi) * d.alpha) / (d.u * d.u);
+      if (decay > 60 && d.u / d.alpha > 3) return { re: 0, im: 0, error: 1e-300, nodes: 0 };
+      const r = integrateAdaptive((v) => {
+        if (v <= 0) return [0, 0];
+        const a = f(v) * Math.pow(v, -n);
+        return [a * Math.cos(phi / v), -a * Math.sin(phi / v)];
+      }, lo, hi, 1e-16, 1e-14, 4000);
+      return { re: r.re, im: r.im, error: r.error, nodes: r.evaluations };
+    }
+  }
+}
+
+/** ⟨v^{−n}⟩: e.g. ⟨1/v²⟩ = M/(2kT) for the effusive beam (Ramsey). */
+export function inverseSpeedMoment(d: VelocityDistribution, n: number): number {
+  return charFunction(d, 0, n).re;
+}
+
+/** Flux density f(v) (1/(m/s)) for plotting; a table returns its weights at its speeds. */
+export function densityAt(d: VelocityDistribution, v: number): number {
+  switch (d.kind) {
+    case 'effusive': {
+      const u = v / d.a;
+      return u <= 0 ? 0 : (2 * u ** 3 * Math.exp(-u * u)) / d.a;
+    }
+    case 'supersonic':
+      return v <= 0 ? 0 : supersonicDensity(d).f(v);
+    default:
+      return 0;
+  }
+}
+
+/** The speed range that holds all but ~1e-9 of the flux (for plots and geometry grids). */
+export function speedRange(d: VelocityDistribution): [number, number] {
+  switch (d.kind) {
+    case 'fixed': return [d.speed, d.speed];
+    case 'table': return [d.speeds[0], d.speeds[d.speeds.length - 1]];
+    case 'effusive': return [0, 4.8 * d.a];
+    case 'supersonic': return [Math.max(0, d.u - 7 * d.alpha), d.u + 7 * d.alpha];
+  }
+}
+
+/**
+ * Speeds and flux weights for averaging smooth functions of v (geometry: deflections go as 1/v²).
+ * Continuous distributions get a composite Gauss–Legendre grid over their range; the slowest atoms
+ * (effusive: v < 0.05a, a flux fraction of 3·10⁻⁶) are left out, because their deflection diverges
+ * and they end on an aperture; the weight left out is returned as `excluded`.
+ */
+export function speedGrid(d: VelocityDistribution, panels: number = 24, order: number = 8): { speeds: Float64Array; weights: Float64Array; excluded: number } {
+  switch (d.kind) {
+    case 'fixed': return { speeds: Float64Array.of(d.speed), weights: Float64Array.of(1), excluded: 0 };
+    case 'table': return { speeds: d.speeds, weights: d.weights, excluded: 0 };
+    case 'effusive': {
+      const lo = 0.05, hi = 4.8;
+      const r = compositeRule(lo, hi, order, panels);
+      const speeds = r.nodes.map((u) => u * d.a);
+      const weights = r.nodes.map((u, i) => 2 * u ** 3 * Math.exp(-u * u) * r.weights[i]);
+      const excluded = 1 - weights.reduce((s, w) => s + w, 0);
+      return { speeds, weights, excluded };
+    }
+    case 'supersonic': {
+      const { f, lo, hi } = supersonicDensity(d);
+      const r = compositeRule(lo, hi, order, panels);
+      const weights = r.nodes.map((v, i) => f(v) * r.weights[i]);
+      return { speeds: r.nodes, weights, excluded: 1 - weights.reduce((s, w) => s + w, 0) };
+    }
+  }
+}

@@ -1,0 +1,74 @@
+import { describe, it, expect } from 'vitest';
+import { effusiveDistribution, charFunction, inverseSpeedMoment, supersonicDistribution, tableDistribution, speedGrid, BOLTZMANN } from '../../src/physics/velocity.ts';
+import { integrateAdaptive } from '../../src/physics/quadrature.ts';
+
+const U = 1.66053906660e-27; // CODATA 2018 atomic mass constant
+const mCs = 132.905451958 * U; // AME2020 via reference-data.md
+
+describe('effusive moments (N. F. Ramsey, Molecular Beams, ch. II)', () => {
+  const T = 400;
+  const d = effusiveDistribution(T, mCs);
+  const a = Math.sqrt((2 * BOLTZMANN * T) / mCs);
+  it('⟨1/v²⟩ = M/(2kT) to 1e-8', () => {
+    expect(Math.abs(inverseSpeedMoment(d, 2) / (mCs / (2 * BOLTZMANN * T)) - 1)).toBeLessThan(1e-8);
+  });
+  it('⟨1/v⟩ = √π/(2a) to 1e-8', () => {
+    expect(Math.abs(inverseSpeedMoment(d, 1) / (Math.sqrt(Math.PI) / (2 * a)) - 1)).toBeLessThan(1e-8);
+  });
+  it('the most probable flux speed is √(3kT/M)', () => {
+    // maximise v³ exp(−v²/a²) on the density itself: derivative zero at v = a√(3/2)
+    const vmp = Math.sqrt((3 * BOLTZMANN * T) / mCs);
+    const f = (v: number) => v ** 3 * Math.exp(-(v * v) / (a * a));
+    expect(f(vmp)).toBeGreaterThan(f(vmp * (1 + 1e-4)));
+    expect(f(vmp)).toBeGreaterThan(f(vmp * (1 - 1e-4)));
+    expect(Math.abs(vmp / (a * Math.sqrt(1.5)) - 1)).toBeLessThan(1e-15);
+  });
+  it('the rotated-contour χ agrees with direct real-axis integration where that converges', () => {
+    for (const W of [0.1, 1, 5, 20, 60]) {
+      const phi = W * a;
+      const c = charFunction(d, phi, 0);
+      const direct = integrateAdaptive((u) => {
+        if (u <= 0) return [0, 0];
+        const m = 2 * u ** 3 * Math.exp(-u * u);
+        return [m * Math.cos(W / u), -m * Math.sin(W / u)];
+      }, 0, 7, 1e-15, 1e-13, 20000);
+      expect(Math.abs(c.re - direct.re)).toBeLessThan(1e-11);
+      expect(Math.abs(c.im - direct.im)).toBeLessThan(1e-11);
+    }
+  });
+  it('gives a vanishing average for a 9.19 GHz beat over 5 cm (phases of 10⁷ rad), with a small error', () => {
+    const phi = 2 * Math.PI * 9.192631770e9 * 0.05;
+    const c = charFunction(d, phi, 0);
+    expect(Math.hypot(c.re, c.im)).toBeLessThan(1e-15);
+    expect(c.error).toBeLessThan(1e-14);
+  });
+  it('is conjugate-symmetric in Φ', () => {
+    const p = charFunction(d, 3 * a, 0), m = charFunction(d, -3 * a, 0);
+    expect(p.re).toBe(m.re);
+    expect(p.im).toBe(-m.im);
+  });
+});
+
+describe('supersonic and table distributions', () => {
+  it('a narrow supersonic beam averages e^{−iΦ/v} like a Gaussian spread in 1/v', () => {
+    const d = supersonicDistribution(1500, 40);
+    const c = charFunction(d, 0, 0);
+    expect(c.re).toBeCloseTo(1, 12);
+    // the mean transit phase at Φ = 1500 rad·m/s is about 1 rad
+    const z = charFunction(d, 1500, 0);
+    expect(Math.abs(Math.atan2(-z.im, z.re) - 1)).toBeLessThan(0.01);
+    expect(Math.hypot(z.re, z.im)).toBeGreaterThan(0.99);
+  });
+  it('a table is normalised by its weight sum and used as it is', () => {
+    const d = tableDistribution([[100, 2], [200, 2]]);
+    const c = charFunction(d, 100 * Math.PI, 0);
+    // 0.5 e^{−iπ} + 0.5 e^{−iπ/2}
+    expect(c.re).toBeCloseTo(-0.5, 14);
+    expect(c.im).toBeCloseTo(-0.5, 14);
+  });
+  it('the geometry grid of the effusive beam holds all but 3e-6 of the flux', () => {
+    const g = speedGrid(effusiveDistribution(1300, 107 * U));
+    expect(g.excluded).toBeGreaterThan(0);
+    expect(g.excluded).toBeLessThan(4e-6);
+  });
+});
