@@ -1,0 +1,315 @@
+/**
+ * From the paths of a run to the leaves and detectors of the result: yields, the detector plane
+ * (displacement, spread, profile, captured fraction, crosstalk, resolved/overlapping) and counts.
+ *
+ * Geometry is averaged over speed on a grid (physics/velocity.ts speedGrid) weighted by each path's
+ * own speed-resolved yield; phase terms too fast for that grid (a step above 0.5 rad between nodes)
+ * are left out of the weights: against the smooth geometric factors they average to nothing. The
+ * yields themselves come from the exact frequency-by-frequency averages; clipping multiplies them by
+ * the grid's transmitted fraction, and what is clipped is counted as lost.
+ */
+import { speedGrid, type VelocityDistribution } from '../physics/velocity.ts';
+import type { Vec3 } from '../physics/rotation.ts';
+import type { Detector, Rect } from '../beamline/types.ts';
+import { transmit, fractionInside, fractionBelow, type Collimator1D, type AxisResult } from './geometry.ts';
+import type { LeafResult, DetectorResult, NeighbourVerdict, CrosstalkEntry } from './result.ts';
+
+export interface Kick {
+  readonly exitY: number;
+  readonly length: number;
+  /** a = μ_eff G/M (m/s²). */
+  readonly accel: number;
+  readonly n: Vec3;
+}
+
+export interface Track {
+  readonly source: Rect | null;
+  readonly collimator: { readonly y: number; readonly rect: Rect } | null;
+  readonly kicks: readonly Kick[];
+  readonly strips: readonly { readonly y: number; readonly lo: number; readonly hi: number; readonly axis: 'x' | 'z' }[];
+  /** ELEMENT:lowField of the state selected at each magnet (finer than the ports). */
+  readonly components: readonly string[];
+}
+
+export interface FinePath {
+  readonly system: string;
+  readonly fraction: number;
+  readonly dist: VelocityDistribution;
+  readonly path: readonly string[];
+  readonly target: string;
+  readonly plane: number;
+  /** Beam-averaged yield of this path (already weighted by the isotope fraction). */
+  readonly yieldSpin: number;
+  readonly yieldError?: number;
+  readonly track: Track;
+  /** Tr ρ(v) at the given speeds, terms with |Φ| > phiMax left out (not weighted by the isotope fraction). */
+  traceAt(speeds: ArrayLike<number>, phiMax: number): Float64Array;
+  readonly detector: Detector | null;
+  maxPhase?(): number;
+}
+
+interface FineGeo {
+  fine: FinePath;
+  yieldGeo: number;
+  captured: number;
+  mean: { x: number; z: number };
+  second: { x: number; z: number };
+  nodes: { w: number; rx: AxisResult; rz: AxisResult; cx: Collimator1D; cz: Collimator1D; dx: number; dz: number }[];
+}
+
+function collimatorFor(t: Track, axis: 'x' | 'z'): Collimator1D {
+  const src = t.source;
+  const c0 = src ? (axis === 'x' ? src.x : src.z) : 0;
+  const w0 = src ? (axis === 'x' ? src.width : src.height) : 0;
+  if (!t.collimator) return { p0: c0 - w0 / 2, p1: c0 + w0 / 2, q0: 0, q1: 0, ys: Infinity };
+  const r = t.collimator.rect;
+  const c1 = axis === 'x' ? r.x : r.z;
+  const w1 = axis === 'x' ? r.width : r.height;
+  return { p0: c0 - w0 / 2, p1: c0 + w0 / 2, q0: c1 - w1 / 2, q1: c1 + w1 / 2, ys: t.collimator.y };
+}
+
+/** Deflection (m) at plane y of a path at speed v, along x and z. */
+export function deflection(kicks: readonly Kick[], y: number, v: number): { x: number; z: number } {
+  let x = 0, z = 0;
+  for (const k of kicks) {
+    if (y < k.exitY - 1e-12) continue;
+    const d = (k.accel * k.length * (k.length / 2 + (y - k.exitY))) / (v * v);
+    x += d * k.n.x;
+    z += d * k.n.z;
+  }
+  return { x, z };
+}
+
+function hasGeometry(f: FinePath): boolean {
+  const t = f.track;
+  return t.source !== null || t.collimator !== null || t.kicks.length > 0 || t.strips.length > 0 || !!f.detector?.window;
+}
+
+function fineGeometry(f: FinePath): FineGeo {
+  const g = speedGrid(f.dist, 12, 8);
+  let phiMax = Infinity;
+  if (f.dist.kind === 'effusive' || f.dist.kind === 'supersonic') {
+    let ds = 0;
+    for (let k = 1; k < g.speeds.length; k++) ds = Math.max(ds, Math.abs(1 / g.speeds[k - 1] - 1 / g.speeds[k]));
+    phiMax = 0.5 / ds;
+  }
+  const tr = f.traceAt(g.speeds, phiMax);
+  let total = 0;
+  const w = new Float64Array(g.speeds.length);
+  for (let k = 0; k < w.length; k++) {
+    w[k] = Math.max(0, tr[k]) * g.weights[k];
+    total += w[k];
+  }
+  const cx = collimatorFor(f.track, 'x'), cz = collimatorFor(f.track, 'z');
+  const win = f.detector?.window;
+  const nodes: FineGeo['nodes'] = [];
+  let tSum = 0, capSum = 0, mx = 0, mz = 0, sx = 0, sz = 0;
+  if (total <= 0) {
+    return { fine: f, yieldGeo: f.yieldSpin, captured: 0, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes };
+  }
+  for (let k = 0; k < w.length; k++) {
+    const wk = w[k] / total;
+    if (wk === 0) continue;
+    const v = g.speeds[k];
+    const stripsX = [], stripsZ = [];
+    for (const s of f.track.strips) {
+      const d = deflection(f.track.kicks, s.y, v);
+      if (s.axis === 'x') stripsX.push({ y: s.y, lo: s.lo - d.x, hi: s.hi - d.x });
+      else stripsZ.push({ y: s.y, lo: s.lo - d.z, hi: s.hi - d.z });
+    }
+    const rx = transmit(cx, stripsX, f.plane);
+    const rz = transmit(cz, stripsZ, f.plane);
+    const d = deflection(f.track.kicks, f.plane, v);
+    const t = rx.transmission * rz.transmission;
+    tSum += wk * t;
+    mx += wk * t * (rx.mean + d.x);
+    mz += wk * t * (rz.mean + d.z);
+    sx += wk * t * (rx.variance + (rx.mean + d.x) ** 2);
+    sz += wk * t * (rz.variance + (rz.mean + d.z) ** 2);
+    if (win) {
+      const fx = fractionInside(cx, rx, f.plane, win.x - win.width / 2 - d.x, win.x + win.width / 2 - d.x);
+      const fz = fractionInside(cz, rz, f.plane, win.z - win.height / 2 - d.z, win.z + win.height / 2 - d.z);
+      capSum += wk * fx * fz;
+    }
+    nodes.push({ w: wk, rx, rz, cx, cz, dx: d.x, dz: d.z });
+  }
+  const yieldGeo = f.yieldSpin * tSum;
+  const safe = tSum > 0 ? tSum : 1;
+  return {
+    fine: f, yieldGeo, captured: win ? capSum / safe : 1,
+    mean: { x: mx / safe, z: mz / safe }, second: { x: sx / safe, z: sz / safe }, nodes,
+  };
+}
+
+interface LeafAcc {
+  key: string;
+  path: string[];
+  target: string;
+  plane: number;
+  detector: Detector | null;
+  fines: FineGeo[];
+  yieldSpin: number;
+}
+
+/** Builds the result's leaves and detectors from the run's paths (see module doc). */
+export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsilon: number, _lost: { spin: number }): {
+  leaves: LeafResult[]; detectors: DetectorResult[]; clipped: number; nodes: number; chiError: number;
+} {
+  const geometry = fines.some(hasGeometry);
+  const accs = new Map<string, LeafAcc>();
+  let clipped = 0, nodes = 0, chiError = 0;
+  for (const f of fines) {
+    chiError += f.yieldError ?? 0;
+    const key = `${f.path.join('|')}→${f.target}`;
+    let a = accs.get(key);
+    if (!a) {
+      a = { key, path: [...f.path], target: f.target, plane: f.plane, detector: f.detector, fines: [], yieldSpin: 0 };
+      accs.set(key, a);
+    }
+    a.yieldSpin += f.yieldSpin;
+    if (geometry) {
+      const g = fineGeometry(f);
+      nodes += g.nodes.length;
+      clipped += f.yieldSpin - g.yieldGeo;
+      a.fines.push(g);
+    }
+  }
+  const leaves: (LeafResult & { _acc: LeafAcc })[] = [];
+  for (const a of accs.values()) {
+    const eff = a.detector ? a.detector.efficiency : 1;
+    if (!geometry) {
+      leaves.push({ path: a.path, target: a.target, yield: a.yieldSpin, rate: flux * a.yieldSpin * eff, _acc: a });
+      continue;
+    }
+    const y = a.fines.reduce((s, g) => s + g.yieldGeo, 0);
+    const w = y > 0 ? y : 1;
+    const mean = { x: a.fines.reduce((s, g) => s + g.yieldGeo * g.mean.x, 0) / w, z: a.fines.reduce((s, g) => s + g.yieldGeo * g.mean.z, 0) / w };
+    const second = { x: a.fines.reduce((s, g) => s + g.yieldGeo * g.second.x, 0) / w, z: a.fines.reduce((s, g) => s + g.yieldGeo * g.second.z, 0) / w };
+    const captured = a.detector?.window ? a.fines.reduce((s, g) => s + g.yieldGeo * g.captured, 0) / w : undefined;
+    leaves.push({
+      path: a.path, target: a.target, yield: y,
+      rate: flux * y * eff * (captured ?? 1),
+      displacement: mean,
+      spread: { x: Math.sqrt(Math.max(0, second.x - mean.x ** 2)), z: Math.sqrt(Math.max(0, second.z - mean.z ** 2)) },
+      ...(captured !== undefined ? { captured } : {}),
+      plane: a.plane,
+      _acc: a,
+    });
+  }
+  const verdicts = new Map<string, NeighbourVerdict[]>();
+  if (geometry) addProfiles(leaves, verdicts);
+  // detectors
+  const detectors: DetectorResult[] = [];
+  const seen = new Map<string, DetectorResult>();
+  for (const l of leaves) {
+    const det = l._acc.detector;
+    if (!det) continue;
+    let d = seen.get(det.id);
+    if (!d) {
+      d = {
+        id: det.id, yield: 0, rate: 0, counts: 0, sigma: 0, signal: 0, background: det.background, dwell: det.dwell,
+        signalToBackground: 0, timeToPrecision: { epsilon, seconds: 0 }, plane: l._acc.plane,
+      };
+      seen.set(det.id, d);
+      detectors.push(d);
+    }
+    d.yield += l.yield;
+    d.signal += l.rate;
+  }
+  for (const d of detectors) {
+    d.rate = d.signal + d.background;
+    d.counts = d.rate * d.dwell;
+    d.sigma = Math.sqrt(d.counts);
+    d.signalToBackground = d.background > 0 ? d.signal / d.background : (d.signal > 0 ? Number.MAX_VALUE : 0);
+    d.timeToPrecision = { epsilon, seconds: d.signal > 0 ? (d.signal + d.background) / (d.signal * d.signal * epsilon * epsilon) : Number.MAX_VALUE };
+    if (geometry) {
+      const det = leaves.find((l) => l._acc.detector?.id === d.id)!._acc.detector!;
+      if (det.window) d.crosstalk = crosstalkFor(det, d.plane ?? 0, leaves, flux);
+      const v = verdicts.get(planeKey(d.plane ?? 0));
+      if (v && v.length > 0) d.neighbours = v;
+    }
+  }
+  return { leaves: leaves.map(({ _acc, ...rest }) => rest), detectors, clipped, nodes, chiError };
+}
+
+function planeKey(y: number): string {
+  return (Math.round(y * 1e3) / 1e3).toFixed(3);
+}
+
+function crosstalkFor(det: Detector, plane: number, leaves: (LeafResult & { _acc: LeafAcc })[], flux: number): CrosstalkEntry[] {
+  const win = det.window!;
+  const out: CrosstalkEntry[] = [];
+  for (const l of leaves) {
+    if (l.target === det.id || l._acc.detector === null || Math.abs(l._acc.plane - plane) > 1e-3 || l.yield <= 0) continue;
+    let inside = 0;
+    for (const g of l._acc.fines) {
+      let s = 0;
+      for (const n of g.nodes) {
+        const fx = fractionInside(n.cx, n.rx, plane, win.x - win.width / 2 - n.dx, win.x + win.width / 2 - n.dx);
+        const fz = fractionInside(n.cz, n.rz, plane, win.z - win.height / 2 - n.dz, win.z + win.height / 2 - n.dz);
+        s += n.w * fx * fz;
+      }
+      inside += g.fine.yieldSpin * s;
+    }
+    const fraction = inside / l.yield;
+    if (fraction > 1e-9) out.push({ path: l.path, target: l.target, fraction, rate: flux * l.yield * fraction * det.efficiency });
+  }
+  return out;
+}
+
+/** Profiles on a common grid per detector plane, and the resolved/overlapping verdict of neighbours. */
+function addProfiles(leaves: (LeafResult & { _acc: LeafAcc })[], verdicts: Map<string, NeighbourVerdict[]>): void {
+  const groups = new Map<string, (LeafResult & { _acc: LeafAcc })[]>();
+  for (const l of leaves) {
+    if (l.target === 'stop' || l.yield <= 0) continue;
+    const k = planeKey(l._acc.plane);
+    groups.set(k, [...(groups.get(k) ?? []), l]);
+  }
+  for (const [k, ls] of groups) {
+    const spreadOf = (ax: 'x' | 'z') => {
+      const ms = ls.map((l) => l.displacement![ax]);
+      return Math.max(...ms) - Math.min(...ms) + Math.max(...ls.map((l) => l.spread![ax]));
+    };
+    const axis: 'x' | 'z' = spreadOf('z') >= spreadOf('x') ? 'z' : 'x';
+    let lo = Infinity, hi = -Infinity;
+    for (const l of ls) {
+      lo = Math.min(lo, l.displacement![axis] - 4 * l.spread![axis]);
+      hi = Math.max(hi, l.displacement![axis] + 4 * l.spread![axis]);
+    }
+    if (!(hi - lo > 1e-7)) { const c = 0.5 * (lo + hi); lo = c - 5e-5; hi = c + 5e-5; }
+    const bins = 80;
+    const dx = (hi - lo) / bins;
+    const positions = Array.from({ length: bins }, (_, i) => lo + (i + 0.5) * dx);
+    for (const l of ls) {
+      const dens = new Float64Array(bins);
+      for (const g of l._acc.fines) {
+        for (const n of g.nodes) {
+          const r = axis === 'x' ? n.rx : n.rz;
+          const c = axis === 'x' ? n.cx : n.cz;
+          const other = axis === 'x' ? n.rz.transmission : n.rx.transmission;
+          const d = axis === 'x' ? n.dx : n.dz;
+          let prev = fractionBelow(c, r, l._acc.plane, lo - d);
+          for (let i = 0; i < bins; i++) {
+            const cur = fractionBelow(c, r, l._acc.plane, lo + (i + 1) * dx - d);
+            dens[i] += (g.fine.yieldSpin * n.w * other * (cur - prev)) / dx;
+            prev = cur;
+          }
+        }
+      }
+      l.profile = { axis, positions, density: [...dens] };
+    }
+    const sorted = [...ls].sort((a, b) => a.displacement![axis] - b.displacement![axis]);
+    const out: NeighbourVerdict[] = [];
+    for (let i = 1; i < sorted.length; i++) {
+      const a = sorted[i - 1], b = sorted[i];
+      let ov = 0;
+      for (let j = 0; j < bins; j++) ov += Math.min(a.profile!.density[j] / a.yield, b.profile!.density[j] / b.yield) * dx;
+      out.push({
+        a: `${a.path.join(' ')} → ${a.target}`, b: `${b.path.join(' ')} → ${b.target}`,
+        separation: b.displacement![axis] - a.displacement![axis], overlap: ov,
+        verdict: ov < 0.01 ? 'resolved' : 'overlapping', axis,
+      });
+    }
+    verdicts.set(k, out);
+  }
+}

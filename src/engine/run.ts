@@ -1,0 +1,578 @@
+/**
+ * Runs a beamline: every path from the oven to a leaf, with its velocity-averaged density matrix.
+ *
+ * The line is walked depth first; a magnet forks the walk into the states it sorts (one rank-one
+ * selection |k⟩⟨k| each, design.md "Magnet entry and exit"), so paths that share elements share the
+ * work up to the fork. Steps independent of speed act as Kraus operators; propagators keep the state
+ * exact frequency by frequency (spectral.ts). A field twist has no such form (its eigenphases are not
+ * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
+ * grid that is doubled until the leaf yields agree (sampled.ts).
+ */
+import { type CMat, cmatZeros, cmatTrace, cmatHermiticityError, cmatCombine, cmatScale, cmatIdentity, cmatMul, cmatDagger } from '../physics/cmat.ts';
+import { eigh, expmiHermitian } from '../physics/eigh.ts';
+import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
+import { densityUnpolarized } from '../physics/density.ts';
+import { gF, zeroFieldStates } from '../physics/hyperfine.ts';
+import {
+  effusiveDistribution, supersonicDistribution, tableDistribution, speedGrid, densityAt, speedRange,
+  type VelocityDistribution,
+} from '../physics/velocity.ts';
+import { collimatedFlux, lookupSpecies } from '../species/index.ts';
+import type { Beamline, Element, Magnet, Recombiner, Detector, Rect } from '../beamline/types.ts';
+import { speciesSystems, sortStates, projectorOf, SpeciesError, type SpinSystem, type Sorting, type Component } from './system.ts';
+import { specInitial, specKraus, specPropagate, specAverage, specTraceAt, specAt, CharCache, type SpecState } from './spectral.ts';
+import type { RunResult, LeafResult, DetectorResult } from './result.ts';
+import { evaluateGeometry, type Track, type FinePath } from './leafgeom.ts';
+
+export class RunError extends Error {}
+export class CancelledError extends Error {}
+
+export interface RunOptions {
+  isCancelled?: () => boolean;
+  onProgress?: (fraction: number) => void;
+  /** Relative precision ε for the detector's time-to-precision figure (default 0.01). */
+  epsilon?: number;
+}
+
+const MU_B = 9.2740100783e-24; // J/T, CODATA 2018
+
+/** One velocity-dependent or -independent step as the sampled evaluator sees it. */
+type SampledOp =
+  | { kind: 'kraus'; k: CMat }
+  | { kind: 'linear'; h: CMat; length: number }
+  | { kind: 'twist'; h1: CMat; kGen: CMat; angle: number; rot: CMat; length: number };
+
+interface WalkCtx {
+  sys: SpinSystem;
+  fraction: number;
+  dist: VelocityDistribution;
+  chi: CharCache;
+  line: Beamline;
+  byId: Map<string, Element>;
+  sorts: Map<string, Sorting>;
+  leaves: FinePath[];
+  lost: { spin: number };
+  warnings: Set<string>;
+  positions: Record<string, { entrance: number; exit: number }>;
+  opts: RunOptions;
+  counter: { steps: number };
+  hermiticity: { max: number; minEig: number };
+  sampled: { nodes: number; error: number };
+}
+
+interface Walk {
+  path: string[];
+  y: number;
+  track: Track;
+  /** set when the walk has entered speed-by-speed mode */
+  sampledOps: SampledOp[] | null;
+  /** the spectral state where sampled mode began */
+  sampledFrom: SpecState | null;
+  depth: number;
+}
+
+function distributionFor(line: Beamline, sys: SpinSystem): VelocityDistribution {
+  const v = line.oven.velocity;
+  switch (v.kind) {
+    case 'fixed': return { kind: 'fixed', speed: v.speed };
+    case 'effusive': return effusiveDistribution(v.temperature, sys.massKg);
+    case 'supersonic': return supersonicDistribution(v.speed, v.ratio);
+    case 'table': return tableDistribution(v.points);
+  }
+}
+
+function initialState(line: Beamline, sys: SpinSystem): CMat {
+  const st = line.oven.state;
+  const d = sys.dim;
+  if (st.kind === 'unpolarized') return densityUnpolarized(d);
+  const zf = zeroFieldStates(sys.params, st.axis);
+  const rho = cmatZeros(d, d);
+  const add = (label: string, p: number) => {
+    const i = zf.labels.indexOf(label);
+    if (i < 0) throw new RunError(`oven.state: "${label}" is not a state of ${sys.name} (states: ${zf.labels.join(', ')})`);
+    for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) {
+      const ar = zf.vectors.re[a * d + i], ai = zf.vectors.im[a * d + i];
+      const br = zf.vectors.re[b * d + i], bi = -zf.vectors.im[b * d + i];
+      rho.re[a * d + b] += p * (ar * br - ai * bi);
+      rho.im[a * d + b] += p * (ar * bi + ai * br);
+    }
+  };
+  if (st.kind === 'pure') add(st.m, 1);
+  else {
+    const total = Object.values(st.p).reduce((s, x) => s + x, 0);
+    for (const [k, p] of Object.entries(st.p)) add(k, p / total);
+  }
+  return rho;
+}
+
+function lengthOf(e: Element): number {
+  switch (e.kind) {
+    case 'magnet': return e.length ?? 0;
+    case 'field': case 'twist': case 'rf': return e.length;
+    default: return 0;
+  }
+}
+
+function elementPath(ctx: WalkCtx, id: string): string {
+  return ctx.byId.get(id)?.path ?? id;
+}
+
+/** A warning for an analysing axis with a component along the beam (design.md, Conventions). */
+function axisWarning(path: string, n: Vec3): string | null {
+  if (Math.abs(n.y) < 1e-9) return null;
+  const t = Math.hypot(n.x, n.z) < 1e-12 ? { x: 0, y: 0, z: 1 } : vecUnit({ x: n.x, y: 0, z: n.z });
+  const k = vecCross(t, n);
+  const ang = Math.acos(Math.max(-1, Math.min(1, vecDot(n, t))));
+  const kn = vecNorm(k);
+  const ku = kn > 1e-12 ? vecUnit(k) : { x: 1, y: 0, z: 0 };
+  const f = (x: number) => (Math.abs(x) < 5e-4 ? '0' : x.toFixed(3));
+  return `${path}.axis: has a component along the beam (n_y = ${n.y.toFixed(3)}); a gradient magnet analyses along its transverse field, so this is an idealisation. It is realised by a rotator of ${(ang * 180 / Math.PI).toFixed(2)}° about (${f(ku.x)}, ${f(ku.y)}, ${f(ku.z)}) before a magnet along (${f(t.x)}, 0, ${f(t.z)}), and its inverse after`;
+}
+
+function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
+  const key = `${ctx.sys.name}|${e.id}`;
+  let s = ctx.sorts.get(key);
+  if (!s) {
+    try {
+      s = sortStates(ctx.sys, { axis: e.axis, field: e.field, group: e.group, entry: e.entry, path: e.path });
+    } catch (err) {
+      if (err instanceof SpeciesError) throw new RunError(err.message);
+      throw err;
+    }
+    for (const w of s.warnings) ctx.warnings.add(w);
+    const aw = axisWarning(e.path, e.axis);
+    if (aw) ctx.warnings.add(aw);
+    ctx.sorts.set(key, s);
+  }
+  return s;
+}
+
+function rank1(c: Component): CMat {
+  const v = c.vector;
+  const d = v.rows;
+  const out = cmatZeros(d, d);
+  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
+    out.re[i * d + j] = v.re[i] * v.re[j] + v.im[i] * v.im[j];
+    out.im[i * d + j] = v.im[i] * v.re[j] - v.re[i] * v.im[j];
+  }
+  return out;
+}
+
+/** The state's beam-averaged trace (the fraction of flux on this path so far). */
+function averagedTrace(ctx: WalkCtx, st: SpecState): number {
+  return cmatTrace(specAverage(st, ctx.chi).rho).re;
+}
+
+function applyLinear(ctx: WalkCtx, walk: Walk, st: SpecState, h: CMat, length: number): SpecState {
+  if (length === 0) return st;
+  let hn = 0;
+  for (let i = 0; i < h.re.length; i++) hn = Math.max(hn, Math.abs(h.re[i]), Math.abs(h.im[i]));
+  if (hn === 0) return st;
+  if (walk.sampledOps) {
+    walk.sampledOps.push({ kind: 'linear', h, length });
+    return st;
+  }
+  const e = eigh(h);
+  return specPropagate(st, h, e.vectors, e.values, length);
+}
+
+function applyKraus(walk: Walk, st: SpecState, k: CMat): SpecState {
+  if (walk.sampledOps) {
+    walk.sampledOps.push({ kind: 'kraus', k });
+    return st;
+  }
+  return specKraus(st, k);
+}
+
+function drift(ctx: WalkCtx, walk: Walk, st: SpecState, gap: number): SpecState {
+  if (gap <= 0) return st;
+  return applyLinear(ctx, walk, st, ctx.sys.hamiltonian(ctx.line.ambient), gap);
+}
+
+function fork(walk: Walk, extra: Partial<Walk>): Walk {
+  return {
+    path: extra.path ?? walk.path,
+    y: extra.y ?? walk.y,
+    track: extra.track ?? walk.track,
+    sampledOps: walk.sampledOps ? [...walk.sampledOps] : null,
+    sampledFrom: walk.sampledFrom,
+    depth: walk.depth + 1,
+  };
+}
+
+function checkCancel(ctx: WalkCtx): void {
+  if (++ctx.counter.steps % 64 === 0 && ctx.opts.isCancelled?.()) throw new CancelledError('cancelled');
+}
+
+function visit(ctx: WalkCtx, target: string, st: SpecState, walk: Walk): void {
+  checkCancel(ctx);
+  if (walk.depth > 512) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than 512 elements along one path (a cycle?)`);
+  if (target === 'stop') {
+    finishLeaf(ctx, st, walk, 'stop', null);
+    return;
+  }
+  const e = ctx.byId.get(target);
+  if (!e) throw new RunError(`unknown target "${target}"`);
+  const entrance = walk.y + e.gap;
+  const exit = entrance + lengthOf(e);
+  const pos = ctx.positions[e.id];
+  if (!pos) ctx.positions[e.id] = { entrance, exit };
+  else if (Math.abs(pos.entrance - entrance) > 1e-3) {
+    ctx.warnings.add(`${e.path}: reached at ${(entrance * 100).toFixed(1)} cm along one path and ${(pos.entrance * 100).toFixed(1)} cm along another; the gaps of the paths that share it disagree`);
+  }
+  if (e.kind === 'detector') {
+    finishLeaf(ctx, st, { ...walk, y: entrance }, e.id, e);
+    return;
+  }
+  let s = drift(ctx, walk, st, e.gap);
+  const sys = ctx.sys;
+  switch (e.kind) {
+    case 'magnet': {
+      const sorting = getSorting(ctx, e);
+      const strips = e.aperture ? [
+        { y: entrance, lo: e.aperture.x - e.aperture.width / 2, hi: e.aperture.x + e.aperture.width / 2, axis: 'x' as const },
+        { y: entrance, lo: e.aperture.z - e.aperture.height / 2, hi: e.aperture.z + e.aperture.height / 2, axis: 'z' as const },
+        { y: exit, lo: e.aperture.x - e.aperture.width / 2, hi: e.aperture.x + e.aperture.width / 2, axis: 'x' as const },
+        { y: exit, lo: e.aperture.z - e.aperture.height / 2, hi: e.aperture.z + e.aperture.height / 2, axis: 'z' as const },
+      ] : [];
+      for (const c of sorting.components) {
+        const to = e.ports[c.port] ?? e.ports['*'];
+        if (to === undefined) throw new RunError(`${e.path}.ports: port "${c.port}" is not routed (route it by name or with "*")`);
+        const kick = e.gradient !== undefined && e.length !== undefined && e.length > 0
+          ? [{ exitY: exit, length: e.length, accel: (c.moment * MU_B * e.gradient) / sys.massKg, n: e.axis }]
+          : [];
+        const w = fork(walk, {
+          path: [...walk.path, `${e.id}:${c.port}`],
+          y: exit,
+          track: { ...walk.track, kicks: [...walk.track.kicks, ...kick], strips: [...walk.track.strips, ...strips], components: [...walk.track.components, `${e.id}:${c.lowField}`] },
+        });
+        const sk = applyKraus(w, s, rank1(c));
+        visit(ctx, to, sk, w);
+      }
+      return;
+    }
+    case 'rotator': {
+      s = applyKraus(walk, s, rotationOperator(sys.F, e.axis, e.angle));
+      break;
+    }
+    case 'field': {
+      s = applyLinear(ctx, walk, s, sys.hamiltonian(e.field), e.length);
+      break;
+    }
+    case 'twist': {
+      const n1 = e.start, n2 = e.end;
+      const cross = vecCross(n1, n2);
+      const angle = Math.atan2(vecNorm(cross), vecDot(n1, n2));
+      const h1 = sys.hamiltonian({ x: e.field * n1.x, y: e.field * n1.y, z: e.field * n1.z });
+      if (angle < 1e-12) {
+        s = applyLinear(ctx, walk, s, h1, e.length);
+        break;
+      }
+      const k = vecUnit(cross);
+      const kGen = cmatCombine([[k.x, sys.F.jx], [k.y, sys.F.jy], [k.z, sys.F.jz]]);
+      const rot = rotationOperator(sys.F, k, angle);
+      if (!walk.sampledOps) {
+        walk = { ...walk, sampledOps: [], sampledFrom: s };
+      }
+      walk.sampledOps!.push({ kind: 'twist', h1, kGen, angle, rot, length: e.length });
+      break;
+    }
+    case 'rf': {
+      const bs = e.static;
+      const bsn = vecNorm(bs);
+      if (!(bsn > 0)) throw new RunError(`${e.path}.static: an RF flipper needs a static field > 0 (it sets the rotating frame)`);
+      const ns = vecUnit(bs);
+      const perp = { x: e.axis.x - vecDot(e.axis, ns) * ns.x, y: e.axis.y - vecDot(e.axis, ns) * ns.y, z: e.axis.z - vecDot(e.axis, ns) * ns.z };
+      const pn = vecNorm(perp);
+      if (pn < 1e-9) throw new RunError(`${e.path}.axis: the RF field is parallel to the static field and drives no spin flip`);
+      const ex = vecUnit(perp);
+      const h0 = sys.hamiltonian({ x: 0, y: 0, z: 0 });
+      const zeeman = (u: Vec3, b: number) => cmatScale(cmatCombine([[1, sys.hamiltonian({ x: u.x * b, y: u.y * b, z: u.z * b })], [-1, h0]]), 1);
+      const fs = cmatCombine([[ns.x, sys.F.jx], [ns.y, sys.F.jy], [ns.z, sys.F.jz]]);
+      // sense of the rotating frame: that of the Larmor precession of the upper manifold (g_F > 0: ω along −n̂·F)
+      const gUp = sys.hyperfine ? gF(sys.params, sys.params.i2 + sys.params.j2) : sys.params.gJ;
+      const sigma = gUp >= 0 ? 1 : -1;
+      const omega = 2 * Math.PI * e.frequency;
+      // rotating-wave Hamiltonian in the frame exp(−iσωt F_s): H' = H(B_s) − σω F_s + (B1⊥/2)·Zeeman(x̂')
+      const hRot = cmatCombine([[1, sys.hamiltonian(bs)], [-sigma * omega, fs], [1, zeeman(ex, (e.amplitude * pn) / 2)]]);
+      s = applyLinear(ctx, walk, s, hRot, e.length);
+      s = applyLinear(ctx, walk, s, cmatScale(fs, sigma * omega), e.length);
+      ctx.warnings.add(`${e.path}: RF flipper solved in the rotating-wave approximation (the counter-rotating part and the component along the static field are dropped)`);
+      break;
+    }
+    case 'recombiner': {
+      const sorting = getSorting(ctx, e);
+      const open = sorting.components.filter((c) => e.open.includes(c.port));
+      const before = walk.sampledOps ? null : averagedTrace(ctx, s);
+      if (e.coherent) {
+        const d = sys.dim;
+        let k = cmatZeros(d, d);
+        for (const port of e.open) {
+          const comps = open.filter((c) => c.port === port);
+          const ph = e.phases[port] ?? 0;
+          k = cmatCombine([[1, k], [1, cmatScale(projectorOf(d, comps), Math.cos(ph), Math.sin(ph))]]);
+        }
+        s = applyKraus(walk, s, k);
+        if (before !== null) ctx.lost.spin += ctx.fraction * (before - averagedTrace(ctx, s));
+        break;
+      }
+      if (before !== null) {
+        const closed = sorting.components.filter((c) => !e.open.includes(c.port));
+        if (closed.length > 0) ctx.lost.spin += ctx.fraction * averagedTrace(ctx, specKraus(s, projectorOf(sys.dim, closed)));
+      }
+      for (const c of open) {
+        const w = fork(walk, { y: exit });
+        visit(ctx, e.to, applyKraus(w, s, rank1(c)), w);
+      }
+      return;
+    }
+    case 'slit': {
+      const sx = { y: entrance, lo: e.x - e.width / 2, hi: e.x + e.width / 2, axis: 'x' as const };
+      const sz = { y: entrance, lo: e.z - e.height / 2, hi: e.z + e.height / 2, axis: 'z' as const };
+      const track = walk.track.collimator
+        ? { ...walk.track, strips: [...walk.track.strips, sx, sz] }
+        : { ...walk.track, collimator: { y: entrance, rect: { width: e.width, height: e.height, x: e.x, z: e.z } } };
+      visit(ctx, e.to, s, { ...walk, y: exit, track });
+      return;
+    }
+  }
+  visit(ctx, (e as { to: string }).to, s, { ...walk, y: exit });
+}
+
+function finishLeaf(ctx: WalkCtx, st: SpecState, walk: Walk, target: string, det: Detector | null): void {
+  let yieldSpin: number;
+  let yieldError = 0;
+  let maxPhase = () => 0;
+  let traceAt: (speeds: ArrayLike<number>, phiMax: number) => Float64Array;
+  if (walk.sampledOps) {
+    const ops = walk.sampledOps;
+    const from = walk.sampledFrom!;
+    const evalAt = (v: number) => {
+      let rho = specAt(from, v);
+      for (const op of ops) rho = applySampled(op, rho, v);
+      return rho;
+    };
+    const r = sampledAverage(ctx.dist, (v) => cmatTrace(evalAt(v)).re);
+    ctx.sampled.nodes += r.nodes;
+    ctx.sampled.error += ctx.fraction * r.error;
+    if (r.error > 1e-8) {
+      ctx.warnings.add(`${elementPath(ctx, target)}: the speed-by-speed average after the field twist reached an estimated error of ${r.error.toExponential(1)} with ${r.nodes} speeds, not 1e-8; a fast phase before or in the twist is not resolved`);
+    }
+    yieldSpin = r.value;
+    traceAt = (speeds) => Float64Array.from(speeds as ArrayLike<number>, (v) => cmatTrace(evalAt(v)).re);
+  } else {
+    const avg = specAverage(st, ctx.chi);
+    const herm = cmatHermiticityError(avg.rho);
+    const tr = cmatTrace(avg.rho).re;
+    ctx.hermiticity.max = Math.max(ctx.hermiticity.max, herm);
+    if (tr > 1e-14) {
+      const minEig = eigh(avg.rho).values[0];
+      ctx.hermiticity.minEig = Math.min(ctx.hermiticity.minEig, minEig / Math.max(tr, 1e-300));
+    }
+    yieldSpin = tr;
+    yieldError = avg.error;
+    traceAt = (speeds, phiMax) => specTraceAt(st, speeds, phiMax);
+    maxPhase = () => maxPhaseOf(st);
+  }
+  ctx.leaves.push({
+    system: ctx.sys.name,
+    fraction: ctx.fraction,
+    dist: ctx.dist,
+    path: walk.path,
+    target,
+    plane: walk.y,
+    yieldSpin: yieldSpin * ctx.fraction,
+    yieldError: yieldError * ctx.fraction,
+    maxPhase,
+    track: walk.track,
+    traceAt,
+    detector: det,
+  });
+}
+
+/** Largest |φ + Ω_ab| among the entries that carry weight (for the table-resolution warning). */
+function maxPhaseOf(st: SpecState): number {
+  let m = 0;
+  const r = st.W.cols;
+  for (const t of st.terms) {
+    for (let i = 0; i < r * r; i++) {
+      if (Math.hypot(t.X.re[i], t.X.im[i]) < 1e-9) continue;
+      m = Math.max(m, Math.abs(t.phi + (st.omega ? st.omega[i] : 0)));
+    }
+  }
+  return m;
+}
+
+function applySampled(op: SampledOp, rho: CMat, v: number): CMat {
+  switch (op.kind) {
+    case 'kraus': return cmatMul(cmatMul(op.k, rho), cmatDagger(op.k));
+    case 'linear': {
+      const u = expmiHermitian(op.h, op.length / v);
+      return cmatMul(cmatMul(u, rho), cmatDagger(u));
+    }
+    case 'twist': {
+      // U = exp(−iθF_k) exp(−i(H₁ t − θ F_k)),  t = ℓ/v  (design.md: exact rotating-frame solution)
+      const t = op.length / v;
+      const g = cmatCombine([[t, op.h1], [-op.angle, op.kGen]]);
+      const u = cmatMul(op.rot, expmiHermitian(g, 1));
+      return cmatMul(cmatMul(u, rho), cmatDagger(u));
+    }
+  }
+}
+
+/** Average of a smooth function of v: exact sums for fixed/table, doubling Gauss–Legendre grids otherwise. */
+function sampledAverage(d: VelocityDistribution, f: (v: number) => number): { value: number; error: number; nodes: number } {
+  if (d.kind === 'fixed' || d.kind === 'table') {
+    const g = speedGrid(d);
+    let s = 0;
+    for (let k = 0; k < g.speeds.length; k++) s += g.weights[k] * f(g.speeds[k]);
+    return { value: s, error: 0, nodes: g.speeds.length };
+  }
+  let panels = 8;
+  let prev = NaN;
+  let nodes = 0;
+  for (;;) {
+    const g = speedGrid(d, panels, 8);
+    let s = 0;
+    for (let k = 0; k < g.speeds.length; k++) s += g.weights[k] * f(g.speeds[k]);
+    // the slowest atoms left out of the grid (3e-6 of an effusive beam) carry the mean of the rest
+    s /= 1 - g.excluded;
+    nodes += g.speeds.length;
+    const err = Math.abs(s - prev);
+    if (err < 1e-10 || panels >= 512) return { value: s, error: Number.isNaN(err) ? 1 : err, nodes };
+    prev = s;
+    panels *= 2;
+  }
+}
+
+function resolveFlux(line: Beamline, warnings: Set<string>): number {
+  const f = line.oven.flux;
+  if (f.kind === 'given') return f.value;
+  const ref = line.species;
+  const sp = ref.kind === 'named' ? lookupSpecies(ref.name) : undefined;
+  if (!sp || sp.kind === 'bare') throw new RunError('oven.flux: a vapor-pressure estimate needs a library species with a vapor-pressure correlation');
+  const ap = line.oven.aperture;
+  if (!ap) throw new RunError('oven.flux: a vapor-pressure estimate needs the oven aperture (oven.aperture: the orifice)');
+  const first = firstSlit(line);
+  if (!first) throw new RunError('oven.flux: a vapor-pressure estimate needs a collimating slit after the oven (its area and distance set the solid angle)');
+  try {
+    const r = collimatedFlux({ species: sp, temperatureK: f.temperature, orificeArea: ap.width * ap.height, collimatorArea: first.rect.width * first.rect.height, distance: first.y });
+    for (const w of r.warnings) warnings.add(`oven.flux: ${w}`);
+    return r.flux;
+  } catch (err) {
+    throw new RunError(`oven.flux: ${(err as Error).message}`);
+  }
+}
+
+function firstSlit(line: Beamline): { rect: Rect; y: number } | null {
+  const byId = new Map(line.elements.map((e) => [e.id, e]));
+  let id = line.oven.to;
+  let y = 0;
+  for (let guard = 0; guard < 1000 && id !== 'stop'; guard++) {
+    const e = byId.get(id);
+    if (!e) return null;
+    y += e.gap;
+    if (e.kind === 'slit') return { rect: { width: e.width, height: e.height, x: e.x, z: e.z }, y };
+    y += lengthOf(e);
+    if (e.kind === 'magnet') {
+      const first = Object.values(e.ports)[0];
+      if (!first) return null;
+      id = first;
+    } else if (e.kind === 'detector') return null;
+    else id = e.to;
+  }
+  return null;
+}
+
+/** Runs the line and returns result format v1 (design.md) with this engine's additions. */
+export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
+  const warnings = new Set<string>();
+  let systems;
+  try {
+    systems = speciesSystems(line.species);
+  } catch (err) {
+    throw new RunError((err as Error).message);
+  }
+  const byId = new Map(line.elements.map((e) => [e.id, e]));
+  const flux = resolveFlux(line, warnings);
+  const leaves: FinePath[] = [];
+  const lost = { spin: 0 };
+  const positions: Record<string, { entrance: number; exit: number }> = {};
+  const hermiticity = { max: 0, minEig: Infinity };
+  const sampled = { nodes: 0, error: 0 };
+  let chiNodes = 0, chiError = 0;
+  const dists: VelocityDistribution[] = [];
+  systems.forEach(({ system, fraction }, i) => {
+    const dist = distributionFor(line, system);
+    dists.push(dist);
+    const chi = new CharCache(dist);
+    const ctx: WalkCtx = {
+      sys: system, fraction, dist, chi, line, byId, sorts: new Map(), leaves, lost, warnings, positions, opts,
+      counter: { steps: 0 }, hermiticity, sampled,
+    };
+    const rho0 = initialState(line, system);
+    const ap = line.oven.aperture;
+    const track: Track = {
+      source: ap ? { width: ap.width, height: ap.height, x: ap.x, z: ap.z } : null,
+      collimator: null, kicks: [], strips: [], components: [],
+    };
+    visit(ctx, line.oven.to, specInitial(rho0), { path: [], y: 0, track, sampledOps: null, sampledFrom: null, depth: 0 });
+    chiNodes += chi.nodes;
+    chiError += 0;
+    opts.onProgress?.((i + 1) / (systems.length + 1));
+  });
+  if (line.oven.velocity.kind === 'table') checkTable(line, leaves, warnings);
+  const geo = evaluateGeometry(leaves, flux, opts.epsilon ?? 0.01, lost);
+  chiError = geo.chiError;
+  const totalYield = geo.leaves.reduce((s, l) => s + l.yield, 0);
+  const lostTotal = lost.spin + geo.clipped;
+  const balance = Math.abs(totalYield + lostTotal - 1);
+  const leavesOut: LeafResult[] = geo.leaves;
+  const detectors: DetectorResult[] = geo.detectors;
+  if (balance > 1e-12) warnings.add(`invariant: Σ yields + lost = ${(totalYield + lostTotal).toPrecision(15)}, not 1 within 1e-12`);
+  if (hermiticity.max > 1e-12) warnings.add(`invariant: the averaged state lost Hermiticity (‖ρ − ρ†‖ = ${hermiticity.max.toExponential(1)})`);
+  if (hermiticity.minEig < -1e-10) warnings.add(`invariant: the averaged state has a negative eigenvalue (${hermiticity.minEig.toExponential(1)} of its trace)`);
+  const d0 = dists[0];
+  const method = d0.kind === 'effusive'
+    ? 'each Bohr frequency averaged on its own over the effusive distribution (rotated-contour Gauss–Kronrod)'
+    : d0.kind === 'supersonic' ? 'each Bohr frequency averaged on its own (adaptive Gauss–Kronrod)'
+      : d0.kind === 'table' ? 'exact sum over the tabulated speeds' : 'single speed';
+  return {
+    format: 'spinyard.result',
+    version: 1,
+    leaves: leavesOut,
+    detectors,
+    lost: lostTotal,
+    warnings: [...warnings],
+    quadrature: { nodes: chiNodes + sampled.nodes + geo.nodes, error: chiError + sampled.error, method: sampled.nodes > 0 ? `${method}; after a field twist, speed by speed on doubling Gauss–Legendre grids` : method },
+    flux,
+    velocity: velocityPlot(d0),
+    positions,
+    invariants: { balance, maxHermiticity: hermiticity.max, minEigenvalue: Number.isFinite(hermiticity.minEig) ? hermiticity.minEig : 0 },
+  };
+}
+
+function velocityPlot(d: VelocityDistribution): RunResult['velocity'] {
+  if (d.kind === 'fixed') return { speeds: [d.speed], density: [1], kind: 'fixed' };
+  if (d.kind === 'table') return { speeds: [...d.speeds], density: [...d.weights], kind: 'table' };
+  const [lo, hi] = speedRange(d);
+  const speeds = Array.from({ length: 121 }, (_, i) => lo + ((hi - lo) * i) / 120);
+  return { speeds, density: speeds.map((v) => densityAt(d, v)), kind: d.kind };
+}
+
+/** design.md: warn when a phase steps by more than π between neighbouring tabulated speeds. */
+function checkTable(line: Beamline, leaves: FinePath[], warnings: Set<string>): void {
+  const pts = line.oven.velocity.kind === 'table' ? line.oven.velocity.points : [];
+  if (pts.length < 2) return;
+  let worst = 0;
+  for (const l of leaves) {
+    const phiMax = l.maxPhase?.() ?? 0;
+    for (let k = 1; k < pts.length; k++) {
+      const step = phiMax * Math.abs(1 / pts[k - 1][0] - 1 / pts[k][0]);
+      worst = Math.max(worst, step);
+    }
+  }
+  if (worst > Math.PI) warnings.add(`oven.velocity.points: a phase steps by up to ${worst.toExponential(2)} rad between neighbouring tabulated speeds (more than π): the table cannot resolve it, and its average is the table's, not the beam's`);
+}
+
+
