@@ -97,10 +97,11 @@ export interface Bounds {
 }
 
 /** Check a number against bounds; the message names the bound. */
-export function bounded(ctx: ReadCtx, n: number, p: string, what: string, b: Bounds): number | undefined {
-  if (b.positive && !(n > 0)) return problem(ctx, p, `${what} must be positive, got ${n}`);
-  if (b.nonNegative && n < 0) return problem(ctx, p, `${what} must not be negative, got ${n}`);
-  if (b.unit && (n < 0 || n > 1)) return problem(ctx, p, `${what} must lie in [0, 1], got ${n}`);
+export function bounded(ctx: ReadCtx, n: number, p: string, what: string, b: Bounds, written?: unknown): number | undefined {
+  const got = typeof written === 'string' && written.trim() !== String(n) ? `${written.trim()}` : String(n);
+  if (b.positive && !(n > 0)) return problem(ctx, p, `${what} must be positive, got ${got}`);
+  if (b.nonNegative && n < 0) return problem(ctx, p, `${what} must not be negative, got ${got}`);
+  if (b.unit && (n < 0 || n > 1)) return problem(ctx, p, `${what} must lie in [0, 1], got ${got}`);
   return n;
 }
 
@@ -118,7 +119,7 @@ export function quantity(ctx: ReadCtx, o: Obj, k: string, dim: Dimension, path: 
     ctx.problems.push(r);
     return undefined;
   }
-  return bounded(ctx, r, p, opts.what ?? k, opts);
+  return bounded(ctx, r, p, opts.what ?? k, opts, v);
 }
 
 /** Unit vector n̂(θ, φ) = (sinθ cosφ, sinθ sinφ, cosθ). */

@@ -18,6 +18,9 @@ export const math = create(all);
 export const ATOMIC_MASS_UNIT_KG = 1.6605390666e-27;
 math.createUnit('u', { definition: `${ATOMIC_MASS_UNIT_KG} kg`, prefixes: 'none' });
 
+/** The gauss, G = 1e-4 T exactly (NIST SP 811 (2008), B.8), as labs still quote fields and gradients ("20 G/cm"). */
+math.createUnit('gauss', { definition: '1e-4 T', prefixes: 'short', aliases: ['G'] });
+
 export type Dimension =
   | 'length' | 'angle' | 'field' | 'gradient' | 'rate' | 'time' | 'temperature'
   | 'speed' | 'frequency' | 'mass' | 'dimensionless';
@@ -57,14 +60,12 @@ const NODE_TYPES = new Set(['ConstantNode', 'SymbolNode', 'OperatorNode', 'Paren
 
 function checkNodes(node: MathNode): string | undefined {
   let bad: string | undefined;
-  node.traverse((n: MathNode, _path: string, parent: MathNode | null) => {
+  node.traverse((n: MathNode) => {
     if (bad) return;
     if (!NODE_TYPES.has(n.type)) bad = `"${n.toString()}" is not a quantity`;
     else if (n.type === 'FunctionNode') {
       const name = (n as unknown as { fn: { name?: string } }).fn.name ?? '';
       if (!FUNCTIONS.has(name)) bad = `function ${name || '?'} is not allowed in a quantity`;
-    } else if (n.type === 'SymbolNode' && parent?.type === 'FunctionNode') {
-      // the function name itself: checked above
     }
   });
   return bad;
@@ -104,6 +105,26 @@ function isUnit(v: unknown): v is Unit {
   return math.isUnit(v);
 }
 
+/** "<number> <unit>" with a plain product/quotient of units: read as number × (1 unit), the unit read once. */
+const SIMPLE = /^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*((?:\/\s*)?[A-Za-z]+(?:\^-?\d+)?(?:\s*[/*]\s*[A-Za-z]+(?:\^-?\d+)?)*)\s*$/;
+const unitFactors = new Map<string, number | null>();
+
+/** SI factor of a unit text for `dim`, or undefined when the fast path does not apply (then mathjs reads the whole text). */
+function simpleFactor(unitText: string, dim: Exclude<Dimension, 'dimensionless'>): number | undefined {
+  const key = `${dim} ${unitText}`;
+  let f = unitFactors.get(key);
+  if (f === undefined) {
+    const r = evaluateQuantity(`1 ${unitText}`);
+    const v = 'value' in r ? r.value : undefined;
+    // offset units (degC, degF) do not scale, and other dimensions need mathjs' message: leave both to mathjs
+    const ok = isUnit(v) && typeof v.value === 'number' && v.units.every((x) => x.unit.offset === 0) && v.equalBase(siUnit(dim));
+    f = ok ? (v as Unit).toNumber(DIMENSIONS[dim].si) : null;
+    if (unitFactors.size > 1000) unitFactors.clear();
+    unitFactors.set(key, f);
+  }
+  return f ?? undefined;
+}
+
 /**
  * Read one quantity of dimension `dim` and return it in SI (m, rad, T, T/m, 1/s, s, K, m/s, Hz, kg), or a
  * Problem at `path`. A dimensionless quantity may be a JSON number or a unitless string; every other
@@ -121,6 +142,16 @@ export function parseQuantity(value: unknown, dim: Dimension, path: string): num
     return fail(path, `expected ${want}${dim === 'dimensionless' ? '' : ` as a string with a unit (e.g. "${DIMENSIONS[dim].example}")`}, got ${got}`);
   }
   if (value.trim() === '') return fail(path, `expected ${want}, got an empty string`);
+  if (dim !== 'dimensionless') {
+    const m = SIMPLE.exec(value);
+    if (m) {
+      const f = simpleFactor(m[2], dim);
+      if (f !== undefined) {
+        const n = Number(m[1]) * f;
+        if (Number.isFinite(n)) return n;
+      }
+    }
+  }
   const r = evaluateQuantity(value);
   if ('error' in r) return fail(path, `expected ${want}: ${r.error}`);
   const v = r.value;

@@ -45,7 +45,7 @@ export interface FinePath {
   /** Tr ρ(v) at the given speeds, terms with |Φ| > phiMax left out (not weighted by the isotope fraction). */
   traceAt(speeds: ArrayLike<number>, phiMax: number): Float64Array;
   readonly detector: Detector | null;
-  maxPhase?(): number;
+  phaseWeights?(): { phi: number; weight: number }[];
 }
 
 interface FineGeo {

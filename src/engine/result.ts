@@ -99,5 +99,5 @@ export interface RunResult {
   /** Element positions along the beam (m): entrance and exit. */
   positions?: Record<string, { entrance: number; exit: number }>;
   /** Run-time invariants. */
-  invariants: { balance: number; maxHermiticity: number; minEigenvalue: number };
+  invariants: { balance: number; maxHermiticity: number; positive: boolean };
 }

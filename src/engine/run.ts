@@ -12,7 +12,7 @@ import { type CMat, cmatZeros, cmatTrace, cmatHermiticityError, cmatCombine, cma
 import { eigh, expmiHermitian } from '../physics/eigh.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
 import { densityUnpolarized } from '../physics/density.ts';
-import { gF, zeroFieldStates } from '../physics/hyperfine.ts';
+import { gF, zeroFieldStates, zeemanEigen } from '../physics/hyperfine.ts';
 import {
   effusiveDistribution, supersonicDistribution, tableDistribution, speedGrid, densityAt, speedRange,
   type VelocityDistribution,
@@ -20,7 +20,7 @@ import {
 import { collimatedFlux, lookupSpecies } from '../species/index.ts';
 import type { Beamline, Element, Magnet, Recombiner, Detector, Rect } from '../beamline/types.ts';
 import { speciesSystems, sortStates, projectorOf, SpeciesError, type SpinSystem, type Sorting, type Component } from './system.ts';
-import { specInitial, specKraus, specPropagate, specAverage, specTraceAt, specAt, CharCache, type SpecState } from './spectral.ts';
+import { specInitial, specKraus, specPropagate, specAverageTrace, specTraceAt, specAt, specProjectDiag, specPhaseWeights, CharCache, type SpecState } from './spectral.ts';
 import type { RunResult, LeafResult, DetectorResult } from './result.ts';
 import { evaluateGeometry, type Track, type FinePath } from './leafgeom.ts';
 
@@ -39,6 +39,7 @@ const MU_B = 9.2740100783e-24; // J/T, CODATA 2018
 /** One velocity-dependent or -independent step as the sampled evaluator sees it. */
 type SampledOp =
   | { kind: 'kraus'; k: CMat }
+  | { kind: 'dephase'; ps: CMat[] }
   | { kind: 'linear'; h: CMat; length: number }
   | { kind: 'twist'; h1: CMat; kGen: CMat; angle: number; rot: CMat; length: number };
 
@@ -56,7 +57,7 @@ interface WalkCtx {
   positions: Record<string, { entrance: number; exit: number }>;
   opts: RunOptions;
   counter: { steps: number };
-  hermiticity: { max: number; minEig: number };
+  hermiticity: { max: number; positive: boolean };
   sampled: { nodes: number; error: number };
 }
 
@@ -147,6 +148,21 @@ function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
   return s;
 }
 
+/**
+ * The outgoing state of a port: Σ_k P_k ρ P_k over its states (different energies dephase in the magnet).
+ * Where a leaf follows at once only the trace matters, and the Lüders P ρ P with P = Σ_k P_k has the
+ * same trace, so the cheaper form is used.
+ */
+function selectStates(walk: Walk, st: SpecState, comps: readonly Component[], leafNext = false): SpecState {
+  if (walk.sampledOps) {
+    if (comps.length === 1) walk.sampledOps.push({ kind: 'kraus', k: rank1(comps[0]) });
+    else walk.sampledOps.push({ kind: 'dephase', ps: comps.map(rank1) });
+    return st;
+  }
+  if (leafNext) return specKraus(st, projectorOf(st.W.rows, comps));
+  return specProjectDiag(st, comps.map((c) => c.vector));
+}
+
 function rank1(c: Component): CMat {
   const v = c.vector;
   const d = v.rows;
@@ -160,10 +176,26 @@ function rank1(c: Component): CMat {
 
 /** The state's beam-averaged trace (the fraction of flux on this path so far). */
 function averagedTrace(ctx: WalkCtx, st: SpecState): number {
-  return cmatTrace(specAverage(st, ctx.chi).rho).re;
+  return specAverageTrace(st, ctx.chi).value;
 }
 
-function applyLinear(ctx: WalkCtx, walk: Walk, st: SpecState, h: CMat, length: number): SpecState {
+const eigenCache = new WeakMap<CMat, { values: ArrayLike<number>; vectors: CMat }>();
+
+/** H/ħ = V Λ V†: a field Hamiltonian through the m_F blocks (hyperfine.ts zeemanEigen), else eigh. */
+function eigenOf(ctx: WalkCtx, h: CMat, field?: Vec3): { values: ArrayLike<number>; vectors: CMat } {
+  const hit = eigenCache.get(h);
+  if (hit) return hit;
+  let e: { values: ArrayLike<number>; vectors: CMat };
+  if (field) {
+    const b = vecNorm(field);
+    const z = zeemanEigen(ctx.sys.params, b, b > 0 ? field : { x: 0, y: 0, z: 1 });
+    e = { values: z.values.map((x) => 2 * Math.PI * x), vectors: z.vectors };
+  } else e = eigh(h);
+  eigenCache.set(h, e);
+  return e;
+}
+
+function applyLinear(ctx: WalkCtx, walk: Walk, st: SpecState, h: CMat, length: number, field?: Vec3): SpecState {
   if (length === 0) return st;
   let hn = 0;
   for (let i = 0; i < h.re.length; i++) hn = Math.max(hn, Math.abs(h.re[i]), Math.abs(h.im[i]));
@@ -172,7 +204,7 @@ function applyLinear(ctx: WalkCtx, walk: Walk, st: SpecState, h: CMat, length: n
     walk.sampledOps.push({ kind: 'linear', h, length });
     return st;
   }
-  const e = eigh(h);
+  const e = eigenOf(ctx, h, field);
   return specPropagate(st, h, e.vectors, e.values, length);
 }
 
@@ -186,7 +218,7 @@ function applyKraus(walk: Walk, st: SpecState, k: CMat): SpecState {
 
 function drift(ctx: WalkCtx, walk: Walk, st: SpecState, gap: number): SpecState {
   if (gap <= 0) return st;
-  return applyLinear(ctx, walk, st, ctx.sys.hamiltonian(ctx.line.ambient), gap);
+  return applyLinear(ctx, walk, st, ctx.sys.hamiltonian(ctx.line.ambient), gap, ctx.line.ambient);
 }
 
 function fork(walk: Walk, extra: Partial<Walk>): Walk {
@@ -235,19 +267,32 @@ function visit(ctx: WalkCtx, target: string, st: SpecState, walk: Walk): void {
         { y: exit, lo: e.aperture.x - e.aperture.width / 2, hi: e.aperture.x + e.aperture.width / 2, axis: 'x' as const },
         { y: exit, lo: e.aperture.z - e.aperture.height / 2, hi: e.aperture.z + e.aperture.height / 2, axis: 'z' as const },
       ] : [];
-      for (const c of sorting.components) {
+      const deflects = e.gradient !== undefined && e.length !== undefined && e.length > 0 && e.gradient !== 0;
+      const routeOf = (c: Component) => {
         const to = e.ports[c.port] ?? e.ports['*'];
         if (to === undefined) throw new RunError(`${e.path}.ports: port "${c.port}" is not routed (route it by name or with "*")`);
-        const kick = e.gradient !== undefined && e.length !== undefined && e.length > 0
-          ? [{ exitY: exit, length: e.length, accel: (c.moment * MU_B * e.gradient) / sys.massKg, n: e.axis }]
-          : [];
-        const w = fork(walk, {
-          path: [...walk.path, `${e.id}:${c.port}`],
-          y: exit,
-          track: { ...walk.track, kicks: [...walk.track.kicks, ...kick], strips: [...walk.track.strips, ...strips], components: [...walk.track.components, `${e.id}:${c.lowField}`] },
-        });
-        const sk = applyKraus(w, s, rank1(c));
-        visit(ctx, to, sk, w);
+        return to;
+      };
+      if (deflects || e.aperture) {
+        // every state its own sub-beam: each has its own moment, so its own deflection
+        for (const c of sorting.components) {
+          const to = routeOf(c);
+          const kick = deflects ? [{ exitY: exit, length: e.length!, accel: (c.moment * MU_B * e.gradient!) / sys.massKg, n: e.axis }] : [];
+          const w = fork(walk, {
+            path: [...walk.path, `${e.id}:${c.port}`],
+            y: exit,
+            track: { ...walk.track, kicks: [...walk.track.kicks, ...kick], strips: [...walk.track.strips, ...strips], components: [...walk.track.components, `${e.id}:${c.lowField}`] },
+          });
+          visit(ctx, to, selectStates(w, s, [c]), w);
+        }
+        return;
+      }
+      // an ideal sorter: the states of one port share one trajectory; Σ_k P_k ρ P_k over the port
+      for (const port of sorting.ports) {
+        const comps = sorting.components.filter((c) => c.port === port);
+        const to = routeOf(comps[0]);
+        const w = fork(walk, { path: [...walk.path, `${e.id}:${port}`], y: exit });
+        visit(ctx, to, selectStates(w, s, comps, to === 'stop' || ctx.byId.get(to)?.kind === 'detector'), w);
       }
       return;
     }
@@ -256,7 +301,7 @@ function visit(ctx: WalkCtx, target: string, st: SpecState, walk: Walk): void {
       break;
     }
     case 'field': {
-      s = applyLinear(ctx, walk, s, sys.hamiltonian(e.field), e.length);
+      s = applyLinear(ctx, walk, s, sys.hamiltonian(e.field), e.length, e.field);
       break;
     }
     case 'twist': {
@@ -265,7 +310,7 @@ function visit(ctx: WalkCtx, target: string, st: SpecState, walk: Walk): void {
       const angle = Math.atan2(vecNorm(cross), vecDot(n1, n2));
       const h1 = sys.hamiltonian({ x: e.field * n1.x, y: e.field * n1.y, z: e.field * n1.z });
       if (angle < 1e-12) {
-        s = applyLinear(ctx, walk, s, h1, e.length);
+        s = applyLinear(ctx, walk, s, h1, e.length, { x: e.field * n1.x, y: e.field * n1.y, z: e.field * n1.z });
         break;
       }
       const k = vecUnit(cross);
@@ -320,10 +365,8 @@ function visit(ctx: WalkCtx, target: string, st: SpecState, walk: Walk): void {
         const closed = sorting.components.filter((c) => !e.open.includes(c.port));
         if (closed.length > 0) ctx.lost.spin += ctx.fraction * averagedTrace(ctx, specKraus(s, projectorOf(sys.dim, closed)));
       }
-      for (const c of open) {
-        const w = fork(walk, { y: exit });
-        visit(ctx, e.to, applyKraus(w, s, rank1(c)), w);
-      }
+      const w = fork(walk, { y: exit });
+      visit(ctx, e.to, selectStates(w, s, open), w);
       return;
     }
     case 'slit': {
@@ -342,7 +385,7 @@ function visit(ctx: WalkCtx, target: string, st: SpecState, walk: Walk): void {
 function finishLeaf(ctx: WalkCtx, st: SpecState, walk: Walk, target: string, det: Detector | null): void {
   let yieldSpin: number;
   let yieldError = 0;
-  let maxPhase = () => 0;
+  let phaseWeights = (): { phi: number; weight: number }[] => [];
   let traceAt: (speeds: ArrayLike<number>, phiMax: number) => Float64Array;
   if (walk.sampledOps) {
     const ops = walk.sampledOps;
@@ -361,18 +404,14 @@ function finishLeaf(ctx: WalkCtx, st: SpecState, walk: Walk, target: string, det
     yieldSpin = r.value;
     traceAt = (speeds) => Float64Array.from(speeds as ArrayLike<number>, (v) => cmatTrace(evalAt(v)).re);
   } else {
-    const avg = specAverage(st, ctx.chi);
-    const herm = cmatHermiticityError(avg.rho);
-    const tr = cmatTrace(avg.rho).re;
-    ctx.hermiticity.max = Math.max(ctx.hermiticity.max, herm);
-    if (tr > 1e-14) {
-      const minEig = eigh(avg.rho).values[0];
-      ctx.hermiticity.minEig = Math.min(ctx.hermiticity.minEig, minEig / Math.max(tr, 1e-300));
-    }
+    const avg = specAverageTrace(st, ctx.chi);
+    ctx.hermiticity.max = Math.max(ctx.hermiticity.max, avg.hermiticity);
+    if (!avg.positive) ctx.hermiticity.positive = false;
+    const tr = avg.value;
     yieldSpin = tr;
     yieldError = avg.error;
     traceAt = (speeds, phiMax) => specTraceAt(st, speeds, phiMax);
-    maxPhase = () => maxPhaseOf(st);
+    phaseWeights = () => specPhaseWeights(st);
   }
   ctx.leaves.push({
     system: ctx.sys.name,
@@ -383,29 +422,24 @@ function finishLeaf(ctx: WalkCtx, st: SpecState, walk: Walk, target: string, det
     plane: walk.y,
     yieldSpin: yieldSpin * ctx.fraction,
     yieldError: yieldError * ctx.fraction,
-    maxPhase,
+    phaseWeights,
     track: walk.track,
     traceAt,
     detector: det,
   });
 }
 
-/** Largest |φ + Ω_ab| among the entries that carry weight (for the table-resolution warning). */
-function maxPhaseOf(st: SpecState): number {
-  let m = 0;
-  const r = st.W.cols;
-  for (const t of st.terms) {
-    for (let i = 0; i < r * r; i++) {
-      if (Math.hypot(t.X.re[i], t.X.im[i]) < 1e-9) continue;
-      m = Math.max(m, Math.abs(t.phi + (st.omega ? st.omega[i] : 0)));
-    }
-  }
-  return m;
-}
-
 function applySampled(op: SampledOp, rho: CMat, v: number): CMat {
   switch (op.kind) {
     case 'kraus': return cmatMul(cmatMul(op.k, rho), cmatDagger(op.k));
+    case 'dephase': {
+      const out = cmatZeros(rho.rows, rho.cols);
+      for (const p of op.ps) {
+        const x = cmatMul(cmatMul(p, rho), p);
+        for (let i = 0; i < out.re.length; i++) { out.re[i] += x.re[i]; out.im[i] += x.im[i]; }
+      }
+      return out;
+    }
     case 'linear': {
       const u = expmiHermitian(op.h, op.length / v);
       return cmatMul(cmatMul(u, rho), cmatDagger(u));
@@ -498,7 +532,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const leaves: FinePath[] = [];
   const lost = { spin: 0 };
   const positions: Record<string, { entrance: number; exit: number }> = {};
-  const hermiticity = { max: 0, minEig: Infinity };
+  const hermiticity = { max: 0, positive: true };
   const sampled = { nodes: 0, error: 0 };
   let chiNodes = 0, chiError = 0;
   const dists: VelocityDistribution[] = [];
@@ -531,7 +565,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const detectors: DetectorResult[] = geo.detectors;
   if (balance > 1e-12) warnings.add(`invariant: Σ yields + lost = ${(totalYield + lostTotal).toPrecision(15)}, not 1 within 1e-12`);
   if (hermiticity.max > 1e-12) warnings.add(`invariant: the averaged state lost Hermiticity (‖ρ − ρ†‖ = ${hermiticity.max.toExponential(1)})`);
-  if (hermiticity.minEig < -1e-10) warnings.add(`invariant: the averaged state has a negative eigenvalue (${hermiticity.minEig.toExponential(1)} of its trace)`);
+  if (!hermiticity.positive) warnings.add('invariant: an averaged state has an eigenvalue below −1e-12 of its trace');
   const d0 = dists[0];
   const method = d0.kind === 'effusive'
     ? 'each Bohr frequency averaged on its own over the effusive distribution (rotated-contour Gauss–Kronrod)'
@@ -548,7 +582,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     flux,
     velocity: velocityPlot(d0),
     positions,
-    invariants: { balance, maxHermiticity: hermiticity.max, minEigenvalue: Number.isFinite(hermiticity.minEig) ? hermiticity.minEig : 0 },
+    invariants: { balance, maxHermiticity: hermiticity.max, positive: hermiticity.positive },
   };
 }
 
@@ -560,19 +594,25 @@ function velocityPlot(d: VelocityDistribution): RunResult['velocity'] {
   return { speeds, density: speeds.map((v) => densityAt(d, v)), kind: d.kind };
 }
 
-/** design.md: warn when a phase steps by more than π between neighbouring tabulated speeds. */
+/**
+ * design.md: warn when a phase steps by more than π between neighbouring tabulated speeds. The warning
+ * says how much of the yield rides on such terms (trace weight × table weight of the pairs concerned).
+ */
 function checkTable(line: Beamline, leaves: FinePath[], warnings: Set<string>): void {
   const pts = line.oven.velocity.kind === 'table' ? line.oven.velocity.points : [];
   if (pts.length < 2) return;
-  let worst = 0;
+  const total = pts.reduce((s, p) => s + p[1], 0);
+  let worst = 0, weight = 0;
   for (const l of leaves) {
-    const phiMax = l.maxPhase?.() ?? 0;
-    for (let k = 1; k < pts.length; k++) {
-      const step = phiMax * Math.abs(1 / pts[k - 1][0] - 1 / pts[k][0]);
-      worst = Math.max(worst, step);
+    for (const { phi, weight: w } of l.phaseWeights?.() ?? []) {
+      for (let k = 1; k < pts.length; k++) {
+        const step = phi * Math.abs(1 / pts[k - 1][0] - 1 / pts[k][0]);
+        if (step > Math.PI) {
+          worst = Math.max(worst, step);
+          weight = Math.max(weight, w * (pts[k - 1][1] + pts[k][1]) / total);
+        }
+      }
     }
   }
-  if (worst > Math.PI) warnings.add(`oven.velocity.points: a phase steps by up to ${worst.toExponential(2)} rad between neighbouring tabulated speeds (more than π): the table cannot resolve it, and its average is the table's, not the beam's`);
+  if (worst > Math.PI && weight > 1e-9) warnings.add(`oven.velocity.points: a phase steps by up to ${worst.toExponential(2)} rad between neighbouring tabulated speeds (more than π) on terms that carry up to ${weight.toExponential(1)} of a yield: the table cannot resolve them, and its average is the table's, not the beam's`);
 }
-
-

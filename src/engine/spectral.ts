@@ -1,21 +1,23 @@
 /**
  * The velocity-resolved density matrix of one path, kept exact frequency by frequency.
  *
- * With s = 1/v, every step of a line is either independent of v (a Kraus operator K: a selection
- * |k⟩⟨k|, a rotator, a recombiner) or a propagator U(s) = V e^{−iΛℓs} V† (a drift, a field region, the
- * two factors of the rotating-wave RF solution). So the state is
+ * With s = 1/v, every step of a line is either independent of v (a Kraus operator K: a selection, a
+ * rotator, a recombiner) or a propagator U(s) = V e^{−iΛℓs} V† (a drift, a field region, the two
+ * factors of the rotating-wave RF solution). So the state is
  *
- *   ρ(s) = Σ_t W (X_t ∘ e^{−i(φ_t + Ω)s}) W†,      Ω_ab = (λ_a − λ_b)ℓ  (rad·m/s),
+ *   ρ(s) = Σ_t W (X_t ∘ e^{−i(φ_t + Ω)s}) W†,      Ω_ab = μ_a − μ_b,  μ = Λℓ  (rad·m/s),
  *
  * a sum of terms with one phase-length φ_t each, written in the basis W (the eigenbasis of the last
- * propagator, carried through the Kraus operators since: W → K W). The beam average of any entry is
- * then Σ X_ab χ(φ + Ω_ab) with χ the characteristic function of the velocity distribution
- * (physics/velocity.ts): each Bohr frequency is averaged on its own, and no grid of speeds can alias a
- * phase of 10⁷ rad. A new propagator first expands the entries of the old basis into lab-frame terms of
- * equal phase-length (merged within 1e-13 of the largest), then changes basis.
+ * propagator, carried through the Kraus operators since: W → K W). The beam average of the state is
+ * W A W† with A_ab = Σ_t X_t,ab χ(φ_t + Ω_ab), χ the characteristic function of the velocity
+ * distribution (physics/velocity.ts): each Bohr frequency is averaged on its own, and no grid of speeds
+ * can alias a phase of 10⁷ rad. A is shared by every branch that differs only by Kraus operators, and
+ * is computed once. A new propagator first expands the state into lab-frame terms of equal
+ * phase-length (merged within 1e-13 of the largest), then changes basis.
  */
 import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, cmatCommutator } from '../physics/cmat.ts';
 import { charFunction, type VelocityDistribution } from '../physics/velocity.ts';
+import { reduceAngle } from '../physics/trig.ts';
 
 export interface SpecTerm {
   readonly phi: number;
@@ -25,18 +27,24 @@ export interface SpecTerm {
 export interface SpecState {
   /** d×r basis. */
   readonly W: CMat;
-  /** r×r phase-lengths Ω_ab, or null when all are zero. */
-  readonly omega: Float64Array | null;
+  /** μ_a (rad·m/s) of the basis columns, Ω_ab = μ_a − μ_b; null when all phases are in φ. */
+  readonly mu: Float64Array | null;
   readonly terms: readonly SpecTerm[];
 }
 
 export function specInitial(rho: CMat): SpecState {
-  return { W: cmatIdentity(rho.rows), omega: null, terms: [{ phi: 0, X: rho }] };
+  return { W: cmatIdentity(rho.rows), mu: null, terms: [{ phi: 0, X: rho }] };
 }
 
 /** ρ → K ρ K† for a velocity-independent K. */
 export function specKraus(st: SpecState, k: CMat): SpecState {
-  return { W: cmatMul(k, st.W), omega: st.omega, terms: st.terms };
+  return { W: cmatMul(k, st.W), mu: st.mu, terms: st.terms };
+}
+
+function significance(t: SpecTerm): number {
+  let xmax = 0;
+  for (let i = 0; i < t.X.re.length; i++) xmax = Math.max(xmax, Math.abs(t.X.re[i]) + Math.abs(t.X.im[i]));
+  return xmax;
 }
 
 /** Lab-frame terms Σ_t M_t e^{−iφ_t s}, merged by phase-length. */
@@ -45,17 +53,16 @@ export function specExpand(st: SpecState): SpecTerm[] {
   const Wd = cmatDagger(st.W);
   const r = st.W.cols;
   for (const t of st.terms) {
-    if (!st.omega) {
+    if (!st.mu) {
       out.push({ phi: t.phi, X: cmatMul(cmatMul(st.W, t.X), Wd) });
       continue;
     }
-    let xmax = 0;
-    for (let i = 0; i < t.X.re.length; i++) xmax = Math.max(xmax, Math.abs(t.X.re[i]) + Math.abs(t.X.im[i]));
-    const cut = 1e-18 * xmax;
+    const cut = 1e-18 * significance(t);
     const groups = new Map<number, number[]>();
-    for (let i = 0; i < r * r; i++) {
+    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+      const i = a * r + b;
       if (Math.abs(t.X.re[i]) + Math.abs(t.X.im[i]) <= cut) continue;
-      const f = st.omega[i];
+      const f = st.mu[a] - st.mu[b];
       const g = groups.get(f);
       if (g) g.push(i);
       else groups.set(f, [i]);
@@ -78,7 +85,7 @@ export function mergeTerms(ts: SpecTerm[]): SpecTerm[] {
   const scale = ts.reduce((m, t) => Math.max(m, Math.abs(t.phi)), 0);
   const tol = 1e-13 * scale + 1e-300;
   const sorted = [...ts].sort((a, b) => a.phi - b.phi);
-  const out: { phi: number; X: CMat; n: number }[] = [];
+  const out: { phi: number; X: CMat }[] = [];
   for (const t of sorted) {
     const last = out[out.length - 1];
     if (last && Math.abs(t.phi - last.phi) <= tol) {
@@ -87,19 +94,42 @@ export function mergeTerms(ts: SpecTerm[]): SpecTerm[] {
         last.X.im[i] += t.X.im[i];
       }
     } else {
-      out.push({ phi: t.phi, X: { rows: t.X.rows, cols: t.X.cols, re: t.X.re.slice(), im: t.X.im.slice() }, n: 1 });
+      out.push({ phi: t.phi, X: { rows: t.X.rows, cols: t.X.cols, re: t.X.re.slice(), im: t.X.im.slice() } });
     }
   }
   let norm = 0;
   for (const t of out) norm = Math.max(norm, cmatNorm(t.X));
-  return out.filter((t) => cmatNorm(t.X) > 1e-17 * norm).map((t) => ({ phi: t.phi, X: t.X }));
+  return out.filter((t) => cmatNorm(t.X) > 1e-17 * norm);
+}
+
+/** Eigenvalues closer than 1e-12 of the largest are set equal, so that equal Bohr frequencies coincide. */
+function snapDegenerate(lambda: ArrayLike<number>): Float64Array {
+  const n = lambda.length;
+  const order = Array.from({ length: n }, (_, i) => i).sort((a, b) => lambda[a] - lambda[b]);
+  let scale = 0;
+  for (let i = 0; i < n; i++) scale = Math.max(scale, Math.abs(lambda[i]));
+  const tol = 1e-12 * scale;
+  const out = Float64Array.from(lambda);
+  let start = 0;
+  for (let i = 1; i <= n; i++) {
+    if (i === n || lambda[order[i]] - lambda[order[i - 1]] > tol) {
+      if (i - start > 1) {
+        let m = 0;
+        for (let k = start; k < i; k++) m += lambda[order[k]];
+        m /= i - start;
+        for (let k = start; k < i; k++) out[order[k]] = m;
+      }
+      start = i;
+    }
+  }
+  return out;
 }
 
 /**
- * ρ(s) → U(s) ρ(s) U(s)† with U(s) = V e^{−iΛℓs} V†. `h` (= V Λ V†) is used to skip the step when every
- * term commutes with it (then U ρ U† = ρ exactly: e.g. a hyperfine drift of a state diagonal in F).
+ * ρ(s) → U(s) ρ(s) U(s)† with U(s) = V e^{−iΛℓs} V† (H = V Λ V†, Λ in rad/s). The step is skipped when
+ * every term commutes with H (then U ρ U† = ρ exactly: e.g. a hyperfine drift of a state diagonal in F).
  */
-export function specPropagate(st: SpecState, h: CMat, v: CMat, lambda: Float64Array, length: number): SpecState {
+export function specPropagate(st: SpecState, h: CMat, v: CMat, lambda: ArrayLike<number>, length: number): SpecState {
   const lab = specExpand(st);
   const hn = cmatNorm(h);
   let commutes = true;
@@ -110,49 +140,253 @@ export function specPropagate(st: SpecState, h: CMat, v: CMat, lambda: Float64Ar
     }
   }
   const d = h.rows;
-  if (commutes) return { W: cmatIdentity(d), omega: null, terms: lab };
-  const omega = new Float64Array(d * d);
-  for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) omega[a * d + b] = (lambda[a] - lambda[b]) * length;
+  if (commutes) return { W: cmatIdentity(d), mu: null, terms: lab };
+  const snapped = snapDegenerate(lambda);
+  const mu = snapped.map((l) => l * length);
   const vd = cmatDagger(v);
-  return { W: v, omega, terms: lab.map((t) => ({ phi: t.phi, X: cmatMul(cmatMul(vd, t.X), v) })) };
+  return { W: v, mu, terms: lab.map((t) => ({ phi: t.phi, X: cmatMul(cmatMul(vd, t.X), v) })) };
 }
 
-/** Caches χ_n(Φ) of one distribution (many leaves share frequencies). */
+/**
+ * Σ_k P_k ρ P_k over rank-one P_k = |k⟩⟨k| (the dephasing sort of a magnet port): the state becomes
+ * diagonal on the vectors |k⟩, each population p_k(s) = ⟨k|ρ(s)|k⟩ a sum of phase terms.
+ */
+export function specProjectDiag(st: SpecState, vecs: readonly CMat[]): SpecState {
+  const d = st.W.rows, r = st.W.cols, K = vecs.length;
+  // u_k = ⟨k|W (1×r)
+  const ur = new Float64Array(K * r), ui = new Float64Array(K * r);
+  for (let k = 0; k < K; k++) {
+    const v = vecs[k];
+    for (let a = 0; a < r; a++) {
+      let sr = 0, si = 0;
+      for (let i = 0; i < d; i++) {
+        const wr = st.W.re[i * r + a], wi = st.W.im[i * r + a];
+        sr += v.re[i] * wr + v.im[i] * wi;
+        si += v.re[i] * wi - v.im[i] * wr;
+      }
+      ur[k * r + a] = sr;
+      ui[k * r + a] = si;
+    }
+  }
+  const acc = new Map<number, { re: Float64Array; im: Float64Array }>();
+  for (const t of st.terms) {
+    const cut = 1e-18 * significance(t);
+    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+      const i = a * r + b;
+      const xr = t.X.re[i], xi = t.X.im[i];
+      if (Math.abs(xr) + Math.abs(xi) <= cut) continue;
+      const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+      let slot = acc.get(f);
+      if (!slot) {
+        slot = { re: new Float64Array(K), im: new Float64Array(K) };
+        acc.set(f, slot);
+      }
+      for (let k = 0; k < K; k++) {
+        // u_ka X_ab conj(u_kb)
+        const ar = ur[k * r + a], ai = ui[k * r + a];
+        const br = ur[k * r + b], bi = -ui[k * r + b];
+        const pr = ar * xr - ai * xi, pi = ar * xi + ai * xr;
+        slot.re[k] += pr * br - pi * bi;
+        slot.im[k] += pr * bi + pi * br;
+      }
+    }
+  }
+  const W = cmatZeros(d, K);
+  for (let k = 0; k < K; k++) for (let i = 0; i < d; i++) {
+    W.re[i * K + k] = vecs[k].re[i];
+    W.im[i * K + k] = vecs[k].im[i];
+  }
+  const terms: SpecTerm[] = [];
+  for (const [phi, slot] of acc) {
+    const X = cmatZeros(K, K);
+    for (let k = 0; k < K; k++) {
+      X.re[k * K + k] = slot.re[k];
+      X.im[k * K + k] = slot.im[k];
+    }
+    terms.push({ phi, X });
+  }
+  return { W, mu: null, terms: mergeTerms(terms) };
+}
+
+/** Caches χ(Φ) of one distribution (many leaves share frequencies). */
 export class CharCache {
   private readonly map = new Map<number, [number, number, number]>();
   nodes = 0;
-  error = 0;
-  constructor(readonly dist: VelocityDistribution, readonly n: number = 0) {}
+  constructor(readonly dist: VelocityDistribution) {}
   get(phi: number): [number, number, number] {
-    if (phi === 0 && this.n === 0) return [1, 0, 0];
+    if (phi === 0) return [1, 0, 0];
     const hit = this.map.get(phi);
     if (hit) return hit;
-    const c = charFunction(this.dist, phi, this.n);
+    const c = charFunction(this.dist, phi, 0);
     this.nodes += c.nodes;
     const v: [number, number, number] = [c.re, c.im, c.error];
+    if (this.map.size > 200_000) this.map.clear();
     this.map.set(phi, v);
     return v;
   }
 }
 
-/**
- * The beam-averaged state ⟨ρ⟩ = Σ_t W (X_t ∘ χ(φ_t + Ω)) W† and the error bound Σ|X_ab|·err(χ).
- */
-export function specAverage(st: SpecState, chi: CharCache): { rho: CMat; error: number } {
+export interface Averaged {
+  /** A (r×r): the beam average of the state in its basis W. */
+  readonly A: CMat;
+  readonly error: number;
+  readonly hermiticity: number;
+  /** False when A has an eigenvalue below −1e-12·Tr A. */
+  readonly positive: boolean;
+}
+
+const averages = new WeakMap<readonly SpecTerm[], Averaged>();
+
+/** A = Σ_t X_t ∘ χ(φ_t + Ω), computed once per state (module doc). */
+export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
+  const hit = averages.get(st.terms);
+  if (hit) return hit;
   const r = st.W.cols;
-  const acc = cmatZeros(r, r);
+  const A = cmatZeros(r, r);
   let error = 0;
-  for (const t of st.terms) {
-    for (let i = 0; i < r * r; i++) {
-      const xr = t.X.re[i], xi = t.X.im[i];
-      if (xr === 0 && xi === 0) continue;
-      const [cr, ci, ce] = chi.get(t.phi + (st.omega ? st.omega[i] : 0));
-      acc.re[i] += xr * cr - xi * ci;
-      acc.im[i] += xr * ci + xi * cr;
-      error += Math.hypot(xr, xi) * ce;
+  const d = chi.dist;
+  if ((d.kind === 'table' || d.kind === 'fixed') && st.mu) {
+    separableAverage(st, d.kind === 'fixed' ? Float64Array.of(d.speed) : d.speeds, d.kind === 'fixed' ? Float64Array.of(1) : d.weights, A);
+    chi.nodes += d.kind === 'fixed' ? 1 : d.speeds.length;
+  } else {
+    for (const t of st.terms) {
+      for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+        const i = a * r + b;
+        const xr = t.X.re[i], xi = t.X.im[i];
+        if (xr === 0 && xi === 0) continue;
+        const [cr, ci, ce] = chi.get(t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0));
+        A.re[i] += xr * cr - xi * ci;
+        A.im[i] += xr * ci + xi * cr;
+        error += Math.hypot(xr, xi) * ce;
+      }
     }
   }
-  return { rho: cmatMul(cmatMul(st.W, acc), cmatDagger(st.W)), error };
+  let herm = 0, tr = 0;
+  for (let a = 0; a < r; a++) {
+    tr += A.re[a * r + a];
+    for (let b = 0; b < r; b++) herm = Math.max(herm, Math.hypot(A.re[a * r + b] - A.re[b * r + a], A.im[a * r + b] + A.im[b * r + a]));
+  }
+  const res = { A, error, hermiticity: herm, positive: isPositive(A, 1e-12 * Math.max(Math.abs(tr), 1e-300)) };
+  averages.set(st.terms, res);
+  return res;
+}
+
+/**
+ * A_ab = Σ_k w_k Σ_t X_t,ab e^{−iφ_t s_k} z_a(k) z̄_b(k), z_a(k) = e^{−iμ_a s_k}: the exact finite sum of a
+ * table (or one speed), d phase factors per speed instead of d².
+ */
+function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64Array, A: CMat): void {
+  const r = st.W.cols;
+  const mu = st.mu!;
+  const n = speeds.length;
+  // z_a(k) = e^{−iμ_a s_k} for every speed, computed once, stored by column a (contiguous in k)
+  const zr = new Float64Array(n * r), zi = new Float64Array(n * r);
+  for (let a = 0; a < r; a++) {
+    for (let k = 0; k < n; k++) {
+      const ph = reduceAngle(mu[a] / speeds[k]);
+      zr[a * n + k] = Math.cos(ph);
+      zi[a * n + k] = -Math.sin(ph);
+    }
+  }
+  const wr = new Float64Array(n), wi = new Float64Array(n);
+  for (const term of st.terms) {
+    const cut = 1e-18 * significance(term);
+    const xr = term.X.re, xi = term.X.im;
+    for (let k = 0; k < n; k++) {
+      const ph = reduceAngle(term.phi / speeds[k]);
+      wr[k] = weights[k] * Math.cos(ph);
+      wi[k] = -weights[k] * Math.sin(ph);
+    }
+    // with φ = 0, S_ab = Σ_k w_k z_a z̄_b is Hermitian: only a ≤ b is summed
+    const hermitian = term.phi === 0;
+    for (let a = 0; a < r; a++) {
+      for (let b = hermitian ? a : 0; b < r; b++) {
+        const i = a * r + b, j = b * r + a;
+        const sig = Math.abs(xr[i]) + Math.abs(xi[i]) > cut || (hermitian && Math.abs(xr[j]) + Math.abs(xi[j]) > cut);
+        if (!sig) continue;
+        let sr = 0, si = 0;
+        if (a === b) {
+          for (let k = 0; k < n; k++) { sr += wr[k]; si += wi[k]; }
+        } else if (hermitian) {
+          // real weights: Σ_k w_k z_a conj(z_b)
+          const oa = a * n, ob = b * n;
+          for (let k = 0; k < n; k++) {
+            const ar = zr[oa + k], ai = zi[oa + k], br = zr[ob + k], bi = zi[ob + k];
+            const w = wr[k];
+            sr += w * (ar * br + ai * bi);
+            si += w * (ai * br - ar * bi);
+          }
+        } else {
+          const oa = a * n, ob = b * n;
+          for (let k = 0; k < n; k++) {
+            const ar = zr[oa + k], ai = zi[oa + k], br = zr[ob + k], bi = zi[ob + k];
+            // z_a conj(z_b)
+            const pr = ar * br + ai * bi, pi = ai * br - ar * bi;
+            sr += wr[k] * pr - wi[k] * pi;
+            si += wr[k] * pi + wi[k] * pr;
+          }
+        }
+        A.re[i] += xr[i] * sr - xi[i] * si;
+        A.im[i] += xr[i] * si + xi[i] * sr;
+        if (hermitian && a !== b) {
+          // S_ba = conj(S_ab)
+          A.re[j] += xr[j] * sr + xi[j] * si;
+          A.im[j] += xi[j] * sr - xr[j] * si;
+        }
+      }
+    }
+  }
+}
+
+/** Cholesky of A + δ·1: succeeds exactly when every eigenvalue of the Hermitian part exceeds −δ. */
+function isPositive(a: CMat, delta: number): boolean {
+  const n = a.rows;
+  const lr = new Float64Array(n * n), li = new Float64Array(n * n);
+  for (let j = 0; j < n; j++) {
+    let djj = 0.5 * (a.re[j * n + j] + a.re[j * n + j]) + delta;
+    for (let k = 0; k < j; k++) djj -= lr[j * n + k] ** 2 + li[j * n + k] ** 2;
+    if (!(djj > 0)) return false;
+    const ljj = Math.sqrt(djj);
+    lr[j * n + j] = ljj;
+    for (let i = j + 1; i < n; i++) {
+      // Hermitian part entry (i, j)
+      let sr = 0.5 * (a.re[i * n + j] + a.re[j * n + i]);
+      let si = 0.5 * (a.im[i * n + j] - a.im[j * n + i]);
+      for (let k = 0; k < j; k++) {
+        // L_ik conj(L_jk)
+        sr -= lr[i * n + k] * lr[j * n + k] + li[i * n + k] * li[j * n + k];
+        si -= li[i * n + k] * lr[j * n + k] - lr[i * n + k] * li[j * n + k];
+      }
+      lr[i * n + j] = sr / ljj;
+      li[i * n + j] = si / ljj;
+    }
+  }
+  return true;
+}
+
+/** The beam-averaged state ⟨ρ⟩ = W A W† and the error bound of its entries. */
+export function specAverage(st: SpecState, chi: CharCache): { rho: CMat; error: number; hermiticity: number; positive: boolean } {
+  const av = specAverageBasis(st, chi);
+  return { rho: cmatMul(cmatMul(st.W, av.A), cmatDagger(st.W)), error: av.error, hermiticity: av.hermiticity, positive: av.positive };
+}
+
+/** Tr⟨ρ⟩ = Σ_ab (W†W)_ba A_ab without forming ⟨ρ⟩. */
+export function specAverageTrace(st: SpecState, chi: CharCache): { value: number; error: number; hermiticity: number; positive: boolean } {
+  const av = specAverageBasis(st, chi);
+  const d = st.W.rows, r = st.W.cols;
+  let tr = 0;
+  for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+    // (W†W)_ba = Σ_i conj(W_ib) W_ia
+    let gr = 0, gi = 0;
+    for (let i = 0; i < d; i++) {
+      const wbr = st.W.re[i * r + b], wbi = -st.W.im[i * r + b];
+      const war = st.W.re[i * r + a], wai = st.W.im[i * r + a];
+      gr += wbr * war - wbi * wai;
+      gi += wbr * wai + wbi * war;
+    }
+    tr += av.A.re[a * r + b] * gr - av.A.im[a * r + b] * gi;
+  }
+  return { value: tr, error: av.error, hermiticity: av.hermiticity, positive: av.positive };
 }
 
 /**
@@ -172,10 +406,10 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
       const gr = g.re[b * r + a], gi = g.im[b * r + a];
       const cr = xr * gr - xi * gi, ci = xr * gi + xi * gr;
       if (cr === 0 && ci === 0) continue;
-      const f = t.phi + (st.omega ? st.omega[i] : 0);
+      const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
       if (Math.abs(f) > phiMax) continue;
       for (let k = 0; k < speeds.length; k++) {
-        const ph = f / speeds[k];
+        const ph = reduceAngle(f / speeds[k]);
         out[k] += cr * Math.cos(ph) + ci * Math.sin(ph);
       }
     }
@@ -188,14 +422,32 @@ export function specAt(st: SpecState, v: number): CMat {
   const r = st.W.cols;
   const acc = cmatZeros(r, r);
   for (const t of st.terms) {
-    for (let i = 0; i < r * r; i++) {
+    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+      const i = a * r + b;
       const xr = t.X.re[i], xi = t.X.im[i];
       if (xr === 0 && xi === 0) continue;
-      const ph = (t.phi + (st.omega ? st.omega[i] : 0)) / v;
+      const ph = reduceAngle((t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0)) / v);
       const c = Math.cos(ph), s = -Math.sin(ph);
       acc.re[i] += xr * c - xi * s;
       acc.im[i] += xr * s + xi * c;
     }
   }
   return cmatMul(cmatMul(st.W, acc), cmatDagger(st.W));
+}
+
+/** Largest |φ + Ω_ab| among entries whose trace weight exceeds `minWeight`, with the weight they carry. */
+export function specPhaseWeights(st: SpecState): { phi: number; weight: number }[] {
+  const r = st.W.cols;
+  const g = cmatMul(cmatDagger(st.W), st.W);
+  const out: { phi: number; weight: number }[] = [];
+  for (const t of st.terms) {
+    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+      const i = a * r + b;
+      const w = Math.hypot(t.X.re[i], t.X.im[i]) * Math.hypot(g.re[b * r + a], g.im[b * r + a]);
+      if (w < 1e-12) continue;
+      const f = Math.abs(t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0));
+      if (f > 0) out.push({ phi: f, weight: w });
+    }
+  }
+  return out;
 }

@@ -8,6 +8,7 @@
  * hyperfine levels needs. Eigenvalues come out ascending; vectors are the columns of V.
  */
 import { type CMat, cmatZeros, cmatClone, cmatMul, cmatDagger } from './cmat.ts';
+import { reduceAngle } from './trig.ts';
 
 export interface Eigen {
   /** Ascending eigenvalues. */
@@ -140,7 +141,10 @@ export function spectralFunction(e: Eigen, f: (lambda: number) => readonly [numb
 
 /** Propagator exp(−i H t) of a Hermitian H (ħ = 1), through the eigendecomposition. */
 export function expmiHermitian(h: CMat, t: number): CMat {
-  return spectralFunction(eigh(h), (l) => [Math.cos(l * t), -Math.sin(l * t)]);
+  return spectralFunction(eigh(h), (l) => {
+    const ph = reduceAngle(l * t);
+    return [Math.cos(ph), -Math.sin(ph)];
+  });
 }
 
 /** Residual ‖HV − VΛ‖_F of an eigendecomposition. */

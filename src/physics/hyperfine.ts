@@ -443,3 +443,56 @@ export function mjSortCleanField(p: HyperfineParams): number {
   }
   return hi;
 }
+
+/**
+ * Eigen-decomposition of H(B n̂)/h without labels, for propagators: the m_F blocks of H(B ẑ) are
+ * diagonalised (2×2 in closed form, larger ones by eigh) and carried to n̂ by the cached rotation
+ * exp(−iφF_z) exp(−iθF_y). Values in Hz, in block order (not sorted); columns of `vectors` match.
+ */
+export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { values: Float64Array; vectors: CMat } {
+  const s = structureOf(p.i2, p.j2);
+  const d = s.dim;
+  const values = new Float64Array(d);
+  const vz = cmatZeros(d, d);
+  const zc = MU_B_OVER_H * fieldT;
+  const hd = (k: number) => p.aHz * s.ij.re[k * d + k] + (s.q && p.bHz ? p.bHz * s.q.re[k * d + k] : 0) + zc * (p.gJ * s.mJ2[k] + p.gI * s.mI2[k]) / 2;
+  const ho = (a: number, b: number) => p.aHz * s.ij.re[a * d + b] + (s.q && p.bHz ? p.bHz * s.q.re[a * d + b] : 0);
+  let col = 0;
+  for (const block of s.blocks) {
+    const idx = block.idx;
+    if (idx.length === 1) {
+      values[col] = hd(idx[0]);
+      vz.re[idx[0] * d + col] = 1;
+      col++;
+    } else if (idx.length === 2) {
+      const a = hd(idx[0]), c = hd(idx[1]), b = ho(idx[0], idx[1]);
+      const mean = 0.5 * (a + c), half = 0.5 * (a - c);
+      const r = Math.hypot(half, b);
+      // eigenvectors of [[a, b], [b, c]]: angle t with tan 2t = 2b/(a − c)
+      const t = 0.5 * Math.atan2(b, half);
+      const ct = Math.cos(t), st = Math.sin(t);
+      values[col] = mean + r;
+      vz.re[idx[0] * d + col] = ct;
+      vz.re[idx[1] * d + col] = st;
+      values[col + 1] = mean - r;
+      vz.re[idx[0] * d + col + 1] = -st;
+      vz.re[idx[1] * d + col + 1] = ct;
+      col += 2;
+    } else {
+      const n = idx.length;
+      const sub = cmatZeros(n, n);
+      for (let r = 0; r < n; r++) for (let c = 0; c < n; c++) sub.re[r * n + c] = r === c ? hd(idx[r]) : ho(idx[r], idx[c]);
+      const e = eigh(sub);
+      for (let k = 0; k < n; k++) {
+        values[col] = e.values[k];
+        for (let r = 0; r < n; r++) {
+          vz.re[idx[r] * d + col] = e.vectors.re[r * n + k];
+          vz.im[idx[r] * d + col] = e.vectors.im[r * n + k];
+        }
+        col++;
+      }
+    }
+  }
+  const rot = fieldT === 0 ? undefined : axisRotation(p.i2, p.j2, axis);
+  return { values, vectors: rot ? cmatMul(rot, vz) : vz };
+}

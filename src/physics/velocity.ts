@@ -23,6 +23,7 @@
  * - fixed and table: the exact finite sums.
  */
 import { integrateAdaptive, compositeRule } from './quadrature.ts';
+import { reduceAngle } from './trig.ts';
 
 export type VelocityDistribution =
   | { readonly kind: 'fixed'; readonly speed: number }
@@ -114,15 +115,17 @@ export function charFunction(d: VelocityDistribution, phi: number, n: number = 0
     case 'fixed': {
       const s = 1 / d.speed;
       const a = Math.pow(s, n);
-      return { re: a * Math.cos(phi * s), im: -a * Math.sin(phi * s), error: 0, nodes: 1 };
+      const ph = reduceAngle(phi * s);
+      return { re: a * Math.cos(ph), im: -a * Math.sin(ph), error: 0, nodes: 1 };
     }
     case 'table': {
       let re = 0, im = 0;
       for (let k = 0; k < d.speeds.length; k++) {
         const s = 1 / d.speeds[k];
         const a = d.weights[k] * Math.pow(s, n);
-        re += a * Math.cos(phi * s);
-        im -= a * Math.sin(phi * s);
+        const ph = reduceAngle(phi * s);
+        re += a * Math.cos(ph);
+        im -= a * Math.sin(ph);
       }
       return { re, im, error: 0, nodes: d.speeds.length };
     }
@@ -138,7 +141,8 @@ export function charFunction(d: VelocityDistribution, phi: number, n: number = 0
       const r = integrateAdaptive((v) => {
         if (v <= 0) return [0, 0];
         const a = f(v) * Math.pow(v, -n);
-        return [a * Math.cos(phi / v), -a * Math.sin(phi / v)];
+        const ph = reduceAngle(phi / v);
+        return [a * Math.cos(ph), -a * Math.sin(ph)];
       }, lo, hi, 1e-16, 1e-14, 4000);
       return { re: r.re, im: r.im, error: r.error, nodes: r.evaluations };
     }

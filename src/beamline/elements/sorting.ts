@@ -8,8 +8,9 @@ import { type Obj, type ReadCtx, choice } from '../read.ts';
 export const GROUPS = ['mJ', 'each'] as const;
 export const ENTRIES = ['adiabatic', 'sudden'] as const;
 
+/** group and entry as read (defaults filled in for a hyperfine species), and the port labels they give (undefined when unknown). */
 export function readSorting(ctx: ReadCtx, o: Obj, path: string): {
-  group?: Group; entry?: 'adiabatic' | 'sudden'; labels: string[] | undefined; ok: boolean;
+  group?: Group; entry?: 'adiabatic' | 'sudden'; labels: string[] | undefined;
 } {
   const n = ctx.problems.length;
   const group = choice(ctx, o, 'group', path, GROUPS);
@@ -17,7 +18,7 @@ export function readSorting(ctx: ReadCtx, o: Obj, path: string): {
   const ok = ctx.problems.length === n;
   const sp = ctx.species;
   const labels = sp && ok ? portLabels(sp, group) : undefined;
-  const out: { group?: Group; entry?: 'adiabatic' | 'sudden'; labels: string[] | undefined; ok: boolean } = { labels, ok };
+  const out: { group?: Group; entry?: 'adiabatic' | 'sudden'; labels: string[] | undefined } = { labels };
   if (sp && isHyperfine(sp)) {
     out.group = group ?? defaultGroup(sp);
     out.entry = entry ?? 'adiabatic';

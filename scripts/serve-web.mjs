@@ -1,0 +1,82 @@
+// Static server for the built renderer (dist-web) on 127.0.0.1 only. Port: $PORT, else 5178, else the
+// next free one (PORT=0 takes any free port). Prints the URL on one line. Web Workers need http(s).
+import { createServer } from 'node:http';
+import { readFile, stat } from 'node:fs/promises';
+import { join, normalize, extname, dirname, sep } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..', process.env.SPINYARD_WEB_DIR ?? 'dist-web');
+const TYPES = {
+  '.html': 'text/html; charset=utf-8',
+  '.js': 'text/javascript; charset=utf-8',
+  '.mjs': 'text/javascript; charset=utf-8',
+  '.css': 'text/css; charset=utf-8',
+  '.json': 'application/json; charset=utf-8',
+  '.spinyard': 'application/json; charset=utf-8',
+  '.svg': 'image/svg+xml',
+  '.png': 'image/png',
+  '.ico': 'image/x-icon',
+  '.woff2': 'font/woff2',
+  '.map': 'application/json; charset=utf-8',
+  '.txt': 'text/plain; charset=utf-8',
+};
+
+async function handle(req, res) {
+  if (req.method !== 'GET' && req.method !== 'HEAD') {
+    res.writeHead(405, { Allow: 'GET, HEAD' }).end();
+    return;
+  }
+  let path;
+  try {
+    path = decodeURIComponent(new URL(req.url ?? '/', 'http://127.0.0.1').pathname);
+  } catch {
+    res.writeHead(400).end('bad request');
+    return;
+  }
+  if (path.endsWith('/')) path += 'index.html';
+  const file = normalize(join(root, path));
+  if (file !== root && !file.startsWith(root + sep)) {
+    res.writeHead(403).end('forbidden');
+    return;
+  }
+  try {
+    const s = await stat(file);
+    if (!s.isFile()) throw new Error('not a file');
+    const body = await readFile(file);
+    res.writeHead(200, {
+      'Content-Type': TYPES[extname(file).toLowerCase()] ?? 'application/octet-stream',
+      'Content-Length': body.length,
+      'Cache-Control': 'no-cache',
+      'X-Content-Type-Options': 'nosniff',
+    });
+    res.end(req.method === 'HEAD' ? undefined : body);
+  } catch {
+    res.writeHead(404, { 'Content-Type': 'text/plain; charset=utf-8' }).end(`not found: ${path}`);
+  }
+}
+
+function listen(port, tries) {
+  const server = createServer((req, res) => {
+    handle(req, res).catch(() => res.writeHead(500).end());
+  });
+  server.once('error', (e) => {
+    if (e.code === 'EADDRINUSE' && tries > 0 && port !== 0) listen(port + 1, tries - 1);
+    else {
+      console.error(`serve-web: cannot listen on 127.0.0.1:${port}: ${e.message}`);
+      process.exit(1);
+    }
+  });
+  server.listen(port, '127.0.0.1', () => {
+    const addr = server.address();
+    console.log(`Spinyard web: http://127.0.0.1:${addr.port}/`);
+  });
+}
+
+try {
+  await stat(join(root, 'index.html'));
+} catch {
+  console.error(`serve-web: ${root}/index.html is missing: run "npm run build:web" first`);
+  process.exit(1);
+}
+const env = process.env.PORT;
+listen(env !== undefined && env !== '' ? Number(env) : 5178, env ? 0 : 50);

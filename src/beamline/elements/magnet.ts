@@ -1,0 +1,70 @@
+/**
+ * magnet: a Stern–Gerlach gradient magnet analysing along `axis`; each port (an eigenstate or group of
+ * eigenstates, design.md Conventions) is routed in `ports`, "*" routes every port not named.
+ * Keys: axis, field (size at the beam, ≥ 0), gradient (signed, along the axis), length (≥ 0),
+ * aperture {width, height} of the pole gap, group, entry (hyperfine species only), ports.
+ */
+import type { Magnet } from '../types.ts';
+import { type Obj, type ReadCtx, at, axis, describe, isObj, problem, quantity, rect, warn } from '../read.ts';
+import type { KindModule } from './kind.ts';
+import { readSorting } from './sorting.ts';
+
+export const magnet: KindModule<Magnet> = {
+  kind: 'magnet',
+  keys: ['axis', 'field', 'gradient', 'length', 'aperture', 'group', 'entry'],
+  output: 'ports',
+  hyperfineOnly: ['group', 'entry'],
+  read(o: Obj, path: string, ctx: ReadCtx) {
+    const ax = axis(ctx, o, 'axis', path);
+    const field = quantity(ctx, o, 'field', 'field', path, { required: false, nonNegative: true, what: 'the field size' });
+    const gradient = quantity(ctx, o, 'gradient', 'gradient', path, { required: false });
+    const length = quantity(ctx, o, 'length', 'length', path, { required: false, nonNegative: true, what: 'the length' });
+    const aperture = rect(ctx, o, 'aperture', path);
+    const sort = readSorting(ctx, o, path);
+    const ports = readPorts(ctx, o, path, sort.labels);
+    if (!ax || !ports) return undefined;
+    const out: Omit<Magnet, 'id' | 'kind' | 'gap' | 'path'> = { axis: ax, ports };
+    if (field !== undefined) out.field = field;
+    if (gradient !== undefined) out.gradient = gradient;
+    if (length !== undefined) out.length = length;
+    if (aperture) out.aperture = aperture;
+    if (sort.group) out.group = sort.group;
+    if (sort.entry) out.entry = sort.entry;
+    return out;
+  },
+  defaults: () => ({ axis: { roll: '0 deg' } }),
+};
+
+/**
+ * The `ports` object: every key a port label of the species (for this group) or "*", every value a
+ * target; every label routed by name or by "*".
+ */
+function readPorts(ctx: ReadCtx, o: Obj, path: string, labels: string[] | undefined): Record<string, string> | undefined {
+  const p = at(path, 'ports');
+  const v = o.ports;
+  if (v === undefined) return problem(ctx, p, `missing "ports": a magnet routes each port${labels ? ` (${labels.join(', ')})` : ''} to an element id or "stop"`);
+  if (!isObj(v)) return problem(ctx, p, `expected an object {port label: target}, got ${describe(v)}`);
+  const ports: Record<string, string> = {};
+  let ok = true;
+  for (const [label, t] of Object.entries(v)) {
+    const lp = at(p, label);
+    if (labels && label !== '*' && !labels.includes(label)) {
+      problem(ctx, lp, `no port ${JSON.stringify(label)} for this species and group; its ports are ${labels.join(', ')}`);
+      ok = false;
+    }
+    if (typeof t !== 'string' || t === '') {
+      problem(ctx, lp, `a target is an element id or "stop", got ${describe(t)}`);
+      ok = false;
+    } else ports[label] = t;
+  }
+  if (labels) {
+    if (!('*' in v)) {
+      const missing = labels.filter((l) => !(l in v));
+      if (missing.length) {
+        problem(ctx, p, `unrouted port${missing.length > 1 ? 's' : ''} ${missing.join(', ')}: route every port by name or with "*"`);
+        ok = false;
+      }
+    } else if (labels.every((l) => l in v)) warn(ctx, at(p, '*'), '"*" routes no port: every port is named');
+  }
+  return ok ? ports : undefined;
+}

@@ -1,0 +1,24 @@
+/** rf: an RF flipper, an oscillating field (`amplitude`, `frequency`, along `axis`) in a `static` field vector over `length`. */
+import type { RfFlipper } from '../types.ts';
+import { type Obj, type ReadCtx, axis, quantity, target, vec } from '../read.ts';
+import type { KindModule } from './kind.ts';
+
+export const rf: KindModule<RfFlipper> = {
+  kind: 'rf',
+  keys: ['static', 'amplitude', 'frequency', 'axis', 'length'],
+  output: 'to',
+  hyperfineOnly: [],
+  read(o: Obj, path: string, ctx: ReadCtx) {
+    const st = vec(ctx, o, 'static', 'field', path);
+    const amplitude = quantity(ctx, o, 'amplitude', 'field', path, { nonNegative: true, what: 'the amplitude' });
+    const frequency = quantity(ctx, o, 'frequency', 'frequency', path, { nonNegative: true, what: 'the frequency' });
+    const ax = axis(ctx, o, 'axis', path);
+    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, what: 'the length' });
+    const to = target(ctx, o, 'to', path, 'an RF flipper');
+    return st && amplitude !== undefined && frequency !== undefined && ax && length !== undefined && to
+      ? { static: st, amplitude, frequency, axis: ax, length, to }
+      : undefined;
+  },
+  // 1 mT static field: the free-electron Larmor frequency g μB B / h ≈ 28.0 MHz (CODATA 2018 μB/h, g ≈ 2.0023).
+  defaults: () => ({ static: { x: '0 T', y: '0 T', z: '1 mT' }, amplitude: '10 uT', frequency: '28 MHz', axis: { roll: '90 deg' }, length: '2 cm' }),
+};

@@ -1,0 +1,162 @@
+/**
+ * The oven: initial spin state, flux, velocity distribution, aperture, and its one output `to`.
+ * - state: unpolarized (ρ = 1/d) | pure {axis, m} (|j m⟩ or |F m_F⟩ along n̂) | populations {axis, p}
+ *   (zero-field states along n̂; missing labels 0; normalised by their sum, with a warning when it is not 1).
+ * - flux: a rate "2e9 /s", or {kind: "vapor", temperature} (the engine estimates it from the reservoir).
+ * - velocity (required): fixed {speed} | effusive {temperature} | supersonic {speed, ratio} |
+ *   table {points: [[speed, weight], …]}: speeds strictly increasing and positive, weights ≥ 0 with a
+ *   positive sum, normalised to sum 1.
+ */
+import { stateLabels } from './labels.ts';
+import { type Obj, type ReadCtx, at, axis, bounded, checkKeys, choice, describe, isObj, object, problem, quantity, rect, target, warn } from './read.ts';
+import type { Flux, Oven, OvenState, Velocity } from './types.ts';
+import { isProblem, parseQuantity } from './units.ts';
+
+export const OVEN_KEYS = ['state', 'flux', 'velocity', 'aperture', 'to'] as const;
+export const VELOCITY_KINDS = ['fixed', 'effusive', 'supersonic', 'table'] as const;
+export const STATE_KINDS = ['unpolarized', 'pure', 'populations'] as const;
+
+function readState(ctx: ReadCtx, o: Obj, path: string): OvenState | undefined {
+  const s = object(ctx, o, 'state', path, true);
+  if (!s) return undefined;
+  const p = at(path, 'state');
+  const kind = s.kind === undefined ? problem(ctx, at(p, 'kind'), `missing "kind": one of ${STATE_KINDS.join(', ')}`) : choice(ctx, s, 'kind', p, STATE_KINDS);
+  if (!kind) return undefined;
+  const labels = ctx.species ? stateLabels(ctx.species) : undefined;
+  if (kind === 'unpolarized') {
+    checkKeys(ctx, s, p, ['kind'], 'an unpolarized state');
+    return { kind };
+  }
+  if (kind === 'pure') {
+    checkKeys(ctx, s, p, ['kind', 'axis', 'm'], 'a pure state');
+    const ax = axis(ctx, s, 'axis', p);
+    const m = s.m;
+    if (m === undefined) return problem(ctx, at(p, 'm'), `missing "m"${labels ? `: one of ${labels.join(', ')}` : ''}`);
+    if (typeof m !== 'string') return problem(ctx, at(p, 'm'), `expected a state label such as ${labels ? JSON.stringify(labels[0]) : '"+1/2"'}, got ${describe(m)}`);
+    if (labels && !labels.includes(m)) return problem(ctx, at(p, 'm'), `no state ${JSON.stringify(m)} for this species; its states are ${labels.join(', ')}`);
+    return ax ? { kind, axis: ax, m } : undefined;
+  }
+  checkKeys(ctx, s, p, ['kind', 'axis', 'p'], 'a populations state');
+  const ax = axis(ctx, s, 'axis', p);
+  const pv = object(ctx, s, 'p', p, true);
+  if (!pv) return undefined;
+  const pp = at(p, 'p');
+  const pops: Record<string, number> = {};
+  let ok = true;
+  for (const [l, v] of Object.entries(pv)) {
+    if (labels && !labels.includes(l)) {
+      problem(ctx, at(pp, l), `no state ${JSON.stringify(l)} for this species; its states are ${labels.join(', ')}`);
+      ok = false;
+      continue;
+    }
+    const r = parseQuantity(v, 'dimensionless', at(pp, l));
+    if (isProblem(r)) {
+      ctx.problems.push(r);
+      ok = false;
+    } else if (bounded(ctx, r, at(pp, l), 'a population', { nonNegative: true }, v) === undefined) ok = false;
+    else pops[l] = r;
+  }
+  if (!ok || !ax) return undefined;
+  const sum = Object.values(pops).reduce((a, b) => a + b, 0);
+  if (!(sum > 0)) return problem(ctx, pp, 'the populations sum to 0: give at least one positive population');
+  if (Math.abs(sum - 1) > 1e-9) warn(ctx, pp, `the populations sum to ${sum}; normalised to 1`);
+  for (const l of Object.keys(pops)) pops[l] /= sum;
+  return { kind, axis: ax, p: pops };
+}
+
+function readFlux(ctx: ReadCtx, o: Obj, path: string): Flux | undefined {
+  const p = at(path, 'flux');
+  const v = o.flux;
+  if (v === undefined) return problem(ctx, p, 'missing "flux": a rate such as "2e9 /s", or {"kind": "vapor", "temperature": "460 K"}');
+  if (isObj(v)) {
+    checkKeys(ctx, v, p, ['kind', 'temperature'], 'a vapor flux estimate');
+    if (v.kind !== 'vapor') return problem(ctx, at(p, 'kind'), `a flux object is {"kind": "vapor", "temperature": …}, got kind ${describe(v.kind)}`);
+    const t = quantity(ctx, v, 'temperature', 'temperature', p, { positive: true, what: 'the temperature' });
+    return t === undefined ? undefined : { kind: 'vapor', temperature: t };
+  }
+  const f = quantity(ctx, o, 'flux', 'rate', path, { nonNegative: true, what: 'the flux' });
+  return f === undefined ? undefined : { kind: 'given', value: f };
+}
+
+function readVelocity(ctx: ReadCtx, o: Obj, path: string): Velocity | undefined {
+  const p = at(path, 'velocity');
+  if (o.velocity === undefined) {
+    return problem(ctx, p, `missing "velocity": one of {"kind": "fixed", "speed": "600 m/s"}, {"kind": "effusive", "temperature": "400 K"}, {"kind": "supersonic", "speed", "ratio"}, {"kind": "table", "points"}`);
+  }
+  const v = object(ctx, o, 'velocity', path, true);
+  if (!v) return undefined;
+  const kind = v.kind === undefined ? problem(ctx, at(p, 'kind'), `missing "kind": one of ${VELOCITY_KINDS.join(', ')}`) : choice(ctx, v, 'kind', p, VELOCITY_KINDS);
+  if (!kind) return undefined;
+  switch (kind) {
+    case 'fixed': {
+      checkKeys(ctx, v, p, ['kind', 'speed'], 'a fixed velocity');
+      const speed = quantity(ctx, v, 'speed', 'speed', p, { positive: true, what: 'the speed' });
+      return speed === undefined ? undefined : { kind, speed };
+    }
+    case 'effusive': {
+      checkKeys(ctx, v, p, ['kind', 'temperature'], 'an effusive velocity distribution');
+      const temperature = quantity(ctx, v, 'temperature', 'temperature', p, { positive: true, what: 'the temperature' });
+      return temperature === undefined ? undefined : { kind, temperature };
+    }
+    case 'supersonic': {
+      checkKeys(ctx, v, p, ['kind', 'speed', 'ratio'], 'a supersonic velocity distribution');
+      const speed = quantity(ctx, v, 'speed', 'speed', p, { positive: true, what: 'the speed' });
+      const ratio = quantity(ctx, v, 'ratio', 'dimensionless', p, { positive: true, what: 'the speed ratio' });
+      return speed === undefined || ratio === undefined ? undefined : { kind, speed, ratio };
+    }
+    case 'table':
+      checkKeys(ctx, v, p, ['kind', 'points'], 'a velocity table');
+      return readTable(ctx, v, p);
+  }
+}
+
+function readTable(ctx: ReadCtx, v: Obj, p: string): Velocity | undefined {
+  const pp = at(p, 'points');
+  const pts = v.points;
+  if (pts === undefined) return problem(ctx, pp, 'missing "points": [[speed, weight], …]');
+  if (!Array.isArray(pts)) return problem(ctx, pp, `expected a list of [speed, weight] pairs, got ${describe(pts)}`);
+  if (pts.length === 0) return problem(ctx, pp, 'the velocity table is empty: give at least one [speed, weight] pair');
+  const out: [number, number][] = [];
+  let ok = true;
+  pts.forEach((pt, i) => {
+    const ip = at(pp, i);
+    if (!Array.isArray(pt) || pt.length !== 2) {
+      ok = false;
+      problem(ctx, ip, `expected a [speed, weight] pair, got ${describe(pt)}`);
+      return;
+    }
+    const s = parseQuantity(pt[0], 'speed', at(ip, 0));
+    const w = parseQuantity(pt[1], 'dimensionless', at(ip, 1));
+    if (isProblem(s)) ctx.problems.push(s);
+    else if (bounded(ctx, s, at(ip, 0), 'a speed', { positive: true }, pt[0]) === undefined) ok = false;
+    if (isProblem(w)) ctx.problems.push(w);
+    else if (bounded(ctx, w, at(ip, 1), 'a weight', { nonNegative: true }, pt[1]) === undefined) ok = false;
+    if (isProblem(s) || isProblem(w)) ok = false;
+    else out.push([s, w]);
+  });
+  if (!ok) return undefined;
+  for (let i = 1; i < out.length; i++) {
+    if (!(out[i][0] > out[i - 1][0])) {
+      return problem(ctx, at(pp, i), `the table is not sorted by speed: ${out[i][0]} m/s follows ${out[i - 1][0]} m/s (speeds must increase strictly)`);
+    }
+  }
+  const sum = out.reduce((a, [, w]) => a + w, 0);
+  if (!(sum > 0)) return problem(ctx, pp, 'the weights of the velocity table sum to 0');
+  return { kind: 'table', points: out.map(([s, w]) => [s, w / sum] as const) };
+}
+
+export function readOven(ctx: ReadCtx, v: unknown): Oven | undefined {
+  const path = 'oven';
+  if (v === undefined) return problem(ctx, path, 'missing "oven": the source (state, flux, velocity, to)');
+  if (!isObj(v)) return problem(ctx, path, `expected an object, got ${describe(v)}`);
+  checkKeys(ctx, v, path, OVEN_KEYS, 'the oven');
+  const state = readState(ctx, v, path);
+  const flux = readFlux(ctx, v, path);
+  const velocity = readVelocity(ctx, v, path);
+  const aperture = rect(ctx, v, 'aperture', path);
+  const to = target(ctx, v, 'to', path, 'the oven');
+  if (!state || !flux || !velocity || !to) return undefined;
+  const oven: Oven = { state, flux, velocity, to, path: 'oven' };
+  if (aperture) oven.aperture = aperture;
+  return oven;
+}

@@ -1,0 +1,27 @@
+// The Content-Security-Policy of the renderer, one string for the Electron shell (response header of the
+// app protocol) and the web build (a <meta http-equiv> in dist-web/index.html and the serve header).
+// style-src allows inline styles because plotly.js sets them; nothing allows eval. The renderer's
+// index.html carries CONTENT_SECURITY_POLICY_META verbatim (test/host/csp.test.ts checks it).
+// frame-ancestors is ignored in a <meta> policy: serve it as a header where it matters.
+
+export const CSP_DIRECTIVES: ReadonlyArray<readonly [string, string]> = [
+  ['default-src', "'self'"],
+  ['script-src', "'self'"],
+  ['style-src', "'self' 'unsafe-inline'"],
+  ['img-src', "'self' data: blob:"],
+  ['font-src', "'self' data:"],
+  ['worker-src', "'self' blob:"],
+  ['connect-src', "'self'"],
+  ['object-src', "'none'"],
+  ['base-uri', "'none'"],
+  ['form-action', "'none'"],
+  ['frame-ancestors', "'none'"],
+];
+
+export const CONTENT_SECURITY_POLICY: string = CSP_DIRECTIVES.map(([k, v]) => `${k} ${v}`).join('; ');
+
+/** The policy for a <meta http-equiv="Content-Security-Policy"> (without frame-ancestors, which a meta
+ *  policy may not carry). */
+export const CONTENT_SECURITY_POLICY_META: string = CSP_DIRECTIVES.filter(([k]) => k !== 'frame-ancestors')
+  .map(([k, v]) => `${k} ${v}`)
+  .join('; ');
