@@ -3,3 +3,4 @@ export { runLine, RunError, CancelledError, type RunOptions } from './run.ts';
 export type * from './result.ts';
 export { levelsListing, formatLevelsTable } from './levels.ts';
 export { runDocumentText, type DocumentRun } from './document.ts';
+export { runScan, withParameter, type ScanSpec } from './scan.ts';

@@ -130,9 +130,18 @@ function axisWarning(path: string, n: Vec3): string | null {
   return `${path}.axis: has a component along the beam (n_y = ${n.y.toFixed(3)}); a gradient magnet analyses along its transverse field, so this is an idealisation. It is realised by a rotator of ${(ang * 180 / Math.PI).toFixed(2)}° about (${f(ku.x)}, ${f(ku.y)}, ${f(ku.z)}) before a magnet along (${f(t.x)}, 0, ${f(t.z)}), and its inverse after`;
 }
 
+/** Sortings depend only on the isotope and the magnet's axis, field, group and entry: cached across runs. */
+const sortCache = new Map<string, Sorting>();
+
 function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
-  const key = `${ctx.sys.name}|${e.id}`;
-  let s = ctx.sorts.get(key);
+  const key = `${ctx.sys.name}|${e.path}|${e.axis.x},${e.axis.y},${e.axis.z}|${e.field}|${e.group}|${e.entry}`;
+  let s = ctx.sorts.get(key) ?? sortCache.get(key);
+  if (s && !ctx.sorts.has(key)) {
+    for (const w of s.warnings) ctx.warnings.add(w);
+    const aw = axisWarning(e.path, e.axis);
+    if (aw) ctx.warnings.add(aw);
+    ctx.sorts.set(key, s);
+  }
   if (!s) {
     try {
       s = sortStates(ctx.sys, { axis: e.axis, field: e.field, group: e.group, entry: e.entry, path: e.path });
@@ -144,6 +153,8 @@ function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
     const aw = axisWarning(e.path, e.axis);
     if (aw) ctx.warnings.add(aw);
     ctx.sorts.set(key, s);
+    if (sortCache.size > 512) sortCache.clear();
+    sortCache.set(key, s);
   }
   return s;
 }
@@ -159,9 +170,37 @@ function selectStates(walk: Walk, st: SpecState, comps: readonly Component[], le
     else walk.sampledOps.push({ kind: 'dephase', ps: comps.map(rank1) });
     return st;
   }
-  if (leafNext) return specKraus(st, projectorOf(st.W.rows, comps));
+  if (leafNext) return specKraus(st, portProjector(comps));
   return specProjectDiag(st, comps.map((c) => c.vector));
 }
+
+const projectors = new WeakMap<readonly Component[], CMat>();
+
+/** Σ_k |k⟩⟨k| over a port's states, cached with the (cached) sorting they come from. */
+function portProjector(comps: readonly Component[]): CMat {
+  let p = projectors.get(comps);
+  if (!p) {
+    p = projectorOf(comps[0].vector.rows, comps);
+    projectors.set(comps, p);
+  }
+  return p;
+}
+
+/** The states of one port of a sorting, as one stable array (so its projector is cached). */
+function portComponents(sorting: Sorting, port: string): readonly Component[] {
+  let byPort = portCache.get(sorting);
+  if (!byPort) {
+    byPort = new Map();
+    portCache.set(sorting, byPort);
+  }
+  let c = byPort.get(port);
+  if (!c) {
+    c = sorting.components.filter((x) => x.port === port);
+    byPort.set(port, c);
+  }
+  return c;
+}
+const portCache = new WeakMap<Sorting, Map<string, readonly Component[]>>();
 
 function rank1(c: Component): CMat {
   const v = c.vector;
@@ -289,7 +328,7 @@ function visit(ctx: WalkCtx, target: string, st: SpecState, walk: Walk): void {
       }
       // an ideal sorter: the states of one port share one trajectory; Σ_k P_k ρ P_k over the port
       for (const port of sorting.ports) {
-        const comps = sorting.components.filter((c) => c.port === port);
+        const comps = portComponents(sorting, port);
         const to = routeOf(comps[0]);
         const w = fork(walk, { path: [...walk.path, `${e.id}:${port}`], y: exit });
         visit(ctx, to, selectStates(w, s, comps, to === 'stop' || ctx.byId.get(to)?.kind === 'detector'), w);

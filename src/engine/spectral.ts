@@ -79,24 +79,47 @@ export function specExpand(st: SpecState): SpecTerm[] {
   return mergeTerms(out);
 }
 
-/** Merges terms whose phase-lengths agree within 1e-13 of the largest |φ| (and drops empty ones). */
+/**
+ * Merges terms whose phase-lengths agree within 1e-13 of the largest |φ| (and drops empty ones). Positive
+ * and negative φ are grouped as mirror images (each side in order of |φ|, a group taking the mean of its
+ * members), so that the ±φ partners of a Hermitian state stay exact partners.
+ */
 export function mergeTerms(ts: SpecTerm[]): SpecTerm[] {
   if (ts.length <= 1) return ts;
   const scale = ts.reduce((m, t) => Math.max(m, Math.abs(t.phi)), 0);
   const tol = 1e-13 * scale + 1e-300;
-  const sorted = [...ts].sort((a, b) => a.phi - b.phi);
-  const out: { phi: number; X: CMat }[] = [];
-  for (const t of sorted) {
-    const last = out[out.length - 1];
-    if (last && Math.abs(t.phi - last.phi) <= tol) {
-      for (let i = 0; i < t.X.re.length; i++) {
-        last.X.re[i] += t.X.re[i];
-        last.X.im[i] += t.X.im[i];
+  const zero: SpecTerm[] = [], pos: SpecTerm[] = [], neg: SpecTerm[] = [];
+  for (const t of ts) (Math.abs(t.phi) <= tol ? zero : t.phi > 0 ? pos : neg).push(t);
+  const group = (side: SpecTerm[], sign: number): { phi: number; X: CMat }[] => {
+    side.sort((x, y) => Math.abs(x.phi) - Math.abs(y.phi));
+    const out: { phi: number; X: CMat; first: number; sum: number; n: number }[] = [];
+    for (const t of side) {
+      const m = Math.abs(t.phi);
+      const last = out[out.length - 1];
+      if (last && m - last.first <= tol) {
+        for (let i = 0; i < t.X.re.length; i++) {
+          last.X.re[i] += t.X.re[i];
+          last.X.im[i] += t.X.im[i];
+        }
+        last.sum += m;
+        last.n++;
+      } else {
+        out.push({ phi: 0, first: m, sum: m, n: 1, X: { rows: t.X.rows, cols: t.X.cols, re: t.X.re.slice(), im: t.X.im.slice() } });
       }
-    } else {
-      out.push({ phi: t.phi, X: { rows: t.X.rows, cols: t.X.cols, re: t.X.re.slice(), im: t.X.im.slice() } });
+    }
+    return out.map((g) => ({ phi: (sign * g.sum) / g.n, X: g.X }));
+  };
+  const merged = [...group(zero, 0), ...group(pos, 1), ...group(neg, -1)];
+  // the zero group is one group only if all its members are within tol of 0: fold them together
+  const z = merged.filter((t) => t.phi === 0);
+  const rest = merged.filter((t) => t.phi !== 0);
+  if (z.length > 1) {
+    for (let k = 1; k < z.length; k++) for (let i = 0; i < z[0].X.re.length; i++) {
+      z[0].X.re[i] += z[k].X.re[i];
+      z[0].X.im[i] += z[k].X.im[i];
     }
   }
+  const out = [...z.slice(0, 1), ...rest];
   let norm = 0;
   for (const t of out) norm = Math.max(norm, cmatNorm(t.X));
   return out.filter((t) => cmatNorm(t.X) > 1e-17 * norm);
@@ -131,20 +154,27 @@ function snapDegenerate(lambda: ArrayLike<number>): Float64Array {
  */
 export function specPropagate(st: SpecState, h: CMat, v: CMat, lambda: ArrayLike<number>, length: number): SpecState {
   const lab = specExpand(st);
-  const hn = cmatNorm(h);
+  const d = h.rows;
+  const snapped = snapDegenerate(lambda);
+  const vd = cmatDagger(v);
+  const xs = lab.map((t) => cmatMul(cmatMul(vd, t.X), v));
+  // every term block-diagonal on the eigenspaces of H commutes with it: then U ρ U† = ρ exactly
   let commutes = true;
-  for (const t of lab) {
-    if (cmatNorm(cmatCommutator(h, t.X)) > 1e-14 * hn * cmatNorm(t.X)) {
+  for (const x of xs) {
+    let big = 0, off = 0;
+    for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) {
+      const m = Math.abs(x.re[a * d + b]) + Math.abs(x.im[a * d + b]);
+      big = Math.max(big, m);
+      if (snapped[a] !== snapped[b]) off = Math.max(off, m);
+    }
+    if (off > 1e-14 * big) {
       commutes = false;
       break;
     }
   }
-  const d = h.rows;
   if (commutes) return { W: cmatIdentity(d), mu: null, terms: lab };
-  const snapped = snapDegenerate(lambda);
   const mu = snapped.map((l) => l * length);
-  const vd = cmatDagger(v);
-  return { W: v, mu, terms: lab.map((t) => ({ phi: t.phi, X: cmatMul(cmatMul(vd, t.X), v) })) };
+  return { W: v, mu, terms: lab.map((t, i) => ({ phi: t.phi, X: xs[i] })) };
 }
 
 /**
@@ -231,7 +261,7 @@ export interface Averaged {
   readonly A: CMat;
   readonly error: number;
   readonly hermiticity: number;
-  /** False when A has an eigenvalue below −1e-12·Tr A. */
+  /** False when A has an eigenvalue below −(1e-12·Tr A + 1e-15) (fractions of the oven flux). */
   readonly positive: boolean;
 }
 
@@ -250,14 +280,23 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
     chi.nodes += d.kind === 'fixed' ? 1 : d.speeds.length;
   } else {
     for (const t of st.terms) {
-      for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+      // for φ = 0, χ(Ω_ba) = conj χ(Ω_ab): one evaluation serves both entries
+      const sym = t.phi === 0 && st.mu !== null;
+      for (let a = 0; a < r; a++) for (let b = sym ? a : 0; b < r; b++) {
         const i = a * r + b;
         const xr = t.X.re[i], xi = t.X.im[i];
-        if (xr === 0 && xi === 0) continue;
+        const j = b * r + a;
+        const yr = sym ? t.X.re[j] : 0, yi = sym ? t.X.im[j] : 0;
+        if (xr === 0 && xi === 0 && yr === 0 && yi === 0) continue;
         const [cr, ci, ce] = chi.get(t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0));
         A.re[i] += xr * cr - xi * ci;
         A.im[i] += xr * ci + xi * cr;
         error += Math.hypot(xr, xi) * ce;
+        if (sym && a !== b) {
+          A.re[j] += yr * cr + yi * ci;
+          A.im[j] += yi * cr - yr * ci;
+          error += Math.hypot(yr, yi) * ce;
+        }
       }
     }
   }
@@ -266,7 +305,7 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
     tr += A.re[a * r + a];
     for (let b = 0; b < r; b++) herm = Math.max(herm, Math.hypot(A.re[a * r + b] - A.re[b * r + a], A.im[a * r + b] + A.im[b * r + a]));
   }
-  const res = { A, error, hermiticity: herm, positive: isPositive(A, 1e-12 * Math.max(Math.abs(tr), 1e-300)) };
+  const res = { A, error, hermiticity: herm, positive: isPositive(A, 1e-12 * Math.abs(tr) + 1e-15) };
   averages.set(st.terms, res);
   return res;
 }

@@ -24,6 +24,7 @@
  */
 import { integrateAdaptive, compositeRule } from './quadrature.ts';
 import { reduceAngle } from './trig.ts';
+import { chebFit, chebEval, type ChebPanel } from './chebyshev.ts';
 
 export type VelocityDistribution =
   | { readonly kind: 'fixed'; readonly speed: number }
@@ -69,7 +70,7 @@ function gammaHalf(k2: number): number {
 }
 
 /** I_n(W) = ∫₀^∞ 2u^{3−n} e^{−u²} e^{−iW/u} du for W ≥ 0, on the rotated ray. */
-function effusiveIntegral(n: number, w: number): CharValue {
+export function effusiveIntegral(n: number, w: number): CharValue {
   if (w === 0) {
     if (n >= 4) return { re: Infinity, im: 0, error: 0, nodes: 0 };
     return { re: gammaHalf(4 - n), im: 0, error: 0, nodes: 0 };
@@ -91,6 +92,47 @@ function effusiveIntegral(n: number, w: number): CharValue {
   const rMax = Math.sqrt(rPeak * rPeak + 2 * 80);
   const res = integrateAdaptive(f, 0, rMax, 1e-16, 1e-14, 4000);
   return { re: res.re, im: res.im, error: res.error + 1e-16, nodes: res.evaluations };
+}
+
+/**
+ * I₀(W) through lazily built Chebyshev panels (chebyshev.ts): width 1/2 on [1, 420], halving widths
+ * towards 0 down to 2⁻¹⁴, degree 15; a panel whose fit is not good to 1e-14 is not used and the
+ * integral is evaluated directly there and below 2⁻¹⁴; above W = 420, |I₀| < 1e-20 and is taken as 0
+ * with that bound as its error.
+ * I₀ does not depend on the beam's temperature or mass (W = Φ/a), so one table serves every line.
+ */
+const CHEB_N = 16;
+const W_TOP = 420;
+const panelsUniform: (ChebPanel | null | undefined)[] = [];
+const panelsSmall: (ChebPanel | null | undefined)[] = [];
+
+function panelFor(w: number): ChebPanel | null {
+  const fit = (a: number, b: number) => {
+    const p = chebFit((x) => effusiveIntegral(0, x), a, b, CHEB_N);
+    return p.error < 1e-14 ? p : null;
+  };
+  if (w >= 1) {
+    const i = Math.floor((w - 1) * 2);
+    let p = panelsUniform[i];
+    if (p === undefined) panelsUniform[i] = p = fit(1 + i / 2, 1 + (i + 1) / 2);
+    return p;
+  }
+  const j = Math.floor(-Math.log2(w)); // w in [2^-(j+1), 2^-j)
+  if (j >= 14) return null;
+  let p = panelsSmall[j];
+  if (p === undefined) panelsSmall[j] = p = fit(2 ** -(j + 1), 2 ** -j);
+  return p;
+}
+
+function effusiveChi0(w: number): CharValue {
+  if (w === 0) return effusiveIntegral(0, w);
+  // |I₀(W)| ≈ C·exp(−1.5 (W/2)^{2/3}) (saddle point at u³ = iW/2), C < 10³ checked against the
+  // contour integral: below 1e-20 from W = 420 on
+  if (w >= W_TOP) return { re: 0, im: 0, error: 1e3 * Math.exp(-1.5 * Math.cbrt((w / 2) ** 2)), nodes: 0 };
+  const p = panelFor(w);
+  if (!p) return effusiveIntegral(0, w);
+  const [re, im] = chebEval(p, w);
+  return { re, im, error: p.error, nodes: 0 };
 }
 
 let supersonicNorm = new Map<string, number>();
@@ -130,7 +172,7 @@ export function charFunction(d: VelocityDistribution, phi: number, n: number = 0
       return { re, im, error: 0, nodes: d.speeds.length };
     }
     case 'effusive': {
-      const r = effusiveIntegral(n, Math.abs(phi) / d.a);
+      const r = n === 0 ? effusiveChi0(Math.abs(phi) / d.a) : effusiveIntegral(n, Math.abs(phi) / d.a);
       const sc = Math.pow(d.a, -n);
       return { re: r.re * sc, im: (phi < 0 ? -r.im : r.im) * sc, error: r.error * sc, nodes: r.nodes };
     }

@@ -1,0 +1,179 @@
+/**
+ * `npm run bench`            samples and the synthetic trees: evaluations per second, time per leaf
+ * `npm run bench -- w1 [--json OUT] [--no-peers]`
+ *                            workload W1 of ../shared/peers (Cs-133, 1000-point field sweep × 256 speeds)
+ * `npm run bench -- ui`      the browser: time from an edit to the updated table and chart, per sample
+ * Figures go into docs/bench.md by hand, with the machine they were taken on.
+ */
+import { readFileSync, readdirSync, writeFileSync, existsSync } from 'node:fs';
+import { join, dirname, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { spawnSync } from 'node:child_process';
+import { cpus } from 'node:os';
+import { parseBeamlineText, validateBeamline } from '../src/beamline/index.ts';
+import type { Beamline } from '../src/beamline/types.ts';
+import { runLine, runScan, withParameter } from '../src/engine/index.ts';
+
+const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
+const peersDir = resolve(root, '..', 'shared', 'peers');
+
+function timeIt(fn: () => void, minMs = 300): { perCall: number; calls: number } {
+  fn();
+  let calls = 0;
+  const t0 = performance.now();
+  let t = t0;
+  while (t - t0 < minMs) {
+    fn();
+    calls++;
+    t = performance.now();
+  }
+  return { perCall: (t - t0) / calls, calls };
+}
+
+function fmtMs(ms: number): string {
+  return ms < 1 ? `${(ms * 1000).toFixed(1)} µs` : `${ms.toFixed(2)} ms`;
+}
+
+function table(rows: string[][]): string {
+  const w = rows[0].map((_, c) => Math.max(...rows.map((r) => r[c].length)));
+  return rows.map((r) => r.map((x, c) => (c === 0 ? x.padEnd(w[c]) : x.padStart(w[c]))).join('  ')).join('\n');
+}
+
+/** A tree of distinct magnets: every port of every magnet goes to a new magnet, `depth` levels, then to detectors. */
+function syntheticTree(spin: string, j2: number, depth: number): Beamline {
+  const labels = Array.from({ length: j2 + 1 }, (_, k) => {
+    const m2 = j2 - 2 * k;
+    return m2 === 0 ? '0' : `${m2 > 0 ? '+' : '-'}${Math.abs(m2) % 2 === 0 ? Math.abs(m2) / 2 : `${Math.abs(m2)}/2`}`;
+  });
+  const elements: Record<string, unknown>[] = [];
+  let n = 0;
+  const make = (level: number): string => {
+    const id = `M${++n}`;
+    const el: Record<string, unknown> = { id, kind: 'magnet', gap: '2 cm', axis: { roll: `${(17 * n) % 180} deg` }, ports: {} };
+    elements.push(el);
+    for (const l of labels) (el.ports as Record<string, string>)[l] = level + 1 < depth ? make(level + 1) : `D${labels.indexOf(l) + 1}`;
+    return id;
+  };
+  const first = make(0);
+  labels.forEach((_, i) => elements.push({ id: `D${i + 1}`, kind: 'detector', gap: '10 cm', efficiency: 0.5, background: '5 /s', dwell: '10 s' }));
+  const r = validateBeamline({
+    format: 'spinyard.beamline', version: 1, title: `synthetic spin-${spin} tree, depth ${depth}`,
+    species: { spin, g: 2, mass: '100 u' },
+    oven: { state: { kind: 'unpolarized' }, flux: '1e9 /s', velocity: { kind: 'fixed', speed: '500 m/s' }, to: first },
+    elements,
+  });
+  if (!r.ok) throw new Error(r.problems.map((p) => `${p.path}: ${p.message}`).join('\n'));
+  return r.line;
+}
+
+function benchLines(): string {
+  const rows = [['line', 'leaves', 'per evaluation', 'evaluations/s', 'per leaf']];
+  const dir = join(root, 'samples');
+  const files = existsSync(dir) ? readdirSync(dir).filter((f) => f.endsWith('.spinyard')).sort() : [];
+  for (const f of files) {
+    const p = parseBeamlineText(readFileSync(join(dir, f), 'utf8'));
+    if (!p.ok) {
+      rows.push([f, 'invalid', '', '', '']);
+      continue;
+    }
+    const leaves = runLine(p.line).leaves.length;
+    const t = timeIt(() => runLine(p.line));
+    rows.push([f, String(leaves), fmtMs(t.perCall), (1000 / t.perCall).toFixed(0), fmtMs(t.perCall / leaves)]);
+  }
+  for (const [spin, j2, depth] of [['3/2', 3, 6], ['7/2', 7, 3]] as const) {
+    const line = syntheticTree(spin, j2, depth);
+    const leaves = runLine(line).leaves.length;
+    const t = timeIt(() => runLine(line), 1000);
+    rows.push([`synthetic spin-${spin}, depth ${depth}`, String(leaves), fmtMs(t.perCall), (1000 / t.perCall).toFixed(1), fmtMs(t.perCall / leaves)]);
+  }
+  return table(rows);
+}
+
+interface W1Run {
+  seconds: number;
+  result: [number, number][];
+  maxdiff: number;
+}
+
+function w1(jsonOut: string | null, peers: boolean): string {
+  const out: string[] = [];
+  const text = readFileSync(join(peersDir, 'w1.spinyard'), 'utf8');
+  const expected = JSON.parse(readFileSync(join(peersDir, 'w1-expected.json'), 'utf8')) as { b_T: number[]; result: [number, number][] };
+  const p = parseBeamlineText(text);
+  if (!p.ok) throw new Error(p.problems.map((x) => `${x.path}: ${x.message}`).join('\n'));
+  const f1 = p.line.elements.find((e) => e.id === 'F1');
+  if (!f1 || f1.kind !== 'field') throw new Error('w1: no field region F1');
+  const values = expected.b_T.map((b) => ({ x: b, y: f1.field.y, z: f1.field.z }));
+  const scan = (line: Beamline): W1Run => {
+    const t0 = performance.now();
+    const rs = runScan(line, { element: 'F1', key: 'field', values });
+    const seconds = (performance.now() - t0) / 1000;
+    const result = rs.map((r) => [r.detectors.find((d) => d.id === 'D1')!.yield, r.detectors.find((d) => d.id === 'D2')!.yield] as [number, number]);
+    let maxdiff = 0;
+    result.forEach((row, i) => { maxdiff = Math.max(maxdiff, Math.abs(row[0] - expected.result[i][0]), Math.abs(row[1] - expected.result[i][1])); });
+    return { seconds, result, maxdiff };
+  };
+  const best = (line: Beamline): W1Run => {
+    scan(line); // untimed warm-up
+    let b: W1Run | null = null;
+    for (let i = 0; i < 3; i++) {
+      const r = scan(line);
+      if (!b || r.seconds < b.seconds) b = r;
+    }
+    return b!;
+  };
+  const table256 = best(p.line);
+  out.push(`W1 on the 256 tabulated speeds: best of 3 = ${table256.seconds.toFixed(3)} s for 1000 points (${table256.seconds.toFixed(3)} ms per point), max |Δ| vs w1-expected.json = ${table256.maxdiff.toExponential(2)} (check 1e-6: ${table256.maxdiff <= 1e-6 ? 'pass' : 'FAIL'})`);
+  const effLine: Beamline = { ...p.line, oven: { ...p.line.oven, velocity: { kind: 'effusive', temperature: 400 } } };
+  const eff = best(effLine);
+  let effVsGrid = 0;
+  eff.result.forEach((row, i) => { effVsGrid = Math.max(effVsGrid, Math.abs(row[0] - table256.result[i][0])); });
+  out.push(`W1 over the effusive distribution itself (400 K, each frequency on its own): best of 3 = ${eff.seconds.toFixed(3)} s; it differs from the 256-node grid by up to ${effVsGrid.toExponential(2)} (the grid is not a converged average: ../shared/peers/README.md)`);
+  const one = runLine(withParameter(effLine, 'F1', 'field', values[999]));
+  out.push(`  quadrature at 20 µT: ${one.quadrature?.nodes} nodes, estimated error ${one.quadrature?.error.toExponential(1)} (${one.quadrature?.method})`);
+  if (peers) {
+    for (const [script, args] of [['peer_numpy.py', []], ['peer_qutip.py', ['--points', '50']]] as const) {
+      const r = spawnSync('/usr/bin/python3', [join(peersDir, script), ...args], { encoding: 'utf8', env: { ...process.env, OPENBLAS_NUM_THREADS: '1' }, timeout: 600_000 });
+      const last = (r.stdout ?? '').trim().split('\n').pop() ?? '';
+      const m = /points=(\d+) seconds=([0-9.eE+-]+)/.exec(last);
+      if (!m) {
+        out.push(`peer ${script}: no result (${(r.stderr ?? '').trim().split('\n').pop() ?? r.status})`);
+        continue;
+      }
+      const pts = Number(m[1]), sec = Number(m[2]);
+      const perPoint = sec / pts, ours = table256.seconds / 1000;
+      out.push(`peer ${last}`);
+      out.push(`  ratio per point: peer / spinyard = ${(perPoint / ours).toFixed(1)}×`);
+    }
+  }
+  if (jsonOut) {
+    writeFileSync(jsonOut, JSON.stringify({
+      workload: 'W1', implementation: 'spinyard', points: 1000, rows: 1000, b_T: expected.b_T, columns: ['D1', 'D2'],
+      result: table256.result, seconds: table256.seconds,
+    }, null, 1));
+    out.push(`wrote ${jsonOut}`);
+  }
+  out.push(`W1 spinyard points=1000 seconds=${table256.seconds.toFixed(4)} maxdiff_vs_expected=${table256.maxdiff.toExponential(3)}`);
+  return out.join('\n');
+}
+
+async function main(): Promise<void> {
+  const args = process.argv.slice(2);
+  console.log(`machine: ${cpus()[0]?.model ?? 'unknown'} × ${cpus().length}, node ${process.version}`);
+  if (args[0] === 'w1') {
+    const j = args.indexOf('--json');
+    console.log(w1(j >= 0 ? args[j + 1] : null, !args.includes('--no-peers')));
+    return;
+  }
+  if (args[0] === 'ui') {
+    const { benchUi } = await import('./ui.ts');
+    console.log(await benchUi());
+    return;
+  }
+  console.log(benchLines());
+}
+
+main().catch((err) => {
+  console.error(err instanceof Error ? err.message : String(err));
+  process.exit(1);
+});

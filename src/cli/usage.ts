@@ -1,0 +1,55 @@
+/** Help texts of the command line. */
+
+export const USAGE = `spinyard: plan an atomic-beam Stern–Gerlach line from a beamline file (.spinyard)
+
+Usage:
+  spinyard run FILE [--json]          yields, rates, detector plane and counts of every leaf
+  spinyard validate FILE              check a beamline file; list every problem as "path: message"
+  spinyard levels NAME --field B [--json]
+                                      energies (Hz) and moments (μB) of a library species at field B
+  spinyard species [NAME]             the species library, or one species with sources and cautions
+  spinyard help [COMMAND]             this text, or the help of one command
+  spinyard --version                  the version
+
+Every command also takes --help. Exit codes: 0 success, 2 invalid input (messages on stderr,
+nothing on stdout), 1 internal error. No command writes or changes any file.
+`;
+
+export const COMMAND_HELP: Readonly<Record<string, string>> = {
+  run: `Usage: spinyard run FILE [--json]
+
+Runs the beamline in FILE and prints
+  the leaves: path (ELEMENT:PORT of every magnet passed), target, yield (fraction of the oven flux),
+    rate (/s: flux × yield × efficiency × captured), and where the line has geometry the mean
+    displacement x, z and rms spread at the detector plane (mm) and the fraction captured by the window;
+  the detectors: yield, rate with the background counted once, counts ± σ for the dwell,
+    signal-to-background and the time to reach 1 % on the signal;
+  then crosstalk and neighbouring sub-beams on the detector plane, the lost fraction, the warnings
+  and the velocity quadrature used.
+
+  --json   print the result (format spinyard.result, version 1) as JSON and nothing else
+`,
+  validate: `Usage: spinyard validate FILE
+
+Checks FILE against the beamline format (spinyard.beamline, version 1) without running it. Prints
+"FILE: valid" and any warnings (exit 0), or every problem as "path: message" on stderr (exit 2).
+`,
+  levels: `Usage: spinyard levels NAME --field B [--json]
+
+Lists the eigenstates of the species NAME (a library name such as Rb-87, Cs-133 or the mixture Ag)
+at the field size B along z: energy E/h of H as written (traceless), μ_eff = −∂E/∂B in μB, and the
+low-field (F, m_F) and high-field (m_J, m_I) labels.
+
+  --field B   field size with a unit, e.g. "0.5 T", "120 G", "3 mT"
+  --json      print the levels listing as JSON (species, field in T, levels)
+`,
+  species: `Usage: spinyard species [NAME]
+
+Without NAME: a table of the species library. With NAME: every number of that species (I, J, g_J,
+g_I, A, B, mass, abundance, vapour pressure) with its source, then its cautions and the line cautions.
+`,
+  help: `Usage: spinyard help [COMMAND]
+
+Prints the overview, or the help of COMMAND (run, validate, levels, species).
+`,
+};

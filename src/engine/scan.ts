@@ -1,0 +1,41 @@
+/**
+ * Scans: the line run for each value of one parameter (a key of one element of the normalized line,
+ * SI units), e.g. the x component of a field region's field. Every run is a full engine run; what does
+ * not change between points (magnet sortings, species data) is cached by the engine.
+ */
+import type { Beamline, Element } from '../beamline/types.ts';
+import { runLine, RunError, type RunOptions } from './run.ts';
+import type { RunResult } from './result.ts';
+
+export interface ScanSpec {
+  /** Element id. */
+  readonly element: string;
+  /** Dotted key inside the normalized element, e.g. "field.x", "axis" (for an axis pass a vector), "gap". */
+  readonly key: string;
+  readonly values: readonly unknown[];
+}
+
+/** The line with one key of one element replaced (the line itself is not changed). */
+export function withParameter(line: Beamline, element: string, key: string, value: unknown): Beamline {
+  const idx = line.elements.findIndex((e) => e.id === element);
+  if (idx < 0) throw new RunError(`scan: no element "${element}"`);
+  const parts = key.split('.');
+  const set = (obj: unknown, i: number): unknown => {
+    if (i === parts.length) return value;
+    if (obj === null || typeof obj !== 'object' || !(parts[i] in obj)) throw new RunError(`scan: ${element} has no key "${parts.slice(0, i + 1).join('.')}"`);
+    return { ...(obj as Record<string, unknown>), [parts[i]]: set((obj as Record<string, unknown>)[parts[i]], i + 1) };
+  };
+  const elements = line.elements.slice();
+  elements[idx] = set(line.elements[idx], 0) as Element;
+  return { ...line, elements };
+}
+
+export function runScan(line: Beamline, spec: ScanSpec, opts: RunOptions = {}): RunResult[] {
+  const out: RunResult[] = [];
+  spec.values.forEach((v, i) => {
+    if (opts.isCancelled?.()) throw new RunError('scan: cancelled');
+    out.push(runLine(withParameter(line, spec.element, spec.key, v), { ...opts, onProgress: undefined }));
+    opts.onProgress?.((i + 1) / spec.values.length);
+  });
+  return out;
+}
