@@ -46,6 +46,10 @@ export interface FinePath {
   traceAt(speeds: ArrayLike<number>, phiMax: number): Float64Array;
   readonly detector: Detector | null;
   phaseWeights?(): { phi: number; weight: number }[];
+  /** ⟨Tr ρ(s) s²⟩ over the full distribution, each frequency on its own (not weighted by the isotope fraction). */
+  moment2?(): number;
+  /** Speed-by-speed leaves (after a twist): their own grid, normalised weights and Tr ρ at each speed. */
+  readonly grid?: { readonly speeds: Float64Array; readonly weights: Float64Array; readonly traces: Float64Array };
 }
 
 interface FineGeo {
@@ -86,14 +90,14 @@ function hasGeometry(f: FinePath): boolean {
 }
 
 function fineGeometry(f: FinePath): FineGeo {
-  const g = speedGrid(f.dist, 12, 8);
+  const g = f.grid ?? speedGrid(f.dist, 12, 8);
   let phiMax = Infinity;
-  if (f.dist.kind === 'effusive' || f.dist.kind === 'supersonic') {
+  if (!f.grid && (f.dist.kind === 'effusive' || f.dist.kind === 'supersonic')) {
     let ds = 0;
     for (let k = 1; k < g.speeds.length; k++) ds = Math.max(ds, Math.abs(1 / g.speeds[k - 1] - 1 / g.speeds[k]));
     phiMax = 0.5 / ds;
   }
-  const tr = f.traceAt(g.speeds, phiMax);
+  const tr = f.grid ? f.grid.traces : f.traceAt(g.speeds, phiMax);
   let total = 0;
   const w = new Float64Array(g.speeds.length);
   for (let k = 0; k < w.length; k++) {
@@ -135,9 +139,24 @@ function fineGeometry(f: FinePath): FineGeo {
   }
   const yieldGeo = f.yieldSpin * tSum;
   const safe = tSum > 0 ? tSum : 1;
+  let mean = { x: mx / safe, z: mz / safe };
+  if (f.track.strips.length === 0 && f.track.kicks.length > 0 && f.moment2 && f.fraction > 0 && f.yieldSpin > 0) {
+    // nothing clips: the mean deflection is Σ_k a_k L_k (L_k/2 + D_k)·⟨y s²⟩/⟨y⟩, exact over the whole
+    // distribution (the grid leaves out the slowest atoms, which carry ~0.25 % of an effusive ⟨1/v²⟩)
+    const m2 = f.moment2() / (f.yieldSpin / f.fraction);
+    const geo0 = nodes.length > 0 ? { x: nodes[0].rx.mean, z: nodes[0].rz.mean } : { x: 0, z: 0 };
+    let dx = 0, dz = 0;
+    for (const k of f.track.kicks) {
+      if (f.plane < k.exitY - 1e-12) continue;
+      const c = k.accel * k.length * (k.length / 2 + (f.plane - k.exitY));
+      dx += c * k.n.x;
+      dz += c * k.n.z;
+    }
+    mean = { x: geo0.x + dx * m2, z: geo0.z + dz * m2 };
+  }
   return {
     fine: f, yieldGeo, captured: win ? capSum / safe : 1,
-    mean: { x: mx / safe, z: mz / safe }, second: { x: sx / safe, z: sz / safe }, nodes,
+    mean, second: { x: sx / safe, z: sz / safe }, nodes,
   };
 }
 
@@ -153,8 +172,9 @@ interface LeafAcc {
 
 /** Builds the result's leaves and detectors from the run's paths (see module doc). */
 export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsilon: number, _lost: { spin: number }): {
-  leaves: LeafResult[]; detectors: DetectorResult[]; clipped: number; nodes: number; chiError: number;
+  leaves: LeafResult[]; detectors: DetectorResult[]; clipped: number; nodes: number; chiError: number; warnings: string[];
 } {
+  const warnings: string[] = [];
   const geometry = fines.some(hasGeometry);
   const accs = new Map<string, LeafAcc>();
   let clipped = 0, nodes = 0, chiError = 0;
@@ -229,7 +249,10 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
       if (v && v.length > 0) d.neighbours = v;
     }
   }
-  return { leaves: leaves.map(({ _acc, ...rest }) => rest), detectors, clipped, nodes, chiError };
+  if (geometry && fines.some((f) => f.dist.kind === 'effusive' && f.track.kicks.length > 0)) {
+    warnings.push('geometry: behind a deflecting magnet the rms spread of an effusive beam is set by its slowest atoms (⟨1/v⁴⟩ diverges for a v³ flux distribution); the spreads and profiles shown leave out v < 0.05·√(2kT/M), 3e-6 of the flux, which in a real line ends on an aperture');
+  }
+  return { leaves: leaves.map(({ _acc, ...rest }) => rest), detectors, clipped, nodes, chiError, warnings };
 }
 
 function planeKey(y: number): string {

@@ -15,7 +15,7 @@
  * is computed once. A new propagator first expands the state into lab-frame terms of equal
  * phase-length (merged within 1e-13 of the largest), then changes basis.
  */
-import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, cmatCommutator } from '../physics/cmat.ts';
+import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm } from '../physics/cmat.ts';
 import { charFunction, type VelocityDistribution } from '../physics/velocity.ts';
 import { reduceAngle } from '../physics/trig.ts';
 
@@ -456,8 +456,8 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
   return out;
 }
 
-/** ρ at one speed v (a plain matrix). */
-export function specAt(st: SpecState, v: number): CMat {
+/** ρ at one speed v (a plain matrix), leaving out terms with |φ + Ω_ab| > phiMax. */
+export function specAt(st: SpecState, v: number, phiMax: number = Infinity): CMat {
   const r = st.W.cols;
   const acc = cmatZeros(r, r);
   for (const t of st.terms) {
@@ -465,13 +465,50 @@ export function specAt(st: SpecState, v: number): CMat {
       const i = a * r + b;
       const xr = t.X.re[i], xi = t.X.im[i];
       if (xr === 0 && xi === 0) continue;
-      const ph = reduceAngle((t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0)) / v);
+      const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+      if (Math.abs(f) > phiMax) continue;
+      const ph = reduceAngle(f / v);
       const c = Math.cos(ph), s = -Math.sin(ph);
       acc.re[i] += xr * c - xi * s;
       acc.im[i] += xr * s + xi * c;
     }
   }
   return cmatMul(cmatMul(st.W, acc), cmatDagger(st.W));
+}
+
+/**
+ * ⟨Tr ρ(s) · s^n⟩ over the distribution, each frequency on its own (χ_n of physics/velocity.ts); entries
+ * below 1e-13 of the trace weight are left out (their share of a mean is below that).
+ */
+export function specTraceMoment(st: SpecState, dist: VelocityDistribution, n: number, cache: Map<number, [number, number]>): number {
+  const r = st.W.cols;
+  const g = cmatMul(cmatDagger(st.W), st.W);
+  let total = 0, big = 0;
+  const coefs: [number, number, number][] = [];
+  for (const t of st.terms) {
+    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+      const i = a * r + b;
+      const xr = t.X.re[i], xi = t.X.im[i];
+      if (xr === 0 && xi === 0) continue;
+      const gr = g.re[b * r + a], gi = g.im[b * r + a];
+      const cr = xr * gr - xi * gi, ci = xr * gi + xi * gr;
+      big = Math.max(big, Math.hypot(cr, ci));
+      coefs.push([t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0), cr, ci]);
+    }
+  }
+  for (const [f, cr, ci] of coefs) {
+    if (Math.hypot(cr, ci) < 1e-13 * big) continue;
+    const key = Math.abs(f);
+    let c = cache.get(key);
+    if (!c) {
+      const v = charFunction(dist, key, n);
+      c = [v.re, v.im];
+      cache.set(key, c);
+    }
+    const im = f < 0 ? -c[1] : c[1];
+    total += cr * c[0] - ci * im;
+  }
+  return total;
 }
 
 /** Largest |φ + Ω_ab| among entries whose trace weight exceeds `minWeight`, with the weight they carry. */

@@ -4,8 +4,8 @@
  * with 2π split into three parts keeps the reduced angle accurate to ~1e-16·|x|, the accuracy the phase
  * itself has as a double.
  */
-const TWO_PI_A = 6.28318530717958623200e+00; // 2π rounded to 53 bits
-const TWO_PI_B = 2.44929359829470635445e-16; // 2π − TWO_PI_A
+const TWO_PI_A = 6.283185307179586; // 2π rounded to 53 bits
+const TWO_PI_B = 2.4492935982947064e-16; // 2π − TWO_PI_A
 const INV_TWO_PI = 1 / (2 * Math.PI);
 
 /** x reduced into about [−π, π]. */
