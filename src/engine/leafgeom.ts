@@ -89,15 +89,42 @@ function hasGeometry(f: FinePath): boolean {
   return t.source !== null || t.collimator !== null || t.kicks.length > 0 || t.strips.length > 0 || !!f.detector?.window;
 }
 
+/**
+ * A speed-by-speed leaf's grid merged into at most 96 groups of neighbouring speeds for the geometry:
+ * weights add, the trace is the weighted mean, the speed keeps the group's mean 1/v² (deflections go
+ * as 1/v²).
+ */
+function coarsen(g: NonNullable<FinePath['grid']>): { speeds: Float64Array; weights: Float64Array; traces: Float64Array } {
+  const n = g.speeds.length;
+  const m = Math.min(96, n);
+  const speeds = new Float64Array(m), weights = new Float64Array(m), traces = new Float64Array(m);
+  for (let j = 0; j < m; j++) {
+    const a = Math.floor((j * n) / m), b = Math.floor(((j + 1) * n) / m);
+    let w = 0, wt = 0, ws2 = 0;
+    for (let k = a; k < b; k++) {
+      const wk = g.weights[k] * Math.max(0, g.traces[k]) + 1e-300;
+      w += g.weights[k];
+      wt += g.weights[k] * g.traces[k];
+      ws2 += wk / (g.speeds[k] * g.speeds[k]);
+    }
+    let wsum = 0;
+    for (let k = a; k < b; k++) wsum += g.weights[k] * Math.max(0, g.traces[k]) + 1e-300;
+    weights[j] = w;
+    traces[j] = w > 0 ? wt / w : 0;
+    speeds[j] = 1 / Math.sqrt(ws2 / wsum);
+  }
+  return { speeds, weights, traces };
+}
+
 function fineGeometry(f: FinePath): FineGeo {
-  const g = f.grid ?? speedGrid(f.dist, 12, 8);
+  const g = f.grid ? coarsen(f.grid) : speedGrid(f.dist, 12, 8);
   let phiMax = Infinity;
   if (!f.grid && (f.dist.kind === 'effusive' || f.dist.kind === 'supersonic')) {
     let ds = 0;
     for (let k = 1; k < g.speeds.length; k++) ds = Math.max(ds, Math.abs(1 / g.speeds[k - 1] - 1 / g.speeds[k]));
     phiMax = 0.5 / ds;
   }
-  const tr = f.grid ? f.grid.traces : f.traceAt(g.speeds, phiMax);
+  const tr = f.grid ? (g as ReturnType<typeof coarsen>).traces : f.traceAt(g.speeds, phiMax);
   let total = 0;
   const w = new Float64Array(g.speeds.length);
   for (let k = 0; k < w.length; k++) {

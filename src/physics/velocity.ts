@@ -221,6 +221,36 @@ export function speedRange(d: VelocityDistribution): [number, number] {
 }
 
 /**
+ * A grid for averaging functions that oscillate like e^{−iΦ/v}: below the distribution's typical speed
+ * (a for the effusive beam, u − 2α for a supersonic one) the panels are uniform in s = 1/v, so every
+ * panel advances such a phase by the same amount; above it they are uniform in v. `panels` panels of
+ * `order` Gauss–Legendre nodes on each side. The slowest effusive atoms (v < 0.05a) are left out as in
+ * speedGrid.
+ */
+export function oscillationGrid(d: VelocityDistribution, panels: number, order: number = 8): { speeds: Float64Array; weights: Float64Array; excluded: number } {
+  if (d.kind === 'fixed' || d.kind === 'table') return speedGrid(d);
+  const [lo0, hi] = speedRange(d);
+  const lo = d.kind === 'effusive' ? 0.05 * d.a : Math.max(lo0, 1e-3 * hi);
+  const mid = d.kind === 'effusive' ? d.a : Math.max(lo * 1.01, d.u - 2 * d.alpha);
+  const f = (v: number) => densityAt(d, v);
+  const slow = compositeRule(1 / mid, 1 / lo, order, panels); // in s
+  const fast = compositeRule(mid, hi, order, panels); // in v
+  const n = slow.nodes.length + fast.nodes.length;
+  const speeds = new Float64Array(n), weights = new Float64Array(n);
+  let k = 0;
+  for (let i = slow.nodes.length - 1; i >= 0; i--, k++) {
+    const v = 1 / slow.nodes[i];
+    speeds[k] = v;
+    weights[k] = f(v) * v * v * slow.weights[i]; // dv = v² ds
+  }
+  for (let i = 0; i < fast.nodes.length; i++, k++) {
+    speeds[k] = fast.nodes[i];
+    weights[k] = f(fast.nodes[i]) * fast.weights[i];
+  }
+  return { speeds, weights, excluded: 1 - weights.reduce((a, b) => a + b, 0) };
+}
+
+/**
  * Speeds and flux weights for averaging smooth functions of v (geometry: deflections go as 1/v²).
  * Continuous distributions get a composite Gauss–Legendre grid over their range; the slowest atoms
  * (effusive: v < 0.05a, a flux fraction of 3·10⁻⁶) are left out, because their deflection diverges
