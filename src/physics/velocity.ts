@@ -224,24 +224,40 @@ export function speedRange(d: VelocityDistribution): [number, number] {
  * A grid for averaging functions that oscillate like e^{−iΦ/v}: below the distribution's typical speed
  * (a for the effusive beam, u − 2α for a supersonic one) the panels are uniform in s = 1/v, so every
  * panel advances such a phase by the same amount; above it they are uniform in v. `panels` panels of
- * `order` Gauss–Legendre nodes on each side. The slowest effusive atoms (v < 0.05a) are left out as in
- * speedGrid.
+ * `order` Gauss–Legendre nodes on each side, and for the effusive beam a quarter as many on its slow
+ * tail 5e-4·a … 0.05a (3e-6 of the flux); what is left out, v < 5e-4·a, is 3e-14 of the flux.
  */
 export function oscillationGrid(d: VelocityDistribution, panels: number, order: number = 8): { speeds: Float64Array; weights: Float64Array; excluded: number } {
   if (d.kind === 'fixed' || d.kind === 'table') return speedGrid(d);
-  const [lo0, hi] = speedRange(d);
-  const lo = d.kind === 'effusive' ? 0.05 * d.a : Math.max(lo0, 1e-3 * hi);
+  const [lo0, hi0] = speedRange(d);
+  // out to where the flux beyond is below 1e-19 (effusive: (1 + u²)e^{−u²} at u = 7)
+  const hi = d.kind === 'effusive' ? 7 * d.a : d.u + 12 * d.alpha;
+  const lo = d.kind === 'effusive' ? 5e-4 * d.a : Math.max(lo0, 1e-3 * hi0);
   const mid = d.kind === 'effusive' ? d.a : Math.max(lo * 1.01, d.u - 2 * d.alpha);
+  const knee = d.kind === 'effusive' ? 0.05 * d.a : lo;
   const f = (v: number) => densityAt(d, v);
-  const slow = compositeRule(1 / mid, 1 / lo, order, panels); // in s
+  // in s: [1/mid, 1/knee] with `panels` panels, and for the effusive beam the slow tail [1/knee, 1/lo]
+  // (3e-6 of the flux) with a quarter as many
+  const slow = compositeRule(1 / mid, 1 / knee, order, panels);
+  // the tail in ln s (its density falls as s⁻⁵)
+  const tailLog = knee > lo ? compositeRule(Math.log(1 / knee), Math.log(1 / lo), order, Math.max(2, panels / 4)) : { nodes: new Float64Array(0), weights: new Float64Array(0) };
+  const tail = { nodes: tailLog.nodes.map(Math.exp), weights: tailLog.weights.map((w, i) => w * Math.exp(tailLog.nodes[i])) };
   const fast = compositeRule(mid, hi, order, panels); // in v
-  const n = slow.nodes.length + fast.nodes.length;
+  const n = tail.nodes.length + slow.nodes.length + fast.nodes.length;
   const speeds = new Float64Array(n), weights = new Float64Array(n);
   let k = 0;
-  for (let i = slow.nodes.length - 1; i >= 0; i--, k++) {
-    const v = 1 / slow.nodes[i];
-    speeds[k] = v;
-    weights[k] = f(v) * v * v * slow.weights[i]; // dv = v² ds
+  for (const r of [tail, slow]) {
+    for (let i = r.nodes.length - 1; i >= 0; i--, k++) {
+      const v = 1 / r.nodes[i];
+      speeds[k] = v;
+      weights[k] = f(v) * v * v * r.weights[i]; // dv = v² ds
+    }
+  }
+  {
+    // speeds ascending across the two s-blocks
+    const idx = Array.from({ length: k }, (_, i) => i).sort((x, y) => speeds[x] - speeds[y]);
+    const sp = idx.map((i) => speeds[i]), wt = idx.map((i) => weights[i]);
+    for (let i = 0; i < k; i++) { speeds[i] = sp[i]; weights[i] = wt[i]; }
   }
   for (let i = 0; i < fast.nodes.length; i++, k++) {
     speeds[k] = fast.nodes[i];
