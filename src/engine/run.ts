@@ -33,6 +33,8 @@ export interface RunOptions {
   onProgress?: (fraction: number) => void;
   /** Relative precision ε for the detector's time-to-precision figure (default 0.01). */
   epsilon?: number;
+  /** Leave out the table-resolution check and the velocity plot (inner points of a scan). */
+  light?: boolean;
 }
 
 const MU_B = 9.2740100783e-24; // J/T, CODATA 2018
@@ -94,7 +96,23 @@ interface Walk {
   depth: number;
 }
 
+const distCache = new WeakMap<object, Map<number, VelocityDistribution>>();
+
 function distributionFor(line: Beamline, sys: SpinSystem): VelocityDistribution {
+  let byMass = distCache.get(line.oven.velocity);
+  if (!byMass) {
+    byMass = new Map();
+    distCache.set(line.oven.velocity, byMass);
+  }
+  let d = byMass.get(sys.massKg);
+  if (!d) {
+    d = makeDistribution(line, sys);
+    byMass.set(sys.massKg, d);
+  }
+  return d;
+}
+
+function makeDistribution(line: Beamline, sys: SpinSystem): VelocityDistribution {
   const v = line.oven.velocity;
   switch (v.kind) {
     case 'fixed': return { kind: 'fixed', speed: v.speed };
@@ -633,7 +651,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     chiError += 0;
     opts.onProgress?.((i + 1) / (systems.length + 1));
   });
-  if (line.oven.velocity.kind === 'table') checkTable(line, leaves, warnings);
+  if (line.oven.velocity.kind === 'table' && !opts.light) checkTable(line, leaves, warnings);
   for (const [path, u] of sampled.unconverged) {
     warnings.add(`${path}: the speed-by-speed average after the field twist did not converge to 1e-9: the yields moved by up to ${u.error.toExponential(1)} between the last two grids (${u.speeds} speeds); a fast phase before, in or after the twist is not resolved, and the yields carry that error`);
   }
@@ -662,7 +680,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     warnings: [...warnings],
     quadrature: { nodes: chiNodes + sampled.nodes + geo.nodes, error: chiError + sampled.error, method: sampled.nodes > 0 ? `${method}; after a field twist, speed by speed on doubling Gauss–Legendre grids` : method },
     flux,
-    velocity: velocityPlot(d0),
+    velocity: opts.light ? undefined : velocityPlot(d0),
     positions,
     invariants: { balance, maxHermiticity: hermiticity.max, positive: hermiticity.positive },
   };

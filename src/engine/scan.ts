@@ -34,7 +34,9 @@ export function runScan(line: Beamline, spec: ScanSpec, opts: RunOptions = {}): 
   const out: RunResult[] = [];
   spec.values.forEach((v, i) => {
     if (opts.isCancelled?.()) throw new RunError('scan: cancelled');
-    out.push(runLine(withParameter(line, spec.element, spec.key, v), { ...opts, onProgress: undefined }));
+    // the table-resolution check and the velocity plot are done at the two ends of the scan
+    const light = i > 0 && i < spec.values.length - 1;
+    out.push(runLine(withParameter(line, spec.element, spec.key, v), { ...opts, onProgress: undefined, light }));
     opts.onProgress?.((i + 1) / spec.values.length);
   });
   return out;

@@ -327,44 +327,66 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
       zi[a * n + k] = -Math.sin(ph);
     }
   }
-  const wr = new Float64Array(n), wi = new Float64Array(n);
+  // y_a(k) = w_k e^{−iφ s_k} z_a(k), so that S_ab = Σ_k y_a(k) conj(z_b(k))
+  const yr = new Float64Array(n * r), yi = new Float64Array(n * r);
+  const S = new Float64Array(2 * r * r);
   for (const term of st.terms) {
     const cut = 1e-18 * significance(term);
     const xr = term.X.re, xi = term.X.im;
+    const hermitian = term.phi === 0;
     for (let k = 0; k < n; k++) {
       const ph = reduceAngle(term.phi / speeds[k]);
-      wr[k] = weights[k] * Math.cos(ph);
-      wi[k] = -weights[k] * Math.sin(ph);
+      const er = weights[k] * Math.cos(ph), ei = -weights[k] * Math.sin(ph);
+      for (let a = 0; a < r; a++) {
+        const o = a * n + k;
+        yr[o] = er * zr[o] - ei * zi[o];
+        yi[o] = er * zi[o] + ei * zr[o];
+      }
     }
-    // with φ = 0, S_ab = Σ_k w_k z_a z̄_b is Hermitian: only a ≤ b is summed
-    const hermitian = term.phi === 0;
+    const need = (a: number, b: number) => {
+      const i = a * r + b, j = b * r + a;
+      return Math.abs(xr[i]) + Math.abs(xi[i]) > cut || (hermitian && Math.abs(xr[j]) + Math.abs(xi[j]) > cut);
+    };
+    for (let a = 0; a < r; a++) {
+      const oa = a * n;
+      // with φ = 0, S is Hermitian: only b ≥ a is summed; four columns b at a time
+      let b = hermitian ? a : 0;
+      for (; b + 3 < r; b += 4) {
+        if (!need(a, b) && !need(a, b + 1) && !need(a, b + 2) && !need(a, b + 3)) continue;
+        let s0r = 0, s0i = 0, s1r = 0, s1i = 0, s2r = 0, s2i = 0, s3r = 0, s3i = 0;
+        const o0 = b * n, o1 = o0 + n, o2 = o1 + n, o3 = o2 + n;
+        for (let k = 0; k < n; k++) {
+          const ar = yr[oa + k], ai = yi[oa + k];
+          let br = zr[o0 + k], bi = zi[o0 + k];
+          s0r += ar * br + ai * bi; s0i += ai * br - ar * bi;
+          br = zr[o1 + k]; bi = zi[o1 + k];
+          s1r += ar * br + ai * bi; s1i += ai * br - ar * bi;
+          br = zr[o2 + k]; bi = zi[o2 + k];
+          s2r += ar * br + ai * bi; s2i += ai * br - ar * bi;
+          br = zr[o3 + k]; bi = zi[o3 + k];
+          s3r += ar * br + ai * bi; s3i += ai * br - ar * bi;
+        }
+        const q = 2 * (a * r + b);
+        S[q] = s0r; S[q + 1] = s0i; S[q + 2] = s1r; S[q + 3] = s1i; S[q + 4] = s2r; S[q + 5] = s2i; S[q + 6] = s3r; S[q + 7] = s3i;
+      }
+      for (; b < r; b++) {
+        if (!need(a, b)) continue;
+        let sr = 0, si = 0;
+        const ob = b * n;
+        for (let k = 0; k < n; k++) {
+          const ar = yr[oa + k], ai = yi[oa + k], br = zr[ob + k], bi = zi[ob + k];
+          sr += ar * br + ai * bi;
+          si += ai * br - ar * bi;
+        }
+        S[2 * (a * r + b)] = sr;
+        S[2 * (a * r + b) + 1] = si;
+      }
+    }
     for (let a = 0; a < r; a++) {
       for (let b = hermitian ? a : 0; b < r; b++) {
+        if (!need(a, b)) continue;
         const i = a * r + b, j = b * r + a;
-        const sig = Math.abs(xr[i]) + Math.abs(xi[i]) > cut || (hermitian && Math.abs(xr[j]) + Math.abs(xi[j]) > cut);
-        if (!sig) continue;
-        let sr = 0, si = 0;
-        if (a === b) {
-          for (let k = 0; k < n; k++) { sr += wr[k]; si += wi[k]; }
-        } else if (hermitian) {
-          // real weights: Σ_k w_k z_a conj(z_b)
-          const oa = a * n, ob = b * n;
-          for (let k = 0; k < n; k++) {
-            const ar = zr[oa + k], ai = zi[oa + k], br = zr[ob + k], bi = zi[ob + k];
-            const w = wr[k];
-            sr += w * (ar * br + ai * bi);
-            si += w * (ai * br - ar * bi);
-          }
-        } else {
-          const oa = a * n, ob = b * n;
-          for (let k = 0; k < n; k++) {
-            const ar = zr[oa + k], ai = zi[oa + k], br = zr[ob + k], bi = zi[ob + k];
-            // z_a conj(z_b)
-            const pr = ar * br + ai * bi, pi = ai * br - ar * bi;
-            sr += wr[k] * pr - wi[k] * pi;
-            si += wr[k] * pi + wi[k] * pr;
-          }
-        }
+        const sr = S[2 * i], si = S[2 * i + 1];
         A.re[i] += xr[i] * sr - xi[i] * si;
         A.im[i] += xr[i] * si + xi[i] * sr;
         if (hermitian && a !== b) {
