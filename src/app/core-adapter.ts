@@ -1,0 +1,142 @@
+// The renderer's one door to the core (src/beamline, src/engine, src/species): every import of the
+// core by src/app goes through this file, so the app depends on the core's API in one place.
+
+import {
+  parseBeamlineText,
+  serializeDoc,
+  parseQuantity,
+  setAt,
+  addElementOnPort,
+  deleteElement,
+  duplicateElement,
+  reroute,
+  renameElement,
+  portLabels,
+  isHyperfine,
+  readSpin,
+  type LabelSpecies,
+} from '../beamline/index.ts';
+import { runLine } from '../engine/index.ts';
+import { lookupSpecies, speciesNames } from '../species/index.ts';
+import type { BeamlineDoc, Beamline, ElementKind, Problem } from '../beamline/types.ts';
+import type { RunResultView } from './results.ts';
+
+export type { BeamlineDoc, Beamline, Element, ElementDoc, ElementKind, Problem, ParseResult } from '../beamline/types.ts';
+export type { Dimension } from '../beamline/units.ts';
+import type { Dimension } from '../beamline/units.ts';
+
+export type ParsedDoc = { ok: true; doc: BeamlineDoc; line: Beamline; warnings: Problem[] } | { ok: false; problems: Problem[] };
+
+/** Reads a document's text: the raw document and the normalized line, or every problem found. */
+export function readDocument(text: string): ParsedDoc {
+  const r = parseBeamlineText(text);
+  return r.ok ? { ok: true, doc: r.doc, line: r.line, warnings: [...r.warnings] } : { ok: false, problems: [...r.problems] };
+}
+
+/** The document as file text (format v1, stable key order). */
+export function documentText(doc: BeamlineDoc): string {
+  return serializeDoc(doc);
+}
+
+const checked = new WeakMap<BeamlineDoc, ParsedDoc>();
+
+/** Reads a document value (not yet in a file): validates it as the file would be. Documents are
+ *  immutable values, so the answer is kept per document object. */
+export function checkDocument(doc: BeamlineDoc): ParsedDoc {
+  let r = checked.get(doc);
+  if (!r) {
+    r = readDocument(documentText(doc));
+    checked.set(doc, r);
+  }
+  return r;
+}
+
+/** One quantity in SI, or the message naming what is wrong. */
+export function checkQuantity(value: unknown, dim: Dimension, path: string): { ok: true; si: number } | { ok: false; message: string } {
+  const r = parseQuantity(value, dim, path);
+  return typeof r === 'number' ? { ok: true, si: r } : { ok: false, message: r.message };
+}
+
+export type EditResult = { ok: true; doc: BeamlineDoc; id?: string } | { ok: false; message: string };
+
+/** The document with the value at a JSON path ("elements[1].axis.roll") replaced; undefined removes the key. */
+export function editAt(doc: BeamlineDoc, path: string, value: unknown): EditResult {
+  return setAt(doc, path, value);
+}
+
+/** A new element of `kind` on `fromId`'s output `port` (null: the single output, or the oven's). */
+export function editAddOnPort(doc: BeamlineDoc, line: Beamline, fromId: string, port: string | null, kind: ElementKind): EditResult {
+  return addElementOnPort(doc, fromId, port, kind, undefined, kind === 'recombiner' ? magnetPortLabels(line) : []);
+}
+
+export function editDelete(doc: BeamlineDoc, id: string): EditResult {
+  return deleteElement(doc, id);
+}
+
+export function editDuplicate(doc: BeamlineDoc, id: string): EditResult {
+  return duplicateElement(doc, id);
+}
+
+export function editReroute(doc: BeamlineDoc, fromId: string, port: string | null, target: string): EditResult {
+  return reroute(doc, fromId, port, target);
+}
+
+export function editRename(doc: BeamlineDoc, oldId: string, newId: string): EditResult {
+  return renameElement(doc, oldId, newId);
+}
+
+/** The species of a normalized line as the label functions take it, when it is known. */
+function labelSpecies(line: Beamline): LabelSpecies | undefined {
+  const sp = line.species as unknown as { kind: string; j2?: number; name?: string };
+  if (sp.kind === 'bare' && typeof sp.j2 === 'number') return { kind: 'bare', j2: sp.j2 };
+  if (sp.kind === 'named' && sp.name) {
+    const s = lookupSpecies(sp.name);
+    return s ? (s as unknown as LabelSpecies) : undefined;
+  }
+  return sp.kind === 'atom' || sp.kind === 'mixture' ? (sp as unknown as LabelSpecies) : undefined;
+}
+
+/** Port labels of a magnet of this line's species (design.md, Conventions: port labels). */
+export function magnetPortLabels(line: Beamline, group?: 'mJ' | 'each'): string[] {
+  const sp = labelSpecies(line);
+  return sp ? portLabels(sp, group) : [];
+}
+
+/** True when the line's species has hyperfine structure (group and entry apply to its magnets). */
+export function lineIsHyperfine(line: Beamline): boolean {
+  const sp = labelSpecies(line);
+  return sp ? isHyperfine(sp) : false;
+}
+
+/** Port labels a magnet would have with species `species` as written in a document (a library name or
+ *  a bare spin {spin, g, mass}), or undefined when it is not a known species. */
+export function speciesPortLabels(species: unknown, group?: 'mJ' | 'each'): string[] | undefined {
+  if (typeof species === 'string') {
+    const s = lookupSpecies(species);
+    return s ? portLabels(s as unknown as LabelSpecies, group) : undefined;
+  }
+  if (species && typeof species === 'object' && 'spin' in species) {
+    const j2 = readSpin((species as { spin: unknown }).spin, 'species.spin');
+    return typeof j2 === 'number' ? portLabels({ kind: 'bare', j2 }) : undefined;
+  }
+  return undefined;
+}
+
+/** Cautions the species library gives for the line's species (alkali metals, discharge sources, …). */
+export function speciesCautions(line: Beamline): string[] {
+  const sp = line.species as unknown as { kind: string; name?: string };
+  if (sp.kind !== 'named' || !sp.name) return [];
+  const s = lookupSpecies(sp.name) as unknown as { cautions?: readonly string[]; parts?: { species: { cautions?: readonly string[] } }[] } | undefined;
+  const all = [...(s?.cautions ?? []), ...(s?.parts ?? []).flatMap((p) => p.species.cautions ?? [])];
+  return [...new Set(all)];
+}
+
+/** Names of the species library, for the species picker. */
+export function librarySpeciesNames(): string[] {
+  return [...speciesNames()];
+}
+
+/** Runs the engine on a normalized line (result format v1). */
+export function runEngine(line: Beamline, opts?: { onProgress?: (f: number) => void; isCancelled?: () => boolean }): RunResultView {
+  return runLine(line, opts) as unknown as RunResultView;
+}

@@ -1,0 +1,144 @@
+// The renderer's reading of result format v1 (design.md, "Result format v1"): the ports table rows,
+// counting times and the CSV export. Pure functions of a result and the normalized line.
+
+/** One leaf of result format v1 (fields beyond v1's minimum are optional: the engine adds them where
+ *  the line has geometry). Lengths in m. */
+export interface LeafResult {
+  path: string[];
+  target: string;
+  yield: number;
+  rate: number;
+  displacement?: { x: number; z: number };
+  spread?: { x: number; z: number };
+  captured?: number;
+  /** Bin centres along `axis` (m) and flux density per metre; the engine names the centres `positions`. */
+  profile?: { positions?: number[]; x?: number[]; density: number[]; axis: 'x' | 'z' };
+  plane?: number;
+}
+
+export interface DetectorResult {
+  id: string;
+  yield: number;
+  rate: number;
+  counts: number;
+  sigma: number;
+  background?: number;
+  /** Signal rate without background (counts/s). */
+  signal?: number;
+  dwell?: number;
+  crosstalk?: { path: string[]; target: string; fraction: number; rate: number }[];
+  neighbours?: { a: string; b: string; separation: number; overlap: number; verdict: string; axis: 'x' | 'z' }[];
+  signalToBackground?: number;
+}
+
+export interface RunResultView {
+  format?: string;
+  version?: number;
+  leaves: LeafResult[];
+  detectors: DetectorResult[];
+  lost: number;
+  warnings: string[];
+  quadrature?: { nodes: number; error: number; method?: string };
+  velocity?: { speeds: number[]; density: number[] };
+}
+
+/**
+ * Counting time to relative precision ε for a Poisson count N = R·t: σ_N/N = 1/√N = ε gives
+ * t = 1/(R ε²), with R the detector's total rate (signal plus background). Infinity when R ≤ 0.
+ */
+export function timeToPrecision(rate: number, eps: number): number {
+  if (!(rate > 0) || !(eps > 0)) return Infinity;
+  return 1 / (rate * eps * eps);
+}
+
+/**
+ * Counting time to measure a detector's signal S to relative precision ε over a known background B:
+ * σ_S/S = √((S+B)t)/(S t) = ε gives t = (S + B)/(S² ε²). Infinity when S ≤ 0.
+ */
+export function signalTimeToPrecision(signal: number, background: number, eps: number): number {
+  if (!(signal > 0) || !(eps > 0)) return Infinity;
+  return (signal + Math.max(background, 0)) / (signal * signal * eps * eps);
+}
+
+/** The profile's bin centres (m), whichever name the result uses. */
+export function profilePositions(p: { positions?: number[]; x?: number[] }): number[] {
+  return p.positions ?? p.x ?? [];
+}
+
+/** The dwell time (s) of each detector of the line, by id. */
+export function dwellById(elements: readonly { id: string; kind: string; dwell?: number }[]): Map<string, number> {
+  const m = new Map<string, number>();
+  for (const e of elements) if (e.kind === 'detector' && typeof e.dwell === 'number') m.set(e.id, e.dwell);
+  return m;
+}
+
+export interface PortRow {
+  /** "M1:+1/2 → M2:-1/2" */
+  path: string;
+  target: string;
+  yield: number;
+  /** Signal this leaf brings (flux × yield × efficiency), counts/s. */
+  rate: number;
+  /** Signal counts of this leaf in its detector's dwell, N = rate·dwell, and σ = √N; undefined at a stop. */
+  counts?: number;
+  sigma?: number;
+  /** The detector's total rate (all its leaves plus background) and the time to ε on it. */
+  detectorRate?: number;
+  time?: number;
+  captured?: number;
+}
+
+/** The ports table: one row per leaf of the result, in the engine's order. */
+export function portRows(result: RunResultView, dwell: ReadonlyMap<string, number>, eps: number): PortRow[] {
+  const det = new Map(result.detectors.map((d) => [d.id, d]));
+  return result.leaves.map((l) => {
+    const row: PortRow = { path: l.path.join(' → ') || '(oven)', target: l.target, yield: l.yield, rate: l.rate };
+    const d = det.get(l.target);
+    const t = dwell.get(l.target);
+    if (l.target !== 'stop' && t !== undefined) {
+      row.counts = l.rate * t;
+      row.sigma = Math.sqrt(row.counts);
+    }
+    if (d) {
+      row.detectorRate = d.rate;
+      row.time = timeToPrecision(d.rate, eps);
+    }
+    if (l.captured !== undefined) row.captured = l.captured;
+    return row;
+  });
+}
+
+/** One CSV field (RFC 4180): quoted when it holds a comma, a quote, or a line break. */
+export function csvField(v: string | number | undefined): string {
+  if (v === undefined) return '';
+  const s = typeof v === 'number' ? (Number.isFinite(v) ? String(v) : v > 0 ? 'inf' : v < 0 ? '-inf' : 'nan') : v;
+  return /[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+export function toCsv(header: readonly string[], rows: readonly (readonly (string | number | undefined)[])[]): string {
+  return [header, ...rows].map((r) => r.map(csvField).join(',')).join('\r\n') + '\r\n';
+}
+
+export const PORT_CSV_HEADER = [
+  'path', 'target', 'yield', 'signal rate (1/s)', 'counts', 'sigma', 'detector rate (1/s)', 'time to precision (s)', 'captured',
+] as const;
+
+/** The ports table as CSV, numbers at full precision; the precision ε is written in the time column's header. */
+export function portRowsCsv(rows: readonly PortRow[], eps: number): string {
+  const header: string[] = [...PORT_CSV_HEADER];
+  header[7] = `time to ${eps * 100}% (s)`;
+  return toCsv(header, rows.map((r) => [r.path, r.target, r.yield, r.rate, r.counts, r.sigma, r.detectorRate, r.time, r.captured]));
+}
+
+/** Engine warnings are "path: message"; the JSON path's element index gives the element it names. */
+export function warningsByElement(warnings: readonly string[], ids: readonly string[]): Map<string, string[]> {
+  const out = new Map<string, string[]>();
+  for (const w of warnings) {
+    const m = /^elements\[(\d+)\]/.exec(w);
+    let key = 'line';
+    if (m && ids[Number(m[1])] !== undefined) key = ids[Number(m[1])];
+    else if (w.startsWith('oven')) key = 'oven';
+    out.set(key, [...(out.get(key) ?? []), w]);
+  }
+  return out;
+}

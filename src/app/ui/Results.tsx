@@ -1,0 +1,240 @@
+// Results, live: the ports table, detectors, warnings and the plots of the latest engine run.
+import { useId, useMemo } from 'react';
+import type { Beamline } from '../core-adapter.ts';
+import { dwellById, portRows, profilePositions, signalTimeToPrecision, type RunResultView } from '../results.ts';
+import { fmt, fmtTime } from '../format.ts';
+import { Plot } from './Plot.tsx';
+import { LEAF_COLORS } from './Schematic.tsx';
+import type { EngineStatus } from '../engine-client.ts';
+
+interface Props {
+  line: Beamline;
+  result?: RunResultView;
+  resultSeq: number;
+  docSeq: number;
+  error?: string;
+  ms?: number;
+  status: EngineStatus;
+  epsText: string;
+  eps: number | undefined;
+  onEps(text: string): void;
+  onCancel(): void;
+  onCsv(): void;
+  dark: boolean;
+}
+
+export function plotTheme(dark: boolean) {
+  const fg = dark ? '#d8dde3' : '#1d2530';
+  const grid = dark ? '#3a434f' : '#d9dde2';
+  return {
+    // opaque, so an exported PNG/SVG reads the same outside the app
+    paper_bgcolor: dark ? '#1f252d' : '#ffffff',
+    plot_bgcolor: dark ? '#1f252d' : '#ffffff',
+    font: { family: 'system-ui, sans-serif', size: 12, color: fg },
+    margin: { l: 64, r: 16, t: 12, b: 48 },
+    xaxis: { gridcolor: grid, zerolinecolor: grid, linecolor: fg },
+    yaxis: { gridcolor: grid, zerolinecolor: grid, linecolor: fg },
+  };
+}
+
+export function Results(p: Props) {
+  const { result, line, eps } = p;
+  const epsId = useId();
+  const dwell = useMemo(() => dwellById(line.elements as unknown as { id: string; kind: string; dwell?: number }[]), [line]);
+  const rows = useMemo(() => (result ? portRows(result, dwell, eps ?? 0.01) : []), [result, dwell, eps]);
+  const theme = useMemo(() => plotTheme(p.dark), [p.dark]);
+  const seq = p.resultSeq;
+
+  const counts = useMemo(() => {
+    if (!result) return undefined;
+    const det = rows.map((r, i) => ({ r, i })).filter((x) => x.r.counts !== undefined);
+    const data = [{
+      type: 'bar',
+      x: det.map((x) => `${x.r.target}<br>${result.leaves[x.i].path.join('<br>')}`),
+      y: det.map((x) => x.r.counts),
+      error_y: { type: 'data', array: det.map((x) => x.r.sigma), visible: true, color: theme.font.color },
+      marker: { color: det.map((x) => LEAF_COLORS[x.i % LEAF_COLORS.length]) },
+      hovertemplate: 'N = %{y:.4g} ± %{error_y.array:.3g}<extra></extra>',
+    }];
+    // fixed margins (automargin makes plotly lay the figure out repeatedly): one line per tick-label row
+    const rowsOfLabel = Math.max(1, ...det.map((x) => result.leaves[x.i].path.length + 1));
+    const layout = {
+      ...theme, margin: { ...theme.margin, b: 14 + 15 * rowsOfLabel },
+      yaxis: { ...theme.yaxis, title: { text: 'expected signal counts in dwell' }, rangemode: 'tozero' }, xaxis: { ...theme.xaxis, tickangle: 0, showgrid: false },
+    };
+    return { data, layout };
+  }, [result, rows, theme]);
+
+  const planes = useMemo(() => {
+    if (!result) return [];
+    return result.detectors.flatMap((d) => {
+      const el = line.elements.find((e) => e.id === d.id);
+      const leaves = result.leaves.map((l, i) => ({ l, i })).filter((x) => x.l.target === d.id);
+      const withGeo = leaves.filter((x) => x.l.displacement || x.l.profile);
+      const win = el && el.kind === 'detector' ? el.window : undefined;
+      if (withGeo.length === 0 && !win) return [];
+      const mm = 1e3;
+      const data: unknown[] = [];
+      const profiles: unknown[] = [];
+      let profileAxis: 'x' | 'z' = 'x';
+      for (const { l, i } of withGeo) {
+        const color = LEAF_COLORS[i % LEAF_COLORS.length];
+        const name = l.path.join(' → ');
+        const pos = l.profile ? profilePositions(l.profile) : [];
+        if (l.profile && pos.length > 0) {
+          profileAxis = l.profile.axis;
+          profiles.push({
+            type: 'scatter', mode: 'lines', name, line: { color, width: 1.5, shape: 'hv' },
+            x: pos.map((v) => v * mm), y: l.profile.density.map((dd) => dd / mm),
+            hovertemplate: `${name}<br>%{x:.3f} mm: %{y:.4g} per mm<extra></extra>`,
+          });
+        }
+        if (l.displacement) {
+          data.push({
+            type: 'scatter', mode: 'markers', name, marker: { color, size: 9, symbol: 'x' },
+            x: [l.displacement.x * mm], y: [l.displacement.z * mm],
+            error_x: l.spread ? { type: 'data', array: [l.spread.x * mm], visible: true, color } : undefined,
+            error_y: l.spread ? { type: 'data', array: [l.spread.z * mm], visible: true, color } : undefined,
+            hovertemplate: `${name}<br>x %{x:.3f} mm, z %{y:.3f} mm${l.captured !== undefined ? `<br>captured ${fmt(l.captured, 3)}` : ''}<extra></extra>`,
+          });
+        }
+      }
+      const shapes = win
+        ? [{ type: 'rect', x0: (win.x - win.width / 2) * mm, x1: (win.x + win.width / 2) * mm, y0: (win.z - win.height / 2) * mm, y1: (win.z + win.height / 2) * mm,
+            line: { color: theme.font.color, width: 1.5, dash: 'dot' }, fillcolor: 'rgba(120,140,160,0.08)' }]
+        : [];
+      const layout = {
+        ...theme, shapes, showlegend: true, legend: { orientation: 'h', y: -0.25 },
+        xaxis: { ...theme.xaxis, title: { text: 'x (mm)' }, zeroline: true },
+        yaxis: { ...theme.yaxis, title: { text: 'z (mm)' }, zeroline: true, scaleanchor: 'x' },
+      };
+      const verdicts = (d.neighbours ?? []).map((n) => `${n.a} / ${n.b}: ${n.verdict} along ${n.axis} (separation ${fmt(n.separation * mm, 3)} mm, overlap ${fmt(n.overlap, 2)})`);
+      const note = withGeo.length === 0 ? 'the engine reports no sub-beam positions for this line' : verdicts.join(' · ') || undefined;
+      const edges = win
+        ? (profileAxis === 'x' ? [win.x - win.width / 2, win.x + win.width / 2] : [win.z - win.height / 2, win.z + win.height / 2]).map((e) => ({
+            type: 'line', x0: e * mm, x1: e * mm, yref: 'paper', y0: 0, y1: 1, line: { color: theme.font.color, width: 1.2, dash: 'dot' },
+          }))
+        : [];
+      const profile = profiles.length > 0
+        ? {
+            data: profiles,
+            layout: {
+              ...theme, shapes: edges, showlegend: true, legend: { orientation: 'h', y: -0.3 },
+              xaxis: { ...theme.xaxis, title: { text: `${profileAxis} (mm)` } },
+              yaxis: { ...theme.yaxis, title: { text: 'fraction of oven flux per mm' }, rangemode: 'tozero' },
+            },
+            axis: profileAxis,
+          }
+        : undefined;
+      return [{ id: d.id, data, layout, note, profile }];
+    });
+  }, [result, line, theme]);
+
+  const velocity = useMemo(() => {
+    const v = result?.velocity;
+    if (!v || v.speeds.length === 0) return undefined;
+    const data = [{ type: 'scatter', mode: v.speeds.length > 40 ? 'lines' : 'lines+markers', x: v.speeds, y: v.density, line: { color: '#1f6fb2' },
+      hovertemplate: '%{x:.4g} m/s: %{y:.4g}<extra></extra>' }];
+    const layout = { ...theme, xaxis: { ...theme.xaxis, title: { text: 'speed (m/s)' } }, yaxis: { ...theme.yaxis, title: { text: 'flux-weighted density' }, rangemode: 'tozero' } };
+    return { data, layout };
+  }, [result, theme]);
+
+  const stale = result !== undefined && seq !== p.docSeq;
+  return (
+    <section className="results" aria-label="Results" data-seq={seq} data-stale={stale ? 'true' : 'false'}>
+      <div className="results-head">
+        <h2>Results</h2>
+        {p.status.running && p.status.slow && (
+          <div className="run-progress">
+            <progress max={1} value={p.status.progress > 0 ? p.status.progress : undefined} aria-label="Engine progress" />
+            <button type="button" onClick={p.onCancel}>Cancel</button>
+          </div>
+        )}
+        {p.status.running && !p.status.slow && <span className="run-note">computing…</span>}
+        {p.status.cancelled && <span className="run-note">cancelled: the table shows the last finished run</span>}
+        <span className="eps">
+          <label htmlFor={epsId}>precision ε</label>
+          <input id={epsId} type="text" value={p.epsText} onChange={(e) => p.onEps(e.target.value)} size={6} aria-invalid={eps === undefined}
+            aria-describedby={eps === undefined ? `${epsId}-err` : undefined} />
+          {eps === undefined && <span id={`${epsId}-err`} className="field-error">write a relative precision such as "1 %" or 0.01</span>}
+        </span>
+        <button type="button" onClick={p.onCsv} disabled={!result}>Export table as CSV</button>
+      </div>
+      {p.error && <p className="run-error" role="alert">The engine could not run this line: {p.error}</p>}
+      {stale && !p.status.running && <p className="note">The tables and plots show the last run that finished (run {seq}).</p>}
+      {!result && !p.error && <p className="note">Waiting for the first run…</p>}
+      {result && (
+        <>
+          <table className="ports" data-seq={seq} aria-label="Ports table">
+            <thead>
+              <tr>
+                <th scope="col">path</th><th scope="col">target</th><th scope="col">yield</th><th scope="col">signal rate (/s)</th>
+                <th scope="col">counts ± σ</th><th scope="col">detector rate (/s)</th><th scope="col">time to {eps !== undefined ? `${fmt(eps * 100, 3)} %` : 'ε'}</th>
+                {rows.some((r) => r.captured !== undefined) && <th scope="col">captured</th>}
+              </tr>
+            </thead>
+            <tbody>
+              {rows.map((r, i) => (
+                <tr key={i} data-target={r.target} data-path={r.path}>
+                  <td><span className="swatch" style={{ background: LEAF_COLORS[i % LEAF_COLORS.length] }} aria-hidden="true" />{r.path}</td>
+                  <td>{r.target}</td>
+                  <td className="num" data-yield={r.yield}>{fmt(r.yield, 6)}</td>
+                  <td className="num">{fmt(r.rate)}</td>
+                  <td className="num">{r.counts !== undefined ? `${fmt(r.counts)} ± ${fmt(r.sigma, 3)}` : '—'}</td>
+                  <td className="num">{fmt(r.detectorRate)}</td>
+                  <td className="num">{r.time !== undefined ? fmtTime(r.time) : '—'}</td>
+                  {rows.some((x) => x.captured !== undefined) && <td className="num">{fmt(r.captured, 3)}</td>}
+                </tr>
+              ))}
+            </tbody>
+            <tfoot>
+              <tr><td colSpan={2}>lost</td><td className="num">{fmt(result.lost, 6)}</td><td colSpan={5} /></tr>
+            </tfoot>
+          </table>
+          <table className="detectors" aria-label="Detectors">
+            <thead>
+              <tr><th scope="col">detector</th><th scope="col">yield</th><th scope="col">rate incl. background (/s)</th><th scope="col">counts ± σ</th>
+                <th scope="col">background (/s)</th><th scope="col">signal / background</th>
+                <th scope="col">signal to {eps !== undefined ? `${fmt(eps * 100, 3)} %` : 'ε'}, background known</th></tr>
+            </thead>
+            <tbody>
+              {result.detectors.map((d) => (
+                <tr key={d.id}>
+                  <td>{d.id}</td><td className="num">{fmt(d.yield, 6)}</td><td className="num">{fmt(d.rate)}</td>
+                  <td className="num">{fmt(d.counts)} ± {fmt(d.sigma, 3)}</td><td className="num">{fmt(d.background)}</td>
+                  <td className="num">{fmt(d.signalToBackground, 3)}</td>
+                  <td className="num">{d.signal !== undefined && eps !== undefined ? fmtTime(signalTimeToPrecision(d.signal, d.background ?? 0, eps)) : '—'}</td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+          {result.warnings.length > 0 && (
+            <div className="warnings" role="note" aria-label="Engine warnings">
+              <h3>Warnings</h3>
+              <ul>{result.warnings.map((w, i) => <li key={i}>{w}</li>)}</ul>
+            </div>
+          )}
+          <div className="plots">
+            {counts && <Plot id="counts" title="Expected counts per leaf (±√N)" data={counts.data} layout={counts.layout} seq={seq} fileName="counts-per-leaf" height={300} />}
+            {planes.map((pl) => (
+              <div key={pl.id}>
+                <Plot id={`plane-${pl.id}`} title={`Detector plane ${pl.id}: mean position ± rms, window dotted`} data={pl.data} layout={pl.layout} seq={seq}
+                  fileName={`detector-plane-${pl.id}`} height={300} delayMs={40} />
+                {pl.note && <p className="note">{pl.note}</p>}
+              </div>
+            ))}
+            {planes.filter((pl) => pl.profile).map((pl) => (
+              <Plot key={`profile-${pl.id}`} id={`profile-${pl.id}`} title={`Profile at ${pl.id} along ${pl.profile!.axis}, window edges dotted`}
+                data={pl.profile!.data} layout={pl.profile!.layout} seq={seq} fileName={`profile-${pl.id}`} delayMs={80} />
+            ))}
+            {velocity ? (
+              <Plot id="velocity" title="Velocity distribution of the oven" data={velocity.data} layout={velocity.layout} seq={seq} fileName="velocity-distribution" delayMs={120} />
+            ) : (
+              <p className="note">The engine reported no velocity distribution for this run.</p>
+            )}
+          </div>
+        </>
+      )}
+    </section>
+  );
+}

@@ -1,0 +1,231 @@
+// The line drawn to scale: a side view (z up) and a top view (x across) along the beam (+y to the
+// right), with positions from the cumulative gaps and lengths, apertures and windows, magnets with an
+// end-view of their roll, and the sub-beams to the engine's displacements at the detector planes.
+import { useMemo } from 'react';
+import type { Beamline, Element } from '../core-adapter.ts';
+import { beamTrace, maxTransverse, placeElements, placeInOrder, scaleBar, transverseExaggeration, lengthLabel, type Placed } from '../layout.ts';
+import type { RunResultView } from '../results.ts';
+import { fmtLength } from '../format.ts';
+
+const W = 960;
+const VIEW_H = 175;
+const LEFT = 56;
+const RIGHT = 30;
+
+export const LEAF_COLORS = ['#c0392b', '#1f6fb2', '#2e8b57', '#b8860b', '#7d3c98', '#d35400', '#117a8b', '#6d4c41'];
+
+interface Props {
+  line: Beamline;
+  result?: RunResultView;
+  selected?: string;
+  onSelect(id: string): void;
+  warned: ReadonlySet<string>;
+}
+
+function rollOf(e: Element): number | undefined {
+  if (e.kind !== 'magnet') return undefined;
+  // n̂ = (sin α, 0, cos α): the angle of the axis from z toward x in the x–z plane.
+  return Math.atan2(e.axis.x, e.axis.z);
+}
+
+export function Schematic({ line, result, selected, onSelect, warned }: Props) {
+  const geo = useMemo(() => {
+    const real = placeElements(line);
+    const toScale = real.end > 0;
+    const { placed, end } = toScale ? real : placeInOrder(line);
+    const leaves = result?.leaves ?? [];
+    const traces = leaves.map((l) => beamTrace(line, placed, l));
+    const offsets = traces.flatMap((t) => t.points.map((p) => ({ x: p.x, z: p.z })));
+    const span = Math.max(end * 1.08, 0.05);
+    const pxPerM = (W - LEFT - RIGHT) / span;
+    const maxT = Math.max(maxTransverse(line, offsets), 1e-4);
+    const k = transverseExaggeration(maxT, VIEW_H / 2 - 22, pxPerM);
+    return { placed, end, traces, span, pxPerM, k, maxT, toScale };
+  }, [line, result]);
+
+  const { placed, traces, pxPerM, k, span } = geo;
+  const X = (y: number) => LEFT + y * pxPerM;
+  const T = (t: number) => t * pxPerM * k; // transverse m → px
+  const bar = scaleBar(span);
+  const tBar = scaleBar(geo.maxT * 2.5);
+  const items = [...placed.values()].sort((a, b) => a.y0 - b.y0);
+  // elements drawn within 24 px of each other stack their labels
+  const rows = new Map<string, number>();
+  let lastX = -Infinity;
+  let row = 0;
+  for (const p of items) {
+    row = X(p.y0) - lastX < 24 ? row + 1 : 0;
+    if (row === 0) lastX = X(p.y0);
+    rows.set(p.id, row);
+  }
+
+  const view = (which: 'side' | 'top', top: number) => {
+    const cy = top + VIEW_H / 2;
+    const tr = (p: { x: number; z: number }) => (which === 'side' ? p.z : p.x);
+    return (
+      <g key={which}>
+        <text x={8} y={top + VIEW_H - 8} className="view-label">{which === 'side' ? 'side view (z up)' : 'top view (x across)'}</text>
+        <line x1={LEFT - 30} x2={W - RIGHT + 10} y1={cy} y2={cy} className="axis-line" />
+        <g className="oven">
+          <rect x={LEFT - 34} y={cy - 16} width={30} height={32} rx={3} />
+          <line x1={LEFT - 4} x2={LEFT} y1={cy} y2={cy} />
+          {line.oven.aperture && (() => {
+            // the aperture as a slot in the oven's front plate
+            const ap = line.oven.aperture;
+            const half = Math.min(Math.max(T((which === 'side' ? ap.height : ap.width) / 2), 0.75), 36);
+            const c = cy - T(which === 'side' ? ap.z : ap.x);
+            return (
+              <>
+                <line className="front" x1={LEFT - 2} x2={LEFT - 2} y1={cy - 40} y2={c - half} />
+                <line className="front" x1={LEFT - 2} x2={LEFT - 2} y1={c + half} y2={cy + 40} />
+              </>
+            );
+          })()}
+          <text x={LEFT - 19} y={cy + 30} textAnchor="middle" className="el-label">oven</text>
+        </g>
+        {traces.map((t, i) => {
+          const pts = t.points.map((p) => `${X(p.y).toFixed(1)},${(cy - T(tr(p))).toFixed(1)}`).join(' ');
+          const last = t.points[t.points.length - 1];
+          return (
+            <g key={i} className="beam" stroke={LEAF_COLORS[i % LEAF_COLORS.length]}>
+              <polyline points={pts} fill="none" strokeDasharray={t.fromEngine ? undefined : '4 3'} />
+              {t.endsInStop && <line x1={X(last.y) + 4} x2={X(last.y) + 4} y1={cy - T(tr(last)) - 5} y2={cy - T(tr(last)) + 5} strokeWidth={2} />}
+            </g>
+          );
+        })}
+        {items.map((p) => (
+          <ElementGlyph key={p.id} p={p} which={which} cy={cy} X={X} T={T} row={rows.get(p.id) ?? 0}
+            selected={selected === p.id} warned={warned.has(p.id)} onSelect={onSelect} />
+        ))}
+      </g>
+    );
+  };
+
+  const axisY = 2 * VIEW_H + 18;
+  return (
+    <svg className="schematic" viewBox={`0 0 ${W} ${2 * VIEW_H + 76}`} role="img"
+      aria-label={geo.toScale ? `Schematic of ${line.title || 'the line'}: ${items.length} elements over ${fmtLength(geo.end)}` : `Schematic of ${line.title || 'the line'} in routing order (no distances given)`}>
+      <defs>
+        <marker id="arrow" viewBox="0 0 10 10" refX="8" refY="5" markerWidth="5" markerHeight="5" orient="auto-start-reverse">
+          <path d="M 0 0 L 10 5 L 0 10 z" className="arrowhead" />
+        </marker>
+      </defs>
+      {view('side', 0)}
+      {view('top', VIEW_H)}
+      <g className="scale">
+        <line x1={LEFT} x2={W - RIGHT} y1={axisY} y2={axisY} />
+        {!geo.toScale && (
+          <text x={LEFT} y={axisY + 16} className="pos-label">
+            not to scale: this line gives no distances (every gap and length is zero), so the elements are drawn in routing order
+          </text>
+        )}
+        {geo.toScale && items.map((p) => (
+          <g key={p.id}>
+            <line x1={X(p.y0)} x2={X(p.y0)} y1={axisY - 4} y2={axisY + 4} />
+            {(rows.get(p.id) ?? 0) === 0 || Math.abs(p.y0 - (items[items.indexOf(p) - 1]?.y0 ?? -1)) > 1e-9 ? (
+              <text x={X(p.y0)} y={axisY + 14 + ((rows.get(p.id) ?? 0) % 2) * 10} textAnchor="middle" className="pos-label">{fmtLength(p.y0)}</text>
+            ) : null}
+          </g>
+        ))}
+        {geo.toScale && (
+          <>
+            <line x1={LEFT} x2={LEFT + bar.length * pxPerM} y1={axisY + 30} y2={axisY + 30} className="bar" />
+            <text x={LEFT} y={axisY + 42} className="pos-label">{bar.label} along the beam</text>
+          </>
+        )}
+        <line x1={W / 2} x2={W / 2 + T(tBar.length)} y1={axisY + 30} y2={axisY + 30} className="bar" />
+        <text x={W / 2} y={axisY + 42} className="pos-label">
+          {tBar.label} across the beam (transverse drawn ×{k.toLocaleString('en')})
+        </text>
+        {!traces.some((t) => t.fromEngine) && traces.length > 0 && (
+          <text x={W / 2} y={axisY + 54} className="pos-label">sub-beams drawn on the axis: the engine reports no displacements for this line</text>
+        )}
+      </g>
+      <title>{`Positions from the oven aperture; sub-beams drawn straight from the first magnet to the engine's mean displacement at each detector plane (${lengthLabel(bar.length)} scale bar).`}</title>
+    </svg>
+  );
+}
+
+function ElementGlyph({ p, which, cy, X, T, row, selected, warned, onSelect }: {
+  p: Placed; which: 'side' | 'top'; cy: number; row: number; X(y: number): number; T(t: number): number;
+  selected: boolean; warned: boolean; onSelect(id: string): void;
+}) {
+  const e = p.element;
+  const x0 = X(p.y0);
+  const w = Math.max(X(p.y1) - x0, 4);
+  const cls = `el el-${e.kind}${selected ? ' selected' : ''}${warned ? ' warned' : ''}`;
+  const label = (
+    <text x={x0 + w / 2} y={cy - 36 - row * 11} textAnchor="middle" className="el-label">
+      {e.id}
+      {warned ? ' ⚠' : ''}
+    </text>
+  );
+  let body: React.ReactNode;
+  switch (e.kind) {
+    case 'magnet': {
+      const ap = e.aperture ? (which === 'side' ? e.aperture.height : e.aperture.width) : undefined;
+      const half = ap !== undefined ? Math.max(T(ap / 2), 2) : 8;
+      const roll = rollOf(e) ?? 0;
+      body = (
+        <>
+          {which === 'side' ? (
+            <>
+              <rect x={x0} y={cy - half - 18} width={w} height={18} className="pole" />
+              <rect x={x0} y={cy + half} width={w} height={18} className="pole" />
+            </>
+          ) : (
+            // seen from above: the upper pole over the gap, its width the pole-gap width
+            <rect x={x0} y={cy - half} width={w} height={2 * half} className="pole pole-top" />
+          )}
+          {which === 'side' && (
+            <g transform={`translate(${x0 + w / 2}, ${cy - 62})`} className="endview">
+              <circle r={11} />
+              <line x1={-9 * Math.sin(roll)} y1={9 * Math.cos(roll)} x2={9 * Math.sin(roll)} y2={-9 * Math.cos(roll)} markerEnd="url(#arrow)" />
+              <text x={14} y={4} className="pos-label">{Math.round((roll * 180) / Math.PI)}°</text>
+            </g>
+          )}
+          {which === 'top' && e.gradient !== undefined && (
+            <text x={x0 + w / 2} y={cy + half + 32} textAnchor="middle" className="pos-label">{`${Math.round(e.gradient)} T/m`}</text>
+          )}
+        </>
+      );
+      break;
+    }
+    case 'slit': {
+      const open = which === 'side' ? e.height : e.width;
+      const off = which === 'side' ? e.z : e.x;
+      body = (
+        <>
+          <rect x={x0 - 2} y={cy - T(off) - T(open / 2) - 26} width={5} height={26} className="jaw" />
+          <rect x={x0 - 2} y={cy - T(off) + T(open / 2)} width={5} height={26} className="jaw" />
+        </>
+      );
+      break;
+    }
+    case 'detector': {
+      const win = e.window;
+      const c = win ? (which === 'side' ? win.z : win.x) : 0;
+      const size = win ? (which === 'side' ? win.height : win.width) : undefined;
+      const reach = win ? Math.max(Math.abs(T(c)) + T(size! / 2) + 6, 40) : 40;
+      body = (
+        <>
+          <rect x={x0} y={cy - reach} width={6} height={2 * reach} className="plate" />
+          {size !== undefined && <rect x={x0 - 2} y={cy - T(c) - T(size / 2)} width={10} height={Math.max(T(size), 1.5)} className="window" />}
+        </>
+      );
+      break;
+    }
+    case 'rotator':
+      body = <path d={`M ${x0} ${cy - 10} L ${x0 + 7} ${cy} L ${x0} ${cy + 10} L ${x0 - 7} ${cy} Z`} className="field-el" />;
+      break;
+    default:
+      body = <rect x={x0} y={cy - 24} width={w} height={48} className="field-el" strokeDasharray="4 2" />;
+  }
+  return (
+    <g className={cls} onClick={() => onSelect(e.id)} data-element={e.id}>
+      <title>{`${e.id} (${e.kind}) at ${fmtLength(p.y0)}${p.y1 > p.y0 ? `–${fmtLength(p.y1)}` : ''}`}</title>
+      {body}
+      {which === 'side' && label}
+    </g>
+  );
+}

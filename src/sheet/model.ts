@@ -1,0 +1,284 @@
+/**
+ * The setup sheet of one beamline as plain data: what the bench needs on paper before the line is
+ * aligned (species and its constants with sources, oven, every element at its place along the beam with
+ * its set-points as the document wrote them, the expected leaves and detector counts, warnings and
+ * cautions). Lengths on the sheet: element positions and lengths in cm, detector-plane positions in mm.
+ * No DOM, React or node:* here: the app's renderer and the CLI both build it.
+ */
+import { ATOMIC_MASS_UNIT_KG } from '../beamline/units.ts';
+import type { AxisDoc, Beamline, BeamlineDoc, ElementDoc, OvenStateDoc, QuantityDoc, VelocityDoc } from '../beamline/types.ts';
+import type { RunResult } from '../engine/result.ts';
+import { formatHalfInteger } from '../physics/spin.ts';
+import { LINE_CAUTIONS, lookupSpecies } from '../species/index.ts';
+import type { AtomSpecies, Cited } from '../species/types.ts';
+
+/** One number of the species with where it was read. */
+export interface SheetConstant {
+  name: string;
+  value: string;
+  source: string;
+}
+
+export interface SheetSpecies {
+  /** Library name ("Rb-87", "Ag") or "bare spin 1/2". */
+  name: string;
+  label: string;
+  /** Nuclear spin I and electronic angular momentum J as written in physics ("3/2", "1/2"). */
+  I: string;
+  J: string;
+  constants: SheetConstant[];
+  /** For a natural mixture: its isotopes with their abundance fractions. */
+  parts?: { name: string; I: string; J: string; fraction: number; constants: SheetConstant[] }[];
+}
+
+export interface SheetOven {
+  /** The initial spin state, in words ("unpolarized", "pure m = +1/2 along roll 0 deg", …). */
+  state: string;
+  /** Velocity distribution: kind and its parameters as written. */
+  velocity: { kind: string; parameters: { name: string; value: string }[] };
+  /** Flux as the document wrote it ("5e8 /s", or the reservoir temperature of a vapour estimate). */
+  fluxWritten: string;
+  /** Flux the run used, atoms/s. */
+  flux: number;
+  /** Oven aperture as written ("1 mm × 0.05 mm"), when given. */
+  aperture?: string;
+}
+
+export interface SheetSetPoint {
+  /** The document key ("gap", "axis", "field", "gradient", "aperture", "angle", …). */
+  name: string;
+  /** Its value as the document wrote it. */
+  value: string;
+}
+
+export interface SheetElement {
+  id: string;
+  kind: string;
+  /** Entrance along the beam from the oven aperture (cm); undefined when the run gave no positions. */
+  entranceCm?: number;
+  /** exit − entrance (cm). */
+  lengthCm?: number;
+  setPoints: SheetSetPoint[];
+  /** Where its output goes: one row per port of a magnet ("+1/2" → "M2"), one row with port "" otherwise. */
+  routes: { port: string; target: string }[];
+}
+
+export interface SheetLeaf {
+  path: string[];
+  target: string;
+  yield: number;
+  /** counts/s (or atoms/s absorbed at a stop). */
+  rate: number;
+  /** Mean displacement at the leaf's plane (mm). */
+  displacementMm?: { x: number; z: number };
+  /** rms spread at the leaf's plane (mm). */
+  spreadMm?: { x: number; z: number };
+  captured?: number;
+}
+
+export interface SheetDetector {
+  id: string;
+  yield: number;
+  /** counts/s, background included once. */
+  rate: number;
+  counts: number;
+  sigma: number;
+  /** s */
+  dwell: number;
+  signalToBackground: number;
+  /** Time to the relative precision `epsilon` on the signal (s). */
+  timeToPrecision: number;
+  epsilon: number;
+}
+
+export interface SheetModel {
+  title: string;
+  generatedAt?: string;
+  species: SheetSpecies;
+  oven: SheetOven;
+  /** In beam order: by entrance, then document order. */
+  elements: SheetElement[];
+  /** Total drawn length of the line from the oven aperture to the last exit (cm). */
+  lineLengthCm: number;
+  leaves: SheetLeaf[];
+  detectors: SheetDetector[];
+  /** Fraction of the oven flux lost (apertures, slits). */
+  lost: number;
+  warnings: string[];
+  /** "method, N nodes, estimated error E", when the run reports one. */
+  quadrature?: string;
+  /** Species cautions then line cautions, each once. */
+  cautions: string[];
+  /** The closing line that defers to local rules. */
+  deference: string;
+}
+
+export const DEFERENCE = 'These notes summarise common practice; local rules and licensed practice take precedence.';
+
+/** The library's own closing notice of every caution list; the sheet says it once, as DEFERENCE. */
+const isNotice = (c: string) => c.startsWith('These notes summarise common practice');
+
+// ------------------------------------------------------------------ writing values as the document did
+const q = (v: QuantityDoc | undefined): string => (v === undefined ? '' : String(v));
+
+function axisText(a: AxisDoc): string {
+  return 'roll' in a ? `roll ${q(a.roll)}` : `θ ${q(a.theta)}, φ ${q(a.phi)}`;
+}
+
+function isRecord(v: unknown): v is Record<string, unknown> {
+  return typeof v === 'object' && v !== null && !Array.isArray(v);
+}
+
+/** Any document value in one line: axes as "roll 60 deg", vectors as "(x, y, z)", rectangles as "w × h". */
+export function writtenValue(v: unknown): string {
+  if (v === undefined || v === null) return '';
+  if (typeof v === 'string' || typeof v === 'number') return String(v);
+  if (typeof v === 'boolean') return v ? 'yes' : 'no';
+  if (Array.isArray(v)) return v.map(writtenValue).join(', ');
+  if (isRecord(v)) {
+    if ('roll' in v || ('theta' in v && 'phi' in v)) return axisText(v as AxisDoc);
+    if ('width' in v && 'height' in v) {
+      const at = ['x', 'z'].filter((k) => k in v).map((k) => `${k} ${writtenValue(v[k])}`);
+      return `${writtenValue(v.width)} × ${writtenValue(v.height)}${at.length ? ` at ${at.join(', ')}` : ''}`;
+    }
+    if ('x' in v && 'y' in v && 'z' in v && Object.keys(v).length === 3) return `(${writtenValue(v.x)}, ${writtenValue(v.y)}, ${writtenValue(v.z)})`;
+    return Object.entries(v).map(([k, x]) => `${k}: ${writtenValue(x)}`).join('; ');
+  }
+  return String(v);
+}
+
+function stateText(s: OvenStateDoc): string {
+  if (s.kind === 'unpolarized') return 'unpolarized';
+  if (s.kind === 'pure') return `pure ${s.m} along ${axisText(s.axis)}`;
+  return `populations ${Object.entries(s.p).map(([k, p]) => `${k}: ${q(p)}`).join(', ')} along ${axisText(s.axis)}`;
+}
+
+function velocityOf(v: VelocityDoc): SheetOven['velocity'] {
+  if (v.kind === 'table') {
+    return { kind: 'table', parameters: [{ name: 'points', value: v.points.map(([s, w]) => `${q(s)}: ${q(w)}`).join(', ') }] };
+  }
+  const parameters = Object.entries(v).filter(([k]) => k !== 'kind').map(([name, x]) => ({ name, value: writtenValue(x) }));
+  return { kind: v.kind, parameters };
+}
+
+// ------------------------------------------------------------------ species
+const MASS_U = (kg: number) => kg / ATOMIC_MASS_UNIT_KG;
+
+function cited(name: string, c: Cited, unit: string, scale = 1, sig = 10): SheetConstant {
+  return { name, value: `${Number((c.value * scale).toPrecision(sig))}${unit ? ` ${unit}` : ''}`, source: c.source };
+}
+
+function atomConstants(s: AtomSpecies): SheetConstant[] {
+  const out = [cited('g_J', s.gJ, '')];
+  if (s.i2 > 0) out.push(cited('g_I', s.gI, ''), cited('A', s.aHz, 'MHz', 1e-6, 13));
+  if (s.bHz) out.push(cited('B (quadrupole)', s.bHz, 'MHz', 1e-6));
+  out.push({ name: 'mass', value: `${Number(MASS_U(s.massKg.value).toPrecision(12))} u`, source: s.massKg.source });
+  if (s.abundance) out.push(cited('abundance', s.abundance, ''));
+  return out;
+}
+
+function speciesOf(doc: BeamlineDoc, line: Beamline): { species: SheetSpecies; isotopes: AtomSpecies[] } {
+  const ref = line.species;
+  if (ref.kind === 'bare') {
+    const written = typeof doc.species === 'object' ? doc.species : undefined;
+    const spin = formatHalfInteger(ref.j2, false);
+    return {
+      species: {
+        name: `bare spin ${spin}`, label: 'bare spin (H = g μB J·B)', I: '0', J: spin,
+        constants: [
+          { name: 'g', value: written ? q(written.g) : String(ref.g), source: 'as written in the document' },
+          { name: 'mass', value: written ? q(written.mass) : `${Number(MASS_U(ref.massKg).toPrecision(8))} u`, source: 'as written in the document' },
+        ],
+      },
+      isotopes: [],
+    };
+  }
+  const s = lookupSpecies(ref.name);
+  if (!s || s.kind === 'bare') {
+    return { species: { name: ref.name, label: ref.name, I: '?', J: '?', constants: [] }, isotopes: [] };
+  }
+  if (s.kind === 'atom') {
+    return {
+      species: { name: s.name, label: `${s.label}, ${s.state}`, I: formatHalfInteger(s.i2, false), J: formatHalfInteger(s.j2, false), constants: atomConstants(s) },
+      isotopes: [s],
+    };
+  }
+  const parts = s.parts.map((p) => ({
+    name: p.species.name, I: formatHalfInteger(p.species.i2, false), J: formatHalfInteger(p.species.j2, false),
+    fraction: p.fraction, constants: atomConstants(p.species),
+  }));
+  const same = (k: 'I' | 'J') => (new Set(parts.map((p) => p[k])).size === 1 ? parts[0][k] : parts.map((p) => p[k]).join(' / '));
+  return {
+    species: { name: s.name, label: `${s.label} (natural mixture)`, I: same('I'), J: same('J'), constants: [], parts },
+    isotopes: s.parts.map((p) => p.species),
+  };
+}
+
+// ------------------------------------------------------------------ elements
+const NOT_SET_POINTS = new Set(['id', 'kind', 'ports', 'to']);
+
+function elementOf(e: ElementDoc, pos: { entrance: number; exit: number } | undefined): SheetElement {
+  const setPoints = Object.entries(e)
+    .filter(([k]) => !NOT_SET_POINTS.has(k))
+    .map(([name, v]) => ({ name, value: writtenValue(v) }));
+  const routes = e.kind === 'magnet'
+    ? Object.entries(e.ports).map(([port, target]) => ({ port, target }))
+    : e.kind === 'detector' ? [] : [{ port: '', target: (e as { to: string }).to }];
+  const out: SheetElement = { id: e.id, kind: e.kind, setPoints, routes };
+  if (pos) {
+    out.entranceCm = pos.entrance * 100;
+    out.lengthCm = (pos.exit - pos.entrance) * 100;
+  }
+  return out;
+}
+
+const xzMm = (v: { x: number; z: number } | undefined) => (v ? { x: v.x * 1e3, z: v.z * 1e3 } : undefined);
+
+/**
+ * The setup sheet of the beamline `doc` (as written) / `line` (normalized) with the run `result`.
+ * `generatedAt` is printed as given (the caller's clock; the model reads none).
+ */
+export function buildSheet(doc: BeamlineDoc, line: Beamline, result: RunResult, opts: { generatedAt?: string } = {}): SheetModel {
+  const { species, isotopes } = speciesOf(doc, line);
+  const positions = result.positions ?? {};
+  const order = new Map(doc.elements.map((e, i) => [e.id, i]));
+  const elements = doc.elements
+    .map((e) => elementOf(e, positions[e.id]))
+    .sort((a, b) => (a.entranceCm ?? 0) - (b.entranceCm ?? 0) || (order.get(a.id) ?? 0) - (order.get(b.id) ?? 0));
+  const ends = Object.values(positions).map((p) => p.exit * 100);
+  const flux = doc.oven.flux;
+  const oven: SheetOven = {
+    state: stateText(doc.oven.state),
+    velocity: velocityOf(doc.oven.velocity),
+    fluxWritten: typeof flux === 'object' ? `vapour-pressure estimate at ${q(flux.temperature)}` : q(flux),
+    flux: result.flux,
+  };
+  if (doc.oven.aperture) oven.aperture = writtenValue(doc.oven.aperture);
+  const all = [...isotopes.flatMap((s) => s.cautions ?? []), ...LINE_CAUTIONS];
+  const model: SheetModel = {
+    title: line.title || doc.title || '(untitled beamline)',
+    species,
+    oven,
+    elements,
+    lineLengthCm: Math.max(0, ...ends),
+    leaves: result.leaves.map((l) => {
+      const leaf: SheetLeaf = { path: [...l.path], target: l.target, yield: l.yield, rate: l.rate };
+      if (l.displacement) leaf.displacementMm = xzMm(l.displacement);
+      if (l.spread) leaf.spreadMm = xzMm(l.spread);
+      if (l.captured !== undefined) leaf.captured = l.captured;
+      return leaf;
+    }),
+    detectors: result.detectors.map((d) => ({
+      id: d.id, yield: d.yield, rate: d.rate, counts: d.counts, sigma: d.sigma, dwell: d.dwell,
+      signalToBackground: d.signalToBackground, timeToPrecision: d.timeToPrecision.seconds, epsilon: d.timeToPrecision.epsilon,
+    })),
+    lost: result.lost,
+    warnings: [...new Set(result.warnings)],
+    cautions: [...new Set(all.filter((c) => !isNotice(c)))],
+    deference: DEFERENCE,
+  };
+  if (opts.generatedAt !== undefined) model.generatedAt = opts.generatedAt;
+  const qd = result.quadrature;
+  if (qd) model.quadrature = qd.nodes > 0 ? `${qd.method}, ${qd.nodes} nodes, estimated error ${Number(qd.error.toPrecision(2))}` : qd.method;
+  return model;
+}

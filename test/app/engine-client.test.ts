@@ -1,0 +1,82 @@
+import { describe, it, expect, vi, afterEach } from 'vitest';
+import { createEngineClient, type EngineAnswer, type EngineStatus, type WorkerLike } from '../../src/app/engine-client.ts';
+import type { EngineReply } from '../../src/app/engine-protocol.ts';
+
+/** A worker that records requests and answers when told to. */
+function fakeWorkers() {
+  const made: (WorkerLike & { posted: { seq: number; text: string }[]; terminated: boolean; reply(m: EngineReply): void })[] = [];
+  const make = () => {
+    const w = {
+      posted: [] as { seq: number; text: string }[],
+      terminated: false,
+      onmessage: null as WorkerLike['onmessage'],
+      onerror: null as WorkerLike['onerror'],
+      postMessage(m: unknown) {
+        this.posted.push(m as { seq: number; text: string });
+      },
+      terminate() {
+        this.terminated = true;
+      },
+      reply(m: EngineReply) {
+        this.onmessage?.({ data: m } as MessageEvent<EngineReply>);
+      },
+    };
+    made.push(w);
+    return w;
+  };
+  return { made, make };
+}
+
+const result = (y: number) => ({ leaves: [{ path: [], target: 'D1', yield: y, rate: y }], detectors: [], lost: 1 - y, warnings: [] });
+
+afterEach(() => vi.useRealTimers());
+
+describe('createEngineClient', () => {
+  it('runs the latest document and discards answers to superseded requests', () => {
+    const { made, make } = fakeWorkers();
+    const answers: EngineAnswer[] = [];
+    const c = createEngineClient(make, (a) => answers.push(a), () => {});
+    c.run(1, 'doc1');
+    c.run(2, 'doc2'); // busy: waits
+    c.run(3, 'doc3'); // replaces doc2
+    expect(made[0].posted.map((p) => p.seq)).toEqual([1]);
+    made[0].reply({ type: 'result', seq: 1, result: result(0.1), ms: 5 });
+    expect(answers).toEqual([]); // seq 1 is stale
+    expect(made[0].posted.map((p) => p.text)).toEqual(['doc1', 'doc3']);
+    made[0].reply({ type: 'result', seq: 3, result: result(0.3), ms: 5 });
+    expect(answers.map((a) => [a.seq, a.result?.leaves[0].yield])).toEqual([[3, 0.3]]);
+  });
+
+  it('shows a slow run after slowMs, and cancel terminates the worker and starts a fresh one next time', () => {
+    vi.useFakeTimers();
+    const { made, make } = fakeWorkers();
+    const statuses: EngineStatus[] = [];
+    const answers: EngineAnswer[] = [];
+    const c = createEngineClient(make, (a) => answers.push(a), (s) => statuses.push(s), 500);
+    c.run(1, 'doc1');
+    vi.advanceTimersByTime(499);
+    expect(statuses.at(-1)!.slow).toBe(false);
+    vi.advanceTimersByTime(2);
+    expect(statuses.at(-1)).toMatchObject({ running: true, slow: true });
+    made[0].reply({ type: 'progress', seq: 1, fraction: 0.4 });
+    expect(statuses.at(-1)!.progress).toBe(0.4);
+    c.cancel();
+    expect(made[0].terminated).toBe(true);
+    expect(statuses.at(-1)).toMatchObject({ running: false, cancelled: true });
+    c.run(2, 'doc2');
+    expect(made).toHaveLength(2);
+    made[1].reply({ type: 'error', seq: 2, message: 'elements[0]: bad' });
+    expect(answers).toEqual([{ seq: 2, error: 'elements[0]: bad' }]);
+  });
+
+  it('drops a slow stale run at once when a newer document arrives', () => {
+    vi.useFakeTimers();
+    const { made, make } = fakeWorkers();
+    const c = createEngineClient(make, () => {}, () => {}, 500);
+    c.run(1, 'doc1');
+    vi.advanceTimersByTime(600);
+    c.run(2, 'doc2');
+    expect(made[0].terminated).toBe(true);
+    expect(made[1].posted.map((p) => p.seq)).toEqual([2]);
+  });
+});
