@@ -30,6 +30,13 @@ export default tseslint.config(
       '@typescript-eslint/no-explicit-any': 'off',
     },
   },
+  {
+    // build and serve scripts run in Node
+    files: ['scripts/**/*.mjs', 'build/**/*.mjs', 'bin/**/*.js', '*.config.js'],
+    languageOptions: {
+      globals: Object.fromEntries(['process', 'console', 'URL', 'Buffer', 'setTimeout', 'clearTimeout', 'setInterval', 'clearInterval', '__dirname', 'fetch'].map((g) => [g, 'readonly'])),
+    },
+  },
   layer('physics', ['species', 'beamline', 'engine', 'sheet', 'app', 'cli', 'host'], coreBan),
   layer('species', ['beamline', 'engine', 'sheet', 'app', 'cli', 'host'], coreBan),
   layer('beamline', ['engine', 'sheet', 'app', 'cli', 'host'], coreBan),

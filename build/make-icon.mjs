@@ -1,4 +1,3 @@
-/* global console, Buffer */
 // Draws the application icon (build/icon.png, 512×512 RGBA, and build/icon.svg) from shapes: a beam from
 // an oven slit passes a gradient magnet's pole pair and leaves as two sub-beams towards a detector plate.
 // Rasterised here with 4×4 supersampling and written as PNG with node:zlib, so no image tool is needed.

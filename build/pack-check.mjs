@@ -1,4 +1,3 @@
-/* global process, console */
 // `npm run pack:check`: runs electron-builder --dir against electron-builder.yml with a stub Electron
 // distribution (a folder holding a fake `electron` executable, made in a temp dir), because Electron's
 // binary cannot be downloaded here. It checks the configuration and the app's file set, not Electron:

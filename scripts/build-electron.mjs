@@ -1,4 +1,3 @@
-/* global process */
 // Bundles the Electron main process and preload to dist-electron/ as CommonJS, with the esbuild that
 // node_modules already holds (it comes with tsx and vite). Electron itself stays external.
 //   node scripts/build-electron.mjs [--watch]

@@ -1,4 +1,3 @@
-/* global process, console */
 // `npm start`: the desktop app when Electron's binary is installed, else the browser host.
 // The binary's presence is read from node_modules/electron (path.txt and dist/) rather than by
 // require('electron'), because that require starts a download when the binary is missing.

@@ -90,13 +90,13 @@ function hasGeometry(f: FinePath): boolean {
 }
 
 /**
- * A speed-by-speed leaf's grid merged into at most 96 groups of neighbouring speeds for the geometry:
+ * A speed-by-speed leaf's grid merged into at most 48 groups of neighbouring speeds for the geometry:
  * weights add, the trace is the weighted mean, the speed keeps the group's mean 1/v² (deflections go
  * as 1/v²).
  */
 function coarsen(g: NonNullable<FinePath['grid']>): { speeds: Float64Array; weights: Float64Array; traces: Float64Array } {
   const n = g.speeds.length;
-  const m = Math.min(96, n);
+  const m = Math.min(48, n);
   const speeds = new Float64Array(m), weights = new Float64Array(m), traces = new Float64Array(m);
   for (let j = 0; j < m; j++) {
     const a = Math.floor((j * n) / m), b = Math.floor(((j + 1) * n) / m);
@@ -117,7 +117,7 @@ function coarsen(g: NonNullable<FinePath['grid']>): { speeds: Float64Array; weig
 }
 
 function fineGeometry(f: FinePath): FineGeo {
-  const g = f.grid ? coarsen(f.grid) : speedGrid(f.dist, 12, 8);
+  const g = f.grid ? coarsen(f.grid) : speedGrid(f.dist, 8, 6);
   let phiMax = Infinity;
   if (!f.grid && (f.dist.kind === 'effusive' || f.dist.kind === 'supersonic')) {
     let ds = 0;
@@ -327,7 +327,7 @@ function addProfiles(leaves: (LeafResult & { _acc: LeafAcc })[], verdicts: Map<s
       hi = Math.max(hi, l.displacement![axis] + 4 * l.spread![axis]);
     }
     if (!(hi - lo > 1e-7)) { const c = 0.5 * (lo + hi); lo = c - 5e-5; hi = c + 5e-5; }
-    const bins = 80;
+    const bins = 60;
     const dx = (hi - lo) / bins;
     const positions = Array.from({ length: bins }, (_, i) => lo + (i + 0.5) * dx);
     for (const l of ls) {

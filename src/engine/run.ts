@@ -220,6 +220,8 @@ function selectStates(st: State, comps: readonly Component[], leafNext = false):
       return out;
     });
   }
+  // one state: |k⟩⟨k| ρ |k⟩⟨k| is a single Kraus operator, and the state keeps its frequency terms
+  if (comps.length === 1) return specKraus(st, rank1Cached(comps[0]));
   if (leafNext) return specKraus(st, portProjector(comps));
   return specProjectDiag(st, comps.map((c) => c.vector));
 }
@@ -251,6 +253,16 @@ function portComponents(sorting: Sorting, port: string): readonly Component[] {
   return c;
 }
 const portCache = new WeakMap<Sorting, Map<string, readonly Component[]>>();
+
+const rank1s = new WeakMap<Component, CMat>();
+function rank1Cached(c: Component): CMat {
+  let p = rank1s.get(c);
+  if (!p) {
+    p = rank1(c);
+    rank1s.set(c, p);
+  }
+  return p;
+}
 
 function rank1(c: Component): CMat {
   const v = c.vector;

@@ -434,20 +434,7 @@ export function specAverage(st: SpecState, chi: CharCache): { rho: CMat; error: 
 /** Tr⟨ρ⟩ = Σ_ab (W†W)_ba A_ab without forming ⟨ρ⟩. */
 export function specAverageTrace(st: SpecState, chi: CharCache): { value: number; error: number; hermiticity: number; positive: boolean } {
   const av = specAverageBasis(st, chi);
-  const d = st.W.rows, r = st.W.cols;
-  let tr = 0;
-  for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
-    // (W†W)_ba = Σ_i conj(W_ib) W_ia
-    let gr = 0, gi = 0;
-    for (let i = 0; i < d; i++) {
-      const wbr = st.W.re[i * r + b], wbi = -st.W.im[i * r + b];
-      const war = st.W.re[i * r + a], wai = st.W.im[i * r + a];
-      gr += wbr * war - wbi * wai;
-      gi += wbr * wai + wbi * war;
-    }
-    tr += av.A.re[a * r + b] * gr - av.A.im[a * r + b] * gi;
-  }
-  return { value: tr, error: av.error, hermiticity: av.hermiticity, positive: av.positive };
+  return { value: traceWAW(st.W, av.A), error: av.error, hermiticity: av.hermiticity, positive: av.positive };
 }
 
 /**
@@ -498,39 +485,57 @@ export function specAt(st: SpecState, v: number, phiMax: number = Infinity): CMa
   return cmatMul(cmatMul(st.W, acc), cmatDagger(st.W));
 }
 
+const moments = new WeakMap<readonly SpecTerm[], CMat>();
+
 /**
- * ⟨Tr ρ(s) · s^n⟩ over the distribution, each frequency on its own (χ_n of physics/velocity.ts); entries
- * below 1e-13 of the trace weight are left out (their share of a mean is below that).
+ * ⟨Tr ρ(s) · s²⟩ over the distribution, each frequency on its own (χ₂ of physics/velocity.ts): as for
+ * the yield, A₂ = Σ_t X_t ∘ χ₂(φ_t + Ω) is computed once per state and shared by its branches.
  */
 export function specTraceMoment(st: SpecState, dist: VelocityDistribution, n: number, cache: Map<number, [number, number]>): number {
   const r = st.W.cols;
-  const g = cmatMul(cmatDagger(st.W), st.W);
-  let total = 0, big = 0;
-  const coefs: [number, number, number][] = [];
-  for (const t of st.terms) {
-    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
-      const i = a * r + b;
-      const xr = t.X.re[i], xi = t.X.im[i];
-      if (xr === 0 && xi === 0) continue;
-      const gr = g.re[b * r + a], gi = g.im[b * r + a];
-      const cr = xr * gr - xi * gi, ci = xr * gi + xi * gr;
-      big = Math.max(big, Math.hypot(cr, ci));
-      coefs.push([t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0), cr, ci]);
+  let A = moments.get(st.terms);
+  if (!A) {
+    A = cmatZeros(r, r);
+    for (const t of st.terms) {
+      for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+        const i = a * r + b;
+        const xr = t.X.re[i], xi = t.X.im[i];
+        if (xr === 0 && xi === 0) continue;
+        const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+        const key = Math.abs(f);
+        let c = cache.get(key);
+        if (!c) {
+          const v = charFunction(dist, key, n);
+          c = [v.re, v.im];
+          cache.set(key, c);
+        }
+        const ci = f < 0 ? -c[1] : c[1];
+        A.re[i] += xr * c[0] - xi * ci;
+        A.im[i] += xr * ci + xi * c[0];
+      }
+    }
+    moments.set(st.terms, A);
+  }
+  return traceWAW(st.W, A);
+}
+
+/** Re Tr(W A W†) = Re Σ_ab (W†W)_ba A_ab. */
+function traceWAW(W: CMat, A: CMat): number {
+  const d = W.rows, r = W.cols;
+  let tr = 0;
+  for (let i = 0; i < d; i++) {
+    for (let a = 0; a < r; a++) {
+      const war = W.re[i * r + a], wai = W.im[i * r + a];
+      if (war === 0 && wai === 0) continue;
+      for (let b = 0; b < r; b++) {
+        // W_ia A_ab conj(W_ib)
+        const ar = A.re[a * r + b], ai = A.im[a * r + b];
+        const pr = war * ar - wai * ai, pi = war * ai + wai * ar;
+        tr += pr * W.re[i * r + b] + pi * W.im[i * r + b];
+      }
     }
   }
-  for (const [f, cr, ci] of coefs) {
-    if (Math.hypot(cr, ci) < 1e-13 * big) continue;
-    const key = Math.abs(f);
-    let c = cache.get(key);
-    if (!c) {
-      const v = charFunction(dist, key, n);
-      c = [v.re, v.im];
-      cache.set(key, c);
-    }
-    const im = f < 0 ? -c[1] : c[1];
-    total += cr * c[0] - ci * im;
-  }
-  return total;
+  return tr;
 }
 
 /** Largest |φ + Ω_ab| among entries whose trace weight exceeds `minWeight`, with the weight they carry. */

@@ -95,7 +95,7 @@ export function effusiveIntegral(n: number, w: number): CharValue {
 }
 
 /**
- * I₀(W) through lazily built Chebyshev panels (chebyshev.ts): width 1/2 on [1, 420], halving widths
+ * I₀(W) and I₂(W) through lazily built Chebyshev panels (chebyshev.ts): width 1/2 on [1, 420], halving widths
  * towards 0 down to 2⁻¹⁴, degree 15; a panel whose fit is not good to 1e-14 is not used and the
  * integral is evaluated directly there and below 2⁻¹⁴; above W = 420, |I₀| < 1e-20 and is taken as 0
  * with that bound as its error.
@@ -103,34 +103,39 @@ export function effusiveIntegral(n: number, w: number): CharValue {
  */
 const CHEB_N = 16;
 const W_TOP = 420;
-const panelsUniform: (ChebPanel | null | undefined)[] = [];
-const panelsSmall: (ChebPanel | null | undefined)[] = [];
+const panelsUniform = new Map<number, (ChebPanel | null | undefined)[]>();
+const panelsSmall = new Map<number, (ChebPanel | null | undefined)[]>();
 
-function panelFor(w: number): ChebPanel | null {
+function panelFor(n: number, w: number): ChebPanel | null {
   const fit = (a: number, b: number) => {
-    const p = chebFit((x) => effusiveIntegral(0, x), a, b, CHEB_N);
+    const p = chebFit((x) => effusiveIntegral(n, x), a, b, CHEB_N);
     return p.error < 1e-14 ? p : null;
   };
   if (w >= 1) {
+    let arr = panelsUniform.get(n);
+    if (!arr) panelsUniform.set(n, (arr = []));
     const i = Math.floor((w - 1) * 2);
-    let p = panelsUniform[i];
-    if (p === undefined) panelsUniform[i] = p = fit(1 + i / 2, 1 + (i + 1) / 2);
+    let p = arr[i];
+    if (p === undefined) arr[i] = p = fit(1 + i / 2, 1 + (i + 1) / 2);
     return p;
   }
   const j = Math.floor(-Math.log2(w)); // w in [2^-(j+1), 2^-j)
   if (j >= 14) return null;
-  let p = panelsSmall[j];
-  if (p === undefined) panelsSmall[j] = p = fit(2 ** -(j + 1), 2 ** -j);
+  let arr = panelsSmall.get(n);
+  if (!arr) panelsSmall.set(n, (arr = []));
+  let p = arr[j];
+  if (p === undefined) arr[j] = p = fit(2 ** -(j + 1), 2 ** -j);
   return p;
 }
 
-function effusiveChi0(w: number): CharValue {
-  if (w === 0) return effusiveIntegral(0, w);
-  // |I₀(W)| ≈ C·exp(−1.5 (W/2)^{2/3}) (saddle point at u³ = iW/2), C < 10³ checked against the
+/** I_n(W) for n = 0 (yields) and n = 2 (mean deflections) through the panels. */
+function effusiveTabled(n: number, w: number): CharValue {
+  if (w === 0) return effusiveIntegral(n, w);
+  // |I_n(W)| ≈ C·exp(−1.5 (W/2)^{2/3}) (saddle point at u³ = iW/2), C < 10³ checked against the
   // contour integral: below 1e-20 from W = 420 on
   if (w >= W_TOP) return { re: 0, im: 0, error: 1e3 * Math.exp(-1.5 * Math.cbrt((w / 2) ** 2)), nodes: 0 };
-  const p = panelFor(w);
-  if (!p) return effusiveIntegral(0, w);
+  const p = panelFor(n, w);
+  if (!p) return effusiveIntegral(n, w);
   const [re, im] = chebEval(p, w);
   return { re, im, error: p.error, nodes: 0 };
 }
@@ -172,7 +177,7 @@ export function charFunction(d: VelocityDistribution, phi: number, n: number = 0
       return { re, im, error: 0, nodes: d.speeds.length };
     }
     case 'effusive': {
-      const r = n === 0 ? effusiveChi0(Math.abs(phi) / d.a) : effusiveIntegral(n, Math.abs(phi) / d.a);
+      const r = n === 0 || n === 2 ? effusiveTabled(n, Math.abs(phi) / d.a) : effusiveIntegral(n, Math.abs(phi) / d.a);
       const sc = Math.pow(d.a, -n);
       return { re: r.re * sc, im: (phi < 0 ? -r.im : r.im) * sc, error: r.error * sc, nodes: r.nodes };
     }
