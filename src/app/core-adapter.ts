@@ -16,7 +16,8 @@ import {
   readSpin,
   type LabelSpecies,
 } from '../beamline/index.ts';
-import { runLine } from '../engine/index.ts';
+import { runLine, type RunResult } from '../engine/index.ts';
+import { buildSheet, sheetHtml } from '../sheet/index.ts';
 import { lookupSpecies, speciesNames } from '../species/index.ts';
 import type { BeamlineDoc, Beamline, ElementKind, Problem } from '../beamline/types.ts';
 import type { RunResultView } from './results.ts';
@@ -139,4 +140,15 @@ export function librarySpeciesNames(): string[] {
 /** Runs the engine on a normalized line (result format v1). */
 export function runEngine(line: Beamline, opts?: { onProgress?: (f: number) => void; isCancelled?: () => boolean }): RunResultView {
   return runLine(line, opts) as unknown as RunResultView;
+}
+
+/**
+ * The printable setup sheet (src/sheet) of a document: the line is run again here, so the sheet
+ * always shows the numbers of the document it prints.
+ */
+export function setupSheetHtml(doc: BeamlineDoc, line: Beamline): string {
+  const result = runLine(line) as RunResult;
+  const now = new Date();
+  const stamp = `${now.toISOString().slice(0, 16).replace('T', ' ')} UTC`;
+  return sheetHtml(buildSheet(doc, line, result, { generatedAt: stamp }));
 }

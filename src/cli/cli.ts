@@ -1,5 +1,5 @@
 /**
- * The command line `spinyard`: run, validate, levels, species, help. `runCli(argv)` is a function of its
+ * The command line `spinyard`: run, sheet, validate, levels, species, help. `runCli(argv)` is a function of its
  * arguments (and the files they name, read only) returning exit code, stdout and stderr, so tests call it
  * in-process; main.ts writes them out. Exit 0 success, 2 invalid input (messages on stderr only),
  * 1 internal error. Nothing here writes a file.
@@ -7,6 +7,7 @@
 import { formatProblem, isProblem, parseBeamlineText, parseQuantity } from '../beamline/index.ts';
 import { formatLevelsTable, levelsListing, runDocumentText } from '../engine/index.ts';
 import { formatHalfInteger } from '../physics/spin.ts';
+import { buildSheet, sheetHtml } from '../sheet/index.ts';
 import { LINE_CAUTIONS, formatSpeciesPanel, lookupSpecies, unknownSpeciesMessage } from '../species/index.ts';
 import { type OptionSpec, parseArgs } from './args.ts';
 import { formatRun } from './format.ts';
@@ -59,6 +60,19 @@ function cautionsText(name: string | undefined): string {
   return ['', 'Cautions', ...list.map((c) => `  - ${c}`)].join('\n') + '\n';
 }
 
+/** The setup sheet of FILE as one printable HTML document on stdout; writes no file. */
+function cmdSheet(argv: readonly string[]): CliOutput {
+  const c = commandArgs('sheet', argv, [], { min: 1, max: 1, what: 'FILE' });
+  if (c.out) return c.out;
+  const file = c.args.positional[0];
+  const text = readBeamlineFile(file);
+  if (!text.ok) return bad(text.message);
+  const r = runDocumentText(text.text);
+  if (!r.ok) return problemsOut(file, r.problems);
+  const generatedAt = `${new Date().toISOString().slice(0, 16).replace('T', ' ')} UTC from ${file}`;
+  return ok(sheetHtml(buildSheet(r.doc, r.line, r.result, { generatedAt })));
+}
+
 function cmdValidate(argv: readonly string[]): CliOutput {
   const c = commandArgs('validate', argv, [], { min: 1, max: 1, what: 'FILE' });
   if (c.out) return c.out;
@@ -105,6 +119,7 @@ function cmdHelp(argv: readonly string[]): CliOutput {
 
 export const COMMANDS: Readonly<Record<string, (argv: readonly string[]) => CliOutput>> = {
   run: cmdRun,
+  sheet: cmdSheet,
   validate: cmdValidate,
   levels: cmdLevels,
   species: cmdSpecies,

@@ -4,6 +4,7 @@ export const USAGE = `spinyard: plan an atomic-beam Stern–Gerlach line from a 
 
 Usage:
   spinyard run FILE [--json]          yields, rates, detector plane and counts of every leaf
+  spinyard sheet FILE                 the setup sheet of the line as printable HTML, on stdout
   spinyard validate FILE              check a beamline file; list every problem as "path: message"
   spinyard levels NAME --field B [--json]
                                       energies (Hz) and moments (μB) of a library species at field B
@@ -29,6 +30,14 @@ Runs the beamline in FILE and prints
 
   --json   print the result (format spinyard.result, version 1) as JSON and nothing else
 `,
+  sheet: `Usage: spinyard sheet FILE
+
+Runs the beamline in FILE and prints its setup sheet, one self-contained HTML document for A4
+print, on stdout: species and constants with sources, oven, a to-scale side view, every element in
+beam order with its set-points as written and blank measured / checked by / date cells, the
+expected leaves and detector counts, warnings and cautions. Redirect it to a file and print it from
+a browser (spinyard sheet line.spinyard > line.html). It writes no file itself.
+`,
   validate: `Usage: spinyard validate FILE
 
 Checks FILE against the beamline format (spinyard.beamline, version 1) without running it. Prints
@@ -50,6 +59,6 @@ g_I, A, B, mass, abundance, vapour pressure) with its source, then its cautions 
 `,
   help: `Usage: spinyard help [COMMAND]
 
-Prints the overview, or the help of COMMAND (run, validate, levels, species).
+Prints the overview, or the help of COMMAND (run, sheet, validate, levels, species).
 `,
 };

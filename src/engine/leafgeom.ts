@@ -90,13 +90,13 @@ function hasGeometry(f: FinePath): boolean {
 }
 
 /**
- * A speed-by-speed leaf's grid merged into at most 48 groups of neighbouring speeds for the geometry:
+ * A speed-by-speed leaf's grid merged into at most 192 groups of neighbouring speeds for the geometry:
  * weights add, the trace is the weighted mean, the speed keeps the group's mean 1/v² (deflections go
  * as 1/v²).
  */
 function coarsen(g: NonNullable<FinePath['grid']>): { speeds: Float64Array; weights: Float64Array; traces: Float64Array } {
   const n = g.speeds.length;
-  const m = Math.min(48, n);
+  const m = Math.min(192, n);
   const speeds = new Float64Array(m), weights = new Float64Array(m), traces = new Float64Array(m);
   for (let j = 0; j < m; j++) {
     const a = Math.floor((j * n) / m), b = Math.floor(((j + 1) * n) / m);
@@ -116,8 +116,18 @@ function coarsen(g: NonNullable<FinePath['grid']>): { speeds: Float64Array; weig
   return { speeds, weights, traces };
 }
 
+const grids = new WeakMap<VelocityDistribution, ReturnType<typeof speedGrid>>();
+function geometryGrid(d: VelocityDistribution): ReturnType<typeof speedGrid> {
+  let g = grids.get(d);
+  if (!g) {
+    g = speedGrid(d, 24, 8);
+    grids.set(d, g);
+  }
+  return g;
+}
+
 function fineGeometry(f: FinePath): FineGeo {
-  const g = f.grid ? coarsen(f.grid) : speedGrid(f.dist, 8, 6);
+  const g = f.grid ? coarsen(f.grid) : geometryGrid(f.dist);
   let phiMax = Infinity;
   if (!f.grid && (f.dist.kind === 'effusive' || f.dist.kind === 'supersonic')) {
     let ds = 0;
@@ -333,7 +343,11 @@ function addProfiles(leaves: (LeafResult & { _acc: LeafAcc })[], verdicts: Map<s
     for (const l of ls) {
       const dens = new Float64Array(bins);
       for (const g of l._acc.fines) {
-        for (const n of g.nodes) {
+        // the profile is a histogram: groups of four neighbouring speeds share one set of clips
+        for (let q = 0; q < g.nodes.length; q += 4) {
+          const group = g.nodes.slice(q, q + 4);
+          const n = group[Math.min(1, group.length - 1)];
+          const wsum = group.reduce((a, x) => a + x.w, 0);
           const r = axis === 'x' ? n.rx : n.rz;
           const c = axis === 'x' ? n.cx : n.cz;
           const other = axis === 'x' ? n.rz.transmission : n.rx.transmission;
@@ -341,7 +355,7 @@ function addProfiles(leaves: (LeafResult & { _acc: LeafAcc })[], verdicts: Map<s
           let prev = fractionBelow(c, r, l._acc.plane, lo - d);
           for (let i = 0; i < bins; i++) {
             const cur = fractionBelow(c, r, l._acc.plane, lo + (i + 1) * dx - d);
-            dens[i] += (g.fine.yieldSpin * n.w * other * (cur - prev)) / dx;
+            dens[i] += (g.fine.yieldSpin * wsum * other * (cur - prev)) / dx;
             prev = cur;
           }
         }

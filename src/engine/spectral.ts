@@ -437,32 +437,37 @@ export function specAverageTrace(st: SpecState, chi: CharCache): { value: number
   return { value: traceWAW(st.W, av.A), error: av.error, hermiticity: av.hermiticity, positive: av.positive };
 }
 
+const nodeMatrices = new WeakMap<readonly SpecTerm[], { speeds: ArrayLike<number>; phiMax: number; ms: CMat[] }>();
+
 /**
  * Tr ρ(s) on a set of speeds, keeping only terms whose phase-length is below `phiMax` (faster terms
- * average out against the smooth weights they are used with; phiMax = Infinity keeps all).
+ * average out against the smooth weights they are used with; phiMax = Infinity keeps all). The
+ * matrices Σ_t X_t ∘ e^{−i(φ_t+Ω)/v_k} are computed once per state and speed set.
  */
 export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: number): Float64Array {
   const r = st.W.cols;
-  const g = cmatMul(cmatDagger(st.W), st.W);
-  const out = new Float64Array(speeds.length);
-  for (const t of st.terms) {
-    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
-      const i = a * r + b;
-      const xr = t.X.re[i], xi = t.X.im[i];
-      if (xr === 0 && xi === 0) continue;
-      // Tr(W X W†) = Σ_ab X_ab (W†W)_ba
-      const gr = g.re[b * r + a], gi = g.im[b * r + a];
-      const cr = xr * gr - xi * gi, ci = xr * gi + xi * gr;
-      if (cr === 0 && ci === 0) continue;
-      const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
-      if (Math.abs(f) > phiMax) continue;
-      for (let k = 0; k < speeds.length; k++) {
-        const ph = reduceAngle(f / speeds[k]);
-        out[k] += cr * Math.cos(ph) + ci * Math.sin(ph);
+  let hit = nodeMatrices.get(st.terms);
+  if (!hit || hit.speeds !== speeds || hit.phiMax !== phiMax) {
+    const ms = Array.from({ length: speeds.length }, () => cmatZeros(r, r));
+    for (const t of st.terms) {
+      for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+        const i = a * r + b;
+        const xr = t.X.re[i], xi = t.X.im[i];
+        if (xr === 0 && xi === 0) continue;
+        const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+        if (Math.abs(f) > phiMax) continue;
+        for (let k = 0; k < speeds.length; k++) {
+          const ph = reduceAngle(f / speeds[k]);
+          const c = Math.cos(ph), sn = -Math.sin(ph);
+          ms[k].re[i] += xr * c - xi * sn;
+          ms[k].im[i] += xr * sn + xi * c;
+        }
       }
     }
+    hit = { speeds, phiMax, ms };
+    nodeMatrices.set(st.terms, hit);
   }
-  return out;
+  return Float64Array.from(hit.ms, (m) => traceWAW(st.W, m));
 }
 
 /** ρ at one speed v (a plain matrix), leaving out terms with |φ + Ω_ab| > phiMax. */

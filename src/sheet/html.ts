@@ -42,7 +42,7 @@ function duration(seconds: number): string {
 const SVG_W = 186;
 const X0 = 18; // oven aperture (0 cm along the beam)
 const X1 = 182;
-const LANE_H = 12;
+const LANE_H = 17;
 const CHAR_W = 1.45; // label width per character at font-size 2.6 (mm), a generous estimate
 
 /** A round scale-bar length near a fifth of the line: 1, 2 or 5 × 10^k cm. */
@@ -52,55 +52,74 @@ function scaleBarCm(lineCm: number): number {
   return [5, 2, 1].map((m) => m * p).find((v) => v <= target) ?? p;
 }
 
-/** Elements drawn as one mark: same kind at the same place with the same length (detectors side by side on one plane). */
+/** Elements drawn as one mark: same row, kind, place and length (detectors side by side on one plane). */
 interface Mark {
   kind: string;
   ids: string[];
+  row: number;
   entranceCm: number;
   lengthCm: number;
 }
 
-function marks(els: readonly SheetElement[]): Mark[] {
-  const out: Mark[] = [];
-  for (const el of els) {
-    const at = el.entranceCm ?? 0;
-    const len = el.lengthCm ?? 0;
-    const same = out.find((m) => m.kind === el.kind && Math.abs(m.entranceCm - at) < 1e-6 && Math.abs(m.lengthCm - len) < 1e-6);
-    if (same) same.ids.push(el.id);
-    else out.push({ kind: el.kind, ids: [el.id], entranceCm: at, lengthCm: len });
-  }
-  return out;
+/** A row of the drawing: one branch of the line, from where it leaves its parent row to its last exit (cm). */
+interface Row {
+  parent: number;
+  fromCm: number;
+  toCm: number;
 }
 
-/** Horizontal extent of a mark's box and labels (mm), and where its labels are anchored. */
+const near = (a: number, b: number) => Math.abs(a - b) < 1e-6;
+
+/**
+ * Rows by routing: from the oven, each element's first target continues its row; a target at the same
+ * place as that first one (sibling detectors on one plane) shares it; any other target opens a new row
+ * below, which starts at the element's exit. Elements the oven does not reach get rows of their own.
+ */
+function layout(m: SheetModel): { marks: Mark[]; rows: Row[] } {
+  const byId = new Map(m.elements.map((el) => [el.id, el]));
+  const rowOf = new Map<string, number>();
+  const rows: Row[] = [{ parent: -1, fromCm: 0, toCm: 0 }];
+  const at = (el: SheetElement) => el.entranceCm ?? 0;
+  const len = (el: SheetElement) => el.lengthCm ?? 0;
+  const place = (id: string, row: number) => {
+    const el = byId.get(id);
+    if (!el || rowOf.has(id)) return;
+    rowOf.set(id, row);
+    rows[row].toCm = Math.max(rows[row].toCm, at(el) + len(el));
+    const targets = [...new Set(el.routes.map((r) => r.target))].filter((t) => byId.has(t) && !rowOf.has(t));
+    const first = targets.length ? byId.get(targets[0]) : undefined;
+    for (const t of targets) {
+      const child = byId.get(t);
+      if (!child || rowOf.has(t)) continue;
+      const same = first && (t === first.id || (child.kind === first.kind && near(at(child), at(first)) && near(len(child), len(first))));
+      if (same) place(t, row);
+      else place(t, rows.push({ parent: row, fromCm: at(el) + len(el), toCm: at(el) + len(el) }) - 1);
+    }
+  };
+  place(m.oven.to, 0);
+  for (const el of m.elements) if (!rowOf.has(el.id)) place(el.id, rows.push({ parent: -1, fromCm: at(el), toCm: at(el) }) - 1);
+  const marks: Mark[] = [];
+  for (const el of m.elements) {
+    const row = rowOf.get(el.id) ?? 0;
+    const same = marks.find((mk) => mk.row === row && mk.kind === el.kind && near(mk.entranceCm, at(el)) && near(mk.lengthCm, len(el)));
+    if (same) same.ids.push(el.id);
+    else marks.push({ kind: el.kind, ids: [el.id], row, entranceCm: at(el), lengthCm: len(el) });
+  }
+  return { marks, rows };
+}
+
+/** Where a mark's box and labels go (mm); labels near the page edge are anchored inward. */
 function extent(mk: Mark, x: (cm: number) => number) {
   const start = x(mk.entranceCm);
   const w = Math.max(x(mk.entranceCm + mk.lengthCm) - start, 1);
   const cx = start + w / 2;
   const label = Math.max(mk.ids.join(', ').length, sheetNumber(mk.entranceCm, 3).length) * CHAR_W;
-  let anchor: 'middle' | 'end' | 'start' = 'middle';
-  let tx = cx;
   if (cx + label / 2 > SVG_W - 1) {
-    anchor = 'end';
-    tx = Math.max(start + w, X1);
-  } else if (cx - label / 2 < 1) {
-    anchor = 'start';
-    tx = start;
+    const tx = Math.max(start + w, X1);
+    return { start, w, tx, anchor: 'end', left: tx - label, right: tx };
   }
-  const left = anchor === 'middle' ? cx - label / 2 : anchor === 'end' ? tx - label : tx;
-  return { start, w, tx, anchor, left: Math.min(left, start) - 0.6, right: Math.max(left + label, start + w) + 0.6 };
-}
-
-/** Rows for the drawing: a mark goes into the first row where neither its box nor its labels touch another's. */
-function lanes(ms: readonly Mark[], x: (cm: number) => number): number[] {
-  const rowEnds: number[] = [];
-  return ms.map((mk) => {
-    const { left, right } = extent(mk, x);
-    let row = rowEnds.findIndex((end) => end <= left);
-    if (row < 0) row = rowEnds.push(right) - 1;
-    else rowEnds[row] = right;
-    return row;
-  });
+  if (cx - label / 2 < 1) return { start, w, tx: start, anchor: 'start', left: start, right: start + label };
+  return { start, w, tx: cx, anchor: 'middle', left: cx - label / 2, right: cx + label / 2 };
 }
 
 function shape(kind: string, x: number, w: number, axisY: number): string {
@@ -126,33 +145,46 @@ export function sideViewSvg(m: SheetModel): string {
   }
   const s = (X1 - X0) / L;
   const x = (cm: number) => X0 + cm * s;
-  const ms = marks(m.elements);
-  const row = lanes(ms, x);
-  const n = Math.max(...row) + 1;
-  const top = 4;
+  const { marks, rows } = layout(m);
+  const n = rows.length;
+  const top = 8;
   const axisY = (r: number) => top + 3 + r * LANE_H;
-  const height = top + n * LANE_H + 10;
+  const height = top + n * LANE_H + 6;
   const parts: string[] = [];
-  for (let r = 0; r < n; r++) {
-    parts.push(`<line x1="${X0}" y1="${axisY(r)}" x2="${X1}" y2="${axisY(r)}" class="${r === 0 ? 'axis' : 'axis branch'}"/>`);
-  }
+  rows.forEach((r, i) => {
+    if (i === 0) {
+      parts.push(`<line x1="${X0}" y1="${axisY(0)}" x2="${x(Math.max(r.toCm, L))}" y2="${axisY(0)}" class="axis"/>`);
+      return;
+    }
+    const from = x(r.fromCm);
+    if (r.parent >= 0) parts.push(`<line x1="${from}" y1="${axisY(r.parent)}" x2="${from}" y2="${axisY(i)}" class="axis branch"/>`);
+    parts.push(`<line x1="${from}" y1="${axisY(i)}" x2="${x(r.toCm)}" y2="${axisY(i)}" class="axis branch"/>`);
+  });
   parts.push(`<rect x="3" y="${axisY(0) - 4}" width="${X0 - 5}" height="8" class="open"/>`,
     `<text x="${(X0 - 2) / 2 + 1.5}" y="${axisY(0) + 1}" class="lbl" text-anchor="middle">oven</text>`,
     `<line x1="${X0}" y1="${axisY(0) - 4}" x2="${X0}" y2="${axisY(0) + 4}" class="tick"/>`);
-  ms.forEach((mk, i) => {
-    const { start, w, tx, anchor } = extent(mk, x);
-    const ay = axisY(row[i]);
+  // Labels that would overlap in a row step out to a second (third, …) tier above and below the axis.
+  const tierEnds = new Map<number, number[]>();
+  const placed = [...marks].sort((a, b) => a.row - b.row || a.entranceCm - b.entranceCm);
+  for (const mk of placed) {
+    const { start, w, tx, anchor, left, right } = extent(mk, x);
+    const ends = tierEnds.get(mk.row) ?? [];
+    tierEnds.set(mk.row, ends);
+    let tier = ends.findIndex((end) => end + 0.8 <= left);
+    if (tier < 0) tier = ends.push(right) - 1;
+    else ends[tier] = right;
+    const ay = axisY(mk.row);
     parts.push(`<g>${shape(mk.kind, start, w, ay)}`
-      + `<text x="${tx}" y="${ay - 4}" class="lbl" text-anchor="${anchor}">${e(mk.ids.join(', '))}</text>`
-      + `<text x="${tx}" y="${ay + 6.2}" class="pos" text-anchor="${anchor}">${e(sheetNumber(mk.entranceCm, 3))}</text></g>`);
-  });
+      + `<text x="${tx}" y="${ay - 4 - tier * 3.2}" class="lbl" text-anchor="${anchor}">${e(mk.ids.join(', '))}</text>`
+      + `<text x="${tx}" y="${ay + 6.2 + tier * 2.8}" class="pos" text-anchor="${anchor}">${e(sheetNumber(mk.entranceCm, 3))}</text></g>`);
+  }
   const bar = scaleBarCm(L);
   const by = height - 4;
   parts.push(`<line x1="${X0}" y1="${by}" x2="${x(bar)}" y2="${by}" class="bar"/>`,
     `<line x1="${X0}" y1="${by - 1.2}" x2="${X0}" y2="${by + 1.2}" class="tick"/>`,
     `<line x1="${x(bar)}" y1="${by - 1.2}" x2="${x(bar)}" y2="${by + 1.2}" class="tick"/>`,
     `<text x="${x(bar) + 1.5}" y="${by + 0.9}" class="pos">${e(sheetNumber(bar))} cm</text>`,
-    `<text x="${X1}" y="${by + 0.9}" class="pos" text-anchor="end">beam (+y) →   line length ${e(sheetNumber(L, 4))} cm from the oven aperture${n > 1 ? '; dashed rows: elements of other paths at the same place' : ''}</text>`);
+    `<text x="${X1}" y="${by + 0.9}" class="pos" text-anchor="end">beam (+y) →   line length ${e(sheetNumber(L, 4))} cm from the oven aperture${n > 1 ? '; dashed: a branch (the path of another port), drawn below from where it leaves' : ''}</text>`);
   return `<svg xmlns="http://www.w3.org/2000/svg" class="side" viewBox="0 0 ${SVG_W} ${height}" width="${SVG_W}mm" height="${height}mm" role="img" aria-label="Side view of the line to scale">`
     + `<style>.axis{stroke:#000;stroke-width:0.25}.branch{stroke-dasharray:1 0.8;stroke:#555}.tick{stroke:#000;stroke-width:0.3}`
     + `.bar{stroke:#000;stroke-width:0.7}.magnet{fill:#bbb;stroke:#000;stroke-width:0.3}.solid{fill:#000}`
@@ -174,14 +206,14 @@ function elementRows(el: SheetElement): string {
       ? `<th scope="row"${span}>${e(el.id)}</th><td${span}>${e(el.kind)}</td><td class="num"${span}>${e(sheetNumber(el.entranceCm, 4))}</td><td class="num"${span}>${e(sheetNumber(el.lengthCm, 4))}</td>`
       : '';
     const tail = i === 0 ? `<td class="routes"${span}>${routes}</td>` : '';
-    return `<tr>${head}<td>${e(p.name)}</td><td class="val">${e(p.value)}</td>${blank}${blank}${blank}${tail}</tr>`;
+    return `<tr>${head}<td class="sp">${e(p.name)}</td><td class="val">${e(p.value)}</td>${blank}${blank}${blank}${tail}</tr>`;
   });
   return `<tbody>${rows.join('')}</tbody>`;
 }
 
 function elementsTable(m: SheetModel): string {
-  return `<table class="elements"><colgroup><col style="width:7%"><col style="width:9%"><col style="width:8%"><col style="width:7%">`
-    + `<col style="width:11%"><col style="width:18%"><col style="width:11%"><col style="width:9%"><col style="width:7%"><col style="width:13%"></colgroup>`
+  return `<table class="elements"><colgroup><col style="width:6%"><col style="width:9%"><col style="width:9%"><col style="width:7%">`
+    + `<col style="width:11%"><col style="width:15%"><col style="width:11%"><col style="width:9%"><col style="width:8%"><col style="width:15%"></colgroup>`
     + '<thead><tr><th>id</th><th>kind</th><th class="num">entrance<br>(cm)</th><th class="num">length<br>(cm)</th><th>set-point</th>'
     + '<th>as written</th><th>measured</th><th>checked by</th><th>date</th><th>routes</th></tr></thead>'
     + `${m.elements.map(elementRows).join('')}</table>`;
@@ -189,12 +221,13 @@ function elementsTable(m: SheetModel): string {
 
 /** Yields below this are rounding noise of the sums (the engine balances yields to 1e-12) and print as "≈ 0". */
 const NOISE = 1e-15;
+const isNoise = (x: number) => x !== 0 && Math.abs(x) < NOISE;
 
 function leavesTable(m: SheetModel): string {
   const geo = m.leaves.some((l) => l.displacementMm);
   const head = ['path', 'target', 'yield', 'rate (/s)', ...(geo ? ['x (mm)', 'z (mm)', 'rms x (mm)', 'rms z (mm)', 'captured'] : [])];
   const rows = m.leaves.map((l) => {
-    const noise = Math.abs(l.yield) < NOISE;
+    const noise = isNoise(l.yield);
     const cells = [`<td class="path">${l.path.map((p) => `<span class="nw">${e(p)}</span>`).join(' ')}</td>`, `<td>${e(l.target)}</td>`,
       `<td class="num">${noise ? '≈ 0' : sheetNumber(l.yield)}</td>`, `<td class="num">${noise ? '≈ 0' : sheetNumber(l.rate)}</td>`];
     if (geo) {
@@ -272,7 +305,9 @@ td.val { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-siz
 td.blank { height: 5.5mm; }
 td.src { font-size: 6.8pt; color: #222; }
 td.path { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-size: 7.5pt; }
-td.routes { font-size: 7.5pt; }
+td.routes { font-size: 7pt; }
+td.sp { font-size: 7.5pt; }
+thead th { font-size: 7pt; }
 th.sub { background: #f2f2f2; font-weight: 700; }
 .dim, .note { color: #444; }
 .note { font-style: italic; }
@@ -290,7 +325,7 @@ table.signoff td { height: 8mm; }
 export function sheetHtml(m: SheetModel): string {
   const generated = m.generatedAt ? ` · generated ${e(m.generatedAt)}` : '';
   const notes = [
-    `Lost (apertures, slits): ${sheetNumber(m.lost)} of the oven flux.`,
+    `Lost (apertures, slits): ${isNoise(m.lost) ? '≈ 0' : sheetNumber(m.lost)} of the oven flux.`,
     ...(m.quadrature ? [`Velocity quadrature: ${e(m.quadrature)}.`] : []),
   ];
   return `<!DOCTYPE html>

@@ -42,6 +42,8 @@ export interface SheetOven {
   flux: number;
   /** Oven aperture as written ("1 mm × 0.05 mm"), when given. */
   aperture?: string;
+  /** The first element (its id). */
+  to: string;
 }
 
 export interface SheetSetPoint {
@@ -114,6 +116,10 @@ export interface SheetModel {
 }
 
 export const DEFERENCE = 'These notes summarise common practice; local rules and licensed practice take precedence.';
+
+/** A bare spin has no library cautions, but its beam still comes from a hot oven of some real species. */
+export const BARE_SPIN_CAUTION =
+  'Bare spin: this line stands for a real species from a hot oven. Treat the oven and its shields as hot until they have cooled fully, vent with dry inert gas before opening, and follow the cautions of that species (spinyard species NAME).';
 
 /** The library's own closing notice of every caution list; the sheet says it once, as DEFERENCE. */
 const isNotice = (c: string) => c.startsWith('These notes summarise common practice');
@@ -252,9 +258,10 @@ export function buildSheet(doc: BeamlineDoc, line: Beamline, result: RunResult, 
     velocity: velocityOf(doc.oven.velocity),
     fluxWritten: typeof flux === 'object' ? `vapour-pressure estimate at ${q(flux.temperature)}` : q(flux),
     flux: result.flux,
+    to: doc.oven.to,
   };
   if (doc.oven.aperture) oven.aperture = writtenValue(doc.oven.aperture);
-  const all = [...isotopes.flatMap((s) => s.cautions ?? []), ...LINE_CAUTIONS];
+  const all = [...(line.species.kind === 'bare' ? [BARE_SPIN_CAUTION] : isotopes.flatMap((s) => s.cautions ?? [])), ...LINE_CAUTIONS];
   const model: SheetModel = {
     title: line.title || doc.title || '(untitled beamline)',
     species,

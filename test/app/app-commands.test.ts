@@ -12,7 +12,7 @@ function fakeApi(over: Partial<AppApi> = {}): AppApi {
     doc, history: historyStart(doc), selected: undefined, running: false, hasResult: true, samples: [],
     undo: f(), redo: f(), newDoc: f(), open: vi.fn(async () => {}), save: vi.fn(async () => {}), openSample: vi.fn(async () => {}),
     openRecent: vi.fn(async () => {}), toggleDark: f(), zoom: f(), palette: f(), dialog: f(), deleteSelected: f(), duplicateSelected: f(),
-    moveSelected: f(), selectStep: f(), cancelRun: f(), exportCsv: f(), focusPane: f(),
+    moveSelected: f(), selectStep: f(), cancelRun: f(), exportCsv: f(), printSheet: vi.fn(async () => {}), focusPane: f(),
     ...over,
   };
 }
@@ -68,9 +68,13 @@ describe('buildCommands', () => {
     expect(api.save).toHaveBeenCalledWith(false);
   });
 
-  it('lists the setup-sheet commands but refuses them (src/sheet is not in this build)', () => {
+  it('prints the setup sheet (Ctrl+P) or exports it as a PDF', () => {
     const r = registry();
-    expect(r.run('file.print', { app: fakeApi() })).toBe(false);
-    expect(r.get('file.print')!.label).toMatch(/not available/);
+    const api = fakeApi();
+    expect(r.run('file.print', { app: api })).toBe(true);
+    expect(api.printSheet).toHaveBeenCalledWith(false);
+    r.run('file.exportPdf', { app: api });
+    expect(api.printSheet).toHaveBeenCalledWith(true);
+    expect(r.get('file.print')!.shortcut).toBe('CmdOrCtrl+P');
   });
 });

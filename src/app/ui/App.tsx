@@ -4,7 +4,7 @@ import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { Host, HostDocument, SampleInfo, AutosaveDraft, RecentDocument } from '../../host/contract.ts';
 import {
   checkDocument, checkQuantity, documentText, editAddOnPort, editAt, editDelete, editDuplicate, editRename, editReroute,
-  lineIsHyperfine, librarySpeciesNames, magnetPortLabels, readDocument, speciesCautions, speciesPortLabels, type BeamlineDoc, type ElementKind, type Problem,
+  lineIsHyperfine, librarySpeciesNames, magnetPortLabels, readDocument, speciesCautions, speciesPortLabels, setupSheetHtml, type BeamlineDoc, type ElementKind, type Problem,
 } from '../core-adapter.ts';
 import { historyPush, historyRedo, historyStart, historyUndo, type History } from '../history.ts';
 import { buildCommands, type AppApi, type AppCtx, type DialogState } from '../app-commands.ts';
@@ -396,6 +396,13 @@ export function App({ host }: { host: Host }) {
       if (!result || eps === undefined) return;
       const rows = portRows(result, dwellById(line.elements as never), eps);
       downloadText(name.replace(/\.spinyard$/i, '') + '-ports.csv', portRowsCsv(rows, eps), 'text/csv');
+    },
+    printSheet: async (pdf) => {
+      const html = setupSheetHtml(doc, line);
+      if (pdf) {
+        const r = await host.exportPdf(html, name.replace(/\.spinyard$/i, '') + '-setup-sheet.pdf');
+        if (r) setNotice(`Setup sheet written: ${r.path ?? r.name}`);
+      } else if (!(await host.printSheet(html))) setNotice('The setup sheet was not printed.');
     },
     focusPane: (p) => {
       const el = document.querySelector<HTMLElement>(p === 'tree' ? '.tree [role="treeitem"]' : p === 'inspector' ? '.inspector input, .inspector select' : '.results');
