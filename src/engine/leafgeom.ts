@@ -13,6 +13,7 @@ import type { Vec3 } from '../physics/rotation.ts';
 import type { Detector, Rect } from '../beamline/types.ts';
 import { transmit, fractionInside, fractionBelow, type Collimator1D, type AxisResult } from './geometry.ts';
 import type { LeafResult, DetectorResult, NeighbourVerdict, CrosstalkEntry } from './result.ts';
+import { specTraceAt, specTraceMoment, type SpecState } from './spectral.ts';
 
 export interface Kick {
   readonly exitY: number;
@@ -42,14 +43,13 @@ export interface FinePath {
   readonly yieldSpin: number;
   readonly yieldError?: number;
   readonly track: Track;
-  /** Tr ρ(v) at the given speeds, terms with |Φ| > phiMax left out (not weighted by the isotope fraction). */
-  traceAt(speeds: ArrayLike<number>, phiMax: number): Float64Array;
-  readonly detector: Detector | null;
-  phaseWeights?(): { phi: number; weight: number }[];
-  /** ⟨Tr ρ(s) s²⟩ over the full distribution, each frequency on its own (not weighted by the isotope fraction). */
-  moment2?(): number;
+  /** The path's spectral state (frequency-resolved leaves); speed-by-speed leaves carry `grid` instead. */
+  readonly spec?: SpecState;
+  /** χ₂ values of the distribution, shared by the leaves of a run. */
+  readonly moment2Cache?: Map<number, [number, number]>;
   /** Speed-by-speed leaves (after a twist): their own grid, normalised weights and Tr ρ at each speed. */
   readonly grid?: { readonly speeds: Float64Array; readonly weights: Float64Array; readonly traces: Float64Array };
+  readonly detector: Detector | null;
 }
 
 interface FineGeo {
@@ -134,7 +134,7 @@ function fineGeometry(f: FinePath): FineGeo {
     for (let k = 1; k < g.speeds.length; k++) ds = Math.max(ds, Math.abs(1 / g.speeds[k - 1] - 1 / g.speeds[k]));
     phiMax = 0.5 / ds;
   }
-  const tr = f.grid ? (g as ReturnType<typeof coarsen>).traces : f.traceAt(g.speeds, phiMax);
+  const tr = f.grid ? (g as ReturnType<typeof coarsen>).traces : f.spec ? specTraceAt(f.spec, g.speeds, phiMax) : new Float64Array(g.speeds.length);
   let total = 0;
   const w = new Float64Array(g.speeds.length);
   for (let k = 0; k < w.length; k++) {
@@ -145,6 +145,7 @@ function fineGeometry(f: FinePath): FineGeo {
   const win = f.detector?.window;
   const nodes: FineGeo['nodes'] = [];
   let tSum = 0, capSum = 0, mx = 0, mz = 0, sx = 0, sz = 0;
+  let freeX: AxisResult | undefined, freeZ: AxisResult | undefined;
   if (total <= 0) {
     return { fine: f, yieldGeo: f.yieldSpin, captured: 0, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes };
   }
@@ -158,8 +159,9 @@ function fineGeometry(f: FinePath): FineGeo {
       if (s.axis === 'x') stripsX.push({ y: s.y, lo: s.lo - d.x, hi: s.hi - d.x });
       else stripsZ.push({ y: s.y, lo: s.lo - d.z, hi: s.hi - d.z });
     }
-    const rx = transmit(cx, stripsX, f.plane);
-    const rz = transmit(cz, stripsZ, f.plane);
+    // without clipping strips the transmitted polygon is the same at every speed
+    const rx = stripsX.length === 0 ? (freeX ??= transmit(cx, [], f.plane)) : transmit(cx, stripsX, f.plane);
+    const rz = stripsZ.length === 0 ? (freeZ ??= transmit(cz, [], f.plane)) : transmit(cz, stripsZ, f.plane);
     const d = deflection(f.track.kicks, f.plane, v);
     const t = rx.transmission * rz.transmission;
     tSum += wk * t;
@@ -177,10 +179,10 @@ function fineGeometry(f: FinePath): FineGeo {
   const yieldGeo = f.yieldSpin * tSum;
   const safe = tSum > 0 ? tSum : 1;
   let mean = { x: mx / safe, z: mz / safe };
-  if (f.track.strips.length === 0 && f.track.kicks.length > 0 && f.moment2 && f.fraction > 0 && f.yieldSpin > 0) {
+  if (f.track.strips.length === 0 && f.track.kicks.length > 0 && f.spec && f.moment2Cache && f.fraction > 0 && f.yieldSpin > 0) {
     // nothing clips: the mean deflection is Σ_k a_k L_k (L_k/2 + D_k)·⟨y s²⟩/⟨y⟩, exact over the whole
     // distribution (the grid leaves out the slowest atoms, which carry ~0.25 % of an effusive ⟨1/v²⟩)
-    const m2 = f.moment2() / (f.yieldSpin / f.fraction);
+    const m2 = specTraceMoment(f.spec, f.dist, 2, f.moment2Cache) / (f.yieldSpin / f.fraction);
     const geo0 = nodes.length > 0 ? { x: nodes[0].rx.mean, z: nodes[0].rz.mean } : { x: 0, z: 0 };
     let dx = 0, dz = 0;
     for (const k of f.track.kicks) {

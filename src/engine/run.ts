@@ -21,7 +21,7 @@ import {
 import { collimatedFlux, lookupSpecies } from '../species/index.ts';
 import type { Beamline, Element, Magnet, Recombiner, Detector, Rect } from '../beamline/types.ts';
 import { speciesSystems, sortStates, projectorOf, SpeciesError, type SpinSystem, type Sorting, type Component } from './system.ts';
-import { specInitial, specKraus, specPropagate, specAverageTrace, specTraceAt, specAt, specProjectDiag, specPhaseWeights, specTraceMoment, CharCache, type SpecState } from './spectral.ts';
+import { specInitial, specKraus, specPropagate, specAverageTrace, specAt, specProjectDiag, specPhaseWeights, CharCache, type SpecState } from './spectral.ts';
 import type { RunResult, LeafResult, DetectorResult } from './result.ts';
 import { evaluateGeometry, type Track, type FinePath } from './leafgeom.ts';
 
@@ -173,7 +173,20 @@ function axisWarning(path: string, n: Vec3): string | null {
 /** Sortings depend only on the isotope and the magnet's axis, field, group and entry: cached across runs. */
 const sortCache = new Map<string, Sorting>();
 
+const sortByElement = new WeakMap<Magnet | Recombiner, Map<string, Sorting>>();
+
 function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
+  let byName = sortByElement.get(e);
+  const quick = byName?.get(ctx.sys.name);
+  if (quick && ctx.sorts.has(ctx.sys.name + '|' + e.path)) return quick;
+  const s0 = getSortingSlow(ctx, e);
+  if (!byName) sortByElement.set(e, (byName = new Map()));
+  byName.set(ctx.sys.name, s0);
+  ctx.sorts.set(ctx.sys.name + '|' + e.path, s0);
+  return s0;
+}
+
+function getSortingSlow(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
   const key = `${ctx.sys.name}|${e.path}|${e.axis.x},${e.axis.y},${e.axis.z}|${e.field}|${e.group}|${e.entry}`;
   let s = ctx.sorts.get(key) ?? sortCache.get(key);
   if (s && !ctx.sorts.has(key)) {
@@ -220,8 +233,9 @@ function selectStates(st: State, comps: readonly Component[], leafNext = false):
       return out;
     });
   }
-  // one state: |k⟩⟨k| ρ |k⟩⟨k| is a single Kraus operator, and the state keeps its frequency terms
-  if (comps.length === 1) return specKraus(st, rank1Cached(comps[0]));
+  // one state: |k⟩⟨k| ρ |k⟩⟨k| is a single Kraus operator, and the state keeps its frequency terms;
+  // without phase terms it is just |k⟩ with its population
+  if (comps.length === 1) return st.mu === null ? specProjectDiag(st, [comps[0].vector]) : specKraus(st, rank1Cached(comps[0]));
   if (leafNext) return specKraus(st, portProjector(comps));
   return specProjectDiag(st, comps.map((c) => c.vector));
 }
@@ -322,6 +336,34 @@ function drift(ctx: WalkCtx, st: State, gap: number): State {
   return applyLinear(ctx, st, ctx.sys.hamiltonian(ctx.line.ambient), gap, ctx.line.ambient);
 }
 
+const commuteCache = new WeakMap<Sorting, Map<CMat, boolean>>();
+
+/** True when every state the magnet sorts into is an eigenvector of the line's drift Hamiltonian. */
+function driftCommutesWithSort(ctx: WalkCtx, e: Magnet): boolean {
+  const sorting = getSorting(ctx, e);
+  const h = ctx.sys.hamiltonian(ctx.line.ambient);
+  let byH = commuteCache.get(sorting);
+  if (!byH) {
+    byH = new Map();
+    commuteCache.set(sorting, byH);
+  }
+  const hit = byH.get(h);
+  if (hit !== undefined) return hit;
+  let hn = 0;
+  for (let i = 0; i < h.re.length; i++) hn = Math.max(hn, Math.abs(h.re[i]) + Math.abs(h.im[i]));
+  const ok = sorting.components.every((c) => {
+    const hv = cmatMul(h, c.vector);
+    // λ = ⟨k|H|k⟩; residual ‖H|k⟩ − λ|k⟩‖
+    let lr = 0;
+    for (let i = 0; i < hv.rows; i++) lr += c.vector.re[i] * hv.re[i] + c.vector.im[i] * hv.im[i];
+    let res = 0;
+    for (let i = 0; i < hv.rows; i++) res += (hv.re[i] - lr * c.vector.re[i]) ** 2 + (hv.im[i] - lr * c.vector.im[i]) ** 2;
+    return Math.sqrt(res) <= 1e-13 * Math.max(hn, 1e-300);
+  });
+  byH.set(h, ok);
+  return ok;
+}
+
 function fork(walk: Walk, extra: Partial<Walk>): Walk {
   return {
     path: extra.path ?? walk.path,
@@ -355,7 +397,10 @@ function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
     finishLeaf(ctx, st, { ...walk, y: entrance }, e.id, e);
     return;
   }
-  let s = drift(ctx, st, e.gap);
+  // a drift just before a magnet whose states are all eigenvectors of the drift Hamiltonian changes
+  // nothing the magnet passes on: P_k U ρ U† P_k = P_k ρ P_k when U|k⟩ = e^{−iλt}|k⟩
+  const skipDrift = e.kind === 'magnet' && e.gap > 0 && driftCommutesWithSort(ctx, e);
+  let s = skipDrift ? st : drift(ctx, st, e.gap);
   const sys = ctx.sys;
   switch (e.kind) {
     case 'magnet': {
@@ -484,25 +529,18 @@ function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
 function finishLeaf(ctx: WalkCtx, st: State, walk: Walk, target: string, det: Detector | null): void {
   let yieldSpin: number;
   let yieldError = 0;
-  let phaseWeights = (): { phi: number; weight: number }[] => [];
-  let moment2: (() => number) | undefined;
-  let traceAt: (speeds: ArrayLike<number>, phiMax: number) => Float64Array;
   let grid: FinePath['grid'];
+  let spec: SpecState | undefined;
   if (isNodes(st)) {
     yieldSpin = nodeTrace(st);
-    const traces = Float64Array.from(st.rhos, (r) => cmatTrace(r).re);
-    grid = { speeds: st.speeds, weights: st.weights, traces };
-    traceAt = () => traces;
+    grid = { speeds: st.speeds, weights: st.weights, traces: Float64Array.from(st.rhos, (r) => cmatTrace(r).re) };
   } else {
     const avg = specAverageTrace(st, ctx.chi);
     ctx.hermiticity.max = Math.max(ctx.hermiticity.max, avg.hermiticity);
     if (!avg.positive) ctx.hermiticity.positive = false;
     yieldSpin = avg.value;
     yieldError = avg.error;
-    traceAt = (speeds, phiMax) => specTraceAt(st, speeds, phiMax);
-    phaseWeights = () => specPhaseWeights(st);
-    const m2cache = ctx.moment2;
-    moment2 = () => specTraceMoment(st, ctx.dist, 2, m2cache);
+    spec = st;
   }
   ctx.leaves.push({
     system: ctx.sys.name,
@@ -513,10 +551,9 @@ function finishLeaf(ctx: WalkCtx, st: State, walk: Walk, target: string, det: De
     plane: walk.y,
     yieldSpin: yieldSpin * ctx.fraction,
     yieldError: yieldError * ctx.fraction,
-    phaseWeights,
-    moment2,
+    spec,
+    moment2Cache: ctx.moment2,
     track: walk.track,
-    traceAt,
     grid,
     detector: det,
   });
@@ -716,7 +753,7 @@ function checkTable(line: Beamline, leaves: FinePath[], warnings: Set<string>): 
   const total = pts.reduce((s, p) => s + p[1], 0);
   let worst = 0, weight = 0;
   for (const l of leaves) {
-    for (const { phi, weight: w } of l.phaseWeights?.() ?? []) {
+    for (const { phi, weight: w } of l.spec ? specPhaseWeights(l.spec) : []) {
       for (let k = 1; k < pts.length; k++) {
         const step = phi * Math.abs(1 / pts[k - 1][0] - 1 / pts[k][0]);
         if (step > Math.PI) {
