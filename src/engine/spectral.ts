@@ -30,15 +30,27 @@ export interface SpecState {
   /** μ_a (rad·m/s) of the basis columns, Ω_ab = μ_a − μ_b; null when all phases are in φ. */
   readonly mu: Float64Array | null;
   readonly terms: readonly SpecTerm[];
+  /** Averages of the terms, shared by every state that differs only by Kraus operators (filled lazily). */
+  readonly shared: SharedAverages;
+}
+
+interface SharedAverages {
+  avg?: Averaged;
+  m2?: CMat;
+  nodes?: { speeds: ArrayLike<number>; phiMax: number; ms: CMat[] };
+}
+
+function state(W: CMat, mu: Float64Array | null, terms: readonly SpecTerm[]): SpecState {
+  return { W, mu, terms, shared: {} };
 }
 
 export function specInitial(rho: CMat): SpecState {
-  return { W: cmatIdentity(rho.rows), mu: null, terms: [{ phi: 0, X: rho }] };
+  return state(cmatIdentity(rho.rows), null, [{ phi: 0, X: rho }]);
 }
 
 /** ρ → K ρ K† for a velocity-independent K. */
 export function specKraus(st: SpecState, k: CMat): SpecState {
-  return { W: cmatMul(k, st.W), mu: st.mu, terms: st.terms };
+  return { W: cmatMul(k, st.W), mu: st.mu, terms: st.terms, shared: st.shared };
 }
 
 function significance(t: SpecTerm): number {
@@ -172,9 +184,9 @@ export function specPropagate(st: SpecState, h: CMat, v: CMat, lambda: ArrayLike
       break;
     }
   }
-  if (commutes) return { W: cmatIdentity(d), mu: null, terms: lab };
+  if (commutes) return state(cmatIdentity(d), null, lab);
   const mu = snapped.map((l) => l * length);
-  return { W: v, mu, terms: lab.map((t, i) => ({ phi: t.phi, X: xs[i] })) };
+  return state(v, mu, lab.map((t, i) => ({ phi: t.phi, X: xs[i] })));
 }
 
 /**
@@ -235,7 +247,7 @@ export function specProjectDiag(st: SpecState, vecs: readonly CMat[]): SpecState
     }
     terms.push({ phi, X });
   }
-  return { W, mu: null, terms: mergeTerms(terms) };
+  return state(W, null, mergeTerms(terms));
 }
 
 /** Caches χ(Φ) of one distribution (many leaves share frequencies). */
@@ -265,11 +277,9 @@ export interface Averaged {
   readonly positive: boolean;
 }
 
-const averages = new WeakMap<readonly SpecTerm[], Averaged>();
-
 /** A = Σ_t X_t ∘ χ(φ_t + Ω), computed once per state (module doc). */
 export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
-  const hit = averages.get(st.terms);
+  const hit = st.shared.avg;
   if (hit) return hit;
   const r = st.W.cols;
   const A = cmatZeros(r, r);
@@ -306,7 +316,7 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
     for (let b = 0; b < r; b++) herm = Math.max(herm, Math.hypot(A.re[a * r + b] - A.re[b * r + a], A.im[a * r + b] + A.im[b * r + a]));
   }
   const res = { A, error, hermiticity: herm, positive: isPositive(A, 1e-12 * Math.abs(tr) + 1e-15) };
-  averages.set(st.terms, res);
+  st.shared.avg = res;
   return res;
 }
 
@@ -437,8 +447,6 @@ export function specAverageTrace(st: SpecState, chi: CharCache): { value: number
   return { value: traceWAW(st.W, av.A), error: av.error, hermiticity: av.hermiticity, positive: av.positive };
 }
 
-const nodeMatrices = new WeakMap<readonly SpecTerm[], { speeds: ArrayLike<number>; phiMax: number; ms: CMat[] }>();
-
 /**
  * Tr ρ(s) on a set of speeds, keeping only terms whose phase-length is below `phiMax` (faster terms
  * average out against the smooth weights they are used with; phiMax = Infinity keeps all). The
@@ -446,7 +454,7 @@ const nodeMatrices = new WeakMap<readonly SpecTerm[], { speeds: ArrayLike<number
  */
 export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: number): Float64Array {
   const r = st.W.cols;
-  let hit = nodeMatrices.get(st.terms);
+  let hit = st.shared.nodes;
   if (!hit || hit.speeds !== speeds || hit.phiMax !== phiMax) {
     const ms = Array.from({ length: speeds.length }, () => cmatZeros(r, r));
     for (const t of st.terms) {
@@ -465,7 +473,7 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
       }
     }
     hit = { speeds, phiMax, ms };
-    nodeMatrices.set(st.terms, hit);
+    st.shared.nodes = hit;
   }
   return Float64Array.from(hit.ms, (m) => traceWAW(st.W, m));
 }
@@ -490,15 +498,13 @@ export function specAt(st: SpecState, v: number, phiMax: number = Infinity): CMa
   return cmatMul(cmatMul(st.W, acc), cmatDagger(st.W));
 }
 
-const moments = new WeakMap<readonly SpecTerm[], CMat>();
-
 /**
  * ⟨Tr ρ(s) · s²⟩ over the distribution, each frequency on its own (χ₂ of physics/velocity.ts): as for
  * the yield, A₂ = Σ_t X_t ∘ χ₂(φ_t + Ω) is computed once per state and shared by its branches.
  */
 export function specTraceMoment(st: SpecState, dist: VelocityDistribution, n: number, cache: Map<number, [number, number]>): number {
   const r = st.W.cols;
-  let A = moments.get(st.terms);
+  let A = st.shared.m2;
   if (!A) {
     A = cmatZeros(r, r);
     for (const t of st.terms) {
@@ -519,7 +525,7 @@ export function specTraceMoment(st: SpecState, dist: VelocityDistribution, n: nu
         A.im[i] += xr * ci + xi * c[0];
       }
     }
-    moments.set(st.terms, A);
+    st.shared.m2 = A;
   }
   return traceWAW(st.W, A);
 }
