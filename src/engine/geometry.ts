@@ -132,3 +132,56 @@ export function fractionBelow(c: Collimator1D, r: AxisResult, y: number, t: numb
   const p = clipHalfPlane(r.poly, al, be, t);
   return p.length < 3 ? 0 : polygonMoments(p).a / r.area0;
 }
+
+/**
+ * The CDF t ↦ (fraction of the original beam with αp + βq ≤ t at plane y) of a transmitted polygon, in
+ * closed form: the area below a line sweeping a convex polygon grows with a derivative (the chord length
+ * over |(α, β)|) that is linear between the vertices' projections, so the CDF is piecewise quadratic.
+ * Returns the breakpoints, the CDF and its slope there; evaluate with cdfAt.
+ */
+export function polygonCdf(c: Collimator1D, r: AxisResult, y: number): { t: Float64Array; f: Float64Array; g: Float64Array } {
+  const [al, be] = planeCoefficients(c, y);
+  const poly = r.poly;
+  if (poly.length < 3) return { t: new Float64Array(0), f: new Float64Array(0), g: new Float64Array(0) };
+  const ts = [...new Set(poly.map(([p, q]) => al * p + be * q))].sort((a, b) => a - b);
+  const norm = Math.hypot(al, be);
+  const chord = (t: number): number => {
+    // intersections of αp + βq = t with the edges
+    const pts: Pt[] = [];
+    const n = poly.length;
+    for (let i = 0; i < n; i++) {
+      const a = poly[i], b = poly[(i + 1) % n];
+      const fa = al * a[0] + be * a[1] - t, fb = al * b[0] + be * b[1] - t;
+      if (fa === 0) pts.push(a);
+      if ((fa < 0 && fb > 0) || (fa > 0 && fb < 0)) {
+        const u = fa / (fa - fb);
+        pts.push([a[0] + u * (b[0] - a[0]), a[1] + u * (b[1] - a[1])]);
+      }
+    }
+    if (pts.length < 2) return 0;
+    let m = 0;
+    for (let i = 1; i < pts.length; i++) m = Math.max(m, Math.hypot(pts[i][0] - pts[0][0], pts[i][1] - pts[0][1]));
+    return m / norm / r.area0;
+  };
+  const t = Float64Array.from(ts);
+  const g = t.map(chord);
+  const f = new Float64Array(t.length);
+  for (let i = 1; i < t.length; i++) f[i] = f[i - 1] + 0.5 * (g[i - 1] + g[i]) * (t[i] - t[i - 1]);
+  return { t, f, g };
+}
+
+/** The piecewise-quadratic CDF of polygonCdf at t. */
+export function cdfAt(cdf: { t: Float64Array; f: Float64Array; g: Float64Array }, x: number): number {
+  const { t, f, g } = cdf;
+  const n = t.length;
+  if (n === 0 || x <= t[0]) return 0;
+  if (x >= t[n - 1]) return f[n - 1];
+  let lo = 0, hi = n - 1;
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >> 1;
+    if (t[mid] <= x) lo = mid;
+    else hi = mid;
+  }
+  const d = x - t[lo], w = t[hi] - t[lo];
+  return f[lo] + g[lo] * d + ((g[hi] - g[lo]) * d * d) / (2 * w);
+}

@@ -11,7 +11,7 @@
 import { speedGrid, type VelocityDistribution } from '../physics/velocity.ts';
 import type { Vec3 } from '../physics/rotation.ts';
 import type { Detector, Rect } from '../beamline/types.ts';
-import { transmit, fractionInside, fractionBelow, type Collimator1D, type AxisResult } from './geometry.ts';
+import { transmit, fractionInside, polygonCdf, cdfAt, type Collimator1D, type AxisResult } from './geometry.ts';
 import type { LeafResult, DetectorResult, NeighbourVerdict, CrosstalkEntry } from './result.ts';
 import { specTraceAt, specTraceMoment, type SpecState } from './spectral.ts';
 
@@ -345,19 +345,23 @@ function addProfiles(leaves: (LeafResult & { _acc: LeafAcc })[], verdicts: Map<s
     for (const l of ls) {
       const dens = new Float64Array(bins);
       for (const g of l._acc.fines) {
-        // the profile is a histogram: groups of four neighbouring speeds share one set of clips
-        for (let q = 0; q < g.nodes.length; q += 4) {
-          const group = g.nodes.slice(q, q + 4);
-          const n = group[Math.min(1, group.length - 1)];
-          const wsum = group.reduce((a, x) => a + x.w, 0);
+        // the profile is a histogram: each speed's transmitted polygon has a closed-form CDF
+        let lastR: AxisResult | null = null;
+        let cdf: ReturnType<typeof polygonCdf> | null = null;
+        for (const n of g.nodes) {
           const r = axis === 'x' ? n.rx : n.rz;
           const c = axis === 'x' ? n.cx : n.cz;
           const other = axis === 'x' ? n.rz.transmission : n.rx.transmission;
           const d = axis === 'x' ? n.dx : n.dz;
-          let prev = fractionBelow(c, r, l._acc.plane, lo - d);
+          if (r !== lastR) {
+            cdf = polygonCdf(c, r, l._acc.plane);
+            lastR = r;
+          }
+          const scale = (g.fine.yieldSpin * n.w * other) / dx;
+          let prev = cdfAt(cdf!, lo - d);
           for (let i = 0; i < bins; i++) {
-            const cur = fractionBelow(c, r, l._acc.plane, lo + (i + 1) * dx - d);
-            dens[i] += (g.fine.yieldSpin * wsum * other * (cur - prev)) / dx;
+            const cur = cdfAt(cdf!, lo + (i + 1) * dx - d);
+            dens[i] += scale * (cur - prev);
             prev = cur;
           }
         }
