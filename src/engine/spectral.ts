@@ -475,7 +475,18 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
     hit = { speeds, phiMax, ms };
     st.shared.nodes = hit;
   }
-  return Float64Array.from(hit.ms, (m) => traceWAW(st.W, m));
+  // Tr(W M W†) = Σ_ab M_ab (W†W)_ba: the Gram matrix once, then r² per speed
+  const g = cmatMul(cmatDagger(st.W), st.W);
+  const out = new Float64Array(hit.ms.length);
+  for (let k = 0; k < hit.ms.length; k++) {
+    const m = hit.ms[k];
+    let tr = 0;
+    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+      tr += m.re[a * r + b] * g.re[b * r + a] - m.im[a * r + b] * g.im[b * r + a];
+    }
+    out[k] = tr;
+  }
+  return out;
 }
 
 /** ρ at one speed v (a plain matrix), leaving out terms with |φ + Ω_ab| > phiMax. */
