@@ -456,22 +456,7 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
   const r = st.W.cols;
   let hit = st.shared.nodes;
   if (!hit || hit.speeds !== speeds || hit.phiMax !== phiMax) {
-    const ms = Array.from({ length: speeds.length }, () => cmatZeros(r, r));
-    for (const t of st.terms) {
-      for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
-        const i = a * r + b;
-        const xr = t.X.re[i], xi = t.X.im[i];
-        if (xr === 0 && xi === 0) continue;
-        const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
-        if (Math.abs(f) > phiMax) continue;
-        for (let k = 0; k < speeds.length; k++) {
-          const ph = reduceAngle(f / speeds[k]);
-          const c = Math.cos(ph), sn = -Math.sin(ph);
-          ms[k].re[i] += xr * c - xi * sn;
-          ms[k].im[i] += xr * sn + xi * c;
-        }
-      }
-    }
+    const ms = Array.from(speeds, (v) => phasedBasis(st, v, phiMax));
     hit = { speeds, phiMax, ms };
     st.shared.nodes = hit;
   }
@@ -489,8 +474,8 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
   return out;
 }
 
-/** ρ at one speed v (a plain matrix), leaving out terms with |φ + Ω_ab| > phiMax. */
-export function specAt(st: SpecState, v: number, phiMax: number = Infinity): CMat {
+/** Σ_t X_t ∘ e^{−i(φ_t + Ω)/v} (the state at speed v in its basis W), terms with |φ + Ω_ab| > phiMax left out. */
+function phasedBasis(st: SpecState, v: number, phiMax: number): CMat {
   const r = st.W.cols;
   const acc = cmatZeros(r, r);
   for (const t of st.terms) {
@@ -506,7 +491,12 @@ export function specAt(st: SpecState, v: number, phiMax: number = Infinity): CMa
       acc.im[i] += xr * s + xi * c;
     }
   }
-  return cmatMul(cmatMul(st.W, acc), cmatDagger(st.W));
+  return acc;
+}
+
+/** ρ at one speed v (a plain matrix), leaving out terms with |φ + Ω_ab| > phiMax. */
+export function specAt(st: SpecState, v: number, phiMax: number = Infinity): CMat {
+  return cmatMul(cmatMul(st.W, phasedBasis(st, v, phiMax)), cmatDagger(st.W));
 }
 
 /**
