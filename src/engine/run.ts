@@ -87,6 +87,11 @@ interface WalkCtx {
   sampled: { nodes: number; error: number; unconverged: Map<string, { error: number; speeds: number }> };
   /** χ₂ values of this distribution, shared by the leaves. */
   moment2: Map<number, [number, number]>;
+  /** Elements whose sorting warnings this run has added. */
+  seen: Set<object>;
+  /** H/ħ of the line's ambient field (the drift Hamiltonian) and whether it vanishes. */
+  hAmbient: CMat;
+  ambientZero: boolean;
 }
 
 interface Walk {
@@ -178,11 +183,20 @@ const sortByElement = new WeakMap<Magnet | Recombiner, Map<string, Sorting>>();
 function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
   let byName = sortByElement.get(e);
   const quick = byName?.get(ctx.sys.name);
-  if (quick && ctx.sorts.has(ctx.sys.name + '|' + e.path)) return quick;
+  if (quick) {
+    // the element's warnings are added once per run
+    if (!ctx.seen.has(e)) {
+      ctx.seen.add(e);
+      for (const w of quick.warnings) ctx.warnings.add(w);
+      const aw = axisWarning(e.path, e.axis);
+      if (aw) ctx.warnings.add(aw);
+    }
+    return quick;
+  }
   const s0 = getSortingSlow(ctx, e);
   if (!byName) sortByElement.set(e, (byName = new Map()));
   byName.set(ctx.sys.name, s0);
-  ctx.sorts.set(ctx.sys.name + '|' + e.path, s0);
+  ctx.seen.add(e);
   return s0;
 }
 
@@ -206,7 +220,7 @@ function getSortingSlow(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
     const aw = axisWarning(e.path, e.axis);
     if (aw) ctx.warnings.add(aw);
     ctx.sorts.set(key, s);
-    if (sortCache.size > 512) sortCache.clear();
+    if (sortCache.size > 20000) sortCache.clear();
     sortCache.set(key, s);
   }
   return s;
@@ -332,8 +346,8 @@ function applyKraus(st: State, k: CMat): State {
 }
 
 function drift(ctx: WalkCtx, st: State, gap: number): State {
-  if (gap <= 0) return st;
-  return applyLinear(ctx, st, ctx.sys.hamiltonian(ctx.line.ambient), gap, ctx.line.ambient);
+  if (gap <= 0 || ctx.ambientZero) return st;
+  return applyLinear(ctx, st, ctx.hAmbient, gap, ctx.line.ambient);
 }
 
 const commuteCache = new WeakMap<Sorting, Map<CMat, boolean>>();
@@ -341,7 +355,7 @@ const commuteCache = new WeakMap<Sorting, Map<CMat, boolean>>();
 /** True when every state the magnet sorts into is an eigenvector of the line's drift Hamiltonian. */
 function driftCommutesWithSort(ctx: WalkCtx, e: Magnet): boolean {
   const sorting = getSorting(ctx, e);
-  const h = ctx.sys.hamiltonian(ctx.line.ambient);
+  const h = ctx.hAmbient;
   let byH = commuteCache.get(sorting);
   if (!byH) {
     byH = new Map();
@@ -399,7 +413,7 @@ function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
   }
   // a drift just before a magnet whose states are all eigenvectors of the drift Hamiltonian changes
   // nothing the magnet passes on: P_k U ρ U† P_k = P_k ρ P_k when U|k⟩ = e^{−iλt}|k⟩
-  const skipDrift = e.kind === 'magnet' && e.gap > 0 && driftCommutesWithSort(ctx, e);
+  const skipDrift = e.kind === 'magnet' && e.gap > 0 && !ctx.ambientZero && driftCommutesWithSort(ctx, e);
   let s = skipDrift ? st : drift(ctx, st, e.gap);
   const sys = ctx.sys;
   switch (e.kind) {
@@ -687,8 +701,10 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     const chi = new CharCache(dist);
     const ctx: WalkCtx = {
       sys: system, fraction, dist, chi, line, byId, sorts: new Map(), leaves, lost, warnings, positions, opts,
-      counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(),
+      counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(), seen: new Set(),
+      hAmbient: system.hamiltonian(line.ambient), ambientZero: false,
     };
+    ctx.ambientZero = ctx.hAmbient.re.every((x) => x === 0) && ctx.hAmbient.im.every((x) => x === 0);
     const rho0 = initialState(line, system);
     const ap = line.oven.aperture;
     const track: Track = {
