@@ -1,5 +1,5 @@
 /**
- * The two example documents of /work/shared/design.md, copied verbatim (they are the contract):
+ * The two example documents of ../shared/design.md, copied verbatim (they are the contract):
  * DESIGN_V1 from "Document format v1", DESIGN_BEAM_KEYS from "Beam keys".
  */
 export const DESIGN_V1 = `{

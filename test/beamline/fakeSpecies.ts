@@ -1,7 +1,7 @@
 /**
  * A small species library for the beamline tests, standing in for src/species (which the beamline layer
  * reaches through a SpeciesResolver). Spins, g-factors, hyperfine constants and masses from
- * /work/shared/reference-data.md §1 (Steck D-line data via pylcp/ElecSus; masses AME2020); only i2, j2
+ * ../shared/reference-data.md §1 (Steck D-line data via pylcp/ElecSus; masses AME2020); only i2, j2
  * matter for the labels tested here.
  */
 import type { AtomSpecies, Mixture, Species } from '../../src/species/types.ts';

@@ -11,7 +11,7 @@ import { cmatMul, cmatDagger, cmatKron, cmatIdentity, cmatAdd, cmatTrace, cmatMa
 import { unitarityError } from '../../src/physics/eigh.ts';
 import { rotationToAxis, axisFromAngles, type Vec3 } from '../../src/physics/rotation.ts';
 
-// Parameters as in /work/shared/reference-data.md §1 (sources named there: Steck via pylcp/ElecSus,
+// Parameters as in ../shared/reference-data.md §1 (sources named there: Steck via pylcp/ElecSus,
 // SI second, Tiecke, pylcp); written out here so the physics layer is tested without the species layer.
 const CS: HyperfineParams = { i2: 7, j2: 1, gJ: 2.00254032, gI: -0.00039885395, aHz: 9192631770 / 4 };
 const RB87: HyperfineParams = { i2: 3, j2: 1, gJ: 2.00233113, gI: -0.0009951414, aHz: 3417.341305452145e6 };
@@ -160,7 +160,7 @@ describe('zeemanLevels: Breit–Rabi (Phys. Rev. 38, 2082 (1931)), J = ½, B fro
   });
 });
 
-describe('zeemanLevels: Cs-133 at 0.8 T against the project-shared table of /work/shared/peers/README.md (independent NumPy peer)', () => {
+describe('zeemanLevels: Cs-133 at 0.8 T against the project-shared table of ../shared/peers/README.md (independent NumPy peer)', () => {
   const lv = zeemanLevels(CS, 0.8, Z).levels;
   const by = (low: string) => lv.find((l) => l.lowField === low)!;
   it('energies of the quoted levels (MHz, 3 decimals)', () => {
@@ -328,7 +328,7 @@ describe('zeroFieldStates', () => {
 });
 
 describe('gF', () => {
-  it('F=4 of Cs-133 is (g_J + 7 g_I)/8 = 0.24996854279375 (/work/shared/peers/README.md, closed-form cross-check)', () => {
+  it('F=4 of Cs-133 is (g_J + 7 g_I)/8 = 0.24996854279375 (../shared/peers/README.md, closed-form cross-check)', () => {
     expect(gF(CS, 8)).toBeCloseTo(0.24996854279375, 14);
   });
   it('Rb-87: g_F(2) ≈ +1/2, g_F(1) ≈ −1/2 (Steck, Rb 87 D Line Data, Table 7, approximately −1/2 and 1/2)', () => {

@@ -4,7 +4,7 @@ import { hyperfineSplittingHz } from '../../src/physics/hyperfine.ts';
 import { hyperfineParams } from '../../src/species/index.ts';
 
 /**
- * The table of /work/shared/reference-data.md §1, written out by hand: [name, 2I, 2J, g_J, g_I, A (MHz),
+ * The table of ../shared/reference-data.md §1, written out by hand: [name, 2I, 2J, g_J, g_I, A (MHz),
  * ΔE (MHz) or null, mass (u), abundance, status note]. Primary sources as named there: HFS = Danielson's
  * hyperfine splitting compilation (V2), PL = pylcp atom.py (V2, citing Steck/Gehm/Tiecke/Arimondo),
  * TK = Tiecke, Properties of Potassium; S85 = Steck, Rubidium 85 D Line Data (V); masses AME2020 (V);
