@@ -350,6 +350,29 @@ function drift(ctx: WalkCtx, st: State, gap: number): State {
   return applyLinear(ctx, st, ctx.hAmbient, gap, ctx.line.ambient);
 }
 
+/**
+ * A warning when the collimated beam, undeflected, is already wider or taller at a magnet's entrance
+ * than the magnet's pole-gap aperture: part of the beam is clipped there whatever the spin does (the
+ * clipped part is counted as lost).
+ */
+function apertureWarning(ctx: WalkCtx, e: Magnet, track: Track, y: number): void {
+  const ap = e.aperture!;
+  const src = track.source, col = track.collimator;
+  const extent = (axis: 'x' | 'z'): number => {
+    const w0 = src ? (axis === 'x' ? src.width : src.height) : 0;
+    if (!col) return w0;
+    const w1 = axis === 'x' ? col.rect.width : col.rect.height;
+    const r = y / col.y;
+    // full width of the sum of the two uniform contributions at this plane
+    return w0 * Math.abs(1 - r) + w1 * r;
+  };
+  const wx = extent('x'), wz = extent('z');
+  const over: string[] = [];
+  if (wx > ap.width) over.push(`${(wx * 1e3).toPrecision(3)} mm wide against a ${(ap.width * 1e3).toPrecision(3)} mm pole gap`);
+  if (wz > ap.height) over.push(`${(wz * 1e3).toPrecision(3)} mm tall against ${(ap.height * 1e3).toPrecision(3)} mm`);
+  if (over.length > 0) ctx.warnings.add(`${e.path}.aperture: the collimated beam at the magnet's entrance is ${over.join(' and ')}: part of it is clipped before any deflection (counted as lost)`);
+}
+
 const commuteCache = new WeakMap<Sorting, Map<CMat, boolean>>();
 
 /** True when every state the magnet sorts into is an eigenvector of the line's drift Hamiltonian. */
@@ -425,6 +448,7 @@ function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
         { y: exit, lo: e.aperture.x - e.aperture.width / 2, hi: e.aperture.x + e.aperture.width / 2, axis: 'x' as const },
         { y: exit, lo: e.aperture.z - e.aperture.height / 2, hi: e.aperture.z + e.aperture.height / 2, axis: 'z' as const },
       ] : [];
+      if (e.aperture) apertureWarning(ctx, e, walk.track, entrance);
       const deflects = e.gradient !== undefined && e.length !== undefined && e.length > 0 && e.gradient !== 0;
       const routeOf = (c: Component) => {
         const to = e.ports[c.port] ?? e.ports['*'];
