@@ -101,6 +101,14 @@ export function transmit(c: Collimator1D, strips: readonly { y: number; lo: numb
   const area0 = polygonMoments(poly).a;
   for (const s of strips) {
     const [al, be] = planeCoefficients(c, s.y);
+    // a strip that holds the whole polygon clips nothing
+    let mn = Infinity, mx = -Infinity;
+    for (const [p, q] of poly) {
+      const t = al * p + be * q;
+      if (t < mn) mn = t;
+      if (t > mx) mx = t;
+    }
+    if (mn >= s.lo && mx <= s.hi) continue;
     poly = clipHalfPlane(poly, al, be, s.hi);
     if (poly.length < 3) break;
     poly = clipHalfPlane(poly, -al, -be, -s.lo);
