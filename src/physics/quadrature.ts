@@ -10,6 +10,18 @@ export interface Rule {
 
 const glCache = new Map<number, Rule>();
 
+/** P_n(x) and P_n′(x) by the three-term recurrence (k P_k = (2k−1) x P_{k−1} − (k−1) P_{k−2}). */
+function legendre(n: number, x: number): [number, number] {
+  let p0 = 1, p1 = x;
+  for (let k = 2; k <= n; k++) {
+    const p2 = ((2 * k - 1) * x * p1 - (k - 1) * p0) / k;
+    p0 = p1;
+    p1 = p2;
+  }
+  if (n === 1) { p1 = x; p0 = 1; }
+  return [p1, (n * (x * p1 - p0)) / (x * x - 1)];
+}
+
 /** n-point Gauss–Legendre rule on [−1, 1]. */
 export function gaussLegendre(n: number): Rule {
   const hit = glCache.get(n);
@@ -18,30 +30,13 @@ export function gaussLegendre(n: number): Rule {
   const weights = new Float64Array(n);
   for (let i = 0; i < Math.ceil(n / 2); i++) {
     let x = Math.cos((Math.PI * (i + 0.75)) / (n + 0.5));
-    let dp = 0;
     for (let it = 0; it < 100; it++) {
-      let p0 = 1, p1 = x;
-      for (let k = 2; k <= n; k++) {
-        const p2 = ((2 * k - 1) * x * p1 - (k - 1) * p0) / k;
-        p0 = p1;
-        p1 = p2;
-      }
-      if (n === 1) { p1 = x; p0 = 1; }
-      dp = (n * (x * p1 - p0)) / (x * x - 1);
-      const dx = p1 / dp;
+      const [p, dp] = legendre(n, x);
+      const dx = p / dp;
       x -= dx;
       if (Math.abs(dx) < 1e-16) break;
     }
-    {
-      let p0 = 1, p1 = x;
-      for (let k = 2; k <= n; k++) {
-        const p2 = ((2 * k - 1) * x * p1 - (k - 1) * p0) / k;
-        p0 = p1;
-        p1 = p2;
-      }
-      if (n === 1) { p1 = x; p0 = 1; }
-      dp = (n * (x * p1 - p0)) / (x * x - 1);
-    }
+    const dp = legendre(n, x)[1];
     nodes[i] = -x;
     nodes[n - 1 - i] = x;
     const w = 2 / ((1 - x * x) * dp * dp);
