@@ -227,6 +227,11 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
     }
     a.yieldSpin += f.yieldSpin;
     if (geometry) {
+      // a stop absorbs its sub-beam wherever it goes, and an empty path has no profile: no geometry
+      if (f.target === 'stop' || !(f.yieldSpin > 1e-15)) {
+        a.fines.push({ fine: f, yieldGeo: f.yieldSpin, captured: 1, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: [] });
+        continue;
+      }
       const g = fineGeometry(f);
       nodes += g.nodes.length;
       clipped += f.yieldSpin - g.yieldGeo;
@@ -236,7 +241,7 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
   const leaves: (LeafResult & { _acc: LeafAcc })[] = [];
   for (const a of accs.values()) {
     const eff = a.detector ? a.detector.efficiency : 1;
-    if (!geometry) {
+    if (!geometry || a.target === 'stop') {
       leaves.push({ path: a.path, target: a.target, yield: a.yieldSpin, rate: flux * a.yieldSpin * eff, _acc: a });
       continue;
     }
