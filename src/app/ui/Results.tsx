@@ -121,7 +121,7 @@ export function Results(p: Props) {
             layout: {
               ...theme, shapes: edges, showlegend: true, legend: { orientation: 'h', y: -0.3 },
               xaxis: { ...theme.xaxis, title: { text: `${profileAxis} (mm)` } },
-              yaxis: { ...theme.yaxis, title: { text: 'fraction of oven flux per mm' }, rangemode: 'tozero' },
+              yaxis: { ...theme.yaxis, title: { text: 'oven flux fraction / mm' }, rangemode: 'tozero' },
             },
             axis: profileAxis,
           }
