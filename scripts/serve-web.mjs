@@ -2,24 +2,13 @@
 // next free one (PORT=0 takes any free port). Prints the URL on one line. Web Workers need http(s).
 import { createServer } from 'node:http';
 import { readFile, stat } from 'node:fs/promises';
+import { readFileSync } from 'node:fs';
 import { join, normalize, extname, dirname, sep } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..', process.env.SPINYARD_WEB_DIR ?? 'dist-web');
-const TYPES = {
-  '.html': 'text/html; charset=utf-8',
-  '.js': 'text/javascript; charset=utf-8',
-  '.mjs': 'text/javascript; charset=utf-8',
-  '.css': 'text/css; charset=utf-8',
-  '.json': 'application/json; charset=utf-8',
-  '.spinyard': 'application/json; charset=utf-8',
-  '.svg': 'image/svg+xml',
-  '.png': 'image/png',
-  '.ico': 'image/x-icon',
-  '.woff2': 'font/woff2',
-  '.map': 'application/json; charset=utf-8',
-  '.txt': 'text/plain; charset=utf-8',
-};
+// the Content-Type table shared with the Electron app protocol (electron/main/security.ts)
+const TYPES = JSON.parse(readFileSync(join(dirname(fileURLToPath(import.meta.url)), '..', 'src', 'host', 'mime-types.json'), 'utf8'));
 
 async function handle(req, res) {
   if (req.method !== 'GET' && req.method !== 'HEAD') {

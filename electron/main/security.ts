@@ -8,6 +8,7 @@
 // served only from dist-web.
 
 import * as path from 'node:path';
+import MIME_TYPES from '../../src/host/mime-types.json';
 
 export { CONTENT_SECURITY_POLICY } from '../../src/host/csp.ts';
 
@@ -40,25 +41,10 @@ export function resolveAppFile(root: string, url: string): string | null {
   return file === base || !file.startsWith(base + path.sep) ? null : file;
 }
 
-/** The Content-Type of a dist-web file. */
+/** The Content-Type of a dist-web file (the table is shared with scripts/serve-web.mjs). */
 export function mimeTypeOf(file: string): string {
   const ext = path.extname(file).toLowerCase();
-  const types: Record<string, string> = {
-    '.html': 'text/html; charset=utf-8',
-    '.js': 'text/javascript; charset=utf-8',
-    '.mjs': 'text/javascript; charset=utf-8',
-    '.css': 'text/css; charset=utf-8',
-    '.json': 'application/json; charset=utf-8',
-    '.spinyard': 'application/json; charset=utf-8',
-    '.svg': 'image/svg+xml',
-    '.png': 'image/png',
-    '.ico': 'image/x-icon',
-    '.woff2': 'font/woff2',
-    '.wasm': 'application/wasm',
-    '.map': 'application/json; charset=utf-8',
-    '.txt': 'text/plain; charset=utf-8',
-  };
-  return types[ext] ?? 'application/octet-stream';
+  return (MIME_TYPES as Record<string, string>)[ext] ?? 'application/octet-stream';
 }
 
 /** A development server URL accepted from SPINYARD_DEV_URL: http on the loopback interface only. */

@@ -37,15 +37,25 @@ function problemsOut(file: string, problems: readonly string[]): CliOutput {
   return bad(`${file}: not a valid beamline (${n} problem${n === 1 ? '' : 's'}):`, ...problems.map((p) => `  ${p}`));
 }
 
-function cmdRun(argv: readonly string[]): CliOutput {
-  const c = commandArgs('run', argv, [JSON_OPT], { min: 1, max: 1, what: 'FILE' });
-  if (c.out) return c.out;
+/** The arguments of a command that takes one FILE, and the file's text; `out` when either fails. */
+function fileCommand(command: string, argv: readonly string[], specs: OptionSpec[] = []):
+  | { out: CliOutput }
+  | { out?: undefined; file: string; text: string; options: Record<string, unknown> } {
+  const c = commandArgs(command, argv, specs, { min: 1, max: 1, what: 'FILE' });
+  if (c.out) return { out: c.out };
   const file = c.args.positional[0];
   const text = readBeamlineFile(file);
-  if (!text.ok) return bad(text.message);
-  const r = runDocumentText(text.text);
+  if (!text.ok) return { out: bad(text.message) };
+  return { file, text: text.text, options: c.args.options };
+}
+
+function cmdRun(argv: readonly string[]): CliOutput {
+  const f = fileCommand('run', argv, [JSON_OPT]);
+  if (f.out) return f.out;
+  const { file, text } = f;
+  const r = runDocumentText(text);
   if (!r.ok) return problemsOut(file, r.problems);
-  if (c.args.options.json) return ok(`${JSON.stringify(r.result, null, 2)}\n`);
+  if (f.options.json) return ok(`${JSON.stringify(r.result, null, 2)}\n`);
   const title = r.line.title || '(untitled)';
   const sp = r.line.species;
   const species = sp.kind === 'named' ? sp.name : `bare spin ${formatHalfInteger(sp.j2, false)}`;
@@ -62,24 +72,20 @@ function cautionsText(name: string | undefined): string {
 
 /** The setup sheet of FILE as one printable HTML document on stdout; writes no file. */
 function cmdSheet(argv: readonly string[]): CliOutput {
-  const c = commandArgs('sheet', argv, [], { min: 1, max: 1, what: 'FILE' });
-  if (c.out) return c.out;
-  const file = c.args.positional[0];
-  const text = readBeamlineFile(file);
-  if (!text.ok) return bad(text.message);
-  const r = runDocumentText(text.text);
+  const f = fileCommand('sheet', argv);
+  if (f.out) return f.out;
+  const { file, text } = f;
+  const r = runDocumentText(text);
   if (!r.ok) return problemsOut(file, r.problems);
   const generatedAt = `${new Date().toISOString().slice(0, 16).replace('T', ' ')} UTC from ${file}`;
   return ok(sheetHtml(buildSheet(r.doc, r.line, r.result, { generatedAt })));
 }
 
 function cmdValidate(argv: readonly string[]): CliOutput {
-  const c = commandArgs('validate', argv, [], { min: 1, max: 1, what: 'FILE' });
-  if (c.out) return c.out;
-  const file = c.args.positional[0];
-  const text = readBeamlineFile(file);
-  if (!text.ok) return bad(text.message);
-  const r = parseBeamlineText(text.text);
+  const f = fileCommand('validate', argv);
+  if (f.out) return f.out;
+  const { file, text } = f;
+  const r = parseBeamlineText(text);
   if (!r.ok) return problemsOut(file, r.problems.map(formatProblem));
   return ok([`${file}: valid`, ...r.warnings.map((w) => `warning: ${formatProblem(w)}`)].join('\n') + '\n');
 }

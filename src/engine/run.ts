@@ -76,7 +76,6 @@ interface WalkCtx {
   chi: CharCache;
   line: Beamline;
   byId: Map<string, Element>;
-  sorts: Map<string, Sorting>;
   leaves: FinePath[];
   lost: { spin: number };
   warnings: Set<string>;
@@ -175,53 +174,38 @@ function axisWarning(path: string, n: Vec3): string | null {
   return `${path}.axis: has a component along the beam (n_y = ${n.y.toFixed(3)}); a gradient magnet analyses along its transverse field, so this is an idealisation. It is realised by a rotator of ${(ang * 180 / Math.PI).toFixed(2)}° about (${f(ku.x)}, ${f(ku.y)}, ${f(ku.z)}) before a magnet along (${f(t.x)}, 0, ${f(t.z)}), and its inverse after`;
 }
 
-/** Sortings depend only on the isotope and the magnet's axis, field, group and entry: cached across runs. */
+/**
+ * Sortings depend only on the isotope and the magnet's axis, field, group and entry: cached per element
+ * object (a line run again, or the unchanged elements of a scan) and by those values (an element rebuilt
+ * with the same set-points). The element's warnings are added once per run.
+ */
 const sortCache = new Map<string, Sorting>();
-
 const sortByElement = new WeakMap<Magnet | Recombiner, Map<string, Sorting>>();
 
 function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
   let byName = sortByElement.get(e);
-  const quick = byName?.get(ctx.sys.name);
-  if (quick) {
-    // the element's warnings are added once per run
-    if (!ctx.seen.has(e)) {
-      ctx.seen.add(e);
-      for (const w of quick.warnings) ctx.warnings.add(w);
-      const aw = axisWarning(e.path, e.axis);
-      if (aw) ctx.warnings.add(aw);
-    }
-    return quick;
-  }
-  const s0 = getSortingSlow(ctx, e);
-  if (!byName) sortByElement.set(e, (byName = new Map()));
-  byName.set(ctx.sys.name, s0);
-  ctx.seen.add(e);
-  return s0;
-}
-
-function getSortingSlow(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
-  const key = `${ctx.sys.name}|${e.path}|${e.axis.x},${e.axis.y},${e.axis.z}|${e.field}|${e.group}|${e.entry}`;
-  let s = ctx.sorts.get(key) ?? sortCache.get(key);
-  if (s && !ctx.sorts.has(key)) {
-    for (const w of s.warnings) ctx.warnings.add(w);
-    const aw = axisWarning(e.path, e.axis);
-    if (aw) ctx.warnings.add(aw);
-    ctx.sorts.set(key, s);
-  }
+  let s = byName?.get(ctx.sys.name);
   if (!s) {
-    try {
-      s = sortStates(ctx.sys, { axis: e.axis, field: e.field, group: e.group, entry: e.entry, path: e.path });
-    } catch (err) {
-      if (err instanceof SpeciesError) throw new RunError(err.message);
-      throw err;
+    const key = `${ctx.sys.name}|${e.path}|${e.axis.x},${e.axis.y},${e.axis.z}|${e.field}|${e.group}|${e.entry}`;
+    s = sortCache.get(key);
+    if (!s) {
+      try {
+        s = sortStates(ctx.sys, { axis: e.axis, field: e.field, group: e.group, entry: e.entry, path: e.path });
+      } catch (err) {
+        if (err instanceof SpeciesError) throw new RunError(err.message);
+        throw err;
+      }
+      if (sortCache.size > 20000) sortCache.clear();
+      sortCache.set(key, s);
     }
+    if (!byName) sortByElement.set(e, (byName = new Map()));
+    byName.set(ctx.sys.name, s);
+  }
+  if (!ctx.seen.has(e)) {
+    ctx.seen.add(e);
     for (const w of s.warnings) ctx.warnings.add(w);
     const aw = axisWarning(e.path, e.axis);
     if (aw) ctx.warnings.add(aw);
-    ctx.sorts.set(key, s);
-    if (sortCache.size > 20000) sortCache.clear();
-    sortCache.set(key, s);
   }
   return s;
 }
@@ -724,7 +708,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     dists.push(dist);
     const chi = new CharCache(dist);
     const ctx: WalkCtx = {
-      sys: system, fraction, dist, chi, line, byId, sorts: new Map(), leaves, lost, warnings, positions, opts,
+      sys: system, fraction, dist, chi, line, byId, leaves, lost, warnings, positions, opts,
       counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(), seen: new Set(),
       hAmbient: system.hamiltonian(line.ambient), ambientZero: false,
     };

@@ -435,12 +435,6 @@ function isPositive(a: CMat, delta: number): boolean {
   return true;
 }
 
-/** The beam-averaged state ⟨ρ⟩ = W A W† and the error bound of its entries. */
-export function specAverage(st: SpecState, chi: CharCache): { rho: CMat; error: number; hermiticity: number; positive: boolean } {
-  const av = specAverageBasis(st, chi);
-  return { rho: cmatMul(cmatMul(st.W, av.A), cmatDagger(st.W)), error: av.error, hermiticity: av.hermiticity, positive: av.positive };
-}
-
 /** Tr⟨ρ⟩ = Σ_ab (W†W)_ba A_ab without forming ⟨ρ⟩. */
 export function specAverageTrace(st: SpecState, chi: CharCache): { value: number; error: number; hermiticity: number; positive: boolean } {
   const av = specAverageBasis(st, chi);

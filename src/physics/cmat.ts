@@ -89,13 +89,6 @@ export function cmatMul(a: CMat, b: CMat): CMat {
   return out;
 }
 
-/** Product of several matrices, left to right: A₁·A₂·…·Aₙ. */
-export function cmatChain(...ms: CMat[]): CMat {
-  let out = ms[0];
-  for (let i = 1; i < ms.length; i++) out = cmatMul(out, ms[i]);
-  return out;
-}
-
 /** Conjugate transpose A†. */
 export function cmatDagger(a: CMat): CMat {
   const out = cmatZeros(a.cols, a.rows);
@@ -270,9 +263,4 @@ export function cmatColumn(a: CMat, j: number): CMat {
     out.im[i] = a.im[i * a.cols + j];
   }
   return out;
-}
-
-/** Outer product |u⟩⟨v| of two column vectors. */
-export function cmatOuter(u: CMat, v: CMat): CMat {
-  return cmatMul(u, cmatDagger(v));
 }
