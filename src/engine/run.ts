@@ -8,7 +8,7 @@
  * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
  * grid that is doubled until the leaf yields agree (sampled.ts).
  */
-import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger } from '../physics/cmat.ts';
+import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64 } from '../physics/cmat.ts';
 import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
 import { reduceAngle } from '../physics/trig.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
@@ -184,9 +184,9 @@ const sortByElement = new WeakMap<Magnet | Recombiner, Map<string, Sorting>>();
 
 function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
   let byName = sortByElement.get(e);
-  let s = byName?.get(ctx.sys.name);
+  let s = byName?.get(ctx.sys.key);
   if (!s) {
-    const key = `${ctx.sys.name}|${e.path}|${e.axis.x},${e.axis.y},${e.axis.z}|${e.field}|${e.group}|${e.entry}`;
+    const key = `${ctx.sys.key}|${e.path}|${e.axis.x},${e.axis.y},${e.axis.z}|${e.field}|${e.group}|${e.entry}`;
     s = sortCache.get(key);
     if (!s) {
       try {
@@ -199,7 +199,7 @@ function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
       sortCache.set(key, s);
     }
     if (!byName) sortByElement.set(e, (byName = new Map()));
-    byName.set(ctx.sys.name, s);
+    byName.set(ctx.sys.key, s);
   }
   if (!ctx.seen.has(e)) {
     ctx.seen.add(e);
@@ -293,35 +293,53 @@ function averagedTrace(ctx: WalkCtx, st: State): number {
 }
 
 const eigenCache = new WeakMap<CMat, { values: ArrayLike<number>; vectors: CMat }>();
+const fieldEigenCache = new Map<string, { values: ArrayLike<number>; vectors: CMat }>();
 
 /** H/ħ = V Λ V†: a field Hamiltonian through the m_F blocks (hyperfine.ts zeemanEigen), else eigh. */
-function eigenOf(ctx: WalkCtx, h: CMat, field?: Vec3): { values: ArrayLike<number>; vectors: CMat } {
+function eigenOf(ctx: WalkCtx, h: CMat | null, field?: Vec3): { values: ArrayLike<number>; vectors: CMat } {
+  if (field) {
+    const key = `${ctx.sys.key}|${field.x},${field.y},${field.z}`;
+    let e = fieldEigenCache.get(key);
+    if (!e) {
+      const b = vecNorm(field);
+      const z = zeemanEigen(ctx.sys.params, b, b > 0 ? field : { x: 0, y: 0, z: 1 });
+      e = { values: z.values.map((x) => 2 * Math.PI * x), vectors: z.vectors };
+      if (fieldEigenCache.size >= 512) fieldEigenCache.delete(fieldEigenCache.keys().next().value as string);
+      fieldEigenCache.set(key, e);
+    }
+    return e;
+  }
+  if (!h) throw new Error('eigenOf: neither a Hamiltonian nor a field');
   const hit = eigenCache.get(h);
   if (hit) return hit;
-  let e: { values: ArrayLike<number>; vectors: CMat };
-  if (field) {
-    const b = vecNorm(field);
-    const z = zeemanEigen(ctx.sys.params, b, b > 0 ? field : { x: 0, y: 0, z: 1 });
-    e = { values: z.values.map((x) => 2 * Math.PI * x), vectors: z.vectors };
-  } else e = eigh(h);
+  const e = eigh(h);
   eigenCache.set(h, e);
   return e;
 }
 
-function applyLinear(ctx: WalkCtx, st: State, h: CMat, length: number, field?: Vec3): State {
+/**
+ * ρ → U ρ U†, U = e^{−iHℓ/v}: H given as a matrix, or (h = null) as the species' Hamiltonian in
+ * `field`, which is then never built as a matrix (its eigenstates come from the m_F blocks).
+ */
+function applyLinear(ctx: WalkCtx, st: State, h: CMat | null, length: number, field?: Vec3): State {
   if (length === 0) return st;
-  let hn = 0;
-  for (let i = 0; i < h.re.length; i++) hn = Math.max(hn, Math.abs(h.re[i]), Math.abs(h.im[i]));
-  if (hn === 0) return st;
+  if (h) {
+    let hn = 0;
+    for (let i = 0; i < h.re.length; i++) hn = Math.max(hn, Math.abs(h.re[i]), Math.abs(h.im[i]));
+    if (hn === 0) return st;
+  } else {
+    const p = ctx.sys.params;
+    if (!field || (vecNorm(field) === 0 && p.aHz === 0 && !p.bHz)) return st;
+  }
   const e = eigenOf(ctx, h, field);
   if (isNodes(st)) {
-    const eig = { values: Float64Array.from(e.values), vectors: e.vectors };
+    const eig = { values: copyF64(e.values), vectors: e.vectors };
     return mapNodes(st, (rho, k) => conj(spectralFunction(eig, (l) => {
       const ph = reduceAngle((l * length) / st.speeds[k]);
       return [Math.cos(ph), -Math.sin(ph)];
     }), rho));
   }
-  return specPropagate(st, h, e.vectors, e.values, length);
+  return specPropagate(st, e.vectors, e.values, length);
 }
 
 function applyKraus(st: State, k: CMat): State {
@@ -467,7 +485,7 @@ function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
       break;
     }
     case 'field': {
-      s = applyLinear(ctx, s, sys.hamiltonian(e.field), e.length, e.field);
+      s = applyLinear(ctx, s, null, e.length, e.field);
       break;
     }
     case 'twist': {

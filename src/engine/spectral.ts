@@ -15,9 +15,9 @@
  * is computed once. A new propagator first expands the state into lab-frame terms of equal
  * phase-length (merged within 1e-13 of the largest), then changes basis.
  */
-import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm } from '../physics/cmat.ts';
+import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, zeroedF64, copyF64 } from '../physics/cmat.ts';
 import { charFunction, type VelocityDistribution } from '../physics/velocity.ts';
-import { reduceAngle } from '../physics/trig.ts';
+import { reduceAngle, expNegI } from '../physics/trig.ts';
 
 export interface SpecTerm {
   readonly phi: number;
@@ -116,7 +116,7 @@ export function mergeTerms(ts: SpecTerm[]): SpecTerm[] {
         last.sum += m;
         last.n++;
       } else {
-        out.push({ phi: 0, first: m, sum: m, n: 1, X: { rows: t.X.rows, cols: t.X.cols, re: t.X.re.slice(), im: t.X.im.slice() } });
+        out.push({ phi: 0, first: m, sum: m, n: 1, X: { rows: t.X.rows, cols: t.X.cols, re: copyF64(t.X.re), im: copyF64(t.X.im) } });
       }
     }
     return out.map((g) => ({ phi: (sign * g.sum) / g.n, X: g.X }));
@@ -144,7 +144,7 @@ function snapDegenerate(lambda: ArrayLike<number>): Float64Array {
   let scale = 0;
   for (let i = 0; i < n; i++) scale = Math.max(scale, Math.abs(lambda[i]));
   const tol = 1e-12 * scale;
-  const out = Float64Array.from(lambda);
+  const out = copyF64(lambda);
   let start = 0;
   for (let i = 1; i <= n; i++) {
     if (i === n || lambda[order[i]] - lambda[order[i - 1]] > tol) {
@@ -164,12 +164,20 @@ function snapDegenerate(lambda: ArrayLike<number>): Float64Array {
  * ρ(s) → U(s) ρ(s) U(s)† with U(s) = V e^{−iΛℓs} V† (H = V Λ V†, Λ in rad/s). The step is skipped when
  * every term commutes with H (then U ρ U† = ρ exactly: e.g. a hyperfine drift of a state diagonal in F).
  */
-export function specPropagate(st: SpecState, h: CMat, v: CMat, lambda: ArrayLike<number>, length: number): SpecState {
-  const lab = specExpand(st);
-  const d = h.rows;
+export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>, length: number): SpecState {
+  const d = v.rows;
   const snapped = snapDegenerate(lambda);
   const vd = cmatDagger(v);
-  const xs = lab.map((t) => cmatMul(cmatMul(vd, t.X), v));
+  let lab: SpecTerm[], xs: CMat[];
+  if (st.mu === null) {
+    // every term is already lab-frame Σ_t W X_t W† e^{−iφ_t s}: in the new basis Y X_t Y†, Y = V†W
+    const y = cmatMul(vd, st.W), yd = cmatDagger(y);
+    lab = st.terms.slice();
+    xs = lab.map((t) => cmatMul(cmatMul(y, t.X), yd));
+  } else {
+    lab = specExpand(st);
+    xs = lab.map((t) => cmatMul(cmatMul(vd, t.X), v));
+  }
   // every term block-diagonal on the eigenspaces of H commutes with it: then U ρ U† = ρ exactly
   let commutes = true;
   for (const x of xs) {
@@ -184,7 +192,7 @@ export function specPropagate(st: SpecState, h: CMat, v: CMat, lambda: ArrayLike
       break;
     }
   }
-  if (commutes) return state(cmatIdentity(d), null, lab);
+  if (commutes) return st.mu === null ? st : state(cmatIdentity(d), null, lab);
   const mu = snapped.map((l) => l * length);
   return state(v, mu, lab.map((t, i) => ({ phi: t.phi, X: xs[i] })));
 }
@@ -196,7 +204,7 @@ export function specPropagate(st: SpecState, h: CMat, v: CMat, lambda: ArrayLike
 export function specProjectDiag(st: SpecState, vecs: readonly CMat[]): SpecState {
   const d = st.W.rows, r = st.W.cols, K = vecs.length;
   // u_k = ⟨k|W (1×r)
-  const ur = new Float64Array(K * r), ui = new Float64Array(K * r);
+  const ur = zeroedF64(K * r), ui = zeroedF64(K * r);
   for (let k = 0; k < K; k++) {
     const v = vecs[k];
     for (let a = 0; a < r; a++) {
@@ -220,7 +228,7 @@ export function specProjectDiag(st: SpecState, vecs: readonly CMat[]): SpecState
       const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
       let slot = acc.get(f);
       if (!slot) {
-        slot = { re: new Float64Array(K), im: new Float64Array(K) };
+        slot = { re: zeroedF64(K), im: zeroedF64(K) };
         acc.set(f, slot);
       }
       for (let k = 0; k < K; k++) {
@@ -328,79 +336,51 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
   const r = st.W.cols;
   const mu = st.mu!;
   const n = speeds.length;
+  const sc = scratch(2 * n * (r + 1));
   // z_a(k) = e^{−iμ_a s_k} for every speed, computed once, stored by column a (contiguous in k)
-  const zr = new Float64Array(n * r), zi = new Float64Array(n * r);
+  const zr = sc.subarray(0, n * r), zi = sc.subarray(n * r, 2 * n * r);
+  const er = sc.subarray(2 * n * r, 2 * n * r + n), ei = sc.subarray(2 * n * r + n, 2 * n * (r + 1));
   for (let a = 0; a < r; a++) {
-    for (let k = 0; k < n; k++) {
-      const ph = reduceAngle(mu[a] / speeds[k]);
-      zr[a * n + k] = Math.cos(ph);
-      zi[a * n + k] = -Math.sin(ph);
-    }
+    const m = mu[a], o = a * n;
+    for (let k = 0; k < n; k++) expNegI(m / speeds[k], zr, zi, o + k);
   }
   // y_a(k) = w_k e^{−iφ s_k} z_a(k), so that S_ab = Σ_k y_a(k) conj(z_b(k))
-  const yr = new Float64Array(n * r), yi = new Float64Array(n * r);
-  const S = new Float64Array(2 * r * r);
+  const ys = scratch2(2 * n * r);
+  const yr = ys.subarray(0, n * r), yi = ys.subarray(n * r, 2 * n * r);
+  const S = zeroedF64(2 * r * r);
+  const todo = new Uint8Array(r * r);
   for (const term of st.terms) {
     const cut = 1e-18 * significance(term);
     const xr = term.X.re, xi = term.X.im;
     const hermitian = term.phi === 0;
-    for (let k = 0; k < n; k++) {
-      const ph = reduceAngle(term.phi / speeds[k]);
-      const er = weights[k] * Math.cos(ph), ei = -weights[k] * Math.sin(ph);
-      for (let a = 0; a < r; a++) {
-        const o = a * n + k;
-        yr[o] = er * zr[o] - ei * zi[o];
-        yi[o] = er * zi[o] + ei * zr[o];
-      }
-    }
-    const need = (a: number, b: number) => {
-      const i = a * r + b, j = b * r + a;
-      return Math.abs(xr[i]) + Math.abs(xi[i]) > cut || (hermitian && Math.abs(xr[j]) + Math.abs(xi[j]) > cut);
-    };
+    for (let k = 0; k < n; k++) expNegI(term.phi / speeds[k], er, ei, k);
     for (let a = 0; a < r; a++) {
-      const oa = a * n;
-      // with φ = 0, S is Hermitian: only b ≥ a is summed; four columns b at a time
-      let b = hermitian ? a : 0;
-      for (; b + 3 < r; b += 4) {
-        if (!need(a, b) && !need(a, b + 1) && !need(a, b + 2) && !need(a, b + 3)) continue;
-        let s0r = 0, s0i = 0, s1r = 0, s1i = 0, s2r = 0, s2i = 0, s3r = 0, s3i = 0;
-        const o0 = b * n, o1 = o0 + n, o2 = o1 + n, o3 = o2 + n;
-        for (let k = 0; k < n; k++) {
-          const ar = yr[oa + k], ai = yi[oa + k];
-          let br = zr[o0 + k], bi = zi[o0 + k];
-          s0r += ar * br + ai * bi; s0i += ai * br - ar * bi;
-          br = zr[o1 + k]; bi = zi[o1 + k];
-          s1r += ar * br + ai * bi; s1i += ai * br - ar * bi;
-          br = zr[o2 + k]; bi = zi[o2 + k];
-          s2r += ar * br + ai * bi; s2i += ai * br - ar * bi;
-          br = zr[o3 + k]; bi = zi[o3 + k];
-          s3r += ar * br + ai * bi; s3i += ai * br - ar * bi;
-        }
-        const q = 2 * (a * r + b);
-        S[q] = s0r; S[q + 1] = s0i; S[q + 2] = s1r; S[q + 3] = s1i; S[q + 4] = s2r; S[q + 5] = s2i; S[q + 6] = s3r; S[q + 7] = s3i;
-      }
-      for (; b < r; b++) {
-        if (!need(a, b)) continue;
-        let sr = 0, si = 0;
-        const ob = b * n;
-        for (let k = 0; k < n; k++) {
-          const ar = yr[oa + k], ai = yi[oa + k], br = zr[ob + k], bi = zi[ob + k];
-          sr += ar * br + ai * bi;
-          si += ai * br - ar * bi;
-        }
-        S[2 * (a * r + b)] = sr;
-        S[2 * (a * r + b) + 1] = si;
+      const o = a * n;
+      for (let k = 0; k < n; k++) {
+        const w = weights[k], pr = er[k] * w, pi = ei[k] * w;
+        yr[o + k] = pr * zr[o + k] - pi * zi[o + k];
+        yi[o + k] = pr * zi[o + k] + pi * zr[o + k];
       }
     }
+    // entries needed: with φ = 0, S is Hermitian and only b ≥ a is summed (S_ba = conj S_ab)
+    let any = false;
+    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+      const i = a * r + b, j = b * r + a;
+      const need = (hermitian ? b >= a : true) && (Math.abs(xr[i]) + Math.abs(xi[i]) > cut || (hermitian && Math.abs(xr[j]) + Math.abs(xi[j]) > cut));
+      todo[i] = need ? 1 : 0;
+      any ||= need;
+    }
+    if (!any) continue;
+    pairSums(yr, yi, zr, zi, n, r, todo, S);
     for (let a = 0; a < r; a++) {
       for (let b = hermitian ? a : 0; b < r; b++) {
-        if (!need(a, b)) continue;
-        const i = a * r + b, j = b * r + a;
+        const i = a * r + b;
+        if (!todo[i]) continue;
+        const j = b * r + a;
         const sr = S[2 * i], si = S[2 * i + 1];
         A.re[i] += xr[i] * sr - xi[i] * si;
         A.im[i] += xr[i] * si + xi[i] * sr;
         if (hermitian && a !== b) {
-          // S_ba = conj(S_ab)
           A.re[j] += xr[j] * sr + xi[j] * si;
           A.im[j] += xi[j] * sr - xr[j] * si;
         }
@@ -409,10 +389,63 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
   }
 }
 
+let scratchA = new Float64Array(0), scratchB = new Float64Array(0);
+/** Reused work arrays of the table sums (every entry is written before it is read). */
+function scratch(n: number): Float64Array {
+  if (scratchA.length < n) scratchA = new Float64Array(n);
+  return scratchA;
+}
+function scratch2(n: number): Float64Array {
+  if (scratchB.length < n) scratchB = new Float64Array(n);
+  return scratchB;
+}
+
+/**
+ * S_ab = Σ_k y_a(k) conj(z_b(k)) for the entries marked in `todo`, in 2×2 blocks of (a, b) so that
+ * each loaded speed serves four sums (S is written only where todo is set).
+ */
+function pairSums(yr: Float64Array, yi: Float64Array, zr: Float64Array, zi: Float64Array, n: number, r: number, todo: Uint8Array, S: Float64Array): void {
+  const half = r & ~1;
+  for (let a = 0; a < half; a += 2) {
+    const oa = a * n, oa1 = oa + n;
+    for (let b = 0; b < half; b += 2) {
+      const i = a * r + b;
+      if (!(todo[i] | todo[i + 1] | todo[i + r] | todo[i + r + 1])) continue;
+      const ob = b * n, ob1 = ob + n;
+      let p00r = 0, p00i = 0, p01r = 0, p01i = 0, p10r = 0, p10i = 0, p11r = 0, p11i = 0;
+      for (let k = 0; k < n; k++) {
+        const a0r = yr[oa + k], a0i = yi[oa + k], a1r = yr[oa1 + k], a1i = yi[oa1 + k];
+        const b0r = zr[ob + k], b0i = zi[ob + k], b1r = zr[ob1 + k], b1i = zi[ob1 + k];
+        p00r += a0r * b0r + a0i * b0i; p00i += a0i * b0r - a0r * b0i;
+        p01r += a0r * b1r + a0i * b1i; p01i += a0i * b1r - a0r * b1i;
+        p10r += a1r * b0r + a1i * b0i; p10i += a1i * b0r - a1r * b0i;
+        p11r += a1r * b1r + a1i * b1i; p11i += a1i * b1r - a1r * b1i;
+      }
+      const q = 2 * i, q1 = q + 2 * r;
+      S[q] = p00r; S[q + 1] = p00i; S[q + 2] = p01r; S[q + 3] = p01i;
+      S[q1] = p10r; S[q1 + 1] = p10i; S[q1 + 2] = p11r; S[q1 + 3] = p11i;
+    }
+  }
+  // the odd row and column, if r is odd
+  for (let a = 0; a < r; a++) for (let b = a < half ? half : 0; b < r; b++) {
+    const i = a * r + b;
+    if (!todo[i]) continue;
+    const oa = a * n, ob = b * n;
+    let sr = 0, si = 0;
+    for (let k = 0; k < n; k++) {
+      const ar = yr[oa + k], ai = yi[oa + k], br = zr[ob + k], bi = zi[ob + k];
+      sr += ar * br + ai * bi;
+      si += ai * br - ar * bi;
+    }
+    S[2 * i] = sr;
+    S[2 * i + 1] = si;
+  }
+}
+
 /** Cholesky of A + δ·1: succeeds exactly when every eigenvalue of the Hermitian part exceeds −δ. */
 function isPositive(a: CMat, delta: number): boolean {
   const n = a.rows;
-  const lr = new Float64Array(n * n), li = new Float64Array(n * n);
+  const lr = zeroedF64(n * n), li = zeroedF64(n * n);
   for (let j = 0; j < n; j++) {
     let djj = 0.5 * (a.re[j * n + j] + a.re[j * n + j]) + delta;
     for (let k = 0; k < j; k++) djj -= lr[j * n + k] ** 2 + li[j * n + k] ** 2;

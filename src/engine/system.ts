@@ -14,6 +14,8 @@ import type { AtomSpecies } from '../species/types.ts';
 import type { SpeciesRef } from '../beamline/types.ts';
 
 export interface SpinSystem {
+  /** Identity of the system's constants (name, I, J, g-factors, A, B, mass), for caches. */
+  readonly key: string;
   readonly name: string;
   readonly params: HyperfineParams;
   /** True when ports are hyperfine |F, m_F⟩ eigenstates (I > 0). */
@@ -33,10 +35,25 @@ export interface WeightedSystem {
 
 export class SpeciesError extends Error {}
 
+const systems = new Map<string, SpinSystem>();
+
+/** One system per (name, constants, mass), kept across runs with its cache of Hamiltonians. */
 function makeSystem(name: string, params: HyperfineParams, massKg: number): SpinSystem {
+  const key = `${name}|${params.i2}|${params.j2}|${params.gJ}|${params.gI}|${params.aHz}|${params.bHz ?? 0}|${massKg}`;
+  let sys = systems.get(key);
+  if (!sys) {
+    sys = buildSystem(key, name, params, massKg);
+    if (systems.size >= 64) systems.delete(systems.keys().next().value as string);
+    systems.set(key, sys);
+  }
+  return sys;
+}
+
+function buildSystem(key: string, name: string, params: HyperfineParams, massKg: number): SpinSystem {
   const c = compositeSpin(params.i2, params.j2);
   const cache = new Map<string, CMat>();
   return {
+    key,
     name,
     params,
     hyperfine: params.i2 > 0,

@@ -7,7 +7,7 @@
  * eigenvalues (residual ‖HV − VΛ‖ ≈ 1e-15‖H‖ for d ≤ 64), which the labelling of nearly degenerate
  * hyperfine levels needs. Eigenvalues come out ascending; vectors are the columns of V.
  */
-import { type CMat, cmatZeros, cmatClone, cmatMul, cmatDagger } from './cmat.ts';
+import { type CMat, cmatZeros, cmatClone, cmatMul, cmatDagger, zeroedF64 } from './cmat.ts';
 import { reduceAngle } from './trig.ts';
 
 export interface Eigen {
@@ -102,7 +102,7 @@ export function eigh(h: CMat): Eigen {
 function finish(a: CMat, v: CMat): Eigen {
   const n = a.rows;
   const order = Array.from({ length: n }, (_, i) => i).sort((x, y) => a.re[x * n + x] - a.re[y * n + y]);
-  const values = new Float64Array(n);
+  const values = zeroedF64(n);
   const vectors = cmatZeros(n, n);
   order.forEach((src, dst) => {
     values[dst] = a.re[src * n + src];
@@ -119,7 +119,7 @@ export function spectralFunction(e: Eigen, f: (lambda: number) => readonly [numb
   const n = e.values.length;
   const vr = e.vectors.re, vi = e.vectors.im;
   const out = cmatZeros(n, n);
-  const fr = new Float64Array(n), fi = new Float64Array(n);
+  const fr = zeroedF64(n), fi = zeroedF64(n);
   for (let k = 0; k < n; k++) [fr[k], fi[k]] = f(e.values[k]);
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < n; j++) {

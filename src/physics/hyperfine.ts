@@ -20,7 +20,7 @@
  *             coefficient of B, then by the diagonal hyperfine energy (A m_I m_J + quadrupole), then by m_J.
  *   Bare spin (i2 = 0): lowField is the m label "+1/2", highField "mJ=+1/2".
  */
-import { type CMat, cmatZeros, cmatMul, cmatCombine, cmatKron, cmatIdentity, cmatAdd } from './cmat.ts';
+import { type CMat, cmatZeros, cmatMul, cmatCombine, cmatKron, cmatIdentity, cmatAdd, zeroedF64 } from './cmat.ts';
 import { eigh } from './eigh.ts';
 import { compositeSpin, spinOperators, spinSquared, formatHalfInteger, assertJ2 } from './spin.ts';
 import { rotationToAxis, vecNorm, type Vec3 } from './rotation.ts';
@@ -351,6 +351,32 @@ function axisRotation(i2: number, j2: number, n: Vec3): CMat | undefined {
   return rot;
 }
 
+/**
+ * R·V for V whose column c has non-zero entries only on the rows of its m_F block: each column of the
+ * product combines at most block-size columns of R (the same numbers as a full product, fewer zeros).
+ */
+function mulBlockColumns(rot: CMat, v: CMat, blocks: readonly { idx: readonly number[] }[]): CMat {
+  const d = v.rows;
+  const out = cmatZeros(d, d);
+  const rr = rot.re, ri = rot.im, vr = v.re, vi = v.im, or = out.re, oi = out.im;
+  let col = 0;
+  for (const block of blocks) {
+    const idx = block.idx;
+    for (let c = 0; c < idx.length; c++, col++) {
+      for (const p of idx) {
+        const xr = vr[p * d + col], xi = vi[p * d + col];
+        if (xr === 0 && xi === 0) continue;
+        for (let i = 0; i < d; i++) {
+          const ar = rr[i * d + p], ai = ri[i * d + p];
+          or[i * d + col] += ar * xr - ai * xi;
+          oi[i * d + col] += ar * xi + ai * xr;
+        }
+      }
+    }
+  }
+  return out;
+}
+
 function checkAxis(axis: Vec3): void {
   const r = vecNorm(axis);
   if (!Number.isFinite(r) || r === 0) throw new RangeError(`the quantisation axis must be a non-zero finite vector, got (${axis.x}, ${axis.y}, ${axis.z})`);
@@ -452,7 +478,7 @@ export function mjSortCleanField(p: HyperfineParams): number {
 export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { values: Float64Array; vectors: CMat } {
   const s = structureOf(p.i2, p.j2);
   const d = s.dim;
-  const values = new Float64Array(d);
+  const values = zeroedF64(d);
   const vz = cmatZeros(d, d);
   const zc = MU_B_OVER_H * fieldT;
   const hd = (k: number) => p.aHz * s.ij.re[k * d + k] + (s.q && p.bHz ? p.bHz * s.q.re[k * d + k] : 0) + zc * (p.gJ * s.mJ2[k] + p.gI * s.mI2[k]) / 2;
@@ -494,5 +520,5 @@ export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { v
     }
   }
   const rot = fieldT === 0 ? undefined : axisRotation(p.i2, p.j2, axis);
-  return { values, vectors: rot ? cmatMul(rot, vz) : vz };
+  return { values, vectors: rot ? mulBlockColumns(rot, vz, s.blocks) : vz };
 }
