@@ -126,6 +126,20 @@ function makeDistribution(line: Beamline, sys: SpinSystem): VelocityDistribution
   }
 }
 
+const initialSpecs = new WeakMap<object, Map<string, SpecState>>();
+
+/** The oven's state as a spectral state, one object per oven and system (so runs can share a prefix). */
+function initialSpec(line: Beamline, sys: SpinSystem): SpecState {
+  let bySys = initialSpecs.get(line.oven);
+  if (!bySys) initialSpecs.set(line.oven, (bySys = new Map()));
+  let st = bySys.get(sys.key);
+  if (!st) {
+    st = specInitial(initialState(line, sys));
+    bySys.set(sys.key, st);
+  }
+  return st;
+}
+
 function initialState(line: Beamline, sys: SpinSystem): CMat {
   const st = line.oven.state;
   const d = sys.dim;
@@ -216,21 +230,39 @@ function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
  * same trace, so the cheaper form is used.
  */
 function selectStates(st: State, comps: readonly Component[], leafNext = false): State {
-  if (isNodes(st)) {
-    if (leafNext || comps.length === 1) {
-      const p = comps.length === 1 ? rank1(comps[0]) : portProjector(comps);
-      return mapNodes(st, (rho) => cmatMul(cmatMul(p, rho), p));
-    }
-    const ps = comps.map(rank1);
-    return mapNodes(st, (rho) => {
-      const out = cmatZeros(rho.rows, rho.cols);
-      for (const p of ps) {
-        const x = cmatMul(cmatMul(p, rho), p);
-        for (let i = 0; i < out.re.length; i++) { out.re[i] += x.re[i]; out.im[i] += x.im[i]; }
-      }
-      return out;
-    });
+  if (isNodes(st)) return selectNodes(st, comps, leafNext);
+  // kept with the incoming state: a scan or a repeated run whose lines share a prefix (the same state
+  // objects) sorts it once, and the shared averages of the outgoing state are computed once too
+  const key = comps.length === 1 ? comps[0] : comps;
+  let memo = selections.get(st);
+  if (!memo) selections.set(st, (memo = [new Map(), new Map()]));
+  const byKey = memo[leafNext ? 1 : 0];
+  let out = byKey.get(key);
+  if (!out) {
+    out = selectSpec(st, comps, leafNext);
+    byKey.set(key, out);
   }
+  return out;
+}
+const selections = new WeakMap<SpecState, [Map<unknown, SpecState>, Map<unknown, SpecState>]>();
+
+function selectNodes(st: NodeState, comps: readonly Component[], leafNext: boolean): NodeState {
+  if (leafNext || comps.length === 1) {
+    const p = comps.length === 1 ? rank1(comps[0]) : portProjector(comps);
+    return mapNodes(st, (rho) => cmatMul(cmatMul(p, rho), p));
+  }
+  const ps = comps.map(rank1);
+  return mapNodes(st, (rho) => {
+    const out = cmatZeros(rho.rows, rho.cols);
+    for (const p of ps) {
+      const x = cmatMul(cmatMul(p, rho), p);
+      for (let i = 0; i < out.re.length; i++) { out.re[i] += x.re[i]; out.im[i] += x.im[i]; }
+    }
+    return out;
+  });
+}
+
+function selectSpec(st: SpecState, comps: readonly Component[], leafNext: boolean): SpecState {
   // one state: |k⟩⟨k| ρ |k⟩⟨k| is a single Kraus operator, and the state keeps its frequency terms;
   // without phase terms it is just |k⟩ with its population
   if (comps.length === 1) return st.mu === null ? specProjectDiag(st, [comps[0].vector]) : specKraus(st, rank1Cached(comps[0]));
@@ -731,13 +763,13 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
       hAmbient: system.hamiltonian(line.ambient), ambientZero: false,
     };
     ctx.ambientZero = ctx.hAmbient.re.every((x) => x === 0) && ctx.hAmbient.im.every((x) => x === 0);
-    const rho0 = initialState(line, system);
+    const st0 = initialSpec(line, system);
     const ap = line.oven.aperture;
     const track: Track = {
       source: ap ? { width: ap.width, height: ap.height, x: ap.x, z: ap.z } : null,
       collimator: null, kicks: [], strips: [], components: [],
     };
-    visit(ctx, line.oven.to, specInitial(rho0), { path: [], y: 0, track, depth: 0 });
+    visit(ctx, line.oven.to, st0, { path: [], y: 0, track, depth: 0 });
     chiNodes += chi.nodes;
     chiError += 0;
     opts.onProgress?.((i + 1) / (systems.length + 1));

@@ -18,6 +18,7 @@
 import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, zeroedF64, copyF64 } from '../physics/cmat.ts';
 import { charFunction, type VelocityDistribution } from '../physics/velocity.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
+import { tableKernel } from '../physics/kernels.ts';
 
 export interface SpecTerm {
   readonly phi: number;
@@ -336,31 +337,30 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
   const r = st.W.cols;
   const mu = st.mu!;
   const n = speeds.length;
+  // the WebAssembly kernel (physics/kernels.ts) where it runs, else the same sums in JavaScript
+  const kernel = tableKernel();
+  const wasm = kernel !== null && kernel.phases(mu, speeds);
   const sc = scratch(2 * n * (r + 1));
   // z_a(k) = e^{−iμ_a s_k} for every speed, computed once, stored by column a (contiguous in k)
   const zr = sc.subarray(0, n * r), zi = sc.subarray(n * r, 2 * n * r);
   const er = sc.subarray(2 * n * r, 2 * n * r + n), ei = sc.subarray(2 * n * r + n, 2 * n * (r + 1));
-  for (let a = 0; a < r; a++) {
-    const m = mu[a], o = a * n;
-    for (let k = 0; k < n; k++) expNegI(m / speeds[k], zr, zi, o + k);
+  if (!wasm) {
+    for (let a = 0; a < r; a++) {
+      const m = mu[a], o = a * n;
+      for (let k = 0; k < n; k++) expNegI(m / speeds[k], zr, zi, o + k);
+    }
   }
-  // y_a(k) = w_k e^{−iφ s_k} z_a(k), so that S_ab = Σ_k y_a(k) conj(z_b(k))
-  const ys = scratch2(2 * n * r);
-  const yr = ys.subarray(0, n * r), yi = ys.subarray(n * r, 2 * n * r);
   const S = zeroedF64(2 * r * r);
   const todo = new Uint8Array(r * r);
   for (const term of st.terms) {
     const cut = 1e-18 * significance(term);
     const xr = term.X.re, xi = term.X.im;
     const hermitian = term.phi === 0;
-    for (let k = 0; k < n; k++) expNegI(term.phi / speeds[k], er, ei, k);
-    for (let a = 0; a < r; a++) {
-      const o = a * n;
-      for (let k = 0; k < n; k++) {
-        const w = weights[k], pr = er[k] * w, pi = ei[k] * w;
-        yr[o + k] = pr * zr[o + k] - pi * zi[o + k];
-        yi[o + k] = pr * zi[o + k] + pi * zr[o + k];
-      }
+    // e_k = w_k e^{−iφ s_k}, so that S_ab = Σ_k e_k z_a(k) conj(z_b(k))
+    for (let k = 0; k < n; k++) {
+      expNegI(term.phi / speeds[k], er, ei, k);
+      er[k] *= weights[k];
+      ei[k] *= weights[k];
     }
     // entries needed: with φ = 0, S is Hermitian and only b ≥ a is summed (S_ba = conj S_ab)
     let any = false;
@@ -371,7 +371,19 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
       any ||= need;
     }
     if (!any) continue;
-    pairSums(yr, yi, zr, zi, n, r, todo, S);
+    if (wasm) kernel.pairs(er, ei, todo, S);
+    else {
+      const ys = scratch2(2 * n * r);
+      const yr = ys.subarray(0, n * r), yi = ys.subarray(n * r, 2 * n * r);
+      for (let a = 0; a < r; a++) {
+        const o = a * n;
+        for (let k = 0; k < n; k++) {
+          yr[o + k] = er[k] * zr[o + k] - ei[k] * zi[o + k];
+          yi[o + k] = er[k] * zi[o + k] + ei[k] * zr[o + k];
+        }
+      }
+      pairSums(yr, yi, zr, zi, n, r, todo, S);
+    }
     for (let a = 0; a < r; a++) {
       for (let b = hermitian ? a : 0; b < r; b++) {
         const i = a * r + b;

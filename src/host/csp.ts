@@ -1,12 +1,13 @@
 // The Content-Security-Policy of the renderer, one string for the Electron shell (response header of the
 // app protocol) and the web build (a <meta http-equiv> in dist-web/index.html and the serve header).
-// style-src allows inline styles because plotly.js sets them; nothing allows eval. The renderer's
-// index.html carries CONTENT_SECURITY_POLICY_META verbatim (test/host/csp.test.ts checks it).
+// style-src allows inline styles because plotly.js sets them; nothing allows eval: 'wasm-unsafe-eval'
+// allows compiling WebAssembly (the engine's table kernel, src/physics/kernels.wat) and nothing else.
+// The renderer's index.html carries CONTENT_SECURITY_POLICY_META verbatim (test/host/csp.test.ts).
 // frame-ancestors is ignored in a <meta> policy: serve it as a header where it matters.
 
 export const CSP_DIRECTIVES: ReadonlyArray<readonly [string, string]> = [
   ['default-src', "'self'"],
-  ['script-src', "'self'"],
+  ['script-src', "'self' 'wasm-unsafe-eval'"],
   ['style-src', "'self' 'unsafe-inline'"],
   ['img-src', "'self' data: blob:"],
   ['font-src', "'self' data:"],

@@ -1,0 +1,81 @@
+import { describe, it, expect, afterEach } from 'vitest';
+import { tableKernel, setKernelsEnabled } from '../../src/physics/kernels.ts';
+import { specAverageBasis, CharCache, type SpecState } from '../../src/engine/spectral.ts';
+import { tableDistribution } from '../../src/physics/velocity.ts';
+import { cmatZeros, cmatIdentity } from '../../src/physics/cmat.ts';
+
+afterEach(() => setKernelsEnabled(true));
+
+/** A deterministic pseudo-random sequence (so a failure reproduces). */
+function lcg(seed: number): () => number {
+  let x = seed >>> 0;
+  return () => ((x = (Math.imul(x, 1664525) + 1013904223) >>> 0) / 2 ** 32);
+}
+
+describe('the WebAssembly table kernel', () => {
+  it('compiles here (Node): the comparisons below exercise it', () => {
+    expect(tableKernel()).not.toBeNull();
+  });
+
+  it('computes the direct sums S_ab = Σ_k e_k z_a(k) conj z_b(k), odd sizes padded', () => {
+    const rnd = lcg(7);
+    for (const [r, n] of [[1, 1], [3, 7], [5, 2], [16, 256], [9, 33]] as const) {
+      const mu = Float64Array.from({ length: r }, () => (rnd() - 0.5) * 2e8);
+      const speeds = Float64Array.from({ length: n }, () => 5 + 1000 * rnd());
+      const er = Float64Array.from({ length: n }, () => rnd() - 0.5), ei = Float64Array.from({ length: n }, () => rnd() - 0.5);
+      const todo = new Uint8Array(r * r).map(() => (rnd() < 0.7 ? 1 : 0));
+      const S = new Float64Array(2 * r * r);
+      const k = tableKernel()!;
+      expect(k.phases(mu, speeds)).toBe(true);
+      k.pairs(er, ei, todo, S);
+      for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+        if (!todo[a * r + b]) continue;
+        let sr = 0, si = 0, scale = 0;
+        for (let j = 0; j < n; j++) {
+          // e_j z_a conj(z_b), with e^{−ix} from Math.cos / Math.sin (an independent evaluation)
+          const pa = mu[a] / speeds[j], pb = mu[b] / speeds[j];
+          const ar = er[j] * Math.cos(pa) + ei[j] * Math.sin(pa), ai = ei[j] * Math.cos(pa) - er[j] * Math.sin(pa);
+          const br = Math.cos(pb), bi = -Math.sin(pb);
+          sr += ar * br + ai * bi;
+          si += ai * br - ar * bi;
+          scale += Math.hypot(er[j], ei[j]);
+        }
+        // phases of up to 2e8/5 rad carry ~1e-8 of their own rounding: compare to that
+        const tol = 1e-15 * scale * (1 + Math.max(Math.abs(mu[a]), Math.abs(mu[b])) / 5);
+        expect(Math.abs(S[2 * (a * r + b)] - sr)).toBeLessThanOrEqual(tol);
+        expect(Math.abs(S[2 * (a * r + b) + 1] - si)).toBeLessThanOrEqual(tol);
+      }
+    }
+  });
+
+  it('declines phases of 3e9 rad and more (the JavaScript path takes them)', () => {
+    const k = tableKernel()!;
+    expect(k.phases(Float64Array.of(3e9, 1), Float64Array.of(1, 2))).toBe(false);
+    expect(k.phases(Float64Array.of(NaN), Float64Array.of(1))).toBe(false);
+  });
+
+  it('gives the same beam average as the JavaScript path to 1e-15 (a 16-level state on 255 speeds)', () => {
+    const rnd = lcg(11);
+    const r = 16, n = 255;
+    const dist = tableDistribution(Array.from({ length: n }, (_, j) => [2 + 4.4 * j, rnd()] as [number, number]));
+    const X = cmatZeros(r, r);
+    for (let a = 0; a < r; a++) for (let b = a; b < r; b++) {
+      const re = rnd() - 0.5, im = a === b ? 0 : rnd() - 0.5;
+      X.re[a * r + b] = re; X.im[a * r + b] = im;
+      X.re[b * r + a] = re; X.im[b * r + a] = -im;
+    }
+    const mu = Float64Array.from({ length: r }, (_, a) => (a < 9 ? 1 : -1) * 1.4e8 + 3e3 * a * rnd());
+    const mk = (): SpecState => ({ W: cmatIdentity(r), mu, terms: [{ phi: 0, X }, { phi: 2.5e5, X }], shared: {} });
+    const fast = specAverageBasis(mk(), new CharCache(dist)).A;
+    setKernelsEnabled(false);
+    expect(tableKernel()).toBeNull();
+    const js = specAverageBasis(mk(), new CharCache(dist)).A;
+    let d = 0, m = 0;
+    for (let i = 0; i < r * r; i++) {
+      d = Math.max(d, Math.abs(fast.re[i] - js.re[i]), Math.abs(fast.im[i] - js.im[i]));
+      m = Math.max(m, Math.abs(js.re[i]), Math.abs(js.im[i]));
+    }
+    expect(m).toBeGreaterThan(0.01);
+    expect(d).toBeLessThanOrEqual(1e-15);
+  });
+});
