@@ -13,6 +13,7 @@ import { cpus } from 'node:os';
 import { parseBeamlineText, validateBeamline } from '../src/beamline/index.ts';
 import type { Beamline } from '../src/beamline/types.ts';
 import { runLine, runScan, withParameter } from '../src/engine/index.ts';
+import { setKernelsEnabled } from '../src/physics/kernels.ts';
 
 const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 const peersDir = resolve(root, '..', 'shared', 'peers');
@@ -124,6 +125,10 @@ function w1(jsonOut: string | null, peers: boolean): string {
   };
   const table256 = best(p.line);
   out.push(`W1 on the 256 tabulated speeds: best of 3 = ${table256.seconds.toFixed(3)} s for 1000 points (${table256.seconds.toFixed(3)} ms per point), max |Δ| vs w1-expected.json = ${table256.maxdiff.toExponential(2)} (check 1e-6: ${table256.maxdiff <= 1e-6 ? 'pass' : 'FAIL'})`);
+  setKernelsEnabled(false);
+  const jsOnly = best(p.line);
+  setKernelsEnabled(true);
+  out.push(`W1 on the 256 tabulated speeds with the WebAssembly kernel off (the JavaScript path): best of 3 = ${jsOnly.seconds.toFixed(3)} s, max |Δ| vs w1-expected.json = ${jsOnly.maxdiff.toExponential(2)}`);
   const effLine: Beamline = { ...p.line, oven: { ...p.line.oven, velocity: { kind: 'effusive', temperature: 400 } } };
   const eff = best(effLine);
   let effVsGrid = 0;

@@ -11,7 +11,10 @@
 import { speedGrid, type VelocityDistribution } from '../physics/velocity.ts';
 import type { Vec3 } from '../physics/rotation.ts';
 import type { Detector, Rect } from '../beamline/types.ts';
-import { transmit, fractionInside, polygonCdf, cdfAt, type Collimator1D, type AxisResult } from './geometry.ts';
+import {
+  basePolygonFlat, areaFlat, clipStrips, clipResult, axisStats, projectionRange, fractionInsideFlat,
+  polygonCdfFlat, cdfAtFlat, planeCoefficients, type Collimator1D, type FlatStrips,
+} from './geometry.ts';
 import type { LeafResult, DetectorResult, NeighbourVerdict, CrosstalkEntry } from './result.ts';
 import { specTraceAt, specTraceMoment, type SpecState } from './spectral.ts';
 
@@ -52,13 +55,48 @@ export interface FinePath {
   readonly detector: Detector | null;
 }
 
+/**
+ * One transverse axis of a sub-beam at its speed nodes: the transmitted (p, q) polygon of node k is
+ * pool[2·off[k] …], len[k] vertices (0: nothing passes); a speed-independent (fixed) axis keeps one
+ * polygon, at index 0, for all nodes. tr, mean, variance as AxisResult; mn, mx the range of α p + β q
+ * over the polygon at the sub-beam's plane (α, β = al, be there).
+ */
+interface AxisNodes {
+  readonly c: Collimator1D;
+  readonly fixed: boolean;
+  readonly area0: number;
+  readonly al: number;
+  readonly be: number;
+  pool: Float64Array;
+  readonly off: Int32Array;
+  readonly len: Int32Array;
+  readonly tr: Float64Array;
+  readonly mean: Float64Array;
+  readonly variance: Float64Array;
+  readonly mn: Float64Array;
+  readonly mx: Float64Array;
+}
+
+/** The speed nodes of a sub-beam kept for crosstalk and profiles: weight, deflection at the plane, both axes. */
+interface NodeSet {
+  readonly count: number;
+  readonly plane: number;
+  readonly w: Float64Array;
+  readonly dx: Float64Array;
+  readonly dz: Float64Array;
+  readonly x: AxisNodes | null;
+  readonly z: AxisNodes | null;
+}
+
+const NO_NODES: NodeSet = { count: 0, plane: 0, w: new Float64Array(0), dx: new Float64Array(0), dz: new Float64Array(0), x: null, z: null };
+
 interface FineGeo {
   fine: FinePath;
   yieldGeo: number;
   captured: number;
   mean: { x: number; z: number };
   second: { x: number; z: number };
-  nodes: { w: number; rx: AxisResult; rz: AxisResult; cx: Collimator1D; cz: Collimator1D; dx: number; dz: number }[];
+  nodes: NodeSet;
 }
 
 function collimatorFor(t: Track, axis: 'x' | 'z'): Collimator1D {
@@ -116,66 +154,249 @@ function coarsen(g: NonNullable<FinePath['grid']>): { speeds: Float64Array; weig
   return { speeds, weights, traces };
 }
 
-const grids = new WeakMap<VelocityDistribution, ReturnType<typeof speedGrid>>();
-function geometryGrid(d: VelocityDistribution): ReturnType<typeof speedGrid> {
+/**
+ * The geometry's speed grid of a distribution, with phiMax = 0.5/max Δ(1/v) between neighbouring nodes
+ * (the fastest phase-length the grid resolves) for the effusive and supersonic ones, Infinity otherwise.
+ */
+const grids = new WeakMap<VelocityDistribution, ReturnType<typeof speedGrid> & { phiMax: number }>();
+function geometryGrid(d: VelocityDistribution): ReturnType<typeof speedGrid> & { phiMax: number } {
   let g = grids.get(d);
   if (!g) {
-    g = speedGrid(d, 24, 8);
+    const sg = speedGrid(d, 24, 8);
+    let phiMax = Infinity;
+    if (d.kind === 'effusive' || d.kind === 'supersonic') {
+      let ds = 0;
+      for (let k = 1; k < sg.speeds.length; k++) ds = Math.max(ds, Math.abs(1 / sg.speeds[k - 1] - 1 / sg.speeds[k]));
+      phiMax = 0.5 / ds;
+    }
+    g = { ...sg, phiMax };
     grids.set(d, g);
   }
   return g;
 }
 
-function fineGeometry(f: FinePath): FineGeo {
-  const g = f.grid ? coarsen(f.grid) : geometryGrid(f.dist);
-  let phiMax = Infinity;
-  if (!f.grid && (f.dist.kind === 'effusive' || f.dist.kind === 'supersonic')) {
-    let ds = 0;
-    for (let k = 1; k < g.speeds.length; k++) ds = Math.max(ds, Math.abs(1 / g.speeds[k - 1] - 1 / g.speeds[k]));
-    phiMax = 0.5 / ds;
+/** The kicks acting at plane y: their numerators a L (L/2 + D) (deflection = numerator/v² along n̂). */
+function kicksAt(kicks: readonly Kick[], y: number): { num: Float64Array; nx: Float64Array; nz: Float64Array } {
+  let m = 0;
+  for (const k of kicks) if (!(y < k.exitY - 1e-12)) m++;
+  const num = new Float64Array(m), nx = new Float64Array(m), nz = new Float64Array(m);
+  let i = 0;
+  for (const k of kicks) {
+    if (y < k.exitY - 1e-12) continue;
+    num[i] = k.accel * k.length * (k.length / 2 + (y - k.exitY));
+    nx[i] = k.n.x;
+    nz[i] = k.n.z;
+    i++;
   }
-  const tr = f.grid ? (g as ReturnType<typeof coarsen>).traces : f.spec ? specTraceAt(f.spec, g.speeds, phiMax) : new Float64Array(g.speeds.length);
+  return { num, nx, nz };
+}
+
+/** Deflection Σ num_k/v² · n_k (one axis) at speed v: the sum of deflection(), term by term. */
+function deflect(num: Float64Array, n: Float64Array, v: number): number {
+  let x = 0;
+  for (let i = 0; i < num.length; i++) x += (num[i] / (v * v)) * n[i];
+  return x;
+}
+
+/**
+ * How one axis's polygons are built at the nodes: the strips (deflection subtracted per speed) clip the
+ * collimator's rectangle. The leading strips that no kick deflects along this axis clip the same at
+ * every speed and are applied once (pre); when all are such the axis is fixed, one polygon for all.
+ */
+interface AxisPlan {
+  readonly out: AxisNodes;
+  readonly strips: FlatStrips;
+  readonly lo0: Float64Array;
+  readonly hi0: Float64Array;
+  readonly num: readonly Float64Array[];
+  readonly dir: readonly Float64Array[];
+  readonly first: number;
+  readonly pre: Float64Array;
+  readonly nPre: number;
+  used: number;
+}
+
+const NO_STRIPS: FlatStrips = { al: new Float64Array(0), be: new Float64Array(0), lo: new Float64Array(0), hi: new Float64Array(0), count: 0 };
+
+function axisPlan(c: Collimator1D, track: Track, axis: 'x' | 'z', plane: number, size: number): AxisPlan {
+  let k = 0;
+  for (const s of track.strips) if (s.axis === axis) k++;
+  const num: Float64Array[] = [], dir: Float64Array[] = [];
+  let strips = NO_STRIPS, lo0 = NO_STRIPS.lo, hi0 = NO_STRIPS.hi;
+  if (k > 0) {
+    const al = new Float64Array(k), be = new Float64Array(k);
+    lo0 = new Float64Array(k);
+    hi0 = new Float64Array(k);
+    let i = 0;
+    for (const s of track.strips) {
+      if (s.axis !== axis) continue;
+      [al[i], be[i]] = planeCoefficients(c, s.y);
+      lo0[i] = s.lo;
+      hi0[i] = s.hi;
+      const ka = kicksAt(track.kicks, s.y);
+      num.push(ka.num);
+      dir.push(axis === 'x' ? ka.nx : ka.nz);
+      i++;
+    }
+    strips = { al, be, lo: lo0.slice(), hi: hi0.slice(), count: k };
+  }
+  // a strip is the same at every speed when no kick acting there has a component along this axis
+  let first = 0;
+  while (first < k && !dir[first].some((x) => x !== 0)) first++;
+  const fixed = first === k;
+  const base = basePolygonFlat(c);
+  const area0 = areaFlat(base, 0, 4);
+  let pre = base, nPre = 4;
+  if (first > 0) {
+    nPre = clipStrips(base, 0, 4, strips, 0, first);
+    pre = clipResult().slice(0, 2 * nPre);
+  }
+  const [pal, pbe] = planeCoefficients(c, plane);
+  const m = fixed ? 1 : size;
+  const f = new Float64Array(5 * m), ix = new Int32Array(2 * m);
+  const out: AxisNodes = {
+    c, area0, al: pal, be: pbe, fixed, pool: fixed ? pre : new Float64Array(2 * size * (4 + 2 * k)),
+    off: ix.subarray(0, m), len: ix.subarray(m, 2 * m),
+    tr: f.subarray(0, m), mean: f.subarray(m, 2 * m), variance: f.subarray(2 * m, 3 * m), mn: f.subarray(3 * m, 4 * m), mx: f.subarray(4 * m, 5 * m),
+  };
+  const pl: AxisPlan = { out, strips, lo0, hi0, num, dir, first, pre, nPre, used: 0 };
+  if (fixed) stats0(pl);
+  return pl;
+}
+
+const stats = new Float64Array(3), span = new Float64Array(2);
+
+/** The one polygon of a fixed axis (pre, already its pool) as node 0, with its statistics. */
+function stats0(pl: AxisPlan): void {
+  const o = pl.out;
+  o.off[0] = 0;
+  o.len[0] = pl.nPre < 3 ? 0 : pl.nPre;
+  if (pl.nPre < 3) return;
+  axisStats(o.pool, 0, pl.nPre, o.area0, o.al, o.be, stats);
+  o.tr[0] = stats[0]; o.mean[0] = stats[1]; o.variance[0] = stats[2];
+  projectionRange(o.pool, 0, pl.nPre, o.al, o.be, span);
+  o.mn[0] = span[0]; o.mx[0] = span[1];
+}
+
+
+/** Keeps polygon src (n vertices; fewer than 3: nothing passes) as node j of the axis, with its statistics. */
+function store(pl: AxisPlan, j: number, src: Float64Array, n: number): void {
+  const o = pl.out;
+  if (n < 3) {
+    o.off[j] = 0; o.len[j] = 0; o.tr[j] = 0; o.mean[j] = 0; o.variance[j] = 0; o.mn[j] = 0; o.mx[j] = 0;
+    return;
+  }
+  if (2 * (pl.used + n) > o.pool.length) {
+    const grown = new Float64Array(Math.max(2 * o.pool.length, 2 * (pl.used + n)));
+    grown.set(o.pool);
+    o.pool = grown;
+  }
+  o.pool.set(src.subarray(0, 2 * n), 2 * pl.used);
+  o.off[j] = pl.used;
+  o.len[j] = n;
+  pl.used += n;
+  axisStats(o.pool, o.off[j], n, o.area0, o.al, o.be, stats);
+  o.tr[j] = stats[0]; o.mean[j] = stats[1]; o.variance[j] = stats[2];
+  projectionRange(o.pool, o.off[j], n, o.al, o.be, span);
+  o.mn[j] = span[0]; o.mx[j] = span[1];
+}
+
+/** The polygon of node j (speed v) of an axis that is not fixed. */
+function axisNode(pl: AxisPlan, j: number, v: number): void {
+  if (pl.nPre < 3) {
+    store(pl, j, pl.pre, 0);
+    return;
+  }
+  const s = pl.strips;
+  for (let i = pl.first; i < s.count; i++) {
+    const d = deflect(pl.num[i], pl.dir[i], v);
+    s.lo[i] = pl.lo0[i] - d;
+    s.hi[i] = pl.hi0[i] - d;
+  }
+  const n = clipStrips(pl.pre, 0, pl.nPre, s, pl.first, s.count);
+  store(pl, j, clipResult(), n);
+}
+
+/**
+ * Fraction (of the original beam) of node j's polygon of an axis inside lo ≤ x ≤ hi at plane y (x
+ * without deflection), as fractionInside.
+ */
+function nodeFraction(a: AxisNodes, j: number, y: number, plane: number, lo: number, hi: number): number {
+  const i = a.fixed ? 0 : j;
+  if (y === plane) return fractionInsideFlat(a.pool, a.off[i], a.len[i], a.area0, a.al, a.be, lo, hi, a.mn[i], a.mx[i]);
+  const [al, be] = planeCoefficients(a.c, y);
+  return fractionInsideFlat(a.pool, a.off[i], a.len[i], a.area0, al, be, lo, hi, NaN, NaN);
+}
+
+let wScratch = new Float64Array(256), keptScratch = new Int32Array(256);
+
+function fineGeometry(f: FinePath): FineGeo {
+  let g: { speeds: Float64Array; weights: Float64Array }, tr: Float64Array;
+  if (f.grid) {
+    const cg = coarsen(f.grid);
+    g = cg;
+    tr = cg.traces;
+  } else {
+    const gg = geometryGrid(f.dist);
+    g = gg;
+    tr = f.spec ? specTraceAt(f.spec, gg.speeds, gg.phiMax) : new Float64Array(gg.speeds.length);
+  }
+  const n = g.speeds.length;
   let total = 0;
-  const w = new Float64Array(g.speeds.length);
-  for (let k = 0; k < w.length; k++) {
+  if (wScratch.length < n) { wScratch = new Float64Array(n); keptScratch = new Int32Array(n); }
+  const w = wScratch, keptAt = keptScratch;
+  for (let k = 0; k < n; k++) {
     w[k] = Math.max(0, tr[k]) * g.weights[k];
     total += w[k];
   }
+  if (total <= 0) {
+    return { fine: f, yieldGeo: f.yieldSpin, captured: 0, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: NO_NODES };
+  }
+  // the normalised weights; the nodes kept (weight ≠ 0) are then packed to the front, in their order
+  const buf = new Float64Array(3 * n);
+  const nw = buf.subarray(0, n), ndx = buf.subarray(n, 2 * n), ndz = buf.subarray(2 * n, 3 * n);
+  let kept = 0;
+  for (let k = 0; k < n; k++) {
+    const wk = w[k] / total;
+    if (wk !== 0) keptAt[kept++] = k;
+    nw[k] = wk;
+  }
   const cx = collimatorFor(f.track, 'x'), cz = collimatorFor(f.track, 'z');
   const win = f.detector?.window;
-  const nodes: FineGeo['nodes'] = [];
+  const px = axisPlan(cx, f.track, 'x', f.plane, kept), pz = axisPlan(cz, f.track, 'z', f.plane, kept);
+  const ax = px.out, az = pz.out;
+  const atPlane = kicksAt(f.track.kicks, f.plane);
+  const wxlo = win ? win.x - win.width / 2 : 0, wxhi = win ? win.x + win.width / 2 : 0;
+  const wzlo = win ? win.z - win.height / 2 : 0, wzhi = win ? win.z + win.height / 2 : 0;
   let tSum = 0, capSum = 0, mx = 0, mz = 0, sx = 0, sz = 0;
-  let freeX: AxisResult | undefined, freeZ: AxisResult | undefined;
-  if (total <= 0) {
-    return { fine: f, yieldGeo: f.yieldSpin, captured: 0, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes };
-  }
-  for (let k = 0; k < w.length; k++) {
-    const wk = w[k] / total;
-    if (wk === 0) continue;
+  for (let j = 0; j < kept; j++) {
+    const k = keptAt[j], wk = nw[k];
     const v = g.speeds[k];
-    const stripsX = [], stripsZ = [];
-    for (const s of f.track.strips) {
-      const d = deflection(f.track.kicks, s.y, v);
-      if (s.axis === 'x') stripsX.push({ y: s.y, lo: s.lo - d.x, hi: s.hi - d.x });
-      else stripsZ.push({ y: s.y, lo: s.lo - d.z, hi: s.hi - d.z });
+    if (!ax.fixed) axisNode(px, j, v);
+    if (!az.fixed) axisNode(pz, j, v);
+    const ix = ax.fixed ? 0 : j, iz = az.fixed ? 0 : j;
+    // deflection at the plane, kick by kick as deflection()
+    const vv = v * v;
+    let dx = 0, dz = 0;
+    for (let i = 0; i < atPlane.num.length; i++) {
+      const d = atPlane.num[i] / vv;
+      dx += d * atPlane.nx[i];
+      dz += d * atPlane.nz[i];
     }
-    // without clipping strips the transmitted polygon is the same at every speed
-    const rx = stripsX.length === 0 ? (freeX ??= transmit(cx, [], f.plane)) : transmit(cx, stripsX, f.plane);
-    const rz = stripsZ.length === 0 ? (freeZ ??= transmit(cz, [], f.plane)) : transmit(cz, stripsZ, f.plane);
-    const d = deflection(f.track.kicks, f.plane, v);
-    const t = rx.transmission * rz.transmission;
+    const t = ax.tr[ix] * az.tr[iz];
     tSum += wk * t;
-    mx += wk * t * (rx.mean + d.x);
-    mz += wk * t * (rz.mean + d.z);
-    sx += wk * t * (rx.variance + (rx.mean + d.x) ** 2);
-    sz += wk * t * (rz.variance + (rz.mean + d.z) ** 2);
+    mx += wk * t * (ax.mean[ix] + dx);
+    mz += wk * t * (az.mean[iz] + dz);
+    sx += wk * t * (ax.variance[ix] + (ax.mean[ix] + dx) ** 2);
+    sz += wk * t * (az.variance[iz] + (az.mean[iz] + dz) ** 2);
     if (win) {
-      const fx = fractionInside(cx, rx, f.plane, win.x - win.width / 2 - d.x, win.x + win.width / 2 - d.x);
-      const fz = fractionInside(cz, rz, f.plane, win.z - win.height / 2 - d.z, win.z + win.height / 2 - d.z);
+      const fx = nodeFraction(ax, j, f.plane, f.plane, wxlo - dx, wxhi - dx);
+      const fz = nodeFraction(az, j, f.plane, f.plane, wzlo - dz, wzhi - dz);
       capSum += wk * fx * fz;
     }
-    nodes.push({ w: wk, rx, rz, cx, cz, dx: d.x, dz: d.z });
+    nw[j] = wk; ndx[j] = dx; ndz[j] = dz;
   }
+  const nodes: NodeSet = { count: kept, plane: f.plane, w: nw, dx: ndx, dz: ndz, x: ax, z: az };
   const yieldGeo = f.yieldSpin * tSum;
   const safe = tSum > 0 ? tSum : 1;
   let mean = { x: mx / safe, z: mz / safe };
@@ -183,7 +404,7 @@ function fineGeometry(f: FinePath): FineGeo {
     // nothing clips: the mean deflection is Σ_k a_k L_k (L_k/2 + D_k)·⟨y s²⟩/⟨y⟩, exact over the whole
     // distribution (the grid leaves out the slowest atoms, which carry ~0.25 % of an effusive ⟨1/v²⟩)
     const m2 = specTraceMoment(f.spec, f.dist, 2, f.moment2Cache) / (f.yieldSpin / f.fraction);
-    const geo0 = nodes.length > 0 ? { x: nodes[0].rx.mean, z: nodes[0].rz.mean } : { x: 0, z: 0 };
+    const geo0 = kept > 0 ? { x: ax.mean[0], z: az.mean[0] } : { x: 0, z: 0 };
     let dx = 0, dz = 0;
     for (const k of f.track.kicks) {
       if (f.plane < k.exitY - 1e-12) continue;
@@ -229,11 +450,11 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
     if (geometry) {
       // a stop absorbs its sub-beam wherever it goes, and an empty path has no profile: no geometry
       if (f.target === 'stop' || !(f.yieldSpin > 1e-15)) {
-        a.fines.push({ fine: f, yieldGeo: f.yieldSpin, captured: 1, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: [] });
+        a.fines.push({ fine: f, yieldGeo: f.yieldSpin, captured: 1, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: NO_NODES });
         continue;
       }
       const g = fineGeometry(f);
-      nodes += g.nodes.length;
+      nodes += g.nodes.count;
       clipped += f.yieldSpin - g.yieldGeo;
       a.fines.push(g);
     }
@@ -306,15 +527,31 @@ function planeKey(y: number): string {
 function crosstalkFor(det: Detector, plane: number, leaves: (LeafResult & { _acc: LeafAcc })[], flux: number): CrosstalkEntry[] {
   const win = det.window!;
   const out: CrosstalkEntry[] = [];
+  const wxlo = win.x - win.width / 2, wxhi = win.x + win.width / 2;
+  const wzlo = win.z - win.height / 2, wzhi = win.z + win.height / 2;
   for (const l of leaves) {
     if (l.target === det.id || l._acc.detector === null || Math.abs(l._acc.plane - plane) > 1e-3 || l.yield <= 0) continue;
     let inside = 0;
     for (const g of l._acc.fines) {
+      const ns = g.nodes;
       let s = 0;
-      for (const n of g.nodes) {
-        const fx = fractionInside(n.cx, n.rx, plane, win.x - win.width / 2 - n.dx, win.x + win.width / 2 - n.dx);
-        const fz = fractionInside(n.cz, n.rz, plane, win.z - win.height / 2 - n.dz, win.z + win.height / 2 - n.dz);
-        s += n.w * fx * fz;
+      if (ns.count > 0) {
+        const ax = ns.x!, az = ns.z!;
+        // a speed-independent axis repeats its polygon and, undeflected, its window: one clip for all
+        let lastOff = -1, lastLen = -1, lastLo = NaN, lastHi = NaN, lastF = 0;
+        for (let j = 0; j < ns.count; j++) {
+          const lo = wxlo - ns.dx[j], hi = wxhi - ns.dx[j];
+          let fx: number;
+          const ix = ax.fixed ? 0 : j;
+          if (ax.off[ix] === lastOff && ax.len[ix] === lastLen && lo === lastLo && hi === lastHi) fx = lastF;
+          else {
+            fx = nodeFraction(ax, j, plane, ns.plane, lo, hi);
+            lastOff = ax.off[ix]; lastLen = ax.len[ix]; lastLo = lo; lastHi = hi; lastF = fx;
+          }
+          if (fx === 0) continue;
+          const fz = nodeFraction(az, j, plane, ns.plane, wzlo - ns.dz[j], wzhi - ns.dz[j]);
+          s += ns.w[j] * fx * fz;
+        }
       }
       inside += g.fine.yieldSpin * s;
     }
@@ -324,13 +561,49 @@ function crosstalkFor(det: Detector, plane: number, leaves: (LeafResult & { _acc
   return out;
 }
 
+// breakpoints, values and slopes of one node's profile CDF (polygonCdfFlat)
+let cdfT = new Float64Array(32), cdfF = new Float64Array(32), cdfG = new Float64Array(32);
+
+/**
+ * Adds one node's histogram, scale · (F(edge_{i+1} − d) − F(edge_i − d)) over the bins with edges
+ * lo + i·dx, to dens (F the piecewise-quadratic CDF of cdfAtFlat with m breakpoints). Bins wholly
+ * below or above the node's polygon add exactly nothing and are passed over.
+ */
+function addNodeHistogram(dens: Float64Array, bins: number, lo: number, dx: number, d: number, scale: number, m: number): void {
+  const t = cdfT, f = cdfF, g = cdfG;
+  const t0 = t[0], tn = t[m - 1], fn = f[m - 1];
+  // first bin whose upper edge can lie above t0 (two bins of margin against rounding)
+  let i = Math.max(0, Math.floor((t0 + d - lo) / dx) - 2);
+  // the edges grow with i: when edge i is at or below t0, so are all before it, and F is 0 there
+  if (!(i < bins) && lo + bins * dx - d <= t0) return;
+  if (!(i < bins) || !(lo + i * dx - d <= t0)) i = 0;
+  let prev = i === 0 ? cdfAtFlat(t, f, g, m, lo - d) : 0;
+  let p = 0;
+  for (; i < bins; i++) {
+    const x = lo + (i + 1) * dx - d;
+    let cur: number;
+    if (x <= t0) cur = 0;
+    else if (x >= tn) cur = fn;
+    else {
+      while (t[p + 1] <= x) p++;
+      const dd = x - t[p], w = t[p + 1] - t[p];
+      cur = f[p] + g[p] * dd + ((g[p + 1] - g[p]) * dd * dd) / (2 * w);
+    }
+    if (cur !== prev) dens[i] += scale * (cur - prev);
+    else if (x >= tn) return;
+    prev = cur;
+  }
+}
+
 /** Profiles on a common grid per detector plane, and the resolved/overlapping verdict of neighbours. */
 function addProfiles(leaves: (LeafResult & { _acc: LeafAcc })[], verdicts: Map<string, NeighbourVerdict[]>): void {
   const groups = new Map<string, (LeafResult & { _acc: LeafAcc })[]>();
   for (const l of leaves) {
     if (l.target === 'stop' || l.yield <= 0) continue;
     const k = planeKey(l._acc.plane);
-    groups.set(k, [...(groups.get(k) ?? []), l]);
+    const gr = groups.get(k);
+    if (gr) gr.push(l);
+    else groups.set(k, [l]);
   }
   for (const [k, ls] of groups) {
     const spreadOf = (ax: 'x' | 'z') => {
@@ -351,24 +624,25 @@ function addProfiles(leaves: (LeafResult & { _acc: LeafAcc })[], verdicts: Map<s
       const dens = new Float64Array(bins);
       for (const g of l._acc.fines) {
         // the profile is a histogram: each speed's transmitted polygon has a closed-form CDF
-        let lastR: AxisResult | null = null;
-        let cdf: ReturnType<typeof polygonCdf> | null = null;
-        for (const n of g.nodes) {
-          const r = axis === 'x' ? n.rx : n.rz;
-          const c = axis === 'x' ? n.cx : n.cz;
-          const other = axis === 'x' ? n.rz.transmission : n.rx.transmission;
-          const d = axis === 'x' ? n.dx : n.dz;
-          if (r !== lastR) {
-            cdf = polygonCdf(c, r, l._acc.plane);
-            lastR = r;
+        const ns = g.nodes;
+        if (ns.count === 0) continue;
+        const ra = axis === 'x' ? ns.x! : ns.z!, oa = axis === 'x' ? ns.z! : ns.x!;
+        const dd = axis === 'x' ? ns.dx : ns.dz;
+        const [al, be] = planeCoefficients(ra.c, l._acc.plane);
+        let lastOff = -1, lastLen = -1, m = 0;
+        for (let j = 0; j < ns.count; j++) {
+          const ir = ra.fixed ? 0 : j;
+          const n = ra.len[ir];
+          if (n < 3) continue;
+          const scale = (g.fine.yieldSpin * ns.w[j] * oa.tr[oa.fixed ? 0 : j]) / dx;
+          if (scale === 0) continue;
+          if (ra.off[ir] !== lastOff || n !== lastLen) {
+            if (cdfT.length < n) { cdfT = new Float64Array(2 * n); cdfF = new Float64Array(2 * n); cdfG = new Float64Array(2 * n); }
+            m = polygonCdfFlat(ra.pool, ra.off[ir], n, ra.area0, al, be, cdfT, cdfF, cdfG);
+            lastOff = ra.off[ir];
+            lastLen = n;
           }
-          const scale = (g.fine.yieldSpin * n.w * other) / dx;
-          let prev = cdfAt(cdf!, lo - d);
-          for (let i = 0; i < bins; i++) {
-            const cur = cdfAt(cdf!, lo + (i + 1) * dx - d);
-            dens[i] += scale * (cur - prev);
-            prev = cur;
-          }
+          addNodeHistogram(dens, bins, lo, dx, dd[j], scale, m);
         }
       }
       l.profile = { axis, positions, density: [...dens] };

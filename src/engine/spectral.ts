@@ -38,7 +38,7 @@ export interface SpecState {
 interface SharedAverages {
   avg?: Averaged;
   m2?: CMat;
-  nodes?: { speeds: ArrayLike<number>; phiMax: number; ms: CMat[] };
+  nodes?: { speeds: ArrayLike<number>; phiMax: number; pairs: Int32Array; mre: Float64Array; mim: Float64Array };
 }
 
 function state(W: CMat, mu: Float64Array | null, terms: readonly SpecTerm[]): SpecState {
@@ -172,9 +172,9 @@ export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>,
   let lab: SpecTerm[], xs: CMat[];
   if (st.mu === null) {
     // every term is already lab-frame Σ_t W X_t W† e^{−iφ_t s}: in the new basis Y X_t Y†, Y = V†W
-    const y = cmatMul(vd, st.W), yd = cmatDagger(y);
+    const y = cmatMul(vd, st.W);
     lab = st.terms.slice();
-    xs = lab.map((t) => cmatMul(cmatMul(y, t.X), yd));
+    xs = lab.map((t) => sandwich(y, t.X));
   } else {
     lab = specExpand(st);
     xs = lab.map((t) => cmatMul(cmatMul(vd, t.X), v));
@@ -196,6 +196,35 @@ export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>,
   if (commutes) return st.mu === null ? st : state(cmatIdentity(d), null, lab);
   const mu = snapped.map((l) => l * length);
   return state(v, mu, lab.map((t, i) => ({ phi: t.phi, X: xs[i] })));
+}
+
+/** Y X Y†; for a diagonal X (the state after a magnet's sort) as Σ_k x_k y_k y_k†. */
+function sandwich(y: CMat, x: CMat): CMat {
+  const d = y.rows, r = y.cols;
+  let diagonal = true;
+  for (let a = 0; a < r && diagonal; a++) for (let b = 0; b < r; b++) {
+    if (a !== b && (x.re[a * r + b] !== 0 || x.im[a * r + b] !== 0)) {
+      diagonal = false;
+      break;
+    }
+  }
+  if (!diagonal) return cmatMul(cmatMul(y, x), cmatDagger(y));
+  const out = cmatZeros(d, d);
+  const yr = y.re, yi = y.im, or = out.re, oi = out.im;
+  for (let k = 0; k < r; k++) {
+    const xr = x.re[k * r + k], xi = x.im[k * r + k];
+    if (xr === 0 && xi === 0) continue;
+    for (let i = 0; i < d; i++) {
+      // (x_k y_ik) conj(y_jk)
+      const pr = xr * yr[i * r + k] - xi * yi[i * r + k], pi = xr * yi[i * r + k] + xi * yr[i * r + k];
+      for (let j = 0; j < d; j++) {
+        const qr = yr[j * r + k], qi = yi[j * r + k];
+        or[i * d + j] += pr * qr + pi * qi;
+        oi[i * d + j] += pi * qr - pr * qi;
+      }
+    }
+  }
+  return out;
 }
 
 /**
@@ -322,8 +351,13 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
   let herm = 0, tr = 0;
   for (let a = 0; a < r; a++) {
     tr += A.re[a * r + a];
-    for (let b = 0; b < r; b++) herm = Math.max(herm, Math.hypot(A.re[a * r + b] - A.re[b * r + a], A.im[a * r + b] + A.im[b * r + a]));
+    for (let b = a + 1; b < r; b++) {
+      const dr = A.re[a * r + b] - A.re[b * r + a], di = A.im[a * r + b] + A.im[b * r + a];
+      herm = Math.max(herm, dr * dr + di * di);
+    }
+    herm = Math.max(herm, A.im[a * r + a] * A.im[a * r + a] * 4);
   }
+  herm = Math.sqrt(herm);
   const res = { A, error, hermiticity: herm, positive: isPositive(A, 1e-12 * Math.abs(tr) + 1e-15) };
   st.shared.avg = res;
   return res;
@@ -492,22 +526,64 @@ export function specAverageTrace(st: SpecState, chi: CharCache): { value: number
  * matrices Σ_t X_t ∘ e^{−i(φ_t+Ω)/v_k} are computed once per state and speed set.
  */
 export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: number): Float64Array {
-  const r = st.W.cols;
+  const r = st.W.cols, d = st.W.rows;
   let hit = st.shared.nodes;
   if (!hit || hit.speeds !== speeds || hit.phiMax !== phiMax) {
-    const ms = Array.from(speeds, (v) => phasedBasis(st, v, phiMax));
-    hit = { speeds, phiMax, ms };
+    // the entries (a, b) some term reaches with |φ + Ω_ab| ≤ phiMax: the others are 0 at every speed
+    const active = new Uint8Array(r * r);
+    for (const t of st.terms) {
+      for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+        const i = a * r + b;
+        if (t.X.re[i] === 0 && t.X.im[i] === 0) continue;
+        const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+        if (Math.abs(f) > phiMax) continue;
+        active[i] = 1;
+      }
+    }
+    const pairs: number[] = [];
+    for (let i = 0; i < r * r; i++) if (active[i]) pairs.push(i);
+    const np = pairs.length, ns = speeds.length;
+    const mre = new Float64Array(ns * np), mim = new Float64Array(ns * np);
+    for (let k = 0; k < ns; k++) {
+      const v = speeds[k], o = k * np;
+      for (const t of st.terms) {
+        for (let p = 0; p < np; p++) {
+          const i = pairs[p], a = (i / r) | 0, b = i - a * r;
+          const xr = t.X.re[i], xi = t.X.im[i];
+          if (xr === 0 && xi === 0) continue;
+          const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+          if (Math.abs(f) > phiMax) continue;
+          const ph = reduceAngle(f / v);
+          const c = Math.cos(ph), s = -Math.sin(ph);
+          mre[o + p] += xr * c - xi * s;
+          mim[o + p] += xr * s + xi * c;
+        }
+      }
+    }
+    hit = { speeds, phiMax, pairs: Int32Array.from(pairs), mre, mim };
     st.shared.nodes = hit;
   }
-  // Tr(W M W†) = Σ_ab M_ab (W†W)_ba: the Gram matrix once, then r² per speed
-  const g = cmatMul(cmatDagger(st.W), st.W);
-  const out = new Float64Array(hit.ms.length);
-  for (let k = 0; k < hit.ms.length; k++) {
-    const m = hit.ms[k];
-    let tr = 0;
-    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
-      tr += m.re[a * r + b] * g.re[b * r + a] - m.im[a * r + b] * g.im[b * r + a];
+  // Tr(W M W†) = Σ_ab M_ab (W†W)_ba over the active entries: (W†W)_ba = Σ_c conj(W_cb) W_ca
+  const { pairs, mre, mim } = hit;
+  const np = pairs.length;
+  const W = st.W, gre = new Float64Array(np), gim = new Float64Array(np);
+  for (let p = 0; p < np; p++) {
+    const i = pairs[p], a = (i / r) | 0, b = i - a * r;
+    let sr = 0, si = 0;
+    for (let c = 0; c < d; c++) {
+      const xr = W.re[c * r + b], xi = -W.im[c * r + b];
+      if (xr === 0 && xi === 0) continue;
+      const yr = W.re[c * r + a], yi = W.im[c * r + a];
+      sr += xr * yr - xi * yi;
+      si += xr * yi + xi * yr;
     }
+    gre[p] = sr; gim[p] = si;
+  }
+  const out = new Float64Array(speeds.length);
+  for (let k = 0; k < out.length; k++) {
+    const o = k * np;
+    let tr = 0;
+    for (let p = 0; p < np; p++) tr += mre[o + p] * gre[p] - mim[o + p] * gim[p];
     out[k] = tr;
   }
   return out;
@@ -570,20 +646,28 @@ export function specTraceMoment(st: SpecState, dist: VelocityDistribution, n: nu
   return traceWAW(st.W, A);
 }
 
-/** Re Tr(W A W†) = Re Σ_ab (W†W)_ba A_ab. */
+/**
+ * Re Tr(W A W†) = Re Σ_ab (W†W)_ba A_ab. Only the Hermitian part H = (A + A†)/2 contributes to the real
+ * part (the anti-Hermitian part gives an imaginary trace), and with G = W†W Hermitian too the sum is
+ * Σ_a H_aa G_aa + 2 Σ_{a<b} Re(H_ab G_ba): half of G is computed.
+ */
 function traceWAW(W: CMat, A: CMat): number {
   const d = W.rows, r = W.cols;
+  const wr = W.re, wi = W.im;
   let tr = 0;
-  for (let i = 0; i < d; i++) {
-    for (let a = 0; a < r; a++) {
-      const war = W.re[i * r + a], wai = W.im[i * r + a];
-      if (war === 0 && wai === 0) continue;
-      for (let b = 0; b < r; b++) {
-        // W_ia A_ab conj(W_ib)
-        const ar = A.re[a * r + b], ai = A.im[a * r + b];
-        const pr = war * ar - wai * ai, pi = war * ai + wai * ar;
-        tr += pr * W.re[i * r + b] + pi * W.im[i * r + b];
+  for (let a = 0; a < r; a++) {
+    for (let b = a; b < r; b++) {
+      // G_ba = Σ_i conj(W_ib) W_ia
+      let gr = 0, gi = 0;
+      for (let i = 0; i < d; i++) {
+        const o = i * r;
+        const xr = wr[o + b], xi = wi[o + b], yr = wr[o + a], yi = wi[o + a];
+        gr += xr * yr + xi * yi;
+        gi += xr * yi - xi * yr;
       }
+      const hr = 0.5 * (A.re[a * r + b] + A.re[b * r + a]), hi = 0.5 * (A.im[a * r + b] - A.im[b * r + a]);
+      const t = hr * gr - hi * gi;
+      tr += a === b ? t : 2 * t;
     }
   }
   return tr;

@@ -1,5 +1,9 @@
 import { describe, it, expect } from 'vitest';
-import { transmit, fractionBelow, polygonCdf, cdfAt, clipHalfPlane, polygonMoments, type Collimator1D } from '../../src/engine/geometry.ts';
+import fc from 'fast-check';
+import {
+  transmit, fractionBelow, fractionInside, polygonCdf, cdfAt, clipHalfPlane, polygonMoments, clipFlat, areaFlat,
+  fractionInsideFlat, projectionRange, type Collimator1D, type Pt,
+} from '../../src/engine/geometry.ts';
 
 describe('transmit', () => {
   it('gives the trapezoid of umbra and penumbra: mean and variance of the sum of two uniforms (standard collimator geometry)', () => {
@@ -35,5 +39,47 @@ describe('polygonCdf', () => {
     expect(m.p / m.a).toBeCloseTo(0.5, 15);
     expect(m.pp).toBeCloseTo(1 / 3, 15);
     expect(clipHalfPlane([[0, 0], [1, 0], [1, 1], [0, 1]], 1, 0, 0.25).length).toBe(4);
+  });
+});
+
+describe('flat polygons', () => {
+  const toPts = (b: Float64Array): Pt[] => Array.from({ length: b.length / 2 }, (_, i) => [b[2 * i], b[2 * i + 1]] as const);
+  const beam = fc.record({
+    p0: fc.double({ min: -1e-3, max: 0, noNaN: true }), wp: fc.double({ min: 1e-5, max: 2e-3, noNaN: true }),
+    q0: fc.double({ min: -1e-3, max: 0, noNaN: true }), wq: fc.double({ min: 1e-5, max: 2e-3, noNaN: true }),
+    ys: fc.double({ min: 0.05, max: 0.5, noNaN: true }), y: fc.double({ min: 0.05, max: 1, noNaN: true }),
+    lo: fc.double({ min: -2e-3, max: 2e-3, noNaN: true }), w: fc.double({ min: 0, max: 3e-3, noNaN: true }),
+  });
+  it('clip and area give the same vertices and area as the Pt[] construction', () => {
+    fc.assert(fc.property(beam, (b) => {
+      const c: Collimator1D = { p0: b.p0, p1: b.p0 + b.wp, q0: b.q0, q1: b.q0 + b.wq, ys: b.ys };
+      const r = transmit(c, [{ y: b.y, lo: b.lo, hi: b.lo + b.w }], 0.7);
+      if (r.poly.length === 0) return;
+      const al = 1 - b.y / b.ys, be = b.y / b.ys;
+      const out = new Float64Array(4 * r.poly.length);
+      const n = clipFlat(r.poly, 0, r.poly.length / 2, al, be, b.lo + b.w / 2, out, 0);
+      expect(toPts(out.slice(0, 2 * n))).toEqual(clipHalfPlane(toPts(r.poly), al, be, b.lo + b.w / 2));
+      expect(areaFlat(r.poly, 0, r.poly.length / 2)).toBe(polygonMoments(toPts(r.poly)).a);
+    }));
+  });
+  it('a window that holds or misses the whole polygon gives exactly what clipping by it gives', () => {
+    fc.assert(fc.property(beam, fc.double({ min: -3e-3, max: 3e-3, noNaN: true }), fc.double({ min: 0, max: 5e-3, noNaN: true }), (b, lo, w) => {
+      const c: Collimator1D = { p0: b.p0, p1: b.p0 + b.wp, q0: b.q0, q1: b.q0 + b.wq, ys: b.ys };
+      const r = transmit(c, [{ y: b.y, lo: b.lo, hi: b.lo + b.w }], 0.7);
+      const n = r.poly.length / 2;
+      if (n < 3) return;
+      const al = 1 - 0.7 / b.ys, be = 0.7 / b.ys;
+      const rg = new Float64Array(2);
+      projectionRange(r.poly, 0, n, al, be, rg);
+      // the direct construction: two half-plane clips of the Pt[] polygon
+      let p = clipHalfPlane(toPts(r.poly), al, be, lo + w);
+      p = p.length < 3 ? [] : clipHalfPlane(p, -al, -be, -lo);
+      const direct = p.length < 3 ? 0 : polygonMoments(p).a / r.area0;
+      expect(fractionInsideFlat(r.poly, 0, n, r.area0, al, be, lo, lo + w, rg[0], rg[1])).toBe(direct);
+      expect(fractionInside(c, r, 0.7, lo, lo + w)).toBe(direct);
+      // windows holding and missing the polygon
+      expect(fractionInsideFlat(r.poly, 0, n, r.area0, al, be, rg[0], rg[1], rg[0], rg[1])).toBe(r.transmission);
+      expect(fractionInsideFlat(r.poly, 0, n, r.area0, al, be, rg[1] + 1e-9, rg[1] + 1e-3, rg[0], rg[1])).toBe(0);
+    }));
   });
 });
