@@ -8,9 +8,9 @@
  * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
  * grid that is doubled until the leaf yields agree (sampled.ts).
  */
-import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64 } from '../physics/cmat.ts';
+import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64, zeroedF64 } from '../physics/cmat.ts';
 import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
-import { reduceAngle } from '../physics/trig.ts';
+import { reduceAngle, expNegI } from '../physics/trig.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
 import { densityUnpolarized } from '../physics/density.ts';
 import { gF, zeroFieldStates, zeemanEigen } from '../physics/hyperfine.ts';
@@ -532,7 +532,7 @@ function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
       const k = vecUnit(cross);
       const kGen = cmatCombine([[k.x, sys.F.jx], [k.y, sys.F.jy], [k.z, sys.F.jz]]);
       const rot = rotationOperator(sys.F, k, angle);
-      const twist = { h1, kGen, angle, rot, length: e.length };
+      const twist = { h1, kGen, angle, rot, length: e.length, rotation: twistRotation(sys.F, h1, n1, k, rot) };
       if (isNodes(s)) {
         s = applyTwist(s, twist);
         break;
@@ -637,10 +637,76 @@ interface TwistOp {
   readonly angle: number;
   readonly rot: CMat;
   readonly length: number;
+  /** Where H₁ = c n̂₁·F (a bare spin): the fixed factors of the closed form (twistRotation). */
+  readonly rotation: TwistRotation | null;
+}
+
+/**
+ * For H₁ = c n̂₁·F the rotating-frame exponent t H₁ − θ k̂·F = α û·F is a rotation generator, with
+ * α û = t c n̂₁ − θ k̂ (k̂ ⊥ n̂₁). With n̂₁·F = V₁ diag(m₁) V₁†, q̂·F = V_q diag(m_q) V_q†, q̂ = k̂ × n̂₁
+ * (which turns n̂₁ into û by β = atan2(θ, t c)):
+ *   exp(−iα û·F) = Q(β) exp(−iα n̂₁·F) Q(β)†,  Q(β) = V_q e^{−iβ m_q} V_q†,
+ * so U = R · V_q [e^{−iβ m_q} A e^{−iα m₁} A† e^{iβ m_q}] V_q† with A = V_q†V₁: no eigensolver per speed.
+ */
+interface TwistRotation {
+  readonly c: number;
+  readonly m1: Float64Array;
+  readonly mq: Float64Array;
+  /** A = V_q†V₁ */
+  readonly a: CMat;
+  /** R·V_q */
+  readonly b: CMat;
+  /** V_q† */
+  readonly vqd: CMat;
+}
+
+function twistRotation(ops: SpinSystem['F'], h1: CMat, n1: Vec3, k: Vec3, rot: CMat): TwistRotation | null {
+  const g1 = cmatCombine([[n1.x, ops.jx], [n1.y, ops.jy], [n1.z, ops.jz]]);
+  let num = 0, den = 0, big = 0;
+  for (let i = 0; i < g1.re.length; i++) {
+    num += h1.re[i] * g1.re[i] + h1.im[i] * g1.im[i];
+    den += g1.re[i] * g1.re[i] + g1.im[i] * g1.im[i];
+    big = Math.max(big, Math.abs(h1.re[i]) + Math.abs(h1.im[i]));
+  }
+  const c = num / den;
+  for (let i = 0; i < g1.re.length; i++) {
+    if (Math.abs(h1.re[i] - c * g1.re[i]) + Math.abs(h1.im[i] - c * g1.im[i]) > 1e-12 * big) return null;
+  }
+  const q = vecCross(k, n1);
+  const e1 = eigh(g1), eq = eigh(cmatCombine([[q.x, ops.jx], [q.y, ops.jy], [q.z, ops.jz]]));
+  const vqd = cmatDagger(eq.vectors);
+  return { c, m1: copyF64(e1.values), mq: copyF64(eq.values), a: cmatMul(vqd, e1.vectors), b: cmatMul(rot, eq.vectors), vqd };
 }
 
 /** U = exp(−iθF_k) exp(−i(H₁ t − θ F_k)), t = ℓ/v (design.md: the exact rotating-frame solution), per speed. */
 function applyTwist(st: NodeState, op: TwistOp): NodeState {
+  const tr = op.rotation;
+  if (tr) {
+    const d = tr.a.rows;
+    const er = zeroedF64(d), ei = zeroedF64(d);
+    return mapNodes(st, (rho, k) => {
+      const tc = (op.length / st.speeds[k]) * tr.c;
+      const alpha = Math.hypot(tc, op.angle), beta = Math.atan2(op.angle, tc);
+      for (let l = 0; l < d; l++) expNegI(alpha * tr.m1[l], er, ei, l);
+      // C_ij = e^{−iβ(m_q,i − m_q,j)} Σ_l A_il E_l conj(A_jl)
+      const cm = cmatZeros(d, d);
+      const ar = tr.a.re, ai = tr.a.im;
+      for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
+        let sr = 0, si = 0;
+        for (let l = 0; l < d; l++) {
+          const xr = ar[i * d + l] * er[l] - ai[i * d + l] * ei[l], xi = ar[i * d + l] * ei[l] + ai[i * d + l] * er[l];
+          const yr = ar[j * d + l], yi = -ai[j * d + l];
+          sr += xr * yr - xi * yi;
+          si += xr * yi + xi * yr;
+        }
+        const ph = -beta * (tr.mq[i] - tr.mq[j]);
+        const c = Math.cos(ph), s = Math.sin(ph);
+        cm.re[i * d + j] = sr * c - si * s;
+        cm.im[i * d + j] = sr * s + si * c;
+      }
+      return conj(cmatMul(cmatMul(tr.b, cm), tr.vqd), rho);
+    });
+  }
   return mapNodes(st, (rho, k) => {
     const t = op.length / st.speeds[k];
     const u = cmatMul(op.rot, expmiHermitian(cmatCombine([[t, op.h1], [-op.angle, op.kGen]]), 1));

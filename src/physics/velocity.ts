@@ -142,18 +142,23 @@ function effusiveTabled(n: number, w: number): CharValue {
 
 let supersonicNorm = new Map<string, number>();
 
-function supersonicDensity(d: { u: number; alpha: number }): { f: (v: number) => number; lo: number; hi: number } {
+/** ∫ v³ e^{−((v−u)/α)²} dv over [u − 12α, u + 12α] ∩ [0, ∞), cached per (u, α). */
+function supersonicNormOf(d: { u: number; alpha: number }): number {
   const key = `${d.u}/${d.alpha}`;
-  const lo = Math.max(0, d.u - 12 * d.alpha), hi = d.u + 12 * d.alpha;
-  const raw = (v: number) => v ** 3 * Math.exp(-(((v - d.u) / d.alpha) ** 2));
   let norm = supersonicNorm.get(key);
   if (norm === undefined) {
-    norm = integrateAdaptive((v) => [raw(v), 0], lo, hi, 0, 1e-15).re;
+    const lo = Math.max(0, d.u - 12 * d.alpha), hi = d.u + 12 * d.alpha;
+    norm = integrateAdaptive((v) => [v ** 3 * Math.exp(-(((v - d.u) / d.alpha) ** 2)), 0], lo, hi, 0, 1e-15).re;
     if (supersonicNorm.size > 64) supersonicNorm = new Map();
     supersonicNorm.set(key, norm);
   }
-  const nn = norm;
-  return { f: (v) => raw(v) / nn, lo, hi };
+  return norm;
+}
+
+function supersonicDensity(d: { u: number; alpha: number }): { f: (v: number) => number; lo: number; hi: number } {
+  const lo = Math.max(0, d.u - 12 * d.alpha), hi = d.u + 12 * d.alpha;
+  const nn = supersonicNormOf(d);
+  return { f: (v) => (v ** 3 * Math.exp(-(((v - d.u) / d.alpha) ** 2))) / nn, lo, hi };
 }
 
 /** χ_n(Φ) = ⟨v^{−n} e^{−iΦ/v}⟩ over the distribution (see module doc). */
@@ -209,7 +214,7 @@ export function densityAt(d: VelocityDistribution, v: number): number {
       return u <= 0 ? 0 : (2 * u ** 3 * Math.exp(-u * u)) / d.a;
     }
     case 'supersonic':
-      return v <= 0 ? 0 : supersonicDensity(d).f(v);
+      return v <= 0 ? 0 : (v ** 3 * Math.exp(-(((v - d.u) / d.alpha) ** 2))) / supersonicNormOf(d);
     default:
       return 0;
   }
@@ -232,8 +237,23 @@ export function speedRange(d: VelocityDistribution): [number, number] {
  * `order` Gauss–Legendre nodes on each side, and for the effusive beam a quarter as many on its slow
  * tail 5e-4·a … 0.05a (3e-6 of the flux); what is left out, v < 5e-4·a, is 3e-14 of the flux.
  */
+const oscillationGrids = new WeakMap<VelocityDistribution, Map<string, { speeds: Float64Array; weights: Float64Array; excluded: number }>>();
+
 export function oscillationGrid(d: VelocityDistribution, panels: number, order: number = 8): { speeds: Float64Array; weights: Float64Array; excluded: number } {
   if (d.kind === 'fixed' || d.kind === 'table') return speedGrid(d);
+  // kept per distribution (the caller does not change the arrays)
+  let byKey = oscillationGrids.get(d);
+  if (!byKey) oscillationGrids.set(d, (byKey = new Map()));
+  const key = `${panels}/${order}`;
+  let g = byKey.get(key);
+  if (!g) {
+    g = buildOscillationGrid(d, panels, order);
+    byKey.set(key, g);
+  }
+  return g;
+}
+
+function buildOscillationGrid(d: Exclude<VelocityDistribution, { kind: 'fixed' | 'table' }>, panels: number, order: number): { speeds: Float64Array; weights: Float64Array; excluded: number } {
   const [lo0, hi0] = speedRange(d);
   // out to where the flux beyond is below 1e-19 (effusive: (1 + u²)e^{−u²} at u = 7)
   const hi = d.kind === 'effusive' ? 7 * d.a : d.u + 12 * d.alpha;
