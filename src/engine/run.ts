@@ -247,8 +247,27 @@ function selectStates(st: State, comps: readonly Component[], leafNext = false):
 const selections = new WeakMap<SpecState, [Map<unknown, SpecState>, Map<unknown, SpecState>]>();
 
 function selectNodes(st: NodeState, comps: readonly Component[], leafNext: boolean): NodeState {
-  if (leafNext || comps.length === 1) {
-    const p = comps.length === 1 ? rank1(comps[0]) : portProjector(comps);
+  if (comps.length === 1) {
+    // |k⟩⟨k| ρ |k⟩⟨k| = ⟨k|ρ|k⟩ |k⟩⟨k|
+    const v = comps[0].vector, p = rank1Cached(comps[0]);
+    const d = v.rows, vr = v.re, vi = v.im;
+    return mapNodes(st, (rho) => {
+      let sr = 0;
+      for (let i = 0; i < d; i++) {
+        // conj(v_i) Σ_j ρ_ij v_j, real part (ρ Hermitian)
+        let tr = 0, ti = 0;
+        for (let j = 0; j < d; j++) {
+          const rr = rho.re[i * d + j], ri = rho.im[i * d + j];
+          tr += rr * vr[j] - ri * vi[j];
+          ti += rr * vi[j] + ri * vr[j];
+        }
+        sr += vr[i] * tr + vi[i] * ti;
+      }
+      return cmatScale(p, sr);
+    });
+  }
+  if (leafNext) {
+    const p = portProjector(comps);
     return mapNodes(st, (rho) => cmatMul(cmatMul(p, rho), p));
   }
   const ps = comps.map(rank1);
