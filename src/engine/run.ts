@@ -21,7 +21,7 @@ import {
 import { collimatedFlux, lookupSpecies } from '../species/index.ts';
 import type { Beamline, Element, Magnet, Recombiner, Detector, Rect } from '../beamline/types.ts';
 import { speciesSystems, sortStates, projectorOf, SpeciesError, type SpinSystem, type Sorting, type Component } from './system.ts';
-import { specInitial, specKraus, specPropagate, specAverageTrace, specAt, specProjectDiag, specPhaseWeights, CharCache, type SpecState } from './spectral.ts';
+import { specInitial, specKraus, specPropagate, type PropagatorFactors, specAverageTrace, specAt, specProjectDiag, specPhaseWeights, CharCache, type SpecState } from './spectral.ts';
 import type { RunResult, LeafResult, DetectorResult } from './result.ts';
 import { evaluateGeometry, type Track, type FinePath } from './leafgeom.ts';
 
@@ -343,18 +343,19 @@ function averagedTrace(ctx: WalkCtx, st: State): number {
   return isNodes(st) ? nodeTrace(st) : specAverageTrace(st, ctx.chi).value;
 }
 
-const eigenCache = new WeakMap<CMat, { values: ArrayLike<number>; vectors: CMat }>();
-const fieldEigenCache = new Map<string, { values: ArrayLike<number>; vectors: CMat }>();
+type EigenFactors = { values: ArrayLike<number>; vectors: CMat; factors?: PropagatorFactors };
+const eigenCache = new WeakMap<CMat, EigenFactors>();
+const fieldEigenCache = new Map<string, EigenFactors>();
 
 /** H/ħ = V Λ V†: a field Hamiltonian through the m_F blocks (hyperfine.ts zeemanEigen), else eigh. */
-function eigenOf(ctx: WalkCtx, h: CMat | null, field?: Vec3): { values: ArrayLike<number>; vectors: CMat } {
+function eigenOf(ctx: WalkCtx, h: CMat | null, field?: Vec3): EigenFactors {
   if (field) {
     const key = `${ctx.sys.key}|${field.x},${field.y},${field.z}`;
     let e = fieldEigenCache.get(key);
     if (!e) {
       const b = vecNorm(field);
       const z = zeemanEigen(ctx.sys.params, b, b > 0 ? field : { x: 0, y: 0, z: 1 });
-      e = { values: z.values.map((x) => 2 * Math.PI * x), vectors: z.vectors };
+      e = { values: z.values.map((x) => 2 * Math.PI * x), vectors: z.vectors, factors: z.factors };
       if (fieldEigenCache.size >= 512) fieldEigenCache.delete(fieldEigenCache.keys().next().value as string);
       fieldEigenCache.set(key, e);
     }
@@ -390,7 +391,7 @@ function applyLinear(ctx: WalkCtx, st: State, h: CMat | null, length: number, fi
       return [Math.cos(ph), -Math.sin(ph)];
     }), rho));
   }
-  return specPropagate(st, e.vectors, e.values, length);
+  return specPropagate(st, e.vectors, e.values, length, e.factors);
 }
 
 function applyKraus(st: State, k: CMat): State {

@@ -165,14 +165,15 @@ function snapDegenerate(lambda: ArrayLike<number>): Float64Array {
  * ρ(s) → U(s) ρ(s) U(s)† with U(s) = V e^{−iΛℓs} V† (H = V Λ V†, Λ in rad/s). The step is skipped when
  * every term commutes with H (then U ρ U† = ρ exactly: e.g. a hyperfine drift of a state diagonal in F).
  */
-export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>, length: number): SpecState {
+export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>, length: number, factors?: PropagatorFactors): SpecState {
   const d = v.rows;
   const snapped = snapDegenerate(lambda);
   const vd = cmatDagger(v);
   let lab: SpecTerm[], xs: CMat[];
   if (st.mu === null) {
-    // every term is already lab-frame Σ_t W X_t W† e^{−iφ_t s}: in the new basis Y X_t Y†, Y = V†W
-    const y = cmatMul(vd, st.W);
+    // every term is already lab-frame Σ_t W X_t W† e^{−iφ_t s}: in the new basis Y X_t Y†, Y = V†W;
+    // with V = R·B (B sparse), Y = B†(R†W), and R†W is kept with W (a scan over a field's size)
+    const y = factors ? cmatMul(cmatDagger(factors.blocks), factors.rot ? rotatedBasis(factors.rot, st.W) : st.W) : cmatMul(vd, st.W);
     lab = st.terms.slice();
     xs = lab.map((t) => sandwich(y, t.X));
   } else {
@@ -198,6 +199,26 @@ export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>,
   return state(v, mu, lab.map((t, i) => ({ phi: t.phi, X: xs[i] })));
 }
 
+/** V = rot · blocks, the factors of an eigenbasis from the m_F blocks (physics/hyperfine.ts zeemanEigen). */
+export interface PropagatorFactors {
+  readonly rot: CMat | undefined;
+  readonly blocks: CMat;
+}
+
+const rotated = new WeakMap<CMat, Map<CMat, CMat>>();
+/** R†W, kept per (W, R) object pair. */
+function rotatedBasis(rot: CMat, w: CMat): CMat {
+  let byRot = rotated.get(w);
+  if (!byRot) rotated.set(w, (byRot = new Map()));
+  let out = byRot.get(rot);
+  if (!out) {
+    out = cmatMul(cmatDagger(rot), w);
+    if (byRot.size > 16) byRot.clear();
+    byRot.set(rot, out);
+  }
+  return out;
+}
+
 /** Y X Y†; for a diagonal X (the state after a magnet's sort) as Σ_k x_k y_k y_k†. */
 function sandwich(y: CMat, x: CMat): CMat {
   const d = y.rows, r = y.cols;
@@ -211,16 +232,27 @@ function sandwich(y: CMat, x: CMat): CMat {
   if (!diagonal) return cmatMul(cmatMul(y, x), cmatDagger(y));
   const out = cmatZeros(d, d);
   const yr = y.re, yi = y.im, or = out.re, oi = out.im;
+  let real = true;
+  for (let k = 0; k < r; k++) if (x.im[k * r + k] !== 0) real = false;
   for (let k = 0; k < r; k++) {
     const xr = x.re[k * r + k], xi = x.im[k * r + k];
     if (xr === 0 && xi === 0) continue;
     for (let i = 0; i < d; i++) {
-      // (x_k y_ik) conj(y_jk)
+      // (x_k y_ik) conj(y_jk); with every x_k real the sum is Hermitian: j ≥ i, mirrored below
       const pr = xr * yr[i * r + k] - xi * yi[i * r + k], pi = xr * yi[i * r + k] + xi * yr[i * r + k];
-      for (let j = 0; j < d; j++) {
+      for (let j = real ? i : 0; j < d; j++) {
         const qr = yr[j * r + k], qi = yi[j * r + k];
         or[i * d + j] += pr * qr + pi * qi;
         oi[i * d + j] += pi * qr - pr * qi;
+      }
+    }
+  }
+  if (real) {
+    for (let i = 0; i < d; i++) {
+      oi[i * d + i] = 0;
+      for (let j = i + 1; j < d; j++) {
+        or[j * d + i] = or[i * d + j];
+        oi[j * d + i] = -oi[i * d + j];
       }
     }
   }
@@ -385,7 +417,7 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
     }
   }
   const S = zeroedF64(2 * r * r);
-  const todo = new Uint8Array(r * r);
+  const todo = todoScratch(r * r);
   for (const term of st.terms) {
     const cut = 1e-18 * significance(term);
     const xr = term.X.re, xi = term.X.im;
@@ -435,7 +467,11 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
   }
 }
 
-let scratchA = new Float64Array(0), scratchB = new Float64Array(0);
+let scratchA = new Float64Array(0), scratchB = new Float64Array(0), scratchT = new Uint8Array(0);
+function todoScratch(n: number): Uint8Array {
+  if (scratchT.length < n) scratchT = new Uint8Array(n);
+  return scratchT.subarray(0, n);
+}
 /** Reused work arrays of the table sums (every entry is written before it is read). */
 function scratch(n: number): Float64Array {
   if (scratchA.length < n) scratchA = new Float64Array(n);

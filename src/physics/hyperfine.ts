@@ -475,7 +475,7 @@ export function mjSortCleanField(p: HyperfineParams): number {
  * diagonalised (2×2 in closed form, larger ones by eigh) and carried to n̂ by the cached rotation
  * exp(−iφF_z) exp(−iθF_y). Values in Hz, in block order (not sorted); columns of `vectors` match.
  */
-export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { values: Float64Array; vectors: CMat } {
+export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { values: Float64Array; vectors: CMat; factors: { rot: CMat | undefined; blocks: CMat } } {
   const s = structureOf(p.i2, p.j2);
   const d = s.dim;
   const values = zeroedF64(d);
@@ -520,5 +520,7 @@ export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { v
     }
   }
   const rot = fieldT === 0 ? undefined : axisRotation(p.i2, p.j2, axis);
-  return { values, vectors: rot ? mulBlockColumns(rot, vz, s.blocks) : vz };
+  // vectors = rot · blocks (blocks: the block-diagonal eigenvectors along z), kept for callers that
+  // multiply by V† and can use the sparsity of the blocks
+  return { values, vectors: rot ? mulBlockColumns(rot, vz, s.blocks) : vz, factors: { rot, blocks: vz } };
 }
