@@ -106,17 +106,18 @@ const W_TOP = 420;
 const panelsUniform = new Map<number, (ChebPanel | null | undefined)[]>();
 const panelsSmall = new Map<number, (ChebPanel | null | undefined)[]>();
 
+function fitPanel(n: number, a: number, b: number): ChebPanel | null {
+  const p = chebFit((x) => effusiveIntegral(n, x), a, b, CHEB_N);
+  return p.error < 1e-14 ? p : null;
+}
+
 function panelFor(n: number, w: number): ChebPanel | null {
-  const fit = (a: number, b: number) => {
-    const p = chebFit((x) => effusiveIntegral(n, x), a, b, CHEB_N);
-    return p.error < 1e-14 ? p : null;
-  };
   if (w >= 1) {
     let arr = panelsUniform.get(n);
     if (!arr) panelsUniform.set(n, (arr = []));
     const i = Math.floor((w - 1) * 2);
     let p = arr[i];
-    if (p === undefined) arr[i] = p = fit(1 + i / 2, 1 + (i + 1) / 2);
+    if (p === undefined) arr[i] = p = fitPanel(n, 1 + i / 2, 1 + (i + 1) / 2);
     return p;
   }
   const j = Math.floor(-Math.log2(w)); // w in [2^-(j+1), 2^-j)
@@ -124,7 +125,7 @@ function panelFor(n: number, w: number): ChebPanel | null {
   let arr = panelsSmall.get(n);
   if (!arr) panelsSmall.set(n, (arr = []));
   let p = arr[j];
-  if (p === undefined) arr[j] = p = fit(2 ** -(j + 1), 2 ** -j);
+  if (p === undefined) arr[j] = p = fitPanel(n, 2 ** -(j + 1), 2 ** -j);
   return p;
 }
 
