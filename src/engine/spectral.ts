@@ -332,6 +332,8 @@ export class CharCache {
     const c = charFunction(this.dist, phi, 0);
     this.nodes += c.nodes;
     const v: [number, number, number] = [c.re, c.im, c.error];
+    // a value read off the effusive panels (no quadrature nodes) is cheaper to evaluate again than to keep
+    if (c.nodes === 0) return v;
     if (this.map.size > 200_000) this.map.clear();
     this.map.set(phi, v);
     return v;
@@ -423,10 +425,15 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
     const xr = term.X.re, xi = term.X.im;
     const hermitian = term.phi === 0;
     // e_k = w_k e^{−iφ s_k}, so that S_ab = Σ_k e_k z_a(k) conj(z_b(k))
-    for (let k = 0; k < n; k++) {
-      expNegI(term.phi / speeds[k], er, ei, k);
-      er[k] *= weights[k];
-      ei[k] *= weights[k];
+    if (term.phi === 0) {
+      er.set(weights);
+      ei.fill(0);
+    } else {
+      for (let k = 0; k < n; k++) {
+        expNegI(term.phi / speeds[k], er, ei, k);
+        er[k] *= weights[k];
+        ei[k] *= weights[k];
+      }
     }
     // entries needed: with φ = 0, S is Hermitian and only b ≥ a is summed (S_ba = conj S_ab)
     let any = false;
