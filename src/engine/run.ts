@@ -703,14 +703,17 @@ function applyTwist(st: NodeState, op: TwistOp): NodeState {
   const tr = op.rotation;
   if (tr) {
     const d = tr.a.rows;
-    const er = zeroedF64(d), ei = zeroedF64(d);
+    const er = new Float64Array(d), ei = new Float64Array(d), qr = new Float64Array(d), qi = new Float64Array(d);
+    const ar = tr.a.re, ai = tr.a.im;
     return mapNodes(st, (rho, k) => {
       const tc = (op.length / st.speeds[k]) * tr.c;
-      const alpha = Math.hypot(tc, op.angle), beta = Math.atan2(op.angle, tc);
-      for (let l = 0; l < d; l++) expNegI(alpha * tr.m1[l], er, ei, l);
-      // C_ij = e^{−iβ(m_q,i − m_q,j)} Σ_l A_il E_l conj(A_jl)
+      const alpha = Math.sqrt(tc * tc + op.angle * op.angle), beta = Math.atan2(op.angle, tc);
+      for (let l = 0; l < d; l++) {
+        expNegI(alpha * tr.m1[l], er, ei, l);
+        expNegI(beta * tr.mq[l], qr, qi, l);
+      }
+      // C_ij = e^{−iβ m_q,i} (Σ_l A_il E_l conj(A_jl)) e^{iβ m_q,j}
       const cm = cmatZeros(d, d);
-      const ar = tr.a.re, ai = tr.a.im;
       for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
         let sr = 0, si = 0;
         for (let l = 0; l < d; l++) {
@@ -719,10 +722,10 @@ function applyTwist(st: NodeState, op: TwistOp): NodeState {
           sr += xr * yr - xi * yi;
           si += xr * yi + xi * yr;
         }
-        const ph = -beta * (tr.mq[i] - tr.mq[j]);
-        const c = Math.cos(ph), s = Math.sin(ph);
-        cm.re[i * d + j] = sr * c - si * s;
-        cm.im[i * d + j] = sr * s + si * c;
+        // phase q_i conj(q_j)
+        const pr = qr[i] * qr[j] + qi[i] * qi[j], pi = qi[i] * qr[j] - qr[i] * qi[j];
+        cm.re[i * d + j] = sr * pr - si * pi;
+        cm.im[i * d + j] = sr * pi + si * pr;
       }
       return conj(cmatMul(cmatMul(tr.b, cm), tr.vqd), rho);
     });
