@@ -39,7 +39,7 @@ export interface RunResultView {
   lost: number;
   warnings: string[];
   quadrature?: { nodes: number; error: number; method?: string };
-  velocity?: { speeds: number[]; density: number[] };
+  velocity?: { speeds: number[]; density: number[]; kind?: string };
 }
 
 /**

@@ -840,7 +840,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const positions: Record<string, { entrance: number; exit: number }> = {};
   const hermiticity = { max: 0, positive: true };
   const sampled = { nodes: 0, error: 0, unconverged: new Map<string, { error: number; speeds: number }>() };
-  let chiNodes = 0, chiError = 0;
+  let chiNodes = 0, chiError = 0, wasmUsed = false;
   const dists: VelocityDistribution[] = [];
   systems.forEach(({ system, fraction }, i) => {
     const dist = distributionFor(line, system);
@@ -860,6 +860,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     };
     visit(ctx, line.oven.to, st0, { path: [], y: 0, track, depth: 0 });
     chiNodes += chi.nodes;
+    if (chi.wasm) wasmUsed = true;
     chiError += 0;
     opts.onProgress?.((i + 1) / (systems.length + 1));
   });
@@ -882,7 +883,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const method = d0.kind === 'effusive'
     ? 'each Bohr frequency averaged on its own over the effusive distribution (rotated-contour Gauss–Kronrod)'
     : d0.kind === 'supersonic' ? 'each Bohr frequency averaged on its own (adaptive Gauss–Kronrod)'
-      : d0.kind === 'table' ? 'exact sum over the tabulated speeds' : 'single speed';
+      : d0.kind === 'table' ? `exact sum over the tabulated speeds${wasmUsed ? ' (WebAssembly SIMD kernel)' : ''}` : 'single speed';
   return {
     format: 'spinyard.result',
     version: 1,

@@ -324,6 +324,8 @@ export function specProjectDiag(st: SpecState, vecs: readonly CMat[]): SpecState
 export class CharCache {
   private readonly map = new Map<number, [number, number, number]>();
   nodes = 0;
+  /** True once a table sum ran in the WebAssembly kernel (physics/kernels.ts). */
+  wasm = false;
   constructor(readonly dist: VelocityDistribution) {}
   get(phi: number): [number, number, number] {
     if (phi === 0) return [1, 0, 0];
@@ -358,7 +360,7 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
   let error = 0;
   const d = chi.dist;
   if ((d.kind === 'table' || d.kind === 'fixed') && st.mu) {
-    separableAverage(st, d.kind === 'fixed' ? Float64Array.of(d.speed) : d.speeds, d.kind === 'fixed' ? Float64Array.of(1) : d.weights, A);
+    if (separableAverage(st, d.kind === 'fixed' ? Float64Array.of(d.speed) : d.speeds, d.kind === 'fixed' ? Float64Array.of(1) : d.weights, A)) chi.wasm = true;
     chi.nodes += d.kind === 'fixed' ? 1 : d.speeds.length;
   } else {
     for (const t of st.terms) {
@@ -401,7 +403,8 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
  * A_ab = Σ_k w_k Σ_t X_t,ab e^{−iφ_t s_k} z_a(k) z̄_b(k), z_a(k) = e^{−iμ_a s_k}: the exact finite sum of a
  * table (or one speed), d phase factors per speed instead of d².
  */
-function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64Array, A: CMat): void {
+/** Returns true when the WebAssembly kernel did the sums. */
+function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64Array, A: CMat): boolean {
   const r = st.W.cols;
   const mu = st.mu!;
   const n = speeds.length;
@@ -472,6 +475,7 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
       }
     }
   }
+  return wasm;
 }
 
 let scratchA = new Float64Array(0), scratchB = new Float64Array(0), scratchT = new Uint8Array(0);

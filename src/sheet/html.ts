@@ -246,7 +246,7 @@ function detectorsTable(m: SheetModel): string {
   const eps = m.detectors[0].epsilon;
   const rows = m.detectors.map((d) => `<tr><th scope="row">${e(d.id)}</th><td class="num">${sheetNumber(d.yield)}</td><td class="num">${sheetNumber(d.rate)}</td>`
     + `<td class="num">${sheetNumber(d.counts)} ± ${sheetNumber(d.sigma, 3)}</td><td class="num">${duration(d.dwell)}</td>`
-    + `<td class="num">${sheetNumber(d.signalToBackground, 3)}</td><td class="num">${duration(d.timeToPrecision)}</td>${blank}</tr>`);
+    + `<td class="num">${d.signalToBackground === Number.MAX_VALUE ? '∞ (no background)' : sheetNumber(d.signalToBackground, 3)}</td><td class="num">${duration(d.timeToPrecision)}</td>${blank}</tr>`);
   return '<table class="detectors"><colgroup><col style="width:10%"><col style="width:10%"><col style="width:11%"><col style="width:19%">'
     + '<col style="width:8%"><col style="width:10%"><col style="width:11%"><col style="width:21%"></colgroup><thead><tr><th>detector</th><th class="num">yield</th><th class="num">rate (/s)</th>'
     + `<th class="num">counts ± σ</th><th class="num">dwell</th><th class="num">S/B</th><th class="num">time to ${sheetNumber(eps * 100)} %</th><th>measured counts</th></tr></thead>`

@@ -1,7 +1,7 @@
 // The renderer in Chromium against the built app on 127.0.0.1: a sample, a roll edit whose yields must be
 // the engine's (computed here in Node on the same edited document), undo, an invalid entry, save/reopen.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { readFileSync, readdirSync } from 'node:fs';
+import { readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { openApp, foreignRequests, screenshotPath, tableYields, waitForFreshResults, ROOT, SAMPLES_DIR, type App } from './harness.ts';
 import { documentText, readDocument, runEngine, type BeamlineDoc } from '../../src/app/core-adapter.ts';
@@ -196,6 +196,41 @@ describe('the renderer in Chromium', () => {
     await page.screenshot({ path: screenshotPath('e2e-dark'), fullPage: true });
     await page.keyboard.press('Control+Shift+D');
     await expect.poll(() => page.evaluate(() => document.documentElement.dataset.theme)).toBe('light');
+  });
+
+  it('runs a tabulated-speed line with the WebAssembly kernel in its worker, to the engine\'s yields', async () => {
+    const { page } = app;
+    // a Rb-87 line on a five-speed table: sorted by m_J, precessed in a transverse field, sorted again
+    const doc = {
+      format: 'spinyard.beamline', version: 1,
+      title: 'Bench W check: Rb-87 on a five-speed table through a transverse-field coil',
+      species: 'Rb-87',
+      oven: {
+        state: { kind: 'unpolarized' }, flux: '1e9 /s', to: 'M1',
+        velocity: { kind: 'table', points: [['180 m/s', 0.1], ['240 m/s', 0.25], ['300 m/s', 0.3], ['360 m/s', 0.25], ['420 m/s', 0.1]] },
+      },
+      elements: [
+        { id: 'M1', kind: 'magnet', axis: { roll: '0 deg' }, field: '0.5 T', group: 'mJ', ports: { 'mJ=+1/2': 'F1', 'mJ=-1/2': 'stop' } },
+        { id: 'F1', kind: 'field', gap: '0 m', field: { x: '3 uT', y: '0 T', z: '0 T' }, length: '4 cm', to: 'M2' },
+        { id: 'M2', kind: 'magnet', gap: '0 m', axis: { roll: '0 deg' }, field: '0.5 T', group: 'mJ', ports: { 'mJ=+1/2': 'D1', 'mJ=-1/2': 'D2' } },
+        { id: 'D1', kind: 'detector' },
+        { id: 'D2', kind: 'detector' },
+      ],
+    } as unknown as BeamlineDoc;
+    const file = join(ROOT, 'test-results', 'e2e-table-line.spinyard');
+    writeFileSync(file, documentText(doc));
+    const before = Number((await page.locator('section.results').getAttribute('data-seq')) ?? 0);
+    const [chooser] = await Promise.all([page.waitForEvent('filechooser'), runMenu('File', 'file.open')]);
+    await chooser.setFiles(file);
+    await waitForFreshResults(page, before);
+    await expect.poll(() => page.locator('.statusline').textContent()).toContain('exact sum over the tabulated speeds (WebAssembly SIMD kernel)');
+    expectYields(await tableYields(page), engineYields(doc));
+    // its detectors have no background: signal / background is unbounded, not the largest double
+    const results = (await page.locator('section.results').textContent()) ?? '';
+    expect(results).toContain('∞ (no background)');
+    expect(results).not.toContain('e308');
+    await page.locator('[data-chart="velocity"] .main-svg').first().waitFor();
+    await page.screenshot({ path: screenshotPath('e2e-table-line'), fullPage: true });
   });
 
   it('sent no request off 127.0.0.1 and logged no page error', async () => {

@@ -160,3 +160,23 @@ describe('sheetNumber', () => {
     expect(sheetNumber(undefined)).toBe('–');
   });
 });
+
+describe('a detector without background', () => {
+  it('shows its signal-to-background as unbounded, not as the largest double', () => {
+    const r = runText(JSON.stringify({
+      format: 'spinyard.beamline', version: 1, title: 'Bench B, dark detector check',
+      species: { spin: '1/2', g: 2.00231930436, mass: '106.905 u' },
+      oven: { state: { kind: 'unpolarized' }, flux: '1e8 /s', velocity: { kind: 'fixed', speed: '600 m/s' }, to: 'M1' },
+      elements: [
+        { id: 'M1', kind: 'magnet', axis: { roll: '0 deg' }, ports: { '+1/2': 'D1', '-1/2': 'D2' } },
+        { id: 'D1', kind: 'detector', background: '0 /s' },
+        { id: 'D2', kind: 'detector', background: '2 /s' },
+      ],
+    }));
+    const t = table(sheetHtml(buildSheet(r.doc, r.line, r.result)), 'detectors');
+    expect(t).toContain('∞ (no background)');
+    expect(t).not.toContain('e308');
+    // the detector with background keeps its number: 5e7 /s over 2 /s
+    expect(t).toContain('2.5e7');
+  });
+});

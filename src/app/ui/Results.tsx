@@ -133,9 +133,15 @@ export function Results(p: Props) {
   const velocity = useMemo(() => {
     const v = result?.velocity;
     if (!v || v.speeds.length === 0) return undefined;
-    const data = [{ type: 'scatter', mode: v.speeds.length > 40 ? 'lines' : 'lines+markers', x: v.speeds, y: v.density, line: { color: '#1f6fb2' },
-      hovertemplate: '%{x:.4g} m/s: %{y:.4g}<extra></extra>' }];
-    const layout = { ...theme, xaxis: { ...theme.xaxis, title: { text: 'speed (m/s)' } }, yaxis: { ...theme.yaxis, title: { text: 'flux-weighted density' }, rangemode: 'tozero' } };
+    // a table is a set of discrete speeds with flux weights: drawn as stems, not as a density curve
+    const discrete = v.kind === 'table' || v.kind === 'fixed';
+    const data = discrete
+      ? [{ type: 'scatter', mode: 'lines+markers', x: v.speeds.flatMap((x) => [x, x, null]), y: v.density.flatMap((y) => [0, y, null]),
+        line: { color: '#1f6fb2' }, marker: { size: 5 }, connectgaps: false, hovertemplate: '%{x:.4g} m/s: weight %{y:.4g}<extra></extra>' }]
+      : [{ type: 'scatter', mode: v.speeds.length > 40 ? 'lines' : 'lines+markers', x: v.speeds, y: v.density, line: { color: '#1f6fb2' },
+        hovertemplate: '%{x:.4g} m/s: %{y:.4g}<extra></extra>' }];
+    const layout = { ...theme, xaxis: { ...theme.xaxis, title: { text: 'speed (m/s)' } },
+      yaxis: { ...theme.yaxis, title: { text: discrete ? 'flux weight of each speed' : 'flux-weighted density (s/m)' }, rangemode: 'tozero' } };
     return { data, layout };
   }, [result, theme]);
 
@@ -202,7 +208,7 @@ export function Results(p: Props) {
                 <tr key={d.id}>
                   <td>{d.id}</td><td className="num">{fmt(d.yield, 6)}</td><td className="num">{fmt(d.rate)}</td>
                   <td className="num">{fmt(d.counts)} ± {fmt(d.sigma, 3)}</td><td className="num">{fmt(d.background)}</td>
-                  <td className="num">{fmt(d.signalToBackground, 3)}</td>
+                  <td className="num">{d.background === 0 && (d.signal ?? 0) > 0 ? '∞ (no background)' : fmt(d.signalToBackground, 3)}</td>
                   <td className="num">{d.signal !== undefined && eps !== undefined ? fmtTime(signalTimeToPrecision(d.signal, d.background ?? 0, eps)) : '—'}</td>
                 </tr>
               ))}
