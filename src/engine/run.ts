@@ -8,7 +8,7 @@
  * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
  * grid that is doubled until the leaf yields agree (sampled.ts).
  */
-import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64, zeroedF64 } from '../physics/cmat.ts';
+import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64 } from '../physics/cmat.ts';
 import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
