@@ -101,12 +101,29 @@ interface Walk {
 }
 
 const distCache = new WeakMap<object, Map<number, VelocityDistribution>>();
+const distByValue = new Map<string, VelocityDistribution>();
 
+/**
+ * One distribution object per velocity set-point and mass, so that what is kept with it (grids,
+ * panels) serves every run: a table by its object, the others by their values (a document read again
+ * after an edit elsewhere keeps them).
+ */
 function distributionFor(line: Beamline, sys: SpinSystem): VelocityDistribution {
-  let byMass = distCache.get(line.oven.velocity);
+  const v = line.oven.velocity;
+  if (v.kind !== 'table') {
+    const key = `${v.kind}|${v.kind === 'fixed' ? v.speed : v.kind === 'effusive' ? v.temperature : `${v.speed}|${v.ratio}`}|${sys.massKg}`;
+    let d = distByValue.get(key);
+    if (!d) {
+      d = makeDistribution(line, sys);
+      if (distByValue.size >= 64) distByValue.delete(distByValue.keys().next().value as string);
+      distByValue.set(key, d);
+    }
+    return d;
+  }
+  let byMass = distCache.get(v);
   if (!byMass) {
     byMass = new Map();
-    distCache.set(line.oven.velocity, byMass);
+    distCache.set(v, byMass);
   }
   let d = byMass.get(sys.massKg);
   if (!d) {
@@ -743,6 +760,29 @@ function applyTwist(st: NodeState, op: TwistOp): NodeState {
  * (physics/velocity.ts oscillationGrid), doubled from 2×8 to 2×128 panels of 8 nodes until no leaf
  * yield moves by 1e-11 (the last change is reported as the error, and as a warning above 1e-9).
  */
+/**
+ * The first grid of the doubling: levels whose nodes step the fastest phase (the twist's eigenphase
+ * spread ℓ·ΔΛ plus the incoming state's largest phase-length, times 1/v) by more than ~2 rad between
+ * neighbours cannot have converged, so the doubling starts past them (at most at 64 panels, so that
+ * the 64 → 128 change still estimates the error).
+ */
+function firstPanels(d: VelocityDistribution, st: SpecState, twist: TwistOp): number {
+  if (d.kind === 'fixed' || d.kind === 'table') return 8;
+  const ev = eigh(twist.h1).values;
+  let spread = 0;
+  for (let i = 0; i < ev.length; i++) for (let j = 0; j < ev.length; j++) spread = Math.max(spread, ev[i] - ev[j]);
+  let phi = spread * twist.length;
+  for (const w of specPhaseWeights(st)) phi = Math.max(phi, w.phi);
+  const g = oscillationGrid(d, 8, 8);
+  let ds = 0;
+  for (let k = 1; k < g.speeds.length; k++) ds = Math.max(ds, Math.abs(1 / g.speeds[k] - 1 / g.speeds[k - 1]));
+  // at 8 panels the largest step is phi·ds; each doubling halves it
+  const limit = Math.min(64, (8 * phi * ds) / 4);
+  let panels = 8;
+  while (panels * 2 <= limit) panels *= 2;
+  return panels;
+}
+
 function runSampledSubtree(ctx: WalkCtx, e: Element, st: SpecState, twist: TwistOp, walk: Walk): void {
   const d = ctx.dist;
   const exact = d.kind === 'fixed' || d.kind === 'table';
@@ -750,7 +790,7 @@ function runSampledSubtree(ctx: WalkCtx, e: Element, st: SpecState, twist: Twist
   let prev: Map<string, number> | null = null;
   const lostMark = ctx.lost.spin;
   const warnMark = new Set(ctx.warnings);
-  for (let panels = 8; ; panels *= 2) {
+  for (let panels = firstPanels(d, st, twist); ; panels *= 2) {
     const g = oscillationGrid(d, panels, 8);
     const total = g.weights.reduce((a, b) => a + b, 0);
     const weights = g.weights.map((w) => w / total);
