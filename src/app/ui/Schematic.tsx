@@ -49,7 +49,7 @@ export function Schematic({ line, result, selected, onSelect, warned }: Props) {
   const bar = scaleBar(span);
   const tBar = scaleBar(geo.maxT * 2.5);
   const items = [...placed.values()].sort((a, b) => a.y0 - b.y0);
-  // elements drawn within 24 px of each other stack their labels
+  // elements drawn within 24 px of each other stack their labels (row 0 above the beam, the rest below)
   const rows = new Map<string, number>();
   let lastX = -Infinity;
   let row = 0;
@@ -155,7 +155,8 @@ function ElementGlyph({ p, which, cy, X, T, row, selected, warned, onSelect }: {
   const w = Math.max(X(p.y1) - x0, 4);
   const cls = `el el-${e.kind}${selected ? ' selected' : ''}${warned ? ' warned' : ''}`;
   const label = (
-    <text x={x0 + w / 2} y={cy - 36 - row * 11} textAnchor="middle" className="el-label">
+    // the first label of a cluster above the beam; the others below it (above, the magnets' roll dials sit)
+    <text x={x0 + w / 2} y={row === 0 ? cy - 36 : cy + 52 + (row - 1) * 11} textAnchor="middle" className="el-label">
       {e.id}
       {warned ? ' ⚠' : ''}
     </text>
