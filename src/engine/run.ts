@@ -8,7 +8,7 @@
  * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
  * grid that is doubled until the leaf yields agree (sampled.ts).
  */
-import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64 } from '../physics/cmat.ts';
+import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64, cmatOwn } from '../physics/cmat.ts';
 import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
@@ -227,6 +227,7 @@ function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
         throw err;
       }
       if (sortCache.size > 20000) sortCache.clear();
+      s = { ...s, components: s.components.map((c) => ({ ...c, vector: cmatOwn(c.vector) })) };
       sortCache.set(key, s);
     }
     if (!byName) sortByElement.set(e, (byName = new Map()));
@@ -313,6 +314,7 @@ function portProjector(comps: readonly Component[]): CMat {
   let p = projectors.get(comps);
   if (!p) {
     p = projectorOf(comps[0].vector.rows, comps);
+    p = cmatOwn(p);
     projectors.set(comps, p);
   }
   return p;
@@ -339,6 +341,7 @@ function rank1Cached(c: Component): CMat {
   let p = rank1s.get(c);
   if (!p) {
     p = rank1(c);
+    p = cmatOwn(p);
     rank1s.set(c, p);
   }
   return p;
@@ -374,6 +377,7 @@ function eigenOf(ctx: WalkCtx, h: CMat | null, field?: Vec3): EigenFactors {
       const z = zeemanEigen(ctx.sys.params, b, b > 0 ? field : { x: 0, y: 0, z: 1 });
       e = { values: z.values.map((x) => 2 * Math.PI * x), vectors: z.vectors, factors: z.factors };
       if (fieldEigenCache.size >= 512) fieldEigenCache.delete(fieldEigenCache.keys().next().value as string);
+      e = { values: Float64Array.from(e.values), vectors: cmatOwn(e.vectors), factors: e.factors && { rot: e.factors.rot, blocks: cmatOwn(e.factors.blocks) } };
       fieldEigenCache.set(key, e);
     }
     return e;

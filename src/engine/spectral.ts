@@ -15,7 +15,7 @@
  * is computed once. A new propagator first expands the state into lab-frame terms of equal
  * phase-length (merged within 1e-13 of the largest), then changes basis.
  */
-import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, zeroedF64, copyF64 } from '../physics/cmat.ts';
+import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, zeroedF64, copyF64, cmatOwn } from '../physics/cmat.ts';
 import { charFunction, type VelocityDistribution } from '../physics/velocity.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
 import { tableKernel } from '../physics/kernels.ts';
@@ -212,7 +212,7 @@ function rotatedBasis(rot: CMat, w: CMat): CMat {
   if (!byRot) rotated.set(w, (byRot = new Map()));
   let out = byRot.get(rot);
   if (!out) {
-    out = cmatMul(cmatDagger(rot), w);
+    out = cmatOwn(cmatMul(cmatDagger(rot), w));
     if (byRot.size > 16) byRot.clear();
     byRot.set(rot, out);
   }

@@ -5,7 +5,7 @@
  * Hamiltonian (design.md): H/h = A I·J (+ quadrupole) + (μB/h)(g_J J + g_I I)·B; a bare spin is
  * H = g μB J·B. The engine works in angular frequency, H/ħ = 2π·H/h (rad/s).
  */
-import { type CMat, cmatScale, cmatZeros, cmatColumn } from '../physics/cmat.ts';
+import { type CMat, cmatScale, cmatZeros, cmatColumn, cmatOwn } from '../physics/cmat.ts';
 import { compositeSpin, formatHalfInteger } from '../physics/spin.ts';
 import { hyperfineHamiltonianHz, zeemanLevels, zeroFieldStates, mjSortCleanField, type HyperfineParams } from '../physics/hyperfine.ts';
 import type { Vec3 } from '../physics/rotation.ts';
@@ -64,7 +64,7 @@ function buildSystem(key: string, name: string, params: HyperfineParams, massKg:
       const key = `${b.x},${b.y},${b.z}`;
       let h = cache.get(key);
       if (!h) {
-        h = cmatScale(hyperfineHamiltonianHz(params, b), 2 * Math.PI);
+        h = cmatOwn(cmatScale(hyperfineHamiltonianHz(params, b), 2 * Math.PI));
         if (cache.size > 256) cache.clear();
         cache.set(key, h);
       }

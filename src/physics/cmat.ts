@@ -37,6 +37,14 @@ export function zeroedF64(n: number): Float64Array {
   return out;
 }
 
+/**
+ * A copy of m in arrays of its own. Matrices kept in long-lived caches are stored this way, so that
+ * they do not hold on to the shared block they were carved from (and the garbage beside them).
+ */
+export function cmatOwn(m: CMat): CMat {
+  return { rows: m.rows, cols: m.cols, re: Float64Array.from(m.re), im: Float64Array.from(m.im) };
+}
+
 /** A copy of `a` as a Float64Array (a view on a shared block when small). */
 export function copyF64(a: ArrayLike<number>): Float64Array {
   const out = zeroedF64(a.length);

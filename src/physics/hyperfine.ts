@@ -20,7 +20,7 @@
  *             coefficient of B, then by the diagonal hyperfine energy (A m_I m_J + quadrupole), then by m_J.
  *   Bare spin (i2 = 0): lowField is the m label "+1/2", highField "mJ=+1/2".
  */
-import { type CMat, cmatZeros, cmatMul, cmatCombine, cmatKron, cmatIdentity, cmatAdd, zeroedF64 } from './cmat.ts';
+import { type CMat, cmatZeros, cmatMul, cmatCombine, cmatKron, cmatIdentity, cmatAdd, zeroedF64, cmatOwn } from './cmat.ts';
 import { eigh } from './eigh.ts';
 import { compositeSpin, spinOperators, spinSquared, formatHalfInteger, assertJ2 } from './spin.ts';
 import { rotationToAxis, vecNorm, type Vec3 } from './rotation.ts';
@@ -345,7 +345,7 @@ function axisRotation(i2: number, j2: number, n: Vec3): CMat | undefined {
   const key = `${i2}/${j2}/${n.x / r},${n.y / r},${n.z / r}`;
   const hit = rotations.get(key);
   if (hit) return hit;
-  const rot = rotationToAxis(compositeSpin(i2, j2).F, n);
+  const rot = cmatOwn(rotationToAxis(compositeSpin(i2, j2).F, n));
   if (rotations.size >= 256) rotations.delete(rotations.keys().next().value as string);
   rotations.set(key, rot);
   return rot;
