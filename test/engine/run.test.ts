@@ -193,6 +193,31 @@ describe('runLine: field twist, from sudden to adiabatic passage', () => {
   });
 });
 
+describe('runLine: field twist of a hyperfine state (the general rotating-frame path)', () => {
+  // Rb-87 |F=2, m_F=+2⟩ along ẑ (the stretched state, an eigenstate at every field) into a twist ẑ → x̂,
+  // analysed along x̂ state by state. Adiabatic: it follows the field, P(F=2,mF=+2 along x̂) → 1. Sudden:
+  // it stays along ẑ, P = |d²₂₂(90°)|² = ((1 + cos 90°)/2)⁴ = 1/16 (PDG review, d functions).
+  const mk = (field: string, length: string) => runLine(line({
+    species: 'Rb-87',
+    oven: { state: { kind: 'unpolarized' }, flux: '1e9 /s', velocity: { kind: 'fixed', speed: '500 m/s' }, to: 'M1' },
+    elements: [
+      { id: 'M1', kind: 'magnet', axis: { roll: '0 deg' }, field: '0.5 T', group: 'each', ports: { 'F=2,mF=+2': 'T', '*': 'stop' } },
+      { id: 'T', kind: 'twist', field, start: { roll: '0 deg' }, end: { roll: '90 deg' }, length, to: 'M2' },
+      { id: 'M2', kind: 'magnet', axis: { roll: '90 deg' }, field: '0.5 T', group: 'each', ports: { 'F=2,mF=+2': 'D1', '*': 'D2' } },
+      det('D1'), det('D2'),
+    ],
+  }));
+  it('a strong, long twist carries the stretched state along (adiabatic)', () => {
+    const r = mk('1 mT', '10 cm');
+    // the port holds 1/8 of the unpolarized oven (one of 8 states)
+    expect(Math.abs(yieldOf(r, 'D1') - 1 / 8)).toBeLessThan(1e-6);
+  });
+  it('a weak, short twist leaves it behind (sudden): 1/16 of the port', () => {
+    const r = mk('1 nT', '1 mm');
+    expect(Math.abs(yieldOf(r, 'D1') - 1 / 8 / 16)).toBeLessThan(1e-5);
+  });
+});
+
 describe('runLine: Stern–Gerlach deflection (design.md: a L (L/2 + D)/v²)', () => {
   it('a bare spin at one speed is displaced by ∓ g μB G L (L/2 + D)/(2 M v²)', () => {
     const G = 800, L = 0.06, D = 0.4, v = 550, M = 106.905 * U;
