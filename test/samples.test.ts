@@ -51,6 +51,10 @@ const leaf = (r: RunResult, path: string[]) => {
 };
 
 describe('samples/*.spinyard', () => {
+  it('never report a negative loss', () => {
+    for (const n of names) expect(load(n).result.lost, n).toBeGreaterThanOrEqual(0);
+  });
+
   it('has the sample lines of issues 2 and 3', () => {
     expect(names.length).toBeGreaterThanOrEqual(10);
   });
@@ -239,6 +243,19 @@ describe('bench-k-field-twist-passage: adiabatic and sudden passage', () => {
     const { result } = load('bench-k-field-twist-passage.spinyard');
     expect(detYield(result, 'DA1')).toBeGreaterThan(1 / 3 - 1e-6);
     expect(detYield(result, 'DA0') + detYield(result, 'DA2')).toBeLessThan(1e-6);
+  });
+
+  it('a leaf at the rounding floor (MA −1 after the adiabatic twist) has no place on the detector plane', () => {
+    const { result } = load('bench-k-field-twist-passage.spinyard');
+    const empty = leaf(result, ['M1:+1', 'MA:-1']);
+    expect(empty.yield).toBeLessThan(1e-15);
+    expect(empty.displacement).toBeUndefined();
+    // the verdicts at the DA plane name only the two sub-beams that arrive; MA (along x) parts them along x
+    const da = result.detectors.find((d) => d.id === 'DA1')!;
+    expect(da.neighbours?.length).toBeGreaterThan(0);
+    const pairs = (da.neighbours ?? []).map((n) => `${n.a} | ${n.b} ${n.axis}`);
+    expect(pairs.some((p) => p.includes('MA:-1'))).toBe(false);
+    expect((da.neighbours ?? []).every((n) => n.axis === 'x')).toBe(true);
   });
 
   it('T2 (0.1 µT over 1 cm) is nearly sudden: m = −1 splits ¼ : ½ : ¼ along x, to a few 1e-3', () => {

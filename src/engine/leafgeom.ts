@@ -462,7 +462,8 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
   const leaves: (LeafResult & { _acc: LeafAcc })[] = [];
   for (const a of accs.values()) {
     const eff = a.detector ? a.detector.efficiency : 1;
-    if (!geometry || a.target === 'stop') {
+    // an empty path (its flux at the rounding floor, ≤ 1e-15 of the oven's) has no place on the plane
+    if (!geometry || a.target === 'stop' || a.fines.every((g) => g.nodes === NO_NODES)) {
       leaves.push({ path: a.path, target: a.target, yield: a.yieldSpin, rate: flux * a.yieldSpin * eff, _acc: a });
       continue;
     }
@@ -599,7 +600,7 @@ function addNodeHistogram(dens: Float64Array, bins: number, lo: number, dx: numb
 function addProfiles(leaves: (LeafResult & { _acc: LeafAcc })[], verdicts: Map<string, NeighbourVerdict[]>): void {
   const groups = new Map<string, (LeafResult & { _acc: LeafAcc })[]>();
   for (const l of leaves) {
-    if (l.target === 'stop' || l.yield <= 0) continue;
+    if (l.target === 'stop' || l.yield <= 0 || !l.displacement) continue;
     const k = planeKey(l._acc.plane);
     const gr = groups.get(k);
     if (gr) gr.push(l);

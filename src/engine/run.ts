@@ -933,7 +933,8 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     version: 1,
     leaves: leavesOut,
     detectors,
-    lost: lostTotal,
+    // lost is a sum of differences; a negative value within rounding (|lost| < 1e-14) is reported as 0
+    lost: lostTotal < 0 && lostTotal > -1e-14 ? 0 : lostTotal,
     warnings: [...warnings],
     quadrature: { nodes: chiNodes + sampled.nodes + geo.nodes, error: chiError + sampled.error, method: sampled.nodes > 0 ? `${method}; after a field twist, speed by speed on doubling Gauss–Legendre grids` : method },
     flux,
