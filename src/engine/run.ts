@@ -8,7 +8,7 @@
  * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
  * grid that is doubled until the leaf yields agree (sampled.ts).
  */
-import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64, cmatOwn } from '../physics/cmat.ts';
+import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64, cmatOwn, zeroedF64 } from '../physics/cmat.ts';
 import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
@@ -88,6 +88,8 @@ interface WalkCtx {
   moment2: Map<number, [number, number]>;
   /** Elements whose sorting warnings this run has added. */
   seen: Set<object>;
+  /** Eigenstates of the field regions met in this run, by field. */
+  fieldEigen: Map<string, EigenFactors>;
   /** H/ħ of the line's ambient field (the drift Hamiltonian) and whether it vanishes. */
   hAmbient: CMat;
   ambientZero: boolean;
@@ -365,20 +367,19 @@ function averagedTrace(ctx: WalkCtx, st: State): number {
 
 type EigenFactors = { values: ArrayLike<number>; vectors: CMat; factors?: PropagatorFactors };
 const eigenCache = new WeakMap<CMat, EigenFactors>();
-const fieldEigenCache = new Map<string, EigenFactors>();
-
 /** H/ħ = V Λ V†: a field Hamiltonian through the m_F blocks (hyperfine.ts zeemanEigen), else eigh. */
 function eigenOf(ctx: WalkCtx, h: CMat | null, field?: Vec3): EigenFactors {
   if (field) {
-    const key = `${ctx.sys.key}|${field.x},${field.y},${field.z}`;
-    let e = fieldEigenCache.get(key);
+    // kept for the run (every sub-beam through one field region shares it)
+    const key = `${field.x},${field.y},${field.z}`;
+    let e = ctx.fieldEigen.get(key);
     if (!e) {
       const b = vecNorm(field);
       const z = zeemanEigen(ctx.sys.params, b, b > 0 ? field : { x: 0, y: 0, z: 1 });
-      e = { values: z.values.map((x) => 2 * Math.PI * x), vectors: z.vectors, factors: z.factors };
-      if (fieldEigenCache.size >= 512) fieldEigenCache.delete(fieldEigenCache.keys().next().value as string);
-      e = { values: Float64Array.from(e.values), vectors: cmatOwn(e.vectors), factors: e.factors && { rot: e.factors.rot, blocks: cmatOwn(e.factors.blocks) } };
-      fieldEigenCache.set(key, e);
+      const values = zeroedF64(z.values.length);
+      for (let i = 0; i < values.length; i++) values[i] = 2 * Math.PI * z.values[i];
+      e = { values, vectors: z.vectors, factors: z.factors };
+      ctx.fieldEigen.set(key, e);
     }
     return e;
   }
@@ -892,7 +893,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     const chi = new CharCache(dist);
     const ctx: WalkCtx = {
       sys: system, fraction, dist, chi, line, byId, leaves, lost, warnings, positions, opts,
-      counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(), seen: new Set(),
+      counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(), seen: new Set(), fieldEigen: new Map(),
       hAmbient: system.hamiltonian(line.ambient), ambientZero: false,
     };
     ctx.ambientZero = ctx.hAmbient.re.every((x) => x === 0) && ctx.hAmbient.im.every((x) => x === 0);

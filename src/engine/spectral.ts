@@ -231,30 +231,30 @@ function sandwich(y: CMat, x: CMat): CMat {
   }
   if (!diagonal) return cmatMul(cmatMul(y, x), cmatDagger(y));
   const out = cmatZeros(d, d);
-  const yr = y.re, yi = y.im, or = out.re, oi = out.im;
+  const yr = y.re, yi = y.im, or = out.re, oi = out.im, xr = x.re, xi = x.im;
   let real = true;
-  for (let k = 0; k < r; k++) if (x.im[k * r + k] !== 0) real = false;
-  for (let k = 0; k < r; k++) {
-    const xr = x.re[k * r + k], xi = x.im[k * r + k];
-    if (xr === 0 && xi === 0) continue;
-    for (let i = 0; i < d; i++) {
-      // (x_k y_ik) conj(y_jk); with every x_k real the sum is Hermitian: j ≥ i, mirrored below
-      const pr = xr * yr[i * r + k] - xi * yi[i * r + k], pi = xr * yi[i * r + k] + xi * yr[i * r + k];
-      for (let j = real ? i : 0; j < d; j++) {
-        const qr = yr[j * r + k], qi = yi[j * r + k];
-        or[i * d + j] += pr * qr + pi * qi;
-        oi[i * d + j] += pi * qr - pr * qi;
+  for (let k = 0; k < r; k++) if (xi[k * r + k] !== 0) real = false;
+  // out_ij = Σ_k x_k y_ik conj(y_jk), summed in registers; with every x_k real it is Hermitian: j ≥ i
+  for (let i = 0; i < d; i++) {
+    const oi0 = i * r;
+    for (let j = real ? i : 0; j < d; j++) {
+      const oj = j * r;
+      let sr = 0, si = 0;
+      for (let k = 0; k < r; k++) {
+        const ar = yr[oi0 + k], ai = yi[oi0 + k], br = yr[oj + k], bi = yi[oj + k];
+        const cr = ar * br + ai * bi, ci = ai * br - ar * bi; // y_ik conj(y_jk)
+        const wr = xr[k * r + k], wi = xi[k * r + k];
+        sr += wr * cr - wi * ci;
+        si += wr * ci + wi * cr;
+      }
+      or[i * d + j] = sr;
+      oi[i * d + j] = si;
+      if (real && j !== i) {
+        or[j * d + i] = sr;
+        oi[j * d + i] = -si;
       }
     }
-  }
-  if (real) {
-    for (let i = 0; i < d; i++) {
-      oi[i * d + i] = 0;
-      for (let j = i + 1; j < d; j++) {
-        or[j * d + i] = or[i * d + j];
-        oi[j * d + i] = -oi[i * d + j];
-      }
-    }
+    if (real) oi[i * d + i] = 0;
   }
   return out;
 }

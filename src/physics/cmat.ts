@@ -42,7 +42,8 @@ export function zeroedF64(n: number): Float64Array {
  * they do not hold on to the shared block they were carved from (and the garbage beside them).
  */
 export function cmatOwn(m: CMat): CMat {
-  return { rows: m.rows, cols: m.cols, re: Float64Array.from(m.re), im: Float64Array.from(m.im) };
+  // slice() copies into a new buffer of exactly this length (Float64Array.from would iterate)
+  return { rows: m.rows, cols: m.cols, re: m.re.slice(), im: m.im.slice() };
 }
 
 /** A copy of `a` as a Float64Array (a view on a shared block when small). */
