@@ -14,42 +14,6 @@
  * model, per speed.
  */
 
-export type Pt = readonly [number, number];
-
-/** Sutherland–Hodgman clip of a convex polygon by c·(p, q) ≤ h. */
-export function clipHalfPlane(poly: readonly Pt[], cp: number, cq: number, h: number): Pt[] {
-  const out: Pt[] = [];
-  const n = poly.length;
-  for (let i = 0; i < n; i++) {
-    const a = poly[i], b = poly[(i + 1) % n];
-    const fa = cp * a[0] + cq * a[1] - h, fb = cp * b[0] + cq * b[1] - h;
-    if (fa <= 0) out.push(a);
-    if ((fa < 0 && fb > 0) || (fa > 0 && fb < 0)) {
-      const t = fa / (fa - fb);
-      out.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])]);
-    }
-  }
-  return out;
-}
-
-/** Area and the moments ∫p, ∫q, ∫p², ∫pq, ∫q² of a polygon (counter-clockwise). */
-export function polygonMoments(poly: readonly Pt[]): { a: number; p: number; q: number; pp: number; pq: number; qq: number } {
-  let a = 0, p = 0, q = 0, pp = 0, pq = 0, qq = 0;
-  const n = poly.length;
-  for (let i = 0; i < n; i++) {
-    const [x0, y0] = poly[i];
-    const [x1, y1] = poly[(i + 1) % n];
-    const c = x0 * y1 - x1 * y0;
-    a += c;
-    p += (x0 + x1) * c;
-    q += (y0 + y1) * c;
-    pp += (x0 * x0 + x0 * x1 + x1 * x1) * c;
-    qq += (y0 * y0 + y0 * y1 + y1 * y1) * c;
-    pq += (x0 * y1 + 2 * x0 * y0 + 2 * x1 * y1 + x1 * y0) * c;
-  }
-  return { a: a / 2, p: p / 6, q: q / 6, pp: pp / 12, pq: pq / 24, qq: qq / 12 };
-}
-
 /** One transverse axis of the collimator: source interval [p0, p1] at y = 0, slit [q0, q1] at ys. */
 export interface Collimator1D {
   readonly p0: number;
@@ -73,7 +37,7 @@ const MIN_WIDTH = 1e-9;
 /**
  * A polygon in flat form: vertex i at (buf[2i], buf[2i + 1]), counter-clockwise; the clipping, area,
  * moment and CDF functions below work on it without allocating and give the same numbers, operation
- * for operation, as their Pt[] counterparts above.
+ * for operation, as the array-of-points reference versions in test/engine/geometry.test.ts.
  */
 export type FlatPoly = Float64Array;
 
@@ -109,7 +73,7 @@ export function clipFlat(src: Float64Array, so: number, n: number, cp: number, c
   return m - dOff;
 }
 
-/** Area of the flat polygon buf[2·o …] (n vertices), the shoelace sum as in polygonMoments. */
+/** Area of the flat polygon buf[2·o …] (n vertices), the shoelace sum. */
 export function areaFlat(buf: Float64Array, o: number, n: number): number {
   let a = 0;
   for (let i = 0; i < n; i++) {
@@ -119,7 +83,7 @@ export function areaFlat(buf: Float64Array, o: number, n: number): number {
   return a / 2;
 }
 
-/** Area and the moments ∫p, ∫q, ∫p², ∫pq, ∫q² of a flat polygon into out[0..5] (as polygonMoments). */
+/** Area and the moments ∫p, ∫q, ∫p², ∫pq, ∫q² of a flat polygon (counter-clockwise) into out[0..5]. */
 export function momentsFlat(buf: Float64Array, o: number, n: number, out: Float64Array): void {
   let a = 0, p = 0, q = 0, pp = 0, pq = 0, qq = 0;
   for (let i = 0; i < n; i++) {

@@ -17,7 +17,7 @@
  */
 import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, zeroedF64, copyF64, cmatOwn } from '../physics/cmat.ts';
 import { charFunction, type VelocityDistribution } from '../physics/velocity.ts';
-import { reduceAngle, expNegI } from '../physics/trig.ts';
+import { expNegI } from '../physics/trig.ts';
 import { tableKernel } from '../physics/kernels.ts';
 
 export interface SpecTerm {
@@ -599,11 +599,7 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
           const xr = t.X.re[i], xi = t.X.im[i];
           if (xr === 0 && xi === 0) continue;
           const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
-          if (Math.abs(f) > phiMax) continue;
-          const ph = reduceAngle(f / v);
-          const c = Math.cos(ph), s = -Math.sin(ph);
-          mre[o + p] += xr * c - xi * s;
-          mim[o + p] += xr * s + xi * c;
+          if (Math.abs(f) <= phiMax) addPhased(mre, mim, o + p, xr, xi, f / v);
         }
       }
     }
@@ -636,6 +632,15 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
   return out;
 }
 
+const cosOut = new Float64Array(1), sinOut = new Float64Array(1);
+/** re[o] + i·im[o] += (xr + i·xi) e^{−i·phase}. */
+function addPhased(re: Float64Array, im: Float64Array, o: number, xr: number, xi: number, phase: number): void {
+  expNegI(phase, cosOut, sinOut, 0);
+  const c = cosOut[0], s = sinOut[0]; // cos φ, −sin φ
+  re[o] += xr * c - xi * s;
+  im[o] += xr * s + xi * c;
+}
+
 /** Σ_t X_t ∘ e^{−i(φ_t + Ω)/v} (the state at speed v in its basis W), terms with |φ + Ω_ab| > phiMax left out. */
 function phasedBasis(st: SpecState, v: number, phiMax: number): CMat {
   const r = st.W.cols;
@@ -646,11 +651,7 @@ function phasedBasis(st: SpecState, v: number, phiMax: number): CMat {
       const xr = t.X.re[i], xi = t.X.im[i];
       if (xr === 0 && xi === 0) continue;
       const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
-      if (Math.abs(f) > phiMax) continue;
-      const ph = reduceAngle(f / v);
-      const c = Math.cos(ph), s = -Math.sin(ph);
-      acc.re[i] += xr * c - xi * s;
-      acc.im[i] += xr * s + xi * c;
+      if (Math.abs(f) <= phiMax) addPhased(acc.re, acc.im, i, xr, xi, f / v);
     }
   }
   return acc;

@@ -1,9 +1,48 @@
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
 import {
-  transmit, fractionBelow, fractionInside, polygonCdf, cdfAt, clipHalfPlane, polygonMoments, clipFlat, areaFlat,
-  fractionInsideFlat, projectionRange, type Collimator1D, type Pt,
+  transmit, fractionBelow, fractionInside, polygonCdf, cdfAt, clipFlat, areaFlat,
+  fractionInsideFlat, projectionRange, type Collimator1D,
 } from '../../src/engine/geometry.ts';
+
+// The array-of-points form of the polygon operations: a plain reference the engine's flat,
+// buffer-reusing versions are checked against, operation for operation.
+type Pt = readonly [number, number];
+
+/** Sutherland–Hodgman clip of a convex polygon by c·(p, q) ≤ h. */
+function clipHalfPlane(poly: readonly Pt[], cp: number, cq: number, h: number): Pt[] {
+  const out: Pt[] = [];
+  const n = poly.length;
+  for (let i = 0; i < n; i++) {
+    const a = poly[i], b = poly[(i + 1) % n];
+    const fa = cp * a[0] + cq * a[1] - h, fb = cp * b[0] + cq * b[1] - h;
+    if (fa <= 0) out.push(a);
+    if ((fa < 0 && fb > 0) || (fa > 0 && fb < 0)) {
+      const t = fa / (fa - fb);
+      out.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])]);
+    }
+  }
+  return out;
+}
+
+/** Area and the moments ∫p, ∫q, ∫p², ∫pq, ∫q² of a polygon (counter-clockwise). */
+function polygonMoments(poly: readonly Pt[]): { a: number; p: number; q: number; pp: number; pq: number; qq: number } {
+  let a = 0, p = 0, q = 0, pp = 0, pq = 0, qq = 0;
+  const n = poly.length;
+  for (let i = 0; i < n; i++) {
+    const [x0, y0] = poly[i];
+    const [x1, y1] = poly[(i + 1) % n];
+    const c = x0 * y1 - x1 * y0;
+    a += c;
+    p += (x0 + x1) * c;
+    q += (y0 + y1) * c;
+    pp += (x0 * x0 + x0 * x1 + x1 * x1) * c;
+    qq += (y0 * y0 + y0 * y1 + y1 * y1) * c;
+    pq += (x0 * y1 + 2 * x0 * y0 + 2 * x1 * y1 + x1 * y0) * c;
+  }
+  return { a: a / 2, p: p / 6, q: q / 6, pp: pp / 12, pq: pq / 24, qq: qq / 12 };
+}
+
 
 describe('transmit', () => {
   it('gives the trapezoid of umbra and penumbra: mean and variance of the sum of two uniforms (standard collimator geometry)', () => {
