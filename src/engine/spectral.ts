@@ -168,15 +168,15 @@ function snapDegenerate(lambda: ArrayLike<number>): Float64Array {
 export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>, length: number, factors?: PropagatorFactors): SpecState {
   const d = v.rows;
   const snapped = snapDegenerate(lambda);
-  const vd = cmatDagger(v);
   let lab: SpecTerm[], xs: CMat[];
   if (st.mu === null) {
     // every term is already lab-frame Σ_t W X_t W† e^{−iφ_t s}: in the new basis Y X_t Y†, Y = V†W;
     // with V = R·B (B sparse), Y = B†(R†W), and R†W is kept with W (a scan over a field's size)
-    const y = factors ? cmatMul(cmatDagger(factors.blocks), factors.rot ? rotatedBasis(factors.rot, st.W) : st.W) : cmatMul(vd, st.W);
+    const y = factors ? cmatMul(cmatDagger(factors.blocks), factors.rot ? rotatedBasis(factors.rot, st.W) : st.W) : cmatMul(cmatDagger(v), st.W);
     lab = st.terms.slice();
     xs = lab.map((t) => sandwich(y, t.X));
   } else {
+    const vd = cmatDagger(v);
     lab = specExpand(st);
     xs = lab.map((t) => cmatMul(cmatMul(vd, t.X), v));
   }
@@ -185,9 +185,10 @@ export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>,
   for (const x of xs) {
     let big = 0, off = 0;
     for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) {
-      const m = Math.abs(x.re[a * d + b]) + Math.abs(x.im[a * d + b]);
-      big = Math.max(big, m);
-      if (snapped[a] !== snapped[b]) off = Math.max(off, m);
+      const re = x.re[a * d + b], im = x.im[a * d + b];
+      const m = (re < 0 ? -re : re) + (im < 0 ? -im : im);
+      if (m > big) big = m;
+      if (m > off && snapped[a] !== snapped[b]) off = m;
     }
     if (off > 1e-14 * big) {
       commutes = false;
@@ -195,7 +196,8 @@ export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>,
     }
   }
   if (commutes) return st.mu === null ? st : state(cmatIdentity(d), null, lab);
-  const mu = snapped.map((l) => l * length);
+  const mu = zeroedF64(d);
+  for (let a = 0; a < d; a++) mu[a] = snapped[a] * length;
   return state(v, mu, lab.map((t, i) => ({ phi: t.phi, X: xs[i] })));
 }
 
