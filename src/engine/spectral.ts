@@ -566,8 +566,15 @@ function isPositive(a: CMat, delta: number): boolean {
 /** Tr⟨ρ⟩ = Σ_ab (W†W)_ba A_ab without forming ⟨ρ⟩. */
 export function specAverageTrace(st: SpecState, chi: CharCache): { value: number; error: number; hermiticity: number; positive: boolean } {
   const av = specAverageBasis(st, chi);
-  return { value: traceWAW(st.W, av.A), error: av.error, hermiticity: av.hermiticity, positive: av.positive };
+  // W and the shared A of a state never change: its trace is computed once (a scan's unchanged prefix)
+  let value = traces.get(st);
+  if (value === undefined) {
+    value = traceWAW(st.W, av.A);
+    traces.set(st, value);
+  }
+  return { value, error: av.error, hermiticity: av.hermiticity, positive: av.positive };
 }
+const traces = new WeakMap<SpecState, number>();
 
 /**
  * Tr ρ(s) on a set of speeds, keeping only terms whose phase-length is below `phiMax` (faster terms
