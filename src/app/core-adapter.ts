@@ -18,12 +18,13 @@ import {
 } from '../beamline/index.ts';
 import { runLine, type RunResult } from '../engine/index.ts';
 import { buildSheet, sheetHtml } from '../sheet/index.ts';
+export { durationIn } from '../sheet/index.ts';
 import { lookupSpecies, speciesNames } from '../species/index.ts';
 import type { BeamlineDoc, Beamline, ElementKind, Problem } from '../beamline/types.ts';
-import type { RunResultView } from './results.ts';
 
 export type { BeamlineDoc, Beamline, Element, ElementDoc, ElementKind, Problem, ParseResult } from '../beamline/types.ts';
 export type { Dimension } from '../beamline/units.ts';
+export type { RunResult, LeafResult, DetectorResult } from '../engine/index.ts';
 import type { Dimension } from '../beamline/units.ts';
 
 export type ParsedDoc = { ok: true; doc: BeamlineDoc; line: Beamline; warnings: Problem[] } | { ok: false; problems: Problem[] };
@@ -138,8 +139,8 @@ export function librarySpeciesNames(): string[] {
 }
 
 /** Runs the engine on a normalized line (result format v1). */
-export function runEngine(line: Beamline, opts?: { onProgress?: (f: number) => void; isCancelled?: () => boolean }): RunResultView {
-  return runLine(line, opts) as unknown as RunResultView;
+export function runEngine(line: Beamline, opts?: { onProgress?: (f: number) => void; isCancelled?: () => boolean }): RunResult {
+  return runLine(line, opts);
 }
 
 /**

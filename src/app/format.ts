@@ -1,5 +1,7 @@
 // Number formatting for the UI: significant figures, SI lengths, times.
 
+import { durationIn } from './core-adapter.ts';
+
 /** n to `sig` significant figures; exponent form outside 1e-3 … 1e6. */
 export function fmt(n: number | undefined, sig = 4): string {
   if (n === undefined || Number.isNaN(n)) return '—';
@@ -24,10 +26,5 @@ export function fmtLength(m: number): string {
 export function fmtTime(s: number | undefined): string {
   if (s === undefined || Number.isNaN(s)) return '—';
   if (!Number.isFinite(s)) return '∞';
-  if (s < 1e-3) return `${fmt(s * 1e6, 3)} µs`;
-  if (s < 1) return `${fmt(s * 1e3, 3)} ms`;
-  if (s < 120) return `${fmt(s, 3)} s`;
-  if (s < 7200) return `${fmt(s / 60, 3)} min`;
-  if (s < 172800) return `${fmt(s / 3600, 3)} h`;
-  return `${fmt(s / 86400, 3)} d`;
+  return durationIn(s, fmt);
 }

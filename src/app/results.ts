@@ -1,46 +1,10 @@
 // The renderer's reading of result format v1 (design.md, "Result format v1"): the ports table rows,
 // counting times and the CSV export. Pure functions of a result and the normalized line.
 
-/** One leaf of result format v1 (fields beyond v1's minimum are optional: the engine adds them where
- *  the line has geometry). Lengths in m. */
-export interface LeafResult {
-  path: string[];
-  target: string;
-  yield: number;
-  rate: number;
-  displacement?: { x: number; z: number };
-  spread?: { x: number; z: number };
-  captured?: number;
-  /** Bin centres along `axis` (m) and flux density per metre; the engine names the centres `positions`. */
-  profile?: { positions?: number[]; x?: number[]; density: number[]; axis: 'x' | 'z' };
-  plane?: number;
-}
+import type { RunResult } from './core-adapter.ts';
 
-export interface DetectorResult {
-  id: string;
-  yield: number;
-  rate: number;
-  counts: number;
-  sigma: number;
-  background?: number;
-  /** Signal rate without background (counts/s). */
-  signal?: number;
-  dwell?: number;
-  crosstalk?: { path: string[]; target: string; fraction: number; rate: number }[];
-  neighbours?: { a: string; b: string; separation: number; overlap: number; verdict: string; axis: 'x' | 'z' }[];
-  signalToBackground?: number;
-}
-
-export interface RunResultView {
-  format?: string;
-  version?: number;
-  leaves: LeafResult[];
-  detectors: DetectorResult[];
-  lost: number;
-  warnings: string[];
-  quadrature?: { nodes: number; error: number; method?: string };
-  velocity?: { speeds: number[]; density: number[]; kind?: string };
-}
+/** The engine's result (result format v1 with its additions), read through the core adapter. */
+export type RunResultView = RunResult;
 
 /**
  * Counting time to relative precision ε for a Poisson count N = R·t: σ_N/N = 1/√N = ε gives
@@ -58,11 +22,6 @@ export function timeToPrecision(rate: number, eps: number): number {
 export function signalTimeToPrecision(signal: number, background: number, eps: number): number {
   if (!(signal > 0) || !(eps > 0)) return Infinity;
   return (signal + Math.max(background, 0)) / (signal * signal * eps * eps);
-}
-
-/** The profile's bin centres (m), whichever name the result uses. */
-export function profilePositions(p: { positions?: number[]; x?: number[] }): number[] {
-  return p.positions ?? p.x ?? [];
 }
 
 /** The dwell time (s) of each detector of the line, by id. */

@@ -1,5 +1,6 @@
 /** Text form of a run for the terminal: aligned tables of leaves and detectors, then the notes of the run. */
 import type { DetectorResult, LeafResult, RunResult } from '../engine/index.ts';
+import { durationIn } from '../sheet/index.ts';
 
 /** A number to `sig` significant digits, trailing zeros dropped, exponent form outside [1e-4, 1e6). */
 export function formatNumber(x: number, sig = 6): string {
@@ -14,13 +15,7 @@ export function formatNumber(x: number, sig = 6): string {
 /** A duration in the unit a person would read it in (µs … days); "never" when it does not end. */
 export function formatDuration(seconds: number): string {
   if (!Number.isFinite(seconds) || seconds >= 1e300) return 'never';
-  const s = seconds;
-  if (s < 1e-3) return `${formatNumber(s * 1e6, 3)} µs`;
-  if (s < 1) return `${formatNumber(s * 1e3, 3)} ms`;
-  if (s < 120) return `${formatNumber(s, 3)} s`;
-  if (s < 7200) return `${formatNumber(s / 60, 3)} min`;
-  if (s < 172800) return `${formatNumber(s / 3600, 3)} h`;
-  return `${formatNumber(s / 86400, 3)} d`;
+  return durationIn(seconds, formatNumber);
 }
 
 /** Rows as aligned columns: `right[c]` right-aligns column c (numbers), the rest are left-aligned. */

@@ -41,6 +41,11 @@ interface SharedAverages {
   nodes?: { speeds: ArrayLike<number>; phiMax: number; pairs: Int32Array; mre: Float64Array; mim: Float64Array };
 }
 
+/** The phase-length φ_t + Ω_ab (rad·m/s) of entry (a, b) of term t: its phase at speed v is that over v. */
+function phaseLength(st: SpecState, t: SpecTerm, a: number, b: number): number {
+  return t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+}
+
 function state(W: CMat, mu: Float64Array | null, terms: readonly SpecTerm[]): SpecState {
   return { W, mu, terms, shared: {} };
 }
@@ -289,7 +294,7 @@ export function specProjectDiag(st: SpecState, vecs: readonly CMat[]): SpecState
       const i = a * r + b;
       const xr = t.X.re[i], xi = t.X.im[i];
       if (Math.abs(xr) + Math.abs(xi) <= cut) continue;
-      const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+      const f = phaseLength(st, t, a, b);
       let slot = acc.get(f);
       if (!slot) {
         slot = { re: zeroedF64(K), im: zeroedF64(K) };
@@ -374,7 +379,7 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
         const j = b * r + a;
         const yr = sym ? t.X.re[j] : 0, yi = sym ? t.X.im[j] : 0;
         if (xr === 0 && xi === 0 && yr === 0 && yi === 0) continue;
-        const [cr, ci, ce] = chi.get(t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0));
+        const [cr, ci, ce] = chi.get(phaseLength(st, t, a, b));
         A.re[i] += xr * cr - xi * ci;
         A.im[i] += xr * ci + xi * cr;
         error += Math.hypot(xr, xi) * ce;
@@ -585,32 +590,32 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
   const r = st.W.cols, d = st.W.rows;
   let hit = st.shared.nodes;
   if (!hit || hit.speeds !== speeds || hit.phiMax !== phiMax) {
-    // the entries (a, b) some term reaches with |φ + Ω_ab| ≤ phiMax: the others are 0 at every speed
-    const active = new Uint8Array(r * r);
+    // the contributions (term, entry (a, b)) with |φ + Ω_ab| ≤ phiMax, found once: the other entries
+    // are 0 at every speed
+    const slotOf = new Map<number, number>();
+    const pairs: number[] = [];
+    const cSlot: number[] = [], cRe: number[] = [], cIm: number[] = [], cF: number[] = [];
     for (const t of st.terms) {
       for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
         const i = a * r + b;
-        if (t.X.re[i] === 0 && t.X.im[i] === 0) continue;
-        const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+        const xr = t.X.re[i], xi = t.X.im[i];
+        if (xr === 0 && xi === 0) continue;
+        const f = phaseLength(st, t, a, b);
         if (Math.abs(f) > phiMax) continue;
-        active[i] = 1;
+        let slot = slotOf.get(i);
+        if (slot === undefined) {
+          slot = pairs.length;
+          slotOf.set(i, slot);
+          pairs.push(i);
+        }
+        cSlot.push(slot); cRe.push(xr); cIm.push(xi); cF.push(f);
       }
     }
-    const pairs: number[] = [];
-    for (let i = 0; i < r * r; i++) if (active[i]) pairs.push(i);
     const np = pairs.length, ns = speeds.length;
     const mre = new Float64Array(ns * np), mim = new Float64Array(ns * np);
     for (let k = 0; k < ns; k++) {
       const v = speeds[k], o = k * np;
-      for (const t of st.terms) {
-        for (let p = 0; p < np; p++) {
-          const i = pairs[p], a = (i / r) | 0, b = i - a * r;
-          const xr = t.X.re[i], xi = t.X.im[i];
-          if (xr === 0 && xi === 0) continue;
-          const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
-          if (Math.abs(f) <= phiMax) addPhased(mre, mim, o + p, xr, xi, f / v);
-        }
-      }
+      for (let c = 0; c < cSlot.length; c++) addPhased(mre, mim, o + cSlot[c], cRe[c], cIm[c], cF[c] / v);
     }
     hit = { speeds, phiMax, pairs: Int32Array.from(pairs), mre, mim };
     st.shared.nodes = hit;
@@ -659,7 +664,7 @@ function phasedBasis(st: SpecState, v: number, phiMax: number): CMat {
       const i = a * r + b;
       const xr = t.X.re[i], xi = t.X.im[i];
       if (xr === 0 && xi === 0) continue;
-      const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+      const f = phaseLength(st, t, a, b);
       if (Math.abs(f) <= phiMax) addPhased(acc.re, acc.im, i, xr, xi, f / v);
     }
   }
@@ -685,7 +690,7 @@ export function specTraceMoment(st: SpecState, dist: VelocityDistribution, n: nu
         const i = a * r + b;
         const xr = t.X.re[i], xi = t.X.im[i];
         if (xr === 0 && xi === 0) continue;
-        const f = t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0);
+        const f = phaseLength(st, t, a, b);
         const key = Math.abs(f);
         let c = cache.get(key);
         if (!c) {
@@ -740,7 +745,7 @@ export function specPhaseWeights(st: SpecState): { phi: number; weight: number }
       const i = a * r + b;
       const w = Math.hypot(t.X.re[i], t.X.im[i]) * Math.hypot(g.re[b * r + a], g.im[b * r + a]);
       if (w < 1e-12) continue;
-      const f = Math.abs(t.phi + (st.mu ? st.mu[a] - st.mu[b] : 0));
+      const f = Math.abs(phaseLength(st, t, a, b));
       if (f > 0) out.push({ phi: f, weight: w });
     }
   }

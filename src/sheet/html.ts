@@ -28,14 +28,22 @@ export function sheetNumber(x: number | undefined, sig = 4): string {
 /** Millimetres on the detector plane; below 1e-9 mm (rounding noise of a centred beam) as 0. */
 const mm = (v: number | undefined) => (v === undefined ? '–' : sheetNumber(Math.abs(v) < 1e-9 ? 0 : v, 3));
 
+/**
+ * A finite duration (s) in the unit a person reads it in (µs, ms, s, min, h, d), its number written by
+ * `num` to 3 significant digits; shared by the sheet, the CLI and the app, each with its own numbers.
+ */
+export function durationIn(seconds: number, num: (x: number, sig: number) => string): string {
+  if (seconds < 1e-3) return `${num(seconds * 1e6, 3)} µs`;
+  if (seconds < 1) return `${num(seconds * 1e3, 3)} ms`;
+  if (seconds < 120) return `${num(seconds, 3)} s`;
+  if (seconds < 7200) return `${num(seconds / 60, 3)} min`;
+  if (seconds < 172800) return `${num(seconds / 3600, 3)} h`;
+  return `${num(seconds / 86400, 3)} d`;
+}
+
 function duration(seconds: number): string {
   if (!Number.isFinite(seconds) || seconds >= 1e300) return 'never';
-  if (seconds < 1e-3) return `${sheetNumber(seconds * 1e6, 3)} µs`;
-  if (seconds < 1) return `${sheetNumber(seconds * 1e3, 3)} ms`;
-  if (seconds < 120) return `${sheetNumber(seconds, 3)} s`;
-  if (seconds < 7200) return `${sheetNumber(seconds / 60, 3)} min`;
-  if (seconds < 172800) return `${sheetNumber(seconds / 3600, 3)} h`;
-  return `${sheetNumber(seconds / 86400, 3)} d`;
+  return durationIn(seconds, sheetNumber);
 }
 
 // ------------------------------------------------------------------ side view (SVG, mm units)

@@ -27,7 +27,10 @@ function fakeWorkers() {
   return { made, make };
 }
 
-const result = (y: number) => ({ leaves: [{ path: [], target: 'D1', yield: y, rate: y }], detectors: [], lost: 1 - y, warnings: [] });
+const result = (y: number) => ({
+  format: 'spinyard.result' as const, version: 1 as const, flux: 1, invariants: { balance: 0, maxHermiticity: 0, positive: true },
+  leaves: [{ path: [], target: 'D1', yield: y, rate: y }], detectors: [], lost: 1 - y, warnings: [],
+});
 
 afterEach(() => vi.useRealTimers());
 

@@ -2,15 +2,21 @@ import { describe, it, expect } from 'vitest';
 import { csvField, dwellById, portRows, portRowsCsv, signalTimeToPrecision, timeToPrecision, toCsv, warningsByElement, type RunResultView } from '../../src/app/results.ts';
 
 // A hand-made result in result format v1 (design.md), not an engine run: the table logic is under test.
+// A detector with 3 /s background and a 10 s dwell.
+const detector = (id: string, y: number, signal: number) => ({
+  id, yield: y, rate: signal + 3, counts: (signal + 3) * 10, sigma: Math.sqrt((signal + 3) * 10),
+  signal, background: 3, dwell: 10, signalToBackground: signal / 3, timeToPrecision: { epsilon: 0.01, seconds: (signal + 3) / (signal * signal * 1e-4) },
+});
 const result: RunResultView = {
+  format: 'spinyard.result', version: 1, flux: 1.8e9, invariants: { balance: 0, maxHermiticity: 0, positive: true },
   leaves: [
     { path: ['M1:+1/2', 'M2:+1/2'], target: 'D1', yield: 0.375, rate: 6.75e8 },
     { path: ['M1:+1/2', 'M2:-1/2'], target: 'D2', yield: 0.125, rate: 2.25e8 },
     { path: ['M1:-1/2'], target: 'stop', yield: 0.5, rate: 0 },
   ],
   detectors: [
-    { id: 'D1', yield: 0.375, rate: 6.75e8 + 3, counts: (6.75e8 + 3) * 10, sigma: Math.sqrt((6.75e8 + 3) * 10) },
-    { id: 'D2', yield: 0.125, rate: 2.25e8 + 3, counts: (2.25e8 + 3) * 10, sigma: Math.sqrt((2.25e8 + 3) * 10) },
+    detector('D1', 0.375, 6.75e8),
+    detector('D2', 0.125, 2.25e8),
   ],
   lost: 0,
   warnings: ['elements[1].axis: an axis along the beam is an idealisation', 'oven.velocity: one speed'],

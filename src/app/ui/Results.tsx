@@ -1,7 +1,7 @@
 // Results, live: the ports table, detectors, warnings and the plots of the latest engine run.
 import { useId, useMemo } from 'react';
 import type { Beamline } from '../core-adapter.ts';
-import { dwellById, portRows, profilePositions, signalTimeToPrecision, type RunResultView } from '../results.ts';
+import { dwellById, portRows, signalTimeToPrecision, type RunResultView } from '../results.ts';
 import { fmt, fmtTime } from '../format.ts';
 import { Plot } from './Plot.tsx';
 import { LEAF_COLORS } from './Schematic.tsx';
@@ -80,7 +80,7 @@ export function Results(p: Props) {
       for (const { l, i } of withGeo) {
         const color = LEAF_COLORS[i % LEAF_COLORS.length];
         const name = l.path.join(' → ');
-        const pos = l.profile ? profilePositions(l.profile) : [];
+        const pos = l.profile ? l.profile.positions : [];
         if (l.profile && pos.length > 0) {
           profileAxis = l.profile.axis;
           profiles.push({
@@ -208,8 +208,8 @@ export function Results(p: Props) {
                 <tr key={d.id}>
                   <td>{d.id}</td><td className="num">{fmt(d.yield, 6)}</td><td className="num">{fmt(d.rate)}</td>
                   <td className="num">{fmt(d.counts)} ± {fmt(d.sigma, 3)}</td><td className="num">{fmt(d.background)}</td>
-                  <td className="num">{d.background === 0 && (d.signal ?? 0) > 0 ? '∞ (no background)' : fmt(d.signalToBackground, 3)}</td>
-                  <td className="num">{d.signal !== undefined && eps !== undefined ? fmtTime(signalTimeToPrecision(d.signal, d.background ?? 0, eps)) : '—'}</td>
+                  <td className="num">{d.background === 0 && d.signal > 0 ? '∞ (no background)' : fmt(d.signalToBackground, 3)}</td>
+                  <td className="num">{eps !== undefined ? fmtTime(signalTimeToPrecision(d.signal, d.background, eps)) : '—'}</td>
                 </tr>
               ))}
             </tbody>
