@@ -254,8 +254,8 @@ function selectStates(st: State, comps: readonly Component[], leafNext = false):
   // kept with the incoming state: a scan or a repeated run whose lines share a prefix (the same state
   // objects) sorts it once, and the shared averages of the outgoing state are computed once too
   const key = comps.length === 1 ? comps[0] : comps;
-  let memo = selections.get(st);
-  if (!memo) selections.set(st, (memo = [new Map(), new Map()]));
+  const m = (st.memo ??= {});
+  const memo = (m.selections ??= [new Map(), new Map()]);
   const byKey = memo[leafNext ? 1 : 0];
   let out = byKey.get(key);
   if (!out) {
@@ -264,7 +264,6 @@ function selectStates(st: State, comps: readonly Component[], leafNext = false):
   }
   return out;
 }
-const selections = new WeakMap<SpecState, [Map<unknown, SpecState>, Map<unknown, SpecState>]>();
 
 function selectNodes(st: NodeState, comps: readonly Component[], leafNext: boolean): NodeState {
   if (comps.length === 1) {
@@ -365,7 +364,7 @@ function averagedTrace(ctx: WalkCtx, st: State): number {
   return isNodes(st) ? nodeTrace(st) : specAverageTrace(st, ctx.chi).value;
 }
 
-type EigenFactors = { values: ArrayLike<number>; vectors: CMat; factors?: PropagatorFactors };
+type EigenFactors = { values: ArrayLike<number>; readonly vectors: CMat; factors?: PropagatorFactors };
 const eigenCache = new WeakMap<CMat, EigenFactors>();
 /** H/ħ = V Λ V†: a field Hamiltonian through the m_F blocks (hyperfine.ts zeemanEigen), else eigh. */
 function eigenOf(ctx: WalkCtx, h: CMat | null, field?: Vec3): EigenFactors {
@@ -378,7 +377,8 @@ function eigenOf(ctx: WalkCtx, h: CMat | null, field?: Vec3): EigenFactors {
       const z = zeemanEigen(ctx.sys.params, b, b > 0 ? field : { x: 0, y: 0, z: 1 });
       const values = zeroedF64(z.values.length);
       for (let i = 0; i < values.length; i++) values[i] = 2 * Math.PI * z.values[i];
-      e = { values, vectors: z.vectors, factors: z.factors };
+      // the dense eigenvectors are formed only where a path needs them (specPropagate keeps the factors)
+      e = { values, get vectors(): CMat { return z.vectors; }, factors: z.factors };
       ctx.fieldEigen.set(key, e);
     }
     return e;
@@ -413,7 +413,7 @@ function applyLinear(ctx: WalkCtx, st: State, h: CMat | null, length: number, fi
       return [Math.cos(ph), -Math.sin(ph)];
     }), rho));
   }
-  return specPropagate(st, e.vectors, e.values, length, e.factors);
+  return specPropagate(st, () => e.vectors, e.values, length, e.factors);
 }
 
 function applyKraus(st: State, k: CMat): State {

@@ -19,6 +19,7 @@ import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, zero
 import { charFunction, type VelocityDistribution } from '../physics/velocity.ts';
 import { expNegI } from '../physics/trig.ts';
 import { tableKernel } from '../physics/kernels.ts';
+import type { ColumnSupport } from '../physics/hyperfine.ts';
 
 export interface SpecTerm {
   readonly phi: number;
@@ -26,13 +27,26 @@ export interface SpecTerm {
 }
 
 export interface SpecState {
-  /** d×r basis. */
+  /** d×r basis (formed on first use where the state keeps it as factors). */
   readonly W: CMat;
+  /** W = left · blocks with blocks sparse by columns, where the basis came from a field's m_F blocks. */
+  readonly fac?: BasisFactors;
   /** μ_a (rad·m/s) of the basis columns, Ω_ab = μ_a − μ_b; null when all phases are in φ. */
   readonly mu: Float64Array | null;
   readonly terms: readonly SpecTerm[];
   /** Averages of the terms, shared by every state that differs only by Kraus operators (filled lazily). */
   readonly shared: SharedAverages;
+  /**
+   * Values kept with this state object (its trace, the engine's port selections of it), as fields rather
+   * than in WeakMaps: a scan makes a new state per point, and weak tables of them slow every collection.
+   */
+  memo?: StateMemo;
+}
+
+export interface StateMemo {
+  trace?: number;
+  /** run.ts: the states its ports select from this one (kept and leaf-next forms). */
+  selections?: [Map<unknown, SpecState>, Map<unknown, SpecState>];
 }
 
 interface SharedAverages {
@@ -47,7 +61,78 @@ function phaseLength(st: SpecState, t: SpecTerm, a: number, b: number): number {
 }
 
 function state(W: CMat, mu: Float64Array | null, terms: readonly SpecTerm[]): SpecState {
-  return { W, mu, terms, shared: {} };
+  return { W, mu, terms, shared: {}, memo: {} };
+}
+
+/**
+ * The basis of a state propagated through a field: W = left · blocks, blocks the block-diagonal
+ * eigenvectors of the field's m_F blocks (a few non-zero rows per column), left the rotation to the
+ * field's axis and the Kraus operators applied since (left = undefined: the identity). A scan over the
+ * field's size keeps left fixed, so everything built from left alone is cached with it.
+ */
+export interface BasisFactors {
+  readonly left: CMat | undefined;
+  readonly blocks: CMat;
+  readonly support: ColumnSupport;
+}
+
+function factoredState(fac: BasisFactors, mu: Float64Array | null, terms: readonly SpecTerm[], shared: SharedAverages = {}): SpecState {
+  let w: CMat | undefined;
+  return {
+    get W(): CMat {
+      return (w ??= fac.left ? leftTimesBlocks(fac) : fac.blocks);
+    },
+    fac, mu, terms, shared, memo: {},
+  };
+}
+
+/** The number of basis columns (without forming a factored basis). */
+function basisCols(st: SpecState): number {
+  return st.fac ? st.fac.blocks.cols : st.W.cols;
+}
+
+/** left · blocks over the non-zero rows of each column. */
+function leftTimesBlocks(fac: BasisFactors): CMat {
+  const l = fac.left!, b = fac.blocks, { start, rows } = fac.support;
+  const d = l.rows, dm = l.cols, r = b.cols;
+  const out = cmatZeros(d, r);
+  for (let c = 0; c < r; c++) for (let q = start[c]; q < start[c + 1]; q++) {
+    const p = rows[q];
+    const xr = b.re[p * r + c], xi = b.im[p * r + c];
+    if (xr === 0 && xi === 0) continue;
+    for (let i = 0; i < d; i++) {
+      const ar = l.re[i * dm + p], ai = l.im[i * dm + p];
+      out.re[i * r + c] += ar * xr - ai * xi;
+      out.im[i * r + c] += ar * xi + ai * xr;
+    }
+  }
+  return out;
+}
+
+const leftProducts = new WeakMap<CMat, Map<CMat | undefined, CMat>>();
+/** k · left, kept per (k, left) object pair (a port's projector and a field's axis rotation). */
+function kTimesLeft(k: CMat, left: CMat | undefined): CMat {
+  if (!left) return k;
+  let byLeft = leftProducts.get(k);
+  if (!byLeft) leftProducts.set(k, (byLeft = new Map()));
+  let out = byLeft.get(left);
+  if (!out) {
+    out = cmatOwn(cmatMul(k, left));
+    if (byLeft.size > 16) byLeft.clear();
+    byLeft.set(left, out);
+  }
+  return out;
+}
+
+const grams = new WeakMap<CMat, CMat>();
+/** left† · left, kept with left. */
+function gramOf(left: CMat): CMat {
+  let g = grams.get(left);
+  if (!g) {
+    g = cmatOwn(cmatMul(cmatDagger(left), left));
+    grams.set(left, g);
+  }
+  return g;
 }
 
 export function specInitial(rho: CMat): SpecState {
@@ -56,7 +141,8 @@ export function specInitial(rho: CMat): SpecState {
 
 /** ρ → K ρ K† for a velocity-independent K. */
 export function specKraus(st: SpecState, k: CMat): SpecState {
-  return { W: cmatMul(k, st.W), mu: st.mu, terms: st.terms, shared: st.shared };
+  if (st.fac) return factoredState({ left: kTimesLeft(k, st.fac.left), blocks: st.fac.blocks, support: st.fac.support }, st.mu, st.terms, st.shared);
+  return { W: cmatMul(k, st.W), mu: st.mu, terms: st.terms, shared: st.shared, memo: {} };
 }
 
 function significance(t: SpecTerm): number {
@@ -170,17 +256,18 @@ function snapDegenerate(lambda: ArrayLike<number>): Float64Array {
  * ρ(s) → U(s) ρ(s) U(s)† with U(s) = V e^{−iΛℓs} V† (H = V Λ V†, Λ in rad/s). The step is skipped when
  * every term commutes with H (then U ρ U† = ρ exactly: e.g. a hyperfine drift of a state diagonal in F).
  */
-export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>, length: number, factors?: PropagatorFactors): SpecState {
-  const d = v.rows;
+export function specPropagate(st: SpecState, vectors: () => CMat, lambda: ArrayLike<number>, length: number, factors?: PropagatorFactors): SpecState {
+  const d = lambda.length;
   const snapped = snapDegenerate(lambda);
   let lab: SpecTerm[], xs: CMat[];
   if (st.mu === null) {
     // every term is already lab-frame Σ_t W X_t W† e^{−iφ_t s}: in the new basis Y X_t Y†, Y = V†W;
-    // with V = R·B (B sparse), Y = B†(R†W), and R†W is kept with W (a scan over a field's size)
-    const y = factors ? cmatMul(cmatDagger(factors.blocks), factors.rot ? rotatedBasis(factors.rot, st.W) : st.W) : cmatMul(cmatDagger(v), st.W);
+    // with V = R·B (B sparse by columns), Y = B†(R†W), and R†W is kept with W (a scan over a field's size)
+    const y = factors ? blocksDaggerTimes(factors, factors.rot ? rotatedBasis(factors.rot, st.W) : st.W) : cmatMul(cmatDagger(vectors()), st.W);
     lab = st.terms.slice();
     xs = lab.map((t) => sandwich(y, t.X));
   } else {
+    const v = vectors();
     const vd = cmatDagger(v);
     lab = specExpand(st);
     xs = lab.map((t) => cmatMul(cmatMul(vd, t.X), v));
@@ -203,13 +290,33 @@ export function specPropagate(st: SpecState, v: CMat, lambda: ArrayLike<number>,
   if (commutes) return st.mu === null ? st : state(cmatIdentity(d), null, lab);
   const mu = zeroedF64(d);
   for (let a = 0; a < d; a++) mu[a] = snapped[a] * length;
-  return state(v, mu, lab.map((t, i) => ({ phi: t.phi, X: xs[i] })));
+  const terms = lab.map((t, i) => ({ phi: t.phi, X: xs[i] }));
+  return factors ? factoredState({ left: factors.rot, blocks: factors.blocks, support: factors.support }, mu, terms) : state(vectors(), mu, terms);
+}
+
+/** B†M over the non-zero rows of each column of B. */
+function blocksDaggerTimes(f: PropagatorFactors, m: CMat): CMat {
+  const b = f.blocks, { start, rows } = f.support;
+  const r = b.cols, dm = m.cols;
+  const out = cmatZeros(r, dm);
+  for (let c = 0; c < r; c++) for (let q = start[c]; q < start[c + 1]; q++) {
+    const p = rows[q];
+    const xr = b.re[p * r + c], xi = -b.im[p * r + c];
+    if (xr === 0 && xi === 0) continue;
+    for (let j = 0; j < dm; j++) {
+      const ar = m.re[p * dm + j], ai = m.im[p * dm + j];
+      out.re[c * dm + j] += xr * ar - xi * ai;
+      out.im[c * dm + j] += xr * ai + xi * ar;
+    }
+  }
+  return out;
 }
 
 /** V = rot · blocks, the factors of an eigenbasis from the m_F blocks (physics/hyperfine.ts zeemanEigen). */
 export interface PropagatorFactors {
   readonly rot: CMat | undefined;
   readonly blocks: CMat;
+  readonly support: ColumnSupport;
 }
 
 const rotated = new WeakMap<CMat, Map<CMat, CMat>>();
@@ -362,7 +469,7 @@ export interface Averaged {
 export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
   const hit = st.shared.avg;
   if (hit) return hit;
-  const r = st.W.cols;
+  const r = basisCols(st);
   const A = cmatZeros(r, r);
   let error = 0;
   const d = chi.dist;
@@ -407,44 +514,24 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
 }
 
 /**
- * A_ab = Σ_k w_k Σ_t X_t,ab e^{−iφ_t s_k} z_a(k) z̄_b(k), z_a(k) = e^{−iμ_a s_k}: the exact finite sum of a
- * table (or one speed), d phase factors per speed instead of d².
+ * A_ab = Σ_k w_k Σ_t X_t,ab e^{−iφ_t s_k} z_a(k) z̄_b(k), z_a(k) = e^{−iμ_a s_k}, s_k = 1/v_k: the exact
+ * finite sum of a table (or one speed), d phase factors per speed instead of d². Returns true when the
+ * WebAssembly kernel did the sums.
  */
-/** Returns true when the WebAssembly kernel did the sums. */
 function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64Array, A: CMat): boolean {
-  const r = st.W.cols;
+  const r = basisCols(st);
   const mu = st.mu!;
-  const n = speeds.length;
   // the WebAssembly kernel (physics/kernels.ts) where it runs, else the same sums in JavaScript
   const kernel = tableKernel();
-  const wasm = kernel !== null && kernel.phases(mu, speeds);
-  const sc = scratch(2 * n * (r + 1));
-  // z_a(k) = e^{−iμ_a s_k} for every speed, computed once, stored by column a (contiguous in k)
-  const zr = sc.subarray(0, n * r), zi = sc.subarray(n * r, 2 * n * r);
-  const er = sc.subarray(2 * n * r, 2 * n * r + n), ei = sc.subarray(2 * n * r + n, 2 * n * (r + 1));
-  if (!wasm) {
-    for (let a = 0; a < r; a++) {
-      const m = mu[a], o = a * n;
-      for (let k = 0; k < n; k++) expNegI(m / speeds[k], zr, zi, o + k);
-    }
-  }
+  kernel?.table(speeds, weights);
+  const wasm = kernel !== null && kernel.phases(mu);
   const S = zeroedF64(2 * r * r);
   const todo = todoScratch(r * r);
+  let js: JsTable | null = null;
   for (const term of st.terms) {
     const cut = 1e-18 * significance(term);
     const xr = term.X.re, xi = term.X.im;
     const hermitian = term.phi === 0;
-    // e_k = w_k e^{−iφ s_k}, so that S_ab = Σ_k e_k z_a(k) conj(z_b(k))
-    if (term.phi === 0) {
-      er.set(weights);
-      ei.fill(0);
-    } else {
-      for (let k = 0; k < n; k++) {
-        expNegI(term.phi / speeds[k], er, ei, k);
-        er[k] *= weights[k];
-        ei[k] *= weights[k];
-      }
-    }
     // entries needed: with φ = 0, S is Hermitian and only b ≥ a is summed (S_ba = conj S_ab)
     let any = false;
     for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
@@ -454,18 +541,9 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
       any ||= need;
     }
     if (!any) continue;
-    if (wasm) kernel.pairs(er, ei, todo, S);
-    else {
-      const ys = scratch2(2 * n * r);
-      const yr = ys.subarray(0, n * r), yi = ys.subarray(n * r, 2 * n * r);
-      for (let a = 0; a < r; a++) {
-        const o = a * n;
-        for (let k = 0; k < n; k++) {
-          yr[o + k] = er[k] * zr[o + k] - ei[k] * zi[o + k];
-          yi[o + k] = er[k] * zi[o + k] + ei[k] * zr[o + k];
-        }
-      }
-      pairSums(yr, yi, zr, zi, n, r, todo, S);
+    if (!(wasm && kernel.pairs(term.phi, todo, S))) {
+      js ??= jsTable(mu, speeds, r);
+      jsPairs(js, term.phi, weights, todo, S);
     }
     for (let a = 0; a < r; a++) {
       for (let b = hermitian ? a : 0; b < r; b++) {
@@ -485,7 +563,61 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
   return wasm;
 }
 
-let scratchA = new Float64Array(0), scratchB = new Float64Array(0), scratchT = new Uint8Array(0);
+interface JsTable {
+  readonly n: number;
+  readonly r: number;
+  readonly s: Float64Array;
+  readonly zr: Float64Array;
+  readonly zi: Float64Array;
+}
+
+const inverseSpeeds = new WeakMap<Float64Array, Float64Array>();
+/** z_a(k) in JavaScript, stored by row a (contiguous in k), with s_k = 1/v_k as the kernel has it. */
+function jsTable(mu: Float64Array, speeds: Float64Array, r: number): JsTable {
+  const n = speeds.length;
+  let s = inverseSpeeds.get(speeds);
+  if (!s) {
+    s = new Float64Array(n);
+    for (let k = 0; k < n; k++) s[k] = 1 / speeds[k];
+    inverseSpeeds.set(speeds, s);
+  }
+  const sc = scratch(2 * n * r);
+  const zr = sc.subarray(0, n * r), zi = sc.subarray(n * r, 2 * n * r);
+  for (let a = 0; a < r; a++) {
+    const m = mu[a], o = a * n;
+    for (let k = 0; k < n; k++) expNegI(m * s[k], zr, zi, o + k);
+  }
+  return { n, r, s, zr, zi };
+}
+
+/** The JavaScript path of one term's pair sums: e_k = w_k e^{−iφ s_k}, y_a = e ∘ z_a, S = Σ y conj z. */
+function jsPairs(t: JsTable, phi: number, weights: Float64Array, todo: Uint8Array, S: Float64Array): void {
+  const { n, r, s, zr, zi } = t;
+  const es = scratch3(2 * n);
+  const er = es.subarray(0, n), ei = es.subarray(n, 2 * n);
+  if (phi === 0) {
+    er.set(weights);
+    ei.fill(0);
+  } else {
+    for (let k = 0; k < n; k++) {
+      expNegI(phi * s[k], er, ei, k);
+      er[k] *= weights[k];
+      ei[k] *= weights[k];
+    }
+  }
+  const ys = scratch2(2 * n * r);
+  const yr = ys.subarray(0, n * r), yi = ys.subarray(n * r, 2 * n * r);
+  for (let a = 0; a < r; a++) {
+    const o = a * n;
+    for (let k = 0; k < n; k++) {
+      yr[o + k] = er[k] * zr[o + k] - ei[k] * zi[o + k];
+      yi[o + k] = er[k] * zi[o + k] + ei[k] * zr[o + k];
+    }
+  }
+  pairSums(yr, yi, zr, zi, n, r, todo, S);
+}
+
+let scratchA = new Float64Array(0), scratchB = new Float64Array(0), scratchC = new Float64Array(0), scratchT = new Uint8Array(0);
 function todoScratch(n: number): Uint8Array {
   if (scratchT.length < n) scratchT = new Uint8Array(n);
   return scratchT.subarray(0, n);
@@ -498,6 +630,10 @@ function scratch(n: number): Float64Array {
 function scratch2(n: number): Float64Array {
   if (scratchB.length < n) scratchB = new Float64Array(n);
   return scratchB;
+}
+function scratch3(n: number): Float64Array {
+  if (scratchC.length < n) scratchC = new Float64Array(n);
+  return scratchC;
 }
 
 /**
@@ -572,14 +708,14 @@ function isPositive(a: CMat, delta: number): boolean {
 export function specAverageTrace(st: SpecState, chi: CharCache): { value: number; error: number; hermiticity: number; positive: boolean } {
   const av = specAverageBasis(st, chi);
   // W and the shared A of a state never change: its trace is computed once (a scan's unchanged prefix)
-  let value = traces.get(st);
+  const memo = (st.memo ??= {});
+  let value = memo.trace;
   if (value === undefined) {
-    value = traceWAW(st.W, av.A);
-    traces.set(st, value);
+    value = st.fac ? traceFactored(st.fac, av.A) : traceWAW(st.W, av.A);
+    memo.trace = value;
   }
   return { value, error: av.error, hermiticity: av.hermiticity, positive: av.positive };
 }
-const traces = new WeakMap<SpecState, number>();
 
 /**
  * Tr ρ(s) on a set of speeds, keeping only terms whose phase-length is below `phiMax` (faster terms
@@ -713,6 +849,47 @@ export function specTraceMoment(st: SpecState, dist: VelocityDistribution, n: nu
  * part (the anti-Hermitian part gives an imaginary trace), and with G = W†W Hermitian too the sum is
  * Σ_a H_aa G_aa + 2 Σ_{a<b} Re(H_ab G_ba): half of G is computed.
  */
+/**
+ * Tr(W A W†) for W = L·B: Σ_ab A_ab G_ba with G = B†(L†L)B, each entry over the few non-zero rows of
+ * two columns of B (L†L is kept with L).
+ */
+function traceFactored(f: BasisFactors, A: CMat): number {
+  const b = f.blocks, { start, rows } = f.support;
+  const r = b.cols, dm = b.rows;
+  const m = f.left ? gramOf(f.left) : null;
+  let tr = 0;
+  for (let a = 0; a < r; a++) {
+    for (let c = a; c < r; c++) {
+      // G_ca = Σ_{i ∈ rows(c), j ∈ rows(a)} conj(B_ic) M_ij B_ja
+      let gr = 0, gi = 0;
+      for (let q = start[c]; q < start[c + 1]; q++) {
+        const i = rows[q];
+        const xr = b.re[i * r + c], xi = -b.im[i * r + c];
+        if (xr === 0 && xi === 0) continue;
+        // (M B)_ia
+        let yr = 0, yi = 0;
+        if (m) {
+          for (let p = start[a]; p < start[a + 1]; p++) {
+            const j = rows[p];
+            const mr = m.re[i * dm + j], mi = m.im[i * dm + j], br = b.re[j * r + a], bi = b.im[j * r + a];
+            yr += mr * br - mi * bi;
+            yi += mr * bi + mi * br;
+          }
+        } else {
+          yr = b.re[i * r + a];
+          yi = b.im[i * r + a];
+        }
+        gr += xr * yr - xi * yi;
+        gi += xr * yi + xi * yr;
+      }
+      const hr = 0.5 * (A.re[a * r + c] + A.re[c * r + a]), hi = 0.5 * (A.im[a * r + c] - A.im[c * r + a]);
+      const t = hr * gr - hi * gi;
+      tr += a === c ? t : 2 * t;
+    }
+  }
+  return tr;
+}
+
 function traceWAW(W: CMat, A: CMat): number {
   const d = W.rows, r = W.cols;
   const wr = W.re, wi = W.im;

@@ -475,7 +475,29 @@ export function mjSortCleanField(p: HyperfineParams): number {
  * diagonalised (2×2 in closed form, larger ones by eigh) and carried to n̂ by the cached rotation
  * exp(−iφF_z) exp(−iθF_y). Values in Hz, in block order (not sorted); columns of `vectors` match.
  */
-export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { values: Float64Array; vectors: CMat; factors: { rot: CMat | undefined; blocks: CMat } } {
+/** The rows each column of a block-diagonal eigenvector matrix can be non-zero in (its m_F block). */
+export interface ColumnSupport {
+  /** Column c has rows rows[start[c]] … rows[start[c + 1] − 1]. */
+  readonly start: Int32Array;
+  readonly rows: Int32Array;
+}
+
+const supports = new WeakMap<object, ColumnSupport>();
+function columnSupport(blocks: readonly { idx: readonly number[] }[]): ColumnSupport {
+  let s = supports.get(blocks);
+  if (!s) {
+    const start: number[] = [0], rows: number[] = [];
+    for (const b of blocks) for (let c = 0; c < b.idx.length; c++) {
+      rows.push(...b.idx);
+      start.push(rows.length);
+    }
+    s = { start: Int32Array.from(start), rows: Int32Array.from(rows) };
+    supports.set(blocks, s);
+  }
+  return s;
+}
+
+export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { values: Float64Array; readonly vectors: CMat; factors: { rot: CMat | undefined; blocks: CMat; support: ColumnSupport } } {
   const s = structureOf(p.i2, p.j2);
   const d = s.dim;
   const values = zeroedF64(d);
@@ -521,6 +543,13 @@ export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { v
   }
   const rot = fieldT === 0 ? undefined : axisRotation(p.i2, p.j2, axis);
   // vectors = rot · blocks (blocks: the block-diagonal eigenvectors along z), kept for callers that
-  // multiply by V† and can use the sparsity of the blocks
-  return { values, vectors: rot ? mulBlockColumns(rot, vz, s.blocks) : vz, factors: { rot, blocks: vz } };
+  // multiply by V† and can use the sparsity of the blocks; the product itself is formed on first use
+  let vectors: CMat | undefined = rot ? undefined : vz;
+  return {
+    values,
+    get vectors(): CMat {
+      return (vectors ??= mulBlockColumns(rot!, vz, s.blocks));
+    },
+    factors: { rot, blocks: vz, support: columnSupport(s.blocks) },
+  };
 }

@@ -1,6 +1,7 @@
 /**
  * The exact table sums of the velocity average in WebAssembly SIMD (src/physics/kernels.wat): for a
- * table of n speeds and r levels, z_a(k) = e^{−iμ_a/v_k} and S_ab = Σ_k e_k z_a(k) conj z_b(k).
+ * table of n speeds v_k with weights w_k and r levels, z_a(k) = e^{−iμ_a s_k} with s_k = 1/v_k, and
+ * S_ab = Σ_k e_k z_a(k) conj z_b(k) with e_k = w_k e^{−iφ s_k}.
  * The arithmetic is that of the JavaScript path (physics/trig.ts expNegI, engine/spectral.ts), two
  * speeds at a time; test/physics/kernels.test.ts checks the two against each other. Where WebAssembly
  * cannot be compiled (a policy without 'wasm-unsafe-eval', an old host) `tableKernel()` is null and the
@@ -24,9 +25,10 @@ const host = globalThis as unknown as WasmHost;
 
 interface Exports {
   readonly memory: WasmMemory;
-  phases(mu: number, r: number, sp: number, n: number, zr: number, zi: number): void;
-  scale(er: number, ei: number, zr: number, zi: number, yr: number, yi: number, n: number, r: number): void;
-  pairs(yr: number, yi: number, zr: number, zi: number, n: number, r: number, todo: number, s: number): void;
+  phases(mu: number, r: number, s: number, n: number, z: number): void;
+  weights(phi: number, s: number, w: number, n: number, e: number): void;
+  scale(e: number, z: number, y: number, n: number, r: number, real: number): void;
+  pairs(y: number, z: number, n: number, r: number, todo: number, S: number): void;
 }
 
 /** Beyond this |phase| the kernel's quadrant index would saturate (physics/trig.ts FAST_LIMIT). */
@@ -34,15 +36,21 @@ const FAST_LIMIT = 3e9;
 
 export interface TableKernel {
   /**
-   * Computes z_a(k) for the table; false (nothing computed) when a phase reaches 3e9 rad or is not
-   * finite, where the caller takes the JavaScript path.
+   * Keeps the table's inverse speeds s_k = 1/v_k (computed as in the JavaScript path) and weights w_k;
+   * a later call with the same two arrays reuses them.
    */
-  phases(mu: ArrayLike<number>, speeds: ArrayLike<number>): boolean;
+  table(speeds: Float64Array, weights: Float64Array): void;
   /**
-   * S_ab = Σ_k e_k z_a(k) conj z_b(k) (e_k = er + i·ei, length n) for every (a, b) with todo[a·r + b]
-   * set, written to S[2(a·r + b)] (re) and S[2(a·r + b) + 1] (im); other entries of S may be written too.
+   * Computes z_a(k) = e^{−iμ_a s_k} for the table; false (nothing computed) when a phase reaches
+   * 3e9 rad or is not finite, where the caller takes the JavaScript path.
    */
-  pairs(er: ArrayLike<number>, ei: ArrayLike<number>, todo: Uint8Array, S: Float64Array): void;
+  phases(mu: ArrayLike<number>): boolean;
+  /**
+   * S_ab = Σ_k e_k z_a(k) conj z_b(k), e_k = w_k e^{−iφ s_k}, for every (a, b) with todo[a·r + b]
+   * set, written to S[2(a·r + b)] (re) and S[2(a·r + b) + 1] (im); other entries of S may be written
+   * too. False (nothing computed) when |φ|·s_k reaches 3e9 rad.
+   */
+  pairs(phi: number, todo: Uint8Array, S: Float64Array): boolean;
 }
 
 let instance: Exports | null | undefined;
@@ -84,57 +92,74 @@ let cached: { ex: Exports; k: TableKernel } | null = null;
 
 function kernelOn(ex: Exports): TableKernel {
   if (cached?.ex === ex) return cached.k;
-  // layout (bytes), set by phases(): mu | speeds | zr | zi | er | ei | yr | yi | todo | S
-  let r = 0, n = 0, rp = 0, np = 0;
-  let oMu = 0, oSp = 0, oZr = 0, oZi = 0, oEr = 0, oEi = 0, oYr = 0, oYi = 0, oTodo = 0, oS = 0;
+  // layout (bytes): s | w | mu | z | e | y | todo | S, rows of complex numbers as in kernels.wat
+  let r = 0, n = 0, rp = 0, np = 0, sMax = 0;
+  let speedsNow: Float64Array | null = null, weightsNow: Float64Array | null = null;
+  let oS = 0, oW = 0, oMu = 0, oZ = 0, oE = 0, oY = 0, oTodo = 0, oOut = 0;
+  let f = new Float64Array(ex.memory.buffer);
+  const ensure = (bytes: number): void => {
+    const mem = ex.memory;
+    if (mem.buffer.byteLength < bytes) mem.grow(Math.ceil((bytes - mem.buffer.byteLength) / 65536));
+    if (f.buffer !== mem.buffer) f = new Float64Array(mem.buffer);
+  };
+  const layout = (levels: number): void => {
+    r = levels;
+    rp = r + (r & 1);
+    oMu = oW + 8 * np;
+    oZ = oMu + 8 * rp;
+    oE = oZ + 16 * rp * np;
+    oY = oE + 16 * np;
+    oTodo = oY + 16 * rp * np;
+    oOut = oTodo + 8 * Math.ceil((rp * rp) / 8);
+    ensure(oOut + 16 * rp * rp);
+  };
   const k: TableKernel = {
-    phases(mu, speeds) {
-      r = mu.length;
+    table(speeds, weights) {
+      if (speeds === speedsNow && weights === weightsNow && speeds.length === n) return;
       n = speeds.length;
-      let muMax = 0, vMin = Infinity;
-      for (let a = 0; a < r; a++) muMax = Math.max(muMax, Math.abs(mu[a]));
-      for (let j = 0; j < n; j++) vMin = Math.min(vMin, speeds[j]);
-      if (!(muMax / vMin < FAST_LIMIT) || n === 0) return false;
-      rp = r + (r & 1);
       np = n + (n & 1);
-      oMu = 0;
-      oSp = oMu + 8 * rp;
-      oZr = oSp + 8 * np;
-      oZi = oZr + 8 * rp * np;
-      oEr = oZi + 8 * rp * np;
-      oEi = oEr + 8 * np;
-      oYr = oEi + 8 * np;
-      oYi = oYr + 8 * rp * np;
-      oTodo = oYi + 8 * rp * np;
-      oS = oTodo + 8 * Math.ceil((rp * rp) / 8);
-      const end = oS + 16 * rp * rp;
-      const mem = ex.memory;
-      if (mem.buffer.byteLength < end) mem.grow(Math.ceil((end - mem.buffer.byteLength) / 65536));
-      const f = new Float64Array(mem.buffer);
+      oS = 0;
+      oW = oS + 8 * np;
+      layout(0);
+      sMax = 0;
+      // a padding speed repeats the last one; its weight is 0, so it adds nothing
+      for (let j = 0; j < np; j++) {
+        const s = 1 / speeds[j < n ? j : n - 1];
+        f[oS / 8 + j] = s;
+        f[oW / 8 + j] = j < n ? weights[j] : 0;
+        sMax = Math.max(sMax, s);
+      }
+      speedsNow = speeds;
+      weightsNow = weights;
+    },
+    phases(mu) {
+      if (!speedsNow || n === 0) return false;
+      let muMax = 0;
+      for (let a = 0; a < mu.length; a++) muMax = Math.max(muMax, Math.abs(mu[a]));
+      if (!(muMax * sMax < FAST_LIMIT)) return false;
+      layout(mu.length);
       for (let a = 0; a < rp; a++) f[oMu / 8 + a] = a < r ? mu[a] : 0;
-      // a padding speed repeats the last one; its weight e is 0, so it adds nothing
-      for (let j = 0; j < np; j++) f[oSp / 8 + j] = speeds[j < n ? j : n - 1];
-      ex.phases(oMu, rp, oSp, np, oZr, oZi);
+      ex.phases(oMu, rp, oS, np, oZ);
       return true;
     },
-    pairs(er, ei, todo, S) {
-      const mem = ex.memory;
-      const f = new Float64Array(mem.buffer);
-      for (let j = 0; j < np; j++) {
-        f[oEr / 8 + j] = j < n ? er[j] : 0;
-        f[oEi / 8 + j] = j < n ? ei[j] : 0;
+    pairs(phi, todo, S) {
+      if (!(Math.abs(phi) * sMax < FAST_LIMIT)) return false;
+      const t = new Uint8Array(ex.memory.buffer, oTodo, rp * rp);
+      if (rp === r) t.set(todo.subarray(0, r * r));
+      else {
+        t.fill(0);
+        for (let a = 0; a < r; a++) t.set(todo.subarray(a * r, a * r + r), a * rp);
       }
-      const t = new Uint8Array(mem.buffer, oTodo, rp * rp);
-      t.fill(0);
-      for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) t[a * rp + b] = todo[a * r + b];
-      ex.scale(oEr, oEi, oZr, oZi, oYr, oYi, np, rp);
-      ex.pairs(oYr, oYi, oZr, oZi, np, rp, oTodo, oS);
-      const s = oS / 8;
+      ex.weights(phi, oS, oW, np, oE);
+      ex.scale(oE, oZ, oY, np, rp, phi === 0 ? 1 : 0);
+      ex.pairs(oY, oZ, np, rp, oTodo, oOut);
+      const o = oOut / 8;
       for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
         if (!todo[a * r + b]) continue;
-        S[2 * (a * r + b)] = f[s + 2 * (a * rp + b)];
-        S[2 * (a * r + b) + 1] = f[s + 2 * (a * rp + b) + 1];
+        S[2 * (a * r + b)] = f[o + 2 * (a * rp + b)];
+        S[2 * (a * r + b) + 1] = f[o + 2 * (a * rp + b) + 1];
       }
+      return true;
     },
   };
   cached = { ex, k };

@@ -4,16 +4,69 @@
 ;; test/physics/kernels.test.ts checks both paths against each other.
 ;; All offsets are byte offsets into the one exported memory; every length that is looped over two at
 ;; a time (n speeds, r levels) is even (the caller pads).
+;;
+;; A row of n complex numbers (one per speed) is stored two speeds at a time: for speeds k, k+1 the
+;; real parts (16 bytes), then the imaginary parts (16 bytes). Row a of an r×n array starts at a·16n.
 (module
   (memory (export "memory") 1)
 
-  ;; z[a·n + k] = e^{−i mu[a]/speed[k]} for a < r, k < n, as zr (cos) and zi (−sin).
-  ;; Reduction by quadrant with π/2 in three parts (fdlibm's split), Taylor polynomials on |t| ≤ π/4 in
-  ;; Estrin's scheme; valid for |phase| < 3e9 (the caller checks).
-  (func (export "phases") (param $mu i32) (param $r i32) (param $sp i32) (param $n i32) (param $zr i32) (param $zi i32)
-    (local $a i32) (local $k i32) (local $o i32) (local $m v128)
-    (local $x v128) (local $kq v128) (local $t v128) (local $z v128) (local $z2 v128) (local $z4 v128)
-    (local $s v128) (local $c v128) (local $q v128) (local $odd v128) (local $even v128) (local $sign v128)
+  ;; e^{−ix} for the two lanes of x (|x| < 3e9, the caller checks): (cos x, −sin x).
+  ;; Reduction by quadrant with π/2 in three parts (fdlibm's split), then the minimax polynomials of
+  ;; fdlibm's __kernel_sin and __kernel_cos on |t| ≤ π/4 (within 1 ulp of the correctly rounded value) in
+  ;; Estrin's scheme.
+  (func $cis (param $x v128) (result v128 v128)
+    (local $kq v128) (local $t v128) (local $z v128) (local $z2 v128) (local $z4 v128)
+    (local $s v128) (local $c v128) (local $q v128) (local $swap v128) (local $cr v128) (local $sr v128)
+    ;; kq = x·2/π rounded to an integer by adding 1.5·2^52 (the sum's low bits are kq in two's complement)
+    (local.set $q (f64x2.add (f64x2.mul (local.get $x) (f64x2.splat (f64.const 0.6366197723675814))) (f64x2.splat (f64.const 6755399441055744))))
+    (local.set $kq (f64x2.sub (local.get $q) (f64x2.splat (f64.const 6755399441055744))))
+    ;; t = ((x − kq·P1) − kq·P2) − kq·P3
+    (local.set $t
+      (f64x2.sub
+        (f64x2.sub
+          (f64x2.sub (local.get $x) (f64x2.mul (local.get $kq) (f64x2.splat (f64.const 1.57079632673412561417e+00))))
+          (f64x2.mul (local.get $kq) (f64x2.splat (f64.const 6.07710050630396597660e-11))))
+        (f64x2.mul (local.get $kq) (f64x2.splat (f64.const 2.02226624879595063154e-21)))))
+    (local.set $z (f64x2.mul (local.get $t) (local.get $t)))
+    (local.set $z2 (f64x2.mul (local.get $z) (local.get $z)))
+    (local.set $z4 (f64x2.mul (local.get $z2) (local.get $z2)))
+    ;; s = t + t·z·((S1 + z S2) + z2 (S3 + z S4) + z4 (S5 + z S6))
+    (local.set $s
+      (f64x2.add (local.get $t)
+        (f64x2.mul (f64x2.mul (local.get $t) (local.get $z))
+          (f64x2.add
+            (f64x2.add
+              (f64x2.add (f64x2.splat (f64.const -1.66666666666666324348e-01)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 8.33333333332248946124e-03))))
+              (f64x2.mul (local.get $z2)
+                (f64x2.add (f64x2.splat (f64.const -1.98412698298579493134e-04)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 2.75573137070700676789e-06))))))
+            (f64x2.mul (local.get $z4)
+              (f64x2.add (f64x2.splat (f64.const -2.50507602534068634195e-08)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 1.58969099521155010221e-10)))))))))
+    ;; c = (1 − z/2) + z2·((C1 + z C2) + z2 (C3 + z C4) + z4 (C5 + z C6))
+    (local.set $c
+      (f64x2.add
+        (f64x2.sub (f64x2.splat (f64.const 1)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 0.5))))
+        (f64x2.mul (local.get $z2)
+          (f64x2.add
+            (f64x2.add
+              (f64x2.add (f64x2.splat (f64.const 4.16666666666666019037e-02)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const -1.38888888888741095749e-03))))
+              (f64x2.mul (local.get $z2)
+                (f64x2.add (f64x2.splat (f64.const 2.48015872894767294178e-05)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const -2.75573143513906633035e-07))))))
+            (f64x2.mul (local.get $z4)
+              (f64x2.add (f64x2.splat (f64.const 2.08757232129817482790e-09)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const -1.13596475577881948265e-11)))))))))
+    ;; quadrant q = kq mod 4 from the low bits of the rounding sum:
+    ;;   cos(t + qπ/2) = (q odd ? s : c), negated for q ≡ 1, 2;  −sin(t + qπ/2) = (q odd ? c : s), negated for q ≡ 0, 1
+    (local.set $swap (i64x2.neg (v128.and (local.get $q) (i64x2.splat (i64.const 1)))))
+    (local.set $cr (v128.bitselect (local.get $s) (local.get $c) (local.get $swap)))
+    (local.set $sr (v128.bitselect (local.get $c) (local.get $s) (local.get $swap)))
+    (v128.xor (local.get $cr)
+      (i64x2.shl (v128.and (i64x2.add (local.get $q) (i64x2.splat (i64.const 1))) (i64x2.splat (i64.const 2))) (i32.const 62)))
+    (v128.xor (local.get $sr)
+      (i64x2.shl (v128.xor (v128.and (local.get $q) (i64x2.splat (i64.const 2))) (i64x2.splat (i64.const 2))) (i32.const 62))))
+
+  ;; z_a(k) = e^{−i mu[a]·s[k]} for a < r, k < n (s: the inverse speeds), rows as in the module header.
+  (func (export "phases") (param $mu i32) (param $r i32) (param $s i32) (param $n i32) (param $z i32)
+    (local $a i32) (local $k i32) (local $p i32) (local $m v128) (local $re v128) (local $im v128)
+    (local.set $p (local.get $z))
     (local.set $a (i32.const 0))
     (block $done_a (loop $loop_a
       (br_if $done_a (i32.ge_u (local.get $a) (local.get $r)))
@@ -21,135 +74,122 @@
       (local.set $k (i32.const 0))
       (block $done_k (loop $loop_k
         (br_if $done_k (i32.ge_u (local.get $k) (local.get $n)))
-        (local.set $x (f64x2.div (local.get $m) (v128.load (i32.add (local.get $sp) (i32.shl (local.get $k) (i32.const 3))))))
-        (local.set $kq (f64x2.nearest (f64x2.mul (local.get $x) (f64x2.splat (f64.const 0.6366197723675814)))))
-        ;; t = ((x − kq·P1) − kq·P2) − kq·P3
-        (local.set $t
-          (f64x2.sub
-            (f64x2.sub
-              (f64x2.sub (local.get $x) (f64x2.mul (local.get $kq) (f64x2.splat (f64.const 1.57079632673412561417e+00))))
-              (f64x2.mul (local.get $kq) (f64x2.splat (f64.const 6.07710050630396597660e-11))))
-            (f64x2.mul (local.get $kq) (f64x2.splat (f64.const 2.02226624879595063154e-21)))))
-        (local.set $z (f64x2.mul (local.get $t) (local.get $t)))
-        (local.set $z2 (f64x2.mul (local.get $z) (local.get $z)))
-        (local.set $z4 (f64x2.mul (local.get $z2) (local.get $z2)))
-        ;; s = t + t·z·((S1 + z S2) + z2 (S3 + z S4) + z4 ((S5 + z S6) + z2 (S7 + z S8)))
-        (local.set $s
-          (f64x2.add (local.get $t)
-            (f64x2.mul (f64x2.mul (local.get $t) (local.get $z))
-              (f64x2.add
-                (f64x2.add
-                  (f64x2.add (f64x2.splat (f64.const -0.16666666666666666)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 0.008333333333333333))))
-                  (f64x2.mul (local.get $z2)
-                    (f64x2.add (f64x2.splat (f64.const -0.0001984126984126984)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 0.0000027557319223985893))))))
-                (f64x2.mul (local.get $z4)
-                  (f64x2.add
-                    (f64x2.add (f64x2.splat (f64.const -2.505210838544172e-8)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 1.6059043836821613e-10))))
-                    (f64x2.mul (local.get $z2)
-                      (f64x2.add (f64x2.splat (f64.const -7.647163731819816e-13)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 2.8114572543455206e-15)))))))))))
-        ;; c = 1 + z·((C1 + z C2) + z2 (C3 + z C4) + z4 ((C5 + z C6) + z2 (C7 + z C8)))
-        (local.set $c
-          (f64x2.add (f64x2.splat (f64.const 1))
-            (f64x2.mul (local.get $z)
-              (f64x2.add
-                (f64x2.add
-                  (f64x2.add (f64x2.splat (f64.const -0.5)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 0.041666666666666664))))
-                  (f64x2.mul (local.get $z2)
-                    (f64x2.add (f64x2.splat (f64.const -0.001388888888888889)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 0.0000248015873015873))))))
-                (f64x2.mul (local.get $z4)
-                  (f64x2.add
-                    (f64x2.add (f64x2.splat (f64.const -2.755731922398589e-7)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 2.08767569878681e-9))))
-                    (f64x2.mul (local.get $z2)
-                      (f64x2.add (f64x2.splat (f64.const -1.1470745597729725e-11)) (f64x2.mul (local.get $z) (f64x2.splat (f64.const 4.779477332387385e-14)))))))))))
-        ;; quadrant q = kq mod 4 (two's complement): cos(t + qπ/2) and sin(t + qπ/2)
-        (local.set $q (i32x4.trunc_sat_f64x2_s_zero (local.get $kq)))
-        (local.set $odd (f64x2.convert_low_i32x4_s (v128.and (local.get $q) (i32x4.splat (i32.const 1)))))
-        (local.set $even (f64x2.sub (f64x2.splat (f64.const 1)) (local.get $odd)))
-        (local.set $sign (f64x2.sub (f64x2.splat (f64.const 1)) (f64x2.convert_low_i32x4_s (v128.and (local.get $q) (i32x4.splat (i32.const 2))))))
-        (local.set $o (i32.shl (i32.add (i32.mul (local.get $a) (local.get $n)) (local.get $k)) (i32.const 3)))
-        (v128.store (i32.add (local.get $zr) (local.get $o))
-          (f64x2.mul (local.get $sign) (f64x2.sub (f64x2.mul (local.get $even) (local.get $c)) (f64x2.mul (local.get $odd) (local.get $s)))))
-        (v128.store (i32.add (local.get $zi) (local.get $o))
-          (f64x2.neg (f64x2.mul (local.get $sign) (f64x2.add (f64x2.mul (local.get $even) (local.get $s)) (f64x2.mul (local.get $odd) (local.get $c))))))
+        (call $cis (f64x2.mul (local.get $m) (v128.load (i32.add (local.get $s) (i32.shl (local.get $k) (i32.const 3))))))
+        (local.set $im)
+        (local.set $re)
+        (v128.store offset=0 (local.get $p) (local.get $re))
+        (v128.store offset=16 (local.get $p) (local.get $im))
+        (local.set $p (i32.add (local.get $p) (i32.const 32)))
         (local.set $k (i32.add (local.get $k) (i32.const 2)))
         (br $loop_k)))
       (local.set $a (i32.add (local.get $a) (i32.const 1)))
       (br $loop_a))))
 
-  ;; y[a·n + k] = e[k] · z[a·n + k] (complex), for a < r, k < n.
-  (func (export "scale") (param $er i32) (param $ei i32) (param $zr i32) (param $zi i32) (param $yr i32) (param $yi i32) (param $n i32) (param $r i32)
-    (local $a i32) (local $k i32) (local $o i32) (local $pr v128) (local $pi v128) (local $vr v128) (local $vi v128)
+  ;; e(k) = w[k]·e^{−i phi·s[k]} (one row); with phi = 0, e = w exactly.
+  (func (export "weights") (param $phi f64) (param $s i32) (param $w i32) (param $n i32) (param $e i32)
+    (local $k i32) (local $p i32) (local $m v128) (local $wk v128) (local $re v128) (local $im v128)
+    (local.set $m (f64x2.splat (local.get $phi)))
+    (local.set $p (local.get $e))
+    (local.set $k (i32.const 0))
+    (block $done (loop $loop
+      (br_if $done (i32.ge_u (local.get $k) (local.get $n)))
+      (local.set $wk (v128.load (i32.add (local.get $w) (i32.shl (local.get $k) (i32.const 3)))))
+      (if (f64.eq (local.get $phi) (f64.const 0))
+        (then
+          (v128.store offset=0 (local.get $p) (local.get $wk))
+          (v128.store offset=16 (local.get $p) (v128.const f64x2 0 0)))
+        (else
+          (call $cis (f64x2.mul (local.get $m) (v128.load (i32.add (local.get $s) (i32.shl (local.get $k) (i32.const 3))))))
+          (local.set $im)
+          (local.set $re)
+          (v128.store offset=0 (local.get $p) (f64x2.mul (local.get $wk) (local.get $re)))
+          (v128.store offset=16 (local.get $p) (f64x2.mul (local.get $wk) (local.get $im)))))
+      (local.set $p (i32.add (local.get $p) (i32.const 32)))
+      (local.set $k (i32.add (local.get $k) (i32.const 2)))
+      (br $loop))))
+
+  ;; y_a = e ∘ z_a (complex), for a < r; with $real set, e is real (its imaginary parts are 0).
+  (func (export "scale") (param $e i32) (param $z i32) (param $y i32) (param $n i32) (param $r i32) (param $real i32)
+    (local $a i32) (local $pe i32) (local $pz i32) (local $py i32) (local $end i32)
+    (local $er v128) (local $ei v128) (local $vr v128) (local $vi v128)
+    (local.set $pz (local.get $z))
+    (local.set $py (local.get $y))
     (local.set $a (i32.const 0))
     (block $done_a (loop $loop_a
       (br_if $done_a (i32.ge_u (local.get $a) (local.get $r)))
-      (local.set $k (i32.const 0))
+      (local.set $pe (local.get $e))
+      (local.set $end (i32.add (local.get $e) (i32.shl (local.get $n) (i32.const 4))))
       (block $done_k (loop $loop_k
-        (br_if $done_k (i32.ge_u (local.get $k) (local.get $n)))
-        (local.set $pr (v128.load (i32.add (local.get $er) (i32.shl (local.get $k) (i32.const 3)))))
-        (local.set $pi (v128.load (i32.add (local.get $ei) (i32.shl (local.get $k) (i32.const 3)))))
-        (local.set $o (i32.shl (i32.add (i32.mul (local.get $a) (local.get $n)) (local.get $k)) (i32.const 3)))
-        (local.set $vr (v128.load (i32.add (local.get $zr) (local.get $o))))
-        (local.set $vi (v128.load (i32.add (local.get $zi) (local.get $o))))
-        (v128.store (i32.add (local.get $yr) (local.get $o))
-          (f64x2.sub (f64x2.mul (local.get $pr) (local.get $vr)) (f64x2.mul (local.get $pi) (local.get $vi))))
-        (v128.store (i32.add (local.get $yi) (local.get $o))
-          (f64x2.add (f64x2.mul (local.get $pr) (local.get $vi)) (f64x2.mul (local.get $pi) (local.get $vr))))
-        (local.set $k (i32.add (local.get $k) (i32.const 2)))
+        (br_if $done_k (i32.ge_u (local.get $pe) (local.get $end)))
+        (local.set $er (v128.load offset=0 (local.get $pe)))
+        (local.set $vr (v128.load offset=0 (local.get $pz)))
+        (local.set $vi (v128.load offset=16 (local.get $pz)))
+        (if (local.get $real)
+          (then
+            (v128.store offset=0 (local.get $py) (f64x2.mul (local.get $er) (local.get $vr)))
+            (v128.store offset=16 (local.get $py) (f64x2.mul (local.get $er) (local.get $vi))))
+          (else
+            (local.set $ei (v128.load offset=16 (local.get $pe)))
+            (v128.store offset=0 (local.get $py)
+              (f64x2.sub (f64x2.mul (local.get $er) (local.get $vr)) (f64x2.mul (local.get $ei) (local.get $vi))))
+            (v128.store offset=16 (local.get $py)
+              (f64x2.add (f64x2.mul (local.get $er) (local.get $vi)) (f64x2.mul (local.get $ei) (local.get $vr))))))
+        (local.set $pe (i32.add (local.get $pe) (i32.const 32)))
+        (local.set $pz (i32.add (local.get $pz) (i32.const 32)))
+        (local.set $py (i32.add (local.get $py) (i32.const 32)))
         (br $loop_k)))
       (local.set $a (i32.add (local.get $a) (i32.const 1)))
       (br $loop_a))))
 
   ;; S_ab = Σ_k y_a(k) conj(z_b(k)) in 2×2 blocks of (a, b); a block is summed when any of its four
   ;; bytes of todo (r×r, row-major) is set, and all four entries of S (complex, interleaved) are written.
-  (func (export "pairs") (param $yr i32) (param $yi i32) (param $zr i32) (param $zi i32) (param $n i32) (param $r i32) (param $todo i32) (param $S i32)
-    (local $a i32) (local $b i32) (local $k i32) (local $i i32) (local $q i32)
-    (local $oa i32) (local $oa1 i32) (local $ob i32) (local $ob1 i32) (local $kk i32)
+  (func (export "pairs") (param $y i32) (param $z i32) (param $n i32) (param $r i32) (param $todo i32) (param $S i32)
+    (local $a i32) (local $b i32) (local $i i32) (local $q i32) (local $row i32)
+    (local $pa i32) (local $pb i32) (local $end i32)
     (local $a0r v128) (local $a0i v128) (local $a1r v128) (local $a1i v128)
     (local $b0r v128) (local $b0i v128) (local $b1r v128) (local $b1i v128)
     (local $p00r v128) (local $p00i v128) (local $p01r v128) (local $p01i v128)
     (local $p10r v128) (local $p10i v128) (local $p11r v128) (local $p11i v128)
+    (local.set $row (i32.shl (local.get $n) (i32.const 4)))
     (local.set $a (i32.const 0))
     (block $done_a (loop $loop_a
       (br_if $done_a (i32.ge_u (local.get $a) (local.get $r)))
-      (local.set $oa (i32.shl (i32.mul (local.get $a) (local.get $n)) (i32.const 3)))
-      (local.set $oa1 (i32.add (local.get $oa) (i32.shl (local.get $n) (i32.const 3))))
       (local.set $b (i32.const 0))
       (block $done_b (loop $loop_b
         (br_if $done_b (i32.ge_u (local.get $b) (local.get $r)))
         (local.set $i (i32.add (i32.mul (local.get $a) (local.get $r)) (local.get $b)))
         (if (i32.or
-              (i32.or (i32.load8_u (i32.add (local.get $todo) (local.get $i))) (i32.load8_u offset=1 (i32.add (local.get $todo) (local.get $i))))
-              (i32.or (i32.load8_u (i32.add (local.get $todo) (i32.add (local.get $i) (local.get $r))))
-                      (i32.load8_u offset=1 (i32.add (local.get $todo) (i32.add (local.get $i) (local.get $r))))))
+              (i32.load16_u (i32.add (local.get $todo) (local.get $i)))
+              (i32.load16_u (i32.add (local.get $todo) (i32.add (local.get $i) (local.get $r)))))
           (then
-            (local.set $ob (i32.shl (i32.mul (local.get $b) (local.get $n)) (i32.const 3)))
-            (local.set $ob1 (i32.add (local.get $ob) (i32.shl (local.get $n) (i32.const 3))))
+            (local.set $pa (i32.add (local.get $y) (i32.mul (local.get $a) (local.get $row))))
+            (local.set $pb (i32.add (local.get $z) (i32.mul (local.get $b) (local.get $row))))
+            (local.set $end (i32.add (local.get $pa) (local.get $row)))
             (local.set $p00r (v128.const f64x2 0 0)) (local.set $p00i (v128.const f64x2 0 0))
             (local.set $p01r (v128.const f64x2 0 0)) (local.set $p01i (v128.const f64x2 0 0))
             (local.set $p10r (v128.const f64x2 0 0)) (local.set $p10i (v128.const f64x2 0 0))
             (local.set $p11r (v128.const f64x2 0 0)) (local.set $p11i (v128.const f64x2 0 0))
-            (local.set $k (i32.const 0))
             (block $done_k (loop $loop_k
-              (br_if $done_k (i32.ge_u (local.get $k) (local.get $n)))
-              (local.set $kk (i32.shl (local.get $k) (i32.const 3)))
-              (local.set $a0r (v128.load (i32.add (local.get $yr) (i32.add (local.get $oa) (local.get $kk)))))
-              (local.set $a0i (v128.load (i32.add (local.get $yi) (i32.add (local.get $oa) (local.get $kk)))))
-              (local.set $a1r (v128.load (i32.add (local.get $yr) (i32.add (local.get $oa1) (local.get $kk)))))
-              (local.set $a1i (v128.load (i32.add (local.get $yi) (i32.add (local.get $oa1) (local.get $kk)))))
-              (local.set $b0r (v128.load (i32.add (local.get $zr) (i32.add (local.get $ob) (local.get $kk)))))
-              (local.set $b0i (v128.load (i32.add (local.get $zi) (i32.add (local.get $ob) (local.get $kk)))))
-              (local.set $b1r (v128.load (i32.add (local.get $zr) (i32.add (local.get $ob1) (local.get $kk)))))
-              (local.set $b1i (v128.load (i32.add (local.get $zi) (i32.add (local.get $ob1) (local.get $kk)))))
+              (br_if $done_k (i32.ge_u (local.get $pa) (local.get $end)))
+              (local.set $a0r (v128.load offset=0 (local.get $pa)))
+              (local.set $a0i (v128.load offset=16 (local.get $pa)))
+              (local.set $b0r (v128.load offset=0 (local.get $pb)))
+              (local.set $b0i (v128.load offset=16 (local.get $pb)))
               ;; p += a·conj(b): re += ar br + ai bi, im += ai br − ar bi
               (local.set $p00r (f64x2.add (local.get $p00r) (f64x2.add (f64x2.mul (local.get $a0r) (local.get $b0r)) (f64x2.mul (local.get $a0i) (local.get $b0i)))))
               (local.set $p00i (f64x2.add (local.get $p00i) (f64x2.sub (f64x2.mul (local.get $a0i) (local.get $b0r)) (f64x2.mul (local.get $a0r) (local.get $b0i)))))
-              (local.set $p01r (f64x2.add (local.get $p01r) (f64x2.add (f64x2.mul (local.get $a0r) (local.get $b1r)) (f64x2.mul (local.get $a0i) (local.get $b1i)))))
-              (local.set $p01i (f64x2.add (local.get $p01i) (f64x2.sub (f64x2.mul (local.get $a0i) (local.get $b1r)) (f64x2.mul (local.get $a0r) (local.get $b1i)))))
+              (local.set $a1r (v128.load offset=0 (i32.add (local.get $pa) (local.get $row))))
+              (local.set $a1i (v128.load offset=16 (i32.add (local.get $pa) (local.get $row))))
               (local.set $p10r (f64x2.add (local.get $p10r) (f64x2.add (f64x2.mul (local.get $a1r) (local.get $b0r)) (f64x2.mul (local.get $a1i) (local.get $b0i)))))
               (local.set $p10i (f64x2.add (local.get $p10i) (f64x2.sub (f64x2.mul (local.get $a1i) (local.get $b0r)) (f64x2.mul (local.get $a1r) (local.get $b0i)))))
+              (local.set $b1r (v128.load offset=0 (i32.add (local.get $pb) (local.get $row))))
+              (local.set $b1i (v128.load offset=16 (i32.add (local.get $pb) (local.get $row))))
+              (local.set $p01r (f64x2.add (local.get $p01r) (f64x2.add (f64x2.mul (local.get $a0r) (local.get $b1r)) (f64x2.mul (local.get $a0i) (local.get $b1i)))))
+              (local.set $p01i (f64x2.add (local.get $p01i) (f64x2.sub (f64x2.mul (local.get $a0i) (local.get $b1r)) (f64x2.mul (local.get $a0r) (local.get $b1i)))))
               (local.set $p11r (f64x2.add (local.get $p11r) (f64x2.add (f64x2.mul (local.get $a1r) (local.get $b1r)) (f64x2.mul (local.get $a1i) (local.get $b1i)))))
               (local.set $p11i (f64x2.add (local.get $p11i) (f64x2.sub (f64x2.mul (local.get $a1i) (local.get $b1r)) (f64x2.mul (local.get $a1r) (local.get $b1i)))))
-              (local.set $k (i32.add (local.get $k) (i32.const 2)))
+              (local.set $pa (i32.add (local.get $pa) (i32.const 32)))
+              (local.set $pb (i32.add (local.get $pb) (i32.const 32)))
               (br $loop_k)))
             ;; S[2i], S[2i+1], S[2i+2], S[2i+3]; the next row at i + r
             (local.set $q (i32.add (local.get $S) (i32.shl (local.get $i) (i32.const 4))))

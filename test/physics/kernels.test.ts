@@ -17,31 +17,33 @@ describe('the WebAssembly table kernel', () => {
     expect(tableKernel()).not.toBeNull();
   });
 
-  it('computes the direct sums S_ab = Σ_k e_k z_a(k) conj z_b(k), odd sizes padded', () => {
+  it('computes the direct sums S_ab = Σ_k w_k e^{−iφ/v_k} z_a(k) conj z_b(k), odd sizes padded', () => {
     const rnd = lcg(7);
-    for (const [r, n] of [[1, 1], [3, 7], [5, 2], [16, 256], [9, 33]] as const) {
+    for (const [r, n, phi] of [[1, 1, 0], [3, 7, 0], [5, 2, 3.3e4], [16, 256, 0], [16, 256, -2.5e6], [9, 33, 1e3]] as const) {
       const mu = Float64Array.from({ length: r }, () => (rnd() - 0.5) * 2e8);
       const speeds = Float64Array.from({ length: n }, () => 5 + 1000 * rnd());
-      const er = Float64Array.from({ length: n }, () => rnd() - 0.5), ei = Float64Array.from({ length: n }, () => rnd() - 0.5);
+      const w = Float64Array.from({ length: n }, () => rnd());
       const todo = new Uint8Array(r * r).map(() => (rnd() < 0.7 ? 1 : 0));
       const S = new Float64Array(2 * r * r);
       const k = tableKernel()!;
-      expect(k.phases(mu, speeds)).toBe(true);
-      k.pairs(er, ei, todo, S);
+      k.table(speeds, w);
+      expect(k.phases(mu)).toBe(true);
+      expect(k.pairs(phi, todo, S)).toBe(true);
       for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
         if (!todo[a * r + b]) continue;
         let sr = 0, si = 0, scale = 0;
         for (let j = 0; j < n; j++) {
-          // e_j z_a conj(z_b), with e^{−ix} from Math.cos / Math.sin (an independent evaluation)
-          const pa = mu[a] / speeds[j], pb = mu[b] / speeds[j];
-          const ar = er[j] * Math.cos(pa) + ei[j] * Math.sin(pa), ai = ei[j] * Math.cos(pa) - er[j] * Math.sin(pa);
+          // w_j e^{−iφ/v} z_a conj(z_b), with e^{−ix} from Math.cos / Math.sin (an independent evaluation)
+          const pe = phi / speeds[j], pa = mu[a] / speeds[j], pb = mu[b] / speeds[j];
+          const er = w[j] * Math.cos(pe), ei = -w[j] * Math.sin(pe);
+          const ar = er * Math.cos(pa) + ei * Math.sin(pa), ai = ei * Math.cos(pa) - er * Math.sin(pa);
           const br = Math.cos(pb), bi = -Math.sin(pb);
           sr += ar * br + ai * bi;
           si += ai * br - ar * bi;
-          scale += Math.hypot(er[j], ei[j]);
+          scale += w[j];
         }
         // phases of up to 2e8/5 rad carry ~1e-8 of their own rounding: compare to that
-        const tol = 1e-15 * scale * (1 + Math.max(Math.abs(mu[a]), Math.abs(mu[b])) / 5);
+        const tol = 1e-15 * scale * (1 + (Math.abs(phi) + Math.max(Math.abs(mu[a]), Math.abs(mu[b]))) / 5);
         expect(Math.abs(S[2 * (a * r + b)] - sr)).toBeLessThanOrEqual(tol);
         expect(Math.abs(S[2 * (a * r + b) + 1] - si)).toBeLessThanOrEqual(tol);
       }
@@ -50,8 +52,11 @@ describe('the WebAssembly table kernel', () => {
 
   it('declines phases of 3e9 rad and more (the JavaScript path takes them)', () => {
     const k = tableKernel()!;
-    expect(k.phases(Float64Array.of(3e9, 1), Float64Array.of(1, 2))).toBe(false);
-    expect(k.phases(Float64Array.of(NaN), Float64Array.of(1))).toBe(false);
+    k.table(Float64Array.of(1, 2), Float64Array.of(0.5, 0.5));
+    expect(k.phases(Float64Array.of(3e9, 1))).toBe(false);
+    expect(k.phases(Float64Array.of(NaN))).toBe(false);
+    expect(k.phases(Float64Array.of(1e3, 1))).toBe(true);
+    expect(k.pairs(4e9, new Uint8Array(4).fill(1), new Float64Array(8))).toBe(false);
   });
 
   it('gives the same beam average as the JavaScript path to 1e-15 (a 16-level state on 255 speeds)', () => {

@@ -1,0 +1,69 @@
+import { describe, it, expect } from 'vitest';
+import { specInitial, specKraus, specPropagate, specAverageTrace, specAverageBasis, CharCache, type SpecState } from '../../src/engine/spectral.ts';
+import { zeemanEigen, hyperfineHamiltonianHz, type HyperfineParams } from '../../src/physics/hyperfine.ts';
+import { tableDistribution } from '../../src/physics/velocity.ts';
+import { cmatMul, cmatDagger, cmatZeros, type CMat } from '../../src/physics/cmat.ts';
+
+// Cs-133 ground state (the species library's constants; SI second for A(I+1/2))
+const cs: HyperfineParams = { i2: 7, j2: 1, gJ: 2.00254032, gI: -0.00039885395, aHz: 9192631770 / 4 };
+
+function maxDiff(a: CMat, b: CMat): number {
+  let d = 0;
+  for (let i = 0; i < a.re.length; i++) d = Math.max(d, Math.abs(a.re[i] - b.re[i]), Math.abs(a.im[i] - b.im[i]));
+  return d;
+}
+
+/** A diagonal density matrix with the given populations, and a projector onto some basis states. */
+function diag(d: number, f: (i: number) => number): CMat {
+  const m = cmatZeros(d, d);
+  for (let i = 0; i < d; i++) m.re[i * d + i] = f(i);
+  return m;
+}
+
+describe('a state propagated through a field keeps its basis as factors (rotation · m_F blocks)', () => {
+  const field = { x: 0.6, y: -0.3, z: 0.74 };
+  const b = 1.7e-5;
+  const n = Math.hypot(field.x, field.y, field.z);
+  const z = zeemanEigen(cs, b, { x: field.x / n, y: field.y / n, z: field.z / n });
+  const d = 16, length = 0.05;
+  const lambda = Float64Array.from(z.values, (x) => 2 * Math.PI * x);
+  const rho = diag(d, (i) => (i % 3 === 0 ? 0 : 1 / 10));
+  const k = diag(d, (i) => (i < 9 ? 1 : 0));
+  const dist = tableDistribution(Array.from({ length: 40 }, (_, j) => [50 + 17 * j, 1 + Math.sin(j)] as [number, number]));
+
+  it('its eigenvectors are rot · blocks and diagonalise H(B n̂)', () => {
+    const v = z.vectors;
+    expect(maxDiff(v, cmatMul(z.factors.rot!, z.factors.blocks))).toBeLessThan(1e-15);
+    const h = hyperfineHamiltonianHz(cs, { x: (b * field.x) / n, y: (b * field.y) / n, z: (b * field.z) / n });
+    const hv = cmatMul(cmatMul(cmatDagger(v), h), v);
+    let off = 0;
+    for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) if (i !== j) off = Math.max(off, Math.hypot(hv.re[i * d + j], hv.im[i * d + j]));
+    expect(off).toBeLessThan(1e-6 * cs.aHz);
+    // each column of the blocks is non-zero only on its support
+    const { start, rows } = z.factors.support;
+    for (let c = 0; c < d; c++) {
+      const on = new Set(Array.from(rows.subarray(start[c], start[c + 1])));
+      for (let i = 0; i < d; i++) if (!on.has(i)) expect(z.factors.blocks.re[i * d + c] === 0 && z.factors.blocks.im[i * d + c] === 0).toBe(true);
+    }
+  });
+
+  it('gives the basis, the beam average and the traces of the dense path (before and after a Kraus operator)', () => {
+    const dense = (): SpecState => specPropagate(specInitial(rho), () => z.vectors, lambda, length);
+    const fact = (): SpecState => specPropagate(specInitial(rho), () => z.vectors, lambda, length, z.factors);
+    const f = fact(), g = dense();
+    expect(f.fac).toBeDefined();
+    expect(g.fac).toBeUndefined();
+    expect(maxDiff(f.W, g.W)).toBeLessThan(1e-15);
+    expect(maxDiff(specAverageBasis(f, new CharCache(dist)).A, specAverageBasis(g, new CharCache(dist)).A)).toBeLessThan(1e-15);
+    for (const [sf, sg] of [[f, g], [specKraus(fact(), k), specKraus(dense(), k)]] as const) {
+      const tf = specAverageTrace(sf, new CharCache(dist)).value, tg = specAverageTrace(sg, new CharCache(dist)).value;
+      expect(Math.abs(tf - tg)).toBeLessThan(1e-15);
+      expect(maxDiff(sf.W, sg.W)).toBeLessThan(1e-15);
+    }
+    // the trace is preserved by the propagation (Tr ρ = 10 × 1/10), and the Kraus operator keeps a fraction of it
+    expect(specAverageTrace(fact(), new CharCache(dist)).value).toBeCloseTo(1, 13);
+    const kept = specAverageTrace(specKraus(fact(), k), new CharCache(dist)).value;
+    expect(kept).toBeGreaterThan(0);
+    expect(kept).toBeLessThan(1);
+  });
+});
