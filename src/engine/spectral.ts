@@ -51,6 +51,8 @@ export interface StateMemo {
 
 interface SharedAverages {
   avg?: Averaged;
+  /** For a factored basis W = L·B: B A B† (Hermitian part of A), shared by the states that differ by L. */
+  lab?: CMat;
   m2?: CMat;
   nodes?: { speeds: ArrayLike<number>; phiMax: number; pairs: Int32Array; mre: Float64Array; mim: Float64Array };
 }
@@ -542,8 +544,8 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
     }
     if (!any) continue;
     if (!(wasm && kernel.pairs(term.phi, todo, S))) {
-      js ??= jsTable(mu, speeds, r);
-      jsPairs(js, term.phi, weights, todo, S);
+      js ??= jsTable(mu, speeds, weights, r);
+      jsPairs(js, term.phi, todo, S);
     }
     for (let a = 0; a < r; a++) {
       for (let b = hermitian ? a : 0; b < r; b++) {
@@ -569,11 +571,17 @@ interface JsTable {
   readonly s: Float64Array;
   readonly zr: Float64Array;
   readonly zi: Float64Array;
+  /** Weights applied to both factors (√w), or once, in the weighting of each term (negative weights). */
+  readonly split: boolean;
+  readonly weights: Float64Array;
 }
 
 const inverseSpeeds = new WeakMap<Float64Array, Float64Array>();
-/** z_a(k) in JavaScript, stored by row a (contiguous in k), with s_k = 1/v_k as the kernel has it. */
-function jsTable(mu: Float64Array, speeds: Float64Array, r: number): JsTable {
+/**
+ * z_a(k) = √w_k e^{−iμ_a s_k} in JavaScript, stored by row a (contiguous in k), with s_k = 1/v_k, as the
+ * kernel has them (physics/kernels.ts); a table with a negative weight keeps z unweighted instead.
+ */
+function jsTable(mu: Float64Array, speeds: Float64Array, weights: Float64Array, r: number): JsTable {
   const n = speeds.length;
   let s = inverseSpeeds.get(speeds);
   if (!s) {
@@ -581,26 +589,38 @@ function jsTable(mu: Float64Array, speeds: Float64Array, r: number): JsTable {
     for (let k = 0; k < n; k++) s[k] = 1 / speeds[k];
     inverseSpeeds.set(speeds, s);
   }
+  const split = weights.every((w) => w >= 0);
   const sc = scratch(2 * n * r);
   const zr = sc.subarray(0, n * r), zi = sc.subarray(n * r, 2 * n * r);
   for (let a = 0; a < r; a++) {
     const m = mu[a], o = a * n;
-    for (let k = 0; k < n; k++) expNegI(m * s[k], zr, zi, o + k);
+    for (let k = 0; k < n; k++) {
+      expNegI(m * s[k], zr, zi, o + k);
+      if (split) {
+        const q = Math.sqrt(weights[k]);
+        zr[o + k] *= q;
+        zi[o + k] *= q;
+      }
+    }
   }
-  return { n, r, s, zr, zi };
+  return { n, r, s, zr, zi, split, weights };
 }
 
-/** The JavaScript path of one term's pair sums: e_k = w_k e^{−iφ s_k}, y_a = e ∘ z_a, S = Σ y conj z. */
-function jsPairs(t: JsTable, phi: number, weights: Float64Array, todo: Uint8Array, S: Float64Array): void {
-  const { n, r, s, zr, zi } = t;
+/** The JavaScript path of one term's pair sums: e_k = e^{−iφ s_k} (times w_k where z is unweighted), S = Σ_k e_k z_a conj z_b. */
+function jsPairs(t: JsTable, phi: number, todo: Uint8Array, S: Float64Array): void {
+  const { n, r, s, zr, zi, split, weights } = t;
+  if (phi === 0 && split) {
+    pairSums(zr, zi, zr, zi, n, r, todo, S);
+    return;
+  }
   const es = scratch3(2 * n);
   const er = es.subarray(0, n), ei = es.subarray(n, 2 * n);
-  if (phi === 0) {
-    er.set(weights);
-    ei.fill(0);
-  } else {
-    for (let k = 0; k < n; k++) {
-      expNegI(phi * s[k], er, ei, k);
+  for (let k = 0; k < n; k++) {
+    if (phi === 0) {
+      er[k] = 1;
+      ei[k] = 0;
+    } else expNegI(phi * s[k], er, ei, k);
+    if (!split) {
       er[k] *= weights[k];
       ei[k] *= weights[k];
     }
@@ -711,7 +731,7 @@ export function specAverageTrace(st: SpecState, chi: CharCache): { value: number
   const memo = (st.memo ??= {});
   let value = memo.trace;
   if (value === undefined) {
-    value = st.fac ? traceFactored(st.fac, av.A) : traceWAW(st.W, av.A);
+    value = st.fac ? traceFactored(st.fac, av.A, st.shared) : traceWAW(st.W, av.A);
     memo.trace = value;
   }
   return { value, error: av.error, hermiticity: av.hermiticity, positive: av.positive };
@@ -850,44 +870,61 @@ export function specTraceMoment(st: SpecState, dist: VelocityDistribution, n: nu
  * Σ_a H_aa G_aa + 2 Σ_{a<b} Re(H_ab G_ba): half of G is computed.
  */
 /**
- * Tr(W A W†) for W = L·B: Σ_ab A_ab G_ba with G = B†(L†L)B, each entry over the few non-zero rows of
- * two columns of B (L†L is kept with L).
+ * Tr(W A W†) for W = L·B as Tr(L†L · N), N = B A B† (A's Hermitian part) computed once for all the
+ * states that share A and B (the ports of one magnet), each entry over the few columns of two rows of
+ * B; L†L is kept with L.
  */
-function traceFactored(f: BasisFactors, A: CMat): number {
-  const b = f.blocks, { start, rows } = f.support;
-  const r = b.cols, dm = b.rows;
-  const m = f.left ? gramOf(f.left) : null;
-  let tr = 0;
-  for (let a = 0; a < r; a++) {
-    for (let c = a; c < r; c++) {
-      // G_ca = Σ_{i ∈ rows(c), j ∈ rows(a)} conj(B_ic) M_ij B_ja
-      let gr = 0, gi = 0;
-      for (let q = start[c]; q < start[c + 1]; q++) {
-        const i = rows[q];
-        const xr = b.re[i * r + c], xi = -b.im[i * r + c];
-        if (xr === 0 && xi === 0) continue;
-        // (M B)_ia
-        let yr = 0, yi = 0;
-        if (m) {
-          for (let p = start[a]; p < start[a + 1]; p++) {
-            const j = rows[p];
-            const mr = m.re[i * dm + j], mi = m.im[i * dm + j], br = b.re[j * r + a], bi = b.im[j * r + a];
-            yr += mr * br - mi * bi;
-            yi += mr * bi + mi * br;
-          }
-        } else {
-          yr = b.re[i * r + a];
-          yi = b.im[i * r + a];
+function traceFactored(f: BasisFactors, A: CMat, shared: SharedAverages): number {
+  const n = (shared.lab ??= blocksSandwich(f, A));
+  const d = n.rows;
+  if (!f.left) {
+    let tr = 0;
+    for (let i = 0; i < d; i++) tr += n.re[i * d + i];
+    return tr;
+  }
+  const m = gramOf(f.left);
+  // Σ_ij M_ij N_ji with both Hermitian: the diagonal plus twice the real part above it
+  let diag = 0, off = 0;
+  for (let i = 0; i < d; i++) {
+    diag += m.re[i * d + i] * n.re[i * d + i];
+    for (let j = i + 1; j < d; j++) off += m.re[i * d + j] * n.re[i * d + j] + m.im[i * d + j] * n.im[i * d + j];
+  }
+  return diag + 2 * off;
+}
+
+/** N = B H B†, H = (A + A†)/2, over the non-zero columns of each row of B; N is Hermitian. */
+function blocksSandwich(f: BasisFactors, A: CMat): CMat {
+  const b = f.blocks, { rowStart, cols } = f.support;
+  const d = b.rows, r = b.cols;
+  const out = cmatZeros(d, d);
+  const br = b.re, bi = b.im, ar = A.re, ai = A.im;
+  for (let i = 0; i < d; i++) {
+    for (let j = i; j < d; j++) {
+      // N_ij = Σ_{a ∈ cols(i), c ∈ cols(j)} B_ia H_ac conj(B_jc)
+      let sr = 0, si = 0;
+      for (let p = rowStart[i]; p < rowStart[i + 1]; p++) {
+        const a = cols[p];
+        const xr = br[i * r + a], xi = bi[i * r + a];
+        let tr = 0, ti = 0;
+        for (let q = rowStart[j]; q < rowStart[j + 1]; q++) {
+          const c = cols[q];
+          const hr = 0.5 * (ar[a * r + c] + ar[c * r + a]), hi = 0.5 * (ai[a * r + c] - ai[c * r + a]);
+          const yr = br[j * r + c], yi = -bi[j * r + c];
+          tr += hr * yr - hi * yi;
+          ti += hr * yi + hi * yr;
         }
-        gr += xr * yr - xi * yi;
-        gi += xr * yi + xi * yr;
+        sr += xr * tr - xi * ti;
+        si += xr * ti + xi * tr;
       }
-      const hr = 0.5 * (A.re[a * r + c] + A.re[c * r + a]), hi = 0.5 * (A.im[a * r + c] - A.im[c * r + a]);
-      const t = hr * gr - hi * gi;
-      tr += a === c ? t : 2 * t;
+      out.re[i * d + j] = sr;
+      out.im[i * d + j] = i === j ? 0 : si;
+      if (j !== i) {
+        out.re[j * d + i] = sr;
+        out.im[j * d + i] = -si;
+      }
     }
   }
-  return tr;
+  return out;
 }
 
 function traceWAW(W: CMat, A: CMat): number {

@@ -480,6 +480,9 @@ export interface ColumnSupport {
   /** Column c has rows rows[start[c]] … rows[start[c + 1] − 1]. */
   readonly start: Int32Array;
   readonly rows: Int32Array;
+  /** Row i has columns cols[rowStart[i]] … cols[rowStart[i + 1] − 1] (the columns of its block). */
+  readonly rowStart: Int32Array;
+  readonly cols: Int32Array;
 }
 
 const supports = new WeakMap<object, ColumnSupport>();
@@ -487,11 +490,19 @@ function columnSupport(blocks: readonly { idx: readonly number[] }[]): ColumnSup
   let s = supports.get(blocks);
   if (!s) {
     const start: number[] = [0], rows: number[] = [];
-    for (const b of blocks) for (let c = 0; c < b.idx.length; c++) {
+    const byRow: number[][] = [];
+    let col = 0;
+    for (const b of blocks) for (let c = 0; c < b.idx.length; c++, col++) {
       rows.push(...b.idx);
       start.push(rows.length);
+      for (const i of b.idx) (byRow[i] ??= []).push(col);
     }
-    s = { start: Int32Array.from(start), rows: Int32Array.from(rows) };
+    const rowStart: number[] = [0], cols: number[] = [];
+    for (let i = 0; i < byRow.length; i++) {
+      cols.push(...(byRow[i] ?? []));
+      rowStart.push(cols.length);
+    }
+    s = { start: Int32Array.from(start), rows: Int32Array.from(rows), rowStart: Int32Array.from(rowStart), cols: Int32Array.from(cols) };
     supports.set(blocks, s);
   }
   return s;

@@ -25,9 +25,9 @@ const host = globalThis as unknown as WasmHost;
 
 interface Exports {
   readonly memory: WasmMemory;
-  phases(mu: number, r: number, s: number, n: number, z: number): void;
-  weights(phi: number, s: number, w: number, n: number, e: number): void;
-  scale(e: number, z: number, y: number, n: number, r: number, real: number): void;
+  phases(mu: number, r: number, s: number, q: number, n: number, z: number): void;
+  weights(phi: number, s: number, n: number, e: number): void;
+  scale(e: number, z: number, y: number, n: number, r: number): void;
   pairs(y: number, z: number, n: number, r: number, todo: number, S: number): void;
 }
 
@@ -92,7 +92,8 @@ let cached: { ex: Exports; k: TableKernel } | null = null;
 
 function kernelOn(ex: Exports): TableKernel {
   if (cached?.ex === ex) return cached.k;
-  // layout (bytes): s | w | mu | z | e | y | todo | S, rows of complex numbers as in kernels.wat
+  // layout (bytes): s | √w | mu | z | e | y | todo | S, rows of complex numbers as in kernels.wat; z_a(k)
+  // carries √w_k, so that Σ_k z_a conj z_b carries w_k and a term with φ = 0 needs no weighting pass
   let r = 0, n = 0, rp = 0, np = 0, sMax = 0;
   let speedsNow: Float64Array | null = null, weightsNow: Float64Array | null = null;
   let oS = 0, oW = 0, oMu = 0, oZ = 0, oE = 0, oY = 0, oTodo = 0, oOut = 0;
@@ -115,6 +116,7 @@ function kernelOn(ex: Exports): TableKernel {
   };
   const k: TableKernel = {
     table(speeds, weights) {
+      // the weights of a table are fractions of the flux (≥ 0, physics/velocity.ts): √w is real
       if (speeds === speedsNow && weights === weightsNow && speeds.length === n) return;
       n = speeds.length;
       np = n + (n & 1);
@@ -122,13 +124,17 @@ function kernelOn(ex: Exports): TableKernel {
       oW = oS + 8 * np;
       layout(0);
       sMax = 0;
+      let negative = false;
       // a padding speed repeats the last one; its weight is 0, so it adds nothing
       for (let j = 0; j < np; j++) {
         const s = 1 / speeds[j < n ? j : n - 1];
         f[oS / 8 + j] = s;
-        f[oW / 8 + j] = j < n ? weights[j] : 0;
+        f[oW / 8 + j] = j < n ? Math.sqrt(weights[j]) : 0;
         sMax = Math.max(sMax, s);
+        if (j < n && !(weights[j] >= 0)) negative = true;
       }
+      // a negative (or NaN) weight has no real square root: the JavaScript path takes such a table
+      if (negative) sMax = Infinity;
       speedsNow = speeds;
       weightsNow = weights;
     },
@@ -139,7 +145,7 @@ function kernelOn(ex: Exports): TableKernel {
       if (!(muMax * sMax < FAST_LIMIT)) return false;
       layout(mu.length);
       for (let a = 0; a < rp; a++) f[oMu / 8 + a] = a < r ? mu[a] : 0;
-      ex.phases(oMu, rp, oS, np, oZ);
+      ex.phases(oMu, rp, oS, oW, np, oZ);
       return true;
     },
     pairs(phi, todo, S) {
@@ -150,9 +156,12 @@ function kernelOn(ex: Exports): TableKernel {
         t.fill(0);
         for (let a = 0; a < r; a++) t.set(todo.subarray(a * r, a * r + r), a * rp);
       }
-      ex.weights(phi, oS, oW, np, oE);
-      ex.scale(oE, oZ, oY, np, rp, phi === 0 ? 1 : 0);
-      ex.pairs(oY, oZ, np, rp, oTodo, oOut);
+      if (phi === 0) ex.pairs(oZ, oZ, np, rp, oTodo, oOut);
+      else {
+        ex.weights(phi, oS, np, oE);
+        ex.scale(oE, oZ, oY, np, rp);
+        ex.pairs(oY, oZ, np, rp, oTodo, oOut);
+      }
       const o = oOut / 8;
       for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
         if (!todo[a * r + b]) continue;

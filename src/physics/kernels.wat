@@ -63,9 +63,10 @@
     (v128.xor (local.get $sr)
       (i64x2.shl (v128.xor (v128.and (local.get $q) (i64x2.splat (i64.const 2))) (i64x2.splat (i64.const 2))) (i32.const 62))))
 
-  ;; z_a(k) = e^{−i mu[a]·s[k]} for a < r, k < n (s: the inverse speeds), rows as in the module header.
-  (func (export "phases") (param $mu i32) (param $r i32) (param $s i32) (param $n i32) (param $z i32)
-    (local $a i32) (local $k i32) (local $p i32) (local $m v128) (local $re v128) (local $im v128)
+  ;; z_a(k) = √w[k]·e^{−i mu[a]·s[k]} for a < r, k < n (s: the inverse speeds, w: the weights, √w: $q),
+  ;; rows as in the module header; then Σ_k z_a conj z_b carries the weights w_k.
+  (func (export "phases") (param $mu i32) (param $r i32) (param $s i32) (param $q i32) (param $n i32) (param $z i32)
+    (local $a i32) (local $k i32) (local $p i32) (local $m v128) (local $re v128) (local $im v128) (local $wq v128)
     (local.set $p (local.get $z))
     (local.set $a (i32.const 0))
     (block $done_a (loop $loop_a
@@ -77,39 +78,34 @@
         (call $cis (f64x2.mul (local.get $m) (v128.load (i32.add (local.get $s) (i32.shl (local.get $k) (i32.const 3))))))
         (local.set $im)
         (local.set $re)
-        (v128.store offset=0 (local.get $p) (local.get $re))
-        (v128.store offset=16 (local.get $p) (local.get $im))
+        (local.set $wq (v128.load (i32.add (local.get $q) (i32.shl (local.get $k) (i32.const 3)))))
+        (v128.store offset=0 (local.get $p) (f64x2.mul (local.get $wq) (local.get $re)))
+        (v128.store offset=16 (local.get $p) (f64x2.mul (local.get $wq) (local.get $im)))
         (local.set $p (i32.add (local.get $p) (i32.const 32)))
         (local.set $k (i32.add (local.get $k) (i32.const 2)))
         (br $loop_k)))
       (local.set $a (i32.add (local.get $a) (i32.const 1)))
       (br $loop_a))))
 
-  ;; e(k) = w[k]·e^{−i phi·s[k]} (one row); with phi = 0, e = w exactly.
-  (func (export "weights") (param $phi f64) (param $s i32) (param $w i32) (param $n i32) (param $e i32)
-    (local $k i32) (local $p i32) (local $m v128) (local $wk v128) (local $re v128) (local $im v128)
+  ;; e(k) = e^{−i phi·s[k]} (one row; the weights are in z).
+  (func (export "weights") (param $phi f64) (param $s i32) (param $n i32) (param $e i32)
+    (local $k i32) (local $p i32) (local $m v128) (local $re v128) (local $im v128)
     (local.set $m (f64x2.splat (local.get $phi)))
     (local.set $p (local.get $e))
     (local.set $k (i32.const 0))
     (block $done (loop $loop
       (br_if $done (i32.ge_u (local.get $k) (local.get $n)))
-      (local.set $wk (v128.load (i32.add (local.get $w) (i32.shl (local.get $k) (i32.const 3)))))
-      (if (f64.eq (local.get $phi) (f64.const 0))
-        (then
-          (v128.store offset=0 (local.get $p) (local.get $wk))
-          (v128.store offset=16 (local.get $p) (v128.const f64x2 0 0)))
-        (else
-          (call $cis (f64x2.mul (local.get $m) (v128.load (i32.add (local.get $s) (i32.shl (local.get $k) (i32.const 3))))))
-          (local.set $im)
-          (local.set $re)
-          (v128.store offset=0 (local.get $p) (f64x2.mul (local.get $wk) (local.get $re)))
-          (v128.store offset=16 (local.get $p) (f64x2.mul (local.get $wk) (local.get $im)))))
+      (call $cis (f64x2.mul (local.get $m) (v128.load (i32.add (local.get $s) (i32.shl (local.get $k) (i32.const 3))))))
+      (local.set $im)
+      (local.set $re)
+      (v128.store offset=0 (local.get $p) (local.get $re))
+      (v128.store offset=16 (local.get $p) (local.get $im))
       (local.set $p (i32.add (local.get $p) (i32.const 32)))
       (local.set $k (i32.add (local.get $k) (i32.const 2)))
       (br $loop))))
 
-  ;; y_a = e ∘ z_a (complex), for a < r; with $real set, e is real (its imaginary parts are 0).
-  (func (export "scale") (param $e i32) (param $z i32) (param $y i32) (param $n i32) (param $r i32) (param $real i32)
+  ;; y_a = e ∘ z_a (complex), for a < r.
+  (func (export "scale") (param $e i32) (param $z i32) (param $y i32) (param $n i32) (param $r i32)
     (local $a i32) (local $pe i32) (local $pz i32) (local $py i32) (local $end i32)
     (local $er v128) (local $ei v128) (local $vr v128) (local $vi v128)
     (local.set $pz (local.get $z))
@@ -122,18 +118,13 @@
       (block $done_k (loop $loop_k
         (br_if $done_k (i32.ge_u (local.get $pe) (local.get $end)))
         (local.set $er (v128.load offset=0 (local.get $pe)))
+        (local.set $ei (v128.load offset=16 (local.get $pe)))
         (local.set $vr (v128.load offset=0 (local.get $pz)))
         (local.set $vi (v128.load offset=16 (local.get $pz)))
-        (if (local.get $real)
-          (then
-            (v128.store offset=0 (local.get $py) (f64x2.mul (local.get $er) (local.get $vr)))
-            (v128.store offset=16 (local.get $py) (f64x2.mul (local.get $er) (local.get $vi))))
-          (else
-            (local.set $ei (v128.load offset=16 (local.get $pe)))
-            (v128.store offset=0 (local.get $py)
-              (f64x2.sub (f64x2.mul (local.get $er) (local.get $vr)) (f64x2.mul (local.get $ei) (local.get $vi))))
-            (v128.store offset=16 (local.get $py)
-              (f64x2.add (f64x2.mul (local.get $er) (local.get $vi)) (f64x2.mul (local.get $ei) (local.get $vr))))))
+        (v128.store offset=0 (local.get $py)
+          (f64x2.sub (f64x2.mul (local.get $er) (local.get $vr)) (f64x2.mul (local.get $ei) (local.get $vi))))
+        (v128.store offset=16 (local.get $py)
+          (f64x2.add (f64x2.mul (local.get $er) (local.get $vi)) (f64x2.mul (local.get $ei) (local.get $vr))))
         (local.set $pe (i32.add (local.get $pe) (i32.const 32)))
         (local.set $pz (i32.add (local.get $pz) (i32.const 32)))
         (local.set $py (i32.add (local.get $py) (i32.const 32)))

@@ -57,6 +57,9 @@ describe('the WebAssembly table kernel', () => {
     expect(k.phases(Float64Array.of(NaN))).toBe(false);
     expect(k.phases(Float64Array.of(1e3, 1))).toBe(true);
     expect(k.pairs(4e9, new Uint8Array(4).fill(1), new Float64Array(8))).toBe(false);
+    // the kernel carries √w in its phase factors: a table with a negative weight is left to JavaScript
+    k.table(Float64Array.of(1, 2), Float64Array.of(1.5, -0.5));
+    expect(k.phases(Float64Array.of(1e3, 1))).toBe(false);
   });
 
   it('gives the same beam average as the JavaScript path to 1e-15 (a 16-level state on 255 speeds)', () => {
