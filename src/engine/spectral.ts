@@ -234,9 +234,19 @@ export function mergeTerms(ts: SpecTerm[]): SpecTerm[] {
 /** Eigenvalues closer than 1e-12 of the largest are set equal, so that equal Bohr frequencies coincide. */
 function snapDegenerate(lambda: ArrayLike<number>): Float64Array {
   const n = lambda.length;
-  const order = Array.from({ length: n }, (_, i) => i).sort((a, b) => lambda[a] - lambda[b]);
+  // indices in ascending order of λ (insertion sort: n is the dimension of a spin, at most a few dozen)
+  const order = orderScratch(n);
   let scale = 0;
-  for (let i = 0; i < n; i++) scale = Math.max(scale, Math.abs(lambda[i]));
+  for (let i = 0; i < n; i++) {
+    scale = Math.max(scale, Math.abs(lambda[i]));
+    const v = lambda[i];
+    let j = i - 1;
+    while (j >= 0 && lambda[order[j]] > v) {
+      order[j + 1] = order[j];
+      j--;
+    }
+    order[j + 1] = i;
+  }
   const tol = 1e-12 * scale;
   const out = copyF64(lambda);
   let start = 0;
@@ -252,6 +262,11 @@ function snapDegenerate(lambda: ArrayLike<number>): Float64Array {
     }
   }
   return out;
+}
+let orderBuf = new Int32Array(64);
+function orderScratch(n: number): Int32Array {
+  if (orderBuf.length < n) orderBuf = new Int32Array(2 * n);
+  return orderBuf;
 }
 
 /**
@@ -347,30 +362,61 @@ function sandwich(y: CMat, x: CMat): CMat {
   }
   if (!diagonal) return cmatMul(cmatMul(y, x), cmatDagger(y));
   const out = cmatZeros(d, d);
-  const yr = y.re, yi = y.im, or = out.re, oi = out.im, xr = x.re, xi = x.im;
+  const xr = x.re, xi = x.im, or = out.re, oi = out.im;
   let real = true;
   for (let k = 0; k < r; k++) if (xi[k * r + k] !== 0) real = false;
-  // out_ij = Σ_k x_k y_ik conj(y_jk), summed in registers; with every x_k real it is Hermitian: j ≥ i
-  for (let i = 0; i < d; i++) {
-    const oi0 = i * r;
-    for (let j = real ? i : 0; j < d; j++) {
-      const oj = j * r;
+  if (!real) {
+    // out_ij = Σ_k x_k y_ik conj(y_jk), x_k complex
+    const yr = y.re, yi = y.im;
+    for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
       let sr = 0, si = 0;
       for (let k = 0; k < r; k++) {
-        const ar = yr[oi0 + k], ai = yi[oi0 + k], br = yr[oj + k], bi = yi[oj + k];
-        const cr = ar * br + ai * bi, ci = ai * br - ar * bi; // y_ik conj(y_jk)
+        const ar = yr[i * r + k], ai = yi[i * r + k], br = yr[j * r + k], bi = yi[j * r + k];
+        const cr = ar * br + ai * bi, ci = ai * br - ar * bi;
         const wr = xr[k * r + k], wi = xi[k * r + k];
         sr += wr * cr - wi * ci;
         si += wr * ci + wi * cr;
       }
       or[i * d + j] = sr;
       oi[i * d + j] = si;
-      if (real && j !== i) {
+    }
+    return out;
+  }
+  // every x_k real: out = Σ_k x_k y_k y_k† is Hermitian; over the columns with x_k ≠ 0, kept as
+  // z = y·|x|^{1/2} (column k by column, contiguous) with the sign of x_k apart
+  let m = 0;
+  for (let k = 0; k < r; k++) if (xr[k * r + k] !== 0) m++;
+  const zr = zeroedF64(m * d), zi = zeroedF64(m * d), sg = zeroedF64(m);
+  let c = 0;
+  for (let k = 0; k < r; k++) {
+    const w = xr[k * r + k];
+    if (w === 0) continue;
+    const q = Math.sqrt(Math.abs(w));
+    sg[c] = w < 0 ? -1 : 1;
+    for (let i = 0; i < d; i++) {
+      zr[c * d + i] = q * y.re[i * r + k];
+      zi[c * d + i] = q * y.im[i * r + k];
+    }
+    c++;
+  }
+  for (let i = 0; i < d; i++) {
+    for (let j = i; j < d; j++) {
+      let sr = 0, si = 0;
+      for (let k = 0; k < m; k++) {
+        const o = k * d;
+        const ar = zr[o + i], ai = zi[o + i], br = zr[o + j], bi = zi[o + j];
+        // sg_k z_ik conj(z_jk)
+        const s = sg[k];
+        sr += s * (ar * br + ai * bi);
+        si += s * (ai * br - ar * bi);
+      }
+      or[i * d + j] = sr;
+      oi[i * d + j] = i === j ? 0 : si;
+      if (j !== i) {
         or[j * d + i] = sr;
         oi[j * d + i] = -si;
       }
     }
-    if (real) oi[i * d + i] = 0;
   }
   return out;
 }
