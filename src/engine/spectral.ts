@@ -16,7 +16,7 @@
  * phase-length (merged within 1e-13 of the largest), then changes basis.
  */
 import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, zeroedF64, copyF64, cmatOwn } from '../physics/cmat.ts';
-import { charFunction, type VelocityDistribution } from '../physics/velocity.ts';
+import { charFunction, effusiveCharInto, type VelocityDistribution } from '../physics/velocity.ts';
 import { expNegI } from '../physics/trig.ts';
 import { tableKernel } from '../physics/kernels.ts';
 import type { ColumnSupport } from '../physics/hyperfine.ts';
@@ -489,6 +489,20 @@ export class CharCache {
   /** True once a table sum ran in the WebAssembly kernel (physics/kernels.ts). */
   wasm = false;
   constructor(readonly dist: VelocityDistribution) {}
+  private readonly out = new Float64Array(3);
+  /**
+   * χ(φ) as into[0] + i·into[1] with its error into[2], in an array of the cache that the next call
+   * overwrites (the effusive panels are read without allocating).
+   */
+  into(phi: number): Float64Array {
+    const o = this.out;
+    if (this.dist.kind === 'effusive' && effusiveCharInto(this.dist.a, phi, o)) return o;
+    const v = this.get(phi);
+    o[0] = v[0];
+    o[1] = v[1];
+    o[2] = v[2];
+    return o;
+  }
   get(phi: number): [number, number, number] {
     if (phi === 0) return [1, 0, 0];
     const hit = this.map.get(phi);
@@ -534,14 +548,16 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
         const j = b * r + a;
         const yr = sym ? t.X.re[j] : 0, yi = sym ? t.X.im[j] : 0;
         if (xr === 0 && xi === 0 && yr === 0 && yi === 0) continue;
-        const [cr, ci, ce] = chi.get(phaseLength(st, t, a, b));
+        const c = chi.into(phaseLength(st, t, a, b));
+        const cr = c[0], ci = c[1], ce = c[2];
         A.re[i] += xr * cr - xi * ci;
         A.im[i] += xr * ci + xi * cr;
-        error += Math.hypot(xr, xi) * ce;
+        // |x|·error (the entries are fractions of the flux: no overflow in the square)
+        error += Math.sqrt(xr * xr + xi * xi) * ce;
         if (sym && a !== b) {
           A.re[j] += yr * cr + yi * ci;
           A.im[j] += yi * cr - yr * ci;
-          error += Math.hypot(yr, yi) * ce;
+          error += Math.sqrt(yr * yr + yi * yi) * ce;
         }
       }
     }

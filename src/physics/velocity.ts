@@ -129,6 +129,39 @@ function panelFor(n: number, w: number): ChebPanel | null {
   return p;
 }
 
+/**
+ * χ(Φ) = χ₀ of an effusive beam with a = √(2kT/M), written to out[0] (re), out[1] (im) and out[2] (its
+ * error) without allocating, where the panels (or the bound above W = 420) serve it: the values of
+ * charFunction(d, phi, 0). Returns false, with out unchanged, where a direct integral is needed.
+ */
+export function effusiveCharInto(a: number, phi: number, out: Float64Array): boolean {
+  const w = Math.abs(phi) / a;
+  if (!(w > 0)) return false;
+  if (w >= W_TOP) {
+    out[0] = 0;
+    out[1] = 0;
+    out[2] = 1e3 * Math.exp(-1.5 * Math.cbrt((w / 2) ** 2));
+    return true;
+  }
+  const p = panelFor(0, w);
+  if (!p) return false;
+  // Clenshaw, as chebEval
+  const t = (2 * w - p.a - p.b) / (p.b - p.a);
+  const cr = p.cr, ci = p.ci;
+  let b1r = 0, b1i = 0, b2r = 0, b2i = 0;
+  for (let j = cr.length - 1; j >= 1; j--) {
+    const r = 2 * t * b1r - b2r + cr[j];
+    const i = 2 * t * b1i - b2i + ci[j];
+    b2r = b1r; b2i = b1i;
+    b1r = r; b1i = i;
+  }
+  const im = t * b1i - b2i + ci[0];
+  out[0] = t * b1r - b2r + cr[0];
+  out[1] = phi < 0 ? -im : im;
+  out[2] = p.error;
+  return true;
+}
+
 /** I_n(W) for n = 0 (yields) and n = 2 (mean deflections) through the panels. */
 function effusiveTabled(n: number, w: number): CharValue {
   if (w === 0) return effusiveIntegral(n, w);

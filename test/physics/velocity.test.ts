@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { effusiveDistribution, charFunction, inverseSpeedMoment, supersonicDistribution, tableDistribution, speedGrid, BOLTZMANN } from '../../src/physics/velocity.ts';
+import { effusiveDistribution, charFunction, inverseSpeedMoment, supersonicDistribution, tableDistribution, speedGrid, BOLTZMANN, effusiveCharInto } from '../../src/physics/velocity.ts';
 import { integrateAdaptive } from '../../src/physics/quadrature.ts';
 
 const U = 1.66053906660e-27; // CODATA 2018 atomic mass constant
@@ -70,5 +70,26 @@ describe('supersonic and table distributions', () => {
     const g = speedGrid(effusiveDistribution(1300, 107 * U));
     expect(g.excluded).toBeGreaterThan(0);
     expect(g.excluded).toBeLessThan(4e-6);
+  });
+});
+
+describe('effusiveCharInto (the allocation-free read of the effusive panels)', () => {
+  it('gives the values of charFunction(d, φ, 0), and declines where a direct integral is needed', () => {
+    const d = effusiveDistribution(400, 132.905451958 * 1.66053906660e-27);
+    const out = new Float64Array(3);
+    for (const w of [3e-4, 0.01, 0.7, 1, 1.3, 17.25, 99.9, 419.9, 420, 1e4, 1.3e7]) {
+      for (const sign of [1, -1]) {
+        const phi = sign * w * (d as { a: number }).a;
+        expect(effusiveCharInto((d as { a: number }).a, phi, out)).toBe(true);
+        const c = charFunction(d, phi, 0);
+        // the same numbers (±0 alike)
+        expect(out[0] === c.re && out[1] === c.im && out[2] === c.error).toBe(true);
+      }
+    }
+    // below the smallest panel (W < 2^-14) and at Φ = 0 the integral is evaluated directly
+    out.fill(7);
+    expect(effusiveCharInto(100, 100 * 2 ** -15, out)).toBe(false);
+    expect(effusiveCharInto(100, 0, out)).toBe(false);
+    expect([...out]).toEqual([7, 7, 7]);
   });
 });
