@@ -78,14 +78,18 @@ export interface BasisFactors {
   readonly support: ColumnSupport;
 }
 
+/** A state whose basis is kept as factors; W is formed on first use. */
+class FactoredState implements SpecState {
+  private w: CMat | undefined = undefined;
+  memo: StateMemo = {};
+  constructor(readonly fac: BasisFactors, readonly mu: Float64Array | null, readonly terms: readonly SpecTerm[], readonly shared: SharedAverages) {}
+  get W(): CMat {
+    return (this.w ??= this.fac.left ? leftTimesBlocks(this.fac) : this.fac.blocks);
+  }
+}
+
 function factoredState(fac: BasisFactors, mu: Float64Array | null, terms: readonly SpecTerm[], shared: SharedAverages = {}): SpecState {
-  let w: CMat | undefined;
-  return {
-    get W(): CMat {
-      return (w ??= fac.left ? leftTimesBlocks(fac) : fac.blocks);
-    },
-    fac, mu, terms, shared, memo: {},
-  };
+  return new FactoredState(fac, mu, terms, shared);
 }
 
 /** The number of basis columns (without forming a factored basis). */
