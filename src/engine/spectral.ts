@@ -18,7 +18,7 @@
 import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, zeroedF64, copyF64, cmatOwn } from '../physics/cmat.ts';
 import { charFunction, effusiveCharInto, type VelocityDistribution } from '../physics/velocity.ts';
 import { expNegI } from '../physics/trig.ts';
-import { tableKernel } from '../physics/kernels.ts';
+import { tableKernel, denseKernels } from '../physics/kernels.ts';
 import type { ColumnSupport } from '../physics/hyperfine.ts';
 
 export interface SpecTerm {
@@ -403,6 +403,11 @@ function sandwich(y: CMat, x: CMat): CMat {
     }
     c++;
   }
+  const dense = denseKernels();
+  if (dense) {
+    dense.gram(zr, zi, sg, m, d, out);
+    return out;
+  }
   for (let i = 0; i < d; i++) {
     for (let j = i; j < d; j++) {
       let sr = 0, si = 0;
@@ -765,8 +770,11 @@ function pairSums(yr: Float64Array, yi: Float64Array, zr: Float64Array, zi: Floa
 }
 
 /** Cholesky of A + δ·1: succeeds exactly when every eigenvalue of the Hermitian part exceeds −δ. */
-function isPositive(a: CMat, delta: number): boolean {
+export function isPositive(a: CMat, delta: number): boolean {
   const n = a.rows;
+  // the same factorisation in WebAssembly where it runs (physics/kernels.wat chol)
+  const dense = denseKernels();
+  if (dense) return dense.positive(a.re, a.im, n, delta);
   const lr = zeroedF64(n * n), li = zeroedF64(n * n);
   for (let j = 0; j < n; j++) {
     let djj = 0.5 * (a.re[j * n + j] + a.re[j * n + j]) + delta;

@@ -29,6 +29,8 @@ interface Exports {
   weights(phi: number, s: number, n: number, e: number): void;
   scale(e: number, z: number, y: number, n: number, r: number): void;
   pairs(y: number, z: number, n: number, r: number, todo: number, S: number): void;
+  gram(zr: number, zi: number, sg: number, m: number, d: number, dp: number, or: number, oi: number): void;
+  chol(ar: number, ai: number, n: number, delta: number, lr: number, li: number): number;
 }
 
 /** Beyond this |phase| the kernel's quadrant index would saturate (physics/trig.ts FAST_LIMIT). */
@@ -51,6 +53,17 @@ export interface TableKernel {
    * too. False (nothing computed) when |φ|·s_k reaches 3e9 rad.
    */
   pairs(phi: number, todo: Uint8Array, S: Float64Array): boolean;
+}
+
+/** Small dense Hermitian products and tests in WebAssembly (the per-point matrix work of a scan). */
+export interface DenseKernels {
+  /**
+   * out = Σ_k sg_k z_k z_k† for the m rows z_k of (zr, zi) (row k at k·d, length d); out is d×d,
+   * Hermitian, its lower half the mirror of the upper.
+   */
+  gram(zr: Float64Array, zi: Float64Array, sg: Float64Array, m: number, d: number, out: { re: Float64Array; im: Float64Array }): void;
+  /** True when the Hermitian part of a (n×n) plus δ·1 has a Cholesky factor (every eigenvalue > −δ). */
+  positive(ar: Float64Array, ai: Float64Array, n: number, delta: number): boolean;
 }
 
 let instance: Exports | null | undefined;
@@ -88,7 +101,16 @@ export function tableKernel(): TableKernel | null {
   return ex ? kernelOn(ex) : null;
 }
 
-let cached: { ex: Exports; k: TableKernel } | null = null;
+/** The dense kernels, or null where WebAssembly is unavailable or turned off. */
+export function denseKernels(): DenseKernels | null {
+  if (disabled) return null;
+  const ex = load();
+  if (!ex) return null;
+  kernelOn(ex);
+  return cached!.dense;
+}
+
+let cached: { ex: Exports; k: TableKernel; dense: DenseKernels } | null = null;
 
 function kernelOn(ex: Exports): TableKernel {
   if (cached?.ex === ex) return cached.k;
@@ -171,6 +193,41 @@ function kernelOn(ex: Exports): TableKernel {
       return true;
     },
   };
-  cached = { ex, k };
+  // the dense kernels work beyond the table's area (its inverse speeds and weights stay in place)
+  const helperBase = (): number => oOut + 16 * rp * rp;
+  const dense: DenseKernels = {
+    gram(zr, zi, sg, m, d, out) {
+      const dp = d + (d & 1);
+      const b = helperBase();
+      const oZr = b, oZi = oZr + 8 * m * dp, oSg = oZi + 8 * m * dp, oOr = oSg + 8 * m, oOi = oOr + 8 * dp * dp;
+      ensure(oOi + 8 * dp * dp);
+      for (let k = 0; k < m; k++) {
+        for (let i = 0; i < d; i++) {
+          f[oZr / 8 + k * dp + i] = zr[k * d + i];
+          f[oZi / 8 + k * dp + i] = zi[k * d + i];
+        }
+        if (dp !== d) {
+          f[oZr / 8 + k * dp + d] = 0;
+          f[oZi / 8 + k * dp + d] = 0;
+        }
+        f[oSg / 8 + k] = sg[k];
+      }
+      ex.gram(oZr, oZi, oSg, m, d, dp, oOr, oOi);
+      for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
+        out.re[i * d + j] = f[oOr / 8 + i * dp + j];
+        out.im[i * d + j] = f[oOi / 8 + i * dp + j];
+      }
+    },
+    positive(ar, ai, n, delta) {
+      const b = helperBase();
+      const oAr = b, oAi = oAr + 8 * n * n, oLr = oAi + 8 * n * n, oLi = oLr + 8 * n * n;
+      ensure(oLi + 8 * n * n);
+      f.set(ar.subarray(0, n * n), oAr / 8);
+      f.set(ai.subarray(0, n * n), oAi / 8);
+      f.fill(0, oLr / 8, oLi / 8 + n * n);
+      return ex.chol(oAr, oAi, n, delta, oLr, oLi) === 1;
+    },
+  };
+  cached = { ex, k, dense };
   return k;
 }

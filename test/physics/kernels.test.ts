@@ -1,8 +1,9 @@
 import { describe, it, expect, afterEach } from 'vitest';
-import { tableKernel, setKernelsEnabled } from '../../src/physics/kernels.ts';
-import { specAverageBasis, CharCache, type SpecState } from '../../src/engine/spectral.ts';
+import { tableKernel, denseKernels, setKernelsEnabled } from '../../src/physics/kernels.ts';
+import { specAverageBasis, CharCache, isPositive, type SpecState } from '../../src/engine/spectral.ts';
 import { tableDistribution } from '../../src/physics/velocity.ts';
-import { cmatZeros, cmatIdentity } from '../../src/physics/cmat.ts';
+import { cmatZeros, cmatIdentity, cmatMul, cmatDagger, type CMat } from '../../src/physics/cmat.ts';
+import { eigh } from '../../src/physics/eigh.ts';
 
 afterEach(() => setKernelsEnabled(true));
 
@@ -85,5 +86,53 @@ describe('the WebAssembly table kernel', () => {
     }
     expect(m).toBeGreaterThan(0.01);
     expect(d).toBeLessThanOrEqual(1e-15);
+  });
+});
+
+describe('the WebAssembly dense kernels', () => {
+  it('forms Σ_k sg_k z_k z_k† (Hermitian), for even and odd sizes', () => {
+    const rnd = lcg(5);
+    for (const [m, d] of [[1, 1], [3, 4], [8, 16], [5, 7]] as const) {
+      const zr = Float64Array.from({ length: m * d }, () => rnd() - 0.5), zi = Float64Array.from({ length: m * d }, () => rnd() - 0.5);
+      const sg = Float64Array.from({ length: m }, () => (rnd() < 0.3 ? -1 : 1));
+      const out = cmatZeros(d, d);
+      denseKernels()!.gram(zr, zi, sg, m, d, out);
+      for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
+        let re = 0, im = 0;
+        for (let k = 0; k < m; k++) {
+          re += sg[k] * (zr[k * d + i] * zr[k * d + j] + zi[k * d + i] * zi[k * d + j]);
+          im += sg[k] * (zi[k * d + i] * zr[k * d + j] - zr[k * d + i] * zi[k * d + j]);
+        }
+        expect(Math.abs(out.re[i * d + j] - re)).toBeLessThan(1e-15);
+        expect(Math.abs(out.im[i * d + j] - (i === j ? 0 : im))).toBeLessThan(1e-15);
+      }
+    }
+  });
+
+  it('tells positive from indefinite Hermitian matrices (Cholesky of A + δ·1)', () => {
+    const rnd = lcg(9);
+    const n = 12;
+    // a random unitary from the eigenvectors of a random Hermitian matrix
+    const h = cmatZeros(n, n);
+    for (let a = 0; a < n; a++) for (let b = a; b < n; b++) {
+      const re = rnd() - 0.5, im = a === b ? 0 : rnd() - 0.5;
+      h.re[a * n + b] = re; h.im[a * n + b] = im; h.re[b * n + a] = re; h.im[b * n + a] = -im;
+    }
+    const q = eigh(h).vectors;
+    const withSpectrum = (lambda: number[]): CMat => {
+      const l = cmatZeros(n, n);
+      lambda.forEach((x, i) => { l.re[i * n + i] = x; });
+      return cmatMul(cmatMul(q, l), cmatDagger(q));
+    };
+    const k = denseKernels()!;
+    const pos = withSpectrum(Array.from({ length: n }, (_, i) => 0.01 + i / n));
+    expect(k.positive(pos.re, pos.im, n, 1e-15)).toBe(true);
+    const neg = withSpectrum(Array.from({ length: n }, (_, i) => (i === 4 ? -1e-3 : 0.01 + i / n)));
+    expect(k.positive(neg.re, neg.im, n, 1e-15)).toBe(false);
+    // within the tolerance δ a small negative eigenvalue passes
+    expect(k.positive(neg.re, neg.im, n, 2e-3)).toBe(true);
+    // the engine's JavaScript path gives the same answers
+    setKernelsEnabled(false);
+    expect([isPositive(pos, 1e-15), isPositive(neg, 1e-15), isPositive(neg, 2e-3)]).toEqual([true, false, true]);
   });
 });
