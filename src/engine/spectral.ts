@@ -971,6 +971,12 @@ function blocksSandwich(f: BasisFactors, A: CMat): CMat {
   const b = f.blocks, { rowStart, cols } = f.support;
   const d = b.rows, r = b.cols;
   const out = cmatZeros(d, d);
+  // the same sums in WebAssembly where it runs (physics/kernels.wat bhb)
+  const dense = denseKernels();
+  if (dense) {
+    dense.bhb(b, rowStart, cols, d, r, A, out);
+    return out;
+  }
   const br = b.re, bi = b.im, ar = A.re, ai = A.im;
   for (let i = 0; i < d; i++) {
     for (let j = i; j < d; j++) {

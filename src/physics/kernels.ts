@@ -31,6 +31,7 @@ interface Exports {
   pairs(y: number, z: number, n: number, r: number, todo: number, S: number): void;
   gram(zr: number, zi: number, sg: number, m: number, d: number, dp: number, or: number, oi: number): void;
   chol(ar: number, ai: number, n: number, delta: number, lr: number, li: number): number;
+  bhb(br: number, bi: number, rs: number, cols: number, d: number, r: number, ar: number, ai: number, tr: number, ti: number, nr: number, ni: number): void;
 }
 
 /** Beyond this |phase| the kernel's quadrant index would saturate (physics/trig.ts FAST_LIMIT). */
@@ -64,6 +65,11 @@ export interface DenseKernels {
   gram(zr: Float64Array, zi: Float64Array, sg: Float64Array, m: number, d: number, out: { re: Float64Array; im: Float64Array }): void;
   /** True when the Hermitian part of a (n×n) plus δ·1 has a Cholesky factor (every eigenvalue > −δ). */
   positive(ar: Float64Array, ai: Float64Array, n: number, delta: number): boolean;
+  /**
+   * out = B H B† with H = (A + A†)/2 (r×r) and B (d×r) non-zero only in the columns cols[rowStart[i]] …
+   * cols[rowStart[i + 1] − 1] of each row i; out (d×d) Hermitian.
+   */
+  bhb(b: { re: Float64Array; im: Float64Array }, rowStart: Int32Array, cols: Int32Array, d: number, r: number, a: { re: Float64Array; im: Float64Array }, out: { re: Float64Array; im: Float64Array }): void;
 }
 
 let instance: Exports | null | undefined;
@@ -226,6 +232,23 @@ function kernelOn(ex: Exports): TableKernel {
       f.set(ai.subarray(0, n * n), oAi / 8);
       f.fill(0, oLr / 8, oLi / 8 + n * n);
       return ex.chol(oAr, oAi, n, delta, oLr, oLi) === 1;
+    },
+    bhb(b, rowStart, cols, d, r, a, out) {
+      const base = helperBase();
+      const oBr = base, oBi = oBr + 8 * d * r, oAr = oBi + 8 * d * r, oAi = oAr + 8 * r * r, oTr = oAi + 8 * r * r, oTi = oTr + 8 * d * r;
+      const oNr = oTi + 8 * d * r, oNi = oNr + 8 * d * d, oRs = oNi + 8 * d * d, oCols = oRs + 4 * (d + 1) + 4 * ((d + 1) & 1);
+      ensure(oCols + 4 * cols.length + 8);
+      f.set(b.re.subarray(0, d * r), oBr / 8);
+      f.set(b.im.subarray(0, d * r), oBi / 8);
+      f.set(a.re.subarray(0, r * r), oAr / 8);
+      f.set(a.im.subarray(0, r * r), oAi / 8);
+      f.fill(0, oTr / 8, oTi / 8 + d * r);
+      const ints = new Int32Array(ex.memory.buffer);
+      ints.set(rowStart.subarray(0, d + 1), oRs / 4);
+      ints.set(cols, oCols / 4);
+      ex.bhb(oBr, oBi, oRs, oCols, d, r, oAr, oAi, oTr, oTi, oNr, oNi);
+      out.re.set(f.subarray(oNr / 8, oNr / 8 + d * d));
+      out.im.set(f.subarray(oNi / 8, oNi / 8 + d * d));
     },
   };
   cached = { ex, k, dense };
