@@ -896,7 +896,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
       counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(), seen: new Set(), fieldEigen: new Map(),
       hAmbient: system.hamiltonian(line.ambient), ambientZero: false,
     };
-    ctx.ambientZero = ctx.hAmbient.re.every((x) => x === 0) && ctx.hAmbient.im.every((x) => x === 0);
+    ctx.ambientZero = isZeroMatrix(ctx.hAmbient);
     const st0 = initialSpec(line, system);
     const ap = line.oven.aperture;
     const track: Track = {
@@ -943,6 +943,17 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     positions,
     invariants: { balance, maxHermiticity: hermiticity.max, positive: hermiticity.positive },
   };
+}
+
+const zeroMatrices = new WeakMap<CMat, boolean>();
+/** True when every entry of h is 0, kept with h (the species' Hamiltonians are cached by field). */
+function isZeroMatrix(h: CMat): boolean {
+  let z = zeroMatrices.get(h);
+  if (z === undefined) {
+    z = h.re.every((x) => x === 0) && h.im.every((x) => x === 0);
+    zeroMatrices.set(h, z);
+  }
+  return z;
 }
 
 function velocityPlot(d: VelocityDistribution): RunResult['velocity'] {
