@@ -8,7 +8,7 @@
  * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
  * grid that is doubled until the leaf yields agree (sampled.ts).
  */
-import { type CMat, cmatZeros, cmatTrace, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64, cmatOwn, zeroedF64 } from '../physics/cmat.ts';
+import { type CMat, cmatZeros, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64, cmatOwn, zeroedF64 } from '../physics/cmat.ts';
 import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
@@ -59,13 +59,70 @@ function mapNodes(st: NodeState, f: (rho: CMat, k: number) => CMat): NodeState {
   return { nodes: true, speeds: st.speeds, weights: st.weights, rhos: st.rhos.map(f) };
 }
 
+/** U ρ U† (both d×d), with U ρ in a scratch array: one allocation, the result. */
 function conj(u: CMat, rho: CMat): CMat {
-  return cmatMul(cmatMul(u, rho), cmatDagger(u));
+  return conjRaw(u.re, u.im, u.rows, rho);
+}
+
+let scr = new Float64Array(4 * 64);
+function scratchOf(n: number): Float64Array {
+  if (scr.length < n) scr = new Float64Array(2 * n);
+  return scr;
+}
+
+/** U ρ U† for U given by its parts (d×d, row-major). */
+function conjRaw(ur: Float64Array, ui: Float64Array, d: number, rho: CMat): CMat {
+  const n = d * d;
+  const t = scratchOf(6 * n);
+  // T = U ρ at t[0, n) (re) and t[n, 2n) (im)
+  const rr = rho.re, ri = rho.im;
+  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
+    let sr = 0, si = 0;
+    for (let k = 0; k < d; k++) {
+      const ar = ur[i * d + k], ai = ui[i * d + k], br = rr[k * d + j], bi = ri[k * d + j];
+      sr += ar * br - ai * bi;
+      si += ar * bi + ai * br;
+    }
+    t[i * d + j] = sr;
+    t[n + i * d + j] = si;
+  }
+  // out = T U†: out_ij = Σ_k T_ik conj(U_jk)
+  const out = cmatZeros(d, d);
+  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
+    let sr = 0, si = 0;
+    for (let k = 0; k < d; k++) {
+      const ar = t[i * d + k], ai = t[n + i * d + k], br = ur[j * d + k], bi = -ui[j * d + k];
+      sr += ar * br - ai * bi;
+      si += ar * bi + ai * br;
+    }
+    out.re[i * d + j] = sr;
+    out.im[i * d + j] = si;
+  }
+  return out;
+}
+
+/** C = A B for d×d matrices given by their parts, into (cr, ci) (not aliasing a or b). */
+function mulRaw(ar: ArrayLike<number>, ai: ArrayLike<number>, br: ArrayLike<number>, bi: ArrayLike<number>, d: number, cr: Float64Array, ci: Float64Array, co: number): void {
+  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
+    let sr = 0, si = 0;
+    for (let k = 0; k < d; k++) {
+      const xr = ar[i * d + k], xi = ai[i * d + k], yr = br[k * d + j], yi = bi[k * d + j];
+      sr += xr * yr - xi * yi;
+      si += xr * yi + xi * yr;
+    }
+    cr[co + i * d + j] = sr;
+    ci[co + i * d + j] = si;
+  }
 }
 
 function nodeTrace(st: NodeState): number {
   let s = 0;
-  for (let k = 0; k < st.rhos.length; k++) s += st.weights[k] * cmatTrace(st.rhos[k]).re;
+  for (let k = 0; k < st.rhos.length; k++) {
+    const r = st.rhos[k], d = r.rows;
+    let t = 0;
+    for (let i = 0; i < d; i++) t += r.re[i * d + i];
+    s += st.weights[k] * t;
+  }
   return s;
 }
 
@@ -286,8 +343,9 @@ function selectNodes(st: NodeState, comps: readonly Component[], leafNext: boole
     });
   }
   if (leafNext) {
+    // P ρ P with P Hermitian: conj(P, ρ)
     const p = portProjector(comps);
-    return mapNodes(st, (rho) => cmatMul(cmatMul(p, rho), p));
+    return mapNodes(st, (rho) => conj(p, rho));
   }
   const ps = comps.map(rank1);
   return mapNodes(st, (rho) => {
@@ -647,7 +705,14 @@ function finishLeaf(ctx: WalkCtx, st: State, walk: Walk, target: string, det: De
   let spec: SpecState | undefined;
   if (isNodes(st)) {
     yieldSpin = nodeTrace(st);
-    grid = { speeds: st.speeds, weights: st.weights, traces: Float64Array.from(st.rhos, (r) => cmatTrace(r).re) };
+    const traces = new Float64Array(st.rhos.length);
+    for (let k = 0; k < traces.length; k++) {
+      const r = st.rhos[k], d = r.rows;
+      let s = 0;
+      for (let i = 0; i < d; i++) s += r.re[i * d + i];
+      traces[k] = s;
+    }
+    grid = { speeds: st.speeds, weights: st.weights, traces };
   } else {
     const avg = specAverageTrace(st, ctx.chi);
     ctx.hermiticity.max = Math.max(ctx.hermiticity.max, avg.hermiticity);
@@ -727,6 +792,10 @@ function applyTwist(st: NodeState, op: TwistOp): NodeState {
     const d = tr.a.rows;
     const er = new Float64Array(d), ei = new Float64Array(d), qr = new Float64Array(d), qi = new Float64Array(d);
     const ar = tr.a.re, ai = tr.a.im;
+    // per speed: C, then U = B·C·V_q† in arrays of this twist (cr/ci: C, then B·C; ur/ui: U)
+    const n = d * d;
+    const cr = new Float64Array(n), ci = new Float64Array(n), pr = new Float64Array(n), pi = new Float64Array(n);
+    const ur = new Float64Array(n), ui = new Float64Array(n);
     return mapNodes(st, (rho, k) => {
       const tc = (op.length / st.speeds[k]) * tr.c;
       const alpha = Math.sqrt(tc * tc + op.angle * op.angle), beta = Math.atan2(op.angle, tc);
@@ -735,7 +804,6 @@ function applyTwist(st: NodeState, op: TwistOp): NodeState {
         expNegI(beta * tr.mq[l], qr, qi, l);
       }
       // C_ij = e^{−iβ m_q,i} (Σ_l A_il E_l conj(A_jl)) e^{iβ m_q,j}
-      const cm = cmatZeros(d, d);
       for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
         let sr = 0, si = 0;
         for (let l = 0; l < d; l++) {
@@ -745,11 +813,13 @@ function applyTwist(st: NodeState, op: TwistOp): NodeState {
           si += xr * yi + xi * yr;
         }
         // phase q_i conj(q_j)
-        const pr = qr[i] * qr[j] + qi[i] * qi[j], pi = qi[i] * qr[j] - qr[i] * qi[j];
-        cm.re[i * d + j] = sr * pr - si * pi;
-        cm.im[i * d + j] = sr * pi + si * pr;
+        const hr = qr[i] * qr[j] + qi[i] * qi[j], hi = qi[i] * qr[j] - qr[i] * qi[j];
+        cr[i * d + j] = sr * hr - si * hi;
+        ci[i * d + j] = sr * hi + si * hr;
       }
-      return conj(cmatMul(cmatMul(tr.b, cm), tr.vqd), rho);
+      mulRaw(tr.b.re, tr.b.im, cr, ci, d, pr, pi, 0);
+      mulRaw(pr, pi, tr.vqd.re, tr.vqd.im, d, ur, ui, 0);
+      return conjRaw(ur, ui, d, rho);
     });
   }
   return mapNodes(st, (rho, k) => {
