@@ -867,6 +867,11 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
     gre[p] = sr; gim[p] = si;
   }
   const out = new Float64Array(speeds.length);
+  const dense = denseKernels();
+  if (dense) {
+    dense.rowDots(mre, mim, gre, gim, out.length, np, out);
+    return out;
+  }
   for (let k = 0; k < out.length; k++) {
     const o = k * np;
     let tr = 0;

@@ -32,6 +32,7 @@ interface Exports {
   gram(zr: number, zi: number, sg: number, m: number, d: number, dp: number, or: number, oi: number): void;
   chol(ar: number, ai: number, n: number, delta: number, lr: number, li: number): number;
   bhb(br: number, bi: number, rs: number, cols: number, d: number, r: number, ar: number, ai: number, tr: number, ti: number, nr: number, ni: number): void;
+  rowdots(mr: number, mi: number, gr: number, gi: number, ns: number, np: number, out: number): void;
 }
 
 /** Beyond this |phase| the kernel's quadrant index would saturate (physics/trig.ts FAST_LIMIT). */
@@ -70,6 +71,12 @@ export interface DenseKernels {
    * cols[rowStart[i + 1] − 1] of each row i; out (d×d) Hermitian.
    */
   bhb(b: { re: Float64Array; im: Float64Array }, rowStart: Int32Array, cols: Int32Array, d: number, r: number, a: { re: Float64Array; im: Float64Array }, out: { re: Float64Array; im: Float64Array }): void;
+  /**
+   * out[k] = Σ_p (mr[k·np + p] gr[p] − mi[k·np + p] gi[p]), k < ns: the real part of Σ_p M_kp G_p for
+   * the rows of (mr, mi); the rows are copied once per pair of arrays and kept while the same pair
+   * comes back (the leaves of one state share their per-speed matrices).
+   */
+  rowDots(mr: Float64Array, mi: Float64Array, gr: Float64Array, gi: Float64Array, ns: number, np: number, out: Float64Array): void;
 }
 
 let instance: Exports | null | undefined;
@@ -132,6 +139,7 @@ function kernelOn(ex: Exports): TableKernel {
     if (f.buffer !== mem.buffer) f = new Float64Array(mem.buffer);
   };
   const layout = (levels: number): void => {
+    gen++;
     r = levels;
     rp = r + (r & 1);
     oMu = oW + 8 * np;
@@ -142,6 +150,8 @@ function kernelOn(ex: Exports): TableKernel {
     oOut = oTodo + 8 * Math.ceil((rp * rp) / 8);
     ensure(oOut + 16 * rp * rp);
   };
+  // rowDots keeps its rows with the arrays they came from; any new table layout may overwrite them
+  let rowsOf: Float64Array | null = null, rowsAt = -1, rowsGen = -1, gen = 0;
   const k: TableKernel = {
     table(speeds, weights) {
       // the weights of a table are fractions of the flux (≥ 0, physics/velocity.ts): √w is real
@@ -203,6 +213,7 @@ function kernelOn(ex: Exports): TableKernel {
   const helperBase = (): number => oOut + 16 * rp * rp;
   const dense: DenseKernels = {
     gram(zr, zi, sg, m, d, out) {
+      rowsOf = null;
       const dp = d + (d & 1);
       const b = helperBase();
       const oZr = b, oZi = oZr + 8 * m * dp, oSg = oZi + 8 * m * dp, oOr = oSg + 8 * m, oOi = oOr + 8 * dp * dp;
@@ -225,6 +236,7 @@ function kernelOn(ex: Exports): TableKernel {
       }
     },
     positive(ar, ai, n, delta) {
+      rowsOf = null;
       const b = helperBase();
       const oAr = b, oAi = oAr + 8 * n * n, oLr = oAi + 8 * n * n, oLi = oLr + 8 * n * n;
       ensure(oLi + 8 * n * n);
@@ -234,6 +246,7 @@ function kernelOn(ex: Exports): TableKernel {
       return ex.chol(oAr, oAi, n, delta, oLr, oLi) === 1;
     },
     bhb(b, rowStart, cols, d, r, a, out) {
+      rowsOf = null;
       const base = helperBase();
       const oBr = base, oBi = oBr + 8 * d * r, oAr = oBi + 8 * d * r, oAi = oAr + 8 * r * r, oTr = oAi + 8 * r * r, oTi = oTr + 8 * d * r;
       const oNr = oTi + 8 * d * r, oNi = oNr + 8 * d * d, oRs = oNi + 8 * d * d, oCols = oRs + 4 * (d + 1) + 4 * ((d + 1) & 1);
@@ -249,6 +262,32 @@ function kernelOn(ex: Exports): TableKernel {
       ex.bhb(oBr, oBi, oRs, oCols, d, r, oAr, oAi, oTr, oTi, oNr, oNi);
       out.re.set(f.subarray(oNr / 8, oNr / 8 + d * d));
       out.im.set(f.subarray(oNi / 8, oNi / 8 + d * d));
+    },
+    rowDots(mr, mi, gr, gi, ns, np, out) {
+      const pp = np + (np & 1);
+      const oMr = helperBase(), oMi = oMr + 8 * ns * pp, oGr = oMi + 8 * ns * pp, oGi = oGr + 8 * pp, oOut = oGi + 8 * pp;
+      if (rowsOf !== mr || rowsGen !== gen || rowsAt !== oMr) {
+        ensure(oOut + 8 * ns);
+        for (let q = 0; q < ns; q++) {
+          f.set(mr.subarray(q * np, q * np + np), oMr / 8 + q * pp);
+          f.set(mi.subarray(q * np, q * np + np), oMi / 8 + q * pp);
+          if (pp !== np) {
+            f[oMr / 8 + q * pp + np] = 0;
+            f[oMi / 8 + q * pp + np] = 0;
+          }
+        }
+        rowsOf = mr;
+        rowsGen = gen;
+        rowsAt = oMr;
+      }
+      f.set(gr.subarray(0, np), oGr / 8);
+      f.set(gi.subarray(0, np), oGi / 8);
+      if (pp !== np) {
+        f[oGr / 8 + np] = 0;
+        f[oGi / 8 + np] = 0;
+      }
+      ex.rowdots(oMr, oMi, oGr, oGi, ns, pp, oOut);
+      out.set(f.subarray(oOut / 8, oOut / 8 + ns));
     },
   };
   cached = { ex, k, dense };

@@ -374,4 +374,27 @@
         (br $loop_j)))
       (local.set $i (i32.add (local.get $i) (i32.const 1)))
       (br $loop_i2))))
+
+  ;; out[k] = Σ_p (mr[k·np + p]·gr[p] − mi[k·np + p]·gi[p]) for k < ns ($np even; the caller pads with 0).
+  (func (export "rowdots") (param $mr i32) (param $mi i32) (param $gr i32) (param $gi i32) (param $ns i32) (param $np i32) (param $out i32)
+    (local $k i32) (local $p i32) (local $pe i32) (local $o i32) (local $acc v128)
+    (local.set $k (i32.const 0))
+    (block $done_k (loop $loop_k
+      (br_if $done_k (i32.ge_u (local.get $k) (local.get $ns)))
+      (local.set $acc (v128.const f64x2 0 0))
+      (local.set $o (i32.shl (i32.mul (local.get $k) (local.get $np)) (i32.const 3)))
+      (local.set $p (i32.const 0))
+      (local.set $pe (i32.shl (local.get $np) (i32.const 3)))
+      (block $done_p (loop $loop_p
+        (br_if $done_p (i32.ge_u (local.get $p) (local.get $pe)))
+        (local.set $acc (f64x2.add (local.get $acc)
+          (f64x2.sub
+            (f64x2.mul (v128.load (i32.add (local.get $mr) (i32.add (local.get $o) (local.get $p)))) (v128.load (i32.add (local.get $gr) (local.get $p))))
+            (f64x2.mul (v128.load (i32.add (local.get $mi) (i32.add (local.get $o) (local.get $p)))) (v128.load (i32.add (local.get $gi) (local.get $p)))))))
+        (local.set $p (i32.add (local.get $p) (i32.const 16)))
+        (br $loop_p)))
+      (f64.store (i32.add (local.get $out) (i32.shl (local.get $k) (i32.const 3)))
+        (f64.add (f64x2.extract_lane 0 (local.get $acc)) (f64x2.extract_lane 1 (local.get $acc))))
+      (local.set $k (i32.add (local.get $k) (i32.const 1)))
+      (br $loop_k))))
 )

@@ -135,4 +135,27 @@ describe('the WebAssembly dense kernels', () => {
     setKernelsEnabled(false);
     expect([isPositive(pos, 1e-15), isPositive(neg, 1e-15), isPositive(neg, 2e-3)]).toEqual([true, false, true]);
   });
+
+  it('sums the rows Σ_p Re(M_kp G_p), keeping rows across calls only while they are valid', () => {
+    const rnd = lcg(21);
+    const k = denseKernels()!;
+    const check = (mr: Float64Array, mi: Float64Array, ns: number, np: number) => {
+      const gr = Float64Array.from({ length: np }, () => rnd() - 0.5), gi = Float64Array.from({ length: np }, () => rnd() - 0.5);
+      const out = new Float64Array(ns);
+      k.rowDots(mr, mi, gr, gi, ns, np, out);
+      for (let q = 0; q < ns; q++) {
+        let s = 0;
+        for (let p = 0; p < np; p++) s += mr[q * np + p] * gr[p] - mi[q * np + p] * gi[p];
+        expect(Math.abs(out[q] - s)).toBeLessThan(1e-14);
+      }
+    };
+    for (const [ns, np] of [[1, 1], [7, 16], [192, 15], [33, 2]] as const) {
+      const mr = Float64Array.from({ length: ns * np }, () => rnd() - 0.5), mi = Float64Array.from({ length: ns * np }, () => rnd() - 0.5);
+      check(mr, mi, ns, np);
+      check(mr, mi, ns, np); // the kept rows
+      // another kernel writes where the rows were kept: they are copied again
+      k.gram(Float64Array.of(1, 2, 3, 4), Float64Array.of(0, 0, 0, 0), Float64Array.of(1, 1), 2, 2, cmatZeros(2, 2));
+      check(mr, mi, ns, np);
+    }
+  });
 });
