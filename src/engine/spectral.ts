@@ -53,6 +53,8 @@ interface SharedAverages {
   avg?: Averaged;
   /** For a factored basis W = L·B: B A B† (Hermitian part of A), shared by the states that differ by L. */
   lab?: CMat;
+  /** The same for the second moment m2. */
+  lab2?: CMat;
   m2?: CMat;
   nodes?: { speeds: ArrayLike<number>; phiMax: number; pairs: Int32Array; mre: Float64Array; mim: Float64Array };
 }
@@ -971,6 +973,8 @@ export function specTraceMoment(st: SpecState, dist: VelocityDistribution, n: nu
     }
     st.shared.m2 = A;
   }
+  // as the trace: B A₂ B† once for the states that share A₂, then Tr(L†L · B A₂ B†) per state
+  if (st.fac) return traceLab(st.fac, (st.shared.lab2 ??= blocksSandwich(st.fac, A)));
   return traceWAW(st.W, A);
 }
 
@@ -985,7 +989,11 @@ export function specTraceMoment(st: SpecState, dist: VelocityDistribution, n: nu
  * B; L†L is kept with L.
  */
 function traceFactored(f: BasisFactors, A: CMat, shared: SharedAverages): number {
-  const n = (shared.lab ??= blocksSandwich(f, A));
+  return traceLab(f, (shared.lab ??= blocksSandwich(f, A)));
+}
+
+/** Tr(L†L · N) for N = B A B† of a factored basis. */
+function traceLab(f: BasisFactors, n: CMat): number {
   const d = n.rows;
   if (!f.left) {
     let tr = 0;
