@@ -819,7 +819,7 @@ export function specAverageTrace(st: SpecState, chi: CharCache): { value: number
  * matrices Σ_t X_t ∘ e^{−i(φ_t+Ω)/v_k} are computed once per state and speed set.
  */
 export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: number): Float64Array {
-  const r = st.W.cols, d = st.W.rows;
+  const r = basisCols(st);
   let hit = st.shared.nodes;
   if (!hit || hit.speeds !== speeds || hit.phiMax !== phiMax) {
     // the contributions (term, entry (a, b)) with |φ + Ω_ab| ≤ phiMax, found once: the other entries
@@ -855,18 +855,49 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
   // Tr(W M W†) = Σ_ab M_ab (W†W)_ba over the active entries: (W†W)_ba = Σ_c conj(W_cb) W_ca
   const { pairs, mre, mim } = hit;
   const np = pairs.length;
-  const W = st.W, gre = new Float64Array(np), gim = new Float64Array(np);
-  for (let p = 0; p < np; p++) {
-    const i = pairs[p], a = (i / r) | 0, b = i - a * r;
-    let sr = 0, si = 0;
-    for (let c = 0; c < d; c++) {
-      const xr = W.re[c * r + b], xi = -W.im[c * r + b];
-      if (xr === 0 && xi === 0) continue;
-      const yr = W.re[c * r + a], yi = W.im[c * r + a];
-      sr += xr * yr - xi * yi;
-      si += xr * yi + xi * yr;
+  const gre = new Float64Array(np), gim = new Float64Array(np);
+  const f = st.fac;
+  if (f) {
+    // (B†(L†L)B)_ba over the few non-zero rows of columns a and b of B, without forming W
+    const bl = f.blocks, { start, rows } = f.support, m = f.left ? gramOf(f.left) : null, dm = bl.rows;
+    for (let p = 0; p < np; p++) {
+      const i = pairs[p], a = (i / r) | 0, b = i - a * r;
+      let sr = 0, si = 0;
+      for (let q = start[b]; q < start[b + 1]; q++) {
+        const c = rows[q];
+        const xr = bl.re[c * r + b], xi = -bl.im[c * r + b];
+        if (xr === 0 && xi === 0) continue;
+        let yr = 0, yi = 0;
+        if (m) {
+          for (let u = start[a]; u < start[a + 1]; u++) {
+            const j = rows[u];
+            const mr = m.re[c * dm + j], mi = m.im[c * dm + j], br = bl.re[j * r + a], bi = bl.im[j * r + a];
+            yr += mr * br - mi * bi;
+            yi += mr * bi + mi * br;
+          }
+        } else {
+          yr = bl.re[c * r + a];
+          yi = bl.im[c * r + a];
+        }
+        sr += xr * yr - xi * yi;
+        si += xr * yi + xi * yr;
+      }
+      gre[p] = sr; gim[p] = si;
     }
-    gre[p] = sr; gim[p] = si;
+  } else {
+    const W = st.W, d = W.rows;
+    for (let p = 0; p < np; p++) {
+      const i = pairs[p], a = (i / r) | 0, b = i - a * r;
+      let sr = 0, si = 0;
+      for (let c = 0; c < d; c++) {
+        const xr = W.re[c * r + b], xi = -W.im[c * r + b];
+        if (xr === 0 && xi === 0) continue;
+        const yr = W.re[c * r + a], yi = W.im[c * r + a];
+        sr += xr * yr - xi * yi;
+        si += xr * yi + xi * yr;
+      }
+      gre[p] = sr; gim[p] = si;
+    }
   }
   const out = new Float64Array(speeds.length);
   const dense = denseKernels();
