@@ -17,13 +17,14 @@ export interface Complex {
   im: number;
 }
 
-// Small typed arrays are carved out of shared 256 KiB blocks: a Float64Array of more than 8 elements
+// Small typed arrays are carved out of shared 64 KiB blocks: a Float64Array of more than 8 elements
 // gets its own off-heap buffer, which costs over a microsecond to allocate and to collect, while a
-// view on an existing buffer costs about 60 ns (measured here; docs/bench.md). An ArrayBuffer costs
-// about 16 µs per 64 KiB at that size and 6 µs per 64 KiB at 256 KiB (measured here), hence the block
-// size. A block is only ever bumped forward, never reused, so every view starts zeroed; a block is
-// freed with its last view.
-const BLOCK = 32768;
+// view on an existing buffer costs about 60 ns (measured here; docs/bench.md). Larger blocks are cheaper
+// per byte in Node (an ArrayBuffer costs about 16 µs at 64 KiB and 25 µs at 256 KiB here), but 256 KiB
+// blocks made every edit in the app 30–40 ms slower in Chromium (`npm run bench -- ui`), so the block
+// stays at 64 KiB. A block is only ever bumped forward, never reused, so every view starts zeroed; a
+// block is freed with its last view.
+const BLOCK = 8192;
 let block = new ArrayBuffer(8 * BLOCK);
 let blockUsed = 0;
 
