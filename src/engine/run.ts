@@ -8,7 +8,7 @@
  * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
  * grid that is doubled until the leaf yields agree (sampled.ts).
  */
-import { type CMat, cmatZeros, cmatCombine, cmatScale, cmatMul, cmatDagger, copyF64, cmatOwn, zeroedF64 } from '../physics/cmat.ts';
+import { type CMat, cmatZeros, cmatCombine, cmatSandwichParts, cmatScale, cmatMul, cmatDagger, copyF64, cmatOwn, zeroedF64 } from '../physics/cmat.ts';
 import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
@@ -61,44 +61,7 @@ function mapNodes(st: NodeState, f: (rho: CMat, k: number) => CMat): NodeState {
 
 /** U ρ U† (both d×d), with U ρ in a scratch array: one allocation, the result. */
 function conj(u: CMat, rho: CMat): CMat {
-  return conjRaw(u.re, u.im, u.rows, rho);
-}
-
-let scr = new Float64Array(4 * 64);
-function scratchOf(n: number): Float64Array {
-  if (scr.length < n) scr = new Float64Array(2 * n);
-  return scr;
-}
-
-/** U ρ U† for U given by its parts (d×d, row-major). */
-function conjRaw(ur: Float64Array, ui: Float64Array, d: number, rho: CMat): CMat {
-  const n = d * d;
-  const t = scratchOf(6 * n);
-  // T = U ρ at t[0, n) (re) and t[n, 2n) (im)
-  const rr = rho.re, ri = rho.im;
-  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
-    let sr = 0, si = 0;
-    for (let k = 0; k < d; k++) {
-      const ar = ur[i * d + k], ai = ui[i * d + k], br = rr[k * d + j], bi = ri[k * d + j];
-      sr += ar * br - ai * bi;
-      si += ar * bi + ai * br;
-    }
-    t[i * d + j] = sr;
-    t[n + i * d + j] = si;
-  }
-  // out = T U†: out_ij = Σ_k T_ik conj(U_jk)
-  const out = cmatZeros(d, d);
-  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
-    let sr = 0, si = 0;
-    for (let k = 0; k < d; k++) {
-      const ar = t[i * d + k], ai = t[n + i * d + k], br = ur[j * d + k], bi = -ui[j * d + k];
-      sr += ar * br - ai * bi;
-      si += ar * bi + ai * br;
-    }
-    out.re[i * d + j] = sr;
-    out.im[i * d + j] = si;
-  }
-  return out;
+  return cmatSandwichParts(u.re, u.im, u.rows, u.rows, rho);
 }
 
 /** C = A B for d×d matrices given by their parts, into (cr, ci) (not aliasing a or b). */
@@ -819,7 +782,7 @@ function applyTwist(st: NodeState, op: TwistOp): NodeState {
       }
       mulRaw(tr.b.re, tr.b.im, cr, ci, d, pr, pi, 0);
       mulRaw(pr, pi, tr.vqd.re, tr.vqd.im, d, ur, ui, 0);
-      return conjRaw(ur, ui, d, rho);
+      return cmatSandwichParts(ur, ui, d, d, rho);
     });
   }
   return mapNodes(st, (rho, k) => {

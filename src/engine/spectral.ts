@@ -15,7 +15,7 @@
  * is computed once. A new propagator first expands the state into lab-frame terms of equal
  * phase-length (merged within 1e-13 of the largest), then changes basis.
  */
-import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, zeroedF64, copyF64, cmatOwn } from '../physics/cmat.ts';
+import { type CMat, cmatMul, cmatDagger, cmatZeros, cmatIdentity, cmatNorm, zeroedF64, copyF64, cmatOwn, cmatSandwichParts } from '../physics/cmat.ts';
 import { charFunction, effusiveCharInto, type VelocityDistribution } from '../physics/velocity.ts';
 import { expNegI } from '../physics/trig.ts';
 import { tableKernel, denseKernels } from '../physics/kernels.ts';
@@ -941,38 +941,8 @@ function phasedBasis(st: SpecState, v: number, phiMax: number): CMat {
 
 /** ρ at one speed v (a plain matrix), leaving out terms with |φ + Ω_ab| > phiMax. */
 export function specAt(st: SpecState, v: number, phiMax: number = Infinity): CMat {
-  const w = st.W, p = phasedBasis(st, v, phiMax);
-  const d = w.rows, r = w.cols;
-  // T = W P (d×r) in a scratch array, then out = T W† (one allocation, the result)
-  const t = specAtScratch(2 * d * r);
-  const wr = w.re, wi = w.im, pr = p.re, pi = p.im;
-  for (let i = 0; i < d; i++) for (let b = 0; b < r; b++) {
-    let sr = 0, si = 0;
-    for (let a = 0; a < r; a++) {
-      const xr = wr[i * r + a], xi = wi[i * r + a], yr = pr[a * r + b], yi = pi[a * r + b];
-      sr += xr * yr - xi * yi;
-      si += xr * yi + xi * yr;
-    }
-    t[i * r + b] = sr;
-    t[d * r + i * r + b] = si;
-  }
-  const out = cmatZeros(d, d);
-  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
-    let sr = 0, si = 0;
-    for (let b = 0; b < r; b++) {
-      const xr = t[i * r + b], xi = t[d * r + i * r + b], yr = wr[j * r + b], yi = -wi[j * r + b];
-      sr += xr * yr - xi * yi;
-      si += xr * yi + xi * yr;
-    }
-    out.re[i * d + j] = sr;
-    out.im[i * d + j] = si;
-  }
-  return out;
-}
-let atScratch = new Float64Array(256);
-function specAtScratch(n: number): Float64Array {
-  if (atScratch.length < n) atScratch = new Float64Array(2 * n);
-  return atScratch;
+  const w = st.W;
+  return cmatSandwichParts(w.re, w.im, w.rows, w.cols, phasedBasis(st, v, phiMax));
 }
 
 /**

@@ -106,6 +106,41 @@ export function cmatDiag(d: ArrayLike<number>): CMat {
 }
 
 /** Matrix product A·B. */
+/**
+ * W P W† for W (d×r, given by its parts wr, wi, row-major) and P (r×r): W P in a scratch array, so the
+ * result is the only allocation (per-speed and per-point code: a propagation U ρ U†, a state at one speed).
+ */
+export function cmatSandwichParts(wr: ArrayLike<number>, wi: ArrayLike<number>, d: number, r: number, p: CMat): CMat {
+  if (sandwichScratch.length < 2 * d * r) sandwichScratch = new Float64Array(4 * d * r);
+  const t = sandwichScratch, o = d * r;
+  const pr = p.re, pi = p.im;
+  // T = W P: t[0, o) real parts, t[o, 2o) imaginary parts
+  for (let i = 0; i < d; i++) for (let b = 0; b < r; b++) {
+    let sr = 0, si = 0;
+    for (let a = 0; a < r; a++) {
+      const xr = wr[i * r + a], xi = wi[i * r + a], yr = pr[a * r + b], yi = pi[a * r + b];
+      sr += xr * yr - xi * yi;
+      si += xr * yi + xi * yr;
+    }
+    t[i * r + b] = sr;
+    t[o + i * r + b] = si;
+  }
+  // out = T W†: out_ij = Σ_b T_ib conj(W_jb)
+  const out = cmatZeros(d, d);
+  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
+    let sr = 0, si = 0;
+    for (let b = 0; b < r; b++) {
+      const xr = t[i * r + b], xi = t[o + i * r + b], yr = wr[j * r + b], yi = -wi[j * r + b];
+      sr += xr * yr - xi * yi;
+      si += xr * yi + xi * yr;
+    }
+    out.re[i * d + j] = sr;
+    out.im[i * d + j] = si;
+  }
+  return out;
+}
+let sandwichScratch = new Float64Array(256);
+
 export function cmatMul(a: CMat, b: CMat): CMat {
   if (a.cols !== b.rows) throw new Error(`cmatMul: ${a.rows}x${a.cols} times ${b.rows}x${b.cols}`);
   const n = a.rows;

@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { zeroedF64, copyF64, cmatZeros, cmatClone, cmatMul, cmatIdentity } from '../../src/physics/cmat.ts';
+import { zeroedF64, copyF64, cmatZeros, cmatClone, cmatMul, cmatIdentity, cmatDagger, cmatSandwichParts } from '../../src/physics/cmat.ts';
 
 describe('block-carved arrays', () => {
   it('are zeroed, of the asked length, and independent of each other across many blocks', () => {
@@ -29,5 +29,25 @@ describe('block-carved arrays', () => {
     k.re[4] = 8;
     expect(m.re[4]).toBe(7);
     expect(cmatMul(cmatIdentity(3), m).re[4]).toBe(7);
+  });
+});
+
+describe('cmatSandwichParts', () => {
+  it('gives W P W† as the product of three matrices does, for square and tall W', () => {
+    let x = 3;
+    const rnd = () => ((x = (x * 1103515245 + 12345) % 2147483648) / 2147483648) - 0.5;
+    for (const [d, r] of [[1, 1], [3, 3], [5, 2], [16, 8]] as const) {
+      const w = cmatZeros(d, r), p = cmatZeros(r, r);
+      for (let i = 0; i < d * r; i++) { w.re[i] = rnd(); w.im[i] = rnd(); }
+      for (let i = 0; i < r * r; i++) { p.re[i] = rnd(); p.im[i] = rnd(); }
+      const ref = cmatMul(cmatMul(w, p), cmatDagger(w));
+      const got = cmatSandwichParts(w.re, w.im, d, r, p);
+      expect(got.rows).toBe(d);
+      expect(got.cols).toBe(d);
+      for (let i = 0; i < d * d; i++) {
+        expect(Math.abs(got.re[i] - ref.re[i])).toBeLessThan(1e-14);
+        expect(Math.abs(got.im[i] - ref.im[i])).toBeLessThan(1e-14);
+      }
+    }
   });
 });
