@@ -8,7 +8,7 @@
  * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
  * grid that is doubled until the leaf yields agree (sampled.ts).
  */
-import { type CMat, cmatZeros, cmatCombine, cmatSandwichParts, cmatScale, cmatMul, cmatDagger, copyF64, cmatOwn, zeroedF64 } from '../physics/cmat.ts';
+import { type CMat, cmatZeros, cmatCombine, cmatSandwichParts, cmatMulInto, cmatScale, cmatMul, cmatDagger, copyF64, cmatOwn, zeroedF64 } from '../physics/cmat.ts';
 import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
@@ -62,20 +62,6 @@ function mapNodes(st: NodeState, f: (rho: CMat, k: number) => CMat): NodeState {
 /** U ρ U† (both d×d), with U ρ in a scratch array: one allocation, the result. */
 function conj(u: CMat, rho: CMat): CMat {
   return cmatSandwichParts(u.re, u.im, u.rows, u.rows, rho);
-}
-
-/** C = A B for d×d matrices given by their parts, into (cr, ci) (not aliasing a or b). */
-function mulRaw(ar: ArrayLike<number>, ai: ArrayLike<number>, br: ArrayLike<number>, bi: ArrayLike<number>, d: number, cr: Float64Array, ci: Float64Array, co: number): void {
-  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
-    let sr = 0, si = 0;
-    for (let k = 0; k < d; k++) {
-      const xr = ar[i * d + k], xi = ai[i * d + k], yr = br[k * d + j], yi = bi[k * d + j];
-      sr += xr * yr - xi * yi;
-      si += xr * yi + xi * yr;
-    }
-    cr[co + i * d + j] = sr;
-    ci[co + i * d + j] = si;
-  }
 }
 
 function nodeTrace(st: NodeState): number {
@@ -780,8 +766,8 @@ function applyTwist(st: NodeState, op: TwistOp): NodeState {
         cr[i * d + j] = sr * hr - si * hi;
         ci[i * d + j] = sr * hi + si * hr;
       }
-      mulRaw(tr.b.re, tr.b.im, cr, ci, d, pr, pi, 0);
-      mulRaw(pr, pi, tr.vqd.re, tr.vqd.im, d, ur, ui, 0);
+      cmatMulInto(tr.b.re, tr.b.im, cr, ci, d, d, d, pr, pi);
+      cmatMulInto(pr, pi, tr.vqd.re, tr.vqd.im, d, d, d, ur, ui);
       return cmatSandwichParts(ur, ui, d, d, rho);
     });
   }

@@ -117,19 +117,29 @@ function leftTimesBlocks(fac: BasisFactors): CMat {
   return out;
 }
 
-const leftProducts = new WeakMap<CMat, Map<CMat | undefined, CMat>>();
-/** k · left, kept per (k, left) object pair (a port's projector and a field's axis rotation). */
+/**
+ * A value computed from two long-lived matrices (a port's projector, a field's axis rotation, a scan's
+ * unchanged basis), kept per pair of objects; each first key keeps at most 16 second keys.
+ */
+function pairCache<K extends object, L>(compute: (a: K, b: L) => CMat): (a: K, b: L) => CMat {
+  const table = new WeakMap<K, Map<L, CMat>>();
+  return (a, b) => {
+    let byB = table.get(a);
+    if (!byB) table.set(a, (byB = new Map()));
+    let out = byB.get(b);
+    if (!out) {
+      out = cmatOwn(compute(a, b));
+      if (byB.size > 16) byB.clear();
+      byB.set(b, out);
+    }
+    return out;
+  };
+}
+
+const kLeft = pairCache((k: CMat, left: CMat) => cmatMul(k, left));
+/** k · left (k alone where left is the identity). */
 function kTimesLeft(k: CMat, left: CMat | undefined): CMat {
-  if (!left) return k;
-  let byLeft = leftProducts.get(k);
-  if (!byLeft) leftProducts.set(k, (byLeft = new Map()));
-  let out = byLeft.get(left);
-  if (!out) {
-    out = cmatOwn(cmatMul(k, left));
-    if (byLeft.size > 16) byLeft.clear();
-    byLeft.set(left, out);
-  }
-  return out;
+  return left ? kLeft(k, left) : k;
 }
 
 const grams = new WeakMap<CMat, CMat>();
@@ -269,11 +279,7 @@ function snapDegenerate(lambda: ArrayLike<number>): Float64Array {
   }
   return out;
 }
-let orderBuf = new Int32Array(64);
-function orderScratch(n: number): Int32Array {
-  if (orderBuf.length < n) orderBuf = new Int32Array(2 * n);
-  return orderBuf;
-}
+const orderScratch = workArray((n) => new Int32Array(n));
 
 /**
  * ρ(s) → U(s) ρ(s) U(s)† with U(s) = V e^{−iΛℓs} V† (H = V Λ V†, Λ in rad/s). The step is skipped when
@@ -342,18 +348,10 @@ export interface PropagatorFactors {
   readonly support: ColumnSupport;
 }
 
-const rotated = new WeakMap<CMat, Map<CMat, CMat>>();
 /** R†W, kept per (W, R) object pair. */
+const rotatedBasisOf = pairCache((w: CMat, rot: CMat) => cmatMul(cmatDagger(rot), w));
 function rotatedBasis(rot: CMat, w: CMat): CMat {
-  let byRot = rotated.get(w);
-  if (!byRot) rotated.set(w, (byRot = new Map()));
-  let out = byRot.get(rot);
-  if (!out) {
-    out = cmatOwn(cmatMul(cmatDagger(rot), w));
-    if (byRot.size > 16) byRot.clear();
-    byRot.set(rot, out);
-  }
-  return out;
+  return rotatedBasisOf(w, rot);
 }
 
 /** Y X Y†; for a diagonal X (the state after a magnet's sort) as Σ_k x_k y_k y_k†. */
@@ -710,23 +708,19 @@ function jsPairs(t: JsTable, phi: number, todo: Uint8Array, S: Float64Array): vo
   pairSums(yr, yi, zr, zi, n, r, todo, S);
 }
 
-let scratchA = new Float64Array(0), scratchB = new Float64Array(0), scratchC = new Float64Array(0), scratchT = new Uint8Array(0);
+/** A reusable work array of at least n entries (every entry is written before it is read). */
+function workArray<T extends Float64Array | Uint8Array | Int32Array>(make: (n: number) => T): (n: number) => T {
+  let buf = make(0);
+  return (n) => {
+    if (buf.length < n) buf = make(2 * n);
+    return buf;
+  };
+}
+// the table sums' work arrays
+const scratch = workArray((n) => new Float64Array(n)), scratch2 = workArray((n) => new Float64Array(n)), scratch3 = workArray((n) => new Float64Array(n));
+const todoBuffer = workArray((n) => new Uint8Array(n));
 function todoScratch(n: number): Uint8Array {
-  if (scratchT.length < n) scratchT = new Uint8Array(n);
-  return scratchT.subarray(0, n);
-}
-/** Reused work arrays of the table sums (every entry is written before it is read). */
-function scratch(n: number): Float64Array {
-  if (scratchA.length < n) scratchA = new Float64Array(n);
-  return scratchA;
-}
-function scratch2(n: number): Float64Array {
-  if (scratchB.length < n) scratchB = new Float64Array(n);
-  return scratchB;
-}
-function scratch3(n: number): Float64Array {
-  if (scratchC.length < n) scratchC = new Float64Array(n);
-  return scratchC;
+  return todoBuffer(n).subarray(0, n);
 }
 
 /**

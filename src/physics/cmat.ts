@@ -105,7 +105,6 @@ export function cmatDiag(d: ArrayLike<number>): CMat {
   return m;
 }
 
-/** Matrix product A·B. */
 /**
  * W P W† for W (d×r, given by its parts wr, wi, row-major) and P (r×r): W P in a scratch array, so the
  * result is the only allocation (per-speed and per-point code: a propagation U ρ U†, a state at one speed).
@@ -141,13 +140,26 @@ export function cmatSandwichParts(wr: ArrayLike<number>, wi: ArrayLike<number>, 
 }
 let sandwichScratch = new Float64Array(256);
 
+/** Matrix product A·B. */
 export function cmatMul(a: CMat, b: CMat): CMat {
   if (a.cols !== b.rows) throw new Error(`cmatMul: ${a.rows}x${a.cols} times ${b.rows}x${b.cols}`);
-  const n = a.rows;
-  const k = a.cols;
-  const m = b.cols;
-  const out = cmatZeros(n, m);
-  const ar = a.re, ai = a.im, br = b.re, bi = b.im, or = out.re, oi = out.im;
+  const out = cmatZeros(a.rows, b.cols);
+  mulAdd(a.re, a.im, b.re, b.im, a.rows, a.cols, b.cols, out.re, out.im);
+  return out;
+}
+
+/**
+ * C = A·B for matrices given by their parts (A n×k, B k×m, row-major) into (cr, ci), which must not
+ * alias A or B: per-speed code keeps its products in arrays of its own.
+ */
+export function cmatMulInto(ar: ArrayLike<number>, ai: ArrayLike<number>, br: ArrayLike<number>, bi: ArrayLike<number>, n: number, k: number, m: number, cr: Float64Array, ci: Float64Array): void {
+  cr.fill(0, 0, n * m);
+  ci.fill(0, 0, n * m);
+  mulAdd(ar, ai, br, bi, n, k, m, cr, ci);
+}
+
+/** (or, oi) += A·B, skipping the zero entries of A. */
+function mulAdd(ar: ArrayLike<number>, ai: ArrayLike<number>, br: ArrayLike<number>, bi: ArrayLike<number>, n: number, k: number, m: number, or: Float64Array, oi: Float64Array): void {
   for (let i = 0; i < n; i++) {
     const io = i * m;
     for (let p = 0; p < k; p++) {
@@ -163,7 +175,6 @@ export function cmatMul(a: CMat, b: CMat): CMat {
       }
     }
   }
-  return out;
 }
 
 /** Conjugate transpose A†. */

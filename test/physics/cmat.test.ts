@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { zeroedF64, copyF64, cmatZeros, cmatClone, cmatMul, cmatIdentity, cmatDagger, cmatSandwichParts } from '../../src/physics/cmat.ts';
+import { zeroedF64, copyF64, cmatZeros, cmatClone, cmatMul, cmatIdentity, cmatDagger, cmatSandwichParts, cmatMulInto } from '../../src/physics/cmat.ts';
 
 describe('block-carved arrays', () => {
   it('are zeroed, of the asked length, and independent of each other across many blocks', () => {
@@ -49,5 +49,18 @@ describe('cmatSandwichParts', () => {
         expect(Math.abs(got.im[i] - ref.im[i])).toBeLessThan(1e-14);
       }
     }
+  });
+});
+
+describe('cmatMulInto', () => {
+  it('writes A·B into arrays of the caller, as cmatMul returns it, whatever they held before', () => {
+    const a = cmatZeros(3, 2), b = cmatZeros(2, 4);
+    [1, -2, 0, 3.5, 0.25, 7].forEach((x, i) => { a.re[i] = x; a.im[i] = x / 3; });
+    [2, 0, -1, 4, 1, 1, 0.5, -3].forEach((x, i) => { b.re[i] = x; b.im[i] = -x / 2; });
+    const ref = cmatMul(a, b);
+    const cr = new Float64Array(12).fill(9), ci = new Float64Array(12).fill(-9);
+    cmatMulInto(a.re, a.im, b.re, b.im, 3, 2, 4, cr, ci);
+    expect([...cr]).toEqual([...ref.re]);
+    expect([...ci]).toEqual([...ref.im]);
   });
 });
