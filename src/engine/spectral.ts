@@ -601,17 +601,24 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
   const S = zeroedF64(2 * r * r);
   const todo = todoScratch(r * r);
   let js: JsTable | null = null;
+  // with φ = 0 the diagonal S_aa = Σ_k w_k |e^{−iμ_a s_k}|² is the weights' sum for every a: no pair sum
+  const wsum = weightSum(weights);
   for (const term of st.terms) {
     const cut = 1e-18 * significance(term);
     const xr = term.X.re, xi = term.X.im;
     const hermitian = term.phi === 0;
-    // entries needed: with φ = 0, S is Hermitian and only b ≥ a is summed (S_ba = conj S_ab)
+    // entries needed: with φ = 0, S is Hermitian and only b > a is summed (S_ba = conj S_ab)
     let any = false;
     for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
       const i = a * r + b, j = b * r + a;
-      const need = (hermitian ? b >= a : true) && (Math.abs(xr[i]) + Math.abs(xi[i]) > cut || (hermitian && Math.abs(xr[j]) + Math.abs(xi[j]) > cut));
+      const need = (hermitian ? b > a : true) && (Math.abs(xr[i]) + Math.abs(xi[i]) > cut || (hermitian && Math.abs(xr[j]) + Math.abs(xi[j]) > cut));
       todo[i] = need ? 1 : 0;
       any ||= need;
+    }
+    if (hermitian) for (let a = 0; a < r; a++) {
+      const i = a * r + a;
+      A.re[i] += xr[i] * wsum;
+      A.im[i] += xi[i] * wsum;
     }
     if (!any) continue;
     if (!(wasm && kernel.pairs(term.phi, todo, S))) {
@@ -619,14 +626,14 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
       jsPairs(js, term.phi, todo, S);
     }
     for (let a = 0; a < r; a++) {
-      for (let b = hermitian ? a : 0; b < r; b++) {
+      for (let b = hermitian ? a + 1 : 0; b < r; b++) {
         const i = a * r + b;
         if (!todo[i]) continue;
         const j = b * r + a;
         const sr = S[2 * i], si = S[2 * i + 1];
         A.re[i] += xr[i] * sr - xi[i] * si;
         A.im[i] += xr[i] * si + xi[i] * sr;
-        if (hermitian && a !== b) {
+        if (hermitian) {
           A.re[j] += xr[j] * sr + xi[j] * si;
           A.im[j] += xi[j] * sr - xr[j] * si;
         }
@@ -648,6 +655,17 @@ interface JsTable {
 }
 
 const inverseSpeeds = new WeakMap<Float64Array, Float64Array>();
+const weightSums = new WeakMap<Float64Array, number>();
+/** Σ_k w_k of a table, in order. */
+function weightSum(weights: Float64Array): number {
+  let sum = weightSums.get(weights);
+  if (sum === undefined) {
+    sum = 0;
+    for (let k = 0; k < weights.length; k++) sum += weights[k];
+    weightSums.set(weights, sum);
+  }
+  return sum;
+}
 /**
  * z_a(k) = √w_k e^{−iμ_a s_k} in JavaScript, stored by row a (contiguous in k), with s_k = 1/v_k, as the
  * kernel has them (physics/kernels.ts); a table with a negative weight keeps z unweighted instead.
@@ -735,6 +753,18 @@ function pairSums(yr: Float64Array, yi: Float64Array, zr: Float64Array, zi: Floa
       const i = a * r + b;
       if (!(todo[i] | todo[i + 1] | todo[i + r] | todo[i + r + 1])) continue;
       const ob = b * n, ob1 = ob + n;
+      if (a === b && !(todo[i] | todo[i + r] | todo[i + r + 1])) {
+        // a diagonal block of a Hermitian S: only (a, a + 1)
+        let sr = 0, si = 0;
+        for (let k = 0; k < n; k++) {
+          const ar = yr[oa + k], ai = yi[oa + k], br = zr[ob1 + k], bi = zi[ob1 + k];
+          sr += ar * br + ai * bi;
+          si += ai * br - ar * bi;
+        }
+        S[2 * i + 2] = sr;
+        S[2 * i + 3] = si;
+        continue;
+      }
       let p00r = 0, p00i = 0, p01r = 0, p01i = 0, p10r = 0, p10i = 0, p11r = 0, p11i = 0;
       for (let k = 0; k < n; k++) {
         const a0r = yr[oa + k], a0i = yi[oa + k], a1r = yr[oa1 + k], a1i = yi[oa1 + k];

@@ -157,7 +157,8 @@ function kernelOn(ex: Exports): TableKernel {
       // the weights of a table are fractions of the flux (≥ 0, physics/velocity.ts): √w is real
       if (speeds === speedsNow && weights === weightsNow && speeds.length === n) return;
       n = speeds.length;
-      np = n + (n & 1);
+      // the phases go four speeds at a time (kernels.wat), the rest two at a time
+      np = (n + 3) & ~3;
       oS = 0;
       oW = oS + 8 * np;
       layout(0);

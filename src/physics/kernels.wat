@@ -3,7 +3,7 @@
 ;; (pair sums); scripts/build-wasm.mjs assembles this file into src/physics/kernels-wasm.ts, and
 ;; test/physics/kernels.test.ts checks both paths against each other.
 ;; All offsets are byte offsets into the one exported memory; every length that is looped over two at
-;; a time (n speeds, r levels) is even (the caller pads).
+;; a time (n speeds, r levels) is even, and the phases' n a multiple of 4 (the caller pads).
 ;;
 ;; A row of n complex numbers (one per speed) is stored two speeds at a time: for speeds k, k+1 the
 ;; real parts (16 bytes), then the imaginary parts (16 bytes). Row a of an r×n array starts at a·16n.
@@ -64,9 +64,14 @@
       (i64x2.shl (v128.xor (v128.and (local.get $q) (i64x2.splat (i64.const 2))) (i64x2.splat (i64.const 2))) (i32.const 62))))
 
   ;; z_a(k) = √w[k]·e^{−i mu[a]·s[k]} for a < r, k < n (s: the inverse speeds, w: the weights, √w: $q),
-  ;; rows as in the module header; then Σ_k z_a conj z_b carries the weights w_k.
+  ;; rows as in the module header; then Σ_k z_a conj z_b carries the weights w_k. Four speeds at a time ($n
+  ;; a multiple of 4): the arithmetic of $cis, written out twice and interleaved (lanes _0 for speeds k, k+1
+  ;; and _1 for k+2, k+3), so that the two independent chains overlap (a call of $cis per pair of speeds
+  ;; keeps them apart and measured a third slower).
   (func (export "phases") (param $mu i32) (param $r i32) (param $s i32) (param $q i32) (param $n i32) (param $z i32)
-    (local $a i32) (local $k i32) (local $p i32) (local $m v128) (local $re v128) (local $im v128) (local $wq v128)
+    (local $a i32) (local $k i32) (local $p i32) (local $m v128) (local $x_0 v128) (local $x_1 v128)
+    (local $kq_0 v128) (local $t_0 v128) (local $z_0 v128) (local $z2_0 v128) (local $z4_0 v128) (local $s_0 v128) (local $c_0 v128) (local $q_0 v128) (local $swap_0 v128) (local $cr_0 v128) (local $sr_0 v128)
+    (local $kq_1 v128) (local $t_1 v128) (local $z_1 v128) (local $z2_1 v128) (local $z4_1 v128) (local $s_1 v128) (local $c_1 v128) (local $q_1 v128) (local $swap_1 v128) (local $cr_1 v128) (local $sr_1 v128)
     (local.set $p (local.get $z))
     (local.set $a (i32.const 0))
     (block $done_a (loop $loop_a
@@ -75,14 +80,95 @@
       (local.set $k (i32.const 0))
       (block $done_k (loop $loop_k
         (br_if $done_k (i32.ge_u (local.get $k) (local.get $n)))
-        (call $cis (f64x2.mul (local.get $m) (v128.load (i32.add (local.get $s) (i32.shl (local.get $k) (i32.const 3))))))
-        (local.set $im)
-        (local.set $re)
-        (local.set $wq (v128.load (i32.add (local.get $q) (i32.shl (local.get $k) (i32.const 3)))))
-        (v128.store offset=0 (local.get $p) (f64x2.mul (local.get $wq) (local.get $re)))
-        (v128.store offset=16 (local.get $p) (f64x2.mul (local.get $wq) (local.get $im)))
-        (local.set $p (i32.add (local.get $p) (i32.const 32)))
-        (local.set $k (i32.add (local.get $k) (i32.const 2)))
+        (local.set $x_0 (f64x2.mul (local.get $m) (v128.load offset=0 (i32.add (local.get $s) (i32.shl (local.get $k) (i32.const 3))))))
+        (local.set $x_1 (f64x2.mul (local.get $m) (v128.load offset=16 (i32.add (local.get $s) (i32.shl (local.get $k) (i32.const 3))))))
+        (local.set $q_0 (f64x2.add (f64x2.mul (local.get $x_0) (f64x2.splat (f64.const 0.6366197723675814))) (f64x2.splat (f64.const 6755399441055744))))
+        (local.set $q_1 (f64x2.add (f64x2.mul (local.get $x_1) (f64x2.splat (f64.const 0.6366197723675814))) (f64x2.splat (f64.const 6755399441055744))))
+        (local.set $kq_0 (f64x2.sub (local.get $q_0) (f64x2.splat (f64.const 6755399441055744))))
+        (local.set $kq_1 (f64x2.sub (local.get $q_1) (f64x2.splat (f64.const 6755399441055744))))
+        (local.set $t_0
+          (f64x2.sub
+            (f64x2.sub
+              (f64x2.sub (local.get $x_0) (f64x2.mul (local.get $kq_0) (f64x2.splat (f64.const 1.57079632673412561417e+00))))
+              (f64x2.mul (local.get $kq_0) (f64x2.splat (f64.const 6.07710050630396597660e-11))))
+            (f64x2.mul (local.get $kq_0) (f64x2.splat (f64.const 2.02226624879595063154e-21)))))
+        (local.set $t_1
+          (f64x2.sub
+            (f64x2.sub
+              (f64x2.sub (local.get $x_1) (f64x2.mul (local.get $kq_1) (f64x2.splat (f64.const 1.57079632673412561417e+00))))
+              (f64x2.mul (local.get $kq_1) (f64x2.splat (f64.const 6.07710050630396597660e-11))))
+            (f64x2.mul (local.get $kq_1) (f64x2.splat (f64.const 2.02226624879595063154e-21)))))
+        (local.set $z_0 (f64x2.mul (local.get $t_0) (local.get $t_0)))
+        (local.set $z_1 (f64x2.mul (local.get $t_1) (local.get $t_1)))
+        (local.set $z2_0 (f64x2.mul (local.get $z_0) (local.get $z_0)))
+        (local.set $z2_1 (f64x2.mul (local.get $z_1) (local.get $z_1)))
+        (local.set $z4_0 (f64x2.mul (local.get $z2_0) (local.get $z2_0)))
+        (local.set $z4_1 (f64x2.mul (local.get $z2_1) (local.get $z2_1)))
+        (local.set $s_0
+          (f64x2.add (local.get $t_0)
+            (f64x2.mul (f64x2.mul (local.get $t_0) (local.get $z_0))
+              (f64x2.add
+                (f64x2.add
+                  (f64x2.add (f64x2.splat (f64.const -1.66666666666666324348e-01)) (f64x2.mul (local.get $z_0) (f64x2.splat (f64.const 8.33333333332248946124e-03))))
+                  (f64x2.mul (local.get $z2_0)
+                    (f64x2.add (f64x2.splat (f64.const -1.98412698298579493134e-04)) (f64x2.mul (local.get $z_0) (f64x2.splat (f64.const 2.75573137070700676789e-06))))))
+                (f64x2.mul (local.get $z4_0)
+                  (f64x2.add (f64x2.splat (f64.const -2.50507602534068634195e-08)) (f64x2.mul (local.get $z_0) (f64x2.splat (f64.const 1.58969099521155010221e-10)))))))))
+        (local.set $s_1
+          (f64x2.add (local.get $t_1)
+            (f64x2.mul (f64x2.mul (local.get $t_1) (local.get $z_1))
+              (f64x2.add
+                (f64x2.add
+                  (f64x2.add (f64x2.splat (f64.const -1.66666666666666324348e-01)) (f64x2.mul (local.get $z_1) (f64x2.splat (f64.const 8.33333333332248946124e-03))))
+                  (f64x2.mul (local.get $z2_1)
+                    (f64x2.add (f64x2.splat (f64.const -1.98412698298579493134e-04)) (f64x2.mul (local.get $z_1) (f64x2.splat (f64.const 2.75573137070700676789e-06))))))
+                (f64x2.mul (local.get $z4_1)
+                  (f64x2.add (f64x2.splat (f64.const -2.50507602534068634195e-08)) (f64x2.mul (local.get $z_1) (f64x2.splat (f64.const 1.58969099521155010221e-10)))))))))
+        (local.set $c_0
+          (f64x2.add
+            (f64x2.sub (f64x2.splat (f64.const 1)) (f64x2.mul (local.get $z_0) (f64x2.splat (f64.const 0.5))))
+            (f64x2.mul (local.get $z2_0)
+              (f64x2.add
+                (f64x2.add
+                  (f64x2.add (f64x2.splat (f64.const 4.16666666666666019037e-02)) (f64x2.mul (local.get $z_0) (f64x2.splat (f64.const -1.38888888888741095749e-03))))
+                  (f64x2.mul (local.get $z2_0)
+                    (f64x2.add (f64x2.splat (f64.const 2.48015872894767294178e-05)) (f64x2.mul (local.get $z_0) (f64x2.splat (f64.const -2.75573143513906633035e-07))))))
+                (f64x2.mul (local.get $z4_0)
+                  (f64x2.add (f64x2.splat (f64.const 2.08757232129817482790e-09)) (f64x2.mul (local.get $z_0) (f64x2.splat (f64.const -1.13596475577881948265e-11)))))))))
+        (local.set $c_1
+          (f64x2.add
+            (f64x2.sub (f64x2.splat (f64.const 1)) (f64x2.mul (local.get $z_1) (f64x2.splat (f64.const 0.5))))
+            (f64x2.mul (local.get $z2_1)
+              (f64x2.add
+                (f64x2.add
+                  (f64x2.add (f64x2.splat (f64.const 4.16666666666666019037e-02)) (f64x2.mul (local.get $z_1) (f64x2.splat (f64.const -1.38888888888741095749e-03))))
+                  (f64x2.mul (local.get $z2_1)
+                    (f64x2.add (f64x2.splat (f64.const 2.48015872894767294178e-05)) (f64x2.mul (local.get $z_1) (f64x2.splat (f64.const -2.75573143513906633035e-07))))))
+                (f64x2.mul (local.get $z4_1)
+                  (f64x2.add (f64x2.splat (f64.const 2.08757232129817482790e-09)) (f64x2.mul (local.get $z_1) (f64x2.splat (f64.const -1.13596475577881948265e-11)))))))))
+        (local.set $swap_0 (i64x2.neg (v128.and (local.get $q_0) (i64x2.splat (i64.const 1)))))
+        (local.set $swap_1 (i64x2.neg (v128.and (local.get $q_1) (i64x2.splat (i64.const 1)))))
+        (local.set $cr_0 (v128.bitselect (local.get $s_0) (local.get $c_0) (local.get $swap_0)))
+        (local.set $cr_1 (v128.bitselect (local.get $s_1) (local.get $c_1) (local.get $swap_1)))
+        (local.set $sr_0 (v128.bitselect (local.get $c_0) (local.get $s_0) (local.get $swap_0)))
+        (local.set $sr_1 (v128.bitselect (local.get $c_1) (local.get $s_1) (local.get $swap_1)))
+        ;; (cos x, −sin x) of each pair of speeds, times √w
+        (local.set $x_0 (v128.load offset=0 (i32.add (local.get $q) (i32.shl (local.get $k) (i32.const 3)))))
+        (local.set $x_1 (v128.load offset=16 (i32.add (local.get $q) (i32.shl (local.get $k) (i32.const 3)))))
+        (v128.store offset=0 (local.get $p) (f64x2.mul (local.get $x_0)
+          (v128.xor (local.get $cr_0)
+            (i64x2.shl (v128.and (i64x2.add (local.get $q_0) (i64x2.splat (i64.const 1))) (i64x2.splat (i64.const 2))) (i32.const 62)))))
+        (v128.store offset=16 (local.get $p) (f64x2.mul (local.get $x_0)
+          (v128.xor (local.get $sr_0)
+            (i64x2.shl (v128.xor (v128.and (local.get $q_0) (i64x2.splat (i64.const 2))) (i64x2.splat (i64.const 2))) (i32.const 62)))))
+        (v128.store offset=32 (local.get $p) (f64x2.mul (local.get $x_1)
+          (v128.xor (local.get $cr_1)
+            (i64x2.shl (v128.and (i64x2.add (local.get $q_1) (i64x2.splat (i64.const 1))) (i64x2.splat (i64.const 2))) (i32.const 62)))))
+        (v128.store offset=48 (local.get $p) (f64x2.mul (local.get $x_1)
+          (v128.xor (local.get $sr_1)
+            (i64x2.shl (v128.xor (v128.and (local.get $q_1) (i64x2.splat (i64.const 2))) (i64x2.splat (i64.const 2))) (i32.const 62)))))
+        (local.set $p (i32.add (local.get $p) (i32.const 64)))
+        (local.set $k (i32.add (local.get $k) (i32.const 4)))
         (br $loop_k)))
       (local.set $a (i32.add (local.get $a) (i32.const 1)))
       (br $loop_a))))
@@ -156,43 +242,66 @@
             (local.set $pa (i32.add (local.get $y) (i32.mul (local.get $a) (local.get $row))))
             (local.set $pb (i32.add (local.get $z) (i32.mul (local.get $b) (local.get $row))))
             (local.set $end (i32.add (local.get $pa) (local.get $row)))
-            (local.set $p00r (v128.const f64x2 0 0)) (local.set $p00i (v128.const f64x2 0 0))
-            (local.set $p01r (v128.const f64x2 0 0)) (local.set $p01i (v128.const f64x2 0 0))
-            (local.set $p10r (v128.const f64x2 0 0)) (local.set $p10i (v128.const f64x2 0 0))
-            (local.set $p11r (v128.const f64x2 0 0)) (local.set $p11i (v128.const f64x2 0 0))
-            (block $done_k (loop $loop_k
-              (br_if $done_k (i32.ge_u (local.get $pa) (local.get $end)))
-              (local.set $a0r (v128.load offset=0 (local.get $pa)))
-              (local.set $a0i (v128.load offset=16 (local.get $pa)))
-              (local.set $b0r (v128.load offset=0 (local.get $pb)))
-              (local.set $b0i (v128.load offset=16 (local.get $pb)))
-              ;; p += a·conj(b): re += ar br + ai bi, im += ai br − ar bi
-              (local.set $p00r (f64x2.add (local.get $p00r) (f64x2.add (f64x2.mul (local.get $a0r) (local.get $b0r)) (f64x2.mul (local.get $a0i) (local.get $b0i)))))
-              (local.set $p00i (f64x2.add (local.get $p00i) (f64x2.sub (f64x2.mul (local.get $a0i) (local.get $b0r)) (f64x2.mul (local.get $a0r) (local.get $b0i)))))
-              (local.set $a1r (v128.load offset=0 (i32.add (local.get $pa) (local.get $row))))
-              (local.set $a1i (v128.load offset=16 (i32.add (local.get $pa) (local.get $row))))
-              (local.set $p10r (f64x2.add (local.get $p10r) (f64x2.add (f64x2.mul (local.get $a1r) (local.get $b0r)) (f64x2.mul (local.get $a1i) (local.get $b0i)))))
-              (local.set $p10i (f64x2.add (local.get $p10i) (f64x2.sub (f64x2.mul (local.get $a1i) (local.get $b0r)) (f64x2.mul (local.get $a1r) (local.get $b0i)))))
-              (local.set $b1r (v128.load offset=0 (i32.add (local.get $pb) (local.get $row))))
-              (local.set $b1i (v128.load offset=16 (i32.add (local.get $pb) (local.get $row))))
-              (local.set $p01r (f64x2.add (local.get $p01r) (f64x2.add (f64x2.mul (local.get $a0r) (local.get $b1r)) (f64x2.mul (local.get $a0i) (local.get $b1i)))))
-              (local.set $p01i (f64x2.add (local.get $p01i) (f64x2.sub (f64x2.mul (local.get $a0i) (local.get $b1r)) (f64x2.mul (local.get $a0r) (local.get $b1i)))))
-              (local.set $p11r (f64x2.add (local.get $p11r) (f64x2.add (f64x2.mul (local.get $a1r) (local.get $b1r)) (f64x2.mul (local.get $a1i) (local.get $b1i)))))
-              (local.set $p11i (f64x2.add (local.get $p11i) (f64x2.sub (f64x2.mul (local.get $a1i) (local.get $b1r)) (f64x2.mul (local.get $a1r) (local.get $b1i)))))
-              (local.set $pa (i32.add (local.get $pa) (i32.const 32)))
-              (local.set $pb (i32.add (local.get $pb) (i32.const 32)))
-              (br $loop_k)))
-            ;; S[2i], S[2i+1], S[2i+2], S[2i+3]; the next row at i + r
-            (local.set $q (i32.add (local.get $S) (i32.shl (local.get $i) (i32.const 4))))
-            (f64.store offset=0 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p00r)) (f64x2.extract_lane 1 (local.get $p00r))))
-            (f64.store offset=8 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p00i)) (f64x2.extract_lane 1 (local.get $p00i))))
-            (f64.store offset=16 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p01r)) (f64x2.extract_lane 1 (local.get $p01r))))
-            (f64.store offset=24 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p01i)) (f64x2.extract_lane 1 (local.get $p01i))))
-            (local.set $q (i32.add (local.get $q) (i32.shl (local.get $r) (i32.const 4))))
-            (f64.store offset=0 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p10r)) (f64x2.extract_lane 1 (local.get $p10r))))
-            (f64.store offset=8 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p10i)) (f64x2.extract_lane 1 (local.get $p10i))))
-            (f64.store offset=16 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p11r)) (f64x2.extract_lane 1 (local.get $p11r))))
-            (f64.store offset=24 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p11i)) (f64x2.extract_lane 1 (local.get $p11i))))))
+            ;; a diagonal block of a Hermitian S, where only (a, a + 1) is wanted: that one sum alone
+            (if (i32.and (i32.eq (local.get $a) (local.get $b))
+                  (i32.eqz (i32.or
+                    (i32.load8_u (i32.add (local.get $todo) (local.get $i)))
+                    (i32.load16_u (i32.add (local.get $todo) (i32.add (local.get $i) (local.get $r)))))))
+              (then
+                (local.set $pb (i32.add (local.get $pb) (local.get $row)))
+                (local.set $p01r (v128.const f64x2 0 0)) (local.set $p01i (v128.const f64x2 0 0))
+                (block $done_d (loop $loop_d
+                  (br_if $done_d (i32.ge_u (local.get $pa) (local.get $end)))
+                  (local.set $a0r (v128.load offset=0 (local.get $pa)))
+                  (local.set $a0i (v128.load offset=16 (local.get $pa)))
+                  (local.set $b1r (v128.load offset=0 (local.get $pb)))
+                  (local.set $b1i (v128.load offset=16 (local.get $pb)))
+                  (local.set $p01r (f64x2.add (local.get $p01r) (f64x2.add (f64x2.mul (local.get $a0r) (local.get $b1r)) (f64x2.mul (local.get $a0i) (local.get $b1i)))))
+                  (local.set $p01i (f64x2.add (local.get $p01i) (f64x2.sub (f64x2.mul (local.get $a0i) (local.get $b1r)) (f64x2.mul (local.get $a0r) (local.get $b1i)))))
+                  (local.set $pa (i32.add (local.get $pa) (i32.const 32)))
+                  (local.set $pb (i32.add (local.get $pb) (i32.const 32)))
+                  (br $loop_d)))
+                (local.set $q (i32.add (local.get $S) (i32.shl (local.get $i) (i32.const 4))))
+                (f64.store offset=16 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p01r)) (f64x2.extract_lane 1 (local.get $p01r))))
+                (f64.store offset=24 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p01i)) (f64x2.extract_lane 1 (local.get $p01i)))))
+              (else
+                (local.set $p00r (v128.const f64x2 0 0)) (local.set $p00i (v128.const f64x2 0 0))
+                (local.set $p01r (v128.const f64x2 0 0)) (local.set $p01i (v128.const f64x2 0 0))
+                (local.set $p10r (v128.const f64x2 0 0)) (local.set $p10i (v128.const f64x2 0 0))
+                (local.set $p11r (v128.const f64x2 0 0)) (local.set $p11i (v128.const f64x2 0 0))
+                (block $done_k (loop $loop_k
+                  (br_if $done_k (i32.ge_u (local.get $pa) (local.get $end)))
+                  (local.set $a0r (v128.load offset=0 (local.get $pa)))
+                  (local.set $a0i (v128.load offset=16 (local.get $pa)))
+                  (local.set $b0r (v128.load offset=0 (local.get $pb)))
+                  (local.set $b0i (v128.load offset=16 (local.get $pb)))
+                  ;; p += a·conj(b): re += ar br + ai bi, im += ai br − ar bi
+                  (local.set $p00r (f64x2.add (local.get $p00r) (f64x2.add (f64x2.mul (local.get $a0r) (local.get $b0r)) (f64x2.mul (local.get $a0i) (local.get $b0i)))))
+                  (local.set $p00i (f64x2.add (local.get $p00i) (f64x2.sub (f64x2.mul (local.get $a0i) (local.get $b0r)) (f64x2.mul (local.get $a0r) (local.get $b0i)))))
+                  (local.set $a1r (v128.load offset=0 (i32.add (local.get $pa) (local.get $row))))
+                  (local.set $a1i (v128.load offset=16 (i32.add (local.get $pa) (local.get $row))))
+                  (local.set $p10r (f64x2.add (local.get $p10r) (f64x2.add (f64x2.mul (local.get $a1r) (local.get $b0r)) (f64x2.mul (local.get $a1i) (local.get $b0i)))))
+                  (local.set $p10i (f64x2.add (local.get $p10i) (f64x2.sub (f64x2.mul (local.get $a1i) (local.get $b0r)) (f64x2.mul (local.get $a1r) (local.get $b0i)))))
+                  (local.set $b1r (v128.load offset=0 (i32.add (local.get $pb) (local.get $row))))
+                  (local.set $b1i (v128.load offset=16 (i32.add (local.get $pb) (local.get $row))))
+                  (local.set $p01r (f64x2.add (local.get $p01r) (f64x2.add (f64x2.mul (local.get $a0r) (local.get $b1r)) (f64x2.mul (local.get $a0i) (local.get $b1i)))))
+                  (local.set $p01i (f64x2.add (local.get $p01i) (f64x2.sub (f64x2.mul (local.get $a0i) (local.get $b1r)) (f64x2.mul (local.get $a0r) (local.get $b1i)))))
+                  (local.set $p11r (f64x2.add (local.get $p11r) (f64x2.add (f64x2.mul (local.get $a1r) (local.get $b1r)) (f64x2.mul (local.get $a1i) (local.get $b1i)))))
+                  (local.set $p11i (f64x2.add (local.get $p11i) (f64x2.sub (f64x2.mul (local.get $a1i) (local.get $b1r)) (f64x2.mul (local.get $a1r) (local.get $b1i)))))
+                  (local.set $pa (i32.add (local.get $pa) (i32.const 32)))
+                  (local.set $pb (i32.add (local.get $pb) (i32.const 32)))
+                  (br $loop_k)))
+                ;; S[2i], S[2i+1], S[2i+2], S[2i+3]; the next row at i + r
+                (local.set $q (i32.add (local.get $S) (i32.shl (local.get $i) (i32.const 4))))
+                (f64.store offset=0 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p00r)) (f64x2.extract_lane 1 (local.get $p00r))))
+                (f64.store offset=8 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p00i)) (f64x2.extract_lane 1 (local.get $p00i))))
+                (f64.store offset=16 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p01r)) (f64x2.extract_lane 1 (local.get $p01r))))
+                (f64.store offset=24 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p01i)) (f64x2.extract_lane 1 (local.get $p01i))))
+                (local.set $q (i32.add (local.get $q) (i32.shl (local.get $r) (i32.const 4))))
+                (f64.store offset=0 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p10r)) (f64x2.extract_lane 1 (local.get $p10r))))
+                (f64.store offset=8 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p10i)) (f64x2.extract_lane 1 (local.get $p10i))))
+                (f64.store offset=16 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p11r)) (f64x2.extract_lane 1 (local.get $p11r))))
+                (f64.store offset=24 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $p11i)) (f64x2.extract_lane 1 (local.get $p11i))))))))
         (local.set $b (i32.add (local.get $b) (i32.const 2)))
         (br $loop_b)))
       (local.set $a (i32.add (local.get $a) (i32.const 2)))
