@@ -497,6 +497,13 @@ function checkCancel(ctx: WalkCtx): void {
   if (++ctx.counter.steps % 64 === 0 && ctx.opts.isCancelled?.()) throw new CancelledError('cancelled');
 }
 
+/** Where a magnet sends the states of a component's port (by name, else "*"). */
+function routeOf(e: Magnet, c: Component): string {
+  const to = e.ports[c.port] ?? e.ports['*'];
+  if (to === undefined) throw new RunError(`${e.path}.ports: port "${c.port}" is not routed (route it by name or with "*")`);
+  return to;
+}
+
 function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
   checkCancel(ctx);
   if (walk.depth > 512) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than 512 elements along one path (a cycle?)`);
@@ -533,15 +540,10 @@ function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
       ] : [];
       if (e.aperture) apertureWarning(ctx, e, walk.track, entrance);
       const deflects = e.gradient !== undefined && e.length !== undefined && e.length > 0 && e.gradient !== 0;
-      const routeOf = (c: Component) => {
-        const to = e.ports[c.port] ?? e.ports['*'];
-        if (to === undefined) throw new RunError(`${e.path}.ports: port "${c.port}" is not routed (route it by name or with "*")`);
-        return to;
-      };
       if (deflects || e.aperture) {
         // every state its own sub-beam: each has its own moment, so its own deflection
         for (const c of sorting.components) {
-          const to = routeOf(c);
+          const to = routeOf(e, c);
           const kick = deflects ? [{ exitY: exit, length: e.length!, accel: (c.moment * MU_B * e.gradient!) / sys.massKg, n: e.axis }] : [];
           const w = fork(walk, {
             path: [...walk.path, `${e.id}:${c.port}`],
@@ -555,7 +557,7 @@ function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
       // an ideal sorter: the states of one port share one trajectory; Σ_k P_k ρ P_k over the port
       for (const port of sorting.ports) {
         const comps = portComponents(sorting, port);
-        const to = routeOf(comps[0]);
+        const to = routeOf(e, comps[0]);
         const w = fork(walk, { path: [...walk.path, `${e.id}:${port}`], y: exit });
         visit(ctx, to, selectStates(s, comps, to === 'stop' || ctx.byId.get(to)?.kind === 'detector'), w);
       }

@@ -19,15 +19,16 @@ export interface ScanSpec {
 export function withParameter(line: Beamline, element: string, key: string, value: unknown): Beamline {
   const idx = line.elements.findIndex((e) => e.id === element);
   if (idx < 0) throw new RunError(`scan: no element "${element}"`);
-  const parts = key.split('.');
-  const set = (obj: unknown, i: number): unknown => {
-    if (i === parts.length) return value;
-    if (obj === null || typeof obj !== 'object' || !(parts[i] in obj)) throw new RunError(`scan: ${element} has no key "${parts.slice(0, i + 1).join('.')}"`);
-    return { ...(obj as Record<string, unknown>), [parts[i]]: set((obj as Record<string, unknown>)[parts[i]], i + 1) };
-  };
   const elements = line.elements.slice();
-  elements[idx] = set(line.elements[idx], 0) as Element;
+  elements[idx] = replaced(line.elements[idx], key.split('.'), 0, value, element) as Element;
   return { ...line, elements };
+}
+
+/** obj with the key path parts[i…] set to value (copies along the path; a module-level function, not a closure per point). */
+function replaced(obj: unknown, parts: readonly string[], i: number, value: unknown, element: string): unknown {
+  if (i === parts.length) return value;
+  if (obj === null || typeof obj !== 'object' || !(parts[i] in obj)) throw new RunError(`scan: ${element} has no key "${parts.slice(0, i + 1).join('.')}"`);
+  return { ...(obj as Record<string, unknown>), [parts[i]]: replaced((obj as Record<string, unknown>)[parts[i]], parts, i + 1, value, element) };
 }
 
 export function runScan(line: Beamline, spec: ScanSpec, opts: RunOptions = {}): RunResult[] {

@@ -475,6 +475,17 @@ export function mjSortCleanField(p: HyperfineParams): number {
  * diagonalised (2×2 in closed form, larger ones by eigh) and carried to n̂ by the cached rotation
  * exp(−iφF_z) exp(−iθF_y). Values in Hz, in block order (not sorted); columns of `vectors` match.
  */
+/** Diagonal entry k of H/h (Hz) along z at the Zeeman frequency zc = μB B/h (module-level: no closure per call). */
+function hDiag(p: HyperfineParams, s: Structure, zc: number, k: number): number {
+  const d = s.dim;
+  return p.aHz * s.ij.re[k * d + k] + (s.q && p.bHz ? p.bHz * s.q.re[k * d + k] : 0) + zc * (p.gJ * s.mJ2[k] + p.gI * s.mI2[k]) / 2;
+}
+/** Off-diagonal entry (a, b) of H/h (Hz) along z (the Zeeman term is diagonal there). */
+function hOff(p: HyperfineParams, s: Structure, a: number, b: number): number {
+  const d = s.dim;
+  return p.aHz * s.ij.re[a * d + b] + (s.q && p.bHz ? p.bHz * s.q.re[a * d + b] : 0);
+}
+
 /** The rows each column of a block-diagonal eigenvector matrix can be non-zero in (its m_F block). */
 export interface ColumnSupport {
   /** Column c has rows rows[start[c]] … rows[start[c + 1] − 1]. */
@@ -514,17 +525,15 @@ export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { v
   const values = zeroedF64(d);
   const vz = cmatZeros(d, d);
   const zc = MU_B_OVER_H * fieldT;
-  const hd = (k: number) => p.aHz * s.ij.re[k * d + k] + (s.q && p.bHz ? p.bHz * s.q.re[k * d + k] : 0) + zc * (p.gJ * s.mJ2[k] + p.gI * s.mI2[k]) / 2;
-  const ho = (a: number, b: number) => p.aHz * s.ij.re[a * d + b] + (s.q && p.bHz ? p.bHz * s.q.re[a * d + b] : 0);
   let col = 0;
   for (const block of s.blocks) {
     const idx = block.idx;
     if (idx.length === 1) {
-      values[col] = hd(idx[0]);
+      values[col] = hDiag(p, s, zc, idx[0]);
       vz.re[idx[0] * d + col] = 1;
       col++;
     } else if (idx.length === 2) {
-      const a = hd(idx[0]), c = hd(idx[1]), b = ho(idx[0], idx[1]);
+      const a = hDiag(p, s, zc, idx[0]), c = hDiag(p, s, zc, idx[1]), b = hOff(p, s, idx[0], idx[1]);
       const mean = 0.5 * (a + c), half = 0.5 * (a - c);
       const r = Math.hypot(half, b);
       // eigenvectors of [[a, b], [b, c]]: angle t with tan 2t = 2b/(a − c)
@@ -540,7 +549,7 @@ export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { v
     } else {
       const n = idx.length;
       const sub = cmatZeros(n, n);
-      for (let r = 0; r < n; r++) for (let c = 0; c < n; c++) sub.re[r * n + c] = r === c ? hd(idx[r]) : ho(idx[r], idx[c]);
+      for (let r = 0; r < n; r++) for (let c = 0; c < n; c++) sub.re[r * n + c] = r === c ? hDiag(p, s, zc, idx[r]) : hOff(p, s, idx[r], idx[c]);
       const e = eigh(sub);
       for (let k = 0; k < n; k++) {
         values[col] = e.values[k];
