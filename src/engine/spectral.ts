@@ -390,7 +390,9 @@ function sandwich(y: CMat, x: CMat): CMat {
   // z = y·|x|^{1/2} (column k by column, contiguous) with the sign of x_k apart
   let m = 0;
   for (let k = 0; k < r; k++) if (xr[k * r + k] !== 0) m++;
-  const zr = zeroedF64(m * d), zi = zeroedF64(m * d), sg = zeroedF64(m);
+  // z and the signs are work arrays: every entry read below is written first
+  const zs = gramScratch(2 * m * d + m);
+  const zr = zs.subarray(0, m * d), zi = zs.subarray(m * d, 2 * m * d), sg = zs.subarray(2 * m * d, 2 * m * d + m);
   let c = 0;
   for (let k = 0; k < r; k++) {
     const w = xr[k * r + k];
@@ -598,7 +600,8 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
   const kernel = tableKernel();
   kernel?.table(speeds, weights);
   const wasm = kernel !== null && kernel.phases(mu);
-  const S = zeroedF64(2 * r * r);
+  // S is read only where todo is set, after the kernel or the JavaScript path wrote it there
+  const S = pairScratch(2 * r * r);
   const todo = todoScratch(r * r);
   let js: JsTable | null = null;
   // with φ = 0 the diagonal S_aa = Σ_k w_k |e^{−iμ_a s_k}|² is the weights' sum for every a: no pair sum
@@ -736,7 +739,8 @@ function workArray<T extends Float64Array | Uint8Array | Int32Array>(make: (n: n
 }
 // the table sums' work arrays
 const scratch = workArray((n) => new Float64Array(n)), scratch2 = workArray((n) => new Float64Array(n)), scratch3 = workArray((n) => new Float64Array(n));
-const todoBuffer = workArray((n) => new Uint8Array(n));
+const gramScratch = workArray((n) => new Float64Array(n));
+const todoBuffer = workArray((n) => new Uint8Array(n)), pairScratch = workArray((n) => new Float64Array(n));
 function todoScratch(n: number): Uint8Array {
   return todoBuffer(n).subarray(0, n);
 }

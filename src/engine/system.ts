@@ -74,7 +74,18 @@ function buildSystem(key: string, name: string, params: HyperfineParams, massKg:
 }
 
 /** The isotope systems of a line's species with their weights (1 for a single species). */
-export function speciesSystems(ref: SpeciesRef): WeightedSystem[] {
+export function speciesSystems(ref: SpeciesRef): readonly WeightedSystem[] {
+  // a scan's lines share their species object: its systems are looked up once (their keys format every constant)
+  let hit = systemsOfRef.get(ref);
+  if (!hit) {
+    hit = systemsOf(ref);
+    systemsOfRef.set(ref, hit);
+  }
+  return hit;
+}
+const systemsOfRef = new WeakMap<SpeciesRef, readonly WeightedSystem[]>();
+
+function systemsOf(ref: SpeciesRef): WeightedSystem[] {
   if (ref.kind === 'bare') {
     return [{ system: makeSystem(`spin ${formatHalfInteger(ref.j2, false)}`, { i2: 0, j2: ref.j2, gJ: ref.g, gI: 0, aHz: 0 }, ref.massKg), fraction: 1 }];
   }
