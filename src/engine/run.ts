@@ -94,8 +94,8 @@ interface WalkCtx {
   moment2: Map<number, [number, number]>;
   /** Elements whose sorting warnings this run has added. */
   seen: Set<object>;
-  /** Eigenstates of the field regions met in this run, by field. */
-  fieldEigen: Map<string, EigenFactors>;
+  /** Eigenstates of the field regions met in this run, by field (a short list, compared by value). */
+  fieldEigen: { field: Vec3; e: EigenFactors }[];
   /** H/ħ of the line's ambient field (the drift Hamiltonian) and whether it vanishes. */
   hAmbient: CMat;
   ambientZero: boolean;
@@ -377,8 +377,8 @@ const eigenCache = new WeakMap<CMat, EigenFactors>();
 function eigenOf(ctx: WalkCtx, h: CMat | null, field?: Vec3): EigenFactors {
   if (field) {
     // kept for the run (every sub-beam through one field region shares it)
-    const key = `${field.x},${field.y},${field.z}`;
-    let e = ctx.fieldEigen.get(key);
+    let e: EigenFactors | undefined;
+    for (const c of ctx.fieldEigen) if (c.field.x === field.x && c.field.y === field.y && c.field.z === field.z) e = c.e;
     if (!e) {
       const b = vecNorm(field);
       const z = zeemanEigen(ctx.sys.params, b, b > 0 ? field : { x: 0, y: 0, z: 1 });
@@ -386,7 +386,7 @@ function eigenOf(ctx: WalkCtx, h: CMat | null, field?: Vec3): EigenFactors {
       for (let i = 0; i < values.length; i++) values[i] = 2 * Math.PI * z.values[i];
       // the dense eigenvectors are formed only where a path needs them (specPropagate keeps the factors)
       e = { values, get vectors(): CMat { return z.vectors; }, factors: z.factors };
-      ctx.fieldEigen.set(key, e);
+      ctx.fieldEigen.push({ field, e });
     }
     return e;
   }
@@ -914,7 +914,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     const chi = new CharCache(dist);
     const ctx: WalkCtx = {
       sys: system, fraction, dist, chi, line, byId, leaves, lost, warnings, positions, opts,
-      counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(), seen: new Set(), fieldEigen: new Map(),
+      counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(), seen: new Set(), fieldEigen: [],
       hAmbient: system.hamiltonian(line.ambient), ambientZero: false,
     };
     ctx.ambientZero = isZeroMatrix(ctx.hAmbient);

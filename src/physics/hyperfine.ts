@@ -342,14 +342,20 @@ const rotations = new Map<string, CMat>();
 function axisRotation(i2: number, j2: number, n: Vec3): CMat | undefined {
   const r = vecNorm(n);
   if (n.x === 0 && n.y === 0 && n.z > 0) return undefined;
+  // a scan along one axis asks for the same rotation at every point: the last one is kept by value
+  const last = lastRotation;
+  if (last && last.i2 === i2 && last.j2 === j2 && last.x === n.x / r && last.y === n.y / r && last.z === n.z / r) return last.rot;
   const key = `${i2}/${j2}/${n.x / r},${n.y / r},${n.z / r}`;
-  const hit = rotations.get(key);
-  if (hit) return hit;
-  const rot = cmatOwn(rotationToAxis(compositeSpin(i2, j2).F, n));
-  if (rotations.size >= 256) rotations.delete(rotations.keys().next().value as string);
-  rotations.set(key, rot);
+  let rot = rotations.get(key);
+  if (!rot) {
+    rot = cmatOwn(rotationToAxis(compositeSpin(i2, j2).F, n));
+    if (rotations.size >= 256) rotations.delete(rotations.keys().next().value as string);
+    rotations.set(key, rot);
+  }
+  lastRotation = { i2, j2, x: n.x / r, y: n.y / r, z: n.z / r, rot };
   return rot;
 }
+let lastRotation: { i2: number; j2: number; x: number; y: number; z: number; rot: CMat } | null = null;
 
 /**
  * R·V for V whose column c has non-zero entries only on the rows of its m_F block: each column of the

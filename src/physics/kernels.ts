@@ -230,10 +230,20 @@ function kernelOn(ex: Exports): TableKernel {
         }
         f[oSg / 8 + k] = sg[k];
       }
+      f.fill(0, oOr / 8, oOi / 8 + dp * dp);
       ex.gram(oZr, oZi, oSg, m, d, dp, oOr, oOi);
-      for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
-        out.re[i * d + j] = f[oOr / 8 + i * dp + j];
-        out.im[i * d + j] = f[oOi / 8 + i * dp + j];
+      // the kernel sums the upper half (j ≥ i); the lower half is its mirror, the diagonal real
+      const br = oOr / 8, bi = oOi / 8;
+      for (let i = 0; i < d; i++) {
+        out.re[i * d + i] = f[br + i * dp + i];
+        out.im[i * d + i] = 0;
+        for (let j = i + 1; j < d; j++) {
+          const re = f[br + i * dp + j], im = f[bi + i * dp + j];
+          out.re[i * d + j] = re;
+          out.im[i * d + j] = im;
+          out.re[j * d + i] = re;
+          out.im[j * d + i] = -im;
+        }
       }
     },
     positive(ar, ai, n, delta) {

@@ -308,54 +308,44 @@
       (br $loop_a))))
 
   ;; out = Σ_k sg[k] z_k z_k† (Hermitian, d×d, real parts at $or and imaginary parts at $oi, row-major
-  ;; with stride $dp), z_k = row k of (zr, zi) (m rows of stride $dp; $dp even, padding zero). Two
-  ;; columns j at a time; entries with j ≥ i are summed and mirrored.
+  ;; with stride $dp), z_k = row k of (zr, zi) (m rows of stride $dp; $dp even, padding zero). Row i is
+  ;; accumulated in place, two columns j at a time from j = i rounded down to even: out_ij +=
+  ;; (sg_k z_ki)·conj(z_kj) for each k. Entries with j < i are left as they are (the caller mirrors the upper
+  ;; half); out is zeroed by the caller.
   (func (export "gram") (param $zr i32) (param $zi i32) (param $sg i32) (param $m i32) (param $d i32) (param $dp i32) (param $or i32) (param $oi i32)
-    (local $i i32) (local $j i32) (local $k i32) (local $row i32) (local $o i32) (local $t i32)
-    (local $ar v128) (local $ai v128) (local $br v128) (local $bi v128) (local $s v128) (local $accr v128) (local $acci v128)
-    (local $vr f64) (local $vi f64)
+    (local $i i32) (local $k i32) (local $row i32) (local $zk i32) (local $j i32) (local $end i32) (local $o i32)
+    (local $ar v128) (local $ai v128) (local $br v128) (local $bi v128) (local $s f64)
     (local.set $row (i32.shl (local.get $dp) (i32.const 3)))
     (local.set $i (i32.const 0))
     (block $done_i (loop $loop_i
       (br_if $done_i (i32.ge_u (local.get $i) (local.get $d)))
-      (local.set $j (i32.and (local.get $i) (i32.const -2)))
-      (block $done_j (loop $loop_j
-        (br_if $done_j (i32.ge_u (local.get $j) (local.get $d)))
-        (local.set $accr (v128.const f64x2 0 0))
-        (local.set $acci (v128.const f64x2 0 0))
-        (local.set $k (i32.const 0))
-        (block $done_k (loop $loop_k
-          (br_if $done_k (i32.ge_u (local.get $k) (local.get $m)))
-          (local.set $o (i32.mul (local.get $k) (local.get $row)))
-          (local.set $ar (f64x2.splat (f64.load (i32.add (local.get $zr) (i32.add (local.get $o) (i32.shl (local.get $i) (i32.const 3)))))))
-          (local.set $ai (f64x2.splat (f64.load (i32.add (local.get $zi) (i32.add (local.get $o) (i32.shl (local.get $i) (i32.const 3)))))))
-          (local.set $br (v128.load (i32.add (local.get $zr) (i32.add (local.get $o) (i32.shl (local.get $j) (i32.const 3))))))
-          (local.set $bi (v128.load (i32.add (local.get $zi) (i32.add (local.get $o) (i32.shl (local.get $j) (i32.const 3))))))
-          (local.set $s (f64x2.splat (f64.load (i32.add (local.get $sg) (i32.shl (local.get $k) (i32.const 3))))))
-          ;; s·z_ki conj(z_kj): re = ar br + ai bi, im = ai br − ar bi
-          (local.set $accr (f64x2.add (local.get $accr) (f64x2.mul (local.get $s) (f64x2.add (f64x2.mul (local.get $ar) (local.get $br)) (f64x2.mul (local.get $ai) (local.get $bi))))))
-          (local.set $acci (f64x2.add (local.get $acci) (f64x2.mul (local.get $s) (f64x2.sub (f64x2.mul (local.get $ai) (local.get $br)) (f64x2.mul (local.get $ar) (local.get $bi))))))
-          (local.set $k (i32.add (local.get $k) (i32.const 1)))
-          (br $loop_k)))
-        ;; lanes j and j + 1, where i ≤ j < d: (i, j) and its mirror (j, i)
-        (local.set $t (local.get $j))
-        (block $done_l (loop $loop_l
-          (br_if $done_l (i32.ge_u (local.get $t) (i32.add (local.get $j) (i32.const 2))))
-          (br_if $done_l (i32.ge_u (local.get $t) (local.get $d)))
-          (if (i32.ge_u (local.get $t) (local.get $i))
-            (then
-              (if (i32.eq (local.get $t) (local.get $j))
-                (then (local.set $vr (f64x2.extract_lane 0 (local.get $accr))) (local.set $vi (f64x2.extract_lane 0 (local.get $acci))))
-                (else (local.set $vr (f64x2.extract_lane 1 (local.get $accr))) (local.set $vi (f64x2.extract_lane 1 (local.get $acci)))))
-              (if (i32.eq (local.get $t) (local.get $i)) (then (local.set $vi (f64.const 0))))
-              (f64.store (i32.add (local.get $or) (i32.shl (i32.add (i32.mul (local.get $i) (local.get $dp)) (local.get $t)) (i32.const 3))) (local.get $vr))
-              (f64.store (i32.add (local.get $oi) (i32.shl (i32.add (i32.mul (local.get $i) (local.get $dp)) (local.get $t)) (i32.const 3))) (local.get $vi))
-              (f64.store (i32.add (local.get $or) (i32.shl (i32.add (i32.mul (local.get $t) (local.get $dp)) (local.get $i)) (i32.const 3))) (local.get $vr))
-              (f64.store (i32.add (local.get $oi) (i32.shl (i32.add (i32.mul (local.get $t) (local.get $dp)) (local.get $i)) (i32.const 3))) (f64.neg (local.get $vi)))))
-          (local.set $t (i32.add (local.get $t) (i32.const 1)))
-          (br $loop_l)))
-        (local.set $j (i32.add (local.get $j) (i32.const 2)))
-        (br $loop_j)))
+      (local.set $k (i32.const 0))
+      (block $done_k (loop $loop_k
+        (br_if $done_k (i32.ge_u (local.get $k) (local.get $m)))
+        (local.set $zk (i32.mul (local.get $k) (local.get $row)))
+        ;; a = sg_k·z_ki, both lanes
+        (local.set $s (f64.load (i32.add (local.get $sg) (i32.shl (local.get $k) (i32.const 3)))))
+        (local.set $ar (f64x2.splat (f64.mul (local.get $s) (f64.load (i32.add (local.get $zr) (i32.add (local.get $zk) (i32.shl (local.get $i) (i32.const 3))))))))
+        (local.set $ai (f64x2.splat (f64.mul (local.get $s) (f64.load (i32.add (local.get $zi) (i32.add (local.get $zk) (i32.shl (local.get $i) (i32.const 3))))))))
+        ;; byte offsets of columns j … d within a row
+        (local.set $j (i32.shl (i32.and (local.get $i) (i32.const -2)) (i32.const 3)))
+        (local.set $end (i32.shl (local.get $d) (i32.const 3)))
+        (local.set $o (i32.mul (local.get $i) (local.get $row)))
+        (block $done_j (loop $loop_j
+          (br_if $done_j (i32.ge_u (local.get $j) (local.get $end)))
+          (local.set $br (v128.load (i32.add (local.get $zr) (i32.add (local.get $zk) (local.get $j)))))
+          (local.set $bi (v128.load (i32.add (local.get $zi) (i32.add (local.get $zk) (local.get $j)))))
+          ;; a·conj(b): re = ar br + ai bi, im = ai br − ar bi
+          (v128.store (i32.add (local.get $or) (i32.add (local.get $o) (local.get $j)))
+            (f64x2.add (v128.load (i32.add (local.get $or) (i32.add (local.get $o) (local.get $j))))
+              (f64x2.add (f64x2.mul (local.get $ar) (local.get $br)) (f64x2.mul (local.get $ai) (local.get $bi)))))
+          (v128.store (i32.add (local.get $oi) (i32.add (local.get $o) (local.get $j)))
+            (f64x2.add (v128.load (i32.add (local.get $oi) (i32.add (local.get $o) (local.get $j))))
+              (f64x2.sub (f64x2.mul (local.get $ai) (local.get $br)) (f64x2.mul (local.get $ar) (local.get $bi)))))
+          (local.set $j (i32.add (local.get $j) (i32.const 16)))
+          (br $loop_j)))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $loop_k)))
       (local.set $i (i32.add (local.get $i) (i32.const 1)))
       (br $loop_i))))
 
