@@ -31,7 +31,7 @@ interface Exports {
   pairs(y: number, z: number, n: number, r: number, todo: number, S: number): void;
   gram(zr: number, zi: number, sg: number, m: number, d: number, dp: number, or: number, oi: number): void;
   chol(ar: number, ai: number, n: number, delta: number, lr: number, li: number): number;
-  bhb(br: number, bi: number, rs: number, cols: number, d: number, r: number, ar: number, ai: number, tr: number, ti: number, nr: number, ni: number): void;
+  bhb(br: number, bi: number, rs: number, cols: number, d: number, r: number, ar: number, ai: number, hr: number, hi: number, tr: number, ti: number, nr: number, ni: number): void;
   rowdots(mr: number, mi: number, gr: number, gi: number, ns: number, np: number, out: number): void;
 }
 
@@ -133,6 +133,11 @@ function kernelOn(ex: Exports): TableKernel {
   let speedsNow: Float64Array | null = null, weightsNow: Float64Array | null = null;
   let oS = 0, oW = 0, oMu = 0, oZ = 0, oE = 0, oY = 0, oTodo = 0, oOut = 0;
   let f = new Float64Array(ex.memory.buffer);
+  let ints = new Int32Array(ex.memory.buffer);
+  /** Copies the first n entries of src to byte offset o (src itself when it has exactly n). */
+  const put = (src: Float64Array, n: number, o: number): void => {
+    f.set(src.length === n ? src : src.subarray(0, n), o / 8);
+  };
   const ensure = (bytes: number): void => {
     const mem = ex.memory;
     if (mem.buffer.byteLength < bytes) mem.grow(Math.ceil((bytes - mem.buffer.byteLength) / 65536));
@@ -258,19 +263,20 @@ function kernelOn(ex: Exports): TableKernel {
     },
     bhb(b, rowStart, cols, d, r, a, out) {
       rowsOf = null;
+      const rp = r + (r & 1);
       const base = helperBase();
-      const oBr = base, oBi = oBr + 8 * d * r, oAr = oBi + 8 * d * r, oAi = oAr + 8 * r * r, oTr = oAi + 8 * r * r, oTi = oTr + 8 * d * r;
-      const oNr = oTi + 8 * d * r, oNi = oNr + 8 * d * d, oRs = oNi + 8 * d * d, oCols = oRs + 4 * (d + 1) + 4 * ((d + 1) & 1);
+      const oBr = base, oBi = oBr + 8 * d * r, oAr = oBi + 8 * d * r, oAi = oAr + 8 * r * r, oHr = oAi + 8 * r * r, oHi = oHr + 8 * r * rp;
+      const oTr = oHi + 8 * r * rp, oTi = oTr + 8 * d * rp;
+      const oNr = oTi + 8 * d * rp, oNi = oNr + 8 * d * d, oRs = oNi + 8 * d * d, oCols = oRs + 4 * (d + 1) + 4 * ((d + 1) & 1);
       ensure(oCols + 4 * cols.length + 8);
-      f.set(b.re.subarray(0, d * r), oBr / 8);
-      f.set(b.im.subarray(0, d * r), oBi / 8);
-      f.set(a.re.subarray(0, r * r), oAr / 8);
-      f.set(a.im.subarray(0, r * r), oAi / 8);
-      f.fill(0, oTr / 8, oTi / 8 + d * r);
-      const ints = new Int32Array(ex.memory.buffer);
-      ints.set(rowStart.subarray(0, d + 1), oRs / 4);
+      put(b.re, d * r, oBr);
+      put(b.im, d * r, oBi);
+      put(a.re, r * r, oAr);
+      put(a.im, r * r, oAi);
+      if (ints.buffer !== ex.memory.buffer) ints = new Int32Array(ex.memory.buffer);
+      ints.set(rowStart.length === d + 1 ? rowStart : rowStart.subarray(0, d + 1), oRs / 4);
       ints.set(cols, oCols / 4);
-      ex.bhb(oBr, oBi, oRs, oCols, d, r, oAr, oAi, oTr, oTi, oNr, oNi);
+      ex.bhb(oBr, oBi, oRs, oCols, d, r, oAr, oAi, oHr, oHi, oTr, oTi, oNr, oNi);
       out.re.set(f.subarray(oNr / 8, oNr / 8 + d * d));
       out.im.set(f.subarray(oNi / 8, oNi / 8 + d * d));
     },

@@ -401,38 +401,77 @@
       (br $loop_j)))
     (i32.const 1))
 
-  ;; N = B H B†, H = (A + A†)/2 (r×r at $ar, $ai), B (d×r at $br, $bi) sparse by rows: row i has the
-  ;; columns cols[rowStart[i]] … cols[rowStart[i+1] − 1] (i32 arrays). T = B H (d×r) is built at $tr, $ti
-  ;; (zeroed by the caller); N (d×d at $nr, $ni) is written for j ≥ i and mirrored (Hermitian).
+  ;; N = B H B†, H = (A + A†)/2 (A r×r at $ar, $ai), B (d×r at $br, $bi) sparse by rows: row i has the
+  ;; columns cols[rowStart[i]] … cols[rowStart[i+1] − 1] (i32 arrays). H is formed once at $hr, $hi and
+  ;; T = B H (d×rp) at $tr, $ti, both with the row stride rp = r rounded up to even (the padding column
+  ;; zero), so that a row of T is summed two columns at a time; N (d×d at $nr, $ni) is written for j ≥ i
+  ;; and mirrored (Hermitian).
   (func (export "bhb") (param $br i32) (param $bi i32) (param $rs i32) (param $cols i32) (param $d i32) (param $r i32)
-        (param $ar i32) (param $ai i32) (param $tr i32) (param $ti i32) (param $nr i32) (param $ni i32)
-    (local $i i32) (local $j i32) (local $p i32) (local $pe i32) (local $a i32) (local $c i32) (local $o i32)
-    (local $xr f64) (local $xi f64) (local $hr f64) (local $hi f64) (local $yr f64) (local $yi f64) (local $sr f64) (local $si f64)
-    ;; T_ic = Σ_{a ∈ cols(i)} B_ia H_ac
+        (param $ar i32) (param $ai i32) (param $hr i32) (param $hi i32) (param $tr i32) (param $ti i32) (param $nr i32) (param $ni i32)
+    (local $i i32) (local $j i32) (local $p i32) (local $pe i32) (local $a i32) (local $c i32) (local $o i32) (local $rp i32)
+    (local $row i32) (local $end i32) (local $ha i32) (local $ti0 i32)
+    (local $xr v128) (local $xi v128) (local $yr v128) (local $yi v128)
+    (local $ur f64) (local $ui f64) (local $vr f64) (local $vi f64) (local $sr f64) (local $si f64)
+    (local.set $rp (i32.add (local.get $r) (i32.and (local.get $r) (i32.const 1))))
+    (local.set $row (i32.shl (local.get $rp) (i32.const 3)))
+    ;; H_ac = ((A_ac + conj A_ca)/2), the padding column 0
+    (local.set $a (i32.const 0))
+    (block $done_ha (loop $loop_ha
+      (br_if $done_ha (i32.ge_u (local.get $a) (local.get $r)))
+      (local.set $c (i32.const 0))
+      (block $done_hc (loop $loop_hc
+        (br_if $done_hc (i32.ge_u (local.get $c) (local.get $rp)))
+        (local.set $o (i32.add (i32.mul (local.get $a) (local.get $row)) (i32.shl (local.get $c) (i32.const 3))))
+        (if (i32.lt_u (local.get $c) (local.get $r))
+          (then
+            (local.set $i (i32.shl (i32.add (i32.mul (local.get $a) (local.get $r)) (local.get $c)) (i32.const 3)))
+            (local.set $j (i32.shl (i32.add (i32.mul (local.get $c) (local.get $r)) (local.get $a)) (i32.const 3)))
+            (f64.store (i32.add (local.get $hr) (local.get $o))
+              (f64.mul (f64.const 0.5) (f64.add (f64.load (i32.add (local.get $ar) (local.get $i))) (f64.load (i32.add (local.get $ar) (local.get $j))))))
+            (f64.store (i32.add (local.get $hi) (local.get $o))
+              (f64.mul (f64.const 0.5) (f64.sub (f64.load (i32.add (local.get $ai) (local.get $i))) (f64.load (i32.add (local.get $ai) (local.get $j)))))))
+          (else
+            (f64.store (i32.add (local.get $hr) (local.get $o)) (f64.const 0))
+            (f64.store (i32.add (local.get $hi) (local.get $o)) (f64.const 0))))
+        (local.set $c (i32.add (local.get $c) (i32.const 1)))
+        (br $loop_hc)))
+      (local.set $a (i32.add (local.get $a) (i32.const 1)))
+      (br $loop_ha)))
+    ;; T_i = Σ_{a ∈ cols(i)} B_ia H_a (row a of H), two columns at a time
+    (local.set $end (local.get $row))
     (local.set $i (i32.const 0))
     (block $done_i (loop $loop_i
       (br_if $done_i (i32.ge_u (local.get $i) (local.get $d)))
+      (local.set $ti0 (i32.mul (local.get $i) (local.get $row)))
+      ;; zero row i of T
+      (local.set $c (i32.const 0))
+      (block $done_z (loop $loop_z
+        (br_if $done_z (i32.ge_u (local.get $c) (local.get $end)))
+        (v128.store (i32.add (local.get $tr) (i32.add (local.get $ti0) (local.get $c))) (v128.const f64x2 0 0))
+        (v128.store (i32.add (local.get $ti) (i32.add (local.get $ti0) (local.get $c))) (v128.const f64x2 0 0))
+        (local.set $c (i32.add (local.get $c) (i32.const 16)))
+        (br $loop_z)))
       (local.set $p (i32.load (i32.add (local.get $rs) (i32.shl (local.get $i) (i32.const 2)))))
       (local.set $pe (i32.load (i32.add (local.get $rs) (i32.shl (i32.add (local.get $i) (i32.const 1)) (i32.const 2)))))
       (block $done_p (loop $loop_p
         (br_if $done_p (i32.ge_u (local.get $p) (local.get $pe)))
         (local.set $a (i32.load (i32.add (local.get $cols) (i32.shl (local.get $p) (i32.const 2)))))
         (local.set $o (i32.shl (i32.add (i32.mul (local.get $i) (local.get $r)) (local.get $a)) (i32.const 3)))
-        (local.set $xr (f64.load (i32.add (local.get $br) (local.get $o))))
-        (local.set $xi (f64.load (i32.add (local.get $bi) (local.get $o))))
+        (local.set $xr (f64x2.splat (f64.load (i32.add (local.get $br) (local.get $o)))))
+        (local.set $xi (f64x2.splat (f64.load (i32.add (local.get $bi) (local.get $o)))))
+        (local.set $ha (i32.mul (local.get $a) (local.get $row)))
         (local.set $c (i32.const 0))
         (block $done_c (loop $loop_c
-          (br_if $done_c (i32.ge_u (local.get $c) (local.get $r)))
-          (local.set $o (i32.shl (i32.add (i32.mul (local.get $a) (local.get $r)) (local.get $c)) (i32.const 3)))
-          (local.set $j (i32.shl (i32.add (i32.mul (local.get $c) (local.get $r)) (local.get $a)) (i32.const 3)))
-          (local.set $hr (f64.mul (f64.const 0.5) (f64.add (f64.load (i32.add (local.get $ar) (local.get $o))) (f64.load (i32.add (local.get $ar) (local.get $j))))))
-          (local.set $hi (f64.mul (f64.const 0.5) (f64.sub (f64.load (i32.add (local.get $ai) (local.get $o))) (f64.load (i32.add (local.get $ai) (local.get $j))))))
-          (local.set $o (i32.shl (i32.add (i32.mul (local.get $i) (local.get $r)) (local.get $c)) (i32.const 3)))
-          (f64.store (i32.add (local.get $tr) (local.get $o))
-            (f64.add (f64.load (i32.add (local.get $tr) (local.get $o))) (f64.sub (f64.mul (local.get $xr) (local.get $hr)) (f64.mul (local.get $xi) (local.get $hi)))))
-          (f64.store (i32.add (local.get $ti) (local.get $o))
-            (f64.add (f64.load (i32.add (local.get $ti) (local.get $o))) (f64.add (f64.mul (local.get $xr) (local.get $hi)) (f64.mul (local.get $xi) (local.get $hr)))))
-          (local.set $c (i32.add (local.get $c) (i32.const 1)))
+          (br_if $done_c (i32.ge_u (local.get $c) (local.get $end)))
+          (local.set $yr (v128.load (i32.add (local.get $hr) (i32.add (local.get $ha) (local.get $c)))))
+          (local.set $yi (v128.load (i32.add (local.get $hi) (i32.add (local.get $ha) (local.get $c)))))
+          (v128.store (i32.add (local.get $tr) (i32.add (local.get $ti0) (local.get $c)))
+            (f64x2.add (v128.load (i32.add (local.get $tr) (i32.add (local.get $ti0) (local.get $c))))
+              (f64x2.sub (f64x2.mul (local.get $xr) (local.get $yr)) (f64x2.mul (local.get $xi) (local.get $yi)))))
+          (v128.store (i32.add (local.get $ti) (i32.add (local.get $ti0) (local.get $c)))
+            (f64x2.add (v128.load (i32.add (local.get $ti) (i32.add (local.get $ti0) (local.get $c))))
+              (f64x2.add (f64x2.mul (local.get $xr) (local.get $yi)) (f64x2.mul (local.get $xi) (local.get $yr)))))
+          (local.set $c (i32.add (local.get $c) (i32.const 16)))
           (br $loop_c)))
         (local.set $p (i32.add (local.get $p) (i32.const 1)))
         (br $loop_p)))
@@ -442,6 +481,7 @@
     (local.set $i (i32.const 0))
     (block $done_i2 (loop $loop_i2
       (br_if $done_i2 (i32.ge_u (local.get $i) (local.get $d)))
+      (local.set $ti0 (i32.mul (local.get $i) (local.get $row)))
       (local.set $j (local.get $i))
       (block $done_j (loop $loop_j
         (br_if $done_j (i32.ge_u (local.get $j) (local.get $d)))
@@ -452,14 +492,14 @@
         (block $done_q (loop $loop_q
           (br_if $done_q (i32.ge_u (local.get $p) (local.get $pe)))
           (local.set $c (i32.load (i32.add (local.get $cols) (i32.shl (local.get $p) (i32.const 2)))))
-          (local.set $o (i32.shl (i32.add (i32.mul (local.get $i) (local.get $r)) (local.get $c)) (i32.const 3)))
-          (local.set $xr (f64.load (i32.add (local.get $tr) (local.get $o))))
-          (local.set $xi (f64.load (i32.add (local.get $ti) (local.get $o))))
+          (local.set $o (i32.add (local.get $ti0) (i32.shl (local.get $c) (i32.const 3))))
+          (local.set $ur (f64.load (i32.add (local.get $tr) (local.get $o))))
+          (local.set $ui (f64.load (i32.add (local.get $ti) (local.get $o))))
           (local.set $o (i32.shl (i32.add (i32.mul (local.get $j) (local.get $r)) (local.get $c)) (i32.const 3)))
-          (local.set $yr (f64.load (i32.add (local.get $br) (local.get $o))))
-          (local.set $yi (f64.neg (f64.load (i32.add (local.get $bi) (local.get $o)))))
-          (local.set $sr (f64.add (local.get $sr) (f64.sub (f64.mul (local.get $xr) (local.get $yr)) (f64.mul (local.get $xi) (local.get $yi)))))
-          (local.set $si (f64.add (local.get $si) (f64.add (f64.mul (local.get $xr) (local.get $yi)) (f64.mul (local.get $xi) (local.get $yr)))))
+          (local.set $vr (f64.load (i32.add (local.get $br) (local.get $o))))
+          (local.set $vi (f64.neg (f64.load (i32.add (local.get $bi) (local.get $o)))))
+          (local.set $sr (f64.add (local.get $sr) (f64.sub (f64.mul (local.get $ur) (local.get $vr)) (f64.mul (local.get $ui) (local.get $vi)))))
+          (local.set $si (f64.add (local.get $si) (f64.add (f64.mul (local.get $ur) (local.get $vi)) (f64.mul (local.get $ui) (local.get $vr)))))
           (local.set $p (i32.add (local.get $p) (i32.const 1)))
           (br $loop_q)))
         (if (i32.eq (local.get $i) (local.get $j)) (then (local.set $si (f64.const 0))))

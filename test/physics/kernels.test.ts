@@ -112,6 +112,44 @@ describe('the WebAssembly dense kernels', () => {
     }
   });
 
+  it('forms B H B† with H = (A + A†)/2 for a B sparse by rows, for even and odd sizes', () => {
+    const rnd = lcg(11);
+    for (const [d, r] of [[16, 16], [3, 3], [6, 5], [4, 7]] as const) {
+      // each row of B has one to three non-zero columns
+      const b = cmatZeros(d, r);
+      const rowStart = new Int32Array(d + 1), cols: number[] = [];
+      for (let i = 0; i < d; i++) {
+        rowStart[i] = cols.length;
+        for (let c = 0; c < r; c++) {
+          if (c === i % r || rnd() < 0.25) {
+            cols.push(c);
+            b.re[i * r + c] = rnd() - 0.5;
+            b.im[i * r + c] = rnd() - 0.5;
+          }
+        }
+      }
+      rowStart[d] = cols.length;
+      const a = cmatZeros(r, r);
+      for (let i = 0; i < r * r; i++) {
+        a.re[i] = rnd() - 0.5;
+        a.im[i] = rnd() - 0.5;
+      }
+      const out = cmatZeros(d, d);
+      denseKernels()!.bhb(b, rowStart, Int32Array.from(cols), d, r, a, out);
+      // the direct product B H B† of dense matrices
+      const h = cmatZeros(r, r);
+      for (let i = 0; i < r; i++) for (let j = 0; j < r; j++) {
+        h.re[i * r + j] = 0.5 * (a.re[i * r + j] + a.re[j * r + i]);
+        h.im[i * r + j] = 0.5 * (a.im[i * r + j] - a.im[j * r + i]);
+      }
+      const n = cmatMul(cmatMul(b, h), cmatDagger(b));
+      for (let i = 0; i < d * d; i++) {
+        expect(Math.abs(out.re[i] - n.re[i])).toBeLessThan(1e-14);
+        expect(Math.abs(out.im[i] - n.im[i])).toBeLessThan(1e-14);
+      }
+    }
+  });
+
   it('tells positive from indefinite Hermitian matrices (Cholesky of A + δ·1)', () => {
     const rnd = lcg(9);
     const n = 12;
