@@ -323,11 +323,16 @@ export function specPropagate(st: SpecState, vectors: () => CMat, lambda: ArrayL
   return factors ? factoredState({ left: factors.rot, blocks: factors.blocks, support: factors.support }, mu, terms) : state(vectors(), mu, terms);
 }
 
-/** B†M over the non-zero rows of each column of B. */
+/**
+ * B†M over the non-zero rows of each column of B, in a work array: the product is read once, by the
+ * sandwiches of the propagation that asked for it, and not kept.
+ */
 function blocksDaggerTimes(f: PropagatorFactors, m: CMat): CMat {
   const b = f.blocks, { start, rows } = f.support;
   const r = b.cols, dm = m.cols;
-  const out = cmatZeros(r, dm);
+  const w = productScratch(2 * r * dm);
+  w.fill(0, 0, 2 * r * dm);
+  const out: CMat = { rows: r, cols: dm, re: w.subarray(0, r * dm), im: w.subarray(r * dm, 2 * r * dm) };
   for (let c = 0; c < r; c++) for (let q = start[c]; q < start[c + 1]; q++) {
     const p = rows[q];
     const xr = b.re[p * r + c], xi = -b.im[p * r + c];
@@ -739,7 +744,7 @@ function workArray<T extends Float64Array | Uint8Array | Int32Array>(make: (n: n
 }
 // the table sums' work arrays
 const scratch = workArray((n) => new Float64Array(n)), scratch2 = workArray((n) => new Float64Array(n)), scratch3 = workArray((n) => new Float64Array(n));
-const gramScratch = workArray((n) => new Float64Array(n));
+const gramScratch = workArray((n) => new Float64Array(n)), productScratch = workArray((n) => new Float64Array(n));
 const todoBuffer = workArray((n) => new Uint8Array(n)), pairScratch = workArray((n) => new Float64Array(n));
 function todoScratch(n: number): Uint8Array {
   return todoBuffer(n).subarray(0, n);

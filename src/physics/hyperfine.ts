@@ -541,7 +541,8 @@ export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { v
     } else if (idx.length === 2) {
       const a = hDiag(p, s, zc, idx[0]), c = hDiag(p, s, zc, idx[1]), b = hOff(p, s, idx[0], idx[1]);
       const mean = 0.5 * (a + c), half = 0.5 * (a - c);
-      const r = Math.hypot(half, b);
+      // √(half² + b²): both are frequencies (Hz, below 1e15), so the squares neither overflow nor underflow
+      const r = Math.sqrt(half * half + b * b);
       // eigenvectors of [[a, b], [b, c]]: angle t with tan 2t = 2b/(a − c)
       const t = 0.5 * Math.atan2(b, half);
       const ct = Math.cos(t), st = Math.sin(t);
