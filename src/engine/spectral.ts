@@ -617,11 +617,23 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
     const hermitian = term.phi === 0;
     // entries needed: with φ = 0, S is Hermitian and only b > a is summed (S_ba = conj S_ab)
     let any = false;
-    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
-      const i = a * r + b, j = b * r + a;
-      const need = (hermitian ? b > a : true) && (Math.abs(xr[i]) + Math.abs(xi[i]) > cut || (hermitian && Math.abs(xr[j]) + Math.abs(xi[j]) > cut));
-      todo[i] = need ? 1 : 0;
-      any ||= need;
+    if (hermitian) {
+      for (let a = 0; a < r; a++) {
+        todo[a * r + a] = 0;
+        for (let b = a + 1; b < r; b++) {
+          const i = a * r + b, j = b * r + a;
+          const need = Math.abs(xr[i]) + Math.abs(xi[i]) > cut || Math.abs(xr[j]) + Math.abs(xi[j]) > cut;
+          todo[i] = need ? 1 : 0;
+          todo[j] = 0;
+          any ||= need;
+        }
+      }
+    } else {
+      for (let i = 0; i < r * r; i++) {
+        const need = Math.abs(xr[i]) + Math.abs(xi[i]) > cut;
+        todo[i] = need ? 1 : 0;
+        any ||= need;
+      }
     }
     if (hermitian) for (let a = 0; a < r; a++) {
       const i = a * r + a;
