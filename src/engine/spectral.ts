@@ -47,6 +47,12 @@ export interface StateMemo {
   trace?: number;
   /** run.ts: the states its ports select from this one (kept and leaf-next forms). */
   selections?: [Map<unknown, SpecState>, Map<unknown, SpecState>];
+  /**
+   * For a lab-frame state (mu = null) whose terms are Hermitian: Q_t = M X_t M† with M = R†W, by field-axis
+   * rotation R (null: some term is not Hermitian). A field region along that axis then needs only
+   * B† Q_t B per point (specPropagate), and a scan over the field's size reuses Q_t.
+   */
+  rotated?: Map<CMat | null, CMat[] | null>;
 }
 
 interface SharedAverages {
@@ -291,10 +297,15 @@ export function specPropagate(st: SpecState, vectors: () => CMat, lambda: ArrayL
   let lab: SpecTerm[], xs: CMat[];
   if (st.mu === null) {
     // every term is already lab-frame Σ_t W X_t W† e^{−iφ_t s}: in the new basis Y X_t Y†, Y = V†W;
-    // with V = R·B (B sparse by columns), Y = B†(R†W), and R†W is kept with W (a scan over a field's size)
-    const y = factors ? blocksDaggerTimes(factors, factors.rot ? rotatedBasis(factors.rot, st.W) : st.W) : cmatMul(cmatDagger(vectors()), st.W);
+    // with V = R·B (B sparse by columns), Y = B†(R†W), and R†W is kept with W (a scan over a field's size).
+    // Where the terms are Hermitian, Y X_t Y† = B† Q_t B with Q_t = (R†W) X_t (R†W)† kept with the state
     lab = st.terms.slice();
-    xs = lab.map((t) => sandwich(y, t.X));
+    const qs = factors ? rotatedTerms(st, factors.rot) : null;
+    if (factors && qs) xs = qs.map((q) => blocksDaggerSandwich(factors, q));
+    else {
+      const y = factors ? blocksDaggerTimes(factors, factors.rot ? rotatedBasis(factors.rot, st.W) : st.W) : cmatMul(cmatDagger(vectors()), st.W);
+      xs = lab.map((t) => sandwich(y, t.X));
+    }
   } else {
     const v = vectors();
     const vd = cmatDagger(v);
@@ -351,6 +362,46 @@ export interface PropagatorFactors {
   readonly rot: CMat | undefined;
   readonly blocks: CMat;
   readonly support: ColumnSupport;
+}
+
+/** Q_t = M X_t M†, M = R†W (W itself without a rotation), kept with the state; null when a term is not Hermitian. */
+function rotatedTerms(st: SpecState, rot: CMat | undefined): CMat[] | null {
+  const memo = (st.memo ??= {});
+  const byRot = (memo.rotated ??= new Map());
+  const key = rot ?? null;
+  let qs = byRot.get(key);
+  if (qs === undefined) {
+    qs = st.terms.every((t) => isHermitian(t.X)) ? st.terms.map((t) => cmatOwn(sandwich(rot ? rotatedBasis(rot, st.W) : st.W, t.X))) : null;
+    byRot.set(key, qs);
+  }
+  return qs;
+}
+
+function isHermitian(x: CMat): boolean {
+  const r = x.rows;
+  if (x.cols !== r) return false;
+  for (let a = 0; a < r; a++) for (let b = a; b < r; b++) {
+    if (x.re[a * r + b] !== x.re[b * r + a] || x.im[a * r + b] !== -x.im[b * r + a]) return false;
+  }
+  return true;
+}
+
+/**
+ * B† Q B for Q Hermitian, over the non-zero rows of each column of B: the sandwich of blocksSandwich
+ * with B† (sparse by rows where B is sparse by columns) in a work array.
+ */
+function blocksDaggerSandwich(f: PropagatorFactors, q: CMat): CMat {
+  const b = f.blocks, { start, rows } = f.support;
+  const d = b.rows, r = b.cols;
+  const w = productScratch(2 * r * d);
+  w.fill(0, 0, 2 * r * d);
+  const bd: CMat = { rows: r, cols: d, re: w.subarray(0, r * d), im: w.subarray(r * d, 2 * r * d) };
+  for (let c = 0; c < r; c++) for (let k = start[c]; k < start[c + 1]; k++) {
+    const p = rows[k];
+    bd.re[c * d + p] = b.re[p * r + c];
+    bd.im[c * d + p] = -b.im[p * r + c];
+  }
+  return blocksSandwich({ left: undefined, blocks: bd, support: { start: f.support.rowStart, rows: f.support.cols, rowStart: start, cols: rows } }, q);
 }
 
 /** R†W, kept per (W, R) object pair. */
