@@ -544,8 +544,18 @@ export function zeemanEigen(p: HyperfineParams, fieldT: number, axis: Vec3): { v
       // √(half² + b²): both are frequencies (Hz, below 1e15), so the squares neither overflow nor underflow
       const r = Math.sqrt(half * half + b * b);
       // eigenvectors of [[a, b], [b, c]]: angle t with tan 2t = 2b/(a − c)
-      const t = 0.5 * Math.atan2(b, half);
-      const ct = Math.cos(t), st = Math.sin(t);
+      // cos t and sin t without trigonometry: cos 2t = half/r and sin 2t = b/r, t = atan2(b, half)/2 in
+      // (−π/2, π/2]; the larger of the two comes from its half-angle formula, the other from sin 2t / 2
+      let ct = 1, st = 0;
+      if (r > 0) {
+        if (half >= 0) {
+          ct = Math.sqrt(0.5 * (1 + half / r));
+          st = b / (2 * r * ct);
+        } else {
+          st = (b < 0 ? -1 : 1) * Math.sqrt(0.5 * (1 - half / r));
+          ct = b / (2 * r * st);
+        }
+      }
       values[col] = mean + r;
       vz.re[idx[0] * d + col] = ct;
       vz.re[idx[1] * d + col] = st;

@@ -414,27 +414,30 @@
     (local $ur f64) (local $ui f64) (local $vr f64) (local $vi f64) (local $sr f64) (local $si f64)
     (local.set $rp (i32.add (local.get $r) (i32.and (local.get $r) (i32.const 1))))
     (local.set $row (i32.shl (local.get $rp) (i32.const 3)))
-    ;; H_ac = ((A_ac + conj A_ca)/2), the padding column 0
+    ;; H_ac = (A_ac + conj A_ca)/2 and H_ca = conj H_ac, for c ≥ a; the padding column 0
     (local.set $a (i32.const 0))
     (block $done_ha (loop $loop_ha
       (br_if $done_ha (i32.ge_u (local.get $a) (local.get $r)))
-      (local.set $c (i32.const 0))
+      (local.set $c (local.get $a))
       (block $done_hc (loop $loop_hc
-        (br_if $done_hc (i32.ge_u (local.get $c) (local.get $rp)))
+        (br_if $done_hc (i32.ge_u (local.get $c) (local.get $r)))
+        (local.set $i (i32.shl (i32.add (i32.mul (local.get $a) (local.get $r)) (local.get $c)) (i32.const 3)))
+        (local.set $j (i32.shl (i32.add (i32.mul (local.get $c) (local.get $r)) (local.get $a)) (i32.const 3)))
+        (local.set $sr (f64.mul (f64.const 0.5) (f64.add (f64.load (i32.add (local.get $ar) (local.get $i))) (f64.load (i32.add (local.get $ar) (local.get $j))))))
+        (local.set $si (f64.mul (f64.const 0.5) (f64.sub (f64.load (i32.add (local.get $ai) (local.get $i))) (f64.load (i32.add (local.get $ai) (local.get $j))))))
         (local.set $o (i32.add (i32.mul (local.get $a) (local.get $row)) (i32.shl (local.get $c) (i32.const 3))))
-        (if (i32.lt_u (local.get $c) (local.get $r))
-          (then
-            (local.set $i (i32.shl (i32.add (i32.mul (local.get $a) (local.get $r)) (local.get $c)) (i32.const 3)))
-            (local.set $j (i32.shl (i32.add (i32.mul (local.get $c) (local.get $r)) (local.get $a)) (i32.const 3)))
-            (f64.store (i32.add (local.get $hr) (local.get $o))
-              (f64.mul (f64.const 0.5) (f64.add (f64.load (i32.add (local.get $ar) (local.get $i))) (f64.load (i32.add (local.get $ar) (local.get $j))))))
-            (f64.store (i32.add (local.get $hi) (local.get $o))
-              (f64.mul (f64.const 0.5) (f64.sub (f64.load (i32.add (local.get $ai) (local.get $i))) (f64.load (i32.add (local.get $ai) (local.get $j)))))))
-          (else
-            (f64.store (i32.add (local.get $hr) (local.get $o)) (f64.const 0))
-            (f64.store (i32.add (local.get $hi) (local.get $o)) (f64.const 0))))
+        (f64.store (i32.add (local.get $hr) (local.get $o)) (local.get $sr))
+        (f64.store (i32.add (local.get $hi) (local.get $o)) (local.get $si))
+        (local.set $o (i32.add (i32.mul (local.get $c) (local.get $row)) (i32.shl (local.get $a) (i32.const 3))))
+        (f64.store (i32.add (local.get $hr) (local.get $o)) (local.get $sr))
+        (f64.store (i32.add (local.get $hi) (local.get $o)) (f64.neg (local.get $si)))
         (local.set $c (i32.add (local.get $c) (i32.const 1)))
         (br $loop_hc)))
+      (if (i32.ne (local.get $r) (local.get $rp))
+        (then
+          (local.set $o (i32.add (i32.mul (local.get $a) (local.get $row)) (i32.shl (local.get $r) (i32.const 3))))
+          (f64.store (i32.add (local.get $hr) (local.get $o)) (f64.const 0))
+          (f64.store (i32.add (local.get $hi) (local.get $o)) (f64.const 0))))
       (local.set $a (i32.add (local.get $a) (i32.const 1)))
       (br $loop_ha)))
     ;; T_i = Σ_{a ∈ cols(i)} B_ia H_a (row a of H), two columns at a time
