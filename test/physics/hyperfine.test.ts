@@ -3,7 +3,7 @@ import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import {
   hyperfineHamiltonianHz, zeemanLevels, zeroFieldStates, mjSortCleanField, gF, zeroFieldEnergyHz,
-  hyperfineSplittingHz, MU_B_OVER_H, type HyperfineParams,
+  hyperfineSplittingHz, MU_B_OVER_H, zeemanEigen, type HyperfineParams,
 } from '../../src/physics/hyperfine.ts';
 import { eigh } from '../../src/physics/eigh.ts';
 import { compositeSpin, spinOperators, spinSquared } from '../../src/physics/spin.ts';
@@ -372,6 +372,28 @@ describe('zeemanLevels against the independent NumPy/QuTiP fixtures (test/refere
       expect(fx.points.length).toBeGreaterThanOrEqual(15);
       expect(worstE).toBeLessThan(1e-9);
       expect(worstM).toBeLessThan(1e-9);
+    });
+  }
+});
+
+describe('zeemanEigen: the m_F-block eigenvectors (half-angle formulas of each 2×2 block)', () => {
+  // every sign of the blocks' off-diagonal (A > 0 and A < 0) and of their diagonal difference, from zero
+  // field (degenerate blocks) through the crossing region to the Paschen–Back side
+  for (const [name, p] of [['H', H1], ['Cs-133', CS], ['K-40 (A < 0)', K40], ['Li-6 (I = 1)', LI6]] as const) {
+    it(`${name}: V is unitary and V† H V is diagonal with the listed energies, 0 to 2 T along a tilted axis`, () => {
+      const n: Vec3 = { x: 0.48, y: -0.36, z: 0.8 };
+      for (const b of [0, 1e-7, 1e-4, 0.01, 0.05, 0.3, 2]) {
+        const z = zeemanEigen(p, b, n);
+        const h = hyperfineHamiltonianHz(p, { x: b * n.x, y: b * n.y, z: b * n.z });
+        const v = z.vectors;
+        expect(unitarityError(v)).toBeLessThan(1e-13);
+        const d = cmatMul(cmatDagger(v), cmatMul(h, v));
+        const scale = Math.max(...h.re.map(Math.abs));
+        for (let i = 0; i < v.rows; i++) for (let j = 0; j < v.rows; j++) {
+          const want = i === j ? z.values[i] : 0;
+          expect(Math.hypot(d.re[i * v.rows + j] - want, d.im[i * v.rows + j])).toBeLessThan(1e-13 * scale);
+        }
+      }
     });
   }
 });
