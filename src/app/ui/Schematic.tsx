@@ -95,7 +95,12 @@ export function Schematic({ line, result, selected, onSelect, warned }: Props) {
         })}
         {items.map((p) => (
           <ElementGlyph key={p.id} p={p} which={which} cy={cy} X={X} T={T} row={rows.get(p.id) ?? 0}
-            selected={selected === p.id} warned={warned.has(p.id)} onSelect={onSelect} />
+            selected={selected === p.id} warned={warned.has(p.id)} onSelect={onSelect} part="body" />
+        ))}
+        {/* the labels after every glyph: a detector plate at the same place as a magnet would cover its name */}
+        {which === 'side' && items.map((p) => (
+          <ElementGlyph key={`${p.id}-label`} p={p} which={which} cy={cy} X={X} T={T} row={rows.get(p.id) ?? 0}
+            selected={selected === p.id} warned={warned.has(p.id)} onSelect={onSelect} part="label" />
         ))}
       </g>
     );
@@ -146,9 +151,9 @@ export function Schematic({ line, result, selected, onSelect, warned }: Props) {
   );
 }
 
-function ElementGlyph({ p, which, cy, X, T, row, selected, warned, onSelect }: {
+function ElementGlyph({ p, which, cy, X, T, row, selected, warned, onSelect, part }: {
   p: Placed; which: 'side' | 'top'; cy: number; row: number; X(y: number): number; T(t: number): number;
-  selected: boolean; warned: boolean; onSelect(id: string): void;
+  selected: boolean; warned: boolean; onSelect(id: string): void; part: 'body' | 'label';
 }) {
   const e = p.element;
   const x0 = X(p.y0);
@@ -222,11 +227,17 @@ function ElementGlyph({ p, which, cy, X, T, row, selected, warned, onSelect }: {
     default:
       body = <rect x={x0} y={cy - 24} width={w} height={48} className="field-el" strokeDasharray="4 2" />;
   }
+  if (part === 'label') {
+    return (
+      <g className={cls} onClick={() => onSelect(e.id)}>
+        {label}
+      </g>
+    );
+  }
   return (
     <g className={cls} onClick={() => onSelect(e.id)} data-element={e.id}>
       <title>{`${e.id} (${e.kind}) at ${fmtLength(p.y0)}${p.y1 > p.y0 ? `–${fmtLength(p.y1)}` : ''}`}</title>
       {body}
-      {which === 'side' && label}
     </g>
   );
 }
