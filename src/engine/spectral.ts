@@ -372,6 +372,8 @@ function rotatedTerms(st: SpecState, rot: CMat | undefined): CMat[] | null {
   let qs = byRot.get(key);
   if (qs === undefined) {
     qs = st.terms.every((t) => isHermitian(t.X)) ? st.terms.map((t) => cmatOwn(sandwich(rot ? rotatedBasis(rot, st.W) : st.W, t.X))) : null;
+    // a scan over the field's direction brings a new rotation at every point: keep a few (as pairCache)
+    if (byRot.size > 16) byRot.clear();
     byRot.set(key, qs);
   }
   return qs;
