@@ -55,6 +55,25 @@ function isNodes(st: State): st is NodeState {
   return (st as NodeState).nodes === true;
 }
 
+/**
+ * Nodes whose every ρ_k is scales[k]·common: a port that keeps one state, |k⟩⟨k| ρ |k⟩⟨k| = ⟨k|ρ|k⟩ |k⟩⟨k|.
+ * The leaves behind such a port read only the traces; the matrices are formed where something reads them.
+ */
+class ScaledNodes implements NodeState {
+  readonly nodes = true as const;
+  private formed: CMat[] | undefined = undefined;
+  constructor(readonly speeds: Float64Array, readonly weights: Float64Array, readonly common: CMat, readonly scales: Float64Array) {}
+  get rhos(): readonly CMat[] {
+    return (this.formed ??= Array.from(this.scales, (s) => cmatScale(this.common, s)));
+  }
+}
+
+function realTrace(m: CMat): number {
+  let t = 0;
+  for (let i = 0; i < m.rows; i++) t += m.re[i * m.rows + i];
+  return t;
+}
+
 function mapNodes(st: NodeState, f: (rho: CMat, k: number) => CMat): NodeState {
   return { nodes: true, speeds: st.speeds, weights: st.weights, rhos: st.rhos.map(f) };
 }
@@ -65,6 +84,11 @@ function conj(u: CMat, rho: CMat): CMat {
 }
 
 function nodeTrace(st: NodeState): number {
+  if (st instanceof ScaledNodes) {
+    let ws = 0;
+    for (let k = 0; k < st.scales.length; k++) ws += st.weights[k] * st.scales[k];
+    return ws * realTrace(st.common);
+  }
   let s = 0;
   for (let k = 0; k < st.rhos.length; k++) {
     const r = st.rhos[k], d = r.rows;
@@ -276,7 +300,9 @@ function selectNodes(st: NodeState, comps: readonly Component[], leafNext: boole
     // |k⟩⟨k| ρ |k⟩⟨k| = ⟨k|ρ|k⟩ |k⟩⟨k|
     const v = comps[0].vector, p = rank1Cached(comps[0]);
     const d = v.rows, vr = v.re, vi = v.im;
-    return mapNodes(st, (rho) => {
+    const rhos = st.rhos, scales = new Float64Array(rhos.length);
+    for (let k = 0; k < rhos.length; k++) {
+      const rho = rhos[k];
       let sr = 0;
       for (let i = 0; i < d; i++) {
         // conj(v_i) Σ_j ρ_ij v_j, real part (ρ Hermitian)
@@ -288,8 +314,9 @@ function selectNodes(st: NodeState, comps: readonly Component[], leafNext: boole
         }
         sr += vr[i] * tr + vi[i] * ti;
       }
-      return cmatScale(p, sr);
-    });
+      scales[k] = sr;
+    }
+    return new ScaledNodes(st.speeds, st.weights, p, scales);
   }
   if (leafNext) {
     // P ρ P with P Hermitian: conj(P, ρ)
@@ -656,8 +683,11 @@ function finishLeaf(ctx: WalkCtx, st: State, walk: Walk, target: string, det: De
   let spec: SpecState | undefined;
   if (isNodes(st)) {
     yieldSpin = nodeTrace(st);
-    const traces = new Float64Array(st.rhos.length);
-    for (let k = 0; k < traces.length; k++) {
+    const traces = new Float64Array(st.speeds.length);
+    if (st instanceof ScaledNodes) {
+      const t = realTrace(st.common);
+      for (let k = 0; k < traces.length; k++) traces[k] = st.scales[k] * t;
+    } else for (let k = 0; k < traces.length; k++) {
       const r = st.rhos[k], d = r.rows;
       let s = 0;
       for (let i = 0; i < d; i++) s += r.re[i * d + i];
