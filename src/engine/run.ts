@@ -21,7 +21,7 @@ import {
 import { collimatedFlux, lookupSpecies } from '../species/index.ts';
 import type { Beamline, Element, Magnet, Recombiner, Detector, Rect } from '../beamline/types.ts';
 import { speciesSystems, sortStates, projectorOf, SpeciesError, type SpinSystem, type Sorting, type Component } from './system.ts';
-import { specInitial, specKraus, specPropagate, type PropagatorFactors, specAverageTrace, specAt, specProjectDiag, specPhaseWeights, CharCache, type SpecState } from './spectral.ts';
+import { specInitial, specKraus, specPropagate, type PropagatorFactors, specAverageTrace, specAt, specIsStatic, specProjectDiag, specPhaseWeights, CharCache, type SpecState } from './spectral.ts';
 import type { RunResult, LeafResult, DetectorResult } from './result.ts';
 import { evaluateGeometry, type Track, type FinePath } from './leafgeom.ts';
 
@@ -850,7 +850,9 @@ function runSampledSubtree(ctx: WalkCtx, e: Element, st: SpecState, twist: Twist
     const g = oscillationGrid(d, panels, 8);
     const total = g.weights.reduce((a, b) => a + b, 0);
     const weights = g.weights.map((w) => w / total);
-    const rhos = Array.from(g.speeds, (v) => specAt(st, v));
+    // a state without phases is the same at every node: formed once (the nodes share it; nothing mutates a ρ)
+    const rho0 = specIsStatic(st) ? specAt(st, g.speeds[0]) : null;
+    const rhos: CMat[] = rho0 ? new Array<CMat>(g.speeds.length).fill(rho0) : Array.from(g.speeds, (v) => specAt(st, v));
     const nodes = applyTwist({ nodes: true, speeds: g.speeds, weights, rhos }, twist);
     const mark = ctx.leaves.length;
     ctx.lost.spin = lostMark;

@@ -1038,6 +1038,15 @@ function phasedBasis(st: SpecState, v: number, phiMax: number): CMat {
 }
 
 /** ρ at one speed v (a plain matrix), leaving out terms with |φ + Ω_ab| > phiMax. */
+/** True when ρ(v) is the same at every speed: no term carries a phase (φ_t = 0, and no Ω_ab between distinct μ). */
+export function specIsStatic(st: SpecState): boolean {
+  if (!st.terms.every((t) => t.phi === 0)) return false;
+  const mu = st.mu;
+  if (mu === null) return true;
+  for (let a = 1; a < mu.length; a++) if (mu[a] !== mu[0]) return false;
+  return true;
+}
+
 export function specAt(st: SpecState, v: number, phiMax: number = Infinity): CMat {
   const w = st.W;
   return cmatSandwichParts(w.re, w.im, w.rows, w.cols, phasedBasis(st, v, phiMax));

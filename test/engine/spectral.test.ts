@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { specInitial, specKraus, specPropagate, specAverageTrace, specAverageBasis, CharCache, type SpecState } from '../../src/engine/spectral.ts';
+import { specInitial, specKraus, specPropagate, specAverageTrace, specAverageBasis, specAt, specIsStatic, CharCache, type SpecState } from '../../src/engine/spectral.ts';
 import { zeemanEigen, hyperfineHamiltonianHz, type HyperfineParams } from '../../src/physics/hyperfine.ts';
 import { tableDistribution } from '../../src/physics/velocity.ts';
 import { cmatMul, cmatDagger, cmatZeros, type CMat } from '../../src/physics/cmat.ts';
@@ -65,5 +65,19 @@ describe('a state propagated through a field keeps its basis as factors (rotatio
     const kept = specAverageTrace(specKraus(fact(), k), new CharCache(dist)).value;
     expect(kept).toBeGreaterThan(0);
     expect(kept).toBeLessThan(1);
+  });
+});
+
+describe('specIsStatic: a state whose ρ(v) does not depend on the speed', () => {
+  it('holds for a state without phases and fails once a field has put Bohr frequencies into it', () => {
+    const rho = diag(16, (i) => (i < 8 ? 1 / 8 : 0));
+    const st = specInitial(rho);
+    expect(specIsStatic(st)).toBe(true);
+    expect(maxDiff(specAt(st, 100), specAt(st, 900))).toBe(0);
+    const z = zeemanEigen(cs, 1e-5, { x: 1, y: 0, z: 0 });
+    const moved = specPropagate(st, () => z.vectors, Float64Array.from(z.values, (x) => 2 * Math.PI * x), 0.05, z.factors);
+    expect(specIsStatic(moved)).toBe(false);
+    // and ρ(v) does change with v there
+    expect(maxDiff(specAt(moved, 100), specAt(moved, 900))).toBeGreaterThan(1e-6);
   });
 });
