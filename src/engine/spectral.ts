@@ -658,13 +658,24 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
   const kernel = tableKernel();
   kernel?.table(speeds, weights);
   const wasm = kernel !== null && kernel.phases(mu);
-  // S is read only where todo is set, after the kernel or the JavaScript path wrote it there
-  const S = pairScratch(2 * r * r);
-  const todo = todoScratch(r * r);
-  let js: JsTable | null = null;
   // with φ = 0 the diagonal S_aa = Σ_k w_k |e^{−iμ_a s_k}|² is the weights' sum for every a: no pair sum
   const wsum = weightSum(weights);
-  for (const term of st.terms) {
+  // in the kernel, A = Σ_t X_t ∘ S_t stays in the module from the pairs to the sum (no copies of S);
+  // a term it declines (a phase of 3e9 rad or more) takes the JavaScript path below
+  let pending: readonly SpecTerm[] = st.terms;
+  if (wasm) {
+    kernel.beginAverage();
+    const rest: SpecTerm[] = [];
+    for (const term of st.terms) if (!kernel.accumulate(term.phi, term.X, wsum)) rest.push(term);
+    kernel.endAverage(A);
+    pending = rest;
+  }
+  if (pending.length === 0) return wasm;
+  // S is read only where todo is set, after the JavaScript path wrote it there
+  const S = pairScratch(2 * r * r);
+  const todo = todoScratch(r * r);
+  const js = jsTable(mu, speeds, weights, r);
+  for (const term of pending) {
     const cut = 1e-18 * significance(term);
     const xr = term.X.re, xi = term.X.im;
     const hermitian = term.phi === 0;
@@ -694,10 +705,7 @@ function separableAverage(st: SpecState, speeds: Float64Array, weights: Float64A
       A.im[i] += xi[i] * wsum;
     }
     if (!any) continue;
-    if (!(wasm && kernel.pairs(term.phi, todo, S))) {
-      js ??= jsTable(mu, speeds, weights, r);
-      jsPairs(js, term.phi, todo, S);
-    }
+    jsPairs(js, term.phi, todo, S);
     for (let a = 0; a < r; a++) {
       for (let b = hermitian ? a + 1 : 0; b < r; b++) {
         const i = a * r + b;

@@ -29,6 +29,8 @@ interface Exports {
   weights(phi: number, s: number, n: number, e: number): void;
   scale(e: number, z: number, y: number, n: number, r: number): void;
   pairs(y: number, z: number, n: number, r: number, todo: number, S: number): void;
+  need(xr: number, xi: number, r: number, rp: number, herm: number, todo: number): number;
+  contract(xr: number, xi: number, s: number, todo: number, r: number, rp: number, herm: number, wsum: number, ar: number, ai: number): void;
   gram(zr: number, zi: number, sg: number, m: number, d: number, dp: number, or: number, oi: number): void;
   chol(ar: number, ai: number, n: number, delta: number, lr: number, li: number): number;
   bhb(br: number, bi: number, rs: number, cols: number, d: number, r: number, ar: number, ai: number, hr: number, hi: number, tr: number, ti: number, nr: number, ni: number): void;
@@ -55,6 +57,16 @@ export interface TableKernel {
    * too. False (nothing computed) when |φ|·s_k reaches 3e9 rad.
    */
   pairs(phi: number, todo: Uint8Array, S: Float64Array): boolean;
+  /**
+   * The beam average A = Σ_t X_t ∘ S(φ_t) of a state's terms, kept in the module: `beginAverage` sets
+   * A = 0 (r×r, r the levels of the last `phases`); `accumulate` adds one term (X r×r; with φ = 0 the
+   * term is Hermitian: S_ba = conj S_ab and S_aa = wsum, the weights' sum), finding its pairs as the
+   * JavaScript path does (1e-18 of its largest entry), and is false (nothing added) when |φ|·s_k reaches
+   * 3e9 rad; `endAverage` adds A into out.
+   */
+  beginAverage(): void;
+  accumulate(phi: number, x: { re: Float64Array; im: Float64Array }, wsum: number): boolean;
+  endAverage(out: { re: Float64Array; im: Float64Array }): void;
 }
 
 /** Small dense Hermitian products and tests in WebAssembly (the per-point matrix work of a scan). */
@@ -131,7 +143,7 @@ function kernelOn(ex: Exports): TableKernel {
   // carries √w_k, so that Σ_k z_a conj z_b carries w_k and a term with φ = 0 needs no weighting pass
   let r = 0, n = 0, rp = 0, np = 0, sMax = 0;
   let speedsNow: Float64Array | null = null, weightsNow: Float64Array | null = null;
-  let oS = 0, oW = 0, oMu = 0, oZ = 0, oE = 0, oY = 0, oTodo = 0, oOut = 0;
+  let oS = 0, oW = 0, oMu = 0, oZ = 0, oE = 0, oY = 0, oTodo = 0, oOut = 0, oXr = 0, oXi = 0, oAr = 0, oAi = 0;
   let f = new Float64Array(ex.memory.buffer);
   let ints = new Int32Array(ex.memory.buffer);
   /** Copies the first n entries of src to byte offset o (src itself when it has exactly n). */
@@ -153,7 +165,12 @@ function kernelOn(ex: Exports): TableKernel {
     oY = oE + 16 * np;
     oTodo = oY + 16 * rp * np;
     oOut = oTodo + 8 * Math.ceil((rp * rp) / 8);
-    ensure(oOut + 16 * rp * rp);
+    // a term's X and the average A (rp×rp each, real and imaginary parts apart)
+    oXr = oOut + 16 * rp * rp;
+    oXi = oXr + 8 * rp * rp;
+    oAr = oXi + 8 * rp * rp;
+    oAi = oAr + 8 * rp * rp;
+    ensure(oAi + 8 * rp * rp);
   };
   // rowDots keeps its rows with the arrays they came from; any new table layout may overwrite them
   let rowsOf: Float64Array | null = null, rowsAt = -1, rowsGen = -1, gen = 0;
@@ -214,9 +231,44 @@ function kernelOn(ex: Exports): TableKernel {
       }
       return true;
     },
+    beginAverage() {
+      f.fill(0, oAr / 8, oAi / 8 + rp * rp);
+    },
+    accumulate(phi, x, wsum) {
+      if (!(Math.abs(phi) * sMax < FAST_LIMIT)) return false;
+      const herm = phi === 0 ? 1 : 0;
+      // X into the module with row stride rp (the padding row and column stay 0)
+      if (rp === r) {
+        f.set(x.re.length === r * r ? x.re : x.re.subarray(0, r * r), oXr / 8);
+        f.set(x.im.length === r * r ? x.im : x.im.subarray(0, r * r), oXi / 8);
+      } else {
+        f.fill(0, oXr / 8, oXi / 8 + rp * rp);
+        for (let a = 0; a < r; a++) {
+          f.set(x.re.subarray(a * r, a * r + r), oXr / 8 + a * rp);
+          f.set(x.im.subarray(a * r, a * r + r), oXi / 8 + a * rp);
+        }
+      }
+      if (ex.need(oXr, oXi, r, rp, herm, oTodo)) {
+        if (herm) ex.pairs(oZ, oZ, np, rp, oTodo, oOut);
+        else {
+          ex.weights(phi, oS, np, oE);
+          ex.scale(oE, oZ, oY, np, rp);
+          ex.pairs(oY, oZ, np, rp, oTodo, oOut);
+        }
+        ex.contract(oXr, oXi, oOut, oTodo, r, rp, herm, wsum, oAr, oAi);
+      } else if (herm) ex.contract(oXr, oXi, oOut, oTodo, r, rp, herm, wsum, oAr, oAi);
+      return true;
+    },
+    endAverage(out) {
+      const br = oAr / 8, bi = oAi / 8;
+      for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+        out.re[a * r + b] += f[br + a * rp + b];
+        out.im[a * r + b] += f[bi + a * rp + b];
+      }
+    },
   };
   // the dense kernels work beyond the table's area (its inverse speeds and weights stay in place)
-  const helperBase = (): number => oOut + 16 * rp * rp;
+  const helperBase = (): number => oAi + 8 * rp * rp;
   const dense: DenseKernels = {
     gram(zr, zi, sg, m, d, out) {
       rowsOf = null;

@@ -307,6 +307,104 @@
       (local.set $a (i32.add (local.get $a) (i32.const 2)))
       (br $loop_a))))
 
+;; The pairs a term needs, from its X (r×r at $xr, $xi, row stride $rp, padding untouched): with
+  ;; cut = 1e-18·max_ab (|Re X_ab| + |Im X_ab|), todo[a·rp + b] = 1 where |X_ab| (that 1-norm) exceeds
+  ;; cut, and for a Hermitian term ($herm) only b > a, where X_ab or X_ba does; every other byte of the
+  ;; rp×rp todo is 0. Returns 1 when any pair is needed. The arithmetic of separableAverage in
+  ;; src/engine/spectral.ts (its JavaScript path).
+  (func (export "need") (param $xr i32) (param $xi i32) (param $r i32) (param $rp i32) (param $herm i32) (param $todo i32) (result i32)
+    (local $a i32) (local $b i32) (local $i i32) (local $j i32) (local $any i32) (local $m f64) (local $cut f64) (local $on i32)
+    (local.set $m (f64.const 0))
+    (local.set $a (i32.const 0))
+    (block $done_a (loop $loop_a
+      (br_if $done_a (i32.ge_u (local.get $a) (local.get $r)))
+      (local.set $b (i32.const 0))
+      (block $done_b (loop $loop_b
+        (br_if $done_b (i32.ge_u (local.get $b) (local.get $r)))
+        (local.set $i (i32.shl (i32.add (i32.mul (local.get $a) (local.get $rp)) (local.get $b)) (i32.const 3)))
+        (local.set $m (f64.max (local.get $m)
+          (f64.add (f64.abs (f64.load (i32.add (local.get $xr) (local.get $i)))) (f64.abs (f64.load (i32.add (local.get $xi) (local.get $i)))))))
+        (local.set $b (i32.add (local.get $b) (i32.const 1)))
+        (br $loop_b)))
+      (local.set $a (i32.add (local.get $a) (i32.const 1)))
+      (br $loop_a)))
+    (local.set $cut (f64.mul (f64.const 1e-18) (local.get $m)))
+    (memory.fill (local.get $todo) (i32.const 0) (i32.mul (local.get $rp) (local.get $rp)))
+    (local.set $a (i32.const 0))
+    (block $done_a2 (loop $loop_a2
+      (br_if $done_a2 (i32.ge_u (local.get $a) (local.get $r)))
+      (local.set $b (select (i32.add (local.get $a) (i32.const 1)) (i32.const 0) (local.get $herm)))
+      (block $done_b2 (loop $loop_b2
+        (br_if $done_b2 (i32.ge_u (local.get $b) (local.get $r)))
+        (local.set $i (i32.shl (i32.add (i32.mul (local.get $a) (local.get $rp)) (local.get $b)) (i32.const 3)))
+        (local.set $on (f64.gt
+          (f64.add (f64.abs (f64.load (i32.add (local.get $xr) (local.get $i)))) (f64.abs (f64.load (i32.add (local.get $xi) (local.get $i)))))
+          (local.get $cut)))
+        (if (local.get $herm)
+          (then
+            (local.set $j (i32.shl (i32.add (i32.mul (local.get $b) (local.get $rp)) (local.get $a)) (i32.const 3)))
+            (local.set $on (i32.or (local.get $on) (f64.gt
+              (f64.add (f64.abs (f64.load (i32.add (local.get $xr) (local.get $j)))) (f64.abs (f64.load (i32.add (local.get $xi) (local.get $j)))))
+              (local.get $cut))))))
+        (i32.store8 (i32.add (local.get $todo) (i32.add (i32.mul (local.get $a) (local.get $rp)) (local.get $b))) (local.get $on))
+        (local.set $any (i32.or (local.get $any) (local.get $on)))
+        (local.set $b (i32.add (local.get $b) (i32.const 1)))
+        (br $loop_b2)))
+      (local.set $a (i32.add (local.get $a) (i32.const 1)))
+      (br $loop_a2)))
+    (local.get $any))
+
+  ;; A += X ∘ S over the pairs in todo (S as the pair sums write it: S_ab at $s + 16(a·rp + b), real then
+  ;; imaginary), all r×r with row stride rp; for a Hermitian term ($herm) S_ba = conj S_ab fills the
+  ;; mirror entry, and the diagonal is X_aa times the weights' sum $wsum. The arithmetic and its order
+  ;; are those of separableAverage's JavaScript contraction.
+  (func (export "contract") (param $xr i32) (param $xi i32) (param $s i32) (param $todo i32) (param $r i32) (param $rp i32)
+        (param $herm i32) (param $wsum f64) (param $ar i32) (param $ai i32)
+    (local $a i32) (local $b i32) (local $i i32) (local $j i32) (local $sr f64) (local $si f64)
+    (if (local.get $herm)
+      (then
+        (local.set $a (i32.const 0))
+        (block $done_d (loop $loop_d
+          (br_if $done_d (i32.ge_u (local.get $a) (local.get $r)))
+          (local.set $i (i32.shl (i32.mul (local.get $a) (i32.add (local.get $rp) (i32.const 1))) (i32.const 3)))
+          (f64.store (i32.add (local.get $ar) (local.get $i))
+            (f64.add (f64.load (i32.add (local.get $ar) (local.get $i))) (f64.mul (f64.load (i32.add (local.get $xr) (local.get $i))) (local.get $wsum))))
+          (f64.store (i32.add (local.get $ai) (local.get $i))
+            (f64.add (f64.load (i32.add (local.get $ai) (local.get $i))) (f64.mul (f64.load (i32.add (local.get $xi) (local.get $i))) (local.get $wsum))))
+          (local.set $a (i32.add (local.get $a) (i32.const 1)))
+          (br $loop_d)))))
+    (local.set $a (i32.const 0))
+    (block $done_a (loop $loop_a
+      (br_if $done_a (i32.ge_u (local.get $a) (local.get $r)))
+      (local.set $b (select (i32.add (local.get $a) (i32.const 1)) (i32.const 0) (local.get $herm)))
+      (block $done_b (loop $loop_b
+        (br_if $done_b (i32.ge_u (local.get $b) (local.get $r)))
+        (if (i32.load8_u (i32.add (local.get $todo) (i32.add (i32.mul (local.get $a) (local.get $rp)) (local.get $b))))
+          (then
+            (local.set $i (i32.add (i32.mul (local.get $a) (local.get $rp)) (local.get $b)))
+            (local.set $sr (f64.load (i32.add (local.get $s) (i32.shl (local.get $i) (i32.const 4)))))
+            (local.set $si (f64.load offset=8 (i32.add (local.get $s) (i32.shl (local.get $i) (i32.const 4)))))
+            (local.set $i (i32.shl (local.get $i) (i32.const 3)))
+            (f64.store (i32.add (local.get $ar) (local.get $i))
+              (f64.add (f64.load (i32.add (local.get $ar) (local.get $i)))
+                (f64.sub (f64.mul (f64.load (i32.add (local.get $xr) (local.get $i))) (local.get $sr)) (f64.mul (f64.load (i32.add (local.get $xi) (local.get $i))) (local.get $si)))))
+            (f64.store (i32.add (local.get $ai) (local.get $i))
+              (f64.add (f64.load (i32.add (local.get $ai) (local.get $i)))
+                (f64.add (f64.mul (f64.load (i32.add (local.get $xr) (local.get $i))) (local.get $si)) (f64.mul (f64.load (i32.add (local.get $xi) (local.get $i))) (local.get $sr)))))
+            (if (local.get $herm)
+              (then
+                (local.set $j (i32.shl (i32.add (i32.mul (local.get $b) (local.get $rp)) (local.get $a)) (i32.const 3)))
+                (f64.store (i32.add (local.get $ar) (local.get $j))
+                  (f64.add (f64.load (i32.add (local.get $ar) (local.get $j)))
+                    (f64.add (f64.mul (f64.load (i32.add (local.get $xr) (local.get $j))) (local.get $sr)) (f64.mul (f64.load (i32.add (local.get $xi) (local.get $j))) (local.get $si)))))
+                (f64.store (i32.add (local.get $ai) (local.get $j))
+                  (f64.add (f64.load (i32.add (local.get $ai) (local.get $j)))
+                    (f64.sub (f64.mul (f64.load (i32.add (local.get $xi) (local.get $j))) (local.get $sr)) (f64.mul (f64.load (i32.add (local.get $xr) (local.get $j))) (local.get $si)))))))))
+        (local.set $b (i32.add (local.get $b) (i32.const 1)))
+        (br $loop_b)))
+      (local.set $a (i32.add (local.get $a) (i32.const 1)))
+      (br $loop_a))))
+
   ;; out = Σ_k sg[k] z_k z_k† (Hermitian, d×d, real parts at $or and imaginary parts at $oi, row-major
   ;; with stride $dp), z_k = row k of (zr, zi) (m rows of stride $dp; $dp even, padding zero). Row i is
   ;; accumulated in place, two columns j at a time from j = i rounded down to even: out_ij +=
