@@ -778,12 +778,7 @@ function applyTwist(st: NodeState, op: TwistOp): NodeState {
     const cr = new Float64Array(n), ci = new Float64Array(n), pr = new Float64Array(n), pi = new Float64Array(n);
     const ur = new Float64Array(n), ui = new Float64Array(n);
     return mapNodes(st, (rho, k) => {
-      const tc = (op.length / st.speeds[k]) * tr.c;
-      const alpha = Math.sqrt(tc * tc + op.angle * op.angle), beta = Math.atan2(op.angle, tc);
-      for (let l = 0; l < d; l++) {
-        expNegI(alpha * tr.m1[l], er, ei, l);
-        expNegI(beta * tr.mq[l], qr, qi, l);
-      }
+      twistPhases(op, tr, st.speeds[k], er, ei, qr, qi);
       // C_ij = e^{−iβ m_q,i} (Σ_l A_il E_l conj(A_jl)) e^{iβ m_q,j}
       for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
         let sr = 0, si = 0;
@@ -817,47 +812,45 @@ function applyTwist(st: NodeState, op: TwistOp): NodeState {
  */
 function applyTwistStatic(speeds: Float64Array, weights: Float64Array, w: CMat, x: CMat, op: TwistOp, tr: TwistRotation): NodeState {
   const d = w.rows, r = w.cols, n = d * r;
-  const y0 = cmatMul(tr.vqd, w);
-  const ar = tr.a.re, ai = tr.a.im, br = tr.b.re, bi = tr.b.im;
+  const y0 = cmatMul(tr.vqd, w), ad = cmatDagger(tr.a);
   const er = new Float64Array(d), ei = new Float64Array(d), qr = new Float64Array(d), qi = new Float64Array(d);
   const ur = new Float64Array(n), ui = new Float64Array(n), vr = new Float64Array(n), vi = new Float64Array(n);
   const rhos = new Array<CMat>(speeds.length);
   for (let k = 0; k < speeds.length; k++) {
-    const tc = (op.length / speeds[k]) * tr.c;
-    const alpha = Math.sqrt(tc * tc + op.angle * op.angle), beta = Math.atan2(op.angle, tc);
-    for (let l = 0; l < d; l++) {
-      expNegI(alpha * tr.m1[l], er, ei, l);
-      expNegI(beta * tr.mq[l], qr, qi, l);
-    }
-    // u = A† (conj(q) ∘ y0), then v = A (e ∘ u)
-    for (let l = 0; l < d; l++) for (let c = 0; c < r; c++) {
-      let sr = 0, si = 0;
-      for (let j = 0; j < d; j++) {
-        // conj(A_jl) conj(q_j) y0_jc
-        const hr = ar[j * d + l] * qr[j] - ai[j * d + l] * qi[j], hi = -(ar[j * d + l] * qi[j] + ai[j * d + l] * qr[j]);
-        const yr = y0.re[j * r + c], yi = y0.im[j * r + c];
-        sr += hr * yr - hi * yi;
-        si += hr * yi + hi * yr;
-      }
-      ur[l * r + c] = sr * er[l] - si * ei[l];
-      ui[l * r + c] = sr * ei[l] + si * er[l];
-    }
-    for (let i = 0; i < d; i++) for (let c = 0; c < r; c++) {
-      let sr = 0, si = 0;
-      for (let l = 0; l < d; l++) {
-        const xr = ar[i * d + l], xi = ai[i * d + l], yr = ur[l * r + c], yi = ui[l * r + c];
-        sr += xr * yr - xi * yi;
-        si += xr * yi + xi * yr;
-      }
-      // times q_i
-      vr[i * r + c] = sr * qr[i] - si * qi[i];
-      vi[i * r + c] = sr * qi[i] + si * qr[i];
-    }
-    // Y = B v (into u), ρ' = Y X Y†
-    cmatMulInto(br, bi, vr, vi, d, d, r, ur, ui);
+    twistPhases(op, tr, speeds[k], er, ei, qr, qi);
+    // Y = B Q A E A† Q† y0 from the right: rows scaled by the diagonal phases, products into work arrays
+    scaleRows(y0.re, y0.im, qr, qi, true, d, r, vr, vi);
+    cmatMulInto(ad.re, ad.im, vr, vi, d, d, r, ur, ui);
+    scaleRows(ur, ui, er, ei, false, d, r, ur, ui);
+    cmatMulInto(tr.a.re, tr.a.im, ur, ui, d, d, r, vr, vi);
+    scaleRows(vr, vi, qr, qi, false, d, r, vr, vi);
+    cmatMulInto(tr.b.re, tr.b.im, vr, vi, d, d, r, ur, ui);
+    // ρ' = Y X Y†
     rhos[k] = cmatSandwichParts(ur, ui, d, r, x);
   }
   return { nodes: true, speeds, weights, rhos };
+}
+
+/** e_l = e^{−iα m₁,l} and q_l = e^{−iβ m_q,l} of the twist's closed form at one speed (t = ℓ/v). */
+function twistPhases(op: TwistOp, tr: TwistRotation, speed: number, er: Float64Array, ei: Float64Array, qr: Float64Array, qi: Float64Array): void {
+  const tc = (op.length / speed) * tr.c;
+  const alpha = Math.sqrt(tc * tc + op.angle * op.angle), beta = Math.atan2(op.angle, tc);
+  for (let l = 0; l < er.length; l++) {
+    expNegI(alpha * tr.m1[l], er, ei, l);
+    expNegI(beta * tr.mq[l], qr, qi, l);
+  }
+}
+
+/** out = diag(p) · m (or diag(conj p) · m) for m d×r by parts; out may be m itself. */
+function scaleRows(mr: ArrayLike<number>, mi: ArrayLike<number>, pr: Float64Array, pi: Float64Array, conjugate: boolean, d: number, r: number, or: Float64Array, oi: Float64Array): void {
+  for (let i = 0; i < d; i++) {
+    const cr = pr[i], ci = conjugate ? -pi[i] : pi[i];
+    for (let c = 0; c < r; c++) {
+      const xr = mr[i * r + c], xi = mi[i * r + c];
+      or[i * r + c] = cr * xr - ci * xi;
+      oi[i * r + c] = cr * xi + ci * xr;
+    }
+  }
 }
 
 /**
