@@ -1,7 +1,8 @@
 /**
  * `npm run bench`            samples and the synthetic trees: evaluations per second, time per leaf
- * `npm run bench -- w1 [--json OUT] [--no-peers]`
- *                            workload W1 of ../shared/peers (Cs-133, 1000-point field sweep × 256 speeds)
+ * `npm run bench -- w1 [--json OUT] [--no-peers] [--rounds N]`
+ *                            workload W1 of ../shared/peers (Cs-133, 1000-point field sweep × 256 speeds);
+ *                            N rounds (default 3) of Spinyard's best of 3 scans, each followed by the NumPy peer
  * `npm run bench -- ui`      the browser: time from an edit to the updated table and chart, per sample
  * Figures go into docs/bench.md by hand, with the machine they were taken on.
  */
@@ -106,7 +107,7 @@ interface W1Run {
   maxdiff: number;
 }
 
-function w1(jsonOut: string | null, peers: boolean): string {
+function w1(jsonOut: string | null, peers: boolean, nRounds: number): string {
   const out: string[] = [];
   const text = readFileSync(join(peersDir, 'w1.spinyard'), 'utf8');
   const expected = JSON.parse(readFileSync(join(peersDir, 'w1-expected.json'), 'utf8')) as { b_T: number[]; result: [number, number][] };
@@ -124,12 +125,14 @@ function w1(jsonOut: string | null, peers: boolean): string {
     result.forEach((row, i) => { maxdiff = Math.max(maxdiff, Math.abs(row[0] - expected.result[i][0]), Math.abs(row[1] - expected.result[i][1])); });
     return { seconds, result, maxdiff };
   };
-  const best = (line: Beamline): W1Run => {
+  const warm = (line: Beamline): void => {
     // untimed warm-up: V8 compiles the hot functions (JavaScript and WebAssembly tiers) over the first
     // scans of a process (measured here: 0.5–0.6 s, then 0.35 s, then the steady 0.12–0.25 s), so the
     // warm-up is three scans; the peers' warm-up is one run (../shared/peers/README.md), which is their
     // steady state
     for (let i = 0; i < 3; i++) scan(line);
+  };
+  const bestOf3 = (line: Beamline): W1Run => {
     let b: W1Run | null = null;
     for (let i = 0; i < 3; i++) {
       const r = scan(line);
@@ -137,8 +140,32 @@ function w1(jsonOut: string | null, peers: boolean): string {
     }
     return b!;
   };
-  const table256 = best(p.line);
-  out.push(`W1 on the 256 tabulated speeds: best of 3 (after 3 warm-up scans) = ${table256.seconds.toFixed(3)} s for 1000 points (${table256.seconds.toFixed(3)} ms per point), max |Δ| vs w1-expected.json = ${table256.maxdiff.toExponential(2)} (check 1e-6: ${table256.maxdiff <= 1e-6 ? 'pass' : 'FAIL'})`);
+  const best = (line: Beamline): W1Run => {
+    warm(line);
+    return bestOf3(line);
+  };
+  const peer = (script: string, args: readonly string[]): { line: string; points: number; seconds: number } | string => {
+    const r = spawnSync('/usr/bin/python3', [join(peersDir, script), ...args], { encoding: 'utf8', env: { ...process.env, OPENBLAS_NUM_THREADS: '1' }, timeout: 600_000 });
+    const last = (r.stdout ?? '').trim().split('\n').pop() ?? '';
+    const m = /points=(\d+) seconds=([0-9.eE+-]+)/.exec(last);
+    if (!m) return `peer ${script}: no result (${(r.stderr ?? '').trim().split('\n').pop() ?? r.status})`;
+    return { line: last, points: Number(m[1]), seconds: Number(m[2]) };
+  };
+  // The comparison with the NumPy peer runs in rounds: Spinyard's best of 3 scans, then the peer (its own
+  // best of 3), and again. This machine's speed drifts by 20–50 % from one minute to the next, so two
+  // figures taken a minute apart compare the moments as much as the programs; within a round both are
+  // timed within a few seconds. Each round's ratio is printed, and the headline compares the best of
+  // each over all rounds (the usual estimator of a program's time on a noisy machine).
+  warm(p.line);
+  const rounds: { ours: W1Run; peer: { line: string; points: number; seconds: number } | string | null }[] = [];
+  for (let i = 0; i < (peers ? nRounds : 1); i++) {
+    const ours = bestOf3(p.line);
+    rounds.push({ ours, peer: peers ? peer('peer_numpy.py', []) : null });
+  }
+  const table256 = rounds.reduce((b, r) => (r.ours.seconds < b.seconds ? r.ours : b), rounds[0].ours);
+  out.push(`W1 on the 256 tabulated speeds: best of 3 (after 3 warm-up scans) = ${table256.seconds.toFixed(3)} s for 1000 points (${table256.seconds.toFixed(3)} ms per point), max |Δ| vs w1-expected.json = ${table256.maxdiff.toExponential(2)} (check 1e-6: ${table256.maxdiff <= 1e-6 ? 'pass' : 'FAIL'})${rounds.length > 1 ? `; best of the ${rounds.length} rounds below` : ''}`);
+  const worst = rounds.reduce((w, r) => Math.max(w, r.ours.maxdiff), 0);
+  if (worst > table256.maxdiff) out.push(`  the largest max |Δ| of any round: ${worst.toExponential(2)} (check 1e-6: ${worst <= 1e-6 ? 'pass' : 'FAIL'})`);
   setKernelsEnabled(false);
   const jsOnly = best(p.line);
   setKernelsEnabled(true);
@@ -151,18 +178,20 @@ function w1(jsonOut: string | null, peers: boolean): string {
   const one = runLine(withParameter(effLine, 'F1', 'field', values[999]));
   out.push(`  quadrature at 20 µT: ${one.quadrature?.nodes} nodes, estimated error ${one.quadrature?.error.toExponential(1)} (${one.quadrature?.method})`);
   if (peers) {
-    for (const [script, args] of [['peer_numpy.py', []], ['peer_qutip.py', ['--points', '50']]] as const) {
-      const r = spawnSync('/usr/bin/python3', [join(peersDir, script), ...args], { encoding: 'utf8', env: { ...process.env, OPENBLAS_NUM_THREADS: '1' }, timeout: 600_000 });
-      const last = (r.stdout ?? '').trim().split('\n').pop() ?? '';
-      const m = /points=(\d+) seconds=([0-9.eE+-]+)/.exec(last);
-      if (!m) {
-        out.push(`peer ${script}: no result (${(r.stderr ?? '').trim().split('\n').pop() ?? r.status})`);
-        continue;
-      }
-      const pts = Number(m[1]), sec = Number(m[2]);
-      const perPoint = sec / pts, ours = table256.seconds / 1000;
-      out.push(`peer ${last}`);
-      out.push(`  ratio per point: peer / spinyard = ${(perPoint / ours).toFixed(1)}×`);
+    const done = rounds.filter((r) => typeof r.peer === 'object' && r.peer !== null) as { ours: W1Run; peer: { line: string; points: number; seconds: number } }[];
+    for (const r of rounds) if (typeof r.peer === 'string') out.push(r.peer);
+    if (done.length > 0) {
+      const ratio = (peerS: number, points: number, oursS: number): string => `${((peerS / points) / (oursS / 1000)).toFixed(1)}×`;
+      done.forEach((r, i) => out.push(`round ${i + 1}: spinyard ${r.ours.seconds.toFixed(3)} s, peer ${r.peer.line}; peer / spinyard = ${ratio(r.peer.seconds, r.peer.points, r.ours.seconds)}`));
+      const bestPeer = done.reduce((b, r) => (r.peer.seconds < b.peer.seconds ? r : b), done[0]).peer;
+      out.push(`peer ${bestPeer.line} (best of ${done.length} rounds)`);
+      out.push(`  ratio per point: peer / spinyard = ${ratio(bestPeer.seconds, bestPeer.points, table256.seconds)} (best against best; rounds ${done.map((r) => ratio(r.peer.seconds, r.peer.points, r.ours.seconds)).join(', ')})`);
+    }
+    const q = peer('peer_qutip.py', ['--points', '50']);
+    if (typeof q === 'string') out.push(q);
+    else {
+      out.push(`peer ${q.line}`);
+      out.push(`  ratio per point: peer / spinyard = ${((q.seconds / q.points) / (table256.seconds / 1000)).toFixed(1)}×`);
     }
   }
   if (jsonOut) {
@@ -181,7 +210,10 @@ async function main(): Promise<void> {
   console.log(`machine: ${cpus()[0]?.model ?? 'unknown'} × ${cpus().length}, node ${process.version}`);
   if (args[0] === 'w1') {
     const j = args.indexOf('--json');
-    console.log(w1(j >= 0 ? args[j + 1] : null, !args.includes('--no-peers')));
+    const r = args.indexOf('--rounds');
+    const nRounds = r >= 0 ? Number(args[r + 1]) : 3;
+    if (!Number.isInteger(nRounds) || nRounds < 1) throw new Error(`--rounds: a whole number of rounds of at least 1, not ${args[r + 1]}`);
+    console.log(w1(j >= 0 ? args[j + 1] : null, !args.includes('--no-peers'), nRounds));
     return;
   }
   if (args[0] === 'ui') {
