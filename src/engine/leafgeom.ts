@@ -459,12 +459,16 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
       a.fines.push(g);
     }
   }
-  const leaves: (LeafResult & { _acc: LeafAcc })[] = [];
+  // the result's leaves, and beside them (same index) their accumulators: the leaves are handed out as they
+  // are, with no field to strip (an object rest copy per leaf cost more than the rest of this function)
+  const leaves: LeafResult[] = [];
+  const accOf: LeafAcc[] = [];
   for (const a of accs.values()) {
+    accOf.push(a);
     const eff = a.detector ? a.detector.efficiency : 1;
     // an empty path (its flux at the rounding floor, ≤ 1e-15 of the oven's) has no place on the plane
     if (!geometry || a.target === 'stop' || a.fines.every((g) => g.nodes === NO_NODES)) {
-      leaves.push({ path: a.path, target: a.target, yield: a.yieldSpin, rate: flux * a.yieldSpin * eff, _acc: a });
+      leaves.push({ path: a.path, target: a.target, yield: a.yieldSpin, rate: flux * a.yieldSpin * eff });
       continue;
     }
     const y = a.fines.reduce((s, g) => s + g.yieldGeo, 0);
@@ -479,22 +483,21 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
       spread: { x: Math.sqrt(Math.max(0, second.x - mean.x ** 2)), z: Math.sqrt(Math.max(0, second.z - mean.z ** 2)) },
       ...(captured !== undefined ? { captured } : {}),
       plane: a.plane,
-      _acc: a,
     });
   }
   const verdicts = new Map<string, NeighbourVerdict[]>();
-  if (geometry) addProfiles(leaves, verdicts);
+  if (geometry) addProfiles(leaves, accOf, verdicts);
   // detectors
   const detectors: DetectorResult[] = [];
   const seen = new Map<string, DetectorResult>();
-  for (const l of leaves) {
-    const det = l._acc.detector;
+  for (let i = 0; i < leaves.length; i++) {
+    const l = leaves[i], det = accOf[i].detector;
     if (!det) continue;
     let d = seen.get(det.id);
     if (!d) {
       d = {
         id: det.id, yield: 0, rate: 0, counts: 0, sigma: 0, signal: 0, background: det.background, dwell: det.dwell,
-        signalToBackground: 0, timeToPrecision: { epsilon, seconds: 0 }, plane: l._acc.plane,
+        signalToBackground: 0, timeToPrecision: { epsilon, seconds: 0 }, plane: accOf[i].plane,
       };
       seen.set(det.id, d);
       detectors.push(d);
@@ -509,8 +512,8 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
     d.signalToBackground = d.background > 0 ? d.signal / d.background : (d.signal > 0 ? Number.MAX_VALUE : 0);
     d.timeToPrecision = { epsilon, seconds: d.signal > 0 ? (d.signal + d.background) / (d.signal * d.signal * epsilon * epsilon) : Number.MAX_VALUE };
     if (geometry) {
-      const det = leaves.find((l) => l._acc.detector?.id === d.id)!._acc.detector!;
-      if (det.window) d.crosstalk = crosstalkFor(det, d.plane ?? 0, leaves, flux);
+      const det = accOf.find((a) => a.detector?.id === d.id)!.detector!;
+      if (det.window) d.crosstalk = crosstalkFor(det, d.plane ?? 0, leaves, accOf, flux);
       const v = verdicts.get(planeKey(d.plane ?? 0));
       if (v && v.length > 0) d.neighbours = v;
     }
@@ -518,22 +521,23 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
   if (geometry && fines.some((f) => f.dist.kind === 'effusive' && f.track.kicks.length > 0)) {
     warnings.push('geometry: behind a deflecting magnet the rms spread of an effusive beam is set by its slowest atoms (⟨1/v⁴⟩ diverges for a v³ flux distribution); the spreads and profiles shown leave out v < 0.05·√(2kT/M), 3e-6 of the flux, which in a real line ends on an aperture');
   }
-  return { leaves: leaves.map(({ _acc, ...rest }) => rest), detectors, clipped, nodes, chiError, warnings };
+  return { leaves, detectors, clipped, nodes, chiError, warnings };
 }
 
 function planeKey(y: number): string {
   return (Math.round(y * 1e3) / 1e3).toFixed(3);
 }
 
-function crosstalkFor(det: Detector, plane: number, leaves: (LeafResult & { _acc: LeafAcc })[], flux: number): CrosstalkEntry[] {
+function crosstalkFor(det: Detector, plane: number, leaves: readonly LeafResult[], accOf: readonly LeafAcc[], flux: number): CrosstalkEntry[] {
   const win = det.window!;
   const out: CrosstalkEntry[] = [];
   const wxlo = win.x - win.width / 2, wxhi = win.x + win.width / 2;
   const wzlo = win.z - win.height / 2, wzhi = win.z + win.height / 2;
-  for (const l of leaves) {
-    if (l.target === det.id || l._acc.detector === null || Math.abs(l._acc.plane - plane) > 1e-3 || l.yield <= 0) continue;
+  for (let i = 0; i < leaves.length; i++) {
+    const l = leaves[i], acc = accOf[i];
+    if (l.target === det.id || acc.detector === null || Math.abs(acc.plane - plane) > 1e-3 || l.yield <= 0) continue;
     let inside = 0;
-    for (const g of l._acc.fines) {
+    for (const g of acc.fines) {
       const ns = g.nodes;
       let s = 0;
       if (ns.count > 0) {
@@ -597,16 +601,17 @@ function addNodeHistogram(dens: Float64Array, bins: number, lo: number, dx: numb
 }
 
 /** Profiles on a common grid per detector plane, and the resolved/overlapping verdict of neighbours. */
-function addProfiles(leaves: (LeafResult & { _acc: LeafAcc })[], verdicts: Map<string, NeighbourVerdict[]>): void {
-  const groups = new Map<string, (LeafResult & { _acc: LeafAcc })[]>();
-  for (const l of leaves) {
+function addProfiles(leaves: readonly LeafResult[], accOf: readonly LeafAcc[], verdicts: Map<string, NeighbourVerdict[]>): void {
+  const groups = new Map<string, { ls: LeafResult[]; as: LeafAcc[] }>();
+  for (let i = 0; i < leaves.length; i++) {
+    const l = leaves[i];
     if (l.target === 'stop' || l.yield <= 0 || !l.displacement) continue;
-    const k = planeKey(l._acc.plane);
+    const k = planeKey(accOf[i].plane);
     const gr = groups.get(k);
-    if (gr) gr.push(l);
-    else groups.set(k, [l]);
+    if (gr) { gr.ls.push(l); gr.as.push(accOf[i]); }
+    else groups.set(k, { ls: [l], as: [accOf[i]] });
   }
-  for (const [k, ls] of groups) {
+  for (const [k, { ls, as }] of groups) {
     const spreadOf = (ax: 'x' | 'z') => {
       const ms = ls.map((l) => l.displacement![ax]);
       return Math.max(...ms) - Math.min(...ms) + Math.max(...ls.map((l) => l.spread![ax]));
@@ -621,15 +626,16 @@ function addProfiles(leaves: (LeafResult & { _acc: LeafAcc })[], verdicts: Map<s
     const bins = 60;
     const dx = (hi - lo) / bins;
     const positions = Array.from({ length: bins }, (_, i) => lo + (i + 0.5) * dx);
-    for (const l of ls) {
+    for (let li = 0; li < ls.length; li++) {
+      const l = ls[li], acc = as[li];
       const dens = new Float64Array(bins);
-      for (const g of l._acc.fines) {
+      for (const g of acc.fines) {
         // the profile is a histogram: each speed's transmitted polygon has a closed-form CDF
         const ns = g.nodes;
         if (ns.count === 0) continue;
         const ra = axis === 'x' ? ns.x! : ns.z!, oa = axis === 'x' ? ns.z! : ns.x!;
         const dd = axis === 'x' ? ns.dx : ns.dz;
-        const [al, be] = planeCoefficients(ra.c, l._acc.plane);
+        const [al, be] = planeCoefficients(ra.c, acc.plane);
         let lastOff = -1, lastLen = -1, m = 0;
         for (let j = 0; j < ns.count; j++) {
           const ir = ra.fixed ? 0 : j;

@@ -1038,7 +1038,9 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   if (!hermiticity.positive) warnings.add('invariant: an averaged state has an eigenvalue below −1e-12 of its trace');
   const d0 = dists[0];
   const method = d0.kind === 'effusive'
-    ? 'each Bohr frequency averaged on its own over the effusive distribution (rotated-contour Gauss–Kronrod)'
+    // the effusive χ is read off Chebyshev panels fitted to the contour integral (physics/velocity.ts), whose
+    // fitting nodes are not counted: a line without geometry can then report 0 nodes, and the text says why
+    ? 'each Bohr frequency averaged on its own over the effusive distribution (rotated-contour Gauss–Kronrod, read off Chebyshev panels fitted to it, whose fitting nodes are not counted)'
     : d0.kind === 'supersonic' ? 'each Bohr frequency averaged on its own (adaptive Gauss–Kronrod)'
       : d0.kind === 'table' ? `exact sum over the tabulated speeds${wasmUsed ? ' (WebAssembly SIMD kernel)' : ''}` : 'single speed';
   return {
@@ -1049,7 +1051,10 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     // lost is a sum of differences; a negative value within rounding (|lost| < 1e-14) is reported as 0
     lost: lostTotal < 0 && lostTotal > -1e-14 ? 0 : lostTotal,
     warnings: [...warnings],
-    quadrature: { nodes: chiNodes + sampled.nodes + geo.nodes, error: chiError + sampled.error, method: sampled.nodes > 0 ? `${method}; after a field twist, speed by speed on doubling Gauss–Legendre grids` : method },
+    quadrature: {
+      nodes: chiNodes + sampled.nodes + geo.nodes, error: chiError + sampled.error,
+      method: `${method}${sampled.nodes > 0 ? '; after a field twist, speed by speed on doubling Gauss–Legendre grids' : ''}${geo.nodes > 0 ? `; ${geo.nodes} of the nodes are the speeds of the detector-plane geometry` : ''}`,
+    },
     flux,
     velocity: opts.light ? undefined : velocityPlot(d0),
     positions,
