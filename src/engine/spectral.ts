@@ -334,6 +334,14 @@ export function specPropagate(st: SpecState, vectors: () => CMat, lambda: ArrayL
   return factors ? factoredState({ left: factors.rot, blocks: factors.blocks, support: factors.support }, mu, terms) : state(vectors(), mu, terms);
 }
 
+/** A zeroed rows×cols matrix in the product work array (one at a time: the next call reuses it). */
+function scratchMat(rows: number, cols: number): CMat {
+  const n = rows * cols;
+  const w = productScratch(2 * n);
+  w.fill(0, 0, 2 * n);
+  return { rows, cols, re: w.subarray(0, n), im: w.subarray(n, 2 * n) };
+}
+
 /**
  * B†M over the non-zero rows of each column of B, in a work array: the product is read once, by the
  * sandwiches of the propagation that asked for it, and not kept.
@@ -341,9 +349,7 @@ export function specPropagate(st: SpecState, vectors: () => CMat, lambda: ArrayL
 function blocksDaggerTimes(f: PropagatorFactors, m: CMat): CMat {
   const b = f.blocks, { start, rows } = f.support;
   const r = b.cols, dm = m.cols;
-  const w = productScratch(2 * r * dm);
-  w.fill(0, 0, 2 * r * dm);
-  const out: CMat = { rows: r, cols: dm, re: w.subarray(0, r * dm), im: w.subarray(r * dm, 2 * r * dm) };
+  const out = scratchMat(r, dm);
   for (let c = 0; c < r; c++) for (let q = start[c]; q < start[c + 1]; q++) {
     const p = rows[q];
     const xr = b.re[p * r + c], xi = -b.im[p * r + c];
@@ -395,9 +401,7 @@ function isHermitian(x: CMat): boolean {
 function blocksDaggerSandwich(f: PropagatorFactors, q: CMat): CMat {
   const b = f.blocks, { start, rows } = f.support;
   const d = b.rows, r = b.cols;
-  const w = productScratch(2 * r * d);
-  w.fill(0, 0, 2 * r * d);
-  const bd: CMat = { rows: r, cols: d, re: w.subarray(0, r * d), im: w.subarray(r * d, 2 * r * d) };
+  const bd = scratchMat(r, d);
   for (let c = 0; c < r; c++) for (let k = start[c]; k < start[c + 1]; k++) {
     const p = rows[k];
     bd.re[c * d + p] = b.re[p * r + c];
