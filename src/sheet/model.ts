@@ -2,15 +2,18 @@
  * The setup sheet of one beamline as plain data: what the bench needs on paper before the line is
  * aligned (species and its constants with sources, oven, every element at its place along the beam with
  * its set-points as the document wrote them, the expected leaves and detector counts, warnings and
- * cautions). Lengths on the sheet: element positions and lengths in cm, detector-plane positions in mm.
+ * cautions, sign-off lines), and the file it belongs to (its name and the SHA-256 of its text). Lengths on the
+ * sheet: element positions (entrance and exit, measured from the oven aperture) in cm, detector-plane
+ * positions in mm.
  * No DOM, React or node:* here: the app's renderer and the CLI both build it.
  */
 import { ATOMIC_MASS_UNIT_KG } from '../beamline/units.ts';
-import type { AxisDoc, Beamline, BeamlineDoc, ElementDoc, OvenStateDoc, QuantityDoc, VelocityDoc } from '../beamline/types.ts';
+import type { AxisDoc, Beamline, BeamlineDoc, Detector, ElementDoc, OvenStateDoc, QuantityDoc, VelocityDoc } from '../beamline/types.ts';
 import type { RunResult } from '../engine/result.ts';
 import { formatHalfInteger } from '../physics/spin.ts';
 import { LINE_CAUTIONS, lookupSpecies } from '../species/index.ts';
 import type { AtomSpecies, Cited } from '../species/types.ts';
+import { sha256Hex } from './sha256.ts';
 
 /** One number of the species with where it was read. */
 export interface SheetConstant {
@@ -49,8 +52,12 @@ export interface SheetOven {
 export interface SheetSetPoint {
   /** The document key ("gap", "axis", "field", "gradient", "aperture", "angle", …). */
   name: string;
-  /** Its value as the document wrote it. */
+  /** Its value as the document wrote it (or, for a default, as the run used it, in the document's units). */
   value: string;
+  /** The unit a plain number carries without writing it, in words ("fraction of the atoms arriving that are counted"). */
+  implied?: string;
+  /** Not written in the document: the default value the run used. */
+  default?: boolean;
 }
 
 export interface SheetElement {
@@ -58,6 +65,8 @@ export interface SheetElement {
   kind: string;
   /** Entrance along the beam from the oven aperture (cm); undefined when the run gave no positions. */
   entranceCm?: number;
+  /** Exit along the beam from the oven aperture (cm). */
+  exitCm?: number;
   /** exit − entrance (cm). */
   lengthCm?: number;
   setPoints: SheetSetPoint[];
@@ -83,6 +92,10 @@ export interface SheetDetector {
   yield: number;
   /** counts/s, background included once. */
   rate: number;
+  /** counts/s of the beam alone (rate − background). */
+  signal: number;
+  /** counts/s of the background as the detector's set-point gives it. */
+  background: number;
   counts: number;
   sigma: number;
   /** s */
@@ -93,9 +106,17 @@ export interface SheetDetector {
   epsilon: number;
 }
 
+/** The document the sheet was printed from: its file name and the SHA-256 (hex) of its UTF-8 text. */
+export interface SheetSource {
+  fileName: string;
+  sha256: string;
+}
+
 export interface SheetModel {
   title: string;
   generatedAt?: string;
+  /** The file the sheet belongs to; absent for an unsaved document. */
+  source?: SheetSource;
   species: SheetSpecies;
   oven: SheetOven;
   /** In beam order: by entrance, then document order. */
@@ -113,6 +134,8 @@ export interface SheetModel {
   cautions: string[];
   /** The closing line that defers to local rules. */
   deference: string;
+  /** One sign-off line per caution area that applies to this line ("Magnets and fields checked (…)"). */
+  signOff: string[];
 }
 
 export const DEFERENCE = 'These notes summarise common practice; local rules and licensed practice take precedence.';
@@ -223,16 +246,44 @@ function speciesOf(doc: BeamlineDoc, line: Beamline): { species: SheetSpecies; i
 // ------------------------------------------------------------------ elements
 const NOT_SET_POINTS = new Set(['id', 'kind', 'ports', 'to']);
 
-function elementOf(e: ElementDoc, pos: { entrance: number; exit: number } | undefined): SheetElement {
+/** Units that plain numbers of the format carry without writing them (dimensionless keys), said in words. */
+const IMPLIED: Readonly<Record<string, Readonly<Record<string, string>>>> = {
+  detector: { efficiency: 'fraction of the atoms arriving that are counted' },
+};
+
+const plain = (x: number) => String(Number(x.toPrecision(6)));
+
+/** A detector's keys the run fills in when the document leaves them out (src/beamline/elements/detector.ts). */
+function detectorDefaults(e: ElementDoc, d: Detector | undefined): SheetSetPoint[] {
+  if (!d) return [];
+  const has = (k: string) => (e as unknown as Record<string, unknown>)[k] !== undefined;
+  const out: SheetSetPoint[] = [];
+  if (!has('efficiency')) out.push({ name: 'efficiency', value: plain(d.efficiency), implied: IMPLIED.detector.efficiency, default: true });
+  if (!has('background')) out.push({ name: 'background', value: `${plain(d.background)} /s`, default: true });
+  if (!has('dwell')) out.push({ name: 'dwell', value: `${plain(d.dwell)} s`, default: true });
+  return out;
+}
+
+function setPointOf(kind: string, name: string, v: unknown): SheetSetPoint {
+  const sp: SheetSetPoint = { name, value: writtenValue(v) };
+  const implied = IMPLIED[kind]?.[name];
+  // a string with a unit ("95 %") says its own; a plain number gets its implied unit said
+  if (implied && (typeof v === 'number' || (typeof v === 'string' && /^\s*[-+]?[\d.]+(e[-+]?\d+)?\s*$/i.test(v)))) sp.implied = implied;
+  return sp;
+}
+
+function elementOf(e: ElementDoc, pos: { entrance: number; exit: number } | undefined, norm: Beamline['elements'][number] | undefined): SheetElement {
   const setPoints = Object.entries(e)
     .filter(([k]) => !NOT_SET_POINTS.has(k))
-    .map(([name, v]) => ({ name, value: writtenValue(v) }));
+    .map(([name, v]) => setPointOf(e.kind, name, v));
+  if (e.kind === 'detector') setPoints.push(...detectorDefaults(e, norm?.kind === 'detector' ? norm : undefined));
   const routes = e.kind === 'magnet'
     ? Object.entries(e.ports).map(([port, target]) => ({ port, target }))
     : e.kind === 'detector' ? [] : [{ port: '', target: (e as { to: string }).to }];
   const out: SheetElement = { id: e.id, kind: e.kind, setPoints, routes };
   if (pos) {
     out.entranceCm = pos.entrance * 100;
+    out.exitCm = pos.exit * 100;
     out.lengthCm = (pos.exit - pos.entrance) * 100;
   }
   return out;
@@ -240,16 +291,36 @@ function elementOf(e: ElementDoc, pos: { entrance: number; exit: number } | unde
 
 const xzMm = (v: { x: number; z: number } | undefined) => (v ? { x: v.x * 1e3, z: v.z * 1e3 } : undefined);
 
+// ------------------------------------------------------------------ sign-off
+const FIELD_KINDS = new Set(['magnet', 'recombiner', 'field', 'twist', 'rf']);
+
+/**
+ * One line per caution area that applies: magnets and fields (an element that makes a field), vacuum and
+ * oven (every line), alkali metal (a species with the library's alkali caution), high voltage (a detector,
+ * or a species whose source the library says is a high-voltage discharge).
+ */
+function signOffOf(doc: BeamlineDoc, speciesCautions: readonly string[]): string[] {
+  const out: string[] = [];
+  if (doc.elements.some((e) => FIELD_KINDS.has(e.kind))) out.push('Magnets and fields checked (posted 0.5 mT line, non-magnetic tools, pinch points)');
+  out.push('Vacuum and oven checked (viewports, shields, oven cooled before venting)');
+  if (speciesCautions.some((c) => c.startsWith('Alkali metal'))) out.push('Alkali metal handling checked (under oil or dry inert gas, Class D extinguisher at hand)');
+  if (doc.elements.some((e) => e.kind === 'detector') || speciesCautions.some((c) => /high voltage/i.test(c))) {
+    out.push('High voltage checked (interlocks, lockable disconnect, grounding hook)');
+  }
+  return out;
+}
+
 /**
  * The setup sheet of the beamline `doc` (as written) / `line` (normalized) with the run `result`.
  * `generatedAt` is printed as given (the caller's clock; the model reads none).
  */
-export function buildSheet(doc: BeamlineDoc, line: Beamline, result: RunResult, opts: { generatedAt?: string } = {}): SheetModel {
+export function buildSheet(doc: BeamlineDoc, line: Beamline, result: RunResult,
+  opts: { generatedAt?: string; source?: { fileName: string; text: string } } = {}): SheetModel {
   const { species, isotopes } = speciesOf(doc, line);
   const positions = result.positions ?? {};
   const order = new Map(doc.elements.map((e, i) => [e.id, i]));
   const elements = doc.elements
-    .map((e) => elementOf(e, positions[e.id]))
+    .map((e) => elementOf(e, positions[e.id], line.elements.find((n) => n.id === e.id)))
     .sort((a, b) => (a.entranceCm ?? 0) - (b.entranceCm ?? 0) || (order.get(a.id) ?? 0) - (order.get(b.id) ?? 0));
   const ends = Object.values(positions).map((p) => p.exit * 100);
   const flux = doc.oven.flux;
@@ -261,7 +332,8 @@ export function buildSheet(doc: BeamlineDoc, line: Beamline, result: RunResult, 
     to: doc.oven.to,
   };
   if (doc.oven.aperture) oven.aperture = writtenValue(doc.oven.aperture);
-  const all = [...(line.species.kind === 'bare' ? [BARE_SPIN_CAUTION] : isotopes.flatMap((s) => s.cautions ?? [])), ...LINE_CAUTIONS];
+  const speciesCautions = line.species.kind === 'bare' ? [BARE_SPIN_CAUTION] : isotopes.flatMap((s) => s.cautions ?? []);
+  const all = [...speciesCautions, ...LINE_CAUTIONS];
   const model: SheetModel = {
     title: line.title || doc.title || '(untitled beamline)',
     species,
@@ -276,15 +348,17 @@ export function buildSheet(doc: BeamlineDoc, line: Beamline, result: RunResult, 
       return leaf;
     }),
     detectors: result.detectors.map((d) => ({
-      id: d.id, yield: d.yield, rate: d.rate, counts: d.counts, sigma: d.sigma, dwell: d.dwell,
+      id: d.id, yield: d.yield, rate: d.rate, signal: d.signal, background: d.background, counts: d.counts, sigma: d.sigma, dwell: d.dwell,
       signalToBackground: d.signalToBackground, timeToPrecision: d.timeToPrecision.seconds, epsilon: d.timeToPrecision.epsilon,
     })),
     lost: result.lost,
     warnings: [...new Set(result.warnings)],
     cautions: [...new Set(all.filter((c) => !isNotice(c)))],
     deference: DEFERENCE,
+    signOff: signOffOf(doc, speciesCautions),
   };
   if (opts.generatedAt !== undefined) model.generatedAt = opts.generatedAt;
+  if (opts.source) model.source = { fileName: opts.source.fileName, sha256: sha256Hex(opts.source.text) };
   const qd = result.quadrature;
   if (qd) model.quadrature = qd.nodes > 0 ? `${qd.method}, ${qd.nodes} nodes, estimated error ${Number(qd.error.toPrecision(2))}` : qd.method;
   return model;

@@ -1,4 +1,5 @@
 /** The setup-sheet model: what the bench sheet holds for a line and its run. */
+import { createHash } from 'node:crypto';
 import { describe, expect, it } from 'vitest';
 import { BARE_SPIN_CAUTION, buildSheet, DEFERENCE, writtenValue } from '../../src/sheet/model.ts';
 import { LINE_CAUTIONS, lookupSpecies } from '../../src/species/index.ts';
@@ -175,5 +176,116 @@ describe('writtenValue', () => {
     expect(writtenValue({ '+1/2': '90 deg' })).toBe('+1/2: 90 deg');
     expect(writtenValue(true)).toBe('yes');
     expect(writtenValue(0.95)).toBe('0.95');
+  });
+});
+
+describe('buildSheet: the file the sheet belongs to', () => {
+  const r = runSample(H);
+
+  it('names the file and carries the SHA-256 of its UTF-8 text', () => {
+    const m = buildSheet(r.doc, r.line, r.result, { source: { fileName: 'bench-h.spinyard', text: r.text } });
+    expect(m.source?.fileName).toBe('bench-h.spinyard');
+    expect(m.source?.sha256).toBe(createHash('sha256').update(r.text, 'utf8').digest('hex'));
+    expect(m.source?.sha256).toMatch(/^[0-9a-f]{64}$/);
+  });
+
+  it('a different text gives a different hash; the same text the same one', () => {
+    const a = buildSheet(r.doc, r.line, r.result, { source: { fileName: 'x.spinyard', text: r.text } });
+    const b = buildSheet(r.doc, r.line, r.result, { source: { fileName: 'x.spinyard', text: `${r.text} ` } });
+    const c = buildSheet(r.doc, r.line, r.result, { source: { fileName: 'y.spinyard', text: r.text } });
+    expect(a.source!.sha256).not.toBe(b.source!.sha256);
+    expect(a.source!.sha256).toBe(c.source!.sha256);
+  });
+
+  it('without a source the sheet has none (an unsaved document) and keeps generatedAt', () => {
+    const m = buildSheet(r.doc, r.line, r.result, { generatedAt: '2026-12-01 09:00' });
+    expect(m.source).toBeUndefined();
+    expect(m.generatedAt).toBe('2026-12-01 09:00');
+  });
+});
+
+describe('buildSheet: positions from the oven aperture, set-points with their units', () => {
+  const r = runSample(H);
+  const m = buildSheet(r.doc, r.line, r.result);
+
+  it('gives the entrance and the exit of every element in cm from the oven aperture', () => {
+    for (const e of m.elements) {
+      const p = r.result.positions![e.id];
+      expect(e.entranceCm).toBeCloseTo(p.entrance * 100, 9);
+      expect(e.exitCm).toBeCloseTo(p.exit * 100, 9);
+    }
+    // M2: gap 10 cm after M1's exit at 40 cm, length 10 cm (samples/bench-h)
+    const m2 = m.elements.find((e) => e.id === 'M2')!;
+    expect([m2.entranceCm, m2.exitCm]).toEqual([expect.closeTo(50, 9), expect.closeTo(60, 9)]);
+  });
+
+  it('says the unit a plain number carries (a detector efficiency is a fraction); written units stay as written', () => {
+    const d1 = m.elements.find((e) => e.id === 'D1')!;
+    expect(d1.setPoints.find((p) => p.name === 'efficiency')).toEqual({ name: 'efficiency', value: '0.95', implied: 'fraction of the atoms arriving that are counted' });
+    expect(d1.setPoints.find((p) => p.name === 'dwell')).toEqual({ name: 'dwell', value: '30 s' });
+    const m1 = m.elements.find((e) => e.id === 'M1')!;
+    expect(m1.setPoints.every((p) => p.implied === undefined)).toBe(true);
+  });
+
+  it('a detector key left out is listed with the value the run used, marked as the default', () => {
+    const doc = JSON.parse(DESIGN_V1);
+    doc.elements[2] = { id: 'D1', kind: 'detector' };
+    const rr = runText(JSON.stringify(doc));
+    const d1 = buildSheet(rr.doc, rr.line, rr.result).elements.find((e) => e.id === 'D1')!;
+    const norm = rr.line.elements.find((e) => e.id === 'D1') as { efficiency: number; background: number; dwell: number };
+    expect(d1.setPoints).toEqual([
+      { name: 'efficiency', value: String(norm.efficiency), implied: 'fraction of the atoms arriving that are counted', default: true },
+      { name: 'background', value: `${norm.background} /s`, default: true },
+      { name: 'dwell', value: `${norm.dwell} s`, default: true },
+    ]);
+    // the written detector D2 has no defaults added
+    expect(buildSheet(rr.doc, rr.line, rr.result).elements.find((e) => e.id === 'D2')!.setPoints.some((p) => p.default)).toBe(false);
+  });
+});
+
+describe('buildSheet: expected results per detector', () => {
+  it('splits the rate into signal and background as the run gave them', () => {
+    const r = runSample(H);
+    const m = buildSheet(r.doc, r.line, r.result);
+    for (const d of m.detectors) {
+      const src = r.result.detectors.find((x) => x.id === d.id)!;
+      expect(d.signal).toBe(src.signal);
+      expect(d.background).toBe(src.background);
+      expect(d.background).toBe(20); // "background": "20 /s" in samples/bench-h
+      expect(d.rate).toBeCloseTo(d.signal + d.background, 6);
+    }
+  });
+});
+
+describe('buildSheet: sign-off lines per caution area', () => {
+  it('an alkali line with magnets and detectors: magnets, vacuum and oven, alkali metal, high voltage', () => {
+    const r = runSample(H);
+    const m = buildSheet(r.doc, r.line, r.result);
+    expect(m.signOff).toEqual([
+      'Magnets and fields checked (posted 0.5 mT line, non-magnetic tools, pinch points)',
+      'Vacuum and oven checked (viewports, shields, oven cooled before venting)',
+      'Alkali metal handling checked (under oil or dry inert gas, Class D extinguisher at hand)',
+      'High voltage checked (interlocks, lockable disconnect, grounding hook)',
+    ]);
+  });
+
+  it('a bare spin without detectors: no alkali line and no high-voltage line', () => {
+    const doc = JSON.parse(DESIGN_V1);
+    doc.elements = [{ id: 'M1', kind: 'magnet', axis: { roll: '0 deg' }, ports: { '+1/2': 'stop', '-1/2': 'stop' } }];
+    const r = runText(JSON.stringify(doc));
+    const m = buildSheet(r.doc, r.line, r.result);
+    expect(m.signOff.map((s) => s.split(' (')[0])).toEqual(['Magnets and fields checked', 'Vacuum and oven checked']);
+  });
+
+  it('metastable helium from a discharge: a high-voltage line even without a detector, no alkali line', () => {
+    const r = runSample('bench-e-metastable-helium-spin1');
+    const m = buildSheet(r.doc, r.line, r.result);
+    expect(m.signOff.some((s) => s.startsWith('High voltage'))).toBe(true);
+    expect(m.signOff.some((s) => s.startsWith('Alkali'))).toBe(false);
+    const doc = JSON.parse(r.text);
+    doc.elements = doc.elements.filter((e: { kind: string }) => e.kind !== 'detector');
+    for (const e of doc.elements) if (e.ports) for (const k of Object.keys(e.ports)) e.ports[k] = 'stop';
+    const rr = runText(JSON.stringify(doc));
+    expect(buildSheet(rr.doc, rr.line, rr.result).signOff.some((s) => s.startsWith('High voltage'))).toBe(true);
   });
 });
