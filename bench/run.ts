@@ -1,9 +1,11 @@
 /**
  * `npm run bench`            samples and the synthetic trees: evaluations per second, time per leaf
  * `npm run bench -- w1 [--json OUT] [--no-peers] [--rounds N]`
- *                            workload W1 of ../shared/peers (Cs-133, 1000-point field sweep × 256 speeds);
+ *                            workload W1 of ../shared/peers (Cs-133, 1000-point field sweep × 256 speeds), when
+ *                            that folder is beside the checkout (it says so and stops when it is not);
  *                            N rounds (default 3) of Spinyard's best of 3 scans, each followed by the NumPy peer
  * `npm run bench -- ui`      the browser: time from an edit to the updated table and chart, per sample
+ * `npm run bench -- startup` cold starts: `spinyard --help`, `spinyard run`, the app's load to its first result
  * Figures go into docs/bench.md by hand, with the machine they were taken on.
  */
 import { readFileSync, readdirSync, writeFileSync, existsSync } from 'node:fs';
@@ -209,11 +211,20 @@ async function main(): Promise<void> {
   const args = process.argv.slice(2);
   console.log(`machine: ${cpus()[0]?.model ?? 'unknown'} × ${cpus().length}, node ${process.version}`);
   if (args[0] === 'w1') {
+    if (!existsSync(join(peersDir, 'w1.spinyard'))) {
+      console.log(`W1 not run: it needs the shared performance peers (w1.spinyard, w1-expected.json and the NumPy peers) in ${peersDir}, which this machine does not have`);
+      return;
+    }
     const j = args.indexOf('--json');
     const r = args.indexOf('--rounds');
     const nRounds = r >= 0 ? Number(args[r + 1]) : 3;
     if (!Number.isInteger(nRounds) || nRounds < 1) throw new Error(`--rounds: a whole number of rounds of at least 1, not ${args[r + 1]}`);
     console.log(w1(j >= 0 ? args[j + 1] : null, !args.includes('--no-peers'), nRounds));
+    return;
+  }
+  if (args[0] === 'startup') {
+    const { benchStartup } = await import('./startup.ts');
+    console.log(await benchStartup());
     return;
   }
   if (args[0] === 'ui') {

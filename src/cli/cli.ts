@@ -2,15 +2,19 @@
  * The command line `spinyard`: run, sheet, validate, levels, species, help. `runCli(argv)` is a function of its
  * arguments (and the files they name, read only) returning exit code, stdout and stderr, so tests call it
  * in-process; main.ts writes them out. Exit 0 success, 2 invalid input (messages on stderr only),
- * 1 internal error. Nothing here writes a file.
+ * 1 internal error. Nothing here writes a file: `sheet -o OUT` returns the file to write, and main.ts writes it
+ * (deliver.ts).
  */
 import { formatProblem, isProblem, parseBeamlineText, parseQuantity } from '../beamline/index.ts';
 import { formatLevelsTable, levelsListing, runDocumentText } from '../engine/index.ts';
 import { formatHalfInteger } from '../physics/spin.ts';
 import { buildSheet, sheetHtml } from '../sheet/index.ts';
+import { basename } from 'node:path';
 import { LINE_CAUTIONS, formatSpeciesPanel, lookupSpecies, unknownSpeciesMessage } from '../species/index.ts';
 import { type OptionSpec, parseArgs } from './args.ts';
 import { formatRun } from './format.ts';
+import { type Paper, isSameFile, outputFormatOf } from './output.ts';
+import { withPaper } from './pdf.ts';
 import { readBeamlineFile } from './readFile.ts';
 import { type CliOutput, bad, ok, quickAnswer } from './quick.ts';
 import { COMMAND_HELP, USAGE } from './usage.ts';
@@ -70,15 +74,35 @@ function cautionsText(name: string | undefined): string {
   return ['', 'Cautions', ...list.map((c) => `  - ${c}`)].join('\n') + '\n';
 }
 
-/** The setup sheet of FILE as one printable HTML document on stdout; writes no file. */
+const OUTPUT_OPT: OptionSpec = { name: 'output', value: true, short: 'o' };
+const PAPER_OPT: OptionSpec = { name: 'paper', value: true };
+const PAPERS: readonly Paper[] = ['a4', 'letter'];
+
+/**
+ * The setup sheet of FILE: one printable HTML document on stdout, or with `-o OUT.pdf|OUT.html` the file to
+ * write (main.ts prints the PDF with the browser and writes atomically). `--paper a4|letter` (default A4).
+ */
 function cmdSheet(argv: readonly string[]): CliOutput {
-  const f = fileCommand('sheet', argv);
+  const f = fileCommand('sheet', argv, [OUTPUT_OPT, PAPER_OPT]);
   if (f.out) return f.out;
   const { file, text } = f;
+  const output = f.options.output;
+  const paperText = f.options.paper;
+  const paper = typeof paperText === 'string' ? (paperText.toLowerCase() as Paper) : 'a4';
+  if (!PAPERS.includes(paper)) return bad(`spinyard sheet: --paper: expected a4 or letter, got "${String(paperText)}"`);
+  let format: 'pdf' | 'html' | undefined;
+  if (typeof output === 'string') {
+    if (output === '') return bad('spinyard sheet: -o: the output file name is empty');
+    format = outputFormatOf(output);
+    if (!format) return bad(`spinyard sheet: -o ${output}: the output must end in .pdf or .html (the sheet is printed to PDF or written as HTML)`);
+    if (isSameFile(file, output)) return bad(`spinyard sheet: -o ${output} is the input document ${file}; the sheet is never written over its document`);
+  }
   const r = runDocumentText(text);
   if (!r.ok) return problemsOut(file, r.problems);
   const generatedAt = `${new Date().toISOString().slice(0, 16).replace('T', ' ')} UTC from ${file}`;
-  return ok(sheetHtml(buildSheet(r.doc, r.line, r.result, { generatedAt })));
+  const html = withPaper(sheetHtml(buildSheet(r.doc, r.line, r.result, { generatedAt, source: { fileName: basename(file), text } })), paper);
+  if (typeof output !== 'string' || !format) return ok(html);
+  return { code: 0, stdout: '', stderr: '', file: { path: output, format, html, input: file } };
 }
 
 function cmdValidate(argv: readonly string[]): CliOutput {

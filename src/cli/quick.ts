@@ -9,6 +9,16 @@ export interface CliOutput {
   code: 0 | 1 | 2;
   stdout: string;
   stderr: string;
+  /** A file to write after a successful command (`sheet -o`): runCli writes nothing, main.ts writes this (deliver.ts). */
+  file?: OutputFile;
+}
+
+/** The setup sheet to write to `path` as HTML or printed to PDF; `input` is the document it was made from. */
+export interface OutputFile {
+  path: string;
+  format: 'pdf' | 'html';
+  html: string;
+  input: string;
 }
 
 export const ok = (stdout: string): CliOutput => ({ code: 0, stdout, stderr: '' });

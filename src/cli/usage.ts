@@ -4,7 +4,8 @@ export const USAGE = `spinyard: plan an atomic-beam Stern–Gerlach line from a 
 
 Usage:
   spinyard run FILE [--json]          yields, rates, detector plane and counts of every leaf
-  spinyard sheet FILE                 the setup sheet of the line as printable HTML, on stdout
+  spinyard sheet FILE [-o OUT.pdf|OUT.html] [--paper a4|letter]
+                                      the setup sheet of the line: printable HTML on stdout, or a file
   spinyard validate FILE              check a beamline file; list every problem as "path: message"
   spinyard levels NAME --field B [--json]
                                       energies (Hz) and moments (μB) of a library species at field B
@@ -13,7 +14,8 @@ Usage:
   spinyard --version                  the version
 
 Every command also takes --help. Exit codes: 0 success, 2 invalid input (messages on stderr,
-nothing on stdout), 1 internal error. No command writes or changes any file.
+nothing on stdout), 1 internal error. No command changes a file; only sheet -o writes one, the file
+it is given.
 `;
 
 export const COMMAND_HELP: Readonly<Record<string, string>> = {
@@ -30,13 +32,22 @@ Runs the beamline in FILE and prints
 
   --json   print the result (format spinyard.result, version 1) as JSON and nothing else
 `,
-  sheet: `Usage: spinyard sheet FILE
+  sheet: `Usage: spinyard sheet FILE [-o OUT.pdf|OUT.html] [--paper a4|letter]
 
-Runs the beamline in FILE and prints its setup sheet, one self-contained HTML document for A4
-print, on stdout: species and constants with sources, oven, a to-scale side view, every element in
-beam order with its set-points as written and blank measured / checked by / date cells, the
-expected leaves and detector counts, warnings and cautions. Redirect it to a file and print it from
-a browser (spinyard sheet line.spinyard > line.html). It writes no file itself.
+Runs the beamline in FILE and makes its setup sheet for the bench: species and constants with sources,
+oven, a to-scale side view, every element in beam order with its position from the oven aperture and
+its set-points with units and blank measured / checked by / date cells, the expected leaves and
+detector counts, warnings, cautions and sign-off lines. Every printed page carries the file name, a
+short hash of the file's content and "page n of m".
+
+Without -o the sheet is one self-contained HTML document on stdout and no file is written.
+  -o, --output OUT   write the sheet to OUT: OUT.pdf is printed by a headless Chromium (SPINYARD_BROWSER,
+                     else a system Chromium or Chrome, else the one installed with Spinyard's npm
+                     packages; offline), OUT.html is the HTML. OUT is replaced atomically, never the
+                     input document, and nothing is left behind when printing fails.
+  --paper a4|letter  the paper size (default a4)
+
+Exit 2 when no browser is found for a PDF, 1 when the browser fails to print or OUT cannot be written.
 `,
   validate: `Usage: spinyard validate FILE
 

@@ -1,4 +1,3 @@
-import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { formatProblem } from '../../src/beamline/check.ts';
 import { DEFAULT_MAX_BYTES, checkSize, readBeamlineText } from '../../src/beamline/text.ts';
@@ -17,14 +16,31 @@ describe('readBeamlineText', () => {
   it('reads the v1 example text', () => {
     expect(read(DESIGN_V1).ok).toBe(true);
   });
-  it('reads the shared W1 workload document (../shared/peers/w1.spinyard: Cs-133, 256-point table)', () => {
-    const text = readFileSync(new URL('../../../shared/peers/w1.spinyard', import.meta.url), 'utf8');
+  it('reads a Cs-133 field-sweep document with a 256-point measured velocity table', () => {
+    // A time-of-flight table as a lab records it: 256 speeds 4.37 m/s apart with their weights, summing to 1.
+    const speeds = Array.from({ length: 256 }, (_, i) => 2.2 + 4.37 * i);
+    const raw = speeds.map((v) => v ** 3 * Math.exp(-((v / 250) ** 2)));
+    const total = raw.reduce((a, b) => a + b, 0);
+    const text = JSON.stringify({
+      format: 'spinyard.beamline', version: 1, title: 'Bench W, caesium clock-transition sweep', species: 'Cs-133',
+      oven: { state: { kind: 'unpolarized' }, flux: '1e9 /s', velocity: { kind: 'table', points: speeds.map((v, i) => [`${v} m/s`, raw[i] / total]) }, to: 'M1' },
+      elements: [
+        { id: 'M1', kind: 'magnet', axis: { roll: '0 deg' }, field: '0.5 T', gradient: '200 T/m', length: '5 cm', group: 'mJ', ports: { 'mJ=+1/2': 'F1', 'mJ=-1/2': 'stop' } },
+        { id: 'F1', kind: 'field', field: { x: '0 T', y: '0 T', z: '10 uT' }, length: '20 cm', to: 'M2' },
+        { id: 'M2', kind: 'magnet', axis: { roll: '0 deg' }, field: '0.5 T', gradient: '200 T/m', length: '5 cm', group: 'mJ', ports: { 'mJ=+1/2': 'D1', 'mJ=-1/2': 'D2' } },
+        { id: 'D1', kind: 'detector' },
+        { id: 'D2', kind: 'detector' },
+      ],
+    }, null, 2);
     const r = read(text);
     if (!r.ok) throw new Error(r.problems.map(formatProblem).join('\n'));
     expect(r.line.species).toEqual({ kind: 'named', name: 'Cs-133' });
     const v = r.line.oven.velocity;
     expect(v.kind === 'table' && v.points.length).toBe(256);
-    if (v.kind === 'table') expect(v.points.reduce((a, [, w]) => a + w, 0)).toBeCloseTo(1, 12);
+    if (v.kind === 'table') {
+      expect(v.points.reduce((a, [, w]) => a + w, 0)).toBeCloseTo(1, 12);
+      expect(v.points[255][0]).toBeCloseTo(2.2 + 4.37 * 255, 9);
+    }
     expect(r.line.elements.map((e) => e.id)).toEqual(['M1', 'F1', 'M2', 'D1', 'D2']);
   });
   it('rejects an empty file', () => {

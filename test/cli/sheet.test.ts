@@ -66,7 +66,7 @@ describe('spinyard sheet FILE', () => {
       expect(out.stdout).toBe(COMMAND_HELP.sheet);
     }
     expect(COMMAND_HELP.sheet).toMatch(/^Usage: spinyard sheet FILE/);
-    expect(COMMAND_HELP.sheet).toContain('writes no file');
-    expect(USAGE).toMatch(/spinyard sheet FILE\s+the setup sheet/);
+    expect(COMMAND_HELP.sheet).toContain('Without -o the sheet is one self-contained HTML document on stdout and no file is written');
+    expect(USAGE).toMatch(/spinyard sheet FILE \[-o OUT\.pdf\|OUT\.html\] \[--paper a4\|letter\]\s+the setup sheet/);
   });
 });

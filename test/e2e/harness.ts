@@ -1,5 +1,6 @@
 // End-to-end harness: builds dist-web when it is missing or older than its sources, serves it on
-// 127.0.0.1 (scripts/serve-web.mjs), and drives Debian's /usr/bin/chromium through playwright-core with
+// 127.0.0.1 (scripts/serve-web.mjs), and drives the Chromium that src/cli/find-browser.ts finds (SPINYARD_BROWSER,
+// a system one, or the one inside the npm package @sparticuz/chromium) through playwright-core with
 // a fresh user-data dir. Every request that leaves 127.0.0.1 is aborted and recorded. Used by the e2e
 // tests and by bench/ui.ts.
 import { spawn, execFileSync, type ChildProcess } from 'node:child_process';
@@ -7,13 +8,9 @@ import { existsSync, mkdirSync, mkdtempSync, readdirSync, rmSync, statSync } fro
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { chromium, type BrowserContext, type Page } from 'playwright-core';
+import { BROWSER_ARGS, findBrowser } from '../../src/cli/find-browser.ts';
 
 export const ROOT = resolve(import.meta.dirname, '..', '..');
-export const CHROMIUM = '/usr/bin/chromium';
-export const CHROMIUM_FLAGS = [
-  '--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update',
-  '--disable-sync', '--no-first-run',
-];
 export const RESULTS_DIR = join(ROOT, 'test-results');
 /** The samples the build copies (scripts/copy-samples.mjs reads SPINYARD_SAMPLES the same way). */
 export const SAMPLES_DIR = process.env.SPINYARD_SAMPLES ?? join(ROOT, 'samples');
@@ -86,7 +83,8 @@ function isLocal(url: string): boolean {
   }
 }
 
-async function serve(): Promise<{ url: string; proc: ChildProcess }> {
+/** Serves dist-web on 127.0.0.1 (a free port); the caller kills `proc`. */
+export async function serve(): Promise<{ url: string; proc: ChildProcess }> {
   const proc = spawn(process.execPath, [join(ROOT, 'scripts', 'serve-web.mjs')], { cwd: ROOT, env: { ...process.env, PORT: '0' }, stdio: ['ignore', 'pipe', 'pipe'] });
   const url = await new Promise<string>((res, rej) => {
     let out = '';
@@ -105,19 +103,17 @@ async function serve(): Promise<{ url: string; proc: ChildProcess }> {
   return { url, proc };
 }
 
-/** Builds if needed, serves dist-web and opens it in a fresh Chromium profile. Fails when Chromium is missing. */
+/** Builds if needed, serves dist-web and opens it in a fresh Chromium profile. Fails when no browser is found. */
 export async function openApp(opts: { colorScheme?: 'light' | 'dark'; initScript?: string } = {}): Promise<App> {
-  if (!existsSync(CHROMIUM)) {
-    throw new Error(`${CHROMIUM} is missing: the end-to-end tests drive Debian's chromium (apt-get install chromium); they are not skipped.`);
-  }
+  const browser = await findBrowser();
   await ensureBuild();
   const { url, proc } = await serve();
   const profile = mkdtempSync(join(tmpdir(), 'spinyard-e2e-'));
   let context: BrowserContext;
   try {
     context = await chromium.launchPersistentContext(profile, {
-      executablePath: CHROMIUM,
-      args: CHROMIUM_FLAGS,
+      executablePath: browser.executablePath,
+      args: [...BROWSER_ARGS],
       headless: true,
       acceptDownloads: true,
       viewport: { width: 1440, height: 1400 },

@@ -1,17 +1,16 @@
-// The browser host in a real browser (Debian's chromium through playwright-core, served on 127.0.0.1):
+// The browser host in a real browser (the Chromium of src/cli/find-browser.ts through playwright-core, served on 127.0.0.1):
 // IndexedDB autosave surviving a reload, the file picker, the download, the samples fetch, all under
 // the app's Content-Security-Policy. The unit tests in browser.test.ts cover the logic with fakes.
 import { build } from 'esbuild';
-import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { createServer, type Server } from 'node:http';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { chromium, type BrowserContext, type Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { BROWSER_ARGS, findBrowser } from '../../src/cli/find-browser.ts';
 import { CONTENT_SECURITY_POLICY } from '../../src/host/csp.ts';
 
-const CHROMIUM = '/usr/bin/chromium';
-const FLAGS = ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'];
 const SAMPLE = '{\n  "format": "spinyard.beamline",\n  "version": 1,\n  "title": "Bench A, effusive check"\n}\n';
 
 let server: Server;
@@ -22,7 +21,7 @@ let profile: string;
 const offHost: string[] = [];
 
 beforeAll(async () => {
-  if (!existsSync(CHROMIUM)) throw new Error(`${CHROMIUM} is missing: this test drives Debian's chromium (apt-get install chromium).`);
+  const browser = await findBrowser();
   const bundle = await build({
     entryPoints: ['src/host/browser.ts'],
     bundle: true,
@@ -48,7 +47,7 @@ beforeAll(async () => {
   const addr = server.address();
   base = `http://127.0.0.1:${typeof addr === 'object' && addr ? addr.port : 0}/`;
   profile = mkdtempSync(join(tmpdir(), 'spinyard-host-'));
-  context = await chromium.launchPersistentContext(profile, { executablePath: CHROMIUM, args: FLAGS, headless: true, acceptDownloads: true });
+  context = await chromium.launchPersistentContext(profile, { executablePath: browser.executablePath, args: [...BROWSER_ARGS], headless: true, acceptDownloads: true });
   context.on('request', (r) => {
     if (!r.url().startsWith(base)) offHost.push(r.url());
   });
