@@ -4,11 +4,38 @@
  * never guessed: a missing or wrong unit on a dimensional quantity is a Problem that names the expected
  * dimension and what was got.
  */
-import { create, all, type MathNode, type Unit } from 'mathjs';
+import {
+  create, parseDependencies, unitDependencies, createUnitDependencies, formatDependencies, typeOfDependencies,
+  addDependencies, subtractDependencies, multiplyDependencies, divideDependencies, powDependencies,
+  unaryMinusDependencies, unaryPlusDependencies, toDependencies,
+  sqrtDependencies, sinDependencies, cosDependencies, tanDependencies, expDependencies, logDependencies,
+  log10Dependencies, absDependencies, cbrtDependencies,
+  piDependencies, eDependencies, tauDependencies, InfinityDependencies, NaNDependencies,
+  type FactoryFunctionMap, type MathNode, type Unit,
+} from 'mathjs';
 import type { Problem } from './types.ts';
 
-/** The project's mathjs instance (design.md, Document format v1). */
-export const math = create(all);
+declare module 'mathjs' {
+  /** Exported by mathjs (its generated dependency groups) like InfinityDependencies, but missing from its types. */
+  export const NaNDependencies: FactoryFunctionMap;
+}
+
+/**
+ * The project's mathjs instance (design.md, Document format v1), made of only what a quantity needs: the
+ * parser and units, the operators of OPERATORS, the functions of FUNCTIONS and the constants pi, e, tau,
+ * Infinity and NaN (Infinity and NaN so that "Infinity m" is refused as non-finite, not as unknown). A bundle
+ * keeps these factories and drops the rest of mathjs (the app's worker and main chunk, the command line).
+ * Names that are not here (mathjs' physical constants such as speedOfLight, the imaginary unit i, its other
+ * functions) are not read as values; a name that is also a unit ("min", "sec") reads as that unit.
+ */
+export const math = create({
+  parseDependencies, unitDependencies, createUnitDependencies, formatDependencies, typeOfDependencies,
+  addDependencies, subtractDependencies, multiplyDependencies, divideDependencies, powDependencies,
+  unaryMinusDependencies, unaryPlusDependencies, toDependencies,
+  sqrtDependencies, sinDependencies, cosDependencies, tanDependencies, expDependencies, logDependencies,
+  log10Dependencies, absDependencies, cbrtDependencies,
+  piDependencies, eDependencies, tauDependencies, InfinityDependencies, NaNDependencies,
+});
 
 /**
  * Unified atomic mass unit u = m(¹²C)/12 = 1.660 539 066 60(50)e-27 kg
@@ -56,6 +83,8 @@ function siUnit(dim: Exclude<Dimension, 'dimensionless'>): Unit {
 
 /** Functions a quantity may use; nothing that assigns, defines or reaches into the parser. */
 const FUNCTIONS = new Set(['sqrt', 'sin', 'cos', 'tan', 'exp', 'log', 'log10', 'abs', 'cbrt']);
+/** Operators a quantity may use (mathjs' function names): arithmetic, and "to"/"in" between units. */
+const OPERATORS = new Set(['add', 'subtract', 'multiply', 'divide', 'pow', 'unaryMinus', 'unaryPlus', 'to']);
 const NODE_TYPES = new Set(['ConstantNode', 'SymbolNode', 'OperatorNode', 'ParenthesisNode', 'FunctionNode']);
 
 function checkNodes(node: MathNode): string | undefined {
@@ -66,6 +95,9 @@ function checkNodes(node: MathNode): string | undefined {
     else if (n.type === 'FunctionNode') {
       const name = (n as unknown as { fn: { name?: string } }).fn.name ?? '';
       if (!FUNCTIONS.has(name)) bad = `function ${name || '?'} is not allowed in a quantity`;
+    } else if (n.type === 'OperatorNode') {
+      const { op, fn } = n as unknown as { op: string; fn: string };
+      if (!OPERATORS.has(fn)) bad = `operator "${op}" is not allowed in a quantity (use + - * / ^)`;
     }
   });
   return bad;

@@ -1,5 +1,11 @@
 import { describe, expect, it } from 'vitest';
+import { all, create } from 'mathjs';
 import { ATOMIC_MASS_UNIT_KG, isProblem, math, parseQuantity } from '../../src/beamline/units.ts';
+
+/** mathjs with every factory, and the project's two extra units, to check the project's smaller instance against. */
+const full = create(all);
+full.createUnit('u', { definition: `${ATOMIC_MASS_UNIT_KG} kg`, prefixes: 'none' });
+full.createUnit('gauss', { definition: '1e-4 T', prefixes: 'short', aliases: ['G'] });
 
 const q = (v: unknown, dim: Parameters<typeof parseQuantity>[1]) => parseQuantity(v, dim, 'p');
 const msg = (v: unknown, dim: Parameters<typeof parseQuantity>[1]) => {
@@ -59,7 +65,7 @@ describe('parseQuantity', () => {
   it('defines the atomic mass unit u = 1.66053906660e-27 kg (CODATA 2018)', () => {
     expect(ATOMIC_MASS_UNIT_KG).toBe(1.6605390666e-27);
     // mathjs ships CODATA 2018 atomicMass; the unit must agree with it
-    expect(math.atomicMass.toNumber('kg')).toBe(ATOMIC_MASS_UNIT_KG);
+    expect(full.atomicMass.toNumber('kg')).toBe(ATOMIC_MASS_UNIT_KG);
     expect(q('106.905 u', 'mass')).toBeCloseTo(106.905 * 1.6605390666e-27, 40);
     expect(q('5 uT', 'field')).toBeCloseTo(5e-6, 18); // the micro prefix is still "u"
   });
@@ -112,10 +118,61 @@ describe('parseQuantity fast path', () => {
     fc.assert(fc.property(value, fc.integer({ min: 0, max: cases.length - 1 }), (x, i) => {
       const [unit, dim, si] = cases[i];
       const text = `${x} ${unit}`;
-      const want = math.evaluate(unit.startsWith('/') ? `${x} * 1 ${unit}` : text).toNumber(si);
+      const want = math.parse(unit.startsWith('/') ? `${x} * 1 ${unit}` : text).evaluate().toNumber(si);
       const got = parseQuantity(text, dim, 'p');
       if (typeof got !== 'number') return false;
       return got === want || Math.abs(got - want) <= 1e-15 * Math.abs(want);
     }), { numRuns: 2000 });
+  });
+});
+
+describe('the project mathjs instance (only what a quantity needs)', () => {
+  type Dim = Parameters<typeof parseQuantity>[1];
+  /** Forms the samples, the default document and the tests write, and the expressions the grammar allows. */
+  const forms: [string, Dim, string][] = [
+    ['3.5 cm', 'length', 'm'], ['-5.7 mm', 'length', 'm'], ['0.05 mm', 'length', 'm'], ['1e-3 km', 'length', 'm'], ['2 inch', 'length', 'm'],
+    ['3 cm + 2 mm', 'length', 'm'], ['6 cm / 2', 'length', 'm'], ['sqrt(2) * 1 mm', 'length', 'm'], ['cbrt(8 m^3)', 'length', 'm'],
+    ['abs(-3 m)', 'length', 'm'], ['5 mm ^ 2 / 1 mm', 'length', 'm'], ['3 cm to inch', 'length', 'm'], ['3 cm in m', 'length', 'm'],
+    ['90 deg', 'angle', 'rad'], ['(pi/4) rad', 'angle', 'rad'], ['(tau/8) rad', 'angle', 'rad'], ['2 deg + 1 rad', 'angle', 'rad'],
+    ['5 grad', 'angle', 'rad'], ['0.5 uT', 'field', 'T'], ['20 mT', 'field', 'T'], ['5 kG', 'field', 'T'], ['1 gauss', 'field', 'T'],
+    ['250 T/m', 'gradient', 'T/m'], ['20 G/cm', 'gradient', 'T/m'], ['2e9 /s', 'rate', 'Hz'], ['1/s', 'rate', 'Hz'], ['20 Hz', 'rate', 'Hz'],
+    ['5 s^-1', 'rate', 'Hz'], ['10 s', 'time', 's'], ['5 ms', 'time', 's'], ['1 h', 'time', 's'], ['460 K', 'temperature', 'K'],
+    ['25 degC', 'temperature', 'K'], ['32 degF', 'temperature', 'K'], ['600 m/s', 'speed', 'm/s'], ['36 km/h', 'speed', 'm/s'],
+    ['6.8 GHz', 'frequency', 'Hz'], ['0.3 kHz', 'frequency', 'Hz'], ['106.905 u', 'mass', 'kg'], ['5 mg', 'mass', 'kg'],
+  ];
+
+  it('reads every form to the same SI number as mathjs with all its factories', () => {
+    for (const [text, dim, si] of forms) {
+      const src = text.startsWith('/') ? `1 ${text}` : text;
+      expect(q(text, dim), text).toBe(full.evaluate(src).toNumber(si));
+    }
+    for (const text of ['1/2', '-3/2', '+1', '3 m / (30 cm)', 'exp(0)', 'log(e)', 'log10(100)', 'log(8, 2)', 'sin(pi/2)', 'cos(0 deg)', 'tan(45 deg)', '50%']) {
+      expect(q(text, 'dimensionless'), text).toBe(full.evaluate(text));
+    }
+  });
+
+  it('does not read mathjs physical constants as values (a quantity names its unit)', () => {
+    expect(msg('speedOfLight', 'speed')).toBe('expected a speed: cannot read "speedOfLight": Undefined symbol speedOfLight');
+    expect(msg('1 atomicMass', 'mass')).toMatch(/Undefined symbol atomicMass/);
+    expect(msg('2 PI m', 'length')).toMatch(/Undefined symbol PI/);
+    expect(msg('2i m', 'length')).toMatch(/Undefined symbol i/);
+  });
+
+  it('reads "min" and "sec" as the minute and the second (mathjs functions of those names are not in the instance)', () => {
+    expect(q('5 min', 'time')).toBe(300);
+    expect(q('2 sec', 'time')).toBe(2);
+  });
+
+  it('refuses operators other than arithmetic and unit conversion, naming the operator', () => {
+    expect(msg('5!', 'dimensionless')).toBe('expected a plain number: operator "!" is not allowed in a quantity (use + - * / ^)');
+    expect(msg('7 mod 3', 'dimensionless')).toMatch(/operator "mod" is not allowed/);
+    expect(msg('2 .* 3 m', 'length')).toMatch(/operator "\.\*" is not allowed/);
+    expect(msg('2 == 2', 'dimensionless')).toMatch(/operator "==" is not allowed/);
+    expect(msg("3 m'", 'length')).toMatch(/operator "'" is not allowed/);
+  });
+
+  it('keeps complex results and functions outside the list refused as before', () => {
+    expect(msg('sqrt(-1) m', 'length')).toBe('expected a length, got "sqrt(-1) m" (Complex), not a real quantity');
+    expect(msg('gamma(3)', 'dimensionless')).toMatch(/function gamma is not allowed/);
   });
 });
