@@ -1,16 +1,39 @@
 /**
- * The setup sheet as one self-contained HTML document for print (A4 portrait): inline CSS only, no
- * scripts, no external resources, monochrome. A to-scale side view of the line (inline SVG), then the
- * tables, with blank "measured / checked by / date" cells beside every set-point for the bench.
- * Every string that comes from the document or the run is escaped.
+ * The setup sheet as one self-contained HTML document for print (portrait; A4 or Letter as the printer
+ * chooses): inline CSS only, no scripts, no external resources, black and grey ink only. Every printed
+ * page carries the file name, a short hash of the file's text and "Page n of m" in CSS paged-media margin
+ * boxes. A to-scale side view of the line (inline SVG, sub-beams told apart by line style and letter),
+ * then the tables, with blank "measured / checked by / date" cells beside every set-point for the bench,
+ * the cautions and sign-off lines. Every string that comes from the document or the run is escaped (in
+ * CSS strings too).
  */
-import type { SheetElement, SheetModel } from './model.ts';
+import type { SheetElement, SheetModel, SheetSetPoint } from './model.ts';
 
 /** Text safe inside HTML/SVG element content and double- or single-quoted attributes. */
 export function escapeHtml(s: string): string {
   return s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;').replace(/'/g, '&#39;');
 }
 const e = escapeHtml;
+
+/**
+ * A CSS string literal (with its quotes) that reads back as `s`: everything but letters, digits, space and
+ * a few plain marks is a hex escape, so no quote, backslash, newline or "</style>" can leave the string.
+ */
+export function cssString(s: string): string {
+  let out = '';
+  for (const ch of s) {
+    out += /^[A-Za-z0-9 _.,:;()+=#@!?/-]$/.test(ch) ? ch : `\\${ch.codePointAt(0)!.toString(16)} `;
+  }
+  return `"${out}"`;
+}
+
+/** How many hex digits of the SHA-256 the sheet prints. */
+export const SHORT_HASH = 12;
+
+/** What the head of every page says about the document: "FILE · sha256 1a2b3c4d5e6f", or that it is unsaved. */
+export function sourceLine(m: SheetModel): string {
+  return m.source ? `${m.source.fileName} · sha256 ${m.source.sha256.slice(0, SHORT_HASH)}` : 'unsaved document (no file, no hash)';
+}
 
 /** A number to `sig` significant digits, exponent form outside [1e-4, 1e6); −0 and sub-pm noise as 0 where asked. */
 export function sheetNumber(x: number | undefined, sig = 4): string {
@@ -74,6 +97,26 @@ interface Row {
   parent: number;
   fromCm: number;
   toCm: number;
+  /** Where its beam comes from: the element and the port(s) routed to the row's first element; none for row 0. */
+  origin?: { id: string; ports: string[]; first: string };
+}
+
+/**
+ * Line styles of the sub-beams, in order: row 0 (the beam from the oven) solid, then dashed, dotted,
+ * dash-dot, long dash, dash-dot-dot; with more rows they repeat, and the row letter tells them apart.
+ */
+export const BEAM_STYLES: readonly { name: string; dash: string }[] = [
+  { name: 'solid', dash: '' },
+  { name: 'dashed', dash: '2 1' },
+  { name: 'dotted', dash: '0.35 0.75' },
+  { name: 'dash-dot', dash: '2.4 0.8 0.35 0.8' },
+  { name: 'long dash', dash: '4.5 1.2' },
+  { name: 'dash-dot-dot', dash: '2.4 0.7 0.35 0.7 0.35 0.7' },
+];
+
+/** The letter of row i: A, B, …, Z, AA, AB, … */
+export function rowLetter(i: number): string {
+  return i < 26 ? String.fromCharCode(65 + i) : rowLetter(Math.floor(i / 26) - 1) + rowLetter(i % 26);
 }
 
 const near = (a: number, b: number) => Math.abs(a - b) < 1e-6;
@@ -101,7 +144,10 @@ function layout(m: SheetModel): { marks: Mark[]; rows: Row[] } {
       if (!child || rowOf.has(t)) continue;
       const same = first && (t === first.id || (child.kind === first.kind && near(at(child), at(first)) && near(len(child), len(first))));
       if (same) place(t, row);
-      else place(t, rows.push({ parent: row, fromCm: at(el) + len(el), toCm: at(el) + len(el) }) - 1);
+      else {
+        const ports = el.routes.filter((r) => r.target === t).map((r) => r.port).filter((p) => p !== '');
+        place(t, rows.push({ parent: row, fromCm: at(el) + len(el), toCm: at(el) + len(el), origin: { id: el.id, ports, first: t } }) - 1);
+      }
     }
   };
   place(m.oven.to, 0);
@@ -157,16 +203,23 @@ export function sideViewSvg(m: SheetModel): string {
   const n = rows.length;
   const top = 8;
   const axisY = (r: number) => top + 3 + r * LANE_H;
-  const height = top + n * LANE_H + 6;
+  const legendH = n > 1 ? n * 3.4 + 1 : 0;
+  const height = top + n * LANE_H + 6 + legendH;
   const parts: string[] = [];
+  const style = (i: number) => BEAM_STYLES[i % BEAM_STYLES.length];
+  const beam = (x1: number, y1: number, x2: number, y2: number, i: number) =>
+    `<line x1="${x1}" y1="${y1}" x2="${x2}" y2="${y2}" class="axis beam-${rowLetter(i)}"${style(i).dash ? ` stroke-dasharray="${style(i).dash}"` : ''}/>`;
   rows.forEach((r, i) => {
-    if (i === 0) {
-      parts.push(`<line x1="${X0}" y1="${axisY(0)}" x2="${x(Math.max(r.toCm, L))}" y2="${axisY(0)}" class="axis"/>`);
-      return;
+    const end = i === 0 ? x(Math.max(r.toCm, L)) : x(r.toCm);
+    if (i === 0) parts.push(beam(X0, axisY(0), end, axisY(0), 0));
+    else {
+      const from = x(r.fromCm);
+      if (r.parent >= 0) parts.push(beam(from, axisY(r.parent), from, axisY(i), i));
+      else parts.push(beam(from, axisY(i) - 1.5, from, axisY(i) + 1.5, i));
+      parts.push(beam(from, axisY(i), end, axisY(i), i));
     }
-    const from = x(r.fromCm);
-    if (r.parent >= 0) parts.push(`<line x1="${from}" y1="${axisY(r.parent)}" x2="${from}" y2="${axisY(i)}" class="axis branch"/>`);
-    parts.push(`<line x1="${from}" y1="${axisY(i)}" x2="${x(r.toCm)}" y2="${axisY(i)}" class="axis branch"/>`);
+    // the row's letter at its far end, so a sub-beam is named on the drawing and not by its line alone
+    if (n > 1) parts.push(`<text x="${end + 1.2}" y="${axisY(i) + 0.9}" class="tag">${rowLetter(i)}</text>`);
   });
   parts.push(`<rect x="3" y="${axisY(0) - 4}" width="${X0 - 5}" height="8" class="open"/>`,
     `<text x="${(X0 - 2) / 2 + 1.5}" y="${axisY(0) + 1}" class="lbl" text-anchor="middle">oven</text>`,
@@ -187,14 +240,27 @@ export function sideViewSvg(m: SheetModel): string {
       + `<text x="${tx}" y="${ay + 6.2 + tier * 2.8}" class="pos" text-anchor="${anchor}">${e(sheetNumber(mk.entranceCm, 3))}</text></g>`);
   }
   const bar = scaleBarCm(L);
-  const by = height - 4;
+  const by = height - 4 - legendH;
   parts.push(`<line x1="${X0}" y1="${by}" x2="${x(bar)}" y2="${by}" class="bar"/>`,
     `<line x1="${X0}" y1="${by - 1.2}" x2="${X0}" y2="${by + 1.2}" class="tick"/>`,
     `<line x1="${x(bar)}" y1="${by - 1.2}" x2="${x(bar)}" y2="${by + 1.2}" class="tick"/>`,
     `<text x="${x(bar) + 1.5}" y="${by + 0.9}" class="pos">${e(sheetNumber(bar))} cm</text>`,
-    `<text x="${X1}" y="${by + 0.9}" class="pos" text-anchor="end">beam (+y) →   line length ${e(sheetNumber(L, 4))} cm from the oven aperture${n > 1 ? '; dashed: a branch (the path of another port), drawn below from where it leaves' : ''}</text>`);
+    `<text x="${X1}" y="${by + 0.9}" class="pos" text-anchor="end">beam (+y) →   line length ${e(sheetNumber(L, 4))} cm from the oven aperture; figures under the elements: entrance in cm</text>`);
+  if (n > 1) {
+    rows.forEach((r, i) => {
+      const ly = by + 4.6 + i * 3.4;
+      const what = i === 0
+        ? 'the beam from the oven'
+        : r.origin
+          ? `${r.origin.ports.length ? `port${r.origin.ports.length > 1 ? 's' : ''} ${r.origin.ports.join(', ')} of ${r.origin.id}` : `from ${r.origin.id}`} → ${r.origin.first}`
+          : 'not reached from the oven';
+      parts.push(beam(X0, ly - 0.8, X0 + 10, ly - 0.8, i),
+        `<text x="${X0 + 12}" y="${ly}" class="legend"><tspan class="tagi">${rowLetter(i)}</tspan> (${style(i).name}): ${e(what)}</text>`);
+    });
+  }
   return `<svg xmlns="http://www.w3.org/2000/svg" class="side" viewBox="0 0 ${SVG_W} ${height}" width="${SVG_W}mm" height="${height}mm" role="img" aria-label="Side view of the line to scale">`
-    + `<style>.axis{stroke:#000;stroke-width:0.25}.branch{stroke-dasharray:1 0.8;stroke:#555}.tick{stroke:#000;stroke-width:0.3}`
+    + `<style>.axis{stroke:#000;stroke-width:0.35;fill:none}.tick{stroke:#000;stroke-width:0.3}`
+    + `.tag{font:700 2.6px sans-serif;fill:#000}.tagi{font-weight:700}.legend{font:2.3px sans-serif;fill:#000}`
     + `.bar{stroke:#000;stroke-width:0.7}.magnet{fill:#bbb;stroke:#000;stroke-width:0.3}.solid{fill:#000}`
     + `.open{fill:#fff;stroke:#000;stroke-width:0.3}.lbl{font:600 2.6px sans-serif;fill:#000}.pos{font:2.2px sans-serif;fill:#333}</style>`
     + `${parts.join('')}</svg>`;
@@ -202,6 +268,12 @@ export function sideViewSvg(m: SheetModel): string {
 
 // ------------------------------------------------------------------ tables
 const blank = '<td class="blank"></td>';
+
+/** A set-point's value as written, then the unit a plain number implies and whether the run used a default. */
+function valueCell(p: SheetSetPoint): string {
+  const notes = [...(p.implied ? [p.implied] : []), ...(p.default ? ['default; not written in the file'] : [])];
+  return `<td class="val">${e(p.value)}${notes.length ? ` <span class="implied">(${e(notes.join('; '))})</span>` : ''}</td>`;
+}
 
 function elementRows(el: SheetElement): string {
   const sp = el.setPoints.length ? el.setPoints : [{ name: '', value: '' }];
@@ -211,19 +283,19 @@ function elementRows(el: SheetElement): string {
   const span = sp.length > 1 ? ` rowspan="${sp.length}"` : '';
   const rows = sp.map((p, i) => {
     const head = i === 0
-      ? `<th scope="row"${span}>${e(el.id)}</th><td${span}>${e(el.kind)}</td><td class="num"${span}>${e(sheetNumber(el.entranceCm, 4))}</td><td class="num"${span}>${e(sheetNumber(el.lengthCm, 4))}</td>`
+      ? `<th scope="row"${span}>${e(el.id)}</th><td class="kind"${span}>${e(el.kind)}</td><td class="num"${span}>${e(sheetNumber(el.entranceCm, 4))}</td><td class="num"${span}>${e(sheetNumber(el.exitCm, 4))}</td>`
       : '';
     const tail = i === 0 ? `<td class="routes"${span}>${routes}</td>` : '';
-    return `<tr>${head}<td class="sp">${e(p.name)}</td><td class="val">${e(p.value)}</td>${blank}${blank}${blank}${tail}</tr>`;
+    return `<tr>${head}<td class="sp">${e(p.name)}</td>${valueCell(p)}${blank}${blank}${blank}${tail}</tr>`;
   });
   return `<tbody>${rows.join('')}</tbody>`;
 }
 
 function elementsTable(m: SheetModel): string {
-  return `<table class="elements"><colgroup><col style="width:6%"><col style="width:9%"><col style="width:9%"><col style="width:7%">`
-    + `<col style="width:11%"><col style="width:15%"><col style="width:11%"><col style="width:9%"><col style="width:8%"><col style="width:15%"></colgroup>`
-    + '<thead><tr><th>id</th><th>kind</th><th class="num">entrance<br>(cm)</th><th class="num">length<br>(cm)</th><th>set-point</th>'
-    + '<th>as written</th><th>measured</th><th>checked by</th><th>date</th><th>routes</th></tr></thead>'
+  return `<table class="elements"><colgroup>${[6, 10, 8, 7, 11, 17, 10, 9, 8, 14].map((w) => `<col style="width:${w}%">`).join('')}</colgroup>`
+    + '<thead><tr><th rowspan="2">id</th><th rowspan="2">kind</th><th colspan="2" class="from">from the oven aperture (cm)</th><th rowspan="2">set-point</th>'
+    + '<th rowspan="2">as written</th><th rowspan="2">measured</th><th rowspan="2">checked by</th><th rowspan="2">date</th><th rowspan="2">routes</th></tr>'
+    + '<tr><th class="num">entrance</th><th class="num">exit</th></tr></thead>'
     + `${m.elements.map(elementRows).join('')}</table>`;
 }
 
@@ -236,7 +308,8 @@ function leavesTable(m: SheetModel): string {
   const head = ['path', 'target', 'yield', 'rate (/s)', ...(geo ? ['x (mm)', 'z (mm)', 'rms x (mm)', 'rms z (mm)', 'captured'] : [])];
   const rows = m.leaves.map((l) => {
     const noise = isNoise(l.yield);
-    const cells = [`<td class="path">${l.path.map((p) => `<span class="nw">${e(p)}</span>`).join(' ')}</td>`, `<td>${e(l.target)}</td>`,
+    const path = l.path.length ? l.path.map((p) => `<span class="nw">${e(p)}</span>`).join(' ') : '<span class="dim">(no magnet on the way)</span>';
+    const cells = [`<td class="path">${path}</td>`, `<td>${e(l.target)}</td>`,
       `<td class="num">${noise ? '≈ 0' : sheetNumber(l.yield)}</td>`, `<td class="num">${noise ? '≈ 0' : sheetNumber(l.rate)}</td>`];
     if (geo) {
       cells.push(...[l.displacementMm?.x, l.displacementMm?.z, l.spreadMm?.x, l.spreadMm?.z].map((v) => `<td class="num">${mm(v)}</td>`),
@@ -244,7 +317,7 @@ function leavesTable(m: SheetModel): string {
     }
     return `<tr>${cells.join('')}</tr>`;
   });
-  const cols = geo ? [27, 8, 9, 9, 8, 8, 8, 8, 15] : [46, 14, 20, 20];
+  const cols = geo ? [27, 8, 11, 10, 9, 9, 8, 8, 10] : [46, 14, 20, 20];
   return `<table class="leaves"><colgroup>${cols.map((c) => `<col style="width:${c}%">`).join('')}</colgroup><thead><tr>${head.map((h, i) => `<th${i >= 2 ? ' class="num"' : ''}>${h}</th>`).join('')}</tr></thead>`
     + `<tbody>${rows.join('')}</tbody></table>`;
 }
@@ -252,13 +325,24 @@ function leavesTable(m: SheetModel): string {
 function detectorsTable(m: SheetModel): string {
   if (!m.detectors.length) return '<p class="note">This line has no detector.</p>';
   const eps = m.detectors[0].epsilon;
-  const rows = m.detectors.map((d) => `<tr><th scope="row">${e(d.id)}</th><td class="num">${sheetNumber(d.yield)}</td><td class="num">${sheetNumber(d.rate)}</td>`
-    + `<td class="num">${sheetNumber(d.counts)} ± ${sheetNumber(d.sigma, 3)}</td><td class="num">${duration(d.dwell)}</td>`
-    + `<td class="num">${d.signalToBackground === Number.MAX_VALUE ? '∞ (no background)' : sheetNumber(d.signalToBackground, 3)}</td><td class="num">${duration(d.timeToPrecision)}</td>${blank}</tr>`);
-  return '<table class="detectors"><colgroup><col style="width:10%"><col style="width:10%"><col style="width:11%"><col style="width:19%">'
-    + '<col style="width:8%"><col style="width:10%"><col style="width:11%"><col style="width:21%"></colgroup><thead><tr><th>detector</th><th class="num">yield</th><th class="num">rate (/s)</th>'
-    + `<th class="num">counts ± σ</th><th class="num">dwell</th><th class="num">S/B</th><th class="num">time to ${sheetNumber(eps * 100)} %</th><th>measured counts</th></tr></thead>`
-    + `<tbody>${rows.join('')}</tbody></table>`;
+  // a signal of rounding noise (yield below 1e-15) has no meaningful S/B or time: said as such
+  const rows = m.detectors.map((d) => {
+    const none = isNoise(d.yield) || d.yield === 0;
+    const sb = d.signalToBackground === Number.MAX_VALUE ? '∞ (no background)' : none ? '≈ 0' : sheetNumber(d.signalToBackground, 3);
+    return `<tr><th scope="row">${e(d.id)}</th><td class="num">${isNoise(d.yield) ? '≈ 0' : sheetNumber(d.yield)}</td>`
+      + `<td class="num">${isNoise(d.yield) ? '≈ 0' : sheetNumber(d.signal)}</td><td class="num">${sheetNumber(d.background)}</td><td class="num">${sheetNumber(d.rate)}</td>`
+      + `<td class="num">${sheetNumber(d.counts)} ± ${sheetNumber(d.sigma, 3)}</td><td class="num">${duration(d.dwell)}</td>`
+      + `<td class="num">${sb}</td><td class="num">${none ? 'no signal' : duration(d.timeToPrecision)}</td>${blank}</tr>`;
+  });
+  const pct = sheetNumber(eps * 100);
+  return '<table class="detectors"><colgroup>'
+    + [8, 9, 9, 11, 9, 15, 7, 8, 9, 15].map((w) => `<col style="width:${w}%">`).join('')
+    + '</colgroup><thead><tr><th>detector</th><th class="num">yield</th><th class="num">signal<br>(counts/s)</th>'
+    + '<th class="num">background<br>(counts/s)</th><th class="num">total<br>(counts/s)</th>'
+    + `<th class="num">counts ± σ<br>in the dwell</th><th class="num">dwell</th><th class="num">S/B</th><th class="num">time to<br>${pct} %</th><th>measured counts</th></tr></thead>`
+    + `<tbody>${rows.join('')}</tbody></table>`
+    + `<p class="note">Signal: oven flux × yield × efficiency (× the fraction inside the window). S/B: signal over background. Time to ${pct} %: `
+    + `the counting time for a ${pct} % relative uncertainty on the signal with the background known, t = (S + B)/(S² ε²).</p>`;
 }
 
 function speciesBlock(m: SheetModel): string {
@@ -288,8 +372,22 @@ function ovenBlock(m: SheetModel): string {
     + '</tbody></table>';
 }
 
+/**
+ * The page: portrait on the paper the printer or the PDF export chooses (A4 or Letter; no fixed size, so
+ * a chosen format is kept), and the margin boxes that put the document's identity and the page count on
+ * every printed page (CSS Paged Media Level 3, printed by Chromium from version 131).
+ */
+function pageCss(m: SheetModel): string {
+  const box = 'font: 7pt "DejaVu Sans", "Liberation Sans", Arial, sans-serif; color: #000;';
+  return `@page { size: portrait; margin: 14mm 12mm 14mm 12mm;
+  @top-left { content: ${cssString(sourceLine(m))}; ${box} vertical-align: bottom; padding-bottom: 2mm; }
+  @top-right { content: "Spinyard setup sheet"; ${box} vertical-align: bottom; padding-bottom: 2mm; }
+  @bottom-left { content: ${cssString(m.generatedAt ? `generated ${m.generatedAt}` : '')}; ${box} vertical-align: top; padding-top: 2mm; }
+  @bottom-right { content: "Page " counter(page) " of " counter(pages); ${box} vertical-align: top; padding-top: 2mm; }
+}`;
+}
+
 const CSS = `
-@page { size: A4 portrait; margin: 12mm 12mm 14mm 12mm; }
 * { box-sizing: border-box; }
 html { color: #000; background: #fff; }
 body { margin: 0 auto; max-width: 186mm; font: 8.5pt/1.3 "DejaVu Sans", "Liberation Sans", Arial, sans-serif; }
@@ -300,9 +398,11 @@ h1 { font-size: 12pt; line-height: 1.25; margin: 1mm 0; font-weight: 700; overfl
 h2 { font-size: 9.5pt; margin: 4mm 0 1.5mm; padding-bottom: 0.5mm; border-bottom: 0.5pt solid #000; break-after: avoid; page-break-after: avoid; }
 p { margin: 1mm 0; }
 table { width: 100%; border-collapse: collapse; table-layout: fixed; page-break-inside: avoid; break-inside: avoid; margin: 1mm 0 2mm; }
-table.elements { page-break-inside: auto; break-inside: auto; }
-tbody, tr { page-break-inside: avoid; break-inside: avoid; }
-thead { display: table-header-group; }
+table.elements, table.leaves, table.detectors { page-break-inside: auto; break-inside: auto; }
+tr { page-break-inside: avoid; break-inside: avoid; }
+table.elements tbody, table.consts tbody { page-break-inside: avoid; break-inside: avoid; }
+thead { display: table-header-group; break-inside: avoid; }
+h2 + table, h2 + p, h2 + svg { break-before: avoid; page-break-before: avoid; }
 th, td { border: 0.5pt solid #000; padding: 0.6mm 1mm; text-align: left; vertical-align: top; overflow-wrap: break-word; }
 .nw { white-space: nowrap; }
 td.val { overflow-wrap: anywhere; }
@@ -312,10 +412,13 @@ tbody th { font-weight: 700; }
 td.val { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-size: 7.5pt; }
 td.blank { height: 5.5mm; }
 td.src { font-size: 6.8pt; color: #222; }
+table.detectors td.num, table.leaves td.num { font-size: 7.5pt; }
 td.path { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-size: 7.5pt; }
 td.routes { font-size: 7pt; }
-td.sp { font-size: 7.5pt; }
+td.sp, td.kind { font-size: 7.5pt; }
 thead th { font-size: 7pt; }
+th.from { text-align: center; font-weight: 400; font-style: italic; }
+.implied { font-family: "DejaVu Sans", "Liberation Sans", Arial, sans-serif; font-size: 6.5pt; color: #333; }
 th.sub { background: #f2f2f2; font-weight: 700; }
 .dim, .note { color: #444; }
 .note { font-style: italic; }
@@ -325,9 +428,30 @@ li { margin: 0.5mm 0; }
 .cautions { border: 1pt solid #000; padding: 1.5mm 2.5mm; page-break-inside: avoid; break-inside: avoid; }
 .cautions h2 { margin-top: 0; }
 .defer { font-weight: 700; }
-table.signoff td { height: 8mm; }
+table.signoff td { height: 7mm; }
+table.signoff th[scope="row"] { font-weight: 400; font-size: 7.5pt; }
+section.signoff { break-inside: avoid; page-break-inside: avoid; }
+.source { font-weight: 700; }
 @media screen { body { padding: 10mm; } }
 `;
+
+/** Sign-off: who prepared and checked the sheet and aligned the line, then one line per caution area. */
+function signOffTable(m: SheetModel): string {
+  const lines = ['Sheet prepared by', 'Line aligned by', 'Sheet checked by', ...m.signOff];
+  return '<table class="signoff"><colgroup><col style="width:46%"><col style="width:20%"><col style="width:20%"><col style="width:14%"></colgroup>'
+    + '<thead><tr><th></th><th>name</th><th>signature</th><th>date</th></tr></thead><tbody>'
+    + lines.map((l) => `<tr><th scope="row">${e(l)}</th>${blank}${blank}${blank}</tr>`).join('')
+    + '</tbody></table>';
+}
+
+/** The first page's line about the file: which version of which file this sheet belongs to. */
+function sourceMeta(m: SheetModel): string {
+  if (!m.source) {
+    return '<p class="meta source">Unsaved document: this sheet belongs to no file. Save the line and print the sheet again to tie it to the file.</p>';
+  }
+  return `<p class="meta">File <span class="source">${e(m.source.fileName)}</span> · sha256 <span class="source">${e(m.source.sha256.slice(0, SHORT_HASH))}</span>`
+    + ' (the first digits of the SHA-256 of the file\'s text, on every page: this sheet belongs to this version of the file only)</p>';
+}
 
 /** The complete printable HTML document of the setup sheet. */
 export function sheetHtml(m: SheetModel): string {
@@ -342,12 +466,13 @@ export function sheetHtml(m: SheetModel): string {
 <meta charset="utf-8">
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>Setup sheet: ${e(m.title)}</title>
-<style>${CSS}</style>
+<style>${pageCss(m)}${CSS}</style>
 </head>
 <body>
 <header>
 <p class="kicker">Spinyard setup sheet</p>
 <h1>${e(m.title)}</h1>
+${sourceMeta(m)}
 <p class="meta">Species ${e(m.species.name)} · oven flux ${sheetNumber(m.oven.flux)} atoms/s · ${m.elements.length} elements, ${m.detectors.length} detectors${generated}</p>
 <p class="meta"><b>Read the cautions at the end of this sheet before working on the line.</b></p>
 </header>
@@ -357,7 +482,7 @@ ${sideViewSvg(m)}</section>
 ${speciesBlock(m)}</section>
 <section><h2>Oven</h2>
 ${ovenBlock(m)}</section>
-<section><h2>Elements in beam order</h2>
+<section><h2>Elements in beam order (positions in cm measured from the oven aperture)</h2>
 ${elementsTable(m)}</section>
 <section><h2>Leaves (expected)</h2>
 ${leavesTable(m)}</section>
@@ -371,9 +496,8 @@ ${m.warnings.length ? `<p><b>Warnings</b></p><ul>${m.warnings.map((w) => `<li>${
 <ul>${m.cautions.map((c) => `<li>${e(c)}</li>`).join('')}</ul>
 <p class="defer">${e(m.deference)}</p>
 </section>
-<section><h2>Sign-off</h2>
-<table class="signoff"><thead><tr><th>line aligned by</th><th>date</th><th>sheet checked by</th><th>date</th></tr></thead>
-<tbody><tr>${blank}${blank}${blank}${blank}</tr></tbody></table>
+<section class="signoff"><h2>Sign-off</h2>
+${signOffTable(m)}
 </section>
 </body>
 </html>

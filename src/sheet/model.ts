@@ -54,7 +54,7 @@ export interface SheetSetPoint {
   name: string;
   /** Its value as the document wrote it (or, for a default, as the run used it, in the document's units). */
   value: string;
-  /** The unit a plain number carries without writing it, in words ("fraction of the atoms arriving that are counted"). */
+  /** The unit a plain number carries without writing it, in words ("fraction of arrivals counted"). */
   implied?: string;
   /** Not written in the document: the default value the run used. */
   default?: boolean;
@@ -248,7 +248,7 @@ const NOT_SET_POINTS = new Set(['id', 'kind', 'ports', 'to']);
 
 /** Units that plain numbers of the format carry without writing them (dimensionless keys), said in words. */
 const IMPLIED: Readonly<Record<string, Readonly<Record<string, string>>>> = {
-  detector: { efficiency: 'fraction of the atoms arriving that are counted' },
+  detector: { efficiency: 'fraction of arrivals counted' },
 };
 
 const plain = (x: number) => String(Number(x.toPrecision(6)));

@@ -1,6 +1,7 @@
 /** The printable setup sheet: a complete, self-contained, escaped HTML document with the side view. */
+import { createHash } from 'node:crypto';
 import { describe, expect, it } from 'vitest';
-import { escapeHtml, sheetHtml, sheetNumber, sideViewSvg } from '../../src/sheet/html.ts';
+import { BEAM_STYLES, cssString, escapeHtml, rowLetter, sheetHtml, sheetNumber, sideViewSvg } from '../../src/sheet/html.ts';
 import { buildSheet } from '../../src/sheet/model.ts';
 import { DESIGN_V1 } from '../beamline/examples.ts';
 import { runSample, runText } from './helpers.ts';
@@ -23,11 +24,13 @@ describe('sheetHtml (samples/bench-h)', () => {
   const m = sheetOf('bench-h-rb87-mj-then-eigenstate');
   const html = sheetHtml(m);
 
-  it('is one complete HTML document for A4 print with inline CSS only', () => {
+  it('is one complete HTML document for print in portrait (the paper size left to the printer) with inline CSS only', () => {
     expect(html.startsWith('<!DOCTYPE html>\n<html lang="en">')).toBe(true);
     expect(html.trimEnd().endsWith('</html>')).toBe(true);
     expect(html).toContain('<meta charset="utf-8">');
-    expect(html).toMatch(/@page \{ size: A4 portrait; margin: [^}]+\}/);
+    // no fixed size: a PDF export that asks for A4 or Letter (and prefers the CSS page size) gets that paper
+    expect(html).toMatch(/@page \{ size: portrait; margin: [^;]+;/);
+    expect(html).not.toMatch(/size: (A4|letter)/i);
     expect(html).toContain('page-break-inside: avoid');
   });
 
@@ -78,7 +81,7 @@ describe('sheetHtml (samples/bench-h)', () => {
 
   it('puts blank measured / checked by / date cells beside every set-point', () => {
     const t = table(html, 'elements');
-    expect(t).toMatch(/<th>measured<\/th><th>checked by<\/th><th>date<\/th>/);
+    expect(t).toMatch(/<th rowspan="2">measured<\/th><th rowspan="2">checked by<\/th><th rowspan="2">date<\/th>/);
     const setPoints = m.elements.reduce((n, e) => n + Math.max(1, e.setPoints.length), 0);
     expect(bodyRows(t)).toBe(setPoints);
     expect(t.match(/<td class="blank"><\/td>/g)).toHaveLength(3 * setPoints);
@@ -144,9 +147,40 @@ describe('sideViewSvg', () => {
 
   it('draws the branches of a line in rows below their branch point (samples/bench-k)', () => {
     const svg = sideViewSvg(sheetOf('bench-k-field-twist-passage'));
-    expect(svg.match(/class="axis branch"/g)?.length).toBe(2); // one drop at M1's exit, one dashed row
+    // row B: one drop at M1's exit and its row, plus its sample in the legend
+    expect(svg.match(/class="axis beam-B"/g)?.length).toBe(3);
     expect(svg).toContain('>DA1, DA0, DA2</text>');
     expect(svg).toContain('>DS1, DS0, DS2</text>');
+  });
+
+  it('tells the sub-beams apart by line style and letter, not by colour (samples/bench-k)', () => {
+    const svg = sideViewSvg(sheetOf('bench-k-field-twist-passage'));
+    const lines = (row: string) => svg.match(new RegExp(`<line [^>]*class="axis beam-${row}"[^>]*/>`, 'g')) ?? [];
+    // A, the beam from the oven: solid (no dash pattern); B: dashed
+    expect(lines('A').length).toBeGreaterThanOrEqual(2);
+    for (const l of lines('A')) expect(l).not.toContain('stroke-dasharray');
+    for (const l of lines('B')) expect(l).toContain(`stroke-dasharray="${BEAM_STYLES[1].dash}"`);
+    expect(BEAM_STYLES[1].name).toBe('dashed');
+    // each row carries its letter on the drawing, and the legend names where its beam comes from
+    expect(svg).toContain('class="tag">A</text>');
+    expect(svg).toContain('class="tag">B</text>');
+    expect(svg).toContain('<tspan class="tagi">A</tspan> (solid): the beam from the oven');
+    expect(svg).toContain('<tspan class="tagi">B</tspan> (dashed): port -1 of M1 → T2');
+    // no stroke or fill but black, white and greys
+    for (const c of svg.match(/(?:stroke|fill):[^;}"]+/g) ?? []) expect(c, c).toMatch(/:(#000|#fff|#([0-9a-f])\2\2|none)$/);
+  });
+
+  it('gives every row a different dash pattern up to six rows, then a different letter', () => {
+    expect(new Set(BEAM_STYLES.map((s) => s.dash)).size).toBe(BEAM_STYLES.length);
+    expect(BEAM_STYLES.map((s) => s.name)).toEqual(['solid', 'dashed', 'dotted', 'dash-dot', 'long dash', 'dash-dot-dot']);
+    expect([0, 1, 25, 26, 27].map(rowLetter)).toEqual(['A', 'B', 'Z', 'AA', 'AB']);
+  });
+
+  it('a line with one row draws it solid, without letters or legend (samples/bench-h)', () => {
+    const svg = sideViewSvg(sheetOf('bench-h-rb87-mj-then-eigenstate'));
+    expect(svg).not.toContain('stroke-dasharray');
+    expect(svg).not.toContain('class="tag"');
+    expect(svg).not.toContain('class="legend"');
   });
 });
 
@@ -178,5 +212,134 @@ describe('a detector without background', () => {
     expect(t).not.toContain('e308');
     // the detector with background keeps its number: 5e7 /s over 2 /s
     expect(t).toContain('2.5e7');
+  });
+});
+
+/** Reads a CSS string literal back: hex escapes ("\3c " → "<") and escaped characters. */
+function readCssString(lit: string): string {
+  expect(lit.startsWith('"') && lit.endsWith('"')).toBe(true);
+  return lit.slice(1, -1).replace(/\\([0-9a-fA-F]{1,6}) ?|\\(.)/g, (_, h, c) => (h ? String.fromCodePoint(parseInt(h, 16)) : c));
+}
+
+/** The content of the @page margin box NAME. */
+function marginBox(html: string, name: string): string {
+  const m = new RegExp(`@${name} \\{ content: ((?:"(?:[^"\\\\]|\\\\.)*"|counter\\(\\w+\\)| )+);`).exec(html);
+  expect(m, `@${name}`).not.toBeNull();
+  return m![1];
+}
+
+describe('sheetHtml: the file and the page count on every printed page', () => {
+  const r = runSample('bench-h-rb87-mj-then-eigenstate');
+  const withSource = (fileName: string, text = r.text) =>
+    sheetHtml(buildSheet(r.doc, r.line, r.result, { generatedAt: '2026-12-01 09:00 UTC', source: { fileName, text } }));
+  const hash = createHash('sha256').update(r.text, 'utf8').digest('hex');
+
+  it('puts the file name and the first 12 hex digits of the SHA-256 in the top-left margin box of every page', () => {
+    const html = withSource('bench-h-rb87-mj-then-eigenstate.spinyard');
+    expect(readCssString(marginBox(html, 'top-left'))).toBe(`bench-h-rb87-mj-then-eigenstate.spinyard · sha256 ${hash.slice(0, 12)}`);
+    // and on the first page in the header, in words
+    expect(html).toContain(`File <span class="source">bench-h-rb87-mj-then-eigenstate.spinyard</span> · sha256 <span class="source">${hash.slice(0, 12)}</span>`);
+    expect(html).not.toContain(hash.slice(0, 13));
+  });
+
+  it('numbers the pages "Page n of m" in the bottom-right margin box, the time it was generated bottom left', () => {
+    const html = withSource('x.spinyard');
+    expect(marginBox(html, 'bottom-right')).toBe('"Page " counter(page) " of " counter(pages)');
+    expect(readCssString(marginBox(html, 'bottom-left'))).toBe('generated 2026-12-01 09:00 UTC');
+    expect(readCssString(marginBox(html, 'top-right'))).toBe('Spinyard setup sheet');
+  });
+
+  it('an unsaved document says so on every page and in the header, and prints no hash', () => {
+    const html = sheetHtml(buildSheet(r.doc, r.line, r.result));
+    expect(readCssString(marginBox(html, 'top-left'))).toBe('unsaved document (no file, no hash)');
+    expect(html).toContain('Unsaved document: this sheet belongs to no file.');
+    expect(html).not.toMatch(/sha256 [0-9a-f]{12}/);
+    expect(readCssString(marginBox(html, 'bottom-left'))).toBe('');
+  });
+
+  it('a file name cannot leave its CSS string or the style element, and reads back as it was', () => {
+    const evil = 'a"b\\c\n</style><script>x()</script>{}; é 😀.spinyard';
+    const html = withSource(evil);
+    const style = html.slice(html.indexOf('<style>'), html.indexOf('</style>') + 8);
+    expect(style.match(/<\/style>/g)).toHaveLength(1);
+    expect(html).not.toContain('<script');
+    expect(readCssString(marginBox(html, 'top-left'))).toBe(`${evil} · sha256 ${hash.slice(0, 12)}`);
+    expect(readCssString(cssString(evil))).toBe(evil);
+    const inner = cssString(evil).slice(1, -1);
+    expect(inner).not.toMatch(/["<>{}\n]/);
+    expect(inner).not.toMatch(/\\(?![0-9a-f])/);
+    expect(html).toContain(`<span class="source">${escapeHtml(evil)}</span>`);
+  });
+});
+
+describe('sheetHtml: what the bench needs (samples/bench-h)', () => {
+  const r = runSample('bench-h-rb87-mj-then-eigenstate');
+  const m = buildSheet(r.doc, r.line, r.result, { source: { fileName: 'h.spinyard', text: r.text } });
+  const html = sheetHtml(m);
+
+  it('gives entrance and exit of every element, in cm from the oven aperture, said in the column header', () => {
+    const t = table(html, 'elements');
+    expect(t).toContain('<th colspan="2" class="from">from the oven aperture (cm)</th>');
+    expect(t).toContain('<tr><th class="num">entrance</th><th class="num">exit</th></tr></thead>');
+    // M2 enters at 50 cm and leaves at 60 cm
+    expect(t).toMatch(/<th scope="row" rowspan="\d+">M2<\/th><td class="kind" rowspan="\d+">magnet<\/td><td class="num" rowspan="\d+">50<\/td><td class="num" rowspan="\d+">60<\/td>/);
+  });
+
+  it('says the unit of a plain-number set-point beside its value', () => {
+    expect(table(html, 'elements')).toContain('<td class="val">0.95 <span class="implied">(fraction of arrivals counted)</span></td>');
+  });
+
+  it('marks a default the run used where the document wrote none', () => {
+    const doc = JSON.parse(DESIGN_V1);
+    doc.elements[3] = { id: 'D2', kind: 'detector', efficiency: 0.9 };
+    const rr = runText(JSON.stringify(doc));
+    const t = table(sheetHtml(buildSheet(rr.doc, rr.line, rr.result)), 'elements');
+    expect(t).toContain('<td class="sp">dwell</td><td class="val">1 s <span class="implied">(default; not written in the file)</span></td>');
+  });
+
+  it('gives per detector the yield, signal, background, total, counts, S/B and the time to 1 %', () => {
+    const t = table(html, 'detectors');
+    for (const h of ['yield', 'signal<br>(counts/s)', 'background<br>(counts/s)', 'total<br>(counts/s)', 'counts ± σ<br>in the dwell', 'dwell', 'S/B', 'time to<br>1 %']) {
+      expect(t).toContain(`<th class="num">${h}</th>`);
+    }
+    const d1 = m.detectors[0];
+    expect(t).toContain(`<th scope="row">D1</th><td class="num">${sheetNumber(d1.yield)}</td><td class="num">${sheetNumber(d1.signal)}</td><td class="num">20</td><td class="num">${sheetNumber(d1.rate)}</td>`);
+  });
+
+  it('has sign-off lines with blank cells: prepared, aligned, checked, then one per caution area', () => {
+    const t = table(html, 'signoff');
+    expect(t).toContain('<th></th><th>name</th><th>signature</th><th>date</th>');
+    const rows = ['Sheet prepared by', 'Line aligned by', 'Sheet checked by', ...m.signOff];
+    expect(bodyRows(t)).toBe(rows.length);
+    for (const l of rows) expect(t).toContain(`<tr><th scope="row">${escapeHtml(l)}</th><td class="blank"></td><td class="blank"></td><td class="blank"></td></tr>`);
+    expect(t).toContain('Alkali metal handling checked');
+  });
+
+  it('a detector that gets no signal (a yield of rounding noise) shows no S/B and no time, not a number of days', () => {
+    const k = runSample('bench-k-field-twist-passage');
+    const mk = buildSheet(k.doc, k.line, k.result);
+    const dead = mk.detectors.find((d) => d.yield !== 0 && Math.abs(d.yield) < 1e-15);
+    expect(dead, 'samples/bench-k has a detector whose yield is rounding noise').toBeDefined();
+    const t = table(sheetHtml(mk), 'detectors');
+    const row = t.slice(t.indexOf(`<th scope="row">${dead!.id}</th>`)).split('</tr>')[0];
+    expect(row).toContain('<td class="num">≈ 0</td>');
+    expect(row).toContain('<td class="num">no signal</td>');
+    expect(row).not.toMatch(/\d d</);
+  });
+
+  it('keeps table rows whole, repeats table headers on each page, and never ends a page on a heading', () => {
+    expect(html).toMatch(/\btr \{[^}]*break-inside: avoid/);
+    // an element's set-points stay together; a long leaves or detectors table may break between rows
+    expect(html).toMatch(/table\.elements tbody[^{]*\{[^}]*break-inside: avoid/);
+    expect(html).toMatch(/table\.elements, table\.leaves, table\.detectors \{[^}]*break-inside: auto/);
+    expect(html).toMatch(/thead \{ display: table-header-group/);
+    expect(html).toMatch(/h2 \{[^}]*break-after: avoid/);
+    expect(html).toMatch(/section\.signoff \{[^}]*break-inside: avoid/);
+    expect(html).toMatch(/\.cautions \{[^}]*break-inside: avoid/);
+  });
+
+  it('prints in black and grey only', () => {
+    for (const c of html.match(/#[0-9a-fA-F]{3,6}\b/g) ?? []) expect(c, c).toMatch(/^#(?:([0-9a-f])\1\1|([0-9a-f]{2})\2\2)$/i);
+    expect(html).not.toMatch(/\b(rgb|hsl)a?\(/);
   });
 });

@@ -221,7 +221,7 @@ describe('buildSheet: positions from the oven aperture, set-points with their un
 
   it('says the unit a plain number carries (a detector efficiency is a fraction); written units stay as written', () => {
     const d1 = m.elements.find((e) => e.id === 'D1')!;
-    expect(d1.setPoints.find((p) => p.name === 'efficiency')).toEqual({ name: 'efficiency', value: '0.95', implied: 'fraction of the atoms arriving that are counted' });
+    expect(d1.setPoints.find((p) => p.name === 'efficiency')).toEqual({ name: 'efficiency', value: '0.95', implied: 'fraction of arrivals counted' });
     expect(d1.setPoints.find((p) => p.name === 'dwell')).toEqual({ name: 'dwell', value: '30 s' });
     const m1 = m.elements.find((e) => e.id === 'M1')!;
     expect(m1.setPoints.every((p) => p.implied === undefined)).toBe(true);
@@ -234,7 +234,7 @@ describe('buildSheet: positions from the oven aperture, set-points with their un
     const d1 = buildSheet(rr.doc, rr.line, rr.result).elements.find((e) => e.id === 'D1')!;
     const norm = rr.line.elements.find((e) => e.id === 'D1') as { efficiency: number; background: number; dwell: number };
     expect(d1.setPoints).toEqual([
-      { name: 'efficiency', value: String(norm.efficiency), implied: 'fraction of the atoms arriving that are counted', default: true },
+      { name: 'efficiency', value: String(norm.efficiency), implied: 'fraction of arrivals counted', default: true },
       { name: 'background', value: `${norm.background} /s`, default: true },
       { name: 'dwell', value: `${norm.dwell} s`, default: true },
     ]);
