@@ -145,11 +145,12 @@ export function runEngine(line: Beamline, opts?: { onProgress?: (f: number) => v
 
 /**
  * The printable setup sheet (src/sheet) of a document: the line is run again here, so the sheet
- * always shows the numbers of the document it prints.
+ * always shows the numbers of the document it prints. Every page names the file (`fileName`, or
+ * "untitled") and the hash of the document's text as Save writes it (documentText).
  */
-export function setupSheetHtml(doc: BeamlineDoc, line: Beamline): string {
+export function setupSheetHtml(doc: BeamlineDoc, line: Beamline, fileName?: string): string {
   const result = runLine(line) as RunResult;
   const now = new Date();
   const stamp = `${now.toISOString().slice(0, 16).replace('T', ' ')} UTC`;
-  return sheetHtml(buildSheet(doc, line, result, { generatedAt: stamp }));
+  return sheetHtml(buildSheet(doc, line, result, { generatedAt: stamp, source: { fileName: fileName || 'untitled', text: documentText(doc) } }));
 }

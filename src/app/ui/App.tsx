@@ -398,7 +398,7 @@ export function App({ host }: { host: Host }) {
       downloadText(name.replace(/\.spinyard$/i, '') + '-ports.csv', portRowsCsv(rows, eps), 'text/csv');
     },
     printSheet: async (pdf) => {
-      const html = setupSheetHtml(doc, line);
+      const html = setupSheetHtml(doc, line, name);
       if (pdf) {
         const r = await host.exportPdf(html, name.replace(/\.spinyard$/i, '') + '-setup-sheet.pdf');
         if (r) setNotice(`Setup sheet written: ${r.path ?? r.name}`);
