@@ -114,6 +114,15 @@ export const BEAM_STYLES: readonly { name: string; dash: string }[] = [
   { name: 'dash-dot-dot', dash: '2.4 0.7 0.35 0.7 0.35 0.7' },
 ];
 
+/** Where a row's beam comes from, in words: "port -1 of M1", "every other port of N1", "from S2". */
+function originText(o: NonNullable<Row['origin']>): string {
+  const named = o.ports.filter((p) => p !== '*');
+  const rest = o.ports.includes('*');
+  if (!named.length && !rest) return `from ${o.id}`;
+  const list = named.length ? `port${named.length > 1 ? 's' : ''} ${named.join(', ')}${rest ? ' and every other port' : ''}` : 'every other port';
+  return `${list} of ${o.id}`;
+}
+
 /** The letter of row i: A, B, …, Z, AA, AB, … */
 export function rowLetter(i: number): string {
   return i < 26 ? String.fromCharCode(65 + i) : rowLetter(Math.floor(i / 26) - 1) + rowLetter(i % 26);
@@ -249,11 +258,7 @@ export function sideViewSvg(m: SheetModel): string {
   if (n > 1) {
     rows.forEach((r, i) => {
       const ly = by + 4.6 + i * 3.4;
-      const what = i === 0
-        ? 'the beam from the oven'
-        : r.origin
-          ? `${r.origin.ports.length ? `port${r.origin.ports.length > 1 ? 's' : ''} ${r.origin.ports.join(', ')} of ${r.origin.id}` : `from ${r.origin.id}`} → ${r.origin.first}`
-          : 'not reached from the oven';
+      const what = i === 0 ? 'the beam from the oven' : r.origin ? `${originText(r.origin)} → ${r.origin.first}` : 'not reached from the oven';
       parts.push(beam(X0, ly - 0.8, X0 + 10, ly - 0.8, i),
         `<text x="${X0 + 12}" y="${ly}" class="legend"><tspan class="tagi">${rowLetter(i)}</tspan> (${style(i).name}): ${e(what)}</text>`);
     });

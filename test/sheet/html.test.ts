@@ -343,3 +343,35 @@ describe('sheetHtml: what the bench needs (samples/bench-h)', () => {
     expect(html).not.toMatch(/\b(rgb|hsl)a?\(/);
   });
 });
+
+describe('sideViewSvg: many sub-beams', () => {
+  /** Spin 3/2: M1 sends each port to a rotator and a magnet of its own at its own place; N1 sends "*" on to Q1. */
+  function fan() {
+    const ports = ['+3/2', '+1/2', '-1/2', '-3/2'];
+    const els: Record<string, unknown>[] = [{ id: 'M1', kind: 'magnet', gap: '10 cm', axis: { roll: '0 deg' }, gradient: '100 T/m', length: '5 cm', ports: Object.fromEntries(ports.map((p, i) => [p, `R${i + 1}`])) }];
+    ports.forEach((_, i) => {
+      els.push({ id: `R${i + 1}`, kind: 'rotator', gap: `${3 + 4 * i} cm`, axis: { roll: '90 deg' }, angle: '45 deg', to: `N${i + 1}` });
+      els.push({ id: `N${i + 1}`, kind: 'magnet', gap: '5 cm', axis: { roll: '0 deg' }, gradient: '100 T/m', length: '4 cm', ports: { '+3/2': `D${i + 1}`, '*': i === 0 ? 'Q1' : 'stop' } });
+      els.push({ id: `D${i + 1}`, kind: 'detector', gap: '20 cm' });
+    });
+    els.push({ id: 'Q1', kind: 'detector', gap: '30 cm' });
+    return runText(JSON.stringify({
+      format: 'spinyard.beamline', version: 1, title: 'Fan of sub-beams', species: { spin: '3/2', g: 1.3, mass: '52.94 u' },
+      oven: { state: { kind: 'unpolarized' }, flux: '1e9 /s', velocity: { kind: 'fixed', speed: '600 m/s' }, to: 'M1' }, elements: els,
+    }));
+  }
+
+  it('gives five rows five line styles and letters, and names where each comes from', () => {
+    const r = fan();
+    const svg = sideViewSvg(buildSheet(r.doc, r.line, r.result));
+    const dashOf = (row: string) => [...new Set((svg.match(new RegExp(`class="axis beam-${row}"[^>]*`, 'g')) ?? []).map((l) => /stroke-dasharray="([^"]+)"/.exec(l)?.[1] ?? ''))];
+    const dashes = ['A', 'B', 'C', 'D', 'E'].map(dashOf);
+    for (const d of dashes) expect(d).toHaveLength(1); // one style per row, its drop and its legend sample alike
+    expect(new Set(dashes.map((d) => d[0])).size).toBe(5);
+    for (const row of ['A', 'B', 'C', 'D', 'E']) expect(svg).toContain(`class="tag">${row}</text>`);
+    expect(svg).toContain('(dashed): every other port of N1 → Q1');
+    expect(svg).toContain('(dotted): port +1/2 of M1 → R2');
+    expect(svg).toContain('(dash-dot): port -1/2 of M1 → R3');
+    expect(svg).toContain('(long dash): port -3/2 of M1 → R4');
+  });
+});
