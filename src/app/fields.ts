@@ -82,6 +82,8 @@ export function elementFields(el: Record<string, unknown>, hyperfine: boolean): 
       return [
         gap, ...vec('static', 'static', 'field'), q('amplitude', 'amplitude', 'field'), q('frequency', 'frequency', 'frequency'),
         ...axisFields('axis', 'axis', el.axis), q('length', 'length', 'length'),
+        // empty: a continuous beam, averaged over every RF phase; a value: a pulsed beam locked to the RF at that phase
+        q('phase', 'entry phase (locked beam)', 'angle', true, 'every phase'),
       ];
     case 'recombiner':
       return [gap, ...axisFields('axis', 'axis', el.axis), { type: 'bool', key: 'coherent', label: 'coherent' },

@@ -38,7 +38,9 @@ export interface Magnet extends Base { kind: 'magnet'; axis: Axis; field?: numbe
 export interface Rotator extends Base { kind: 'rotator'; axis: Axis; angle: number; to: string }
 export interface FieldRegion extends Base { kind: 'field'; field: Vec3; length: number; to: string }
 export interface Twist extends Base { kind: 'twist'; field: number; start: Axis; end: Axis; length: number; to: string }
-export interface RfFlipper extends Base { kind: 'rf'; static: Vec3; amplitude: number; frequency: number; axis: Axis; length: number; to: string }
+export interface RfFlipper extends Base { kind: 'rf'; static: Vec3; amplitude: number; frequency: number; axis: Axis; length: number;
+  /** The RF phase (rad) at an atom's entry for a pulsed beam locked to the RF; absent: every phase (a continuous beam). */
+  phase?: number; to: string }
 export interface Recombiner extends Base { kind: 'recombiner'; axis: Axis; open: readonly string[]; phases: Readonly<Record<string, number>>;
   coherent: boolean; field?: number; group?: 'mJ' | 'each'; entry?: 'adiabatic' | 'sudden'; to: string }
 export interface Slit extends Base { kind: 'slit'; width: number; height: number; x: number; z: number; to: string }

@@ -13,7 +13,7 @@ import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
 import { densityUnpolarized } from '../physics/density.ts';
-import { gF, zeroFieldStates, zeemanEigen } from '../physics/hyperfine.ts';
+import { zeroFieldStates, zeemanEigen } from '../physics/hyperfine.ts';
 import {
   effusiveDistribution, supersonicDistribution, tableDistribution, oscillationGrid, densityAt, speedRange,
   type VelocityDistribution,
@@ -24,6 +24,7 @@ import { speciesSystems, sortStates, projectorOf, SpeciesError, type SpinSystem,
 import { specInitial, specKraus, specPropagate, type PropagatorFactors, specAverageTrace, specAt, specIsStatic, specProjectDiag, specPhaseWeights, CharCache, type SpecState } from './spectral.ts';
 import type { RunResult, LeafResult, DetectorResult } from './result.ts';
 import { evaluateGeometry, type Track, type FinePath } from './leafgeom.ts';
+import { RfError, phaseSpread, rfMap } from './rf.ts';
 
 export class RunError extends Error {}
 export class CancelledError extends Error {}
@@ -38,6 +39,8 @@ export interface RunOptions {
 }
 
 const MU_B = 9.2740100783e-24; // J/T, CODATA 2018
+/** Above this spread of the yields over the RF entry phases (fraction of the oven flux) a line is told that its result depended on the phase. */
+const RF_PHASE_NOTICE = 1e-6;
 
 /**
  * A state evaluated speed by speed (after a field twist): one density matrix per grid speed, with the
@@ -619,27 +622,37 @@ function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
       return;
     }
     case 'rf': {
-      const bs = e.static;
-      const bsn = vecNorm(bs);
-      if (!(bsn > 0)) throw new RunError(`${e.path}.static: an RF flipper needs a static field > 0 (it sets the rotating frame)`);
-      const ns = vecUnit(bs);
-      const perp = { x: e.axis.x - vecDot(e.axis, ns) * ns.x, y: e.axis.y - vecDot(e.axis, ns) * ns.y, z: e.axis.z - vecDot(e.axis, ns) * ns.z };
-      const pn = vecNorm(perp);
-      if (pn < 1e-9) throw new RunError(`${e.path}.axis: the RF field is parallel to the static field and drives no spin flip`);
-      const ex = vecUnit(perp);
-      const h0 = sys.hamiltonian({ x: 0, y: 0, z: 0 });
-      const zeeman = (u: Vec3, b: number) => cmatScale(cmatCombine([[1, sys.hamiltonian({ x: u.x * b, y: u.y * b, z: u.z * b })], [-1, h0]]), 1);
-      const fs = cmatCombine([[ns.x, sys.F.jx], [ns.y, sys.F.jy], [ns.z, sys.F.jz]]);
-      // sense of the rotating frame: that of the Larmor precession of the upper manifold (g_F > 0: ω along −n̂·F)
-      const gUp = sys.hyperfine ? gF(sys.params, sys.params.i2 + sys.params.j2) : sys.params.gJ;
-      const sigma = gUp >= 0 ? 1 : -1;
-      const omega = 2 * Math.PI * e.frequency;
-      // rotating-wave Hamiltonian in the frame exp(−iσωt F_s): H' = H(B_s) − σω F_s + (B1⊥/2)·Zeeman(x̂')
-      const hRot = cmatCombine([[1, sys.hamiltonian(bs)], [-sigma * omega, fs], [1, zeeman(ex, (e.amplitude * pn) / 2)]]);
-      s = applyLinear(ctx, s, hRot, e.length);
-      s = applyLinear(ctx, s, cmatScale(fs, sigma * omega), e.length);
+      let map;
+      try {
+        map = rfMap(sys, e, e.path);
+      } catch (err) {
+        if (err instanceof RfError) throw new RunError(err.message);
+        throw err;
+      }
       ctx.warnings.add(`${e.path}: RF flipper solved in the rotating-wave approximation (the counter-rotating part and the component along the static field are dropped)`);
-      break;
+      if (map.rotating.length === 1) {
+        s = applyLinear(ctx, applyLinear(ctx, s, map.rotating[0], e.length), map.frame, e.length);
+        break;
+      }
+      // a continuous beam: the subtree once per entry phase, each with weight 1/N (rf.ts)
+      const whole = ctx.fraction;
+      const n = map.rotating.length;
+      const branchYields: number[][] = [];
+      try {
+        ctx.fraction = whole / n;
+        for (const h of map.rotating) {
+          const first = ctx.leaves.length;
+          visit(ctx, e.to, applyLinear(ctx, applyLinear(ctx, s, h, e.length), map.frame, e.length), { ...walk, y: exit });
+          branchYields.push(ctx.leaves.slice(first).map((l) => l.yieldSpin));
+        }
+      } finally {
+        ctx.fraction = whole;
+      }
+      const spread = phaseSpread(branchYields);
+      if (spread === undefined || spread > RF_PHASE_NOTICE) {
+        ctx.warnings.add(`${e.path}: the yields behind this RF flipper depend on the RF phase at which an atom enters${spread === undefined ? '' : ` (by up to ${spread.toPrecision(2)} of the oven flux between entry phases)`}: they are averaged over a uniformly distributed phase, as in a continuous beam; a pulsed beam locked to the RF would differ (give the element a "phase" for that case)`);
+      }
+      return;
     }
     case 'recombiner': {
       const sorting = getSorting(ctx, e);

@@ -62,7 +62,7 @@ export function compare(fx: Fixture, ref: Reference, res: RunResult): { worst: n
 describe('engine vs QuTiP fixtures (test/reference/lines.py)', () => {
   it('finds the fixtures of every line the task asks for', () => {
     const names = fixtures.map((f) => f.name);
-    for (const prefix of ['a-', 'b-', 'c-', 'd-', 'e1-', 'e2-', 'f1-', 'f2-', 'g-', 't-twist-']) {
+    for (const prefix of ['a-', 'b-', 'c-', 'd-', 'e1-', 'e2-', 'f1-', 'f2-', 'g-', 'h1-', 'h2-', 'h3-', 't-twist-']) {
       expect(names.some((n) => n.startsWith(prefix)), prefix).toBe(true);
     }
   });

@@ -238,6 +238,8 @@ def element_doc(e):
     elif k == "rf":
         d.update(static=vec_doc(e["static"]), amplitude=q(e["amplitude"], "T"), frequency=q(e["frequency"], "Hz"),
                  axis=axis_doc(e["axis"]), length=q(e["length"], "m"))
+        if "phase" in e:
+            d["phase"] = q(e["phase"], "rad")
     elif k == "recombiner":
         d.update(axis=axis_doc(e["axis"]), open=list(e["open"]),
                  phases={k2: q(v, "rad") for k2, v in e["phases"].items()}, coherent=e["coherent"])
@@ -450,22 +452,35 @@ def twist_sesolve(s, st, e, v):
 _period_cache = {}
 
 
-def rf_lab_propagator(s, e, v, full=False):
-    """U(T) of the lab-frame H(t) = H(B_s) + cos(w t) Zeeman(B1 axis), T = l/v, RF phase 0 at the entrance.
+def rf_lab_propagator(s, e, v, full=False, phase=0.0, circular=False):
+    """U(T) of the lab-frame H(t) = H(B_s) + cos(w t + phase) Zeeman(B1 axis), T = l/v, the RF at `phase` when the
+    atom enters. circular: only the co-rotating half of the field, (B1_perp/2)(x' cos(w t + phase) + sigma y'
+    sin(w t + phase)) with x' the RF axis across the static field and y' = n_s x x' (the rotating-wave field
+    written in the lab frame, solved as it stands, without the rotating frame).
     full: one sesolve over [0, T]. Otherwise H is periodic (period P = 2 pi/w), so U(nP + r) = U(r) U(P)^n,
     with U(P) and U(r) each from one sesolve (the same ODE, cut into periods)."""
     ax = np.asarray(axis_vec(e["axis"]))
     w = 2 * math.pi * e["frequency"]
     h0 = s.ham(e["static"])
-    h1 = s.zeeman(e["amplitude"] * ax)
-    hq = [h0, [h1, lambda t, a: math.cos(w * t)]]
+    if circular:
+        ns = unit(e["static"])
+        perp = ax - np.dot(ax, ns) * ns
+        b1 = e["amplitude"] * np.linalg.norm(perp)
+        ex = perp / np.linalg.norm(perp)
+        ey = np.cross(ns, ex)
+        sigma = 1.0 if s.upper_g() >= 0 else -1.0
+        hq = [h0, [s.zeeman(0.5 * b1 * ex), lambda t, a: math.cos(w * t + phase)],
+              [s.zeeman(0.5 * b1 * sigma * ey), lambda t, a: math.sin(w * t + phase)]]
+    else:
+        h1 = s.zeeman(e["amplitude"] * ax)
+        hq = [h0, [h1, lambda t, a: math.cos(w * t + phase)]]
     u0 = qutip.qeye(s.dim)
     u0.dims = h0.dims
     T = e["length"] / v
     if full:
         return qutip.sesolve(hq, u0, [0.0, T], [], options=QOPT).states[-1]
     per = 2 * math.pi / w
-    key = (e["id"], e["frequency"], e["amplitude"], tuple(e["static"]))
+    key = (e["id"], e["frequency"], e["amplitude"], tuple(e["static"]), phase, circular)
     if key not in _period_cache:
         _period_cache[key] = qutip.sesolve(hq, u0, [0.0, per], [], options=QOPT).states[-1].full()
     n = int(T // per)
@@ -476,24 +491,57 @@ def rf_lab_propagator(s, e, v, full=False):
     return u
 
 
+def rf_phase_count(s):
+    """Entry phases for the average of a continuous beam: the state after the flipper is a trigonometric
+    polynomial in the phase of degree at most 2 D, D = 2 F_max the spread of the m values along the static field,
+    so the mean over M > 2 D equally spaced phases is its exact average; M = 4 D + 4 keeps a margin."""
+    d = round(2 * max(s.F[2].eigenenergies()))
+    return 4 * d + 4
+
+
+def rf_entry_phases(s, e):
+    """The RF phases the atoms meet at the entrance: the element's phase (a phase-locked, pulsed beam), else
+    rf_phase_count equally spaced over [0, 2 pi) with equal weight (a continuous beam)."""
+    if "phase" in e:
+        return [e["phase"]]
+    m = rf_phase_count(s)
+    return [2 * math.pi * k / m for k in range(m)]
+
+
 def rf_step(s, st, e, mode, v, rf_mode, linear):
-    """RF flipper. 'rwa': rotating-wave solution in the frame exp(-i sigma w t F_s) (design.md);
-    'lab': QuTiP sesolve of H(t) = H(B_s) + cos(w t) Zeeman(B1 axis), the linear polarised lab field."""
+    """RF flipper, averaged over the entry phases (rf_entry_phases).
+    'rwa': rotating-wave solution in the frame exp(-i sigma w t F_s) (design.md), the phase turning the frame by it;
+    'rwa-lab': QuTiP sesolve of the rotating-wave (circular) field written in the lab frame;
+    'lab': QuTiP sesolve of H(t) = H(B_s) + cos(w t + phase) Zeeman(B1 axis), the linear polarised lab field."""
+    phases = rf_entry_phases(s, e)
+    wt = 1.0 / len(phases)
+    if rf_mode in ("lab", "lab-full", "rwa-lab"):
+        assert mode == "speed"
+        out = None
+        for ph in phases:
+            u = rf_lab_propagator(s, e, v, full=rf_mode == "lab-full", phase=ph, circular=rf_mode == "rwa-lab")
+            t = wt * (u * st * u.dag())
+            out = t if out is None else out + t
+        return out
     ns = unit(e["static"])
     ax = np.asarray(axis_vec(e["axis"]))
     w = 2 * math.pi * e["frequency"]
-    if rf_mode in ("lab", "lab-full"):
-        assert mode == "speed"
-        u = rf_lab_propagator(s, e, v, full=rf_mode == "lab-full")
-        return u * st * u.dag()
     perp = ax - np.dot(ax, ns) * ns
     b1 = e["amplitude"] * np.linalg.norm(perp)
     ex = perp / np.linalg.norm(perp)
     sigma = 1.0 if s.upper_g() >= 0 else -1.0
     fs = s.along(s.F, ns)
     hrot = s.ham(e["static"]) - sigma * w * fs + s.zeeman(0.5 * b1 * ex)
-    st = linear(st, hrot, e["length"])
-    return linear(st, sigma * w * fs, e["length"])
+    out = None
+    for ph in phases:
+        r = (-1j * sigma * ph * fs).expm(method="dense")
+        t = linear(linear(st, r * hrot * r.dag(), e["length"]), sigma * w * fs, e["length"])
+        if mode == "speed":
+            t = wt * t
+        else:
+            t = Terms([(wt * x, p) for x, p in t.items])
+        out = t if out is None else out + t
+    return out
 
 
 # ---------------------------------------------------------------- velocity averages
@@ -751,6 +799,7 @@ def fixtures():
         made.append((line, [fixed_line_reference(line, s)]))
     made += precession_lines()
     made += rf_lines()
+    made += rf_phase_lines()
     made += cs_sudden_lines()
     made += twist_lines()
     made += twist_effusive_line()
@@ -855,6 +904,88 @@ def rf_lines():
         f"{grid_err:.1e}, added)",
         {"b1OverB0": b1 / 3e-4, "rwaMinusLab": diff, "diagnostics": {"gridError": grid_err}})
     res.append((line, [rwa_avg, lab_block]))
+    return res
+
+
+def rf_phase_line(name, title, sp, state, state_doc, rf, analyser_ports, v=500.0, phase=None):
+    vel, vdoc = fixed(v)
+    rfe = {"id": "RF1", "kind": "rf", "to": "M1", **rf}
+    if phase is not None:
+        rfe["phase"] = phase
+    return base(name, title, sp, [
+        rfe,
+        {"id": "M1", "kind": "magnet", "gap": 0.05, "axis": ("roll", 1.5707963267948966), "ports": analyser_ports},
+        *[det(d) for d in sorted(set(analyser_ports.values())) if d != "stop"]], vel, vdoc, state=state,
+        state_doc=state_doc, to="RF1")
+
+
+PHASE_REASON = ("the mean over {n} equally spaced entry phases is the exact phase average (the state is a trigonometric "
+                "polynomial of degree <= 2 (2F_max) in the phase); sesolve atol 1e-13 rtol 1e-12 over {periods:.0f} RF periods "
+                "(observed |rwa-lab - rwa frame| = {diff:.1e})")
+
+
+def rf_phase_lines():
+    """A continuous beam meets the RF at every phase. Coherence across the static field (a state polarised along x,
+    with the static field along z) makes the outgoing state depend on the entry phase: the yields are the phase
+    average. References: the rotating-wave field in the lab frame by sesolve, and the full linear field by sesolve,
+    each averaged over the entry phases; diagnostics give the yields' range over the phases."""
+    res = []
+    half = {"spin": "1/2", "g": G_E, "massU": SILVER_U}
+    x_plus = ({"kind": "pure", "axis": n_roll(1.5707963267948966), "m": "+1/2"},
+              {"kind": "pure", "axis": {"roll": q(1.5707963267948966, "rad")}, "m": "+1/2"})
+    rf_half = {"static": (0.0, 0.0, 8e-4), "amplitude": 7e-7, "frequency": 22.4215e6, "axis": ("roll", 1.5707963267948966),
+               "length": 0.02}
+    one = {"spin": "1", "g": 2.002237, "massU": 4.00260325413}
+    tilted_one = ({"kind": "pure", "axis": n_roll(1.0471975511965976), "m": "+1"},
+                  {"kind": "pure", "axis": {"roll": q(1.0471975511965976, "rad")}, "m": "+1"})
+    rf_one = {"static": (0.0, 0.0, 5e-4), "amplitude": 1.2e-6, "frequency": 14.0e6, "axis": ("tp", 1.5707963267948966, 0.6),
+              "length": 0.015}
+    lines = [
+        rf_phase_line("h1-rf-phase-spin-half", "Bench Q: RF flipper on a transversely polarised beam (continuous beam)",
+                      half, *x_plus, rf_half, {"+1/2": "D1", "-1/2": "D2"}),
+        rf_phase_line("h2-rf-phase-spin-one", "Bench Q: metastable triplet beam tilted 60 deg through an RF flipper",
+                      one, *tilted_one, rf_one, {"+1": "D1", "0": "D2", "-1": "D3"}, v=1500.0),
+        rf_phase_line("h3-rf-phase-locked", "Bench Q: the same flipper on a pulsed beam locked to the RF phase",
+                      half, *x_plus, rf_half, {"+1/2": "D1", "-1/2": "D2"}, phase=1.0),
+    ]
+    for line in lines:
+        s = make_system(line)
+        v = line["velocity"]["speed"]
+        rf = line["elements"][0]
+        periods = rf["length"] / v * rf["frequency"]
+        rwa = leaf_yields_speed(line, s, v, "rwa")
+        rwa_lab = leaf_yields_speed(line, s, v, "rwa-lab")
+        lab = leaf_yields_speed(line, s, v, "lab")
+        diff = max(abs(rwa[k] - rwa_lab[k]) for k in rwa)
+        assert diff < 1e-8, (line["name"], diff)
+        n = 1 if "phase" in rf else rf_phase_count(s)
+        spread = {}
+        if "phase" not in rf:
+            for k in range(32):
+                one_phase = dict(line, elements=[dict(rf, phase=2 * math.pi * k / 32)] + line["elements"][1:])
+                y = leaf_yields_speed(one_phase, s, v, "rwa")
+                for key, val in y.items():
+                    if key == ("lost",):
+                        continue
+                    lo, hi = spread.get(" ".join(key[0]) + " -> " + key[1], (1.0, 0.0))
+                    spread[" ".join(key[0]) + " -> " + key[1]] = (min(lo, val), max(hi, val))
+        ratio = rf["amplitude"] / np.linalg.norm(rf["static"])
+        lab_diff = max(abs(lab[k] - rwa_lab[k]) for k in lab)
+        blocks = [
+            result_block(line, rwa_lab, "rwa-lab-sesolve-phase-average",
+                         "QuTiP sesolve of the rotating-wave (circular) RF field written in the lab frame, "
+                         + ("at the element's entry phase" if n == 1 else f"averaged over {n} equally spaced entry phases"),
+                         5e-9, PHASE_REASON.format(n=n, periods=periods, diff=diff),
+                         {"diagnostics": {"rwaFrameMinusLab": diff}}),
+            result_block(line, lab, "lab-frame-sesolve-phase-average",
+                         "QuTiP sesolve of the lab-frame H(t) = H(B0) + cos(w t + phase) Zeeman(B1 axis), "
+                         + ("at the element's entry phase" if n == 1 else f"averaged over {n} equally spaced entry phases"),
+                         ratio / 2 + 5e-9, RWA_REASON.format(ratio=ratio, diff=lab_diff),
+                         {"b1OverB0": ratio, "rwaMinusLab": lab_diff}),
+        ]
+        if spread:
+            blocks[0]["diagnostics"]["yieldRangeOverPhases"] = {k: list(v) for k, v in spread.items()}
+        res.append((line, blocks))
     return res
 
 

@@ -1,11 +1,15 @@
-/** rf: an RF flipper, an oscillating field (`amplitude`, `frequency`, along `axis`) in a `static` field vector over `length`. */
+/**
+ * rf: an RF flipper, an oscillating field (`amplitude`, `frequency`, along `axis`) in a `static` field vector over
+ * `length`. `phase` (optional): the RF phase at an atom's entry, for a pulsed beam locked to the RF; without it
+ * atoms enter at every phase, as in a continuous beam, and the engine averages over it.
+ */
 import type { RfFlipper } from '../types.ts';
 import { type Obj, type ReadCtx, axis, quantity, target, vec } from '../read.ts';
 import type { KindModule } from './kind.ts';
 
 export const rf: KindModule<RfFlipper> = {
   kind: 'rf',
-  keys: ['static', 'amplitude', 'frequency', 'axis', 'length'],
+  keys: ['static', 'amplitude', 'frequency', 'axis', 'length', 'phase'],
   output: 'to',
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
@@ -14,9 +18,11 @@ export const rf: KindModule<RfFlipper> = {
     const frequency = quantity(ctx, o, 'frequency', 'frequency', path, { nonNegative: true, what: 'the frequency' });
     const ax = axis(ctx, o, 'axis', path);
     const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, what: 'the length' });
+    const phase = quantity(ctx, o, 'phase', 'angle', path, { required: false });
     const to = target(ctx, o, 'to', path, 'an RF flipper');
-    return st && amplitude !== undefined && frequency !== undefined && ax && length !== undefined && to
-      ? { static: st, amplitude, frequency, axis: ax, length, to }
+    const phaseOk = o.phase === undefined || phase !== undefined;
+    return st && amplitude !== undefined && frequency !== undefined && ax && length !== undefined && phaseOk && to
+      ? { static: st, amplitude, frequency, axis: ax, length, ...(phase === undefined ? {} : { phase }), to }
       : undefined;
   },
   // 1 mT static field: the free-electron Larmor frequency g μB B / h ≈ 28.0 MHz (CODATA 2018 μB/h, g ≈ 2.0023).
