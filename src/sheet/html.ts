@@ -366,7 +366,7 @@ function ovenBlock(m: SheetModel): string {
   const o = m.oven;
   const rows: [string, string][] = [
     ['state', o.state],
-    ['velocity', `${o.velocity.kind}${o.velocity.parameters.length ? `: ${o.velocity.parameters.map((p) => `${p.name} ${p.value}`).join(', ')}` : ''}`],
+    ['velocity', `${o.velocity.kind}${o.velocity.parameters.length ? `: ${o.velocity.parameters.map((p) => `${p.name} ${p.value}${p.implied ? ` (${p.implied})` : ''}`).join(', ')}` : ''}`],
     ['flux (as written)', o.fluxWritten],
     ['flux (used)', `${sheetNumber(o.flux)} atoms/s`],
   ];

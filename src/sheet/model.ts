@@ -38,7 +38,7 @@ export interface SheetOven {
   /** The initial spin state, in words ("unpolarized", "pure m = +1/2 along roll 0 deg", …). */
   state: string;
   /** Velocity distribution: kind and its parameters as written. */
-  velocity: { kind: string; parameters: { name: string; value: string }[] };
+  velocity: { kind: string; parameters: { name: string; value: string; implied?: string }[] };
   /** Flux as the document wrote it ("5e8 /s", or the reservoir temperature of a vapour estimate). */
   fluxWritten: string;
   /** Flux the run used, atoms/s. */
@@ -184,9 +184,13 @@ function stateText(s: OvenStateDoc): string {
 
 function velocityOf(v: VelocityDoc): SheetOven['velocity'] {
   if (v.kind === 'table') {
-    return { kind: 'table', parameters: [{ name: 'points', value: v.points.map(([s, w]) => `${q(s)}: ${q(w)}`).join(', ') }] };
+    return { kind: 'table', parameters: [{ name: 'points', value: v.points.map(([s, w]) => `${q(s)}: ${q(w)}`).join(', '), implied: 'speed: relative weight' }] };
   }
-  const parameters = Object.entries(v).filter(([k]) => k !== 'kind').map(([name, x]) => ({ name, value: writtenValue(x) }));
+  const parameters = Object.entries(v).filter(([k]) => k !== 'kind').map(([name, x]) => {
+    const p: SheetOven['velocity']['parameters'][number] = { name, value: writtenValue(x) };
+    if (name === 'ratio' && isPlainNumber(x)) p.implied = 'speed ratio, no unit';
+    return p;
+  });
   return { kind: v.kind, parameters };
 }
 
@@ -253,6 +257,11 @@ const IMPLIED: Readonly<Record<string, Readonly<Record<string, string>>>> = {
 
 const plain = (x: number) => String(Number(x.toPrecision(6)));
 
+/** A JSON number or a string of a number alone: a value whose unit is implied (a string with a unit says its own). */
+function isPlainNumber(v: unknown): boolean {
+  return typeof v === 'number' || (typeof v === 'string' && /^\s*[-+]?(\d+\.?\d*|\.\d+)(e[-+]?\d+)?\s*$/i.test(v));
+}
+
 /** A detector's keys the run fills in when the document leaves them out (src/beamline/elements/detector.ts). */
 function detectorDefaults(e: ElementDoc, d: Detector | undefined): SheetSetPoint[] {
   if (!d) return [];
@@ -267,8 +276,7 @@ function detectorDefaults(e: ElementDoc, d: Detector | undefined): SheetSetPoint
 function setPointOf(kind: string, name: string, v: unknown): SheetSetPoint {
   const sp: SheetSetPoint = { name, value: writtenValue(v) };
   const implied = IMPLIED[kind]?.[name];
-  // a string with a unit ("95 %") says its own; a plain number gets its implied unit said
-  if (implied && (typeof v === 'number' || (typeof v === 'string' && /^\s*[-+]?[\d.]+(e[-+]?\d+)?\s*$/i.test(v)))) sp.implied = implied;
+  if (implied && isPlainNumber(v)) sp.implied = implied;
   return sp;
 }
 

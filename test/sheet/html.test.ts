@@ -375,3 +375,11 @@ describe('sideViewSvg: many sub-beams', () => {
     expect(svg).toContain('(long dash): port -3/2 of M1 → R4');
   });
 });
+
+describe('sheetHtml: the oven', () => {
+  it('says the unit a plain number of the oven implies (samples/bench-e)', () => {
+    const r = runSample('bench-e-metastable-helium-spin1');
+    expect(table(sheetHtml(buildSheet(r.doc, r.line, r.result)), 'oven'))
+      .toContain('<td class="val">supersonic: speed 1200 m/s, ratio 20 (speed ratio, no unit)</td>');
+  });
+});

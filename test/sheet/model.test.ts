@@ -289,3 +289,20 @@ describe('buildSheet: sign-off lines per caution area', () => {
     expect(buildSheet(rr.doc, rr.line, rr.result).signOff.some((s) => s.startsWith('High voltage'))).toBe(true);
   });
 });
+
+describe('buildSheet: plain numbers of the oven', () => {
+  it('a supersonic speed ratio, written as a plain number, is said to be a ratio without unit; the speed keeps its unit', () => {
+    const r = runSample('bench-e-metastable-helium-spin1');
+    expect(buildSheet(r.doc, r.line, r.result).oven.velocity).toEqual({
+      kind: 'supersonic',
+      parameters: [{ name: 'speed', value: '1200 m/s' }, { name: 'ratio', value: '20', implied: 'speed ratio, no unit' }],
+    });
+  });
+
+  it('a velocity table says its points are speed: relative weight', () => {
+    const doc = JSON.parse(DESIGN_V1);
+    doc.oven.velocity = { kind: 'table', points: [['500 m/s', 1], ['600 m/s', 2]] };
+    const r = runText(JSON.stringify(doc));
+    expect(buildSheet(r.doc, r.line, r.result).oven.velocity.parameters).toEqual([{ name: 'points', value: '500 m/s: 1, 600 m/s: 2', implied: 'speed: relative weight' }]);
+  });
+});
