@@ -57,7 +57,7 @@ export async function benchUi(): Promise<string> {
   const dir = SAMPLES_DIR;
   const names = readdirSync(dir).filter((n) => n.endsWith('.spinyard')).sort();
   const app = await openApp();
-  const lines: string[] = ['ui: edit → updated ports table and counts chart, Chromium headless, median of 20 edits per sample'];
+  const lines: string[] = [`ui: edit → updated ports table and counts chart, median of 20 edits per sample, in the ${app.browser}`];
   try {
     const { page } = app;
     const list: { label: string; doc: { elements: { id: string; kind: string }[] }; open: () => Promise<void> }[] = names.map((name) => ({

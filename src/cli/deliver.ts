@@ -20,9 +20,12 @@ export async function deliver(out: CliOutput, opts: DeliverOptions = {}): Promis
   const f = out.file;
   if (!f || out.code !== 0) return out;
   let bytes: string | Uint8Array = f.html;
+  let printedBy = '';
   if (f.format === 'pdf') {
     try {
-      bytes = await printPdf(f.html, opts.find);
+      const printed = await printPdf(f.html, opts.find);
+      bytes = printed.pdf;
+      printedBy = `, printed by the ${printed.browser.description}`;
     } catch (e) {
       if (e instanceof BrowserMissingError) return { code: 2, stdout: '', stderr: `spinyard sheet: ${e.message}\n` };
       if (e instanceof PrintError) return { code: 1, stdout: '', stderr: `spinyard sheet: ${e.message}\n` };
@@ -34,5 +37,5 @@ export async function deliver(out: CliOutput, opts: DeliverOptions = {}): Promis
   } catch (e) {
     return { code: 1, stdout: '', stderr: `spinyard sheet: ${writeFailure(f.path, e)}\n` };
   }
-  return { code: 0, stdout: `${f.path}: setup sheet of ${f.input} (${f.format === 'pdf' ? 'PDF' : 'HTML'})\n`, stderr: out.stderr };
+  return { code: 0, stdout: `${f.path}: setup sheet of ${f.input} (${f.format === 'pdf' ? `PDF${printedBy}` : 'HTML'})\n`, stderr: out.stderr };
 }

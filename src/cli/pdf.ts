@@ -28,8 +28,8 @@ function firstLine(e: unknown): string {
   return m.split('\n').map((l) => l.trim()).find((l) => l !== '') ?? 'unknown error';
 }
 
-/** The PDF of `html` (already carrying its paper). Throws BrowserMissingError or PrintError with one line. */
-export async function printPdf(html: string, find: () => Promise<FoundBrowser> = findBrowser): Promise<Uint8Array> {
+/** The PDF of `html` (already carrying its paper) and the browser that printed it. Throws BrowserMissingError or PrintError with one line. */
+export async function printPdf(html: string, find: () => Promise<FoundBrowser> = findBrowser): Promise<{ pdf: Uint8Array; browser: FoundBrowser }> {
   const found = await find();
   let pw: typeof import('playwright-core');
   try {
@@ -45,7 +45,7 @@ export async function printPdf(html: string, find: () => Promise<FoundBrowser> =
     const page = await context.newPage();
     await page.setContent(html, { waitUntil: 'load', timeout: 60_000 });
     const pdf = await page.pdf({ printBackground: true, preferCSSPageSize: true });
-    return new Uint8Array(pdf);
+    return { pdf: new Uint8Array(pdf), browser: found };
   } catch (e) {
     throw new PrintError(`cannot print the PDF with the ${found.description}: ${firstLine(e)}`);
   } finally {

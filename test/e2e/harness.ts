@@ -63,6 +63,8 @@ export async function ensureBuild(): Promise<void> {
 
 export interface App {
   url: string;
+  /** Which browser drives the page (find-browser.ts). */
+  browser: string;
   context: BrowserContext;
   page: Page;
   /** Every URL the page requested (including aborted ones). */
@@ -146,7 +148,7 @@ export async function openApp(opts: { colorScheme?: 'light' | 'dark'; initScript
   await page.goto(url);
   await page.waitForSelector('table.ports tbody tr', { timeout: 60_000 });
   return {
-    url, context, page, requests, refused, errors,
+    url, browser: browser.description, context, page, requests, refused, errors,
     async close() {
       await context.close().catch(() => {});
       proc.kill();
