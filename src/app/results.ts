@@ -1,28 +1,10 @@
 // The renderer's reading of result format v1 (design.md, "Result format v1"): the ports table rows,
 // counting times and the CSV export. Pure functions of a result and the normalized line.
 
-import type { RunResult } from './core-adapter.ts';
+import { type RunResult, timeToPrecision } from './core-adapter.ts';
 
 /** The engine's result (result format v1 with its additions), read through the core adapter. */
 export type RunResultView = RunResult;
-
-/**
- * Counting time to relative precision ε for a Poisson count N = R·t: σ_N/N = 1/√N = ε gives
- * t = 1/(R ε²), with R the detector's total rate (signal plus background). Infinity when R ≤ 0.
- */
-export function timeToPrecision(rate: number, eps: number): number {
-  if (!(rate > 0) || !(eps > 0)) return Infinity;
-  return 1 / (rate * eps * eps);
-}
-
-/**
- * Counting time to measure a detector's signal S to relative precision ε over a known background B:
- * σ_S/S = √((S+B)t)/(S t) = ε gives t = (S + B)/(S² ε²). Infinity when S ≤ 0.
- */
-export function signalTimeToPrecision(signal: number, background: number, eps: number): number {
-  if (!(signal > 0) || !(eps > 0)) return Infinity;
-  return (signal + Math.max(background, 0)) / (signal * signal * eps * eps);
-}
 
 /** The dwell time (s) of each detector of the line, by id. */
 export function dwellById(elements: readonly { id: string; kind: string; dwell?: number }[]): Map<string, number> {
@@ -41,7 +23,7 @@ export interface PortRow {
   /** Signal counts of this leaf in its detector's dwell, N = rate·dwell, and σ = √N; undefined at a stop. */
   counts?: number;
   sigma?: number;
-  /** The detector's total rate (all its leaves plus background) and the time to ε on it. */
+  /** The detector's total rate (all its leaves plus background) and the time to ε on its signal (src/engine/counting.ts). */
   detectorRate?: number;
   time?: number;
   captured?: number;
@@ -60,7 +42,7 @@ export function portRows(result: RunResultView, dwell: ReadonlyMap<string, numbe
     }
     if (d) {
       row.detectorRate = d.rate;
-      row.time = timeToPrecision(d.rate, eps);
+      row.time = timeToPrecision(d.signal, d.background, eps);
     }
     if (l.captured !== undefined) row.captured = l.captured;
     return row;

@@ -4,3 +4,4 @@ export type * from './result.ts';
 export { levelsListing, formatLevelsTable } from './levels.ts';
 export { runDocumentText, type DocumentRun } from './document.ts';
 export { runScan, withParameter, type ScanSpec } from './scan.ts';
+export { countsIn, countSigma, signalToBackground, timeToPrecision } from './counting.ts';

@@ -17,6 +17,7 @@ import {
 } from './geometry.ts';
 import type { LeafResult, DetectorResult, NeighbourVerdict, CrosstalkEntry } from './result.ts';
 import { specTraceAt, specTraceMoment, type SpecState } from './spectral.ts';
+import { countSigma, countsIn, signalToBackground, timeToPrecision } from './counting.ts';
 
 export interface Kick {
   readonly exitY: number;
@@ -507,10 +508,11 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
   }
   for (const d of detectors) {
     d.rate = d.signal + d.background;
-    d.counts = d.rate * d.dwell;
-    d.sigma = Math.sqrt(d.counts);
-    d.signalToBackground = d.background > 0 ? d.signal / d.background : (d.signal > 0 ? Number.MAX_VALUE : 0);
-    d.timeToPrecision = { epsilon, seconds: d.signal > 0 ? (d.signal + d.background) / (d.signal * d.signal * epsilon * epsilon) : Number.MAX_VALUE };
+    d.counts = countsIn(d.rate, d.dwell);
+    d.sigma = countSigma(d.counts);
+    // result format v1 carries the largest double where a ratio or a time is unbounded (JSON has no Infinity)
+    d.signalToBackground = Math.min(signalToBackground(d.signal, d.background), Number.MAX_VALUE);
+    d.timeToPrecision = { epsilon, seconds: Math.min(timeToPrecision(d.signal, d.background, epsilon), Number.MAX_VALUE) };
     if (geometry) {
       const det = accOf.find((a) => a.detector?.id === d.id)!.detector!;
       if (det.window) d.crosstalk = crosstalkFor(det, d.plane ?? 0, leaves, accOf, flux);

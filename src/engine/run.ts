@@ -12,6 +12,7 @@ import { type CMat, cmatZeros, cmatCombine, cmatSandwichParts, cmatMulInto, cmat
 import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
 import { rotationOperator, vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
+import { BOHR_MAGNETON } from '../physics/constants.ts';
 import { densityUnpolarized } from '../physics/density.ts';
 import { zeroFieldStates, zeemanEigen } from '../physics/hyperfine.ts';
 import {
@@ -38,7 +39,6 @@ export interface RunOptions {
   light?: boolean;
 }
 
-const MU_B = 9.2740100783e-24; // J/T, CODATA 2018
 /** Above this spread of the yields over the RF entry phases (fraction of the oven flux) a line is told that its result depended on the phase. */
 const RF_PHASE_NOTICE = 1e-6;
 
@@ -574,7 +574,7 @@ function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
         // every state its own sub-beam: each has its own moment, so its own deflection
         for (const c of sorting.components) {
           const to = routeOf(e, c);
-          const kick = deflects ? [{ exitY: exit, length: e.length!, accel: (c.moment * MU_B * e.gradient!) / sys.massKg, n: e.axis }] : [];
+          const kick = deflects ? [{ exitY: exit, length: e.length!, accel: (c.moment * BOHR_MAGNETON * e.gradient!) / sys.massKg, n: e.axis }] : [];
           const w = fork(walk, {
             path: [...walk.path, `${e.id}:${c.port}`],
             y: exit,

@@ -21,12 +21,12 @@
  *   Bare spin (i2 = 0): lowField is the m label "+1/2", highField "mJ=+1/2".
  */
 import { type CMat, cmatZeros, cmatMul, cmatCombine, cmatKron, cmatIdentity, cmatAdd, zeroedF64, cmatOwn } from './cmat.ts';
+import { MU_B_OVER_H } from './constants.ts';
 import { eigh } from './eigh.ts';
 import { compositeSpin, spinOperators, spinSquared, formatHalfInteger, assertJ2 } from './spin.ts';
 import { rotationToAxis, vecNorm, type Vec3 } from './rotation.ts';
 
-/** μB/h in Hz/T, CODATA 2018: 1.399 624 493 61(42)e10 Hz/T. */
-export const MU_B_OVER_H = 1.39962449361e10;
+export { MU_B_OVER_H };
 
 export interface HyperfineParams {
   /** 2I */

@@ -22,6 +22,7 @@
  *   |χ| ≲ exp(−(Φα/u²)²/4) beyond which the term is zero to double precision.
  * - fixed and table: the exact finite sums.
  */
+import { BOLTZMANN } from './constants.ts';
 import { integrateAdaptive, compositeRule } from './quadrature.ts';
 import { reduceAngle } from './trig.ts';
 import { chebFit, chebEval, type ChebPanel } from './chebyshev.ts';
@@ -32,8 +33,7 @@ export type VelocityDistribution =
   | { readonly kind: 'supersonic'; readonly u: number; readonly alpha: number }
   | { readonly kind: 'table'; readonly speeds: Float64Array; readonly weights: Float64Array };
 
-/** Boltzmann constant, J/K (SI, exact since 2019; CODATA 2018). */
-export const BOLTZMANN = 1.380649e-23;
+export { BOLTZMANN };
 
 /** Effusive (flux-weighted) beam of temperature T and atomic mass M: a = √(2kT/M). */
 export function effusiveDistribution(temperature: number, massKg: number): VelocityDistribution {

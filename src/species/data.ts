@@ -8,10 +8,10 @@
  * No species here has a known quadrupole constant B that applies: every alkali and Ag/Cu ground state has
  * J = ½ (no quadrupole term), He-4* has I = 0 and He-3* has I = ½.
  */
+import { ATOMIC_MASS_KG } from '../physics/constants.ts';
 import type { AtomSpecies, Cited, Mixture, VaporPressure } from './types.ts';
 
-/** Atomic mass constant m_u, kg (CODATA 2018). */
-export const ATOMIC_MASS_KG = 1.66053906660e-27;
+export { ATOMIC_MASS_KG };
 
 // ------------------------------------------------------------------ sources
 const STECK85 = 'D. A. Steck, "Rubidium 85 D Line Data", rev. 2.2.3 (2021), Tables 1, 2, 5, 6';

@@ -3,6 +3,7 @@
  * effusive oven flux, and the text panel of `spinyard species [NAME]`.
  */
 import { type HyperfineParams, hyperfineSplittingHz } from '../physics/hyperfine.ts';
+import { BOLTZMANN } from '../physics/constants.ts';
 import { formatHalfInteger } from '../physics/spin.ts';
 import type { AtomSpecies, BareSpin, Cited, Mixture, Species, VaporBranch, VaporPressure } from './types.ts';
 import { ALIASES, ATOMIC_MASS_KG, ISOTOPES, LINE_CAUTIONS, MIXTURES } from './data.ts';
@@ -10,8 +11,7 @@ import { ALIASES, ATOMIC_MASS_KG, ISOTOPES, LINE_CAUTIONS, MIXTURES } from './da
 export type * from './types.ts';
 export { ATOMIC_MASS_KG, ISOTOPES, LINE_CAUTIONS, MIXTURES, ALIASES, VAPOR } from './data.ts';
 
-/** Boltzmann constant, J/K (SI, exact). */
-export const BOLTZMANN = 1.380649e-23;
+export { BOLTZMANN };
 
 /**
  * The library species of that name (case-sensitive): isotopes "H", "D", "Li-6" … "Cs-133", "Ag-107",

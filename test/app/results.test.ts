@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { csvField, dwellById, portRows, portRowsCsv, signalTimeToPrecision, timeToPrecision, toCsv, warningsByElement, type RunResultView } from '../../src/app/results.ts';
+import { csvField, dwellById, portRows, portRowsCsv, toCsv, warningsByElement, type RunResultView } from '../../src/app/results.ts';
 
 // A hand-made result in result format v1 (design.md), not an engine run: the table logic is under test.
 // A detector with 3 /s background and a 10 s dwell.
@@ -22,22 +22,16 @@ const result: RunResultView = {
   warnings: ['elements[1].axis: an axis along the beam is an idealisation', 'oven.velocity: one speed'],
 };
 
-describe('timeToPrecision', () => {
-  it('is 1/(R ε²): 100 /s to 1 % takes 100 s (σ/N = 1/√N, N = R t)', () => {
-    expect(timeToPrecision(100, 0.01)).toBeCloseTo(100, 10);
-    expect(timeToPrecision(1e4, 0.001)).toBeCloseTo(100, 8);
-    expect(timeToPrecision(0, 0.01)).toBe(Infinity);
-  });
-});
-
 describe('portRows', () => {
-  it('gives each leaf its counts in its detector dwell with σ = √N and the time on the detector total rate', () => {
+  it('gives each leaf its counts in its detector dwell with σ = √N and its detector\'s time to ε on the signal, as the detector table', () => {
     const dwell = dwellById([{ id: 'D1', kind: 'detector', dwell: 10 }, { id: 'D2', kind: 'detector', dwell: 10 }, { id: 'M1', kind: 'magnet' }]);
     const rows = portRows(result, dwell, 0.01);
     expect(rows[0].path).toBe('M1:+1/2 → M2:+1/2');
     expect(rows[0].counts).toBeCloseTo(6.75e9, 0);
     expect(rows[0].sigma).toBeCloseTo(Math.sqrt(6.75e9), 6);
-    expect(rows[0].time).toBeCloseTo(1 / ((6.75e8 + 3) * 1e-4), 12);
+    // the same number as the detector's own time to precision: (S + B)/(S² ε²)
+    expect(rows[0].time).toBe(result.detectors[0].timeToPrecision.seconds);
+    expect(rows[0].time).toBeCloseTo((6.75e8 + 3) / (6.75e8 ** 2 * 1e-4), 20);
     expect(rows[2].counts).toBeUndefined();
     expect(rows[2].time).toBeUndefined();
   });
@@ -71,13 +65,5 @@ describe('warningsByElement', () => {
     expect(m.get('M2')).toEqual([result.warnings[0]]);
     expect(m.get('oven')).toEqual([result.warnings[1]]);
     expect(m.get('line')).toEqual(['something general']);
-  });
-});
-
-describe('signalTimeToPrecision', () => {
-  it('is (S + B)/(S² ε²): S = 100 /s over B = 300 /s to 1 % takes 400 s', () => {
-    expect(signalTimeToPrecision(100, 300, 0.01)).toBeCloseTo(400, 9);
-    expect(signalTimeToPrecision(100, 0, 0.01)).toBeCloseTo(timeToPrecision(100, 0.01), 9);
-    expect(signalTimeToPrecision(0, 3, 0.01)).toBe(Infinity);
   });
 });

@@ -1,7 +1,8 @@
 // Results, live: the ports table, detectors, warnings and the plots of the latest engine run.
 import { useId, useMemo } from 'react';
 import type { Beamline } from '../core-adapter.ts';
-import { dwellById, portRows, signalTimeToPrecision, type RunResultView } from '../results.ts';
+import { timeToPrecision } from '../core-adapter.ts';
+import { dwellById, portRows, type RunResultView } from '../results.ts';
 import { fmt, fmtTime } from '../format.ts';
 import { Plot } from './Plot.tsx';
 import { LEAF_COLORS } from './Schematic.tsx';
@@ -209,7 +210,7 @@ export function Results(p: Props) {
                   <td>{d.id}</td><td className="num">{fmt(d.yield, 6)}</td><td className="num">{fmt(d.rate)}</td>
                   <td className="num">{fmt(d.counts)} ± {fmt(d.sigma, 3)}</td><td className="num">{fmt(d.background)}</td>
                   <td className="num">{d.background === 0 && d.signal > 0 ? '∞ (no background)' : fmt(d.signalToBackground, 3)}</td>
-                  <td className="num">{eps !== undefined ? fmtTime(signalTimeToPrecision(d.signal, d.background, eps)) : '—'}</td>
+                  <td className="num">{eps !== undefined ? fmtTime(timeToPrecision(d.signal, d.background, eps)) : '—'}</td>
                 </tr>
               ))}
             </tbody>
