@@ -53,7 +53,9 @@ export function checkBeamline(json: unknown, resolver: SpeciesResolver, migratio
   if (problems.length || !sp || !oven || !elements || !ambient) {
     return fail(problems.length ? problems : [{ path: '', message: 'the beamline could not be read' }]);
   }
-  const line: Beamline = { title, species: sp.ref, oven, ambient, elements };
+  // the normalized line is frozen: the engine keeps what it derives from it by identity, so a line changed in
+  // place would read stale results; a change makes a new line (edits, scans), and assigning into one throws
+  const line: Beamline = deepFreeze({ title, species: sp.ref, oven, ambient, elements });
   return { ok: true, doc: doc as unknown as BeamlineDoc, line, warnings };
 }
 
@@ -164,4 +166,13 @@ function checkRouting(ctx: ReadCtx, ovenTo: string, elements: readonly Element[]
   };
   walk(ovenTo);
   for (const el of elements) if (!seen.has(el.id)) warn(ctx, el.path, `${el.id} is not reached from the oven`);
+}
+
+/** Freezes `o` and every object and array inside it (the normalized line holds plain data only). */
+export function deepFreeze<T>(o: T): T {
+  if (o !== null && typeof o === 'object' && !Object.isFrozen(o)) {
+    Object.freeze(o);
+    for (const v of Object.values(o as Record<string, unknown>)) deepFreeze(v);
+  }
+  return o;
 }
