@@ -13,6 +13,22 @@ import { BROWSER_ARGS, findBrowser } from '../src/cli/find-browser.ts';
 import { ROOT, ensureBuild, serve } from '../test/e2e/harness.ts';
 
 const RUNS = 10;
+
+/**
+ * In the page from its first script on: on every animation frame, the time since navigation started at which the
+ * first result (the ports table of a fresh run) and then the counts chart of that run were on screen.
+ */
+const PROBE = `(() => {
+  const w = window;
+  const tick = () => {
+    const r = document.querySelector('section.results[data-stale="false"]');
+    if (w.__first === undefined && r && r.querySelector('table.ports tbody tr')) w.__first = performance.now();
+    const c = document.querySelector('[data-chart="counts"]');
+    if (w.__first !== undefined && w.__chart === undefined && r && c && c.dataset.seq === r.dataset.seq) w.__chart = performance.now();
+    if (w.__chart === undefined) requestAnimationFrame(tick);
+  };
+  requestAnimationFrame(tick);
+})();`;
 const SAMPLE = 'samples/bench-c-roll-calibration.spinyard';
 
 function median(xs: number[]): number {
@@ -46,17 +62,28 @@ async function app(): Promise<string[]> {
   const chunks = readdirSync(assets).filter((n) => n.endsWith('.js')).map((n) => ({ n, kb: statSync(join(assets, n)).size / 1024 })).sort((a, b) => b.kb - a.kb);
   const { url, proc } = await serve();
   const times: number[] = [];
+  const charts: number[] = [];
   try {
     for (let i = 0; i <= RUNS; i++) {
       // a new browser process each time: no compiled-code or HTTP cache from an earlier load
       const b = await chromium.launch({ executablePath: browser.executablePath, args: [...BROWSER_ARGS], headless: true });
       try {
-        const page = await (await b.newContext({ serviceWorkers: 'block' })).newPage();
-        const t0 = performance.now();
+        const context = await b.newContext({ serviceWorkers: 'block' });
+        // timed in the page, by the frame that paints it: from Node, a busy page (plotly arriving right after the
+        // first result) delays what waitForSelector sees
+        await context.addInitScript(PROBE);
+        const page = await context.newPage();
         await page.goto(url);
-        await page.waitForSelector('table.ports tbody tr', { timeout: 60_000 });
-        const ms = performance.now() - t0;
-        if (i > 0) times.push(ms); // the first load also warms the server's file cache
+        // polled with evaluate (a string evaluated over the protocol, which the page's CSP allows; waitForFunction is not)
+        let t: [number | null, number | null] = [null, null];
+        for (const t0 = Date.now(); t[1] === null; await new Promise((r) => setTimeout(r, 50))) {
+          if (Date.now() - t0 > 60_000) throw new Error('the app showed no result within 60 s');
+          t = (await page.evaluate('[window.__first ?? null, window.__chart ?? null]')) as [number | null, number | null];
+        }
+        if (i > 0) { // the first load also warms the server's file cache
+          times.push(t[0]!);
+          charts.push(t[1]);
+        }
       } finally {
         await b.close();
       }
@@ -66,6 +93,7 @@ async function app(): Promise<string[]> {
   }
   return [
     `  app, navigation to the first result in a new browser process (${browser.description}): ${range(times)}; target < 1.500 s: ${median(times) < 1500 ? 'met' : 'NOT MET'}`,
+    `  app, navigation to the counts chart drawn: ${range(charts)}`,
     `  renderer chunks: ${chunks.slice(0, 4).map((c) => `${c.n} ${c.kb.toFixed(0)} KB`).join(', ')}`,
   ];
 }

@@ -163,7 +163,7 @@ describe('bench-g-silver-split: natural silver, effusive, at the magnet exit', (
     expect(result.detectors[0].neighbours?.[0].verdict).toBe('resolved');
   });
 
-  it('mean displacement = μ_eff G L(L/2 + D)/(2kT) to 1 % (design.md deflection with Ramsey, Molecular Beams, ⟨1/v²⟩ = M/(2kT): reference-data.md §5)', () => {
+  it('mean displacement = μ_eff G L(L/2 + D)/(2kT) to 1 % (docs/design.md deflection with Ramsey, Molecular Beams, ⟨1/v²⟩ = M/(2kT): reference-data.md §5)', () => {
     const { doc, result } = load('bench-g-silver-split.spinyard');
     const m = el(doc, 'M1');
     const G = q(m.gradient, 'gradient'), L = q(m.length, 'length'), D = q(el(doc, 'DU').gap, 'length');

@@ -99,7 +99,7 @@ function labelSpecies(line: Beamline): LabelSpecies | undefined {
   return sp.kind === 'atom' || sp.kind === 'mixture' ? (sp as unknown as LabelSpecies) : undefined;
 }
 
-/** Port labels of a magnet of this line's species (design.md, Conventions: port labels). */
+/** Port labels of a magnet of this line's species (docs/design.md, "Port labels"). */
 export function magnetPortLabels(line: Beamline, group?: 'mJ' | 'each'): string[] {
   const sp = labelSpecies(line);
   return sp ? portLabels(sp, group) : [];

@@ -1,4 +1,4 @@
-// The line a new document starts from: the two-magnet line of design.md "Document format v1" (a
+// The line a new document starts from: the two-magnet line of docs/design.md "Reference documents" (a
 // silver-like bare spin 1/2 at a fixed 600 m/s, a filter magnet, an analyser rolled by 60°, two
 // detectors) with this bench's own title and the beam keys a drawing needs: gaps, 5 cm magnets at
 // 250 T/m, pole gaps, and detector windows centred where the engine puts the two sub-beams at the

@@ -29,7 +29,7 @@ export function targetsOf(e: Element): string[] {
 
 /**
  * Positions along the beam: an element's entrance is its predecessor's exit plus its own `gap`
- * (design.md: "gap: distance from the previous element's exit (or the oven aperture)"). Where several
+ * (docs/design.md, "Axes and angles": the gap runs from the previous exit, or the oven's orifice). Where several
  * paths reach one element (a shared detector), the farthest entrance is taken. Elements the oven does
  * not reach are left out.
  */

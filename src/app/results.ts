@@ -1,4 +1,4 @@
-// The renderer's reading of result format v1 (design.md, "Result format v1"): the ports table rows,
+// The renderer's reading of result format v1 (docs/design.md, "Result format v1"): the ports table rows,
 // counting times and the CSV export. Pure functions of a result and the normalized line.
 
 import { type RunResult, timeToPrecision } from './core-adapter.ts';

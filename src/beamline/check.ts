@@ -1,5 +1,5 @@
 /**
- * Validation of a whole document against format v1 and the beam keys of design.md, with the species
+ * Validation of a whole document against format v1 and the beam keys of docs/design.md, with the species
  * library passed in (validate.ts supplies src/species). Every problem is reported at once, each with its
  * JSON path: header, unknown keys (and keys that do not apply to the species), quantities and their
  * dimensions and bounds, ids, routing (dangling targets, unrouted ports, cycles), and the leaves.

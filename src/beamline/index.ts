@@ -1,4 +1,4 @@
-/** The document layer: format v1 and the beam keys of design.md (types, units, reading, writing, edits). */
+/** The document layer: format v1 and the beam keys of docs/design.md (types, units, reading, writing, edits). */
 export type * from './types.ts';
 export { math, parseQuantity, dimensionName, isProblem, ATOMIC_MASS_UNIT_KG, type Dimension } from './units.ts';
 export { portLabels, stateLabels, defaultGroup, isHyperfine, bareLabels, fLabel, mText, fText, type LabelSpecies, type Group } from './labels.ts';

@@ -1,5 +1,5 @@
 /**
- * Port and state labels of a species (design.md, Conventions: port labels).
+ * Port and state labels of a species (docs/design.md, "Port labels").
  * - No hyperfine structure (a bare spin, or an atom with I = 0): |j, m⟩, m from +j to −j, written
  *   "+1/2", "-1/2" / "+1", "0", "-1".
  * - Hyperfine species, group "each": every zero-field |F, m_F⟩, F = I+J down to |I−J|, m_F from +F to −F,
@@ -66,7 +66,7 @@ function fLabelsOf(i2: number, j2: number): { f2: number; m2: number }[] {
   return out;
 }
 
-/** Default group of design.md: "mJ" where J = 1/2, else "each" (all isotopes of a mixture share J). */
+/** Default group of docs/design.md: "mJ" where J = 1/2, else "each" (all isotopes of a mixture share J). */
 export function defaultGroup(species: LabelSpecies): Group {
   return spinParts(species).every((p) => p.j2 === 1) ? 'mJ' : 'each';
 }

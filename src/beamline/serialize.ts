@@ -1,7 +1,7 @@
 /**
  * Writing a document: pretty-printed JSON (2 spaces), keys in a stable order so a diff reads well
  * (format, version, title, species, ambient, oven, elements; in an element id, kind, gap, then its
- * kind's keys in design.md order, then to/ports), short lists of plain values such as a velocity
+ * kind's keys in docs/design.md order, then to/ports), short lists of plain values such as a velocity
  * table's [speed, weight] pairs on one line each, and a newline at the end. Keys the order does not
  * know keep their place after the known ones; labels in ports, phases and populations keep the order
  * the user wrote.

@@ -1,6 +1,6 @@
 /**
  * The beamline document in two forms.
- * - BeamlineDoc: the JSON as written (design.md "Document format v1" + "Beam keys"), quantities as strings.
+ * - BeamlineDoc: the JSON as written (docs/design.md "Document format v1" + "Keys by element kind"), quantities as strings.
  * - Beamline: the normalized model the engine consumes, all numbers SI
  *   (m, s, T, T/m, rad, K, Hz, kg, 1/s), defaults filled in. `path` is the JSON path in the document.
  * Lab frame: beam along +y, z up. Axis n̂(θ, φ) = (sinθ cosφ, sinθ sinφ, cosθ); roll α: n̂ = (sin α, 0, cos α).

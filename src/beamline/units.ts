@@ -21,7 +21,7 @@ declare module 'mathjs' {
 }
 
 /**
- * The project's mathjs instance (design.md, Document format v1), made of only what a quantity needs: the
+ * The project's mathjs instance (docs/design.md, "Document format v1"), made of only what a quantity needs: the
  * parser and units, the operators of OPERATORS, the functions of FUNCTIONS and the constants pi, e, tau,
  * Infinity and NaN (Infinity and NaN so that "Infinity m" is refused as non-finite, not as unknown). A bundle
  * keeps these factories and drops the rest of mathjs (the app's worker and main chunk, the command line).
@@ -110,7 +110,7 @@ export function evaluateQuantity(text: string): { value: unknown } | { error: st
   const hit = cache.get(text);
   if (hit) return hit;
   let src = text.trim();
-  // "/s" alone reads as "1/s" (design.md writes rates "3 /s"; mathjs needs a value before "/").
+  // "/s" alone reads as "1/s" (docs/design.md writes rates "3 /s"; mathjs needs a value before "/").
   if (src.startsWith('/')) src = `1 ${src}`;
   let out: { value: unknown } | { error: string };
   try {

@@ -6,7 +6,7 @@
  * transverse axis (x and z are independent for rectangular apertures). At a plane y its offset is
  *   x(y) = p (1 − y/y_s) + q y/y_s + δ(y, v),
  * which gives the familiar trapezoid (umbra and penumbra) at any plane. Without a slit the beam is the
- * aperture carried parallel. The deflection of magnet k (design.md): a_k L_k (L_k/2 + D)/v² along n̂_k,
+ * aperture carried parallel. The deflection of magnet k (docs/design.md): a_k L_k (L_k/2 + D)/v² along n̂_k,
  * a_k = μ_eff,k G_k/M, D the distance past its exit; deflections of successive magnets add as vectors.
  * Clipping by a later slit or a magnet's aperture is a strip lo ≤ x(y) ≤ hi, i.e. a half-plane pair in
  * (p, q): the transmitted set is a convex polygon, its area the transmission, its moments the mean and

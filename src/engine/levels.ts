@@ -1,5 +1,5 @@
 /**
- * The levels listing of `spinyard levels NAME --field "0.5 T"` (design.md, "Levels listing"):
+ * The levels listing of `spinyard levels NAME --field "0.5 T"` (docs/design.md, "Levels listing"):
  * eigenvalues of H/h (Hz; H as written, traceless) at a field B along ẑ, their μ_eff (μB, Hellmann–
  * Feynman) and both labels, sorted by energy descending (equal energies, as at B = 0: m_F descending, then F
  * descending). The listing does not depend on the axis.

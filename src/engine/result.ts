@@ -1,5 +1,5 @@
 /**
- * Result format v1 of design.md (`spinyard run FILE --json`), with the fields this engine adds.
+ * Result format v1 of docs/design.md (`spinyard run FILE --json`), with the fields this engine adds.
  * Fields may be added; none is renamed.
  */
 export interface XZ {

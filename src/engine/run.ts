@@ -2,7 +2,7 @@
  * Runs a beamline: every path from the oven to a leaf, with its velocity-averaged density matrix.
  *
  * The line is walked depth first; a magnet forks the walk into the states it sorts (one rank-one
- * selection |k⟩⟨k| each, design.md "Magnet entry and exit"), so paths that share elements share the
+ * selection |k⟩⟨k| each, docs/design.md "Magnet entry and exit"), so paths that share elements share the
  * work up to the fork. Steps independent of speed act as Kraus operators; propagators keep the state
  * exact frequency by frequency (spectral.ts). A field twist has no such form (its eigenphases are not
  * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
@@ -228,7 +228,7 @@ function elementPath(ctx: WalkCtx, id: string): string {
   return ctx.byId.get(id)?.path ?? id;
 }
 
-/** A warning for an analysing axis with a component along the beam (design.md, Conventions). */
+/** A warning for an analysing axis with a component along the beam (docs/design.md, "Axes and angles"). */
 function axisWarning(path: string, n: Vec3): string | null {
   if (Math.abs(n.y) < 1e-9) return null;
   const t = Math.hypot(n.x, n.z) < 1e-12 ? { x: 0, y: 0, z: 1 } : vecUnit({ x: n.x, y: 0, z: n.z });
@@ -779,7 +779,7 @@ function twistRotation(ops: SpinSystem['F'], h1: CMat, n1: Vec3, k: Vec3, rot: C
   return { c, m1: copyF64(e1.values), mq: copyF64(eq.values), a: cmatMul(vqd, e1.vectors), b: cmatMul(rot, eq.vectors), vqd };
 }
 
-/** U = exp(−iθF_k) exp(−i(H₁ t − θ F_k)), t = ℓ/v (design.md: the exact rotating-frame solution), per speed. */
+/** U = exp(−iθF_k) exp(−i(H₁ t − θ F_k)), t = ℓ/v (docs/design.md, "Field twist": the exact rotating-frame solution), per speed. */
 function applyTwist(st: NodeState, op: TwistOp): NodeState {
   const tr = op.rotation;
   if (tr) {
@@ -994,7 +994,7 @@ function firstSlit(line: Beamline): { rect: Rect; y: number } | null {
   return null;
 }
 
-/** Runs the line and returns result format v1 (design.md) with this engine's additions. */
+/** Runs the line and returns result format v1 (docs/design.md) with this engine's additions. */
 export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const warnings = new Set<string>();
   let systems;
@@ -1095,7 +1095,7 @@ function velocityPlot(d: VelocityDistribution): RunResult['velocity'] {
 }
 
 /**
- * design.md: warn when a phase steps by more than π between neighbouring tabulated speeds. The warning
+ * docs/design.md, "Velocity distributions": warn when a phase steps by more than π between neighbouring tabulated speeds. The warning
  * says how much of the yield rides on such terms (trace weight × table weight of the pairs concerned).
  */
 function checkTable(line: Beamline, leaves: FinePath[], warnings: Set<string>): void {

@@ -2,7 +2,7 @@
  * The spin system of a line's species: operators, Hamiltonian and the magnet's sorting of states.
  * One system per isotope; a natural mixture is run isotope by isotope and weighted by abundance.
  *
- * Hamiltonian (design.md): H/h = A I·J (+ quadrupole) + (μB/h)(g_J J + g_I I)·B; a bare spin is
+ * Hamiltonian (docs/design.md, "Hamiltonians"): H/h = A I·J (+ quadrupole) + (μB/h)(g_J J + g_I I)·B; a bare spin is
  * H = g μB J·B. The engine works in angular frequency, H/ħ = 2π·H/h (rad/s).
  */
 import { type CMat, cmatScale, cmatZeros, cmatColumn, cmatOwn } from '../physics/cmat.ts';
@@ -102,7 +102,7 @@ function atomSystem(s: AtomSpecies): SpinSystem {
 
 /** One state a magnet sorts into a port: the projection vector, its port and its moment there. */
 export interface Component {
-  /** Port label (design.md: "+1/2", "F=2,mF=+1", "mJ=+1/2"). */
+  /** Port label (docs/design.md, "Port labels": "+1/2", "F=2,mF=+1", "mJ=+1/2"). */
   readonly port: string;
   /** |k⟩ (d×1): the zero-field state (adiabatic entry) or the eigenstate at the field (sudden entry). */
   readonly vector: CMat;
@@ -128,7 +128,7 @@ export interface SortSpec {
 }
 
 /**
- * The states a magnet (or a recombiner) sorts the beam into (design.md, "Magnet entry and exit").
+ * The states a magnet (or a recombiner) sorts the beam into (docs/design.md, "Magnet entry and exit").
  * Adiabatic entry: the zero-field |F, m_F⟩ along n̂, each continued into the eigenstate of H(B n̂) with
  * the same low-field label, which fixes its port and μ_eff. Sudden entry: the eigenstates of H(B n̂).
  * A bare spin: |j, m⟩ along n̂ with μ_eff = −g m.

@@ -8,7 +8,7 @@
 // the validators below (main checks requests, preload checks replies); nothing else crosses it.
 // The contract only adds: a new channel or an optional field, never a renamed one.
 
-/** The document format's file extension (design.md, "Document format v1"). */
+/** The document format's file extension (docs/design.md, "Document format v1"). */
 export const DOCUMENT_EXTENSION = '.spinyard';
 /** Largest document text accepted across the bridge (a beamline document is a few kB). */
 export const MAX_DOCUMENT_CHARS = 20_000_000;

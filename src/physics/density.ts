@@ -1,7 +1,7 @@
 /**
  * Density matrices and the operations a beamline applies to them.
  *   unpolarised: ρ = 1/d
- *   pure |j m⟩ along n̂: |ψ⟩ = exp(−iφJz) exp(−iθJy) |j m⟩            (design.md, Conventions)
+ *   pure |j m⟩ along n̂: |ψ⟩ = exp(−iφJz) exp(−iθJy) |j m⟩            (docs/design.md, "Spin operators, states and rotations")
  *   Lüders selection: ρ → P ρ P (unnormalised; Tr is the probability of the outcome)
  *   unitary step: ρ → U ρ U†;  dephasing sort: ρ → Σ_k P_k ρ P_k
  */

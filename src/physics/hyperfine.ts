@@ -8,9 +8,9 @@
  * in Hz, on the composite basis |m_I, m_J⟩ of compositeSpin(i2, j2) (nuclear spin first, index a·(2J+1)+b).
  * I and J are dimensionless, so g_I = −μ_I/(I μB). A bare spin is i2 = 0, gI = 0, aHz = 0, gJ = g.
  * Every term is traceless (Tr(I_a ⊗ J_b) = Tr I_a · Tr J_b = 0; the quadrupole operator is a rank-2
- * tensor), so the energies are those of "H as written" in design.md without any shift.
+ * tensor), so the energies are those of "H as written" in docs/design.md without any shift.
  *
- * Labels (design.md, "Port labels"), by adiabatic continuation inside one m_F block, where levels do
+ * Labels (docs/design.md, "Port labels"), by adiabatic continuation inside one m_F block, where levels do
  * not cross (von Neumann–Wigner: H(B ẑ) commutes with F_z and has no other symmetry in the block):
  *   lowField  "F=2,mF=+1": the block's eigenvalues ranked ascending are matched with the block's F values
  *             ranked by their zero-field energy E_F = A K/2 + B_hfs[(3/2)K(K+1) − 2I(I+1)J(J+1)]/[4I(2I−1)J(2J−1)],
@@ -432,7 +432,7 @@ export function zeemanLevels(p: HyperfineParams, fieldT: number, axis: Vec3): Ze
  * `vectors` in the order F descending, then m_F descending (the order of stateLabels in
  * src/beamline/labels.ts), with labels "F=2,mF=+1" (bare: "+1/2"). Phases: Condon–Shortley along ẑ
  * (I coupled first, F− ladder with positive coefficients), then carried to n̂ by
- * R = exp(−iφF_z) exp(−iθF_y), the rotation of design.md's pure state.
+ * R = exp(−iφF_z) exp(−iθF_y), the rotation of docs/design.md's pure state.
  */
 export function zeroFieldStates(p: HyperfineParams, axis: Vec3): { labels: string[]; vectors: CMat } {
   checkParams(p);

@@ -2,7 +2,7 @@
  * Beam velocity distributions (flux-weighted, normalised to 1) and the averages the engine needs.
  *
  *   effusive:   f(v) = 2 v³/a⁴ · exp(−v²/a²),  a = √(2kT/M)           (Ramsey, Molecular Beams, ch. II)
- *   supersonic: f(v) ∝ v³ exp(−(v − u)²/α²),   α = u/S                  (design.md, Conventions)
+ *   supersonic: f(v) ∝ v³ exp(−(v − u)²/α²),   α = u/S                  (docs/design.md, "Velocity distributions")
  *   fixed:      δ(v − v₀)
  *   table:      Σ_k w_k δ(v − v_k), weights normalised by their sum, used as they are
  *

@@ -38,7 +38,7 @@ export function hyperfineParams(s: AtomSpecies): HyperfineParams {
   return s.bHz ? { ...p, bHz: s.bHz.value } : p;
 }
 
-/** A custom bare spin (design.md format v1) as hyperfine parameters: H = g μB J·B. */
+/** A custom bare spin (docs/design.md, "Document format v1") as hyperfine parameters: H = g μB J·B. */
 export function bareSpinParams(s: BareSpin): HyperfineParams {
   return { i2: 0, j2: s.j2, gJ: s.g, gI: 0, aHz: 0 };
 }

@@ -1,7 +1,7 @@
 /**
  * Species data as the engine uses it. Every number in the library carries its source (see data.ts).
  * Spins are stored doubled (i2 = 2I, j2 = 2J) so that half-integers stay exact integers.
- * Hamiltonian convention (design.md, Steck Eq. 20): H = h·A·I·J + h·B·(quadrupole) + μB (g_J J + g_I I)·B,
+ * Hamiltonian convention (docs/design.md, "Hamiltonians"; Steck Eq. 20): H = h·A·I·J + h·B·(quadrupole) + μB (g_J J + g_I I)·B,
  * I and J dimensionless, so g_I = −μ_I/(I μB).
  */
 export interface Cited<T = number> {
@@ -41,7 +41,7 @@ export interface AtomSpecies {
   readonly cautions?: readonly string[];
 }
 
-/** A custom bare spin of design.md format v1: H = g μB J·B. */
+/** A custom bare spin of docs/design.md format v1: H = g μB J·B. */
 export interface BareSpin {
   readonly kind: 'bare';
   readonly name: string;

@@ -1,7 +1,7 @@
 import { describe, it, expect } from 'vitest';
 import { csvField, dwellById, portRows, portRowsCsv, toCsv, warningsByElement, type RunResultView } from '../../src/app/results.ts';
 
-// A hand-made result in result format v1 (design.md), not an engine run: the table logic is under test.
+// A hand-made result in result format v1 (docs/design.md), not an engine run: the table logic is under test.
 // A detector with 3 /s background and a 10 s dwell.
 const detector = (id: string, y: number, signal: number) => ({
   id, yield: y, rate: signal + 3, counts: (signal + 3) * 10, sigma: Math.sqrt((signal + 3) * 10),

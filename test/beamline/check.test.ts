@@ -3,7 +3,7 @@ import type { Magnet } from '../../src/beamline/types.ts';
 import { DESIGN_BEAM_KEYS, DESIGN_V1, bareLine } from './examples.ts';
 import { check, lines, ok, problems, rbLine } from './helpers.ts';
 
-describe('the example documents of design.md', () => {
+describe('the reference documents of docs/design.md', () => {
   it('validates the format v1 example and normalises it to SI', () => {
     const r = ok(check(JSON.parse(DESIGN_V1)));
     expect(r.line.title).toBe('Bench B, roll scan');
@@ -12,7 +12,7 @@ describe('the example documents of design.md', () => {
     expect(r.line.oven.velocity).toEqual({ kind: 'fixed', speed: 600 });
     expect(r.line.ambient).toEqual({ x: 0, y: 0, z: 0 });
     const m2 = r.line.elements[1] as Magnet;
-    // roll α about the beam: n̂ = (sin α, 0, cos α) (design.md Conventions); sin 60° = √3/2
+    // roll α about the beam: n̂ = (sin α, 0, cos α) (docs/design.md, Axes and angles); sin 60° = √3/2
     expect(m2.axis.x).toBeCloseTo(Math.sqrt(3) / 2, 15);
     expect(m2.axis.z).toBeCloseTo(0.5, 15);
     expect(m2.axis.text).toBe('roll 60°');
@@ -247,7 +247,7 @@ describe('checkBeamline: quantities and bounds', () => {
     const d = bareLine();
     d.elements[0].axis = { theta: '90 deg', phi: '90 deg' };
     const m1 = ok(check(d)).line.elements[0] as Magnet;
-    // n̂(θ, φ) = (sinθ cosφ, sinθ sinφ, cosθ) (design.md Conventions): θ = φ = 90° is +y, along the beam
+    // n̂(θ, φ) = (sinθ cosφ, sinθ sinφ, cosθ) (docs/design.md, Axes and angles): θ = φ = 90° is +y, along the beam
     expect(m1.axis.y).toBeCloseTo(1, 15);
     expect(m1.axis.text).toBe('θ 90°, φ 90°');
   });

@@ -1,6 +1,6 @@
 /**
- * The two example documents of ../shared/design.md, copied verbatim (they are the contract):
- * DESIGN_V1 from "Document format v1", DESIGN_BEAM_KEYS from "Beam keys".
+ * The two reference documents of docs/design.md ("Reference documents"), kept as written (tests rely on them):
+ * DESIGN_V1 the two-magnet spin-1/2 line, DESIGN_BEAM_KEYS the Rb-87 line.
  */
 export const DESIGN_V1 = `{
   "format": "spinyard.beamline",

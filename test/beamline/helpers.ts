@@ -17,5 +17,5 @@ export function ok(r: ParseResult) {
   if (!r.ok) throw new Error(r.problems.map(formatProblem).join('\n'));
   return r;
 }
-/** The Rb-87 line of design.md "Beam keys", completed with its header and D2. */
+/** The Rb-87 reference document of docs/design.md, completed with its header and D2. */
 export const rbLine = () => completedBeamKeys() as Record<string, any>;

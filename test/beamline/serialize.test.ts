@@ -15,7 +15,7 @@ function roundTrip(doc: unknown) {
 }
 
 describe('serializeDoc', () => {
-  it('round-trips the design.md examples: the normalized line is identical', () => {
+  it('round-trips the reference documents of docs/design.md: the normalized line is identical', () => {
     for (const doc of [JSON.parse(DESIGN_V1), completedBeamKeys()]) {
       const { a, b, text } = roundTrip(doc);
       expect(b.line).toEqual(a.line);
@@ -32,7 +32,7 @@ describe('serializeDoc', () => {
     expect(Object.keys(JSON.parse(text).elements[0])).toEqual(['id', 'kind', 'axis', 'ports']);
     expect(text).toBe(serializeDoc(d));
   });
-  it('orders element keys as design.md lists them', () => {
+  it('orders element keys as docs/design.md lists them', () => {
     const text = serializeDoc(completedBeamKeys());
     const els = JSON.parse(text).elements;
     expect(Object.keys(els[1])).toEqual(['id', 'kind', 'gap', 'axis', 'field', 'gradient', 'length', 'group', 'ports']);

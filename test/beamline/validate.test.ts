@@ -9,7 +9,7 @@ import { lookupSpecies, speciesNames } from '../../src/species/index.ts';
 import { DESIGN_V1, completedBeamKeys } from './examples.ts';
 
 describe('parseBeamlineText with src/species', () => {
-  it('validates both design.md examples', () => {
+  it('validates both reference documents of docs/design.md', () => {
     expect(parseBeamlineText(DESIGN_V1).ok).toBe(true);
     const r = validateBeamline(completedBeamKeys());
     if (!r.ok) throw new Error(JSON.stringify(r.problems));

@@ -28,7 +28,7 @@ describe('spinyard run FILE', () => {
     expect(lines[0]).toContain('Bench B, roll scan');
     const head = lines.findIndex((l) => l.startsWith('path'));
     expect(lines[head]).toMatch(/^path\s+target\s+yield\s+rate \(\/s\)$/);
-    // design.md's example: D1 = ½·cos²(30°) = 0.375, rate 2e9 × 0.375 × 0.9
+    // the two-magnet reference document of docs/design.md: D1 = ½·cos²(30°) = 0.375, rate 2e9 × 0.375 × 0.9
     const d1 = lines[head + 1];
     expect(d1).toMatch(/^M1:\+1\/2 M2:\+1\/2\s+D1\s+0\.375\s+6\.75e8$/);
     // columns line up: every row of the table has the rate column ending at the same place
@@ -116,7 +116,7 @@ describe('spinyard validate FILE', () => {
 });
 
 describe('spinyard levels NAME --field B', () => {
-  it('--json prints the levels listing of design.md exactly', () => {
+  it('--json prints the levels listing of docs/design.md exactly', () => {
     const out = runCli(['levels', 'Rb-87', '--field', '0.5 T', '--json']);
     expect(out.code).toBe(0);
     expect(out.stderr).toBe('');

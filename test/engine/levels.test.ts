@@ -3,7 +3,7 @@ import { levelsListing, formatLevelsTable } from '../../src/engine/levels.ts';
 import { MU_B_OVER_H } from '../../src/physics/hyperfine.ts';
 
 describe('levelsListing', () => {
-  it('has the shape of design.md "Levels listing" and reproduces its Rb-87 0.5 T example (project contract)', () => {
+  it('has the shape of docs/design.md "Levels listing" and reproduces its Rb-87 0.5 T example (project contract)', () => {
     const l = levelsListing('Rb-87', 0.5);
     expect(Object.keys(l)).toEqual(['species', 'field', 'levels']);
     expect(l.species).toBe('Rb-87');

@@ -1,5 +1,5 @@
 /**
- * Landau–Zener / Majorana checks of the field twist (design.md: "exact rotating-frame solution"; issue 3).
+ * Landau–Zener / Majorana checks of the field twist (docs/design.md, "Field twist": the exact rotating-frame solution; issue 3).
  *
  * A bare spin-1/2 (g = 2.00231930436, CODATA 2018 |g_e|) leaves a polariser along n̂1 = ẑ, crosses a twist of
  * field B turning by θ about ŷ over ℓ at speed v, and is analysed along n̂2 (the twist's end). With

@@ -48,7 +48,7 @@ describe('runLine: standard results for ideal sorters', () => {
       }
     }
   });
-  it('the design.md v1 example gives 0.375 at D1 with rate 6.75e8 /s and σ = √counts', () => {
+  it('the two-magnet reference document of docs/design.md gives 0.375 at D1 with rate 6.75e8 /s and σ = √counts', () => {
     const r = runLine(line({
       species: bare('1/2'),
       oven: { state: { kind: 'unpolarized' }, flux: '2e9 /s', velocity: { kind: 'fixed', speed: '600 m/s' }, to: 'M1' },
@@ -159,7 +159,7 @@ describe('runLine: velocity averages, frequency by frequency', () => {
   });
 });
 
-describe('runLine: adiabatic and sudden magnet entry (design.md, Magnet entry and exit)', () => {
+describe('runLine: adiabatic and sudden magnet entry (docs/design.md, Magnet entry and exit)', () => {
   it('Rb-87 |F=1, mF=0⟩: adiabatic entry sends it wholly to mJ=-1/2; sudden entry splits it by its Breit–Rabi mixing', () => {
     const mk = (entry: string) => runLine(line({
       species: 'Rb-87',
@@ -218,7 +218,7 @@ describe('runLine: field twist of a hyperfine state (the general rotating-frame 
   });
 });
 
-describe('runLine: Stern–Gerlach deflection (design.md: a L (L/2 + D)/v²)', () => {
+describe('runLine: Stern–Gerlach deflection (docs/design.md: a L (L/2 + D)/v²)', () => {
   it('a bare spin at one speed is displaced by ∓ g μB G L (L/2 + D)/(2 M v²)', () => {
     const G = 800, L = 0.06, D = 0.4, v = 550, M = 106.905 * U;
     const r = runLine(line({

@@ -11,7 +11,7 @@ describe('density matrices', () => {
     const rho = densityUnpolarized(4);
     for (const p of eigenprojectors(spinAlong(o, axisFromAngles(1.1, 0.4)))) expect(traceReal(selectLuders(rho, p.projector))).toBeCloseTo(0.25, 14);
   });
-  it('a pure |j m⟩ along n̂ is an eigenstate of n̂·J with eigenvalue m (design.md, Conventions)', () => {
+  it('a pure |j m⟩ along n̂ is an eigenstate of n̂·J with eigenvalue m (docs/design.md, Spin operators, states and rotations)', () => {
     const o = spinOperators(2);
     const n = axisFromAngles(0.7, -1.2);
     const rho = densityPure(o, n, 0); // m = +1

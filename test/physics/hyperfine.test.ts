@@ -212,7 +212,7 @@ describe('zeemanLevels: structure', () => {
       }
     }
   });
-  it('at B = 0 the moment is the weak-field limit −g_F m_F along any axis (design.md)', () => {
+  it('at B = 0 the moment is the weak-field limit −g_F m_F along any axis (docs/design.md)', () => {
     for (const p of [CS, RB87, K40, LI6]) {
       for (const l of zeemanLevels(p, 0, axisFromAngles(0.4, 1.3)).levels) {
         expect(Math.abs(l.moment + gF(p, l.F2) * (l.mF2 / 2))).toBeLessThan(1e-12);
@@ -317,7 +317,7 @@ describe('zeroFieldStates', () => {
     expect(at('F=1,mF=+1', 3, -1)).toBeCloseTo(Math.sqrt(0.75), 14);
     expect(at('F=1,mF=+1', 1, 1)).toBeCloseTo(-0.5, 14);
   });
-  it('are the same state as design.md\'s pure state exp(−iφF_z)exp(−iθF_y)|F, m_F⟩', () => {
+  it('are the same state as docs/design.md\'s pure state exp(−iφF_z)exp(−iθF_y)|F, m_F⟩', () => {
     const n = axisFromAngles(1.3, -0.6);
     const r = rotationToAxis(compositeSpin(RB87.i2, RB87.j2).F, n);
     expect(cmatMaxAbsDiff(zeroFieldStates(RB87, n).vectors, cmatMul(r, zeroFieldStates(RB87, Z).vectors))).toBeLessThan(1e-13);

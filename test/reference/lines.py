@@ -2,7 +2,7 @@
 """Independent QuTiP reference for Spinyard's line results (src/engine).
 
 Every line is written twice from the same numbers: as a beamline document (format v1 + beam keys of
-design.md) and as a QuTiP computation written here from the physics alone (no Spinyard code):
+docs/design.md) and as a QuTiP computation written here from the physics alone (no Spinyard code):
 
 - spin operators: qutip.jmat; composite spaces I (x) J with qutip.tensor; Hamiltonians as Qobj,
   H/hbar = 2 pi [A I.J + (muB/h)(g_J J + g_I I).B] (a bare spin: g (muB/h) J.B);
@@ -48,7 +48,7 @@ H_PLANCK = 6.62607015e-34  # J s, exact
 HBAR = H_PLANCK / (2 * math.pi)
 K_B = 1.380649e-23  # J/K, exact
 U_KG = 1.66053906660e-27  # kg, CODATA 2018
-G_E = 2.00231930436  # |g_e|, CODATA 2018 (design.md example species)
+G_E = 2.00231930436  # |g_e|, CODATA 2018 (the species of the reference documents of docs/design.md)
 
 SPECIES = {
     "Rb-87": dict(i=1.5, aHz=3417.341305452145e6, gJ=2.00233113, gI=-0.0009951414, massU=86.909180529),
@@ -130,7 +130,7 @@ _sort_cache = {}
 
 
 def sort_components(sys_, axis, field=None, entry="adiabatic"):
-    """[(port label, projector)] of a magnet along n (design.md, Magnet entry and exit)."""
+    """[(port label, projector)] of a magnet along n (docs/design.md, Magnet entry and exit)."""
     key = (id(sys_), tuple(axis), field, entry)
     if key not in _sort_cache:
         _sort_cache[key] = (sys_, _sort_components(sys_, axis, field, entry))
@@ -417,7 +417,7 @@ def walk(line, s, mode, speed=None, rf_mode="rwa", twist_mode="sesolve"):
 
 
 def twist_frame(s, st, e, v):
-    """The same twist by the rotating-frame solution of design.md, U = exp(-i th F_k) exp(-i (H(B n1) T - th F_k)),
+    """The same twist by the rotating-frame solution of docs/design.md, U = exp(-i th F_k) exp(-i (H(B n1) T - th F_k)),
     as QuTiP expm (used where many speeds are needed; checked against twist_sesolve at probe speeds)."""
     n1, n2 = unit(axis_vec(e["start"])), unit(axis_vec(e["end"]))
     k = np.cross(n1, n2)
@@ -510,7 +510,7 @@ def rf_entry_phases(s, e):
 
 def rf_step(s, st, e, mode, v, rf_mode, linear):
     """RF flipper, averaged over the entry phases (rf_entry_phases).
-    'rwa': rotating-wave solution in the frame exp(-i sigma w t F_s) (design.md), the phase turning the frame by it;
+    'rwa': rotating-wave solution in the frame exp(-i sigma w t F_s) (docs/design.md), the phase turning the frame by it;
     'rwa-lab': QuTiP sesolve of the rotating-wave (circular) field written in the lab frame;
     'lab': QuTiP sesolve of H(t) = H(B_s) + cos(w t + phase) Zeeman(B1 axis), the linear polarised lab field."""
     phases = rf_entry_phases(s, e)
@@ -732,7 +732,7 @@ def averaged_line_reference(line, s):
 
 
 # ---------------------------------------------------------------- the lines
-SILVER_U = 106.905  # bare-spin model of Ag-107 (design.md's example species); mass in u
+SILVER_U = 106.905  # bare-spin model of Ag-107 (the reference documents of docs/design.md); mass in u
 
 
 def det(i, eff=0.9, bg=3.0, dwell=10.0):

@@ -138,7 +138,7 @@ describe('sheetHtml escaping', () => {
 });
 
 describe('sideViewSvg', () => {
-  it('says so instead of drawing when the line has no geometry (design.md v1 example)', () => {
+  it('says so instead of drawing when the line has no geometry (the two-magnet reference document of docs/design.md)', () => {
     const r = runText(DESIGN_V1);
     const out = sideViewSvg(buildSheet(r.doc, r.line, r.result));
     expect(out).not.toContain('<svg');

@@ -136,7 +136,7 @@ describe('buildSheet (other species forms)', () => {
       { name: 'g', value: '2.00231930436', source: 'as written in the document' },
       { name: 'mass', value: '106.905 u', source: 'as written in the document' },
     ]);
-    // design.md's example has no gaps or lengths: everything sits at the oven aperture
+    // the two-magnet reference document (docs/design.md) has no gaps or lengths: everything sits at the oven aperture
     expect(m.lineLengthCm).toBe(0);
     expect(m.elements.map((e) => e.id)).toEqual(['M1', 'M2', 'D1', 'D2']);
     expect(m.elements[1].setPoints).toEqual([{ name: 'axis', value: 'roll 60 deg' }]);

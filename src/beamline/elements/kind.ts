@@ -1,5 +1,5 @@
 /**
- * What one element kind module provides: its keys (in design.md "Beam keys" order, which is also the
+ * What one element kind module provides: its keys (in docs/design.md "Keys by element kind" order, which is also the
  * order serialize writes), how it routes, how it is read from the document, and the defaults of a new
  * element of that kind in the editor.
  */
@@ -10,7 +10,7 @@ export type ElementBody<E extends Element> = Omit<E, 'id' | 'kind' | 'gap' | 'pa
 
 export interface KindModule<E extends Element = Element> {
   readonly kind: E['kind'];
-  /** Kind-specific keys in design.md order, without id, kind, gap and the output key. */
+  /** Kind-specific keys in docs/design.md order, without id, kind, gap and the output key. */
   readonly keys: readonly string[];
   /** "ports" (a magnet), "to" (one output) or "none" (a leaf: the detector). */
   readonly output: 'ports' | 'to' | 'none';

@@ -1,6 +1,6 @@
 /**
  * magnet: a Stern–Gerlach gradient magnet analysing along `axis`; each port (an eigenstate or group of
- * eigenstates, design.md Conventions) is routed in `ports`, "*" routes every port not named.
+ * eigenstates, docs/design.md "Port labels") is routed in `ports`, "*" routes every port not named.
  * Keys: axis, field (size at the beam, ≥ 0), gradient (signed, along the axis), length (≥ 0),
  * aperture {width, height} of the pole gap, group, entry (hyperfine species only), ports.
  */

@@ -1,4 +1,4 @@
-/** The element kinds of format v1 (design.md "Beam keys"), one module each. */
+/** The element kinds of format v1 (docs/design.md "Keys by element kind"), one module each. */
 import type { ElementKind } from '../types.ts';
 import { detector } from './detector.ts';
 import { field } from './field.ts';
