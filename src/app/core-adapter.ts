@@ -25,7 +25,7 @@ import type { BeamlineDoc, Beamline, ElementKind, Problem } from '../beamline/ty
 export type { BeamlineDoc, Beamline, Element, ElementDoc, ElementKind, Problem, ParseResult } from '../beamline/types.ts';
 export type { Dimension } from '../beamline/units.ts';
 export type { RunResult, LeafResult, DetectorResult } from '../engine/index.ts';
-export { timeToPrecision } from '../engine/index.ts';
+export { countSigma, countsIn, timeToPrecision } from '../engine/index.ts';
 import type { Dimension } from '../beamline/units.ts';
 
 export type ParsedDoc = { ok: true; doc: BeamlineDoc; line: Beamline; warnings: Problem[] } | { ok: false; problems: Problem[] };

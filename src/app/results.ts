@@ -1,7 +1,7 @@
 // The renderer's reading of result format v1 (docs/design.md, "Result format v1"): the ports table rows,
 // counting times and the CSV export. Pure functions of a result and the normalized line.
 
-import { type RunResult, timeToPrecision } from './core-adapter.ts';
+import { type RunResult, countSigma, countsIn, timeToPrecision } from './core-adapter.ts';
 
 /** The engine's result (result format v1 with its additions), read through the core adapter. */
 export type RunResultView = RunResult;
@@ -37,8 +37,8 @@ export function portRows(result: RunResultView, dwell: ReadonlyMap<string, numbe
     const d = det.get(l.target);
     const t = dwell.get(l.target);
     if (l.target !== 'stop' && t !== undefined) {
-      row.counts = l.rate * t;
-      row.sigma = Math.sqrt(row.counts);
+      row.counts = countsIn(l.rate, t);
+      row.sigma = countSigma(row.counts);
     }
     if (d) {
       row.detectorRate = d.rate;
