@@ -54,8 +54,8 @@ function detectorTable(detectors: readonly DetectorResult[]): string {
       formatNumber(d.yield),
       formatNumber(d.rate, 4),
       `${formatNumber(d.counts, 4)} ± ${formatNumber(d.sigma, 3)} in ${formatDuration(d.dwell)}`,
-      formatNumber(d.signalToBackground, 3),
-      formatDuration(d.timeToPrecision.seconds),
+      d.signalToBackground === undefined ? '∞ (no background)' : formatNumber(d.signalToBackground, 3),
+      d.timeToPrecision.seconds === undefined ? 'no signal' : formatDuration(d.timeToPrecision.seconds),
     ]);
   }
   return alignTable(rows, head.map((_, c) => c >= 1 && c !== 3));

@@ -469,10 +469,11 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
     const eff = a.detector ? a.detector.efficiency : 1;
     // an empty path (its flux at the rounding floor, ≤ 1e-15 of the oven's) has no place on the plane
     if (!geometry || a.target === 'stop' || a.fines.every((g) => g.nodes === NO_NODES)) {
-      leaves.push({ path: a.path, target: a.target, yield: a.yieldSpin, rate: flux * a.yieldSpin * eff });
+      const y = roundOffFloor(a.yieldSpin);
+      leaves.push({ path: a.path, target: a.target, yield: y, rate: flux * y * eff });
       continue;
     }
-    const y = a.fines.reduce((s, g) => s + g.yieldGeo, 0);
+    const y = roundOffFloor(a.fines.reduce((s, g) => s + g.yieldGeo, 0));
     const w = y > 0 ? y : 1;
     const mean = { x: a.fines.reduce((s, g) => s + g.yieldGeo * g.mean.x, 0) / w, z: a.fines.reduce((s, g) => s + g.yieldGeo * g.mean.z, 0) / w };
     const second = { x: a.fines.reduce((s, g) => s + g.yieldGeo * g.second.x, 0) / w, z: a.fines.reduce((s, g) => s + g.yieldGeo * g.second.z, 0) / w };
@@ -510,9 +511,12 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
     d.rate = d.signal + d.background;
     d.counts = countsIn(d.rate, d.dwell);
     d.sigma = countSigma(d.counts);
-    // result format v1 carries the largest double where a ratio or a time is unbounded (JSON has no Infinity)
-    d.signalToBackground = Math.min(signalToBackground(d.signal, d.background), Number.MAX_VALUE);
-    d.timeToPrecision = { epsilon, seconds: Math.min(timeToPrecision(d.signal, d.background, epsilon), Number.MAX_VALUE) };
+    // unbounded values are left out (JSON has no Infinity): S/B without background, the time without signal
+    const sb = signalToBackground(d.signal, d.background);
+    if (Number.isFinite(sb)) d.signalToBackground = sb;
+    else delete d.signalToBackground;
+    const t = timeToPrecision(d.signal, d.background, epsilon);
+    d.timeToPrecision = Number.isFinite(t) ? { epsilon, seconds: t } : { epsilon };
     if (geometry) {
       const det = accOf.find((a) => a.detector?.id === d.id)!.detector!;
       if (det.window) d.crosstalk = crosstalkFor(det, d.plane ?? 0, leaves, accOf, flux);
@@ -670,4 +674,9 @@ function addProfiles(leaves: readonly LeafResult[], accOf: readonly LeafAcc[], v
     }
     verdicts.set(k, out);
   }
+}
+
+/** A yield below zero by rounding only (the sum of differences of traces, ≥ −1e-12 of the flux) is 0. */
+export function roundOffFloor(y: number): number {
+  return y < 0 && y >= -1e-12 ? 0 : y;
 }

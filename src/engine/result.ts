@@ -68,9 +68,10 @@ export interface DetectorResult {
   signal: number;
   background: number;
   dwell: number;
-  signalToBackground: number;
-  /** Time to measure the signal to relative precision ε with a known background: t = (S + B)/(S² ε²). */
-  timeToPrecision: { epsilon: number; seconds: number };
+  /** S/B; absent when the detector has no background (the ratio is unbounded). */
+  signalToBackground?: number;
+  /** Time to measure the signal to relative precision ε with a known background: t = (S + B)/(S² ε²); `seconds` absent without signal. */
+  timeToPrecision: { epsilon: number; seconds?: number };
   crosstalk?: CrosstalkEntry[];
   neighbours?: NeighbourVerdict[];
   plane?: number;

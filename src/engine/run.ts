@@ -1046,7 +1046,8 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const balance = Math.abs(totalYield + lostTotal - 1);
   const leavesOut: LeafResult[] = geo.leaves;
   const detectors: DetectorResult[] = geo.detectors;
-  if (balance > 1e-12) warnings.add(`invariant: Σ yields + lost = ${(totalYield + lostTotal).toPrecision(15)}, not 1 within 1e-12`);
+  // written so that NaN fails it too
+  if (!(balance <= 1e-12)) warnings.add(`invariant: Σ yields + lost = ${(totalYield + lostTotal).toPrecision(15)}, not 1 within 1e-12`);
   if (hermiticity.max > 1e-12) warnings.add(`invariant: the averaged state lost Hermiticity (‖ρ − ρ†‖ = ${hermiticity.max.toExponential(1)})`);
   if (!hermiticity.positive) warnings.add('invariant: an averaged state has an eigenvalue below −1e-12 of its trace');
   const d0 = dists[0];
@@ -1056,6 +1057,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     ? 'each Bohr frequency averaged on its own over the effusive distribution (rotated-contour Gauss–Kronrod, read off Chebyshev panels fitted to it, whose fitting nodes are not counted)'
     : d0.kind === 'supersonic' ? 'each Bohr frequency averaged on its own (adaptive Gauss–Kronrod)'
       : d0.kind === 'table' ? `exact sum over the tabulated speeds${wasmUsed ? ' (WebAssembly SIMD kernel)' : ''}` : 'single speed';
+  requireFinite(line, leavesOut, detectors, lostTotal);
   return {
     format: 'spinyard.result',
     version: 1,
@@ -1073,6 +1075,30 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     positions,
     invariants: { balance, maxHermiticity: hermiticity.max, positive: hermiticity.positive },
   };
+}
+
+/**
+ * The last guard: no number of a result is NaN or infinite. The reader's bounds keep every accepted document
+ * finite; should a number still not be, the run fails with a message naming the element instead of printing it.
+ */
+function requireFinite(line: Beamline, leaves: readonly LeafResult[], detectors: readonly DetectorResult[], lost: number): void {
+  const where = (id: string) => {
+    const i = line.elements.findIndex((e) => e.id === id);
+    return i < 0 ? id : `elements[${i}] (${id})`;
+  };
+  const bad = (what: string, v: unknown) => typeof v === 'number' && !Number.isFinite(v) ? `${what} is ${v}` : null;
+  for (const l of leaves) {
+    const target = l.target === 'stop' ? (l.path.at(-1)?.split(':')[0] ?? 'oven') : l.target;
+    const found = bad('the yield', l.yield) ?? bad('the rate', l.rate) ?? bad('the displacement', l.displacement?.x) ?? bad('the displacement', l.displacement?.z)
+      ?? bad('the spread', l.spread?.x) ?? bad('the spread', l.spread?.z) ?? bad('the captured fraction', l.captured);
+    if (found) throw new RunError(`${where(target)}: ${found} on the path ${l.path.join(' ') || '(oven)'}; the set-points give no finite result (check the speeds, fields and distances of this path)`);
+  }
+  for (const d of detectors) {
+    const found = bad('the yield', d.yield) ?? bad('the rate', d.rate) ?? bad('the counts', d.counts) ?? bad('σ', d.sigma)
+      ?? bad('S/B', d.signalToBackground) ?? bad('the time to precision', d.timeToPrecision.seconds);
+    if (found) throw new RunError(`${where(d.id)}: ${found}; the set-points give no finite result (check its efficiency, background and dwell, and the flux)`);
+  }
+  if (!Number.isFinite(lost)) throw new RunError(`the lost fraction is ${lost}; the set-points give no finite result`);
 }
 
 const zeroMatrices = new WeakMap<CMat, boolean>();

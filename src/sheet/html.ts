@@ -333,11 +333,11 @@ function detectorsTable(m: SheetModel): string {
   // a signal of rounding noise (yield below 1e-15) has no meaningful S/B or time: said as such
   const rows = m.detectors.map((d) => {
     const none = isNoise(d.yield) || d.yield === 0;
-    const sb = d.signalToBackground === Number.MAX_VALUE ? '∞ (no background)' : none ? '≈ 0' : sheetNumber(d.signalToBackground, 3);
+    const sb = d.signalToBackground === undefined ? '∞ (no background)' : none ? '≈ 0' : sheetNumber(d.signalToBackground, 3);
     return `<tr><th scope="row">${e(d.id)}</th><td class="num">${isNoise(d.yield) ? '≈ 0' : sheetNumber(d.yield)}</td>`
       + `<td class="num">${isNoise(d.yield) ? '≈ 0' : sheetNumber(d.signal)}</td><td class="num">${sheetNumber(d.background)}</td><td class="num">${sheetNumber(d.rate)}</td>`
       + `<td class="num">${sheetNumber(d.counts)} ± ${sheetNumber(d.sigma, 3)}</td><td class="num">${duration(d.dwell)}</td>`
-      + `<td class="num">${sb}</td><td class="num">${none ? 'no signal' : duration(d.timeToPrecision)}</td>${blank}</tr>`;
+      + `<td class="num">${sb}</td><td class="num">${none || d.timeToPrecision === undefined ? 'no signal' : duration(d.timeToPrecision)}</td>${blank}</tr>`;
   });
   const pct = sheetNumber(eps * 100);
   return '<table class="detectors"><colgroup>'

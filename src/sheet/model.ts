@@ -100,9 +100,10 @@ export interface SheetDetector {
   sigma: number;
   /** s */
   dwell: number;
-  signalToBackground: number;
-  /** Time to the relative precision `epsilon` on the signal (s). */
-  timeToPrecision: number;
+  /** S/B; absent without background (unbounded). */
+  signalToBackground?: number;
+  /** Time to the relative precision `epsilon` on the signal (s); absent without signal. */
+  timeToPrecision?: number;
   epsilon: number;
 }
 
