@@ -11,7 +11,10 @@
  */
 import { KINDS, isKind } from './elements/registry.ts';
 import { RESERVED_IDS } from './check.ts';
-import type { BeamlineDoc, ElementDoc, ElementKind } from './types.ts';
+import { type Group, type LabelSpecies, isHyperfine, portLabels } from './labels.ts';
+import { type SpeciesResolver, readSpin } from './speciesDoc.ts';
+import { librarySpecies } from './validate.ts';
+import type { BeamlineDoc, ElementDoc, ElementKind, SpeciesDoc } from './types.ts';
 
 export type EditResult = { ok: true; doc: BeamlineDoc; id?: string } | { ok: false; message: string };
 
@@ -220,4 +223,128 @@ export function renameElement(doc: BeamlineDoc, oldId: string, newId: string): E
   const elements = [...doc.elements];
   elements[i] = { ...elements[i], id: newId };
   return { ok: true, doc: retarget({ ...doc, elements }, oldId, newId), id: newId };
+}
+
+// ---------------------------------------------------------------- outputs of the document
+
+/** One output of the line as written: the oven's, a magnet's port (the key as written, "*" included), or
+ *  an element's single output (port null). */
+export interface DocOutput {
+  fromId: string;
+  port: string | null;
+  target: string;
+}
+
+function outputsOfElementDoc(e: ElementDoc): DocOutput[] {
+  const out = isKind(e.kind) ? KINDS[e.kind].output : 'none';
+  if (out === 'ports') {
+    const ports = (e as { ports?: unknown }).ports;
+    if (!ports || typeof ports !== 'object' || Array.isArray(ports)) return [];
+    return Object.entries(ports as Record<string, unknown>).map(([port, target]) => ({ fromId: e.id, port, target: String(target) }));
+  }
+  if (out === 'to') return [{ fromId: e.id, port: null, target: String((e as { to?: unknown }).to ?? 'stop') }];
+  return [];
+}
+
+/** Every output of the line in document order: the oven's first, then each element's (a magnet's ports in
+ *  the order written; a detector has none). */
+export function documentOutputs(doc: BeamlineDoc): DocOutput[] {
+  return [{ fromId: 'oven', port: null, target: doc.oven.to }, ...doc.elements.flatMap(outputsOfElementDoc)];
+}
+
+/** The outputs of one element ("oven" for the oven's), or undefined when the line has no such element. */
+export function elementOutputs(doc: BeamlineDoc, id: string): DocOutput[] | undefined {
+  if (id === 'oven') return [{ fromId: 'oven', port: null, target: doc.oven.to }];
+  const i = indexOfId(doc, id);
+  return i < 0 ? undefined : outputsOfElementDoc(doc.elements[i]);
+}
+
+// ---------------------------------------------------------------- the species
+
+/** A species as a document writes it (a library name, or a bare spin {spin, g, mass}) as the label
+ *  functions take it; undefined when it names no known species or its spin cannot be read. */
+function labelSpeciesOf(species: unknown, resolver: SpeciesResolver): LabelSpecies | undefined {
+  if (typeof species === 'string') return resolver.lookup(species);
+  if (species && typeof species === 'object' && !Array.isArray(species) && 'spin' in species) {
+    const j2 = readSpin((species as { spin: unknown }).spin, 'species.spin');
+    return typeof j2 === 'number' ? { kind: 'bare', j2 } : undefined;
+  }
+  return undefined;
+}
+
+/** Port labels of a magnet for `species` as a document writes it (docs/design.md, "Port labels"), with
+ *  `group` where the species has hyperfine structure; undefined when the species is not known. */
+export function speciesPortLabels(species: unknown, group?: Group, resolver: SpeciesResolver = librarySpecies): string[] | undefined {
+  const sp = labelSpeciesOf(species, resolver);
+  return sp ? portLabels(sp, group) : undefined;
+}
+
+/** True when `species` (as written) has hyperfine structure: some isotope has a nuclear spin, so its
+ *  magnets sort |F, m_F⟩ states at their field and `group` and `entry` apply. False for an unknown one. */
+export function speciesIsHyperfine(species: unknown, resolver: SpeciesResolver = librarySpecies): boolean {
+  const sp = labelSpeciesOf(species, resolver);
+  return sp ? isHyperfine(sp) : false;
+}
+
+/**
+ * The field size a magnet without one gets when the line changes to a hyperfine species, which sorts by
+ * the eigenstates at the magnet's field and so needs its size. A demo set-point, announced to the user
+ * (changeSpecies returns the magnets it set), never a value to keep.
+ */
+export const DEFAULT_HYPERFINE_FIELD = '0.5 T';
+
+export type SpeciesChange =
+  | { ok: true; doc: BeamlineDoc; /** Magnets that were given DEFAULT_HYPERFINE_FIELD. */ fieldSet: string[] }
+  | { ok: false; message: string };
+
+type Sorted = ElementDoc & { ports?: Record<string, string>; open?: unknown; phases?: unknown; group?: Group; field?: unknown };
+
+/**
+ * The line with `species` in place of its species, carried over as far as the states correspond:
+ * - each magnet's port keys (and a recombiner's `open` labels and `phases` keys) are renamed by position
+ *   in the two species' label lists ("+1/2" → "mJ=+1/2": the same state under the new species' names)
+ *   when both lists have the same length; "*" and keys that do not map stay, for the reader to name;
+ * - without hyperfine structure in the new species, the keys that apply to hyperfine species only
+ *   (`group`, `entry`, a recombiner's `field`) are dropped;
+ * - with it, magnets without a field get DEFAULT_HYPERFINE_FIELD (listed in `fieldSet`).
+ * An unknown species name is set as written (validation names it). The input is not changed.
+ */
+export function changeSpecies(doc: BeamlineDoc, species: SpeciesDoc, resolver: SpeciesResolver = librarySpecies): SpeciesChange {
+  const isObject = species !== null && typeof species === 'object' && !Array.isArray(species);
+  if (typeof species !== 'string' && !isObject) {
+    return { ok: false, message: `a species is a library name such as "Rb-87" or a bare spin {"spin", "g", "mass"}, got ${JSON.stringify(species)}` };
+  }
+  const from = labelSpeciesOf(doc.species, resolver);
+  const to = labelSpeciesOf(species, resolver);
+  const fromHf = from ? isHyperfine(from) : false;
+  const toHf = to ? isHyperfine(to) : false;
+  const fieldSet: string[] = [];
+  const elements = doc.elements.map((e0) => {
+    if (!isKind(e0.kind)) return e0;
+    const e = e0 as Sorted;
+    let next: Sorted = e;
+    const edit = (): Sorted => (next === e ? (next = { ...e }) : next);
+    if (from && to && (e.kind === 'magnet' || e.kind === 'recombiner')) {
+      const a = portLabels(from, fromHf ? e.group : undefined);
+      const b = portLabels(to, toHf ? e.group : undefined);
+      if (a.length === b.length && a.some((l, i) => l !== b[i])) {
+        const map = new Map(a.map((l, i) => [l, b[i]]));
+        const rename = (k: string) => map.get(k) ?? k;
+        const renameKeys = (o: unknown) => (o && typeof o === 'object' && !Array.isArray(o)
+          ? Object.fromEntries(Object.entries(o).map(([k, v]) => [rename(k), v])) : o);
+        if (e.ports && typeof e.ports === 'object') edit().ports = renameKeys(e.ports) as Record<string, string>;
+        if (Array.isArray(e.open)) edit().open = e.open.map((k) => (typeof k === 'string' ? rename(k) : k));
+        if (e.phases !== undefined) edit().phases = renameKeys(e.phases);
+      }
+    }
+    if (to && !toHf) {
+      for (const k of KINDS[e.kind].hyperfineOnly) if (k in e) delete (edit() as unknown as Record<string, unknown>)[k];
+    }
+    if (toHf && e.kind === 'magnet' && e.field === undefined) {
+      edit().field = DEFAULT_HYPERFINE_FIELD;
+      fieldSet.push(e.id);
+    }
+    return next as ElementDoc;
+  });
+  return { ok: true, doc: { ...doc, species, elements }, fieldSet };
 }
