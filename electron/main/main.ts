@@ -30,6 +30,7 @@ import { checkInvoke, checkSend, isTrustedSender, originOf, type SenderInfo } fr
 import { buildMenuTemplate, type MenuAction, type MenuItemSpec } from './menu-template.ts';
 import { createRecentStore } from './recent.ts';
 import { listSamples, readSample } from './samples.ts';
+import { removeTempsAtStart } from './temp-cleanup.ts';
 import { APP_ENTRY, APP_ORIGIN, APP_SCHEME, CONTENT_SECURITY_POLICY, isAllowedDevUrl, isExternalLink, mimeTypeOf, resolveAppFile } from './security.ts';
 import { cascadeFrom, clampWindowState, DEFAULT_WINDOW, MIN_HEIGHT, MIN_WIDTH, parseWindowState, type WindowState } from './window-state.ts';
 
@@ -129,6 +130,13 @@ async function start(): Promise<void> {
 
   if (pendingFiles.length === 0) createWindow(null);
   for (const f of pendingFiles) await openPath(f, undefined);
+
+  // Temporary files of saves interrupted in an earlier run (temp-cleanup.ts): after the first window,
+  // so that a slow or missing drive of a recent document never delays the start.
+  void recent
+    .load()
+    .then((list) => removeTempsAtStart({ appFolders: [userData, autosave.dir], documents: list.flatMap((r) => (r.path ? [r.path] : [])) }))
+    .catch((e) => console.error('cleanup of temporary files failed', e));
 
   async function openPath(file: string, from: number | undefined): Promise<HostDocument | null> {
     const placement = placeDocument(describeWindows(), file, from, process.platform);
