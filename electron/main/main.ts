@@ -13,13 +13,13 @@ import { randomBytes } from 'node:crypto';
 import {
   EVENT_CHANNELS,
   INVOKE_CHANNELS,
-  MAX_DOCUMENT_CHARS,
   SEND_CHANNELS,
   withDocumentExtension,
   type HostDocument,
   type InvokeChannel,
   type SaveRequest,
   type SaveResult,
+  type TextFileRequest,
 } from '../../src/host/contract.ts';
 import { newSessionId } from '../../src/host/drafts.ts';
 import { documentArgs } from './args.ts';
@@ -28,8 +28,10 @@ import { createAutosaveStore, type AutosaveStore } from './autosave-store.ts';
 import { placeDocument, saveTargetWithoutDialog } from './documents.ts';
 import { checkInvoke, checkSend, isTrustedSender, originOf, type SenderInfo } from './ipc-validate.ts';
 import { buildMenuTemplate, type MenuAction, type MenuItemSpec } from './menu-template.ts';
+import { readDocumentFile } from './read-document.ts';
 import { createRecentStore } from './recent.ts';
 import { listSamples, readSample } from './samples.ts';
+import { textFileDialog, textFileTarget } from './text-file.ts';
 import { removeTempsAtStart } from './temp-cleanup.ts';
 import { APP_ENTRY, APP_ORIGIN, APP_SCHEME, CONTENT_SECURITY_POLICY, isAllowedDevUrl, isExternalLink, mimeTypeOf, resolveAppFile } from './security.ts';
 import { cascadeFrom, clampWindowState, DEFAULT_WINDOW, MIN_HEIGHT, MIN_WIDTH, parseWindowState, type WindowState } from './window-state.ts';
@@ -318,6 +320,7 @@ async function start(): Promise<void> {
     });
     handle(INVOKE_CHANNELS.printSheet, (rec, html: string) => printHtml(rec, html));
     handle(INVOKE_CHANNELS.exportPdf, (rec, html: string, name: string) => exportPdf(rec, html, name));
+    handle(INVOKE_CHANNELS.saveTextFile, (rec, req: TextFileRequest) => saveTextFile(rec, req));
 
     on(SEND_CHANNELS.setDirty, (rec, dirty: boolean) => {
       rec.dirty = dirty;
@@ -402,16 +405,18 @@ async function start(): Promise<void> {
       await done();
     }
   }
+
+  /** A text export (the ports table as CSV): the save dialog (text-file.ts), then an atomic write. */
+  async function saveTextFile(rec: DocWindow, req: TextFileRequest): Promise<SaveResult | null> {
+    const res = await dialog.showSaveDialog(rec.win, textFileDialog(req.name, rec.path, app.getPath('documents')));
+    if (res.canceled || !res.filePath) return null;
+    const target = textFileTarget(res.filePath, req.name);
+    await atomicWriteFile(target, req.text);
+    return { path: target, name: path.basename(target) };
+  }
 }
 
 // ---------------------------------------------------------------------------------------------------
-
-async function readDocumentFile(file: string): Promise<HostDocument> {
-  const st = await fs.stat(file).catch(() => null);
-  if (!st || !st.isFile()) throw new Error(`Cannot open ${file}: no such file.`);
-  if (st.size > MAX_DOCUMENT_CHARS) throw new Error(`Cannot open ${file}: ${st.size} bytes is too large for a beamline document.`);
-  return { path: file, name: path.basename(file), text: await fs.readFile(file, 'utf8') };
-}
 
 function describeWindows() {
   return [...windows.values()].map((w) => ({ id: w.id, path: w.path, dirty: w.dirty, replaceable: w.replaceable }));
