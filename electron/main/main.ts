@@ -33,7 +33,7 @@ import { createRecentStore } from './recent.ts';
 import { listSamples, readSample } from './samples.ts';
 import { textFileDialog, textFileTarget } from './text-file.ts';
 import { removeTempsAtStart } from './temp-cleanup.ts';
-import { APP_ENTRY, APP_ORIGIN, APP_SCHEME, CONTENT_SECURITY_POLICY, isAllowedDevUrl, isExternalLink, mimeTypeOf, resolveAppFile } from './security.ts';
+import { APP_ENTRY, APP_ORIGIN, APP_SCHEME, CONTENT_SECURITY_POLICY, isAllowedDevUrl, isAllowedExternalLink, mimeTypeOf, resolveAppFile } from './security.ts';
 import { cascadeFrom, clampWindowState, DEFAULT_WINDOW, MIN_HEIGHT, MIN_WIDTH, parseWindowState, type WindowState } from './window-state.ts';
 
 const APP_NAME = 'Spinyard';
@@ -542,7 +542,8 @@ function createWindow(initial: HostDocument | null): BrowserWindow {
   wc.on('will-navigate', (e) => e.preventDefault());
   wc.on('will-redirect', (e) => e.preventDefault());
   wc.setWindowOpenHandler(({ url }) => {
-    if (isExternalLink(url)) void shell.openExternal(url);
+    // Only the project's own documentation links (security.ts, EXTERNAL_LINKS); everything else is refused.
+    if (isAllowedExternalLink(url)) void shell.openExternal(url);
     return { action: 'deny' };
   });
   win.once('ready-to-show', () => win.show());

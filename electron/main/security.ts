@@ -57,12 +57,28 @@ export function isAllowedDevUrl(url: string): boolean {
   }
 }
 
-/** Links the renderer may hand to the operating system (README, project pages): https and mailto. */
-export function isExternalLink(url: string): boolean {
+/** The links the renderer may hand to the operating system's browser (shell.openExternal): the project's
+ *  own documentation pages, each written out in full. The renderer opens none today (its help is inside
+ *  the app and Help → README opens the README file of the installation), so the list is empty and every
+ *  window.open or target=_blank is refused. A link added to the app is added here, as the exact https
+ *  URL, with its test in test/electron/main/security.test.ts. */
+export const EXTERNAL_LINKS: readonly string[] = [];
+
+/** True when `url` is exactly one of `allowed` (https only; compared as parsed URLs, so "HTTPS://Host/a"
+ *  equals "https://host/a", while another path, query, fragment, port or user name does not). */
+export function isAllowedExternalLink(url: string, allowed: readonly string[] = EXTERNAL_LINKS): boolean {
+  let u: URL;
   try {
-    const u = new URL(url);
-    return u.protocol === 'https:' || u.protocol === 'mailto:';
+    u = new URL(url);
   } catch {
     return false;
   }
+  if (u.protocol !== 'https:' || u.username !== '' || u.password !== '') return false;
+  return allowed.some((a) => {
+    try {
+      return new URL(a).href === u.href;
+    } catch {
+      return false;
+    }
+  });
 }

@@ -1,6 +1,6 @@
 import * as path from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { APP_ENTRY, CONTENT_SECURITY_POLICY, isAllowedDevUrl, isExternalLink, mimeTypeOf, resolveAppFile } from '../../../electron/main/security.ts';
+import { APP_ENTRY, CONTENT_SECURITY_POLICY, EXTERNAL_LINKS, isAllowedDevUrl, isAllowedExternalLink, mimeTypeOf, resolveAppFile } from '../../../electron/main/security.ts';
 import { CONTENT_SECURITY_POLICY as SHARED } from '../../../src/host/csp.ts';
 
 const root = path.resolve('/opt/spinyard/dist-web');
@@ -45,12 +45,29 @@ describe('policy helpers', () => {
     expect(isAllowedDevUrl('https://127.0.0.1/')).toBe(false);
     expect(isAllowedDevUrl('file:///tmp/index.html')).toBe(false);
   });
-  it('hands only https and mailto links to the system', () => {
-    expect(isExternalLink('https://physics.nist.gov/cuu/Constants/')).toBe(true);
-    expect(isExternalLink('mailto:lab@example.org')).toBe(true);
-    expect(isExternalLink('file:///etc/passwd')).toBe(false);
-    expect(isExternalLink('javascript:alert(1)')).toBe(false);
-    expect(isExternalLink('http://example.org')).toBe(false);
+  it('hands the system no link the renderer names: the allow-list is empty, as the renderer opens none', () => {
+    expect(EXTERNAL_LINKS).toEqual([]);
+    for (const url of ['https://physics.nist.gov/cuu/Constants/', 'mailto:lab@example.org', 'file:///etc/passwd', 'javascript:alert(1)', 'http://example.org', 'https://127.0.0.1/']) {
+      expect(isAllowedExternalLink(url), url).toBe(false);
+    }
+  });
+  it('allows exactly the listed https links, nothing near them', () => {
+    const list = ['https://docs.example.org/spinyard/guide.html'];
+    expect(isAllowedExternalLink('https://docs.example.org/spinyard/guide.html', list)).toBe(true);
+    expect(isAllowedExternalLink('HTTPS://DOCS.example.org/spinyard/guide.html', list)).toBe(true); // the same URL
+    for (const url of [
+      'https://docs.example.org/spinyard/guide.html?x=1',
+      'https://docs.example.org/spinyard/guide.html#top',
+      'https://docs.example.org/spinyard/',
+      'https://docs.example.org/spinyard/guide.html/../../evil',
+      'https://docs.example.org:8443/spinyard/guide.html',
+      'https://user@docs.example.org/spinyard/guide.html',
+      'https://docs.example.org.evil.test/spinyard/guide.html',
+      'http://docs.example.org/spinyard/guide.html',
+    ]) {
+      expect(isAllowedExternalLink(url, list), url).toBe(false);
+    }
+    expect(isAllowedExternalLink('http://docs.example.org/a', ['http://docs.example.org/a'])).toBe(false); // https only
   });
   it('serves scripts and documents with their types', () => {
     expect(mimeTypeOf('/x/a.js')).toMatch(/^text\/javascript/);
