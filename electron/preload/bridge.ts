@@ -72,6 +72,7 @@ export function createBridge(ipc: IpcLike, platform: string): SpinyardBridge {
     setTitle: (title) => send(SEND_CHANNELS.setTitle, String(title)),
     printSheet: (html) => invoke(INVOKE_CHANNELS.printSheet, html),
     exportPdf: (html, name) => invoke(INVOKE_CHANNELS.exportPdf, html, name),
+    saveTextFile: (req) => invoke(INVOKE_CHANNELS.saveTextFile, req),
     onMenuCommand: (handler) => listen<string>(EVENT_CHANNELS.menuCommand, handler),
     onOpenDocument: (handler) => listen<HostDocument>(EVENT_CHANNELS.openDocument, handler),
   };

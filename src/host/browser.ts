@@ -1,6 +1,6 @@
 // The browser host: the Host contract for the renderer served by `npm run web` (and the e2e tests).
 //   open     an <input type=file accept=".spinyard"> picker
-//   save     a download (Blob + <a download>); the browser chooses where it goes
+//   save     a download (Blob + <a download>); the browser chooses where it goes (documents and text exports)
 //   autosave IndexedDB (database "spinyard", store "drafts"), or memory where IndexedDB is unavailable
 //   recent   localStorage: the list, plus the last opened or saved text of each entry so it reopens
 //   samples  fetched from samples/index.json and samples/NAME beside the page (the web build copies them)
@@ -11,11 +11,14 @@ import {
   DOCUMENT_EXTENSION,
   MAX_DOCUMENT_CHARS,
   RECENT_LIMIT,
+  TEXT_FILE_TYPES,
+  fileExtension,
   isAutosaveDraft,
   isDocumentName,
   isDraftKey,
   isSampleName,
   isSaveRequest,
+  isTextFileRequest,
   parseSampleIndex,
   withDocumentExtension,
   type AutosaveDraft,
@@ -26,6 +29,7 @@ import {
   type SampleInfo,
   type SaveRequest,
   type SaveResult,
+  type TextFileRequest,
 } from './contract.ts';
 import { isSessionMarker, newSessionId, sessionsToForget, triageDrafts, type SessionMarker } from './drafts.ts';
 import { addRecent, parseRecentList } from './recent-list.ts';
@@ -389,6 +393,14 @@ export function createBrowserHost(deps: BrowserHostDeps = {}): Host {
     async exportPdf(html: string) {
       await print(html);
       return null;
+    },
+    async saveTextFile(req: TextFileRequest): Promise<SaveResult | null> {
+      if (!isTextFileRequest(req)) {
+        const name = (req as { name?: unknown } | null)?.name;
+        throw new Error(`Cannot save ${typeof name === 'string' ? `"${name}"` : 'the file'}: a text export needs a file name ending in ${Object.keys(TEXT_FILE_TYPES).map((x) => `.${x}`).join(', ')} and its text.`);
+      }
+      download(req.name, req.text, TEXT_FILE_TYPES[fileExtension(req.name)]);
+      return { name: req.name };
     },
     onMenuCommand(_handler, _signal) {
       return () => {};

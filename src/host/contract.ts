@@ -14,6 +14,8 @@ export const DOCUMENT_EXTENSION = '.spinyard';
 export const MAX_DOCUMENT_CHARS = 20_000_000;
 /** Largest setup-sheet HTML accepted for printing or PDF export. */
 export const MAX_SHEET_CHARS = 20_000_000;
+/** Largest exported text file accepted (a ports table as CSV is a few kB per hundred leaves). */
+export const MAX_TEXT_FILE_CHARS = 20_000_000;
 /** Largest window title accepted. */
 export const MAX_TITLE_CHARS = 300;
 /** Recent documents kept (Electron and browser alike). */
@@ -46,6 +48,21 @@ export interface SaveResult {
   path?: string;
   name: string;
 }
+
+/** An exported text file (the ports table as CSV): `name` is the file name suggested to the user, its
+ *  extension one of TEXT_FILE_TYPES. The host asks where to save it (Electron's save dialog) or downloads
+ *  it (the browser). Never a document: the extension .spinyard is refused here. */
+export interface TextFileRequest {
+  name: string;
+  text: string;
+}
+
+/** The extensions a text export may have, with their media types. */
+export const TEXT_FILE_TYPES: Readonly<Record<string, string>> = {
+  csv: 'text/csv',
+  tsv: 'text/tab-separated-values',
+  txt: 'text/plain',
+};
 
 /** A sample beamline of samples/*.spinyard. `title` is the document's title when known. */
 export interface SampleInfo {
@@ -117,6 +134,11 @@ export interface Host {
   /** Write the setup sheet as PDF. Electron: a save dialog, then an atomic write. Browser: opens the
    *  print dialog (choose "Save as PDF") and resolves null. */
   exportPdf(html: string, name: string): Promise<SaveResult | null>;
+  /** Save an exported text file (the ports table as CSV). Electron: a save dialog suggesting `req.name`
+   *  beside the document, then an atomic write; null when the user cancelled. Browser: a download
+   *  (the browser chooses where), resolving with the name. Rejects with a message naming the file when
+   *  the write failed. */
+  saveTextFile(req: TextFileRequest): Promise<SaveResult | null>;
   /** Receive menu command ids (`HOST_COMMANDS`). Returns the unsubscribe; aborting `signal` unsubscribes
    *  too. The browser host has no menus: the renderer's own keyboard handling is the only source there. */
   onMenuCommand(handler: (commandId: string) => void, signal?: AbortSignal): () => void;
@@ -153,6 +175,7 @@ export const INVOKE_CHANNELS = {
   openRecent: 'spinyard:open-recent',
   printSheet: 'spinyard:print-sheet',
   exportPdf: 'spinyard:export-pdf',
+  saveTextFile: 'spinyard:save-text-file',
 } as const;
 
 /** Renderer → main notifications (ipcRenderer.send / ipcMain.on), no reply. */
@@ -284,6 +307,27 @@ export function isSaveRequest(v: unknown): v is SaveRequest {
   );
 }
 
+/** The extension of a file name, lower case, without the dot ("" when it has none). */
+export function fileExtension(name: string): string {
+  const i = name.lastIndexOf('.');
+  return i > 0 ? name.slice(i + 1).toLowerCase() : '';
+}
+
+/** A text export's file name: a document name whose extension is one of TEXT_FILE_TYPES. */
+export function isTextFileName(v: unknown): v is string {
+  return isDocumentName(v) && Object.prototype.hasOwnProperty.call(TEXT_FILE_TYPES, fileExtension(v));
+}
+
+export function isTextFileRequest(v: unknown): v is TextFileRequest {
+  return (
+    isRecord(v) &&
+    onlyKeys(v, ['name', 'text']) &&
+    isTextFileName(v.name) &&
+    typeof v.text === 'string' &&
+    v.text.length <= MAX_TEXT_FILE_CHARS
+  );
+}
+
 export function isSaveResult(v: unknown): v is SaveResult {
   return isRecord(v) && onlyKeys(v, ['path', 'name']) && isOptional(v.path, isAbsolutePath) && isDocumentName(v.name);
 }
@@ -396,6 +440,7 @@ export const INVOKE_ARGS: Record<InvokeChannel, ArgsCheck> = {
   [INVOKE_CHANNELS.openRecent]: one(isRecentId),
   [INVOKE_CHANNELS.printSheet]: one(isSheetHtml),
   [INVOKE_CHANNELS.exportPdf]: (a) => a.length === 2 && isSheetHtml(a[0]) && isDocumentName(a[1]),
+  [INVOKE_CHANNELS.saveTextFile]: one(isTextFileRequest),
 };
 
 /** Checks of the argument list of each send channel. */
@@ -428,6 +473,7 @@ export const INVOKE_REPLY: Record<InvokeChannel, (x: unknown) => boolean> = {
   [INVOKE_CHANNELS.openRecent]: nullOr(isHostDocument),
   [INVOKE_CHANNELS.printSheet]: (x) => typeof x === 'boolean',
   [INVOKE_CHANNELS.exportPdf]: nullOr(isSaveResult),
+  [INVOKE_CHANNELS.saveTextFile]: nullOr(isSaveResult),
 };
 
 /** Checks of the payload of each event channel. */

@@ -44,6 +44,7 @@ export function hostFromBridge(bridge: SpinyardBridge): Host {
     setTitle: (title) => bridge.setTitle(title),
     printSheet: (html) => bridge.printSheet(html),
     exportPdf: (html, name) => bridge.exportPdf(html, name),
+    saveTextFile: (req) => bridge.saveTextFile(req),
     onMenuCommand: (handler, signal) => withSignal<string>((h) => bridge.onMenuCommand(h), handler, signal),
     onOpenDocument: (handler, signal) => withSignal<HostDocument>((h) => bridge.onOpenDocument(h), handler, signal),
   };

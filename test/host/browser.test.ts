@@ -68,6 +68,27 @@ describe('createBrowserHost', () => {
     expect(downloads).toEqual([]);
   });
 
+  it('saves a text export (the ports table as CSV) as a download of its own type, not as a recent document', async () => {
+    const { host, downloads } = setup();
+    const csv = 'path,target,yield\r\nM1:+1/2,D1,0.5\r\n';
+    expect(await host.saveTextFile({ name: 'bench-c-ports.csv', text: csv })).toEqual({ name: 'bench-c-ports.csv' });
+    expect(await host.saveTextFile({ name: 'notes.TXT', text: 'x' })).toEqual({ name: 'notes.TXT' });
+    expect(downloads).toEqual([
+      { name: 'bench-c-ports.csv', text: csv, mime: 'text/csv' },
+      { name: 'notes.TXT', text: 'x', mime: 'text/plain' },
+    ]);
+    expect(await host.recentDocuments()).toEqual([]);
+  });
+
+  it('refuses a text export named like a document, without a known extension or without text, naming the file', async () => {
+    const { host, downloads } = setup();
+    await expect(host.saveTextFile({ name: 'bench-c.spinyard', text: 'x' })).rejects.toThrow(/"bench-c\.spinyard".*\.csv/);
+    await expect(host.saveTextFile({ name: 'ports', text: 'x' })).rejects.toThrow(/"ports"/);
+    await expect(host.saveTextFile({ name: 'a/b.csv', text: 'x' })).rejects.toThrow(/"a\/b\.csv"/);
+    await expect(host.saveTextFile({ name: 'a.csv' } as never)).rejects.toThrow(/"a\.csv"/);
+    expect(downloads).toEqual([]);
+  });
+
   it('keeps at most 10 recent documents and drops the texts of those it forgets', async () => {
     const storage = fakeStorage();
     const { host } = setup({ storage });

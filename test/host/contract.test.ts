@@ -8,9 +8,11 @@ import {
   INVOKE_CHANNELS,
   INVOKE_REPLY,
   MAX_DOCUMENT_CHARS,
+  MAX_TEXT_FILE_CHARS,
   SEND_ARGS,
   SEND_CHANNELS,
   commandAccelerator,
+  fileExtension,
   isAbsolutePath,
   isAutosaveDraft,
   isCommandId,
@@ -23,6 +25,8 @@ import {
   isSaveRequest,
   isSaveResult,
   isSheetHtml,
+  isTextFileName,
+  isTextFileRequest,
   isWindowTitle,
   parseSampleIndex,
   withDocumentExtension,
@@ -163,6 +167,25 @@ describe('isRecentDocument, isWindowTitle, isSheetHtml, isCommandId', () => {
   });
 });
 
+describe('isTextFileName / isTextFileRequest', () => {
+  it('accept an export with a text extension and its text', () => {
+    expect(isTextFileName('bench-c-ports.csv')).toBe(true);
+    expect(isTextFileName('Ports.CSV')).toBe(true);
+    expect(isTextFileName('levels.tsv')).toBe(true);
+    expect(isTextFileRequest({ name: 'a.csv', text: '' })).toBe(true);
+    expect(fileExtension('a.b.CSV')).toBe('csv');
+    expect(fileExtension('.csv')).toBe('');
+  });
+  it('refuse documents, other or missing extensions, paths, extra keys and oversized text', () => {
+    for (const name of ['a.spinyard', 'a.html', 'a', '.csv', 'x/a.csv', '..\\a.csv', 'a.csv\u0000']) expect(isTextFileName(name), name).toBe(false);
+    expect(isTextFileRequest({ name: 'a.csv' })).toBe(false);
+    expect(isTextFileRequest({ name: 'a.csv', text: 5 })).toBe(false);
+    expect(isTextFileRequest({ name: 'a.csv', text: '', path: '/tmp/a.csv' })).toBe(false);
+    expect(isTextFileRequest({ name: 'a.csv', text: 'x'.repeat(MAX_TEXT_FILE_CHARS + 1) })).toBe(false);
+    expect(isTextFileRequest(null)).toBe(false);
+  });
+});
+
 describe('INVOKE_ARGS', () => {
   it('refuses extra or missing arguments', () => {
     expect(INVOKE_ARGS[INVOKE_CHANNELS.openDocument]([])).toBe(true);
@@ -175,6 +198,9 @@ describe('INVOKE_ARGS', () => {
     expect(INVOKE_ARGS[INVOKE_CHANNELS.autosave](['k'])).toBe(false);
     expect(INVOKE_ARGS[INVOKE_CHANNELS.exportPdf](['<p>', 'sheet.pdf'])).toBe(true);
     expect(INVOKE_ARGS[INVOKE_CHANNELS.exportPdf](['<p>'])).toBe(false);
+    expect(INVOKE_ARGS[INVOKE_CHANNELS.saveTextFile]([{ name: 'a-ports.csv', text: 'a,b\r\n' }])).toBe(true);
+    expect(INVOKE_ARGS[INVOKE_CHANNELS.saveTextFile]([{ name: 'a-ports.csv', text: 'x' }, 'y'])).toBe(false);
+    expect(INVOKE_ARGS[INVOKE_CHANNELS.saveTextFile]([])).toBe(false);
     expect(SEND_ARGS[SEND_CHANNELS.setDirty]([true])).toBe(true);
     expect(SEND_ARGS[SEND_CHANNELS.setDirty](['true'])).toBe(false);
   });

@@ -21,6 +21,10 @@ function fakeBridge() {
       calls.push(`save ${JSON.stringify(req)}`);
       return { name: 'a.spinyard', path: '/a.spinyard' };
     },
+    saveTextFile: async (req: unknown) => {
+      calls.push(`text ${JSON.stringify(req)}`);
+      return { name: 'a-ports.csv', path: '/a-ports.csv' };
+    },
   } as unknown as SpinyardBridge;
   return { bridge, menu, docs, calls };
 }
@@ -31,7 +35,8 @@ describe('hostFromBridge', () => {
     const host = hostFromBridge(f.bridge);
     expect(host.kind).toBe('electron');
     expect(await host.saveDocument({ name: 'a.spinyard', text: 'x' })).toEqual({ name: 'a.spinyard', path: '/a.spinyard' });
-    expect(f.calls).toEqual(['save {"name":"a.spinyard","text":"x"}']);
+    expect(await host.saveTextFile({ name: 'a-ports.csv', text: 'y' })).toEqual({ name: 'a-ports.csv', path: '/a-ports.csv' });
+    expect(f.calls).toEqual(['save {"name":"a.spinyard","text":"x"}', 'text {"name":"a-ports.csv","text":"y"}']);
   });
 
   it('unsubscribes menu handlers when the signal aborts', () => {

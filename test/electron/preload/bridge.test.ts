@@ -26,7 +26,7 @@ function fakeIpc(reply: (channel: string, args: unknown[]) => unknown = () => nu
 const HOST_KEYS: (keyof Host)[] = [
   'kind', 'platform', 'initialDocument', 'openDocument', 'saveDocument', 'newWindow', 'listSamples', 'readSample', 'autosave',
   'loadAutosave', 'clearAutosave', 'recentDocuments', 'openRecent', 'setDirty', 'setTitle', 'printSheet', 'exportPdf',
-  'onMenuCommand', 'onOpenDocument',
+  'saveTextFile', 'onMenuCommand', 'onOpenDocument',
 ];
 
 describe('createBridge', () => {
@@ -52,6 +52,17 @@ describe('createBridge', () => {
       [SEND_CHANNELS.setDirty, [true]],
       [SEND_CHANNELS.setTitle, ['Bench B']],
     ]);
+  });
+
+  it('saves a text export through its own channel and checks the reply', async () => {
+    const f = fakeIpc((ch) => (ch === INVOKE_CHANNELS.saveTextFile ? { name: 'a-ports.csv', path: '/lab/a-ports.csv' } : null));
+    const b = createBridge(f.ipc, 'linux');
+    expect(await b.saveTextFile({ name: 'a-ports.csv', text: 'a,b\r\n' })).toEqual({ name: 'a-ports.csv', path: '/lab/a-ports.csv' });
+    expect(f.invoked).toEqual([[INVOKE_CHANNELS.saveTextFile, [{ name: 'a-ports.csv', text: 'a,b\r\n' }]]]);
+    const cancelled = createBridge(fakeIpc(() => null).ipc, 'linux');
+    expect(await cancelled.saveTextFile({ name: 'a-ports.csv', text: '' })).toBeNull();
+    const bad = createBridge(fakeIpc(() => ({ name: '../a.csv', path: 'relative' })).ipc, 'linux');
+    await expect(bad.saveTextFile({ name: 'a-ports.csv', text: '' })).rejects.toThrow(/malformed reply on spinyard:save-text-file/);
   });
 
   it('rejects a malformed reply from main', async () => {
