@@ -5,11 +5,10 @@
 // spinyard://app/ (see security.ts for why not file://), or from SPINYARD_DEV_URL (http on loopback)
 // during development.
 
-import { app, BrowserWindow, dialog, ipcMain, Menu, protocol, screen, session, shell, type IpcMainEvent, type IpcMainInvokeEvent, type MenuItemConstructorOptions } from 'electron';
+import { app, BrowserWindow, dialog, ipcMain, Menu, protocol, screen, session, shell, type IpcMainEvent, type IpcMainInvokeEvent, type MenuItemConstructorOptions, type Session } from 'electron';
 import * as fs from 'node:fs/promises';
 import { existsSync, readFileSync } from 'node:fs';
 import * as path from 'node:path';
-import { randomBytes } from 'node:crypto';
 import {
   EVENT_CHANNELS,
   INVOKE_CHANNELS,
@@ -32,6 +31,7 @@ import { readDocumentFile } from './read-document.ts';
 import { createRecentStore } from './recent.ts';
 import { listSamples, readSample } from './samples.ts';
 import { textFileDialog, textFileTarget } from './text-file.ts';
+import { createSheetPages, SHEET_ORIGIN, SHEET_PARTITION } from './sheet-page.ts';
 import { removeTempsAtStart } from './temp-cleanup.ts';
 import { APP_ENTRY, APP_ORIGIN, APP_SCHEME, CONTENT_SECURITY_POLICY, isAllowedDevUrl, isAllowedExternalLink, mimeTypeOf, resolveAppFile } from './security.ts';
 import { cascadeFrom, clampWindowState, DEFAULT_WINDOW, MIN_HEIGHT, MIN_WIDTH, parseWindowState, type WindowState } from './window-state.ts';
@@ -357,24 +357,28 @@ async function start(): Promise<void> {
     return { path: target, name: path.basename(target) };
   }
 
-  /** Loads sheet HTML into a hidden window with JavaScript off (the sheet is static HTML and SVG). */
+  /** Loads sheet HTML into a hidden window of the sheet session (sheet-page.ts: served from memory under
+   *  SHEET_CSP) with JavaScript off (the sheet is static HTML and SVG). */
   async function sheetWindow(html: string): Promise<{ win: BrowserWindow; done: () => Promise<void> }> {
-    const file = path.join(app.getPath('temp'), `spinyard-sheet-${randomBytes(6).toString('hex')}.html`);
-    await fs.writeFile(file, html, 'utf8');
+    const url = sheetPages.add(html);
     const win = new BrowserWindow({
       show: false,
-      webPreferences: { javascript: false, sandbox: true, contextIsolation: true, nodeIntegration: false, webSecurity: true },
+      webPreferences: { session: sheetSession(), javascript: false, sandbox: true, contextIsolation: true, nodeIntegration: false, webSecurity: true, devTools: false },
     });
     win.webContents.on('will-navigate', (e) => e.preventDefault());
+    win.webContents.on('will-redirect', (e) => e.preventDefault());
     win.webContents.setWindowOpenHandler(() => ({ action: 'deny' }));
-    await win.loadFile(file);
-    return {
-      win,
-      done: async () => {
-        if (!win.isDestroyed()) win.destroy();
-        await fs.unlink(file).catch(() => {});
-      },
+    const done = async () => {
+      if (!win.isDestroyed()) win.destroy();
+      sheetPages.remove(url);
     };
+    try {
+      await win.loadURL(url);
+    } catch (e) {
+      await done();
+      throw e;
+    }
+    return { win, done };
   }
 
   async function printHtml(_rec: DocWindow, html: string): Promise<boolean> {
@@ -447,12 +451,29 @@ function trustedRecord(event: IpcMainEvent | IpcMainInvokeEvent): DocWindow | un
   return isTrustedSender(senderInfo(event), own, appOrigins) ? windows.get(event.sender.id) : undefined;
 }
 
-function lockDownSession(): void {
-  const ses = session.defaultSession;
+function lockDownSession(ses: Session = session.defaultSession): void {
   ses.setPermissionRequestHandler((_wc, _permission, callback) => callback(false));
   ses.setPermissionCheckHandler(() => false);
   ses.setDevicePermissionHandler(() => false);
   ses.on('will-download', (e) => e.preventDefault());
+}
+
+// The print windows' session (sheet-page.ts): in memory, locked down, serving only the sheets waiting to
+// be printed; any other request is cancelled before it leaves (the page's policy forbids them anyway).
+const sheetPages = createSheetPages();
+let sheetSessionMade: Session | null = null;
+
+function sheetSession(): Session {
+  if (sheetSessionMade) return sheetSessionMade;
+  const ses = session.fromPartition(SHEET_PARTITION);
+  lockDownSession(ses);
+  ses.webRequest.onBeforeRequest((details, callback) => callback({ cancel: !details.url.startsWith(`${SHEET_ORIGIN}/`) }));
+  ses.protocol.handle(APP_SCHEME, (request) => {
+    const r = sheetPages.respond(request.url);
+    return new Response(r.body, { status: r.status, headers: r.headers });
+  });
+  sheetSessionMade = ses;
+  return ses;
 }
 
 async function serveAppFile(request: Request): Promise<Response> {
