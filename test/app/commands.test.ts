@@ -1,5 +1,5 @@
 import { describe, it, expect, vi } from 'vitest';
-import { createRegistry, filterCommands, shortcutLabel, type Command } from '../../src/app/commands.ts';
+import { commandLabel, createRegistry, filterCommands, shortcutLabel, type Command } from '../../src/app/commands.ts';
 
 interface Ctx { log: string[]; canUndo: boolean }
 const key = (k: string, mods: Partial<{ ctrl: boolean; shift: boolean; alt: boolean; meta: boolean }> = {}) => ({
@@ -60,6 +60,43 @@ describe('createRegistry', () => {
     r.unregisterPrefix('samples.open.');
     expect(r.list().map((c) => c.id)).not.toContain('samples.open.a.spinyard');
     expect(r.list()).toHaveLength(4);
+  });
+});
+
+describe('commands with an argument', () => {
+  interface ACtx { log: string[] }
+  const withArg = () => {
+    const r = createRegistry<ACtx>();
+    r.register({ id: 'file.save', label: 'Save', menu: 'File', shortcut: 'CmdOrCtrl+S', perform: (c) => void c.log.push('save') });
+    r.register({
+      id: 'inspector.edit', label: 'Edit', menu: 'Element', takesArg: true, shortcut: 'CmdOrCtrl+E',
+      choices: () => [{ label: 'Set Species: Ag', arg: 'Ag' }, { label: 'Set Species: Rb-87', arg: 'Rb-87' }],
+      perform: (c, a) => void c.log.push(`edit ${String(a)}`),
+    });
+    return r;
+  };
+  it('run only with their argument, and pass it', () => {
+    const r = withArg();
+    const ctx: ACtx = { log: [] };
+    expect(r.run('inspector.edit', ctx)).toBe(false);
+    expect(r.run('inspector.edit', ctx, 'K-39')).toBe(true);
+    expect(r.run('file.save', ctx, 'ignored')).toBe(true);
+    expect(ctx.log).toEqual(['edit K-39', 'save']);
+  });
+  it('are not pressed by a key; the palette lists their choices, each with its argument', () => {
+    const r = withArg();
+    expect(r.forKey(key('e', { ctrl: true }), 'linux')).toBeUndefined();
+    expect(r.entries({ log: [] })).toEqual([
+      { key: 'file.save', id: 'file.save', label: 'Save', menu: 'File', shortcut: 'CmdOrCtrl+S' },
+      { key: 'inspector.edit#0', id: 'inspector.edit', label: 'Set Species: Ag', menu: 'Element', arg: 'Ag' },
+      { key: 'inspector.edit#1', id: 'inspector.edit', label: 'Set Species: Rb-87', menu: 'Element', arg: 'Rb-87' },
+    ]);
+    expect(filterCommands(r.entries({ log: [] }), 'species rb').map((e) => e.key)).toEqual(['inspector.edit#1']);
+  });
+  it('a label may read from the context (describe), else the fixed label', () => {
+    const cmd = { id: 'edit.undo', label: 'Undo', menu: 'Edit' as const, describe: (c: { last: string }) => (c.last ? `Undo ${c.last}` : undefined), perform: () => {} };
+    expect(commandLabel(cmd, { last: 'M2 gap = 5 cm' })).toBe('Undo M2 gap = 5 cm');
+    expect(commandLabel(cmd, { last: '' })).toBe('Undo');
   });
 });
 

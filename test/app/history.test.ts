@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { canRedo, canUndo, historyPush, historyRedo, historyStart, historyUndo } from '../../src/app/history.ts';
+import { canRedo, canUndo, historyPush, historyRedo, historyStart, historyUndo, redoLabel, undoLabel } from '../../src/app/history.ts';
 
 describe('history', () => {
   it('undoes and redoes edits in order', () => {
@@ -34,5 +34,22 @@ describe('history', () => {
     for (let i = 1; i <= 10; i++) h = historyPush(h, i, 3);
     expect(h.past).toEqual([7, 8, 9]);
     expect(h.present).toBe(10);
+  });
+
+  it('keeps the label of each edit for Undo and Redo, through undo, redo, a new edit and the limit', () => {
+    let h = historyPush(historyPush(historyStart('a'), 'b', { label: 'edit b' }), 'c', { label: 'edit c' });
+    expect([undoLabel(h), redoLabel(h)]).toEqual(['edit c', '']);
+    h = historyUndo(h);
+    expect([h.present, undoLabel(h), redoLabel(h)]).toEqual(['b', 'edit b', 'edit c']);
+    h = historyUndo(h);
+    expect([h.present, undoLabel(h), redoLabel(h)]).toEqual(['a', '', 'edit b']);
+    h = historyRedo(historyRedo(h));
+    expect([h.present, undoLabel(h), redoLabel(h)]).toEqual(['c', 'edit c', '']);
+    h = historyPush(historyUndo(h), 'd', { label: 'edit d', limit: 1 });
+    expect(h.past).toEqual(['b']);
+    expect(h.pastLabels).toEqual(['edit b']);
+    expect([undoLabel(h), redoLabel(h)]).toEqual(['edit d', '']);
+    expect(historyUndo(h).presentLabel).toBe('edit b'); // the oldest kept document keeps its label, though nothing is left to undo
+    expect(undoLabel(historyUndo(h))).toBe('');
   });
 });
