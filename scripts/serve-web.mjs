@@ -1,5 +1,9 @@
 // Static server for the built renderer (dist-web) on 127.0.0.1 only. Port: $PORT, else 5178, else the
 // next free one (PORT=0 takes any free port). Prints the URL on one line. Web Workers need http(s).
+// Every response carries the renderer's Content-Security-Policy (src/host/csp.ts, whose directives are
+// in src/host/csp-directives.json), and a request is answered only when its Host header is
+// 127.0.0.1:PORT or localhost:PORT: another site whose name resolves to 127.0.0.1 (DNS rebinding) gets
+// 421 and nothing of the app (test/host/serve-web.test.ts).
 import { createServer } from 'node:http';
 import { readFile, stat } from 'node:fs/promises';
 import { readFileSync } from 'node:fs';
@@ -9,23 +13,39 @@ import { fileURLToPath } from 'node:url';
 const root = join(dirname(fileURLToPath(import.meta.url)), '..', process.env.SPINYARD_WEB_DIR ?? 'dist-web');
 // the Content-Type table shared with the Electron app protocol (electron/main/security.ts)
 const TYPES = JSON.parse(readFileSync(join(dirname(fileURLToPath(import.meta.url)), '..', 'src', 'host', 'mime-types.json'), 'utf8'));
+// the renderer's policy, as src/host/csp.ts builds CONTENT_SECURITY_POLICY from the same directives
+const CSP = JSON.parse(readFileSync(join(dirname(fileURLToPath(import.meta.url)), '..', 'src', 'host', 'csp-directives.json'), 'utf8'))
+  .map(([k, v]) => `${k} ${v}`)
+  .join('; ');
+const COMMON = { 'Content-Security-Policy': CSP, 'X-Content-Type-Options': 'nosniff' };
+const TEXT = { ...COMMON, 'Content-Type': 'text/plain; charset=utf-8' };
 
-async function handle(req, res) {
+/** True when the request names this server: Host 127.0.0.1:PORT or localhost:PORT, nothing else. */
+function addressedHere(req, port) {
+  const host = (req.headers.host ?? '').toLowerCase();
+  return host === `127.0.0.1:${port}` || host === `localhost:${port}`;
+}
+
+async function handle(req, res, port) {
+  if (!addressedHere(req, port)) {
+    res.writeHead(421, TEXT).end(`misdirected request: this server answers 127.0.0.1:${port} and localhost:${port} only\n`);
+    return;
+  }
   if (req.method !== 'GET' && req.method !== 'HEAD') {
-    res.writeHead(405, { Allow: 'GET, HEAD' }).end();
+    res.writeHead(405, { ...COMMON, Allow: 'GET, HEAD' }).end();
     return;
   }
   let path;
   try {
     path = decodeURIComponent(new URL(req.url ?? '/', 'http://127.0.0.1').pathname);
   } catch {
-    res.writeHead(400).end('bad request');
+    res.writeHead(400, TEXT).end('bad request');
     return;
   }
   if (path.endsWith('/')) path += 'index.html';
   const file = normalize(join(root, path));
   if (file !== root && !file.startsWith(root + sep)) {
-    res.writeHead(403).end('forbidden');
+    res.writeHead(403, TEXT).end('forbidden');
     return;
   }
   try {
@@ -33,20 +53,20 @@ async function handle(req, res) {
     if (!s.isFile()) throw new Error('not a file');
     const body = await readFile(file);
     res.writeHead(200, {
+      ...COMMON,
       'Content-Type': TYPES[extname(file).toLowerCase()] ?? 'application/octet-stream',
       'Content-Length': body.length,
       'Cache-Control': 'no-cache',
-      'X-Content-Type-Options': 'nosniff',
     });
     res.end(req.method === 'HEAD' ? undefined : body);
   } catch {
-    res.writeHead(404, { 'Content-Type': 'text/plain; charset=utf-8' }).end(`not found: ${path}`);
+    res.writeHead(404, TEXT).end(`not found: ${path}`);
   }
 }
 
 function listen(port, tries) {
   const server = createServer((req, res) => {
-    handle(req, res).catch(() => res.writeHead(500).end());
+    handle(req, res, server.address().port).catch(() => res.writeHead(500, TEXT).end());
   });
   server.once('error', (e) => {
     if (e.code === 'EADDRINUSE' && tries > 0 && port !== 0) listen(port + 1, tries - 1);

@@ -5,19 +5,11 @@
 // The renderer's index.html carries CONTENT_SECURITY_POLICY_META verbatim (test/host/csp.test.ts).
 // frame-ancestors is ignored in a <meta> policy: serve it as a header where it matters.
 
-export const CSP_DIRECTIVES: ReadonlyArray<readonly [string, string]> = [
-  ['default-src', "'self'"],
-  ['script-src', "'self' 'wasm-unsafe-eval'"],
-  ['style-src', "'self' 'unsafe-inline'"],
-  ['img-src', "'self' data: blob:"],
-  ['font-src', "'self' data:"],
-  ['worker-src', "'self' blob:"],
-  ['connect-src', "'self'"],
-  ['object-src', "'none'"],
-  ['base-uri', "'none'"],
-  ['form-action', "'none'"],
-  ['frame-ancestors', "'none'"],
-];
+import DIRECTIVES from './csp-directives.json';
+
+// The directives are kept as JSON (csp-directives.json) so that scripts/serve-web.mjs, plain Node, sends
+// the same header.
+export const CSP_DIRECTIVES: ReadonlyArray<readonly [string, string]> = DIRECTIVES as [string, string][];
 
 export const CONTENT_SECURITY_POLICY: string = CSP_DIRECTIVES.map(([k, v]) => `${k} ${v}`).join('; ');
 
