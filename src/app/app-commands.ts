@@ -3,8 +3,10 @@
 // they are.
 import type { SampleInfo, AutosaveDraft } from '../host/contract.ts';
 import type { BeamlineDoc, Problem } from './core-adapter.ts';
-import { canRedo, canUndo, type History } from './history.ts';
-import type { Command } from './commands.ts';
+import { canRedo, canUndo, redoLabel, undoLabel, type History } from './history.ts';
+import type { Command, CommandChoice } from './commands.ts';
+import { elementFields, VELOCITY_KINDS } from './fields.ts';
+import { BARE_SPIN_CHOICE, type InspectorEdit } from './inspector-edit.ts';
 
 export interface AppCtx {
   app: AppApi;
@@ -18,6 +20,12 @@ export interface AppApi {
   running: boolean;
   hasResult: boolean;
   samples: readonly SampleInfo[];
+  /** Names of the species library (the species choice offers them and "bare spin"). */
+  speciesNames: readonly string[];
+  /** The line's species has hyperfine structure (the magnets' group and entry apply). */
+  hyperfine: boolean;
+  /** An edit made in the inspector (the command `inspector.edit`): applied, or its message shown where it belongs. */
+  edit(e: InspectorEdit): void;
   undo(): void;
   redo(): void;
   newDoc(): void;
@@ -50,6 +58,43 @@ export type DialogState =
   | { kind: 'recover'; drafts: AutosaveDraft[] };
 
 const STEP_M = 0.005;
+
+/**
+ * The inspector's edits with a few choices, as the palette offers them for `inspector.edit`: the species,
+ * the oven's velocity distribution, and the choices and switches of the selected element. Quantities are
+ * typed into the inspector itself.
+ */
+export function inspectorChoices(app: Pick<AppApi, 'doc' | 'selected' | 'speciesNames' | 'hyperfine'>): CommandChoice[] {
+  const { doc } = app;
+  const out: CommandChoice[] = [];
+  const species = typeof doc.species === 'string' ? doc.species : BARE_SPIN_CHOICE;
+  for (const v of [BARE_SPIN_CHOICE, ...app.speciesNames]) {
+    if (v !== species) out.push({ label: `Set Species: ${v}`, arg: { kind: 'species', value: v } satisfies InspectorEdit });
+  }
+  const velocity = (doc.oven.velocity as { kind?: unknown }).kind;
+  for (const k of VELOCITY_KINDS) {
+    if (k !== velocity) out.push({ label: `Set Velocity Distribution: ${k}`, arg: { kind: 'value', path: 'oven.velocity', value: k } satisfies InspectorEdit });
+  }
+  const i = doc.elements.findIndex((e) => e.id === app.selected);
+  if (i >= 0) {
+    const el = doc.elements[i] as unknown as Record<string, unknown> & { id: string };
+    for (const f of elementFields(el, app.hyperfine)) {
+      const path = `elements[${i}].${f.key}`;
+      if (f.type === 'choice') {
+        for (const o of f.options) {
+          if ((el[f.key] ?? '') === o) continue;
+          out.push({ label: `Set ${el.id} ${f.label}: ${o === '' ? '(default)' : o}`, arg: { kind: 'value', path, value: o === '' ? undefined : o } satisfies InspectorEdit });
+        }
+      } else if (f.type === 'bool') {
+        const on = el[f.key] === true;
+        out.push({ label: `Set ${el.id} ${f.label}: ${on ? 'off' : 'on'}`, arg: { kind: 'value', path, value: !on } satisfies InspectorEdit });
+      }
+    }
+  }
+  return out;
+}
+const named = (verb: string, what: string) => (what ? `${verb} ${what}` : undefined);
+
 /** Every command of the editor, in menu order. */
 export function buildCommands(): Command<AppCtx>[] {
   const sel = (c: AppCtx) => c.app.selected !== undefined && c.app.selected !== 'oven';
@@ -61,9 +106,11 @@ export function buildCommands(): Command<AppCtx>[] {
     { id: 'file.print', label: 'Print Setup Sheet…', menu: 'File', shortcut: 'CmdOrCtrl+P', perform: (c) => c.app.printSheet(false) },
     { id: 'file.exportPdf', label: 'Export Setup Sheet as PDF…', menu: 'File', perform: (c) => c.app.printSheet(true) },
     { id: 'file.close', label: 'Close', menu: 'File', perform: () => window.close() },
-    { id: 'edit.undo', label: 'Undo', menu: 'Edit', shortcut: 'CmdOrCtrl+Z', enabled: (c) => canUndo(c.app.history), perform: (c) => c.app.undo() },
-    { id: 'edit.redo', label: 'Redo', menu: 'Edit', shortcut: 'Ctrl+Y', alternates: ['Ctrl+Shift+Z', 'Cmd+Shift+Z'], enabled: (c) => canRedo(c.app.history), perform: (c) => c.app.redo() },
+    { id: 'edit.undo', label: 'Undo', menu: 'Edit', shortcut: 'CmdOrCtrl+Z', describe: (c) => named('Undo', undoLabel(c.app.history)), enabled: (c) => canUndo(c.app.history), perform: (c) => c.app.undo() },
+    { id: 'edit.redo', label: 'Redo', menu: 'Edit', shortcut: 'Ctrl+Y', alternates: ['Ctrl+Shift+Z', 'Cmd+Shift+Z'], describe: (c) => named('Redo', redoLabel(c.app.history)), enabled: (c) => canRedo(c.app.history), perform: (c) => c.app.redo() },
     { id: 'edit.palette', label: 'Command Palette…', menu: 'Edit', shortcut: 'CmdOrCtrl+K', global: true, perform: (c) => c.app.palette() },
+    // every edit of the inspector; the palette offers its choices (inspectorChoices)
+    { id: 'inspector.edit', label: 'Edit in the Inspector', menu: 'Element', takesArg: true, choices: (c) => inspectorChoices(c.app), perform: (c, e) => c.app.edit(e as InspectorEdit) },
     { id: 'element.add', label: 'Add Element on a Port…', menu: 'Element', shortcut: 'Alt+A', perform: (c) => c.app.dialog({ kind: 'add' }) },
     { id: 'element.reroute', label: 'Re-route a Port…', menu: 'Element', shortcut: 'Alt+R', perform: (c) => c.app.dialog({ kind: 'reroute' }) },
     { id: 'element.duplicate', label: 'Duplicate Element', menu: 'Element', shortcut: 'CmdOrCtrl+D', enabled: sel, perform: (c) => c.app.duplicateSelected() },

@@ -13,9 +13,10 @@ import {
   renameElement,
   portLabels,
   isHyperfine,
-  readSpin,
   type LabelSpecies,
 } from '../beamline/index.ts';
+import { speciesPortLabels as docSpeciesPortLabels } from '../beamline/edits.ts';
+export { changeSpecies, documentOutputs, elementOutputs, speciesIsHyperfine, DEFAULT_HYPERFINE_FIELD, type DocOutput, type SpeciesChange } from '../beamline/edits.ts';
 import { runLine, type RunResult } from '../engine/index.ts';
 import { buildSheet, sheetHtml } from '../sheet/index.ts';
 export { durationIn } from '../sheet/index.ts';
@@ -41,14 +42,20 @@ export function documentText(doc: BeamlineDoc): string {
   return serializeDoc(doc);
 }
 
-const checked = new WeakMap<BeamlineDoc, ParsedDoc>();
+/** A document value checked: its file text (as Save writes it) and what reading that text gives. */
+export type CheckedDoc = ParsedDoc & { text: string };
 
-/** Reads a document value (not yet in a file): validates it as the file would be. Documents are
- *  immutable values, so the answer is kept per document object. */
-export function checkDocument(doc: BeamlineDoc): ParsedDoc {
+const checked = new WeakMap<BeamlineDoc, CheckedDoc>();
+
+/** Reads a document value (not yet in a file): validates it as the file would be, from its file text.
+ *  Documents are immutable values, so the answer and the text are kept per document object: an edit
+ *  serializes and validates its new document once, whoever asks after it (the edit, the view, the
+ *  engine's feed, the unsaved-changes mark and autosave). */
+export function checkDocument(doc: BeamlineDoc): CheckedDoc {
   let r = checked.get(doc);
   if (!r) {
-    r = readDocument(documentText(doc));
+    const text = documentText(doc);
+    r = { ...readDocument(text), text };
     checked.set(doc, r);
   }
   return r;
@@ -114,15 +121,7 @@ export function lineIsHyperfine(line: Beamline): boolean {
 /** Port labels a magnet would have with species `species` as written in a document (a library name or
  *  a bare spin {spin, g, mass}), or undefined when it is not a known species. */
 export function speciesPortLabels(species: unknown, group?: 'mJ' | 'each'): string[] | undefined {
-  if (typeof species === 'string') {
-    const s = lookupSpecies(species);
-    return s ? portLabels(s as unknown as LabelSpecies, group) : undefined;
-  }
-  if (species && typeof species === 'object' && 'spin' in species) {
-    const j2 = readSpin((species as { spin: unknown }).spin, 'species.spin');
-    return typeof j2 === 'number' ? portLabels({ kind: 'bare', j2 }) : undefined;
-  }
-  return undefined;
+  return docSpeciesPortLabels(species, group);
 }
 
 /** Cautions the species library gives for the line's species (alkali metals, discharge sources, …). */
@@ -139,7 +138,7 @@ export function librarySpeciesNames(): string[] {
   return [...speciesNames()];
 }
 
-/** Runs the engine on a normalized line (result format v1). */
+/** Runs the engine (runLine of src/engine/index.ts) on a normalized line (result format v1). */
 export function runEngine(line: Beamline, opts?: { onProgress?: (f: number) => void; isCancelled?: () => boolean }): RunResult {
   return runLine(line, opts);
 }

@@ -1,9 +1,11 @@
-// The renderer's side of the engine worker: one run at a time, the latest document wins. A new document
-// while a run is busy waits as "pending" (older pending documents are dropped); a run busy for longer
+// The renderer's side of the engine worker: one run at a time, the latest document wins. A document goes
+// as its normalized line (EngineRequest). A new document while a run is busy waits as "pending" (older
+// pending documents are dropped); a run busy for longer
 // than `slowMs` shows progress and can be cancelled, which terminates the worker and starts a fresh one.
 // Answers whose sequence number is not the latest requested are discarded.
 
-import type { EngineReply } from './engine-protocol.ts';
+import type { Beamline } from './core-adapter.ts';
+import type { EngineReply, EngineRequest } from './engine-protocol.ts';
 import type { RunResultView } from './results.ts';
 
 export interface EngineStatus {
@@ -38,13 +40,13 @@ export function createEngineClient(
 ) {
   let worker: WorkerLike | undefined;
   let busySeq = 0;
-  let pending: { seq: number; text: string } | undefined;
+  let pending: EngineRequest | undefined;
   let requested = 0;
   let slowTimer: ReturnType<typeof setTimeout> | undefined;
   const status: EngineStatus = { requested: 0, running: false, slow: false, progress: 0, cancelled: false };
   const emit = () => onStatus({ ...status });
 
-  const start = (seq: number, text: string) => {
+  const start = (seq: number, line: Beamline) => {
     busySeq = seq;
     status.running = true;
     status.slow = false;
@@ -57,7 +59,8 @@ export function createEngineClient(
         emit();
       }
     }, slowMs);
-    ensure().postMessage({ seq, text });
+    const req: EngineRequest = { seq, line };
+    ensure().postMessage(req);
     emit();
   };
 
@@ -69,7 +72,7 @@ export function createEngineClient(
     if (pending) {
       const p = pending;
       pending = undefined;
-      start(p.seq, p.text);
+      start(p.seq, p.line);
     } else emit();
   };
 
@@ -106,17 +109,17 @@ export function createEngineClient(
   };
 
   return {
-    /** Ask for a run of document `text` as request `seq` (increasing). */
-    run(seq: number, text: string) {
+    /** Ask for a run of the normalized line `line` as request `seq` (increasing). */
+    run(seq: number, line: Beamline) {
       requested = seq;
       status.requested = seq;
-      if (busySeq === 0) start(seq, text);
+      if (busySeq === 0) start(seq, line);
       else if (status.slow) {
         // a long stale run: drop it and start the latest at once
         restart();
         pending = undefined;
-        start(seq, text);
-      } else pending = { seq, text };
+        start(seq, line);
+      } else pending = { seq, line };
     },
     /** Stop the current run (terminates the worker); the next edit starts a fresh one. */
     cancel() {

@@ -1,10 +1,13 @@
 // Messages between the renderer and the engine worker.
+import type { Beamline } from './core-adapter.ts';
 import type { RunResultView } from './results.ts';
 
 export interface EngineRequest {
   seq: number;
-  /** The document as file text (the worker reads it as a file would be read). */
-  text: string;
+  /** The document's normalized line, read and validated once in the renderer (checkDocument). It is plain
+   *  data (numbers, strings, booleans, plain objects and arrays), so it crosses to the worker as a
+   *  structured clone; the worker runs it as it is. */
+  line: Beamline;
 }
 
 export type EngineReply =

@@ -1,8 +1,10 @@
 import { describe, it, expect, vi } from 'vitest';
-import { buildCommands, type AppApi, type AppCtx } from '../../src/app/app-commands.ts';
+import { buildCommands, inspectorChoices, type AppApi, type AppCtx } from '../../src/app/app-commands.ts';
+import type { InspectorEdit } from '../../src/app/inspector-edit.ts';
 import { createRegistry } from '../../src/app/commands.ts';
 import { HOST_COMMANDS } from '../../src/host/contract.ts';
-import { historyPush, historyStart } from '../../src/app/history.ts';
+import { historyPush, historyStart, historyUndo } from '../../src/app/history.ts';
+import { commandLabel } from '../../src/app/commands.ts';
 import { newDocument } from '../../src/app/default-doc.ts';
 
 function fakeApi(over: Partial<AppApi> = {}): AppApi {
@@ -10,6 +12,7 @@ function fakeApi(over: Partial<AppApi> = {}): AppApi {
   const f = () => vi.fn();
   return {
     doc, history: historyStart(doc), selected: undefined, running: false, hasResult: true, samples: [],
+    speciesNames: ['Ag', 'Rb-87'], hyperfine: false, edit: f(),
     undo: f(), redo: f(), newDoc: f(), open: vi.fn(async () => {}), save: vi.fn(async () => {}), openSample: vi.fn(async () => {}),
     openRecent: vi.fn(async () => {}), toggleDark: f(), zoom: f(), palette: f(), dialog: f(), deleteSelected: f(), duplicateSelected: f(),
     moveSelected: f(), selectStep: f(), cancelRun: f(), exportCsv: f(), printSheet: vi.fn(async () => {}), focusPane: f(),
@@ -77,4 +80,53 @@ describe('buildCommands', () => {
     expect(api.printSheet).toHaveBeenCalledWith(true);
     expect(r.get('file.print')!.shortcut).toBe('CmdOrCtrl+P');
   });
+
+  it('runs an inspector edit as the command inspector.edit, which needs its edit', () => {
+    const r = registry();
+    const api = fakeApi();
+    const e: InspectorEdit = { kind: 'quantity', path: 'elements[1].axis.roll', text: '35 deg', spec: { type: 'quantity', key: 'axis.roll', label: 'axis roll', dim: 'angle' } };
+    expect(r.run('inspector.edit', { app: api })).toBe(false);
+    expect(api.edit).not.toHaveBeenCalled();
+    expect(r.run('inspector.edit', { app: api }, e)).toBe(true);
+    expect(api.edit).toHaveBeenCalledWith(e);
+    expect(r.get('inspector.edit')!.shortcut).toBeUndefined();
+  });
+
+  it('names in Undo and Redo the edit they take back or make again', () => {
+    const r = registry();
+    const doc = newDocument();
+    const a = { ...doc, title: 'a' };
+    const undoable = fakeApi({ history: historyPush(historyStart(doc), a, { label: 'M2 axis.roll = 35 deg' }) });
+    expect(commandLabel(r.get('edit.undo')!, { app: undoable })).toBe('Undo M2 axis.roll = 35 deg');
+    expect(commandLabel(r.get('edit.redo')!, { app: undoable })).toBe('Redo');
+    const redoable = fakeApi({ history: historyUndo(undoable.history) });
+    expect(commandLabel(r.get('edit.redo')!, { app: redoable })).toBe('Redo M2 axis.roll = 35 deg');
+    expect(commandLabel(r.get('edit.undo')!, { app: redoable })).toBe('Undo');
+    expect(r.entries({ app: undoable }).find((x) => x.id === 'edit.undo')!.label).toBe('Undo M2 axis.roll = 35 deg');
+  });
+
+  it('offers the inspector\'s choices in the palette: species, velocity distribution and the selection\'s choices', () => {
+    const r = registry();
+    const api = fakeApi({ selected: 'M2', hyperfine: true });
+    const entries = r.entries({ app: api }).filter((x) => x.id === 'inspector.edit');
+    const labels = entries.map((x) => x.label);
+    expect(labels).toEqual(expect.arrayContaining(['Set Species: Ag', 'Set Species: Rb-87', 'Set Velocity Distribution: effusive', 'Set M2 ports group: mJ', 'Set M2 entry: sudden']));
+    expect(labels).not.toContain('Set Species: bare spin'); // the new document's species already
+    expect(labels).not.toContain('Set Velocity Distribution: fixed');
+    expect(labels).not.toContain('Set M2 ports group: (default)');
+    const pick = entries.find((x) => x.label === 'Set Species: Rb-87')!;
+    expect(r.run(pick.id, { app: api }, pick.arg)).toBe(true);
+    expect(api.edit).toHaveBeenCalledWith({ kind: 'species', value: 'Rb-87' });
+    const group = entries.find((x) => x.label === 'Set M2 ports group: each')!;
+    expect(group.arg).toEqual({ kind: 'value', path: 'elements[1].group', value: 'each' });
+    expect(new Set(r.entries({ app: api }).map((x) => x.key)).size).toBe(r.entries({ app: api }).length);
+  });
+
+  it('offers a switch of the selected element as on or off, and no element choices without a selection', () => {
+    const doc = newDocument();
+    const withC = { ...doc, elements: [...doc.elements, { id: 'C1', kind: 'recombiner', axis: { roll: '0 deg' }, open: ['+1/2'], coherent: true, to: 'stop' }] } as never;
+    expect(inspectorChoices({ doc: withC, selected: 'C1', speciesNames: [], hyperfine: false }).map((c) => c.label)).toContain('Set C1 coherent: off');
+    expect(inspectorChoices({ doc, selected: undefined, speciesNames: [], hyperfine: false }).every((c) => !/^Set [A-Z]\d/.test(c.label))).toBe(true);
+  });
 });
+

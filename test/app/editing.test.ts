@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { moveGap, parseEps, problemsFor, remapPorts } from '../../src/app/editing.ts';
+import { moveGap, parseEps, problemsFor } from '../../src/app/editing.ts';
 import { getAt, pathKeys } from '../../src/app/doc-path.ts';
 import { lineTree, unreached } from '../../src/app/line-tree.ts';
 import { newDocument } from '../../src/app/default-doc.ts';
@@ -54,21 +54,5 @@ describe('lineTree', () => {
     expect(m2.id).toBe('M2');
     expect(m2.ports!.map((p) => p.branch[0]).map((b) => [b.id, b.shared])).toEqual([['D1', false], ['D1', true]]);
     expect(unreached(doc, tree)).toEqual(['D2']);
-  });
-});
-
-describe('remapPorts', () => {
-  it('carries port names to the new species by position and drops keys that no longer apply', () => {
-    const els = [
-      { kind: 'magnet', ports: { '+1/2': 'D1', '-1/2': 'stop', '*': 'stop' }, group: 'mJ' },
-      { kind: 'detector' },
-    ];
-    const out = remapPorts(els, ['+1/2', '-1/2'], ['mJ=+1/2', 'mJ=-1/2'], true)!;
-    expect(out[0].ports).toEqual({ 'mJ=+1/2': 'D1', 'mJ=-1/2': 'stop', '*': 'stop' });
-    expect(out[0].group).toBe('mJ');
-    expect(out[1]).toBe(els[1]);
-    const back = remapPorts(out, ['mJ=+1/2', 'mJ=-1/2'], ['+1/2', '-1/2'], false)!;
-    expect(back[0]).toEqual({ kind: 'magnet', ports: { '+1/2': 'D1', '-1/2': 'stop', '*': 'stop' } });
-    expect(remapPorts(els, ['+1/2', '-1/2'], ['F=2,mF=+2', 'F=2,mF=+1', 'F=2,mF=0'], true)).toBeUndefined();
   });
 });

@@ -1,18 +1,22 @@
 import { describe, it, expect, vi, afterEach } from 'vitest';
 import { createEngineClient, type EngineAnswer, type EngineStatus, type WorkerLike } from '../../src/app/engine-client.ts';
-import type { EngineReply } from '../../src/app/engine-protocol.ts';
+import type { EngineReply, EngineRequest } from '../../src/app/engine-protocol.ts';
+import type { Beamline } from '../../src/app/core-adapter.ts';
+
+/** A stand-in for a normalized line: the client passes it on as it is. */
+const line = (title: string) => ({ title }) as unknown as Beamline;
 
 /** A worker that records requests and answers when told to. */
 function fakeWorkers() {
-  const made: (WorkerLike & { posted: { seq: number; text: string }[]; terminated: boolean; reply(m: EngineReply): void })[] = [];
+  const made: (WorkerLike & { posted: EngineRequest[]; terminated: boolean; reply(m: EngineReply): void })[] = [];
   const make = () => {
     const w = {
-      posted: [] as { seq: number; text: string }[],
+      posted: [] as EngineRequest[],
       terminated: false,
       onmessage: null as WorkerLike['onmessage'],
       onerror: null as WorkerLike['onerror'],
       postMessage(m: unknown) {
-        this.posted.push(m as { seq: number; text: string });
+        this.posted.push(m as EngineRequest);
       },
       terminate() {
         this.terminated = true;
@@ -39,13 +43,13 @@ describe('createEngineClient', () => {
     const { made, make } = fakeWorkers();
     const answers: EngineAnswer[] = [];
     const c = createEngineClient(make, (a) => answers.push(a), () => {});
-    c.run(1, 'doc1');
-    c.run(2, 'doc2'); // busy: waits
-    c.run(3, 'doc3'); // replaces doc2
+    c.run(1, line('doc1'));
+    c.run(2, line('doc2')); // busy: waits
+    c.run(3, line('doc3')); // replaces doc2
     expect(made[0].posted.map((p) => p.seq)).toEqual([1]);
     made[0].reply({ type: 'result', seq: 1, result: result(0.1), ms: 5 });
     expect(answers).toEqual([]); // seq 1 is stale
-    expect(made[0].posted.map((p) => p.text)).toEqual(['doc1', 'doc3']);
+    expect(made[0].posted.map((p) => p.line.title)).toEqual(['doc1', 'doc3']);
     made[0].reply({ type: 'result', seq: 3, result: result(0.3), ms: 5 });
     expect(answers.map((a) => [a.seq, a.result?.leaves[0].yield])).toEqual([[3, 0.3]]);
   });
@@ -56,7 +60,7 @@ describe('createEngineClient', () => {
     const statuses: EngineStatus[] = [];
     const answers: EngineAnswer[] = [];
     const c = createEngineClient(make, (a) => answers.push(a), (s) => statuses.push(s), 500);
-    c.run(1, 'doc1');
+    c.run(1, line('doc1'));
     vi.advanceTimersByTime(499);
     expect(statuses.at(-1)!.slow).toBe(false);
     vi.advanceTimersByTime(2);
@@ -66,7 +70,7 @@ describe('createEngineClient', () => {
     c.cancel();
     expect(made[0].terminated).toBe(true);
     expect(statuses.at(-1)).toMatchObject({ running: false, cancelled: true });
-    c.run(2, 'doc2');
+    c.run(2, line('doc2'));
     expect(made).toHaveLength(2);
     made[1].reply({ type: 'error', seq: 2, message: 'elements[0]: bad' });
     expect(answers).toEqual([{ seq: 2, error: 'elements[0]: bad' }]);
@@ -76,9 +80,9 @@ describe('createEngineClient', () => {
     vi.useFakeTimers();
     const { made, make } = fakeWorkers();
     const c = createEngineClient(make, () => {}, () => {}, 500);
-    c.run(1, 'doc1');
+    c.run(1, line('doc1'));
     vi.advanceTimersByTime(600);
-    c.run(2, 'doc2');
+    c.run(2, line('doc2'));
     expect(made[0].terminated).toBe(true);
     expect(made[1].posted.map((p) => p.seq)).toEqual([2]);
   });

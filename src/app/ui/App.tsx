@@ -1,10 +1,11 @@
 // The renderer: document state (a history of documents), the command registry, the engine worker and
-// the panes (tree, schematic, inspector, results).
+// the panes (tree, schematic, inspector, results). An edit is validated once (checkDocument keeps the
+// answer and the file text per document) and the worker gets the normalized line (engine-feed.ts).
 import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { Host, HostDocument, SampleInfo, AutosaveDraft, RecentDocument } from '../../host/contract.ts';
 import {
-  checkDocument, checkQuantity, documentText, editAddOnPort, editAt, editDelete, editDuplicate, editRename, editReroute,
-  lineIsHyperfine, librarySpeciesNames, magnetPortLabels, readDocument, speciesCautions, speciesPortLabels, setupSheetHtml, type BeamlineDoc, type ElementKind, type Problem,
+  checkDocument, documentOutputs, documentText, editAt, editDelete, editDuplicate,
+  lineIsHyperfine, librarySpeciesNames, magnetPortLabels, readDocument, speciesCautions, setupSheetHtml, type BeamlineDoc, type Problem,
 } from '../core-adapter.ts';
 import { historyPush, historyRedo, historyStart, historyUndo, type History } from '../history.ts';
 import { buildCommands, type AppApi, type AppCtx, type DialogState } from '../app-commands.ts';
@@ -14,9 +15,10 @@ import { lineTree, unreached } from '../line-tree.ts';
 import { placeElements } from '../layout.ts';
 import { dwellById, portRows, portRowsCsv, warningsByElement, type RunResultView } from '../results.ts';
 import { createEngineClient, type EngineStatus } from '../engine-client.ts';
-import { defaultVelocity, type FieldSpec, type VelocityKind, NEW_ELEMENT_KINDS } from '../fields.ts';
-import { getAt } from '../doc-path.ts';
-import { parseEps, moveGap, problemsFor, downloadText, remapPorts } from '../editing.ts';
+import { createEngineFeed } from '../engine-feed.ts';
+import { NEW_ELEMENT_KINDS, type FieldSpec } from '../fields.ts';
+import { parseEps, moveGap } from '../editing.ts';
+import { applyInspectorEdit, type InspectorEdit } from '../inspector-edit.ts';
 import { Tree } from './Tree.tsx';
 import { Schematic } from './Schematic.tsx';
 import { Inspector, type InspectorActions } from './Inspector.tsx';
@@ -25,14 +27,6 @@ import { MenuBar } from './MenuBar.tsx';
 import { Palette } from './Palette.tsx';
 import { Dialog } from './Dialog.tsx';
 import { Caution } from './Caution.tsx';
-
-/** The field size given to magnets without one when the species changes to a hyperfine one (a demo set-point, announced). */
-const DEFAULT_HYPERFINE_FIELD = '0.5 T';
-
-function lineIsHyperfineSpecies(species: unknown): boolean {
-  const labels = speciesPortLabels(species);
-  return !!labels && labels.some((l) => l.startsWith('mJ=') || l.startsWith('F='));
-}
 
 function draftKey(): string {
   return `doc-${Date.now().toString(36)}-${Math.random().toString(36).slice(2, 8)}`;
@@ -68,7 +62,8 @@ export function App({ host }: { host: Host }) {
   if (parsed.ok) lastLine.current = parsed;
   const good = parsed.ok ? parsed : lastLine.current!;
   const line = good.line;
-  const text = useMemo(() => documentText(doc), [doc]);
+  /** The file text of the document, as Save writes it (kept with the check: no serialization of its own). */
+  const text = parsed.text;
   const dirty = savedText === null ? history.past.length > 0 : text !== savedText;
   const tree = useMemo(() => lineTree(doc), [doc]);
   const lost = useMemo(() => unreached(doc, tree), [doc, tree]);
@@ -102,21 +97,10 @@ export function App({ host }: { host: Host }) {
     [],
   );
   useEffect(() => () => client.dispose(), [client]);
-  const seqRef = useRef(0);
-  const postedText = useRef<string | undefined>(undefined);
-  /** Sends a document to the engine unless it is the one sent last; called at the edit itself so the
-   *  run starts before React renders the edit. */
-  const postDoc = useCallback(
-    (next: BeamlineDoc) => {
-      const t = documentText(next);
-      if (t === postedText.current) return;
-      postedText.current = t;
-      const seq = ++seqRef.current;
-      setDocSeq(seq);
-      client.run(seq, t);
-    },
-    [client],
-  );
+  /** Sends a document's line to the engine unless it is the one sent last; called at the edit itself so
+   *  the run starts before React renders the edit. */
+  const feed = useMemo(() => createEngineFeed((seq, l) => client.run(seq, l), setDocSeq), [client]);
+  const postDoc = useCallback((next: BeamlineDoc) => void feed.send(next), [feed]);
   useEffect(() => postDoc(doc), [doc, postDoc]);
   const historyRef = useRef(history);
   historyRef.current = history;
@@ -142,17 +126,17 @@ export function App({ host }: { host: Host }) {
     }
     setHistory(historyStart(r.doc));
     setLastResult(undefined); // results of another document are not shown for this one
-    postedText.current = undefined; // and this one runs even when its text equals the last one sent
+    feed.reset(); // and this one runs even when its text equals the last one sent
     setName(hd.name);
     setPath(fromSample ? undefined : hd.path);
-    setSavedText(fromSample ? null : documentText(r.doc));
+    setSavedText(fromSample ? null : checkDocument(r.doc).text); // checked here once, for the view and the engine too
     setKey(draftKey());
     setErrors({});
     setSelected('oven');
     if (r.warnings.length > 0) setNotice(`${hd.name}: ${r.warnings.map((w) => `${w.path}: ${w.message}`).join('; ')}`);
     else setNotice(undefined);
     return true;
-  }, []);
+  }, [feed]);
 
   useEffect(() => {
     let live = true;
@@ -169,115 +153,40 @@ export function App({ host }: { host: Host }) {
   }, [host, load, refreshRecent]);
 
   // ---------------------------------------------------------------- edits
-  /** Takes `next` when the document layer accepts it; else returns the problems (the document stays). */
-  const propose = useCallback((next: BeamlineDoc): Problem[] | undefined => {
+  /** Takes `next` when the document layer accepts it, with `label` for Undo and Redo; else returns the
+   *  problems (the document stays). */
+  const propose = useCallback((next: BeamlineDoc, label: string): Problem[] | undefined => {
     const r = checkDocument(next);
     if (!r.ok) return r.problems;
     postDoc(next);
-    setHistory((h) => historyPush(h, next));
+    setHistory((h) => historyPush(h, next, { label }));
     return undefined;
   }, [postDoc]);
+  /** The validation an inspector edit asks for (the answer is kept with the document, so taking it costs nothing more). */
+  const check = useCallback((next: BeamlineDoc) => {
+    const r = checkDocument(next);
+    return r.ok ? undefined : r.problems;
+  }, []);
 
   const fail = (title: string, message: string) => setDialog({ kind: 'message', title, text: message });
 
-  const actions: InspectorActions = {
-    commitQuantity(p: string, t: string, spec: FieldSpec) {
-      const trimmed = t.trim();
-      let value: unknown = trimmed;
-      if (trimmed === '') {
-        if (spec.type === 'quantity' && spec.optional) value = undefined;
-        else {
-          const message = 'a value is needed here';
-          setErrors((e) => ({ ...e, [p]: { text: t, message } }));
-          return message;
-        }
-      } else if (spec.type === 'quantity') {
-        const q = checkQuantity(trimmed, spec.dim, p);
-        if (!q.ok) {
-          setErrors((e) => ({ ...e, [p]: { text: t, message: q.message } }));
-          return q.message;
-        }
-        if (spec.dim === 'dimensionless' && /^[-+]?(\d+\.?\d*|\.\d+)(e[-+]?\d+)?$/i.test(trimmed)) value = Number(trimmed);
-      }
-      const r = editAt(doc, p, value);
-      const problems = r.ok ? propose(r.doc) : [{ path: p, message: r.message }];
-      if (problems) {
-        const message = problemsFor(problems, p);
-        setErrors((e) => ({ ...e, [p]: { text: t, message } }));
-        return message;
-      }
-      setErrors((e) => {
-        const { [p]: _gone, ...rest } = e;
-        return rest;
+  /** Applies an inspector edit (the command inspector.edit): takes the document or shows the message. */
+  const edit = (e: InspectorEdit) => {
+    const r = applyInspectorEdit(doc, line, e, check);
+    if (r.ok) propose(r.doc, r.label);
+    const field = r.field;
+    if (field !== undefined) {
+      setErrors((errs) => {
+        const { [field]: _gone, ...rest } = errs;
+        return r.ok ? rest : { ...rest, [field]: { text: r.text ?? '', message: r.message } };
       });
-      return undefined;
-    },
-    setValue(p: string, value: unknown) {
-      let v = value;
-      if (p === 'oven.velocity') v = defaultVelocity(value as VelocityKind, getAt(doc, 'oven.velocity') as Record<string, unknown>);
-      const r = editAt(doc, p, v);
-      const problems = r.ok ? propose(r.doc) : [{ path: p, message: r.message }];
-      const message = problems ? problemsFor(problems, p) : undefined;
-      setErrors((e) => {
-        const { [p]: _gone, ...rest } = e;
-        return message ? { ...rest, [p]: { text: String(value), message } } : rest;
-      });
-      return message;
-    },
-    setSpecies(value: string) {
-      const next: unknown = value === 'bare spin' ? { spin: '1/2', g: 2.00231930436, mass: '106.905 u' } : value;
-      const r = editAt(doc, 'species', next);
-      let candidate = r.ok ? r.doc : undefined;
-      if (candidate && !checkDocument(candidate).ok) {
-        // carry the port names over to the new species where the states correspond one to one
-        const to = speciesPortLabels(next);
-        const from = magnetPortLabels(line);
-        const toHyperfine = to ? to.some((l) => l.startsWith('mJ=') || l.startsWith('F=')) : false;
-        const els = to ? remapPorts(candidate.elements as never[], from, to, toHyperfine) : undefined;
-        if (els) candidate = { ...candidate, elements: els };
-      }
-      if (candidate && lineIsHyperfineSpecies(next) && candidate.elements.some((e) => e.kind === 'magnet' && e.field === undefined)) {
-        // a hyperfine species sorts by the eigenstates at the magnet's field: its size must be given
-        const named = candidate.elements.filter((e) => e.kind === 'magnet' && e.field === undefined).map((e) => e.id);
-        candidate = { ...candidate, elements: candidate.elements.map((e) => (e.kind === 'magnet' && e.field === undefined ? { ...e, field: DEFAULT_HYPERFINE_FIELD } : e)) };
-        setNotice(`${named.join(', ')}: field set to ${DEFAULT_HYPERFINE_FIELD} (a hyperfine species needs the field size at the beam); enter your magnets' set-point.`);
-      }
-      const problems = candidate ? propose(candidate) : [{ path: 'species', message: r.ok ? '' : r.message }];
-      const message = problems ? `${value} does not fit this line as it is: ${problemsFor(problems, 'species')}` : undefined;
-      setErrors((e) => {
-        const { species: _gone, ...rest } = e;
-        return message ? { ...rest, species: { text: value, message } } : rest;
-      });
-      return message;
-    },
-    reroute(fromId, port, target) {
-      const r = editReroute(doc, fromId, port, target);
-      const problems = r.ok ? propose(r.doc) : [{ path: fromId, message: r.message }];
-      if (problems) fail(`Cannot route ${fromId}${port ? ` ${port}` : ''} to ${target}`, problems.map((x) => `${x.path}: ${x.message}`).join('\n'));
-    },
-    addOnPort(fromId, port, kind) {
-      const r = editAddOnPort(doc, line, fromId, port, kind as ElementKind);
-      if (!r.ok) return fail(`Cannot add a ${kind}`, r.message);
-      const problems = propose(r.doc);
-      if (problems) fail(`Cannot add a ${kind}`, problems.map((x) => `${x.path}: ${x.message}`).join('\n'));
-      else if (r.id) setSelected(r.id);
-    },
-    rename(oldId, newId) {
-      const p = `elements[${doc.elements.findIndex((e) => e.id === oldId)}].id`;
-      const r = editRename(doc, oldId, newId);
-      const problems = r.ok ? propose(r.doc) : [{ path: p, message: r.message }];
-      if (problems) {
-        const message = problemsFor(problems, p);
-        setErrors((e) => ({ ...e, [p]: { text: newId, message } }));
-        return message;
-      }
-      setErrors((e) => {
-        const { [p]: _gone, ...rest } = e;
-        return rest;
-      });
-      setSelected(newId);
-      return undefined;
-    },
+    }
+    if (!r.ok) {
+      if (r.title) fail(r.title, r.message);
+      return;
+    }
+    if (r.select) setSelected(r.select);
+    if (r.notice) setNotice(r.notice);
   };
 
   // ---------------------------------------------------------------- commands
@@ -294,7 +203,7 @@ export function App({ host }: { host: Host }) {
   }, [tree, lost]);
 
   const api: AppApi = {
-    doc, history, selected, samples,
+    doc, history, selected, samples, speciesNames, hyperfine, edit,
     running: status.running,
     hasResult: result !== undefined,
     undo: () => {
@@ -324,7 +233,7 @@ export function App({ host }: { host: Host }) {
       }
     },
     save: async (saveAs) => {
-      const t = documentText(doc);
+      const t = text;
       try {
         const r = await host.saveDocument({ name, text: t, ...(path ? { path } : {}), ...(saveAs ? { saveAs: true } : {}) });
         if (!r) return;
@@ -363,7 +272,7 @@ export function App({ host }: { host: Host }) {
       if (!selected || selected === 'oven') return;
       const r = editDelete(doc, selected);
       if (!r.ok) return fail(`Cannot delete ${selected}`, r.message);
-      const problems = propose(r.doc);
+      const problems = propose(r.doc, `delete ${selected}`);
       if (problems) fail(`Cannot delete ${selected}`, problems.map((x) => `${x.path}: ${x.message}`).join('\n'));
       else setSelected('oven');
     },
@@ -371,7 +280,7 @@ export function App({ host }: { host: Host }) {
       if (!selected || selected === 'oven') return;
       const r = editDuplicate(doc, selected);
       if (!r.ok) return fail(`Cannot duplicate ${selected}`, r.message);
-      const problems = propose(r.doc);
+      const problems = propose(r.doc, `duplicate ${selected}`);
       if (problems) fail(`Cannot duplicate ${selected}`, problems.map((x) => `${x.path}: ${x.message}`).join('\n'));
       else if (r.id) setSelected(r.id);
     },
@@ -383,7 +292,7 @@ export function App({ host }: { host: Host }) {
       const next = moveGap(el.gap ?? 0, dm);
       if (next === undefined) return setNotice(`${selected} sits right at its upstream neighbour: its gap cannot shrink further.`);
       const r = editAt(doc, `elements[${i}].gap`, next);
-      if (r.ok) propose(r.doc);
+      if (r.ok) propose(r.doc, `move ${selected} ${dm > 0 ? 'downstream' : 'upstream'} ${Math.abs(dm * 1e3)} mm`);
     },
     selectStep: (d) => {
       const k = order.indexOf(selected ?? 'oven');
@@ -392,10 +301,15 @@ export function App({ host }: { host: Host }) {
       document.querySelector<HTMLElement>(`.tree [data-id="${CSS.escape(next)}"]`)?.focus();
     },
     cancelRun: () => client.cancel(),
-    exportCsv: () => {
+    exportCsv: async () => {
       if (!result || eps === undefined) return;
       const rows = portRows(result, dwellById(line.elements as never), eps);
-      downloadText(name.replace(/\.spinyard$/i, '') + '-ports.csv', portRowsCsv(rows, eps), 'text/csv');
+      try {
+        const r = await host.saveTextFile({ name: `${name.replace(/\.spinyard$/i, '')}-ports.csv`, text: portRowsCsv(rows, eps) });
+        if (r) setNotice(`Ports table written: ${r.path ?? `${r.name} (to the downloads)`}`);
+      } catch (e) {
+        fail('The ports table was not saved', (e as Error).message);
+      }
     },
     printSheet: async (pdf) => {
       const html = setupSheetHtml(doc, line, name);
@@ -434,7 +348,19 @@ export function App({ host }: { host: Host }) {
     setRegVersion((v) => v + 1);
   }, [recent, registry]);
 
-  const run = useCallback((id: string) => registry.run(id, { app: apiRef.current }), [registry]);
+  const run = useCallback((id: string, arg?: unknown) => registry.run(id, { app: apiRef.current }, arg), [registry]);
+  /** The inspector's controls, each an edit run through the registry like every other command. */
+  const actions: InspectorActions = useMemo(() => {
+    const ed = (e: InspectorEdit) => void run('inspector.edit', e);
+    return {
+      commitQuantity: (path: string, text: string, spec: FieldSpec) => ed({ kind: 'quantity', path, text, spec }),
+      setValue: (path: string, value: unknown) => ed({ kind: 'value', path, value }),
+      setSpecies: (value: string) => ed({ kind: 'species', value }),
+      rename: (from: string, to: string) => ed({ kind: 'rename', from, to }),
+      reroute: (fromId: string, port: string | null, target: string) => ed({ kind: 'reroute', fromId, port, target }),
+      addOnPort: (fromId: string, port: string | null, elementKind: string) => ed({ kind: 'addOnPort', fromId, port, elementKind }),
+    };
+  }, [run]);
   const isEnabled = (id: string) => registry.isEnabled(id, ctx);
 
   useEffect(() => {
@@ -511,7 +437,7 @@ export function App({ host }: { host: Host }) {
         <span>{result ? `${result.warnings.length} warning${result.warnings.length === 1 ? '' : 's'}` : ''}</span>
         <span>Ctrl+K: commands</span>
       </footer>
-      {palette && <Palette commands={commands} platform={host.platform} isEnabled={isEnabled} run={run} close={() => setPalette(false)} />}
+      {palette && <Palette entries={registry.entries(ctx)} platform={host.platform} isEnabled={isEnabled} run={run} close={() => setPalette(false)} />}
       {dialog && <AppDialog d={dialog} close={() => setDialog(undefined)} api={api} selected={selected} line={line} doc={doc} actions={actions}
         onRecover={(dr) => {
           if (load({ name: dr.name, text: dr.text, ...(dr.path ? { path: dr.path } : {}) })) {
@@ -533,14 +459,7 @@ function AppDialog({ d, close, api, selected, doc, actions, onRecover, onDiscard
   d: DialogState; close(): void; api: AppApi; selected?: string; line: unknown; doc: BeamlineDoc; actions: InspectorActions;
   onRecover(d: AutosaveDraft): void; onDiscard(d: AutosaveDraft): void;
 }) {
-  const outputs = useMemo(() => {
-    const out: { fromId: string; port: string | null; target: string }[] = [{ fromId: 'oven', port: null, target: doc.oven.to }];
-    for (const e of doc.elements) {
-      if (e.kind === 'magnet') for (const [port, target] of Object.entries(e.ports)) out.push({ fromId: e.id, port, target });
-      else if (e.kind !== 'detector') out.push({ fromId: e.id, port: null, target: e.to });
-    }
-    return out;
-  }, [doc]);
+  const outputs = useMemo(() => documentOutputs(doc), [doc]);
   const first = Math.max(0, outputs.findIndex((o) => o.fromId === selected));
   const [which, setWhich] = useState(first);
   const [kind, setKind] = useState<string>('detector');

@@ -7,14 +7,16 @@ import { fmtLength } from '../format.ts';
 import type { Placed } from '../layout.ts';
 import { useId, useState } from 'react';
 
+/** What the inspector's controls do. The editor runs each as the command `inspector.edit` (an
+ *  InspectorEdit of src/app/inspector-edit.ts); a refused entry comes back in `errors`. */
 export interface InspectorActions {
-  /** Commit a quantity entry at a document path; returns the message when refused. */
-  commitQuantity(path: string, text: string, spec: FieldSpec): string | undefined;
-  setValue(path: string, value: unknown): string | undefined;
+  /** Commit a quantity entry at a document path. */
+  commitQuantity(path: string, text: string, spec: FieldSpec): void;
+  setValue(path: string, value: unknown): void;
   reroute(fromId: string, port: string | null, target: string): void;
   addOnPort(fromId: string, port: string | null, kind: string): void;
-  rename(oldId: string, newId: string): string | undefined;
-  setSpecies(value: string): string | undefined;
+  rename(oldId: string, newId: string): void;
+  setSpecies(value: string): void;
 }
 
 interface Props {

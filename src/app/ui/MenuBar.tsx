@@ -1,7 +1,7 @@
 // The in-window menu bar, built from the command registry (the Electron shell adds its native menus,
 // which dispatch the same ids).
 import { useEffect, useRef, useState } from 'react';
-import { shortcutLabel, type Command, type MenuName } from '../commands.ts';
+import { commandLabel, shortcutLabel, type Command, type MenuName } from '../commands.ts';
 import type { HostPlatform } from '../../host/contract.ts';
 
 const MENUS: readonly MenuName[] = ['File', 'Edit', 'Element', 'View', 'Samples', 'Help'];
@@ -14,7 +14,7 @@ interface Props<C> {
   isEnabled(id: string): boolean;
 }
 
-export function MenuBar<C>({ commands, platform, run, isEnabled }: Props<C>) {
+export function MenuBar<C>({ commands, ctx, platform, run, isEnabled }: Props<C>) {
   const [open, setOpen] = useState<MenuName | undefined>();
   const bar = useRef<HTMLDivElement>(null);
   useEffect(() => {
@@ -49,7 +49,7 @@ export function MenuBar<C>({ commands, platform, run, isEnabled }: Props<C>) {
   return (
     <div className="menubar" ref={bar} role="menubar" aria-label="Main menu">
       {MENUS.map((name) => {
-        const items = commands.filter((c) => c.menu === name);
+        const items = commands.filter((c) => c.menu === name && !c.takesArg); // a command with an argument runs from its own control
         if (items.length === 0) return null;
         return (
           <div key={name} className="menu" data-menu={name}>
@@ -71,7 +71,7 @@ export function MenuBar<C>({ commands, platform, run, isEnabled }: Props<C>) {
                       setOpen(undefined);
                       run(c.id);
                     }}>
-                    <span>{c.label}</span>
+                    <span>{commandLabel(c, ctx)}</span>
                     {c.shortcut && <kbd>{shortcutLabel(c.shortcut, platform)}</kbd>}
                   </button>
                 ))}

@@ -1,32 +1,34 @@
-// The command palette (Ctrl+K): every registered command by name.
+// The command palette (Ctrl+K): every registered command by name, and the choices of the commands that
+// take an argument (the inspector's edits: "Set Species: Rb-87").
 import { useEffect, useRef, useState } from 'react';
-import { filterCommands, shortcutLabel, type Command } from '../commands.ts';
+import { filterCommands, shortcutLabel, type PaletteEntry } from '../commands.ts';
 import type { HostPlatform } from '../../host/contract.ts';
 
-interface Props<C> {
-  commands: readonly Command<C>[];
+interface Props {
+  entries: readonly PaletteEntry[];
   platform: HostPlatform;
   isEnabled(id: string): boolean;
-  run(id: string): void;
+  run(id: string, arg?: unknown): void;
   close(): void;
 }
 
-export function Palette<C>({ commands, platform, isEnabled, run, close }: Props<C>) {
+export function Palette({ entries, platform, isEnabled, run, close }: Props) {
   const [q, setQ] = useState('');
   const [i, setI] = useState(0);
   const input = useRef<HTMLInputElement>(null);
   useEffect(() => input.current?.focus(), []);
-  const list = filterCommands(commands, q).filter((c) => isEnabled(c.id));
-  const pick = (c: Command<C> | undefined) => {
+  const list = filterCommands(entries, q).filter((c) => isEnabled(c.id));
+  const pick = (c: PaletteEntry | undefined) => {
     if (!c) return;
     close();
-    run(c.id);
+    run(c.id, c.arg);
   };
+  const domId = (k: number) => `pal-${k}`;
   return (
     <div className="overlay" onMouseDown={close}>
       <div className="palette" role="dialog" aria-modal="true" aria-label="Command palette" onMouseDown={(e) => e.stopPropagation()}>
         <input ref={input} type="text" value={q} placeholder="Type a command…" aria-label="Command" aria-controls="palette-list"
-          aria-activedescendant={list[i] ? `pal-${list[i].id}` : undefined} role="combobox" aria-expanded="true"
+          aria-activedescendant={list[i] ? domId(i) : undefined} role="combobox" aria-expanded="true"
           onChange={(e) => {
             setQ(e.target.value);
             setI(0);
@@ -48,7 +50,7 @@ export function Palette<C>({ commands, platform, isEnabled, run, close }: Props<
           }} />
         <ul id="palette-list" role="listbox" aria-label="Commands">
           {list.map((c, k) => (
-            <li key={c.id} id={`pal-${c.id}`} role="option" aria-selected={k === i} className={k === i ? 'active' : ''}
+            <li key={c.key} id={domId(k)} role="option" aria-selected={k === i} className={k === i ? 'active' : ''}
               onMouseEnter={() => setI(k)} onClick={() => pick(c)}>
               <span className="pal-menu">{c.menu}</span> {c.label}
               {c.shortcut && <kbd>{shortcutLabel(c.shortcut, platform)}</kbd>}

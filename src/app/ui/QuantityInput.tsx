@@ -7,8 +7,8 @@ interface Props {
   value: string;
   placeholder?: string;
   error?: { text: string; message: string };
-  /** Returns the message when the entry is refused, undefined when it was taken. */
-  onCommit(text: string): string | undefined;
+  /** The entry to take; a refusal comes back as `error`. */
+  onCommit(text: string): void;
   name: string;
   hint?: string;
 }
