@@ -1,21 +1,33 @@
 /**
  * Strict JSON (RFC 8259) reader for documents: the same values as JSON.parse, plus what JSON.parse does
- * not say: the line and column of a syntax error (in every JavaScript engine alike) and duplicate keys
- * in one object (JSON.parse keeps the last silently, and a doubled "gradient" must not change physics
- * unseen).
+ * not say: the line and column of a syntax error (in every JavaScript engine alike) and the JSON path where
+ * it stands, duplicate keys in one object (JSON.parse keeps the last silently, and a doubled "gradient"
+ * must not change physics unseen), and a nesting limit (a beamline is a few levels deep; a file nested
+ * thousands of levels is refused at once instead of exhausting the stack).
  */
+import { MAX_PROBLEMS, quote } from './messages.ts';
 import type { Problem } from './types.ts';
+
+/** Deepest nesting of objects and lists read (a beamline needs 5: oven.velocity.points[i][j]). */
+export const MAX_DEPTH = 64;
 
 export type JsonResult = { ok: true; value: unknown; duplicates: Problem[] } | { ok: false; problem: Problem };
 
 class JsonError extends Error {
-  constructor(readonly pos: number, message: string) {
+  constructor(readonly pos: number, message: string, readonly path = '') {
     super(message);
   }
 }
 
-function key(base: string, k: string): string {
-  return /^[A-Za-z_$][A-Za-z0-9_$]*$/.test(k) ? (base ? `${base}.${k}` : k) : `${base}[${JSON.stringify(k)}]`;
+/** The JSON path of a stack of keys and indices, written as the checker writes paths (long keys by their two ends). */
+function pathOf(segs: readonly (string | number)[]): string {
+  let out = '';
+  for (const k of segs) {
+    if (typeof k === 'number') out += `[${k}]`;
+    else if (k.length <= 64 && /^[A-Za-z_$][A-Za-z0-9_$]*$/.test(k)) out += out ? `.${k}` : k;
+    else out += `[${quote(k)}]`;
+  }
+  return out;
 }
 
 /** Line and column (both from 1) of a character offset. */
@@ -38,6 +50,8 @@ export function parseJson(text: string): JsonResult {
   let i = 0;
   const duplicates: Problem[] = [];
   const n = text.length;
+  const segs: (string | number)[] = []; // the path of the value being read
+  const err = (pos: number, message: string) => new JsonError(pos, message, pathOf(segs));
 
   const ws = () => {
     while (i < n) {
@@ -46,7 +60,7 @@ export function parseJson(text: string): JsonResult {
       else break;
     }
   };
-  const describe = (): string => (i >= n ? 'the end of the file' : `${JSON.stringify(text[i])}`);
+  const describe = (): string => (i >= n ? 'the end of the file' : JSON.stringify(String.fromCodePoint(text.codePointAt(i)!)));
 
   const str = (): string => {
     const start = i; // at the opening quote
@@ -61,7 +75,7 @@ export function parseJson(text: string): JsonResult {
         try {
           return JSON.parse(raw) as string;
         } catch {
-          throw new JsonError(start, 'invalid escape sequence in string');
+          throw err(start, 'invalid escape sequence in string');
         }
       }
       if (c === 92) {
@@ -69,16 +83,17 @@ export function parseJson(text: string): JsonResult {
         i += 2;
         continue;
       }
-      if (c < 32) throw new JsonError(i, 'control character in string (unterminated string?)');
+      if (c < 32) throw err(i, 'control character in string (unterminated string?)');
       i++;
     }
-    throw new JsonError(start, 'unterminated string');
+    throw err(start, 'unterminated string');
   };
 
-  const value = (path: string): unknown => {
+  const value = (depth: number): unknown => {
     ws();
-    if (i >= n) throw new JsonError(i, 'expected a value, got the end of the file');
+    if (i >= n) throw err(i, 'expected a value, got the end of the file');
     const c = text[i];
+    if ((c === '{' || c === '[') && depth >= MAX_DEPTH) throw err(i, `nested more than ${MAX_DEPTH} levels deep (a beamline is a few levels deep)`);
     if (c === '{') {
       i++;
       const obj: Record<string, unknown> = {};
@@ -90,18 +105,19 @@ export function parseJson(text: string): JsonResult {
       }
       for (;;) {
         ws();
-        if (text[i] !== '"') throw new JsonError(i, `expected a key in double quotes, got ${describe()}`);
+        if (text[i] !== '"') throw err(i, `expected a key in double quotes, got ${describe()}`);
         const kpos = i;
         const k = str();
         ws();
-        if (text[i] !== ':') throw new JsonError(i, `expected ":" after key ${JSON.stringify(k)}, got ${describe()}`);
+        if (text[i] !== ':') throw err(i, `expected ":" after key ${quote(k)}, got ${describe()}`);
         i++;
-        const p = key(path, k);
-        const v = value(p);
-        if (seen.has(k)) {
+        segs.push(k);
+        const v = value(depth + 1);
+        if (seen.has(k) && duplicates.length <= MAX_PROBLEMS) {
           const { line, column } = lineColumn(text, kpos);
-          duplicates.push({ path: p, message: `key ${JSON.stringify(k)} appears twice in one object (line ${line}, column ${column})` });
+          duplicates.push({ path: pathOf(segs), message: `key ${quote(k)} appears twice in one object (line ${line}, column ${column})` });
         }
+        segs.pop();
         seen.add(k);
         Object.defineProperty(obj, k, { value: v, enumerable: true, writable: true, configurable: true });
         ws();
@@ -113,7 +129,7 @@ export function parseJson(text: string): JsonResult {
           i++;
           return obj;
         }
-        throw new JsonError(i, `expected "," or "}", got ${describe()}`);
+        throw err(i, `expected "," or "}", got ${describe()}`);
       }
     }
     if (c === '[') {
@@ -125,7 +141,9 @@ export function parseJson(text: string): JsonResult {
         return arr;
       }
       for (;;) {
-        arr.push(value(`${path}[${arr.length}]`));
+        segs.push(arr.length);
+        arr.push(value(depth + 1));
+        segs.pop();
         ws();
         if (text[i] === ',') {
           i++;
@@ -135,7 +153,7 @@ export function parseJson(text: string): JsonResult {
           i++;
           return arr;
         }
-        throw new JsonError(i, `expected "," or "]", got ${describe()}`);
+        throw err(i, `expected "," or "]", got ${describe()}`);
       }
     }
     if (c === '"') return str();
@@ -157,19 +175,19 @@ export function parseJson(text: string): JsonResult {
       i += m[0].length;
       return Number(m[0]);
     }
-    throw new JsonError(i, `expected a value, got ${describe()}`);
+    throw err(i, `expected a value, got ${describe()}`);
   };
 
   try {
     if (text.charCodeAt(0) === 0xfeff) i = 1; // UTF-8 byte order mark
-    const v = value('');
+    const v = value(0);
     ws();
-    if (i < n) throw new JsonError(i, `unexpected ${describe()} after the end of the document`);
+    if (i < n) throw err(i, `unexpected ${describe()} after the end of the document`);
     return { ok: true, value: v, duplicates };
   } catch (e) {
     if (e instanceof RangeError) return { ok: false, problem: { path: '', message: 'not valid JSON for a beamline: nested too deeply' } };
     if (!(e instanceof JsonError)) throw e;
     const { line, column } = lineColumn(text, e.pos);
-    return { ok: false, problem: { path: '', message: `not valid JSON at line ${line}, column ${column}: ${e.message}` } };
+    return { ok: false, problem: { path: e.path, message: `not valid JSON at line ${line}, column ${column}: ${e.message}` } };
   }
 }

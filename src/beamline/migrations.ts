@@ -4,6 +4,7 @@
  * Version 1 is the first version, so the registry is empty today; a file newer than CURRENT_VERSION is
  * refused and left untouched.
  */
+import { describe } from './read.ts';
 
 /** The newest document version this reader understands. */
 export const CURRENT_VERSION = 1;
@@ -47,7 +48,7 @@ export function migrateDoc(doc: Readonly<Record<string, unknown>>, reg: Migratio
   if (bad) return { ok: false, reason: 'failed', message: bad };
   const v = doc.version;
   if (typeof v !== 'number' || !Number.isInteger(v) || v < 0) {
-    return { ok: false, reason: 'unsupported', message: `"version" must be a whole number, got ${JSON.stringify(v)}` };
+    return { ok: false, reason: 'unsupported', message: `"version" must be a whole number, got ${typeof v === 'number' ? String(v) : describe(v)}` };
   }
   if (v > reg.current) {
     return { ok: false, reason: 'newer', message: `this file is version ${v}, this Spinyard reads up to ${reg.current}: open it with a newer Spinyard (the file is not changed)` };

@@ -5,10 +5,13 @@
  * - flux: a rate "2e9 /s", or {kind: "vapor", temperature} (the engine estimates it from the reservoir).
  * - velocity (required): fixed {speed} | effusive {temperature} | supersonic {speed, ratio} |
  *   table {points: [[speed, weight], …]}: speeds strictly increasing and positive, weights ≥ 0 with a
- *   positive sum, normalised to sum 1.
+ *   positive finite sum, normalised to sum 1.
+ * Speeds, temperatures, the speed ratio and the flux are checked against the ranges of limits.ts.
  */
 import { stateLabels } from './labels.ts';
-import { type Obj, type ReadCtx, at, axis, bounded, checkKeys, choice, describe, isObj, object, problem, quantity, rect, target, warn } from './read.ts';
+import { LIMITS } from './limits.ts';
+import { listText, quote } from './messages.ts';
+import { type Obj, type ReadCtx, at, axis, bounded, checkKeys, choice, describe, full, isObj, object, problem, quantity, rect, setOwn, target, warn } from './read.ts';
 import type { Flux, Oven, OvenState, Velocity } from './types.ts';
 import { isProblem, parseQuantity } from './units.ts';
 
@@ -31,9 +34,9 @@ function readState(ctx: ReadCtx, o: Obj, path: string): OvenState | undefined {
     checkKeys(ctx, s, p, ['kind', 'axis', 'm'], 'a pure state');
     const ax = axis(ctx, s, 'axis', p);
     const m = s.m;
-    if (m === undefined) return problem(ctx, at(p, 'm'), `missing "m"${labels ? `: one of ${labels.join(', ')}` : ''}`);
+    if (m === undefined) return problem(ctx, at(p, 'm'), `missing "m"${labels ? `: one of ${listText(labels)}` : ''}`);
     if (typeof m !== 'string') return problem(ctx, at(p, 'm'), `expected a state label such as ${labels ? JSON.stringify(labels[0]) : '"+1/2"'}, got ${describe(m)}`);
-    if (labels && !labels.includes(m)) return problem(ctx, at(p, 'm'), `no state ${JSON.stringify(m)} for this species; its states are ${labels.join(', ')}`);
+    if (labels && !labels.includes(m)) return problem(ctx, at(p, 'm'), `no state ${quote(m)} for this species; its states are ${listText(labels)}`);
     return ax ? { kind, axis: ax, m } : undefined;
   }
   checkKeys(ctx, s, p, ['kind', 'axis', 'p'], 'a populations state');
@@ -44,8 +47,9 @@ function readState(ctx: ReadCtx, o: Obj, path: string): OvenState | undefined {
   const pops: Record<string, number> = {};
   let ok = true;
   for (const [l, v] of Object.entries(pv)) {
+    if (full(ctx)) return undefined;
     if (labels && !labels.includes(l)) {
-      problem(ctx, at(pp, l), `no state ${JSON.stringify(l)} for this species; its states are ${labels.join(', ')}`);
+      problem(ctx, at(pp, l), `no state ${quote(l)} for this species; its states are ${listText(labels)}`);
       ok = false;
       continue;
     }
@@ -54,11 +58,12 @@ function readState(ctx: ReadCtx, o: Obj, path: string): OvenState | undefined {
       ctx.problems.push(r);
       ok = false;
     } else if (bounded(ctx, r, at(pp, l), 'a population', { nonNegative: true }, v) === undefined) ok = false;
-    else pops[l] = r;
+    else setOwn(pops, l, r);
   }
   if (!ok || !ax) return undefined;
   const sum = Object.values(pops).reduce((a, b) => a + b, 0);
   if (!(sum > 0)) return problem(ctx, pp, 'the populations sum to 0: give at least one positive population');
+  if (!Number.isFinite(sum)) return problem(ctx, pp, 'the populations sum to more than 1.8e308, beyond the range of a number: scale them down (only their ratios count)');
   if (Math.abs(sum - 1) > 1e-9) warn(ctx, pp, `the populations sum to ${sum}; normalised to 1`);
   for (const l of Object.keys(pops)) pops[l] /= sum;
   return { kind, axis: ax, p: pops };
@@ -71,10 +76,10 @@ function readFlux(ctx: ReadCtx, o: Obj, path: string): Flux | undefined {
   if (isObj(v)) {
     checkKeys(ctx, v, p, ['kind', 'temperature'], 'a vapor flux estimate');
     if (v.kind !== 'vapor') return problem(ctx, at(p, 'kind'), `a flux object is {"kind": "vapor", "temperature": …}, got kind ${describe(v.kind)}`);
-    const t = quantity(ctx, v, 'temperature', 'temperature', p, { positive: true, what: 'the temperature' });
+    const t = quantity(ctx, v, 'temperature', 'temperature', p, { positive: true, range: LIMITS.temperature, what: 'the temperature' });
     return t === undefined ? undefined : { kind: 'vapor', temperature: t };
   }
-  const f = quantity(ctx, o, 'flux', 'rate', path, { nonNegative: true, what: 'the flux' });
+  const f = quantity(ctx, o, 'flux', 'rate', path, { nonNegative: true, range: LIMITS.flux, what: 'the flux' });
   return f === undefined ? undefined : { kind: 'given', value: f };
 }
 
@@ -90,18 +95,18 @@ function readVelocity(ctx: ReadCtx, o: Obj, path: string): Velocity | undefined 
   switch (kind) {
     case 'fixed': {
       checkKeys(ctx, v, p, ['kind', 'speed'], 'a fixed velocity');
-      const speed = quantity(ctx, v, 'speed', 'speed', p, { positive: true, what: 'the speed' });
+      const speed = quantity(ctx, v, 'speed', 'speed', p, { positive: true, range: LIMITS.speed, what: 'the speed' });
       return speed === undefined ? undefined : { kind, speed };
     }
     case 'effusive': {
       checkKeys(ctx, v, p, ['kind', 'temperature'], 'an effusive velocity distribution');
-      const temperature = quantity(ctx, v, 'temperature', 'temperature', p, { positive: true, what: 'the temperature' });
+      const temperature = quantity(ctx, v, 'temperature', 'temperature', p, { positive: true, range: LIMITS.temperature, what: 'the temperature' });
       return temperature === undefined ? undefined : { kind, temperature };
     }
     case 'supersonic': {
       checkKeys(ctx, v, p, ['kind', 'speed', 'ratio'], 'a supersonic velocity distribution');
-      const speed = quantity(ctx, v, 'speed', 'speed', p, { positive: true, what: 'the speed' });
-      const ratio = quantity(ctx, v, 'ratio', 'dimensionless', p, { positive: true, what: 'the speed ratio' });
+      const speed = quantity(ctx, v, 'speed', 'speed', p, { positive: true, range: LIMITS.speed, what: 'the speed' });
+      const ratio = quantity(ctx, v, 'ratio', 'dimensionless', p, { positive: true, range: LIMITS.ratio, what: 'the speed ratio' });
       return speed === undefined || ratio === undefined ? undefined : { kind, speed, ratio };
     }
     case 'table':
@@ -118,22 +123,24 @@ function readTable(ctx: ReadCtx, v: Obj, p: string): Velocity | undefined {
   if (pts.length === 0) return problem(ctx, pp, 'the velocity table is empty: give at least one [speed, weight] pair');
   const out: [number, number][] = [];
   let ok = true;
-  pts.forEach((pt, i) => {
+  for (let i = 0; i < pts.length; i++) {
+    if (full(ctx)) return undefined;
+    const pt: unknown = pts[i];
     const ip = at(pp, i);
     if (!Array.isArray(pt) || pt.length !== 2) {
       ok = false;
       problem(ctx, ip, `expected a [speed, weight] pair, got ${describe(pt)}`);
-      return;
+      continue;
     }
     const s = parseQuantity(pt[0], 'speed', at(ip, 0));
     const w = parseQuantity(pt[1], 'dimensionless', at(ip, 1));
     if (isProblem(s)) ctx.problems.push(s);
-    else if (bounded(ctx, s, at(ip, 0), 'a speed', { positive: true }, pt[0]) === undefined) ok = false;
+    else if (bounded(ctx, s, at(ip, 0), 'a speed', { positive: true, range: LIMITS.speed }, pt[0]) === undefined) ok = false;
     if (isProblem(w)) ctx.problems.push(w);
     else if (bounded(ctx, w, at(ip, 1), 'a weight', { nonNegative: true }, pt[1]) === undefined) ok = false;
     if (isProblem(s) || isProblem(w)) ok = false;
     else out.push([s, w]);
-  });
+  }
   if (!ok) return undefined;
   for (let i = 1; i < out.length; i++) {
     if (!(out[i][0] > out[i - 1][0])) {
@@ -142,6 +149,7 @@ function readTable(ctx: ReadCtx, v: Obj, p: string): Velocity | undefined {
   }
   const sum = out.reduce((a, [, w]) => a + w, 0);
   if (!(sum > 0)) return problem(ctx, pp, 'the weights of the velocity table sum to 0');
+  if (!Number.isFinite(sum)) return problem(ctx, pp, 'the weights of the velocity table sum to more than 1.8e308, beyond the range of a number: scale them down (only their ratios count)');
   return { kind: 'table', points: out.map(([s, w]) => [s, w / sum] as const) };
 }
 

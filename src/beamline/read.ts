@@ -3,6 +3,8 @@
  * on failure, so one pass reports ALL problems of a file.
  */
 import type { LabelSpecies } from './labels.ts';
+import { LIMITS, type Limit, within } from './limits.ts';
+import { MAX_PROBLEMS, QUOTE_MAX, abbreviate, listText, quote } from './messages.ts';
 import type { Axis, Problem, Rect, Vec3 } from './types.ts';
 import { type Dimension, degreesText, isProblem, parseQuantity } from './units.ts';
 
@@ -15,20 +17,25 @@ export interface ReadCtx {
 
 export type Obj = Record<string, unknown>;
 
-/** JSON path of a key: "oven.to", "elements[4].ports[\"F=2,mF=+1\"]". */
+/** JSON path of a key: "oven.to", "elements[4].ports[\"F=2,mF=+1\"]"; a key longer than QUOTE_MAX is shown by its two ends. */
 export function at(base: string, key: string | number): string {
   if (typeof key === 'number') return `${base}[${key}]`;
-  if (/^[A-Za-z_$][A-Za-z0-9_$]*$/.test(key)) return base ? `${base}.${key}` : key;
-  return `${base}[${JSON.stringify(key)}]`;
+  if (key.length <= QUOTE_MAX && /^[A-Za-z_$][A-Za-z0-9_$]*$/.test(key)) return base ? `${base}.${key}` : key;
+  return `${base}[${quote(key)}]`;
 }
 
 export function problem(ctx: ReadCtx, path: string, message: string): undefined {
-  ctx.problems.push({ path, message });
+  if (ctx.problems.length <= MAX_PROBLEMS) ctx.problems.push({ path, message });
   return undefined;
 }
 
 export function warn(ctx: ReadCtx, path: string, message: string): void {
-  ctx.warnings.push({ path, message });
+  if (ctx.warnings.length <= MAX_PROBLEMS) ctx.warnings.push({ path, message });
+}
+
+/** True once more problems were found than are listed: loops over a document's lists stop there. */
+export function full(ctx: ReadCtx): boolean {
+  return ctx.problems.length > MAX_PROBLEMS;
 }
 
 export function isObj(v: unknown): v is Obj {
@@ -39,31 +46,48 @@ export function describe(v: unknown): string {
   if (v === null) return 'null';
   if (Array.isArray(v)) return 'a list';
   if (typeof v === 'object') return 'an object';
-  if (typeof v === 'string') return `"${v}"`;
+  if (typeof v === 'string') return quote(v);
   return `${typeof v} ${String(v)}`;
 }
 
-/** Levenshtein distance, for "did you mean" on unknown keys. */
-function distance(a: string, b: string): number {
-  const d = Array.from({ length: a.length + 1 }, (_, i) => [i, ...Array<number>(b.length).fill(0)]);
-  for (let j = 1; j <= b.length; j++) d[0][j] = j;
-  for (let i = 1; i <= a.length; i++)
-    for (let j = 1; j <= b.length; j++)
-      d[i][j] = Math.min(d[i - 1][j] + 1, d[i][j - 1] + 1, d[i - 1][j - 1] + (a[i - 1].toLowerCase() === b[j - 1].toLowerCase() ? 0 : 1));
-  return d[a.length][b.length];
+/** Set o[k] as an own property, whatever k is ("__proto__" included): labels and ports are keys a user writes. */
+export function setOwn<T>(o: Record<string, T>, k: string, v: T): void {
+  Object.defineProperty(o, k, { value: v, enumerable: true, writable: true, configurable: true });
 }
 
+/** Levenshtein distance (case-insensitive), for "did you mean" on unknown keys; both strings at most SUGGEST_MAX_CHARS. */
+function distance(a: string, b: string): number {
+  const x = a.toLowerCase(), y = b.toLowerCase();
+  let prev = Array.from({ length: y.length + 1 }, (_, j) => j);
+  for (let i = 1; i <= x.length; i++) {
+    const row = [i];
+    for (let j = 1; j <= y.length; j++) row[j] = Math.min(prev[j] + 1, row[j - 1] + 1, prev[j - 1] + (x[i - 1] === y[j - 1] ? 0 : 1));
+    prev = row;
+  }
+  return prev[y.length];
+}
+
+/** Keys and names longer than this get no suggestion (no key of the format is near it, and the search would cost time). */
+export const SUGGEST_MAX_CHARS = 64;
+/** Candidates searched for a suggestion, at most. */
+export const SUGGEST_MAX_CANDIDATES = 200;
+
+/** " (did you mean "gradient"?)" for a near miss, else "". Bounded in time: long keys and long candidate lists are not searched in full. */
 export function suggest(k: string, allowed: readonly string[]): string {
+  if (k.length > SUGGEST_MAX_CHARS) return '';
+  const limit = Math.max(1, Math.floor(k.length / 3));
   let best = '';
   let bd = Infinity;
-  for (const a of allowed) {
+  for (let i = 0; i < allowed.length && i < SUGGEST_MAX_CANDIDATES; i++) {
+    const a = allowed[i];
+    if (a.length > SUGGEST_MAX_CHARS || Math.abs(a.length - k.length) > limit) continue;
     const dd = distance(k, a);
     if (dd < bd) {
       bd = dd;
       best = a;
     }
   }
-  return bd <= Math.max(1, Math.floor(k.length / 3)) ? ` (did you mean "${best}"?)` : '';
+  return bd <= limit ? ` (did you mean ${quote(best)}?)` : '';
 }
 
 /**
@@ -72,9 +96,11 @@ export function suggest(k: string, allowed: readonly string[]): string {
  */
 export function checkKeys(ctx: ReadCtx, o: Obj, path: string, allowed: readonly string[], what: string, why: Readonly<Record<string, string>> = {}): void {
   for (const k of Object.keys(o)) {
+    if (full(ctx)) return;
     if (allowed.includes(k)) continue;
-    if (k in why) problem(ctx, at(path, k), `${JSON.stringify(k)} does not apply here: ${why[k]}`);
-    else problem(ctx, at(path, k), `unknown key ${JSON.stringify(k)} in ${what}${suggest(k, allowed)}; allowed: ${allowed.join(', ')}`);
+    // own keys only: a key named "toString" or "__proto__" is as unknown as any other
+    if (Object.hasOwn(why, k)) problem(ctx, at(path, k), `${quote(k)} does not apply here: ${why[k]}`);
+    else problem(ctx, at(path, k), `unknown key ${quote(k)} in ${what}${suggest(k, allowed)}; allowed: ${allowed.join(', ')}`);
   }
 }
 
@@ -94,14 +120,17 @@ export interface Bounds {
   positive?: boolean;
   /** Reject values outside [0, 1]. */
   unit?: boolean;
+  /** The range of docs/design.md "Keys by element kind" (limits.ts), checked after the sign. */
+  range?: Limit;
 }
 
 /** Check a number against bounds; the message names the bound. */
 export function bounded(ctx: ReadCtx, n: number, p: string, what: string, b: Bounds, written?: unknown): number | undefined {
-  const got = typeof written === 'string' && written.trim() !== String(n) ? `${written.trim()}` : String(n);
+  const got = typeof written === 'string' && written.trim() !== String(n) ? abbreviate(written.trim()) : String(n);
   if (b.positive && !(n > 0)) return problem(ctx, p, `${what} must be positive, got ${got}`);
   if (b.nonNegative && n < 0) return problem(ctx, p, `${what} must not be negative, got ${got}`);
   if (b.unit && (n < 0 || n > 1)) return problem(ctx, p, `${what} must lie in [0, 1], got ${got}`);
+  if (b.range && !within(n, b.range)) return problem(ctx, p, `${what} must be ${b.range.text}, got ${got}`);
   return n;
 }
 
@@ -147,18 +176,19 @@ export function axis(ctx: ReadCtx, o: Obj, k: string, path: string): Axis | unde
     if (theta === undefined || phi === undefined) return undefined;
     return { ...axisFromAngles(theta, phi), text: `θ ${degreesText(theta)}, φ ${degreesText(phi)}` };
   }
-  return problem(ctx, p, `an axis is {"theta", "phi"} or {"roll"}, got keys ${keys.length ? keys.map((x) => JSON.stringify(x)).join(', ') : 'none'}`);
+  return problem(ctx, p, `an axis is {"theta", "phi"} or {"roll"}, got keys ${keys.length ? listText(keys.slice(0, 100).map(quote)) : 'none'}`);
 }
 
-/** A vector {x, y, z} of dimension `dim` (all three components required). */
-export function vec(ctx: ReadCtx, o: Obj, k: string, dim: Dimension, path: string, required = true): Vec3 | undefined {
-  const v = object(ctx, o, k, path, required);
+/** A vector {x, y, z} of dimension `dim` (all three components required), each component in `range`. */
+export function vec(ctx: ReadCtx, o: Obj, k: string, dim: Dimension, path: string, range?: Limit): Vec3 | undefined {
+  const v = object(ctx, o, k, path, true);
   if (!v) return undefined;
   const p = at(path, k);
   checkKeys(ctx, v, p, ['x', 'y', 'z'], 'a vector');
-  const x = quantity(ctx, v, 'x', dim, p);
-  const y = quantity(ctx, v, 'y', dim, p);
-  const z = quantity(ctx, v, 'z', dim, p);
+  const b: Bounds = range ? { range } : {};
+  const x = quantity(ctx, v, 'x', dim, p, { ...b, what: 'the x component' });
+  const y = quantity(ctx, v, 'y', dim, p, { ...b, what: 'the y component' });
+  const z = quantity(ctx, v, 'z', dim, p, { ...b, what: 'the z component' });
   return x === undefined || y === undefined || z === undefined ? undefined : { x, y, z };
 }
 
@@ -168,10 +198,10 @@ export function rect(ctx: ReadCtx, o: Obj, k: string, path: string): Rect | unde
   if (!r) return undefined;
   const p = at(path, k);
   checkKeys(ctx, r, p, ['x', 'z', 'width', 'height'], 'a rectangle');
-  const width = quantity(ctx, r, 'width', 'length', p, { positive: true });
-  const height = quantity(ctx, r, 'height', 'length', p, { positive: true });
-  const x = quantity(ctx, r, 'x', 'length', p, { fallback: 0 });
-  const z = quantity(ctx, r, 'z', 'length', p, { fallback: 0 });
+  const width = quantity(ctx, r, 'width', 'length', p, { positive: true, range: LIMITS.size, what: 'the width' });
+  const height = quantity(ctx, r, 'height', 'length', p, { positive: true, range: LIMITS.size, what: 'the height' });
+  const x = quantity(ctx, r, 'x', 'length', p, { fallback: 0, range: LIMITS.offset, what: 'the offset x' });
+  const z = quantity(ctx, r, 'z', 'length', p, { fallback: 0, range: LIMITS.offset, what: 'the offset z' });
   if (width === undefined || height === undefined || x === undefined || z === undefined) return undefined;
   return { x, z, width, height };
 }

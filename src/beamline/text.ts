@@ -4,6 +4,7 @@
  */
 import { checkBeamline } from './check.ts';
 import { parseJson } from './json.ts';
+import { capProblem, listedProblems } from './messages.ts';
 import type { SpeciesResolver } from './speciesDoc.ts';
 import type { ParseResult, Problem } from './types.ts';
 
@@ -52,10 +53,10 @@ export function readBeamlineText(text: string, resolver: SpeciesResolver, opts: 
   if (big) return { ok: false, problems: [text.length > maxBytes ? { path: '', message: `the file is at least ${mb(size)}, over the ${mb(maxBytes)} limit for a beamline document; it was not read` } : big] };
   if (text.trim() === '') return { ok: false, problems: [{ path: '', message: 'the file is empty: a beamline is a JSON object with "format": "spinyard.beamline"' }] };
   const j = parseJson(text);
-  if (!j.ok) return { ok: false, problems: [j.problem] };
+  if (!j.ok) return { ok: false, problems: [capProblem(j.problem)] };
   const r = checkBeamline(j.value, resolver);
   if (j.duplicates.length) {
-    return { ok: false, problems: [...j.duplicates, ...(r.ok ? [] : r.problems)] };
+    return { ok: false, problems: listedProblems([...j.duplicates, ...(r.ok ? [] : r.problems)]) };
   }
   return r;
 }

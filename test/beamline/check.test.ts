@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { suggest } from '../../src/beamline/read.ts';
 import type { Magnet } from '../../src/beamline/types.ts';
 import { DESIGN_BEAM_KEYS, DESIGN_V1, bareLine } from './examples.ts';
 import { check, lines, ok, problems, rbLine } from './helpers.ts';
@@ -284,5 +285,114 @@ describe('checkBeamline: other kinds', () => {
     expect(r.line.elements[4]).toMatchObject({ kind: 'rotator', to: 'RF1' });
     expect((r.line.elements[4] as { angle: number }).angle).toBeCloseTo(Math.PI / 2, 15);
     expect(r.line.elements[5]).toMatchObject({ kind: 'rf', frequency: 28e6, length: 0.02, gap: 0.01 });
+  });
+});
+
+describe('checkBeamline: keys named like built-in properties', () => {
+  const NAMES = ['toString', 'constructor', 'valueOf', '__proto__', 'hasOwnProperty', 'isPrototypeOf', '__defineGetter__'];
+  /** Sets o[k] as JSON.parse does: an own property, "__proto__" included. */
+  const own = (o: Record<string, unknown>, k: string, v: unknown) => Object.defineProperty(o, k, { value: v, enumerable: true, writable: true, configurable: true });
+  it.each(NAMES)('reports %s as an unknown key, never a function or an object', (k) => {
+    const d = bareLine();
+    own(d.elements[2], k, 1); // a detector, whose "to" and "ports" have reasons of their own
+    own(d.elements[0], k, 1);
+    own(d, k, 1);
+    own(d.oven.velocity, k, 1);
+    const l = lines(d);
+    expect(l).toHaveLength(4);
+    for (const line of l) {
+      expect(line).toMatch(new RegExp(`unknown key "${k}" in `));
+      expect(line).not.toMatch(/native code|\[object Object\]|function /);
+    }
+  });
+  it.each(NAMES)('reports %s as a port label, a population and a phase the species lacks', (k) => {
+    const d = bareLine();
+    own(d.elements[0].ports, k, 'stop');
+    d.oven.state = { kind: 'populations', axis: { roll: '0 deg' }, p: { '+1/2': 1 } };
+    own(d.oven.state.p, k, 1);
+    const l = lines(d);
+    expect(l).toEqual([
+      `oven.state.p${k.startsWith('_') || /^[A-Za-z]/.test(k) ? `.${k}` : `["${k}"]`}: no state "${k}" for this species; its states are +1/2, -1/2`,
+      `elements[0].ports.${k}: no port "${k}" for this species and group; its ports are +1/2, -1/2`,
+    ]);
+  });
+  it('does not take a built-in name for a species, a kind or an id target', () => {
+    const d = bareLine();
+    d.elements[3].kind = 'constructor';
+    expect(lines(d)).toEqual(['elements[3].kind: unknown element kind "constructor"; kinds: magnet, rotator, field, twist, rf, recombiner, slit, detector']);
+    const t = bareLine();
+    t.elements[1].ports['-1/2'] = 'toString';
+    expect(lines(t)).toEqual(['elements[1].ports["-1/2"]: target "toString" is not an element id or "stop"; ids: M1, M2, D1, D2']);
+    expect(lines({ ...rbLine(), species: 'hasOwnProperty' })[0]).toMatch(/^species: unknown species "hasOwnProperty"; known: /);
+  });
+});
+
+describe('checkBeamline: long keys, values and lists', () => {
+  it('reports a 1 MB unknown key once, quoted by its two ends, without a suggestion search', () => {
+    const d = bareLine();
+    const k = `gradient${'x'.repeat(1024 * 1024)}`;
+    d.elements[0][k] = '1 T/m';
+    const [p] = problems(d);
+    expect(p.path).toMatch(/^elements\[0\]\["gradientx+…x+" \(1,048,584 characters\)\]$/);
+    expect(p.message).toMatch(/^unknown key "gradientx+…x+" \(1,048,584 characters\) in a magnet; allowed: id, kind, gap, axis, field, gradient, length, aperture, ports$/);
+    expect(p.message.length).toBeLessThan(300);
+  });
+  it('still suggests the nearest key for a short one', () => {
+    expect(suggest('gradeint', ['axis', 'gradient'])).toBe(' (did you mean "gradient"?)');
+    expect(suggest('GRADIENT', ['gradient'])).toBe(' (did you mean "gradient"?)');
+    expect(suggest('g'.repeat(65), ['g'.repeat(65)])).toBe(''); // longer than SUGGEST_MAX_CHARS: not searched
+  });
+  it('abbreviates a long id, target, species name and kind in messages', () => {
+    const long = 'Q'.repeat(100000);
+    const d = bareLine();
+    d.elements[1].ports['-1/2'] = long;
+    d.elements[3].kind = long;
+    d.elements[2].id = `${long}:1`;
+    const l = lines(d);
+    for (const line of l) expect(line.length).toBeLessThan(500);
+    expect(l).toContain('elements[2].id: an id must not contain ":" (results write ELEMENT:PORT), got "QQQQQQQQQQQQQQQQQQQQQQQQQQQQ…QQQQQQQQQQQQQQQQQQQQQQQQQQ:1" (100,002 characters)');
+    expect(lines({ ...rbLine(), species: long })[0].length).toBeLessThan(500);
+  });
+  it('lists at most a few hundred characters of ids for a dangling target in a long line', () => {
+    const d = bareLine();
+    for (let i = 0; i < 20000; i++) d.elements.push({ id: `D${i + 10}`, kind: 'detector' });
+    d.elements[1].ports['-1/2'] = 'D3';
+    const l = lines(d);
+    expect(l).toHaveLength(1);
+    expect(l[0]).toMatch(/^elements\[1\]\.ports\["-1\/2"\]: target "D3" is not an element id or "stop"; ids: M1, M2, D1, D2, D10, .*… \(20,004 in all\)$/);
+  });
+  it('reads a chain of 20,000 elements and names a cycle through all of them, without deep recursion', () => {
+    const d = bareLine();
+    const n = 20000;
+    d.oven.to = 'R0';
+    for (let i = 0; i < n; i++) d.elements.push({ id: `R${i}`, kind: 'rotator', axis: { roll: '0 deg' }, angle: '0 deg', to: i + 1 < n ? `R${i + 1}` : 'M1' });
+    const r = ok(check(d));
+    expect(r.line.elements).toHaveLength(n + 4);
+    d.elements[n + 3].to = 'R0'; // back to the first
+    const l = lines(d);
+    expect(l).toHaveLength(1);
+    expect(l[0]).toMatch(/^elements\[20003\]\.to: cycle R0 → R1 → .* … \(20,001 in all\): the output of R19999 is routed back upstream$/);
+  });
+  it('stops after 1,000 problems and says so', () => {
+    const d = bareLine();
+    for (let i = 0; i < 100000; i++) d.elements.push(1);
+    const l = lines(d);
+    expect(l).toHaveLength(1001);
+    expect(l[999]).toBe('elements[1003]: expected an element object, got number 1');
+    expect(l[1000]).toBe('the reader stopped after 1,000 problems; correct these and read the file again');
+  });
+});
+
+describe('checkBeamline: bare spins up to the engine\'s limit', () => {
+  it.each([['31/2', 31], [15.5, 31], ['15', 30]])('reads spin %j (2j = %i)', (spin, j2) => {
+    const d = bareLine();
+    d.species.spin = spin;
+    for (const e of d.elements) if (e.kind === 'magnet') e.ports = { '*': e.ports['+1/2'] };
+    expect(ok(check(d)).line.species).toMatchObject({ kind: 'bare', j2 });
+  });
+  it.each([['16'], ['1e7'], ['1e9'], [1e300], ['33/2']])('refuses spin %j before building its labels, with the path', (spin) => {
+    const d = bareLine();
+    d.species.spin = spin;
+    expect(lines(d)).toEqual([`species.spin: a bare spin is at most j = 31/2 (2j ≤ 31, the largest the engine's spin matrices take), got ${typeof spin === 'string' ? `"${spin}"` : String(spin)}`]);
   });
 });

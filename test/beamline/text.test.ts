@@ -49,7 +49,7 @@ describe('readBeamlineText', () => {
   });
   it('rejects malformed JSON with line and column', () => {
     const broken = DESIGN_V1.replace('"flux": "2e9 /s",', '"flux": "2e9 /s"');
-    expect(messages(broken)).toEqual(['not valid JSON at line 9, column 5: expected "," or "}", got "\\""']);
+    expect(messages(broken)).toEqual(['oven: not valid JSON at line 9, column 5: expected "," or "}", got "\\""']);
   });
   it('rejects a duplicate key that JSON.parse would silently drop', () => {
     const dup = DESIGN_V1.replace('"efficiency": 0.9,', '"efficiency": 0.9, "efficiency": 0.09,');

@@ -1,5 +1,6 @@
 /** field: a uniform field vector `field` over `length`; U(v) = exp(−i H(B) t/ħ), t = length/v. */
 import type { FieldRegion } from '../types.ts';
+import { LIMITS } from '../limits.ts';
 import { type Obj, type ReadCtx, quantity, target, vec } from '../read.ts';
 import type { KindModule } from './kind.ts';
 
@@ -9,8 +10,8 @@ export const field: KindModule<FieldRegion> = {
   output: 'to',
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
-    const f = vec(ctx, o, 'field', 'field', path);
-    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, what: 'the length' });
+    const f = vec(ctx, o, 'field', 'field', path, LIMITS.field);
+    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, range: LIMITS.distance, what: 'the length' });
     const to = target(ctx, o, 'to', path, 'a field region');
     return f && length !== undefined && to ? { field: f, length, to } : undefined;
   },

@@ -18,7 +18,10 @@ export interface KindModule<E extends Element = Element> {
   readonly hyperfineOnly: readonly string[];
   /** Read the kind-specific keys (the output included); problems go to ctx. */
   read(o: Obj, path: string, ctx: ReadCtx): ElementBody<E> | undefined;
-  /** Kind-specific keys of a new element in the editor (without id, kind, gap, output), given the line's port labels. */
+  /**
+   * Kind-specific keys of a new element in the editor (without id, kind and output), given the line's port labels;
+   * a kind that needs a distance from the element before it gives its `gap` too (the slit).
+   */
   defaults(portLabels: readonly string[]): Record<string, unknown>;
 }
 

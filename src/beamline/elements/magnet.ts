@@ -5,7 +5,9 @@
  * aperture {width, height} of the pole gap, group, entry (hyperfine species only), ports.
  */
 import type { Magnet } from '../types.ts';
-import { type Obj, type ReadCtx, at, axis, describe, isObj, problem, quantity, rect, warn } from '../read.ts';
+import { LIMITS } from '../limits.ts';
+import { listText, quote } from '../messages.ts';
+import { type Obj, type ReadCtx, at, axis, describe, full, isObj, problem, quantity, rect, setOwn, warn } from '../read.ts';
 import type { KindModule } from './kind.ts';
 import { readSorting } from './sorting.ts';
 
@@ -16,9 +18,9 @@ export const magnet: KindModule<Magnet> = {
   hyperfineOnly: ['group', 'entry'],
   read(o: Obj, path: string, ctx: ReadCtx) {
     const ax = axis(ctx, o, 'axis', path);
-    const field = quantity(ctx, o, 'field', 'field', path, { required: false, nonNegative: true, what: 'the field size' });
-    const gradient = quantity(ctx, o, 'gradient', 'gradient', path, { required: false });
-    const length = quantity(ctx, o, 'length', 'length', path, { required: false, nonNegative: true, what: 'the length' });
+    const field = quantity(ctx, o, 'field', 'field', path, { required: false, nonNegative: true, range: LIMITS.fieldSize, what: 'the field size' });
+    const gradient = quantity(ctx, o, 'gradient', 'gradient', path, { required: false, range: LIMITS.gradient, what: 'the gradient' });
+    const length = quantity(ctx, o, 'length', 'length', path, { required: false, nonNegative: true, range: LIMITS.distance, what: 'the length' });
     const aperture = rect(ctx, o, 'aperture', path);
     const sort = readSorting(ctx, o, path);
     const ports = readPorts(ctx, o, path, sort.labels);
@@ -42,29 +44,30 @@ export const magnet: KindModule<Magnet> = {
 function readPorts(ctx: ReadCtx, o: Obj, path: string, labels: string[] | undefined): Record<string, string> | undefined {
   const p = at(path, 'ports');
   const v = o.ports;
-  if (v === undefined) return problem(ctx, p, `missing "ports": a magnet routes each port${labels ? ` (${labels.join(', ')})` : ''} to an element id or "stop"`);
+  if (v === undefined) return problem(ctx, p, `missing "ports": a magnet routes each port${labels ? ` (${listText(labels)})` : ''} to an element id or "stop"`);
   if (!isObj(v)) return problem(ctx, p, `expected an object {port label: target}, got ${describe(v)}`);
   const ports: Record<string, string> = {};
   let ok = true;
   for (const [label, t] of Object.entries(v)) {
+    if (full(ctx)) return undefined;
     const lp = at(p, label);
     if (labels && label !== '*' && !labels.includes(label)) {
-      problem(ctx, lp, `no port ${JSON.stringify(label)} for this species and group; its ports are ${labels.join(', ')}`);
+      problem(ctx, lp, `no port ${quote(label)} for this species and group; its ports are ${listText(labels)}`);
       ok = false;
     }
     if (typeof t !== 'string' || t === '') {
       problem(ctx, lp, `a target is an element id or "stop", got ${describe(t)}`);
       ok = false;
-    } else ports[label] = t;
+    } else setOwn(ports, label, t);
   }
   if (labels) {
-    if (!('*' in v)) {
-      const missing = labels.filter((l) => !(l in v));
+    if (!Object.hasOwn(v, '*')) {
+      const missing = labels.filter((l) => !Object.hasOwn(v, l));
       if (missing.length) {
-        problem(ctx, p, `unrouted port${missing.length > 1 ? 's' : ''} ${missing.join(', ')}: route every port by name or with "*"`);
+        problem(ctx, p, `unrouted port${missing.length > 1 ? 's' : ''} ${listText(missing)}: route every port by name or with "*"`);
         ok = false;
       }
-    } else if (labels.every((l) => l in v)) warn(ctx, at(p, '*'), '"*" routes no port: every port is named');
+    } else if (labels.every((l) => Object.hasOwn(v, l))) warn(ctx, at(p, '*'), '"*" routes no port: every port is named');
   }
   return ok ? ports : undefined;
 }

@@ -5,7 +5,9 @@
  * missing labels 0. `coherent` defaults to true.
  */
 import type { Recombiner } from '../types.ts';
-import { type Obj, type ReadCtx, at, axis, describe, isObj, problem, quantity, target } from '../read.ts';
+import { LIMITS } from '../limits.ts';
+import { listText, quote } from '../messages.ts';
+import { type Obj, type ReadCtx, at, axis, describe, full, isObj, problem, quantity, setOwn, target } from '../read.ts';
 import type { KindModule } from './kind.ts';
 import { readSorting } from './sorting.ts';
 
@@ -22,16 +24,17 @@ export const recombiner: KindModule<Recombiner> = {
     // open
     const op = at(path, 'open');
     const open: string[] = [];
-    if (o.open === undefined) problem(ctx, op, `missing "open": the port labels the recombiner passes${labels ? ` (of ${labels.join(', ')})` : ''}`);
+    if (o.open === undefined) problem(ctx, op, `missing "open": the port labels the recombiner passes${labels ? ` (of ${listText(labels)})` : ''}`);
     else if (!Array.isArray(o.open)) problem(ctx, op, `expected a list of port labels, got ${describe(o.open)}`);
     else {
       if (o.open.length === 0) problem(ctx, op, 'open is empty: name at least one port label');
-      o.open.forEach((l, i) => {
+      for (let i = 0; i < o.open.length && !full(ctx); i++) {
+        const l: unknown = o.open[i];
         if (typeof l !== 'string') problem(ctx, at(op, i), `expected a port label, got ${describe(l)}`);
-        else if (labels && !labels.includes(l)) problem(ctx, at(op, i), `no port ${JSON.stringify(l)} for this species and group; its ports are ${labels.join(', ')}`);
-        else if (open.includes(l)) problem(ctx, at(op, i), `port ${JSON.stringify(l)} is listed twice`);
+        else if (labels && !labels.includes(l)) problem(ctx, at(op, i), `no port ${quote(l)} for this species and group; its ports are ${listText(labels)}`);
+        else if (open.includes(l)) problem(ctx, at(op, i), `port ${quote(l)} is listed twice`);
         else open.push(l);
-      });
+      }
     }
     // phases
     const phases: Record<string, number> = {};
@@ -40,9 +43,10 @@ export const recombiner: KindModule<Recombiner> = {
       if (!isObj(o.phases)) problem(ctx, pp, `expected an object {port label: angle}, got ${describe(o.phases)}`);
       else
         for (const l of Object.keys(o.phases)) {
-          if (Array.isArray(o.open) && !open.includes(l)) problem(ctx, at(pp, l), `phase for ${JSON.stringify(l)}, which is not in "open"`);
+          if (full(ctx)) break;
+          if (Array.isArray(o.open) && !open.includes(l)) problem(ctx, at(pp, l), `phase for ${quote(l)}, which is not in "open"`);
           const phi = quantity(ctx, o.phases, l, 'angle', pp);
-          if (phi !== undefined) phases[l] = phi;
+          if (phi !== undefined) setOwn(phases, l, phi);
         }
     }
     let coherent = true;
@@ -50,7 +54,7 @@ export const recombiner: KindModule<Recombiner> = {
       if (typeof o.coherent !== 'boolean') problem(ctx, at(path, 'coherent'), `expected true or false, got ${describe(o.coherent)}`);
       else coherent = o.coherent;
     }
-    const f = quantity(ctx, o, 'field', 'field', path, { required: false, nonNegative: true, what: 'the field size' });
+    const f = quantity(ctx, o, 'field', 'field', path, { required: false, nonNegative: true, range: LIMITS.fieldSize, what: 'the field size' });
     const to = target(ctx, o, 'to', path, 'a recombiner');
     if (ctx.problems.length > n || !ax || !to) return undefined;
     const out: Omit<Recombiner, 'id' | 'kind' | 'gap' | 'path'> = { axis: ax, open, phases, coherent, to };

@@ -4,6 +4,7 @@
  * atoms enter at every phase, as in a continuous beam, and the engine averages over it.
  */
 import type { RfFlipper } from '../types.ts';
+import { LIMITS } from '../limits.ts';
 import { type Obj, type ReadCtx, axis, quantity, target, vec } from '../read.ts';
 import type { KindModule } from './kind.ts';
 
@@ -13,11 +14,11 @@ export const rf: KindModule<RfFlipper> = {
   output: 'to',
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
-    const st = vec(ctx, o, 'static', 'field', path);
-    const amplitude = quantity(ctx, o, 'amplitude', 'field', path, { nonNegative: true, what: 'the amplitude' });
-    const frequency = quantity(ctx, o, 'frequency', 'frequency', path, { nonNegative: true, what: 'the frequency' });
+    const st = vec(ctx, o, 'static', 'field', path, LIMITS.field);
+    const amplitude = quantity(ctx, o, 'amplitude', 'field', path, { nonNegative: true, range: LIMITS.fieldSize, what: 'the amplitude' });
+    const frequency = quantity(ctx, o, 'frequency', 'frequency', path, { nonNegative: true, range: LIMITS.frequency, what: 'the frequency' });
     const ax = axis(ctx, o, 'axis', path);
-    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, what: 'the length' });
+    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, range: LIMITS.distance, what: 'the length' });
     const phase = quantity(ctx, o, 'phase', 'angle', path, { required: false });
     const to = target(ctx, o, 'to', path, 'an RF flipper');
     const phaseOk = o.phase === undefined || phase !== undefined;

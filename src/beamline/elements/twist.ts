@@ -3,6 +3,7 @@
  * (solved exactly in the rotating frame by the engine: adiabatic ↔ sudden).
  */
 import type { Twist } from '../types.ts';
+import { LIMITS } from '../limits.ts';
 import { type Obj, type ReadCtx, axis, quantity, target } from '../read.ts';
 import type { KindModule } from './kind.ts';
 
@@ -12,10 +13,10 @@ export const twist: KindModule<Twist> = {
   output: 'to',
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
-    const f = quantity(ctx, o, 'field', 'field', path, { nonNegative: true, what: 'the field size' });
+    const f = quantity(ctx, o, 'field', 'field', path, { nonNegative: true, range: LIMITS.fieldSize, what: 'the field size' });
     const start = axis(ctx, o, 'start', path);
     const end = axis(ctx, o, 'end', path);
-    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, what: 'the length' });
+    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, range: LIMITS.distance, what: 'the length' });
     const to = target(ctx, o, 'to', path, 'a field twist');
     return f !== undefined && start && end && length !== undefined && to ? { field: f, start, end, length, to } : undefined;
   },
