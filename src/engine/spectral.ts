@@ -608,9 +608,16 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
   const A = cmatZeros(r, r);
   let error = 0;
   const d = chi.dist;
+  // how far rounding can move A: a phase φ·s is known to about ε·|φ·s| (s = 1/v), so an entry summed over the
+  // terms moves by up to ε Σ_t |X_t,ab| |φ_t + Ω_ab| s_max; the positivity test allows that much (and the
+  // quadrature's own error estimate below)
+  let vmin = 0;
   if ((d.kind === 'table' || d.kind === 'fixed') && st.mu) {
-    if (separableAverage(st, d.kind === 'fixed' ? Float64Array.of(d.speed) : d.speeds, d.kind === 'fixed' ? Float64Array.of(1) : d.weights, A)) chi.wasm = true;
+    const speeds = d.kind === 'fixed' ? Float64Array.of(d.speed) : d.speeds;
+    if (separableAverage(st, speeds, d.kind === 'fixed' ? Float64Array.of(1) : d.weights, A)) chi.wasm = true;
     chi.nodes += d.kind === 'fixed' ? 1 : d.speeds.length;
+    vmin = Infinity;
+    for (let k = 0; k < speeds.length; k++) vmin = Math.min(vmin, speeds[k]);
   } else {
     for (const t of st.terms) {
       // for φ = 0, χ(Ω_ba) = conj χ(Ω_ab): one evaluation serves both entries
@@ -645,9 +652,25 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
     herm = Math.max(herm, A.im[a * r + a] * A.im[a * r + a] * 4);
   }
   herm = Math.sqrt(herm);
-  const res = { A, error, hermiticity: herm, positive: isPositive(A, 1e-12 * Math.abs(tr) + 1e-15) };
+  const delta = 1e-12 * Math.abs(tr) + 1e-15 + error;
+  // the rounding bound is formed only where the plain test fails (it costs a pass over the terms)
+  const positive = isPositive(A, delta) || (vmin > 0 && isPositive(A, delta + phaseRounding(st, r) / vmin));
+  const res = { A, error, hermiticity: herm, positive };
   st.shared.avg = res;
   return res;
+}
+
+/** 8 ε Σ_t Σ_ab |X_t,ab| |φ_t + Ω_ab| (rad·m/s): over the slowest speed, a bound on what rounding the phases moves A by. */
+function phaseRounding(st: SpecState, r: number): number {
+  let sum = 0;
+  for (const t of st.terms) {
+    for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+      const i = a * r + b;
+      const x = Math.abs(t.X.re[i]) + Math.abs(t.X.im[i]);
+      if (x !== 0) sum += x * Math.abs(phaseLength(st, t, a, b));
+    }
+  }
+  return 8 * Number.EPSILON * sum;
 }
 
 /**
