@@ -60,7 +60,7 @@ export function parseJson(text: string): JsonResult {
       else break;
     }
   };
-  const describe = (): string => (i >= n ? 'the end of the file' : JSON.stringify(String.fromCodePoint(text.codePointAt(i)!)));
+  const describe = (): string => (i >= n ? 'the end of the file' : quote(String.fromCodePoint(text.codePointAt(i)!)));
 
   const str = (): string => {
     const start = i; // at the opening quote

@@ -40,28 +40,39 @@ function tail(s: string, n: number): string {
   return s.slice(c >= 0xdc00 && c < 0xe000 ? s.length - n + 1 : s.length - n);
 }
 
-/** A value as a message shows it unquoted: whole up to QUOTE_MAX characters, else "abc…xyz (N characters)". */
+/** Control characters, line separators and lone surrogates, which a message shows escaped ("\n", "\ud800"). */
+// eslint-disable-next-line no-control-regex -- control characters are what it looks for
+const UNPRINTABLE = /[\u0000-\u001f\u007f\u2028\u2029]|[\ud800-\udbff](?![\udc00-\udfff])|(?<![\ud800-\udbff])[\udc00-\udfff]/g;
+
+function escape(s: string): string {
+  return s.replace(UNPRINTABLE, (c) => {
+    const j = JSON.stringify(c).slice(1, -1); // "\n", "\u0000", "\ud800"; U+2028, U+2029 and DEL come back as they are
+    return j.length > 1 ? j : `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`;
+  });
+}
+
+/** A value as a message shows it unquoted: whole up to QUOTE_MAX characters, else "abc…xyz (N characters)"; control characters escaped. */
 export function abbreviate(s: string, max: number = QUOTE_MAX): string {
-  if (s.length <= max) return s;
-  return `${head(s, END)}…${tail(s, END)} (${groupDigits(s.length)} characters)`;
+  if (s.length <= max) return escape(s);
+  return `${escape(head(s, END))}…${escape(tail(s, END))} (${groupDigits(s.length)} characters)`;
 }
 
 /** A string as a message quotes it (JSON escapes, so no control character reaches a message), abbreviated when long. */
 export function quote(s: string): string {
-  if (s.length <= QUOTE_MAX) return JSON.stringify(s);
-  return `${JSON.stringify(`${head(s, END)}…${tail(s, END)}`)} (${groupDigits(s.length)} characters)`;
+  if (s.length <= QUOTE_MAX) return escape(JSON.stringify(s));
+  return `${escape(JSON.stringify(`${head(s, END)}…${tail(s, END)}`))} (${groupDigits(s.length)} characters)`;
 }
 
-/** Items joined by `sep`, written out up to LIST_MAX characters, then "… (N in all)". */
-export function listText(items: readonly string[], sep = ', ', max: number = LIST_MAX): string {
+/** Items joined by `sep`, written out up to LIST_MAX characters, then "… (N in all)"; `total` counts items left out of `items`. */
+export function listText(items: readonly string[], sep = ', ', max: number = LIST_MAX, total: number = items.length): string {
   let out = '';
   for (let i = 0; i < items.length; i++) {
-    const item = items[i].length > QUOTE_MAX ? abbreviate(items[i]) : items[i];
+    const item = abbreviate(items[i]);
     const next = i === 0 ? item : `${out}${sep}${item}`;
-    if (next.length > max && i > 0) return `${out}${sep}… (${groupDigits(items.length)} in all)`;
+    if (next.length > max && i > 0) return `${out}${sep}… (${groupDigits(total)} in all)`;
     out = next;
   }
-  return out;
+  return total > items.length ? `${out}${sep}… (${groupDigits(total)} in all)` : out;
 }
 
 /** The message or path cut to `max` characters, the cut marked "…". */

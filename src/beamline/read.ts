@@ -176,7 +176,7 @@ export function axis(ctx: ReadCtx, o: Obj, k: string, path: string): Axis | unde
     if (theta === undefined || phi === undefined) return undefined;
     return { ...axisFromAngles(theta, phi), text: `θ ${degreesText(theta)}, φ ${degreesText(phi)}` };
   }
-  return problem(ctx, p, `an axis is {"theta", "phi"} or {"roll"}, got keys ${keys.length ? listText(keys.slice(0, 100).map(quote)) : 'none'}`);
+  return problem(ctx, p, `an axis is {"theta", "phi"} or {"roll"}, got keys ${keys.length ? listText(keys.slice(0, 100).map(quote), ', ', undefined, keys.length) : 'none'}`);
 }
 
 /** A vector {x, y, z} of dimension `dim` (all three components required), each component in `range`. */

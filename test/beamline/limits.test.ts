@@ -177,6 +177,18 @@ describe('the first slit after the oven', () => {
   });
 });
 
+describe('values quoted in range messages', () => {
+  it('shows a written value on one line, by its two ends when long', () => {
+    const d = bareLine();
+    d.elements[1].gap = '-1\ncm';
+    d.elements[0].gap = `${'1'.repeat(200)} km`;
+    expect(lines(d)).toEqual([
+      'elements[0].gap: the gap must be at most 1000 m, got 1111111111111111111111111111…1111111111111111111111111 km (203 characters)',
+      'elements[1].gap: the gap must not be negative, got -1\\ncm',
+    ]);
+  });
+});
+
 describe('within', () => {
   it('checks the magnitude of a signed quantity and both ends of a range', () => {
     expect(within(-1e6, LIMITS.gradient)).toBe(true);

@@ -23,6 +23,14 @@ describe('quoting values in messages', () => {
     expect(a).toMatch(/^a(?:😀)+…(?:😀)+b \(202 characters\)$/u);
     expect(a).not.toMatch(/[\ud800-\udbff](?![\udc00-\udfff])|(?<![\ud800-\udbff])[\udc00-\udfff]/); // no lone surrogate
   });
+  it('escapes control characters, line separators and lone surrogates, so a message stays on one line', () => {
+    expect(abbreviate('a\nb\u0000c')).toBe('a\\nb\\u0000c');
+    expect(abbreviate('\u2028\u007f')).toBe('\\u2028\\u007f');
+    expect(abbreviate('x\ud800y\udc00')).toBe('x\\ud800y\\udc00');
+    expect(abbreviate('😀')).toBe('😀');
+    expect(quote('a\u2029b')).toBe('"a\\u2029b"');
+    expect(abbreviate(`\n${'k'.repeat(100)}\n`)).toMatch(/^\\nk+…k+\\n \(102 characters\)$/);
+  });
   it('groups digits by thousands', () => {
     expect(groupDigits(0)).toBe('0');
     expect(groupDigits(999)).toBe('999');
