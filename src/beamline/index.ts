@@ -1,6 +1,7 @@
 /** The document layer: format v1 and the beam keys of docs/design.md (types, units, reading, writing, edits). */
 export type * from './types.ts';
 export { math, parseQuantity, dimensionName, isProblem, ATOMIC_MASS_UNIT_KG, type Dimension } from './units.ts';
+export { LIMITS, FIRST_SLIT_MIN_DISTANCE, within, type Limit } from './limits.ts';
 export { portLabels, stateLabels, defaultGroup, isHyperfine, bareLabels, fLabel, mText, fText, type LabelSpecies, type Group } from './labels.ts';
 export { parseJson, lineColumn } from './json.ts';
 export { checkBeamline, formatProblem, FORMAT, RESERVED_IDS } from './check.ts';
