@@ -5,7 +5,7 @@
  * 1 internal error. Nothing here writes a file: `sheet -o OUT` returns the file to write, and main.ts writes it
  * (deliver.ts).
  */
-import { formatProblem, isProblem, parseBeamlineText, parseQuantity } from '../beamline/index.ts';
+import { LIMITS, formatProblem, isProblem, parseBeamlineText, parseQuantity, within } from '../beamline/index.ts';
 import { formatLevelsTable, levelsListing, runDocumentText } from '../engine/index.ts';
 import { formatHalfInteger } from '../physics/spin.ts';
 import { buildSheet, sheetHtml } from '../sheet/index.ts';
@@ -123,6 +123,7 @@ function cmdLevels(argv: readonly string[]): CliOutput {
   const field = parseQuantity(fieldText, 'field', '--field');
   if (isProblem(field)) return bad(`spinyard levels: ${formatProblem(field)}`);
   if (field < 0) return bad(`spinyard levels: --field: the field size must be ≥ 0 T, got ${fieldText}`);
+  if (!within(field, LIMITS.fieldSize)) return bad(`spinyard levels: --field: the field size must be ${LIMITS.fieldSize.text}, got ${fieldText}`);
   const s = lookupSpecies(name);
   if (!s) return bad(`spinyard levels: ${unknownSpeciesMessage(name)}`);
   if (s.kind === 'bare') return bad(`spinyard levels: ${name} is a bare spin; levels lists library atoms (hyperfine structure)`);

@@ -136,6 +136,12 @@ describe('spinyard levels NAME --field B', () => {
     expect(b).toEqual(a);
   });
 
+  it('refuses a field beyond the documents\' range instead of printing Infinity', () => {
+    const out = runCli(['levels', 'Rb-87', '--field', '1e300 T']);
+    expect(out).toEqual({ code: 2, stdout: '', stderr: 'spinyard levels: --field: the field size must be at most 1000 T, got 1e300 T\n' });
+    expect(runCli(['levels', 'Rb-87', '--field', '1000 T']).stdout).not.toMatch(/NaN|Infinity/);
+  });
+
   it('prints a table without --json', () => {
     const out = runCli(['levels', 'Rb-87', '--field', '0.5 T']);
     expect(out.code).toBe(0);
