@@ -19,6 +19,7 @@ import { readBeamlineText } from '../../src/beamline/text.ts';
 import type { Problem } from '../../src/beamline/types.ts';
 import { librarySpecies } from '../../src/beamline/validate.ts';
 import { DESIGN_V1, completedBeamKeys } from './examples.ts';
+import { prng } from '../prng.ts';
 
 const DOCUMENTS = 10_000;
 /**
@@ -36,17 +37,6 @@ const UNPRINTABLE = /[\u0000-\u001f\u007f\u2028\u2029]|[\ud800-\udbff](?![\udc00
 /** Problems of the whole file, which have no JSON path to stand at. */
 const WHOLE_FILE = /^(not valid JSON|the file is|a beamline is a JSON object|the reader stopped after)/;
 
-/** mulberry32: a small seeded generator (Tommy Ettinger's, public domain), enough to pick mutations. */
-function prng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 type Json = null | boolean | number | string | Json[] | { [k: string]: Json };
 /** An object key written twice when the document is written (JSON allows writing it; the reader must report it). */

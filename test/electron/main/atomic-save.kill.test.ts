@@ -14,6 +14,7 @@ import { build } from 'esbuild';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { atomicWriteFile, backupPath } from '../../../electron/main/atomic-save.ts';
 import { killTestDocument, revisionOf } from './kill-document.ts';
+import { prng as rng } from '../../prng.ts';
 
 const KILLS = 200;
 const BYTES = 8 * 1024 * 1024;
@@ -46,17 +47,6 @@ afterAll(async () => {
   if (work) await fs.rm(work, { recursive: true, force: true });
 });
 
-/** mulberry32: a small seeded generator, so that a failing run can be replayed. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 interface Run {
   killed: boolean;
