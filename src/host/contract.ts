@@ -9,9 +9,13 @@
 // The contract only adds: a new channel or an optional field, never a renamed one.
 
 /** The document format's file extension (docs/design.md, "Document format v1"). */
+import { MAX_DOCUMENT_BYTES } from './document-text.ts';
 export const DOCUMENT_EXTENSION = '.spinyard';
-/** Largest document text accepted across the bridge (a beamline document is a few kB). */
-export const MAX_DOCUMENT_CHARS = 20_000_000;
+/**
+ * Largest document text accepted across the bridge (a beamline document is a few kB): the size limit of a document
+ * file, so that every file that opens can be saved again (a text of N UTF-8 bytes has at most N UTF-16 units).
+ */
+export const MAX_DOCUMENT_CHARS = MAX_DOCUMENT_BYTES;
 /** Largest setup-sheet HTML accepted for printing or PDF export. */
 export const MAX_SHEET_CHARS = 20_000_000;
 /** Largest exported text file accepted (a ports table as CSV is a few kB per hundred leaves). */

@@ -96,6 +96,9 @@ describe('isSaveRequest', () => {
     expect(isSaveRequest([ok])).toBe(false);
     expect(isSaveRequest(null)).toBe(false);
     expect(isSaveRequest({ ...ok, text: 'x'.repeat(MAX_DOCUMENT_CHARS + 1) })).toBe(false);
+    // every document that opens (at most 20 MiB of UTF-8) can be saved again
+    expect(MAX_DOCUMENT_CHARS).toBe(20 * 1024 * 1024);
+    expect(isSaveRequest({ ...ok, text: 'x'.repeat(20 * 1024 * 1024) })).toBe(true);
   });
 });
 
