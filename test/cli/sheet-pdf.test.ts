@@ -8,11 +8,10 @@ import { spawnSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { basename, join, resolve } from 'node:path';
-import { getDocument } from 'pdfjs-dist/legacy/build/pdf.mjs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runDocumentText } from '../../src/engine/index.ts';
 import { sheetNumber } from '../../src/sheet/html.ts';
-import { sha256Hex } from '../../src/sheet/sha256.ts';
+import { type Page, expectEveryPageMarked, readPdf, squash } from '../pdf-pages.ts';
 
 const root = resolve(import.meta.dirname, '../..');
 const samplesDir = join(root, 'samples');
@@ -29,25 +28,13 @@ interface Pdf {
   pages: string[];
 }
 
-/** The PDF's text page by page (items joined by spaces), and each page as a PNG in test-results/sheets/. */
-async function readPdf(path: string, pngName: string): Promise<Pdf> {
-  const doc = await getDocument({ data: new Uint8Array(readFileSync(path)), isEvalSupported: false }).promise;
-  const pages: string[] = [];
-  for (let i = 1; i <= doc.numPages; i++) {
-    const page = await doc.getPage(i);
-    const text = await page.getTextContent();
-    pages.push(text.items.map((it) => ('str' in it ? it.str : '')).join(' '));
-    const viewport = page.getViewport({ scale: 1.25 });
-    const { canvas, context } = (doc as unknown as { canvasFactory: { create(w: number, h: number): { canvas: { toBuffer(t: string): Buffer }; context: unknown } } }).canvasFactory.create(viewport.width, viewport.height);
-    await page.render({ canvasContext: context as never, viewport, canvas: canvas as never }).promise;
-    writeFileSync(join(pngDir, `${pngName}-${i}.png`), canvas.toBuffer('image/png'));
-  }
-  await doc.destroy();
-  return { pages };
+/** The PDF's text page by page, each page's marks checked, and each page as a PNG in test-results/sheets/. */
+async function readSheet(path: string, pngName: string, fileName: string, text: string): Promise<Pdf> {
+  const pages: Page[] = await readPdf(new Uint8Array(readFileSync(path)), (i, png) => writeFileSync(join(pngDir, `${pngName}-${i}.png`), png));
+  expectEveryPageMarked(pages, fileName, text);
+  return { pages: pages.map((p) => p.text) };
 }
 
-/** Spaces do not matter when text is looked for: pdf.js splits and joins runs its own way. */
-const squash = (s: string) => s.replace(/\s+/g, '');
 const has = (hay: string, needle: string) => squash(hay).includes(squash(needle));
 
 function printSheet(input: string, out: string, extra: string[] = []) {
@@ -71,16 +58,6 @@ function setPointValues(e: Record<string, unknown>): string[] {
   return out;
 }
 
-/** Each page carries the file name, the short hash of the file and "n of m". */
-function expectPageMarks(pdf: Pdf, fileName: string, text: string) {
-  const hash = sha256Hex(text).slice(0, 12);
-  pdf.pages.forEach((p, i) => {
-    expect(has(p, fileName), `page ${i + 1}: file name`).toBe(true);
-    expect(has(p, hash), `page ${i + 1}: content hash ${hash}`).toBe(true);
-    expect(has(p, `${i + 1} of ${pdf.pages.length}`), `page ${i + 1}: "${i + 1} of ${pdf.pages.length}"`).toBe(true);
-  });
-}
-
 const samples = readdirSync(samplesDir).filter((n) => n.endsWith('.spinyard')).sort();
 
 describe('spinyard sheet -o OUT.pdf, every sample', () => {
@@ -89,9 +66,8 @@ describe('spinyard sheet -o OUT.pdf, every sample', () => {
     const text = readFileSync(input, 'utf8');
     const out = join(dir, name.replace(/\.spinyard$/, '.pdf'));
     printSheet(input, out);
-    const pdf = await readPdf(out, name.replace(/\.spinyard$/, ''));
+    const pdf = await readSheet(out, name.replace(/\.spinyard$/, ''), name, text);
     const all = pdf.pages.join('\n');
-    expectPageMarks(pdf, name, text);
     const doc = JSON.parse(text) as { elements: Record<string, unknown>[] };
     for (const e of doc.elements) {
       expect(has(all, String(e.id)), `element ${String(e.id)}`).toBe(true);
@@ -133,9 +109,8 @@ describe('a long line', () => {
     for (const paper of ['a4', 'letter']) {
       const out = join(dir, `long-${paper}.pdf`);
       printSheet(input, out, ['--paper', paper]);
-      const pdf = await readPdf(out, `long-line-${paper}`);
+      const pdf = await readSheet(out, `long-line-${paper}`, basename(input), text);
       expect(pdf.pages.length, paper).toBeGreaterThanOrEqual(3);
-      expectPageMarks(pdf, basename(input), text);
       const doc = JSON.parse(text) as { elements: Record<string, unknown>[] };
       // the page of each element's id holds all of its set-points: its row was not split
       const pagesWithRows = new Set<number>();

@@ -5,13 +5,12 @@
  * hash and "Page n of m" in the margins of every page, the paper the printer asked for, and that no page
  * ends on a section heading.
  */
-import { getDocument } from 'pdfjs-dist/legacy/build/pdf.mjs';
 import { chromium, type Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { BROWSER_ARGS, findBrowser } from '../../src/cli/find-browser.ts';
 import { sheetHtml } from '../../src/sheet/html.ts';
 import { buildSheet } from '../../src/sheet/model.ts';
-import { sha256Hex } from '../../src/sheet/sha256.ts';
+import { type Page, expectEveryPageMarked, inBottomMargin, inTopMargin, MM, readPdf, squash } from '../pdf-pages.ts';
 import { runSample, runText } from './helpers.ts';
 
 let browser: Browser;
@@ -22,36 +21,15 @@ afterAll(async () => {
   await browser?.close();
 });
 
-interface Item { str: string; x: number; y: number }
-interface Page { width: number; height: number; items: Item[]; text: string }
-
 async function print(html: string, format: 'A4' | 'Letter'): Promise<Page[]> {
   const page = await browser.newPage();
   try {
     await page.setContent(html, { waitUntil: 'load' });
-    const pdf = await page.pdf({ format, preferCSSPageSize: true, printBackground: true });
-    const doc = await getDocument({ data: new Uint8Array(pdf), isEvalSupported: false }).promise;
-    const pages: Page[] = [];
-    for (let i = 1; i <= doc.numPages; i++) {
-      const p = await doc.getPage(i);
-      const [, , width, height] = p.view;
-      const items = (await p.getTextContent()).items
-        .filter((it): it is typeof it & { str: string; transform: number[] } => 'str' in it && it.str.trim() !== '')
-        .map((it) => ({ str: it.str, x: it.transform[4], y: it.transform[5] }));
-      pages.push({ width, height, items, text: items.map((it) => it.str).join(' ') });
-    }
-    await doc.destroy();
-    return pages;
+    return await readPdf(new Uint8Array(await page.pdf({ format, preferCSSPageSize: true, printBackground: true })));
   } finally {
     await page.close();
   }
 }
-
-const squash = (s: string) => s.replace(/\s+/g, '');
-const MM = 72 / 25.4;
-/** Text in the top or bottom page margin (the sheet's margins are 14 mm; the body never reaches them). */
-const inTopMargin = (p: Page, it: Item) => it.y > p.height - 12 * MM;
-const inBottomMargin = (it: Item) => it.y < 12 * MM;
 
 const HEADINGS = ['Species', 'Oven', 'Elements in beam order', 'Leaves (expected)', 'Detectors (expected)', 'Run notes', 'Cautions', 'Sign-off'];
 
@@ -72,16 +50,6 @@ function longLine(): string {
     oven: { state: { kind: 'unpolarized' }, flux: '1e9 /s', velocity: { kind: 'fixed', speed: '600 m/s' }, to: 'E1' },
     elements,
   }, null, 2)}\n`;
-}
-
-function expectEveryPageMarked(pages: Page[], fileName: string, text: string) {
-  const hash = sha256Hex(text).slice(0, 12);
-  pages.forEach((p, i) => {
-    const top = squash(p.items.filter((it) => inTopMargin(p, it)).map((it) => it.str).join(' '));
-    const bottom = squash(p.items.filter(inBottomMargin).map((it) => it.str).join(' '));
-    expect(top, `page ${i + 1}: file and hash in the top margin`).toContain(squash(`${fileName} · sha256 ${hash}`));
-    expect(bottom, `page ${i + 1}: page number in the bottom margin`).toContain(squash(`Page ${i + 1} of ${pages.length}`));
-  });
 }
 
 /** No page's last line of body text is a section heading. */
