@@ -11,6 +11,7 @@ import { join } from 'node:path';
 import { chromium } from 'playwright-core';
 import { BROWSER_ARGS, findBrowser } from '../src/cli/find-browser.ts';
 import { ROOT, ensureBuild, serve } from '../test/e2e/harness.ts';
+import { median } from './ui.ts';
 
 const RUNS = 10;
 
@@ -30,12 +31,6 @@ const PROBE = `(() => {
   requestAnimationFrame(tick);
 })();`;
 const SAMPLE = 'samples/bench-c-roll-calibration.spinyard';
-
-function median(xs: number[]): number {
-  const s = [...xs].sort((a, b) => a - b);
-  const n = s.length;
-  return n % 2 ? s[(n - 1) / 2] : (s[n / 2 - 1] + s[n / 2]) / 2;
-}
 
 const fmt = (ms: number) => `${(ms / 1000).toFixed(3)} s`;
 const range = (xs: number[]) => `median ${fmt(median(xs))} (min ${fmt(Math.min(...xs))}, max ${fmt(Math.max(...xs))})`;

@@ -7,7 +7,8 @@ import { openApp, foreignRequests, waitForFreshResults, SAMPLES_DIR } from '../t
 
 const EDITS = 20;
 
-function median(xs: number[]): number {
+/** The median of the figures. */
+export function median(xs: number[]): number {
   const s = [...xs].sort((a, b) => a - b);
   const n = s.length;
   return n % 2 ? s[(n - 1) / 2] : (s[n / 2 - 1] + s[n / 2]) / 2;
