@@ -5,6 +5,8 @@
  *                            that folder is beside the checkout (it says so and stops when it is not);
  *                            N rounds (default 3) of Spinyard's best of 3 scans, each followed by the NumPy peer
  * `npm run bench -- ui`      the browser: time from an edit to the updated table and chart, per sample
+ * `npm run bench -- session [--evaluations N]`
+ *                            the engine's heap over N evaluations of one compiled line with a changed parameter
  * `npm run bench -- startup` cold starts: `spinyard --help`, `spinyard run`, the app's load to its first result
  * Figures go into docs/bench.md by hand, with the machine they were taken on.
  */
@@ -225,6 +227,16 @@ async function main(): Promise<void> {
   if (args[0] === 'startup') {
     const { benchStartup } = await import('./startup.ts');
     console.log(await benchStartup());
+    return;
+  }
+  if (args[0] === 'session') {
+    if (!(globalThis as { gc?: unknown }).gc) {
+      // run again with the collector exposed: the heap figures need a collection before each reading
+      const r = spawnSync(process.execPath, ['--expose-gc', '--import', 'tsx', fileURLToPath(import.meta.url), ...args], { stdio: 'inherit' });
+      process.exit(r.status ?? 1);
+    }
+    const { benchSession } = await import('./session.ts');
+    console.log(benchSession(root, args));
     return;
   }
   if (args[0] === 'ui') {

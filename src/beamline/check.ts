@@ -4,13 +4,13 @@
  * JSON path: header, unknown keys (and keys that do not apply to the species), quantities and their
  * dimensions and bounds, ids, routing (dangling targets, unrouted ports, cycles), and the leaves.
  */
-import { isHyperfine } from './labels.ts';
+import { type LabelSpecies, isHyperfine } from './labels.ts';
 import { KINDS, KIND_NAMES, isKind, outputsOf } from './elements/registry.ts';
 import { FIRST_SLIT_MIN_DISTANCE, LIMITS } from './limits.ts';
 import { abbreviate, listText, listedProblems, quote } from './messages.ts';
 import { type MigrationRegistry, beamlineMigrations, migrateDoc } from './migrations.ts';
 import { readOven } from './oven.ts';
-import { type Obj, type ReadCtx, at, checkKeys, describe, full, isObj, problem, quantity, vec, warn } from './read.ts';
+import { type Obj, type QuantityRead, type ReadCtx, at, checkKeys, describe, full, isObj, problem, quantity, vec, warn } from './read.ts';
 import { type SpeciesResolver, readSpecies } from './speciesDoc.ts';
 import type { Beamline, BeamlineDoc, Element, Oven, ParseResult, Problem } from './types.ts';
 
@@ -26,7 +26,8 @@ export function formatProblem(p: Problem): string {
 const fail = (problems: Problem[]): ParseResult => ({ ok: false, problems: listedProblems(problems) });
 
 /** Validate a parsed JSON value as a beamline and normalise it (SI numbers, defaults filled in). */
-export function checkBeamline(json: unknown, resolver: SpeciesResolver, migrations: MigrationRegistry = beamlineMigrations): ParseResult {
+export function checkBeamline(json: unknown, resolver: SpeciesResolver, migrations: MigrationRegistry = beamlineMigrations,
+  quantities?: QuantityRead[]): ParseResult {
   if (!isObj(json)) return fail([{ path: '', message: `a beamline is a JSON object, got ${describe(json)}` }]);
   if (!Object.hasOwn(json, 'format') || json.format !== FORMAT) {
     return fail([{ path: 'format', message: json.format === undefined ? `missing "format": not a Spinyard beamline (expected "format": "${FORMAT}")` : `not a Spinyard beamline: format is ${describe(json.format)}, expected "${FORMAT}"` }]);
@@ -46,7 +47,7 @@ export function checkBeamline(json: unknown, resolver: SpeciesResolver, migratio
     else title = doc.title;
   }
   const sp = readSpecies({ problems, warnings }, doc.species, resolver);
-  const ctx: ReadCtx = { problems, warnings, species: sp?.species };
+  const ctx: ReadCtx = { problems, warnings, species: sp?.species, quantities };
   const ambient = doc.ambient === undefined ? { x: 0, y: 0, z: 0 } : vec(ctx, doc, 'ambient', 'field', '', LIMITS.field);
   const oven = readOven(ctx, doc.oven);
   const elements = readElements(ctx, doc.elements);
@@ -59,6 +60,43 @@ export function checkBeamline(json: unknown, resolver: SpeciesResolver, migratio
   // place would read stale results; a change makes a new line (edits, scans), and assigning into one throws
   const line: Beamline = deepFreeze({ title, species: sp.ref, oven, ambient, elements });
   return { ok: true, doc: doc as unknown as BeamlineDoc, line, warnings: listedProblems(warnings, 'warnings') };
+}
+
+/**
+ * The line read again with some quantities replaced by SI values (keyed by their JSON paths): only the parts that
+ * hold a replaced path (the ambient field, the oven, an element) are read again, with the reader's own bounds,
+ * and every other part of the result is the object of `line` itself, so the engine's caches keep serving it.
+ * `doc` is the (migrated) document `line` was read from.
+ */
+export function rereadBeamline(doc: BeamlineDoc, line: Beamline, species: LabelSpecies | undefined, values: ReadonlyMap<string, number>):
+  { ok: true; line: Beamline; warnings: Problem[] } | { ok: false; problems: Problem[] } {
+  const problems: Problem[] = [];
+  const warnings: Problem[] = [];
+  const ctx: ReadCtx = { problems, warnings, species, values };
+  const raw = doc as unknown as Obj;
+  let ambient = line.ambient;
+  let oven = line.oven;
+  let elements = line.elements;
+  const touched = new Set<string>();
+  for (const p of values.keys()) {
+    const m = /^elements\[(\d+)\]/.exec(p);
+    touched.add(m ? m[1] : p.startsWith('oven') ? 'oven' : p.startsWith('ambient') ? 'ambient' : p);
+  }
+  for (const t of touched) {
+    if (t === 'ambient') ambient = vec(ctx, raw, 'ambient', 'field', '', LIMITS.field) ?? ambient;
+    else if (t === 'oven') oven = readOven(ctx, raw.oven) ?? oven;
+    else if (/^\d+$/.test(t) && Number(t) < line.elements.length && Array.isArray(raw.elements)) {
+      const i = Number(t);
+      const el = readElement(ctx, raw.elements[i], at('elements', i));
+      if (el) {
+        if (elements === line.elements) elements = line.elements.slice();
+        (elements as Element[])[i] = el;
+      }
+    } else problems.push({ path: t, message: 'no quantity of the line is here' });
+  }
+  if (!problems.length) checkFirstSlits(ctx, oven, elements);
+  if (problems.length) return { ok: false, problems };
+  return { ok: true, line: deepFreeze({ ...line, ambient, oven, elements }), warnings };
 }
 
 function readElements(ctx: ReadCtx, v: unknown): Element[] | undefined {

@@ -13,6 +13,21 @@ export interface ReadCtx {
   readonly warnings: Problem[];
   /** The line's species, when it could be resolved (labels are checked only then). */
   readonly species: LabelSpecies | undefined;
+  /**
+   * Every quantity read, in document order (the parameters of a line, parameters.ts): its JSON path, dimension
+   * and SI value, and what the document wrote (absent where the key is optional and its default applies).
+   */
+  readonly quantities?: QuantityRead[];
+  /** SI values that replace what the document writes at these JSON paths (a parameter set by a scan or a fit). */
+  readonly values?: ReadonlyMap<string, number>;
+}
+
+/** One quantity as the reader read it. */
+export interface QuantityRead {
+  readonly path: string;
+  readonly dimension: Dimension;
+  readonly value: number;
+  readonly written?: unknown;
 }
 
 export type Obj = Record<string, unknown>;
@@ -138,9 +153,11 @@ export function bounded(ctx: ReadCtx, n: number, p: string, what: string, b: Bou
 export function quantity(ctx: ReadCtx, o: Obj, k: string, dim: Dimension, path: string,
   opts: Bounds & { required?: boolean; fallback?: number; what?: string } = {}): number | undefined {
   const p = at(path, k);
+  const given = ctx.values?.get(p);
+  if (given !== undefined) return recorded(ctx, p, dim, bounded(ctx, given, p, opts.what ?? k, opts), o[k]);
   const v = o[k];
   if (v === undefined) {
-    if (opts.fallback !== undefined) return opts.fallback;
+    if (opts.fallback !== undefined) return recorded(ctx, p, dim, opts.fallback, undefined);
     return opts.required === false ? undefined : problem(ctx, p, `missing ${JSON.stringify(k)}`);
   }
   const r = parseQuantity(v, dim, p);
@@ -148,7 +165,12 @@ export function quantity(ctx: ReadCtx, o: Obj, k: string, dim: Dimension, path: 
     ctx.problems.push(r);
     return undefined;
   }
-  return bounded(ctx, r, p, opts.what ?? k, opts, v);
+  return recorded(ctx, p, dim, bounded(ctx, r, p, opts.what ?? k, opts, v), v);
+}
+
+function recorded(ctx: ReadCtx, path: string, dimension: Dimension, value: number | undefined, written: unknown): number | undefined {
+  if (value !== undefined && ctx.quantities) ctx.quantities.push(written === undefined ? { path, dimension, value } : { path, dimension, value, written });
+  return value;
 }
 
 /** Unit vector n̂(θ, φ) = (sinθ cosφ, sinθ sinφ, cosθ). */

@@ -8,6 +8,7 @@
  * linear in 1/v): from the first twist on, the subtree is evaluated speed by speed on a Gauss–Legendre
  * grid that is doubled until the leaf yields agree (sampled.ts).
  */
+import { BoundedCache, CacheFamily, IdentityCache } from '../physics/cache.ts';
 import { type CMat, cmatZeros, cmatCombine, cmatSandwichParts, cmatMulInto, cmatScale, cmatMul, cmatDagger, copyF64, cmatOwn, zeroedF64 } from '../physics/cmat.ts';
 import { eigh, expmiHermitian, spectralFunction } from '../physics/eigh.ts';
 import { reduceAngle, expNegI } from '../physics/trig.ts';
@@ -135,8 +136,8 @@ interface Walk {
   depth: number;
 }
 
-const distCache = new WeakMap<object, Map<number, VelocityDistribution>>();
-const distByValue = new Map<string, VelocityDistribution>();
+const distCache = new IdentityCache<object, Map<number, VelocityDistribution>>('velocity distributions of tables');
+const distByValue = new BoundedCache<string, VelocityDistribution>('velocity distributions', 64);
 
 /**
  * One distribution object per velocity set-point and mass, so that what is kept with it (grids,
@@ -147,13 +148,7 @@ function distributionFor(line: Beamline, sys: SpinSystem): VelocityDistribution 
   const v = line.oven.velocity;
   if (v.kind !== 'table') {
     const key = `${v.kind}|${v.kind === 'fixed' ? v.speed : v.kind === 'effusive' ? v.temperature : `${v.speed}|${v.ratio}`}|${sys.massKg}`;
-    let d = distByValue.get(key);
-    if (!d) {
-      d = makeDistribution(line, sys);
-      if (distByValue.size >= 64) distByValue.delete(distByValue.keys().next().value as string);
-      distByValue.set(key, d);
-    }
-    return d;
+    return distByValue.getOr(key, () => makeDistribution(line, sys));
   }
   let byMass = distCache.get(v);
   if (!byMass) {
@@ -178,7 +173,7 @@ function makeDistribution(line: Beamline, sys: SpinSystem): VelocityDistribution
   }
 }
 
-const initialSpecs = new WeakMap<object, Map<string, SpecState>>();
+const initialSpecs = new IdentityCache<object, Map<string, SpecState>>('oven states');
 
 /** The oven's state as a spectral state, one object per oven and system (so runs can share a prefix). */
 function initialSpec(line: Beamline, sys: SpinSystem): SpecState {
@@ -245,8 +240,10 @@ function axisWarning(path: string, n: Vec3): string | null {
  * object (a line run again, or the unchanged elements of a scan) and by those values (an element rebuilt
  * with the same set-points). The element's warnings are added once per run.
  */
-const sortCache = new Map<string, Sorting>();
-const sortByElement = new WeakMap<Magnet | Recombiner, Map<string, Sorting>>();
+const sortCache = new BoundedCache<string, Sorting>('magnet sortings', 256);
+const sortByElement = new IdentityCache<Magnet | Recombiner, Map<string, Sorting>>('magnet sortings by element');
+/** The states a port selects from a state, kept with that state (a scan's points share the states before the change). */
+const selections = new CacheFamily('port selections per state', 32);
 
 function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
   let byName = sortByElement.get(e);
@@ -261,7 +258,6 @@ function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
         if (err instanceof SpeciesError) throw new RunError(err.message);
         throw err;
       }
-      if (sortCache.size > 20000) sortCache.clear();
       s = { ...s, components: s.components.map((c) => ({ ...c, vector: cmatOwn(c.vector) })) };
       sortCache.set(key, s);
     }
@@ -292,9 +288,10 @@ function selectStates(st: State, comps: readonly Component[], leafNext = false):
   const byKey = memo[leafNext ? 1 : 0];
   let out = byKey.get(key);
   if (!out) {
+    selections.misses++;
     out = selectSpec(st, comps, leafNext);
-    byKey.set(key, out);
-  }
+    selections.put(byKey, key, out);
+  } else selections.hits++;
   return out;
 }
 

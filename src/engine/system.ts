@@ -5,6 +5,7 @@
  * Hamiltonian (docs/design.md, "Hamiltonians"): H/h = A I·J (+ quadrupole) + (μB/h)(g_J J + g_I I)·B; a bare spin is
  * H = g μB J·B. The engine works in angular frequency, H/ħ = 2π·H/h (rad/s).
  */
+import { BoundedCache } from '../physics/cache.ts';
 import { type CMat, cmatScale, cmatZeros, cmatColumn, cmatOwn } from '../physics/cmat.ts';
 import { compositeSpin, formatHalfInteger } from '../physics/spin.ts';
 import { hyperfineHamiltonianHz, zeemanLevels, zeroFieldStates, mjSortCleanField, type HyperfineParams } from '../physics/hyperfine.ts';
@@ -35,18 +36,12 @@ export interface WeightedSystem {
 
 export class SpeciesError extends Error {}
 
-const systems = new Map<string, SpinSystem>();
+const systems = new BoundedCache<string, SpinSystem>('spin systems', 64);
 
 /** One system per (name, constants, mass), kept across runs with its cache of Hamiltonians. */
 function makeSystem(name: string, params: HyperfineParams, massKg: number): SpinSystem {
   const key = `${name}|${params.i2}|${params.j2}|${params.gJ}|${params.gI}|${params.aHz}|${params.bHz ?? 0}|${massKg}`;
-  let sys = systems.get(key);
-  if (!sys) {
-    sys = buildSystem(key, name, params, massKg);
-    if (systems.size >= 64) systems.delete(systems.keys().next().value as string);
-    systems.set(key, sys);
-  }
-  return sys;
+  return systems.getOr(key, () => buildSystem(key, name, params, massKg));
 }
 
 function buildSystem(key: string, name: string, params: HyperfineParams, massKg: number): SpinSystem {

@@ -20,6 +20,7 @@
  *             coefficient of B, then by the diagonal hyperfine energy (A m_I m_J + quadrupole), then by m_J.
  *   Bare spin (i2 = 0): lowField is the m label "+1/2", highField "mJ=+1/2".
  */
+import { BoundedCache } from './cache.ts';
 import { type CMat, cmatZeros, cmatMul, cmatCombine, cmatKron, cmatIdentity, cmatAdd, zeroedF64, cmatOwn } from './cmat.ts';
 import { MU_B_OVER_H } from './constants.ts';
 import { eigh } from './eigh.ts';
@@ -336,7 +337,7 @@ function zfColumn(s: Structure, f2: number, m2: number): number {
   throw new Error(`no zero-field state F2=${f2}, mF2=${m2}`);
 }
 
-const rotations = new Map<string, CMat>();
+const rotations = new BoundedCache<string, CMat>('rotations to an axis', 256);
 
 /** exp(−iφF_z) exp(−iθF_y) on I ⊗ J, cached per species structure and axis (small cache). */
 function axisRotation(i2: number, j2: number, n: Vec3): CMat | undefined {
@@ -346,12 +347,7 @@ function axisRotation(i2: number, j2: number, n: Vec3): CMat | undefined {
   const last = lastRotation;
   if (last && last.i2 === i2 && last.j2 === j2 && last.x === n.x / r && last.y === n.y / r && last.z === n.z / r) return last.rot;
   const key = `${i2}/${j2}/${n.x / r},${n.y / r},${n.z / r}`;
-  let rot = rotations.get(key);
-  if (!rot) {
-    rot = cmatOwn(rotationToAxis(compositeSpin(i2, j2).F, n));
-    if (rotations.size >= 256) rotations.delete(rotations.keys().next().value as string);
-    rotations.set(key, rot);
-  }
+  const rot = rotations.getOr(key, () => cmatOwn(rotationToAxis(compositeSpin(i2, j2).F, n)));
   lastRotation = { i2, j2, x: n.x / r, y: n.y / r, z: n.z / r, rot };
   return rot;
 }

@@ -22,6 +22,7 @@
  *   |χ| ≲ exp(−(Φα/u²)²/4) beyond which the term is zero to double precision.
  * - fixed and table: the exact finite sums.
  */
+import { BoundedCache } from './cache.ts';
 import { BOLTZMANN } from './constants.ts';
 import { integrateAdaptive, compositeRule } from './quadrature.ts';
 import { reduceAngle } from './trig.ts';
@@ -174,19 +175,15 @@ function effusiveTabled(n: number, w: number): CharValue {
   return { re, im, error: p.error, nodes: 0 };
 }
 
-let supersonicNorm = new Map<string, number>();
+const supersonicNorm = new BoundedCache<string, number>('supersonic normalisations', 64);
 
 /** ∫ v³ e^{−((v−u)/α)²} dv over [u − 12α, u + 12α] ∩ [0, ∞), cached per (u, α). */
 function supersonicNormOf(d: { u: number; alpha: number }): number {
   const key = `${d.u}/${d.alpha}`;
-  let norm = supersonicNorm.get(key);
-  if (norm === undefined) {
+  return supersonicNorm.getOr(key, () => {
     const lo = Math.max(0, d.u - 12 * d.alpha), hi = d.u + 12 * d.alpha;
-    norm = integrateAdaptive((v) => [v ** 3 * Math.exp(-(((v - d.u) / d.alpha) ** 2)), 0], lo, hi, 0, 1e-15).re;
-    if (supersonicNorm.size > 64) supersonicNorm = new Map();
-    supersonicNorm.set(key, norm);
-  }
-  return norm;
+    return integrateAdaptive((v) => [v ** 3 * Math.exp(-(((v - d.u) / d.alpha) ** 2)), 0], lo, hi, 0, 1e-15).re;
+  });
 }
 
 function supersonicDensity(d: { u: number; alpha: number }): { f: (v: number) => number; lo: number; hi: number } {
