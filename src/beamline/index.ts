@@ -12,3 +12,4 @@ export { CURRENT_VERSION, beamlineMigrations, migrateDoc, checkRegistry, type Mi
 export { serializeDoc } from './serialize.ts';
 export { setAt, parsePath, freshId, reroute, addElementOnPort, deleteElement, duplicateElement, renameElement, ID_PREFIX, type EditResult } from './edits.ts';
 export { KINDS, KIND_NAMES, outputsOf, type KindModule } from './elements/registry.ts';
+export { parameterize, lineWithValues, DISPLAY_UNITS, type ParameterSlot, type ParameterizedLine } from './parameters.ts';

@@ -7,6 +7,7 @@
  * build a line the reader would refuse.
  */
 import { checkBeamline, rereadBeamline } from './check.ts';
+import { readBeamlineText } from './text.ts';
 import { type SpeciesResolver, readSpecies } from './speciesDoc.ts';
 import { beamlineMigrations } from './migrations.ts';
 import type { QuantityRead } from './read.ts';
@@ -66,10 +67,10 @@ function nameOf(path: string, ids: readonly string[]): string {
   return id === undefined ? path : `${id}${m[2]}`;
 }
 
-/** Read a (parsed JSON) document and list its parameters. */
-export function parameterize(json: unknown, resolver: SpeciesResolver): ParameterizeResult {
+/** Read a document (its text, or parsed JSON) and list its parameters. */
+export function parameterize(input: string | object, resolver: SpeciesResolver): ParameterizeResult {
   const quantities: QuantityRead[] = [];
-  const r = checkBeamline(json, resolver, beamlineMigrations, quantities);
+  const r = typeof input === 'string' ? readBeamlineText(input, resolver, { quantities }) : checkBeamline(input, resolver, beamlineMigrations, quantities);
   if (!r.ok) return { ok: false, problems: r.problems };
   const ids = r.line.elements.map((e) => e.id);
   const slots: ParameterSlot[] = [];

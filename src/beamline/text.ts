@@ -2,6 +2,8 @@
  * Reading document text, with the species library passed in: size check → JSON (line and column on
  * error, duplicate keys) → migrations → validation (check.ts).
  */
+import { beamlineMigrations } from './migrations.ts';
+import type { QuantityRead } from './read.ts';
 import { checkBeamline } from './check.ts';
 import { parseJson } from './json.ts';
 import { capProblem, listedProblems } from './messages.ts';
@@ -14,6 +16,8 @@ export const DEFAULT_MAX_BYTES = 20 * 1024 * 1024;
 export interface ParseOptions {
   /** Size limit in bytes (UTF-8); default DEFAULT_MAX_BYTES. */
   maxBytes?: number;
+  /** Receives every quantity read, in document order (parameters.ts). */
+  quantities?: QuantityRead[];
 }
 
 function mb(n: number): string {
@@ -54,7 +58,7 @@ export function readBeamlineText(text: string, resolver: SpeciesResolver, opts: 
   if (text.trim() === '') return { ok: false, problems: [{ path: '', message: 'the file is empty: a beamline is a JSON object with "format": "spinyard.beamline"' }] };
   const j = parseJson(text);
   if (!j.ok) return { ok: false, problems: [capProblem(j.problem)] };
-  const r = checkBeamline(j.value, resolver);
+  const r = checkBeamline(j.value, resolver, beamlineMigrations, opts.quantities);
   if (j.duplicates.length) {
     return { ok: false, problems: listedProblems([...j.duplicates, ...(r.ok ? [] : r.problems)]) };
   }

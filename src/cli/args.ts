@@ -7,12 +7,16 @@ export interface OptionSpec {
   readonly value: boolean;
   /** One-letter alias without the dash. */
   readonly short?: string;
+  /** The option may be given more than once (a valued option): its values in order are in `lists`. */
+  readonly repeat?: boolean;
 }
 
 export interface ParsedArgs {
   readonly positional: string[];
   /** Boolean options as true, valued options as their text. */
   readonly options: Record<string, string | true>;
+  /** Every value of a repeatable option, in the order given (the first is also in `options`). */
+  readonly lists: Record<string, string[]>;
 }
 
 export type ArgsResult = { ok: true; args: ParsedArgs } | { ok: false; message: string };
@@ -24,6 +28,7 @@ export type ArgsResult = { ok: true; args: ParsedArgs } | { ok: false; message: 
 export function parseArgs(argv: readonly string[], specs: readonly OptionSpec[], command: string): ArgsResult {
   const positional: string[] = [];
   const options: Record<string, string | true> = {};
+  const lists: Record<string, string[]> = {};
   const known = () => `${command} takes ${specs.length ? specs.map((o) => `--${o.name}`).join(', ') : 'no options'}`;
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
@@ -48,7 +53,7 @@ export function parseArgs(argv: readonly string[], specs: readonly OptionSpec[],
     }
     const spec = specs.find((o) => o.name === name);
     if (!spec) return { ok: false, message: `unknown option ${a}: ${known()}` };
-    if (name in options) return { ok: false, message: `--${name} is given twice` };
+    if (name in options && !spec.repeat) return { ok: false, message: `--${name} is given twice` };
     if (!spec.value) {
       if (inline !== undefined) return { ok: false, message: `--${name} takes no value, got "${a}"` };
       options[name] = true;
@@ -56,7 +61,8 @@ export function parseArgs(argv: readonly string[], specs: readonly OptionSpec[],
     }
     const v = inline ?? argv[++i];
     if (v === undefined) return { ok: false, message: `--${name} needs a value` };
-    options[name] = v;
+    if (!(name in options)) options[name] = v;
+    if (spec.repeat) (lists[name] ??= []).push(v);
   }
-  return { ok: true, args: { positional, options } };
+  return { ok: true, args: { positional, options, lists } };
 }

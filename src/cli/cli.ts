@@ -16,6 +16,7 @@ import { formatRun } from './format.ts';
 import { type Paper, isSameFile, outputFormatOf } from './output.ts';
 import { withPaper } from './pdf.ts';
 import { readBeamlineFile } from './readFile.ts';
+import { SCAN_OPTIONS, cmdScanWith } from './scan.ts';
 import { type CliOutput, bad, ok, quickAnswer } from './quick.ts';
 import { COMMAND_HELP, USAGE } from './usage.ts';
 
@@ -105,6 +106,15 @@ function cmdSheet(argv: readonly string[]): CliOutput {
   return { code: 0, stdout: '', stderr: '', file: { path: output, format, html, input: file } };
 }
 
+function cmdScan(argv: readonly string[]): CliOutput {
+  const c = commandArgs('scan', argv, [...SCAN_OPTIONS], { min: 1, max: 1, what: 'FILE' });
+  if (c.out) return c.out;
+  const file = c.args.positional[0];
+  const text = readBeamlineFile(file);
+  if (!text.ok) return bad(text.message);
+  return cmdScanWith(file, text.text, c.args.options, c.args.lists);
+}
+
 function cmdValidate(argv: readonly string[]): CliOutput {
   const f = fileCommand('validate', argv);
   if (f.out) return f.out;
@@ -151,6 +161,7 @@ function cmdHelp(argv: readonly string[]): CliOutput {
 export const COMMANDS: Readonly<Record<string, (argv: readonly string[]) => CliOutput>> = {
   run: cmdRun,
   sheet: cmdSheet,
+  scan: cmdScan,
   validate: cmdValidate,
   levels: cmdLevels,
   species: cmdSpecies,

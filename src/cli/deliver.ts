@@ -20,6 +20,7 @@ export async function deliver(out: CliOutput, opts: DeliverOptions = {}): Promis
   const f = out.file;
   if (!f || out.code !== 0) return out;
   let bytes: string | Uint8Array = f.html;
+  const command = f.command ?? 'sheet';
   let printedBy = '';
   if (f.format === 'pdf') {
     try {
@@ -35,7 +36,8 @@ export async function deliver(out: CliOutput, opts: DeliverOptions = {}): Promis
   try {
     writeFileAtomic(f.path, bytes);
   } catch (e) {
-    return { code: 1, stdout: '', stderr: `spinyard sheet: ${writeFailure(f.path, e)}\n` };
+    return { code: 1, stdout: '', stderr: `spinyard ${command}: ${writeFailure(f.path, e)}\n` };
   }
+  if (f.format === 'text') return { code: 0, stdout: `${f.path}: ${f.what ?? 'output'} of ${f.input}\n`, stderr: out.stderr };
   return { code: 0, stdout: `${f.path}: setup sheet of ${f.input} (${f.format === 'pdf' ? `PDF${printedBy}` : 'HTML'})\n`, stderr: out.stderr };
 }

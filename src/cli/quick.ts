@@ -13,12 +13,19 @@ export interface CliOutput {
   file?: OutputFile;
 }
 
-/** The setup sheet to write to `path` as HTML or printed to PDF; `input` is the document it was made from. */
+/**
+ * A file to write to `path`: the setup sheet as HTML or printed to PDF (`html`), or a command's text output as it
+ * is (`format` "text": `html` holds the text, `what` says what it is, e.g. "scan (CSV)"); `input` is the document
+ * it was made from.
+ */
 export interface OutputFile {
   path: string;
-  format: 'pdf' | 'html';
+  format: 'pdf' | 'html' | 'text';
   html: string;
   input: string;
+  what?: string;
+  /** The command, for messages ("spinyard scan: …"); sheet when absent. */
+  command?: string;
 }
 
 export const ok = (stdout: string): CliOutput => ({ code: 0, stdout, stderr: '' });

@@ -6,6 +6,8 @@ Usage:
   spinyard run FILE [--json]          yields, rates, detector plane and counts of every leaf
   spinyard sheet FILE [-o OUT.pdf|OUT.html] [--paper a4|letter]
                                       the setup sheet of the line: printable HTML on stdout, or a file
+  spinyard scan FILE --param NAME --from A --to B --points N [--json|--csv] [-o OUT]
+                                      the line over one set-point (or a grid of two): yields, counts
   spinyard validate FILE              check a beamline file; list every problem as "path: message"
   spinyard levels NAME --field B [--json]
                                       energies (Hz) and moments (μB) of a library species at field B
@@ -14,8 +16,8 @@ Usage:
   spinyard --version                  the version
 
 Every command also takes --help. Exit codes: 0 success, 2 invalid input (messages on stderr,
-nothing on stdout), 1 internal error. No command changes a file; only sheet -o writes one, the file
-it is given.
+nothing on stdout), 1 internal error. No command changes a file; only -o writes one (sheet, scan),
+the file it is given.
 `;
 
 export const COMMAND_HELP: Readonly<Record<string, string>> = {
@@ -49,6 +51,31 @@ Without -o the sheet is one self-contained HTML document on stdout and no file i
 
 Exit 2 when no browser is found for a PDF, 1 when the browser fails to print or OUT cannot be written.
 `,
+  scan: `Usage: spinyard scan FILE --param NAME --from A --to B --points N [--log NAME]
+                       [--param NAME2 --from A2 --to B2 --points N2] [--json | --csv] [-o OUT]
+
+Runs the beamline in FILE at every value of one set-point, or on the grid of two, and prints per point
+the yield and the counts ± σ (for the detector's dwell, background included) of every detector; --json
+and --csv add each detector's rate and signal and each leaf's yield, rate and captured fraction.
+
+A set-point is named by the element's id and its key as the document writes them: M2.axis.roll,
+M2.axis.theta, F1.field.x, T1.length, S1.width, D1.efficiency, and for the source oven.flux,
+oven.velocity.temperature, oven.velocity.speed. An axis keeps the angles it is written with (a roll,
+or θ and φ). "spinyard scan FILE --param list" lists every set-point of FILE with its value.
+
+  --param NAME     the set-point to scan; give it twice for a grid (the first is the outer loop)
+  --from A --to B  the ends, with a unit of the set-point's kind ("0 deg", "2.5 mT", "600 K"); a plain
+                   number for a plain-number set-point (an efficiency)
+  --points N       the number of values, ends included
+  --log NAME       space NAME's values by equal ratios (both ends non-zero and of one sign)
+  --json           the scan as JSON (format spinyard.scan, version 1)
+  --csv            the scan as CSV, one row per point, units in the header
+  -o, --output OUT write the output to OUT (atomically; never over FILE) instead of stdout
+
+A value the document's reader refuses (a bound, a first slit moved onto the oven) leaves that point
+without a result and says why; the other points are computed. The k-th --from, --to and --points
+belong to the k-th --param.
+`,
   validate: `Usage: spinyard validate FILE
 
 Checks FILE against the beamline format (spinyard.beamline, version 1) without running it. Prints
@@ -70,6 +97,6 @@ g_I, A, B, mass, abundance, vapour pressure) with its source, then its cautions 
 `,
   help: `Usage: spinyard help [COMMAND]
 
-Prints the overview, or the help of COMMAND (run, sheet, validate, levels, species).
+Prints the overview, or the help of COMMAND (run, sheet, scan, validate, levels, species).
 `,
 };

@@ -31,9 +31,9 @@ export interface Plan {
 
 export type CompileResult = { ok: true; plan: Plan } | { ok: false; problems: string[] };
 
-/** Compile a parsed JSON document (a species library other than src/species may be given). */
-export function compile(json: unknown, resolver: SpeciesResolver = librarySpecies): CompileResult {
-  const r = parameterize(json, resolver);
+/** Compile a document, its text or parsed JSON (a species library other than src/species may be given). */
+export function compile(input: string | object, resolver: SpeciesResolver = librarySpecies): CompileResult {
+  const r = parameterize(input, resolver);
   if (!r.ok) return { ok: false, problems: r.problems.map(formatProblem) };
   const p = r.value;
   return { ok: true, plan: { doc: p.doc, line: p.line, warnings: p.warnings.map(formatProblem), parameters: p.slots, source: p } };

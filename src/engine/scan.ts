@@ -1,11 +1,163 @@
 /**
- * Scans: the line run for each value of one parameter (a key of one element of the normalized line,
- * SI units), e.g. the x component of a field region's field. Every run is a full engine run; what does
- * not change between points (magnet sortings, species data) is cached by the engine.
+ * Scans (docs/design.md, "Scans"): a compiled line (plan.ts) evaluated at every value of one parameter, or on the
+ * grid of two, each addressed by its name ("M2.axis.roll", "F1.field.x", "oven.velocity.temperature"). The result
+ * (format spinyard.scan, version 1) keeps per point the yield, rate, counts ± σ of every detector and the yield,
+ * rate and captured fraction of every leaf; a point whose value the reader refuses (a bound) carries that message
+ * instead of numbers. `runScan` and `withParameter` below are the older form over a normalized line's keys.
  */
 import type { Beamline, Element } from '../beamline/types.ts';
-import { runLine, RunError, type RunOptions } from './run.ts';
+import { DISPLAY_UNITS } from '../beamline/parameters.ts';
+import type { Dimension } from '../beamline/units.ts';
+import { evaluate, parameter, type Plan } from './plan.ts';
+import { runLine, RunError, CancelledError, type RunOptions } from './run.ts';
 import type { RunResult } from './result.ts';
+
+/** One scanned parameter: `points` values from `from` to `to` (SI), equally spaced or spaced by equal ratios. */
+export interface ScanAxis {
+  readonly name: string;
+  readonly from: number;
+  readonly to: number;
+  readonly points: number;
+  readonly spacing?: 'linear' | 'log';
+}
+
+/** The most points a scan takes (a 2-D scan counts the grid): a bound on its time and its result's size. */
+export const MAX_SCAN_POINTS = 1_000_000;
+
+export interface ScanParameterResult {
+  readonly name: string;
+  /** JSON path in the document. */
+  readonly path: string;
+  readonly dimension: Dimension;
+  /** The unit the values are shown in, and its SI factor (SI = shown × factor). */
+  readonly unit: string;
+  readonly factor: number;
+  readonly spacing: 'linear' | 'log';
+  /** The line's own value (SI): the set-point a plot marks. */
+  readonly present: number;
+  /** The scanned values (SI). */
+  readonly values: number[];
+}
+
+export interface ScanDetector { id: string; yield: number; rate: number; signal: number; counts: number; sigma: number }
+export interface ScanLeaf { path: string[]; target: string; yield: number; rate: number; captured?: number }
+
+export interface ScanPoint {
+  /** Index of each parameter's value (the grid's row and column for two). */
+  index: number[];
+  /** The parameters' values at this point (SI). */
+  values: number[];
+  detectors?: ScanDetector[];
+  leaves?: ScanLeaf[];
+  lost?: number;
+  /** Why this point has no numbers (the reader refused a value, or the engine this line). */
+  error?: string;
+  /** Indices into the scan's `warnings` that this point gave. */
+  warnings?: number[];
+}
+
+export interface ScanResult {
+  format: 'spinyard.scan';
+  version: 1;
+  title: string;
+  parameters: ScanParameterResult[];
+  /** Detector ids in the line's order. */
+  detectors: string[];
+  points: ScanPoint[];
+  /** Every distinct warning of any point, once. */
+  warnings: string[];
+}
+
+/** The values of one axis (SI): linear from → to, or log (equal ratios; both ends of one sign, not 0). */
+export function axisValues(a: ScanAxis): number[] {
+  const n = a.points;
+  if (!Number.isInteger(n) || n < 1) throw new RunError(`scan ${a.name}: the number of points must be a whole number ≥ 1, got ${n}`);
+  if (!Number.isFinite(a.from) || !Number.isFinite(a.to)) throw new RunError(`scan ${a.name}: the ends must be finite numbers`);
+  if (n === 1) return [a.from];
+  if (a.spacing === 'log') {
+    if (!(a.from * a.to > 0)) throw new RunError(`scan ${a.name}: a logarithmic scan needs both ends non-zero and of one sign, got ${a.from} and ${a.to} (SI)`);
+    const r = Math.log(a.to / a.from);
+    return Array.from({ length: n }, (_, i) => (i === n - 1 ? a.to : a.from * Math.exp((r * i) / (n - 1))));
+  }
+  return Array.from({ length: n }, (_, i) => (i === n - 1 ? a.to : a.from + ((a.to - a.from) * i) / (n - 1)));
+}
+
+/** The points of a scan in order: the first parameter outer, the second inner. */
+export function scanIndices(counts: readonly number[]): number[][] {
+  if (counts.length === 1) return Array.from({ length: counts[0] }, (_, i) => [i]);
+  const out: number[][] = [];
+  for (let i = 0; i < counts[0]; i++) for (let j = 0; j < counts[1]; j++) out.push([i, j]);
+  return out;
+}
+
+/** The parameters of a scan, checked against the plan (names, points, spacing). */
+export function scanParameters(plan: Plan, axes: readonly ScanAxis[]): ScanParameterResult[] {
+  if (axes.length < 1 || axes.length > 2) throw new RunError(`a scan takes one or two parameters, got ${axes.length}`);
+  if (axes.length === 2 && parameter(plan, axes[0].name) === parameter(plan, axes[1].name)) throw new RunError(`scan: ${axes[0].name} is given twice`);
+  const out = axes.map((a) => {
+    const slot = parameter(plan, a.name);
+    const shown = DISPLAY_UNITS[slot.dimension];
+    return { name: slot.name, path: slot.path, dimension: slot.dimension, unit: shown.unit, factor: shown.factor, spacing: a.spacing ?? 'linear', present: slot.value, values: axisValues(a) };
+  });
+  const total = out.reduce((n, p) => n * p.values.length, 1);
+  if (total > MAX_SCAN_POINTS) throw new RunError(`scan: ${total} points is more than ${MAX_SCAN_POINTS}; scan fewer points`);
+  return out;
+}
+
+/** One point of a scan (a worker evaluates its share of them with this). */
+export function scanPoint(plan: Plan, params: readonly ScanParameterResult[], index: readonly number[], warnings: Map<string, number>, opts: RunOptions = {}): ScanPoint {
+  const values = params.map((p, k) => p.values[index[k]]);
+  const point: ScanPoint = { index: [...index], values };
+  const set: Record<string, number> = {};
+  params.forEach((p, k) => (set[p.name] = values[k]));
+  let r: RunResult;
+  try {
+    r = evaluate(plan, set, { ...opts, onProgress: undefined, light: true });
+  } catch (err) {
+    if (err instanceof RunError && !(err instanceof CancelledError)) {
+      point.error = err.message;
+      return point;
+    }
+    throw err;
+  }
+  point.detectors = r.detectors.map((d) => ({ id: d.id, yield: d.yield, rate: d.rate, signal: d.signal, counts: d.counts, sigma: d.sigma }));
+  point.leaves = r.leaves.map((l) => ({ path: l.path, target: l.target, yield: l.yield, rate: l.rate, ...(l.captured === undefined ? {} : { captured: l.captured }) }));
+  point.lost = r.lost;
+  const w = new Set<number>();
+  for (const text of r.warnings) {
+    if (plan.warnings.includes(text)) continue;
+    let i = warnings.get(text);
+    if (i === undefined) warnings.set(text, (i = warnings.size));
+    w.add(i);
+  }
+  if (w.size) point.warnings = [...w].sort((a, b) => a - b);
+  return point;
+}
+
+/** Evaluate the plan at every point of the scan, in order (the first parameter outer). */
+export function scan(plan: Plan, axes: readonly ScanAxis[], opts: RunOptions = {}): ScanResult {
+  const params = scanParameters(plan, axes);
+  const warnings = new Map<string, number>();
+  const indices = scanIndices(params.map((p) => p.values.length));
+  const points: ScanPoint[] = [];
+  for (let k = 0; k < indices.length; k++) {
+    if (opts.isCancelled?.()) throw new CancelledError('scan: cancelled');
+    points.push(scanPoint(plan, params, indices[k], warnings, opts));
+    opts.onProgress?.((k + 1) / indices.length);
+  }
+  return scanResult(plan, params, points, warnings);
+}
+
+/** The scan's result from its points (in order) and the warnings they index. */
+export function scanResult(plan: Plan, params: ScanParameterResult[], points: ScanPoint[], warnings: ReadonlyMap<string, number>): ScanResult {
+  const list: string[] = [...plan.warnings];
+  for (const [text, i] of warnings) list[plan.warnings.length + i] = text;
+  if (plan.warnings.length) for (const p of points) if (p.warnings) p.warnings = p.warnings.map((i) => i + plan.warnings.length);
+  return {
+    format: 'spinyard.scan', version: 1, title: plan.line.title, parameters: params,
+    detectors: plan.line.elements.filter((e) => e.kind === 'detector').map((e) => e.id), points, warnings: list,
+  };
+}
 
 export interface ScanSpec {
   /** Element id. */
@@ -41,4 +193,55 @@ export function runScan(line: Beamline, spec: ScanSpec, opts: RunOptions = {}): 
     opts.onProgress?.((i + 1) / spec.values.length);
   });
   return out;
+}
+
+/**
+ * A number for a CSV cell: 13 significant digits, beyond what the engine's own round-off (1e-12, its balance check)
+ * supports, and without binary round-off such as 29.999999999999996 or 0.06249999999999989; "" for none.
+ */
+export function csvNumber(x: number | undefined): string {
+  return x === undefined || !Number.isFinite(x) ? '' : String(Number(x.toPrecision(13)));
+}
+
+function csvCell(s: string): string {
+  return /[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+/** A leaf's name in a table: its path and target ("M1:+1/2 M2:-1/2 → D1"). */
+export function leafName(l: { path: readonly string[]; target: string }): string {
+  return `${l.path.join(' ')} → ${l.target}`;
+}
+
+/**
+ * The scan as CSV (RFC 4180): one row per point; each parameter in its unit ("M2.axis.roll [deg]"), then per
+ * detector its yield, rate, signal, counts and σ for its dwell, per leaf its yield, rate and captured fraction
+ * (where the line has geometry), the lost fraction and, for a point without numbers, why.
+ */
+export function scanCsv(r: ScanResult): string {
+  const leafNames: string[] = [];
+  const leafCaptured = new Set<string>();
+  for (const p of r.points) for (const l of p.leaves ?? []) {
+    const n = leafName(l);
+    if (!leafNames.includes(n)) leafNames.push(n);
+    if (l.captured !== undefined) leafCaptured.add(n);
+  }
+  const head = r.parameters.map((p) => (p.unit ? `${p.name} [${p.unit}]` : p.name));
+  for (const d of r.detectors) head.push(`${d} yield`, `${d} rate [/s]`, `${d} signal [/s]`, `${d} counts`, `${d} sigma`);
+  for (const n of leafNames) head.push(`${n} yield`, `${n} rate [/s]`, ...(leafCaptured.has(n) ? [`${n} captured`] : []));
+  head.push('lost', 'error');
+  const rows = [head.map(csvCell).join(',')];
+  for (const p of r.points) {
+    const row = p.values.map((v, k) => csvNumber(v / r.parameters[k].factor));
+    for (const id of r.detectors) {
+      const d = p.detectors?.find((x) => x.id === id);
+      row.push(csvNumber(d?.yield), csvNumber(d?.rate), csvNumber(d?.signal), csvNumber(d?.counts), csvNumber(d?.sigma));
+    }
+    for (const n of leafNames) {
+      const l = p.leaves?.find((x) => leafName(x) === n);
+      row.push(csvNumber(l?.yield), csvNumber(l?.rate), ...(leafCaptured.has(n) ? [csvNumber(l?.captured)] : []));
+    }
+    row.push(csvNumber(p.lost), csvCell(p.error ?? ''));
+    rows.push(row.join(','));
+  }
+  return `${rows.join('\r\n')}\r\n`;
 }

@@ -5,16 +5,16 @@ const specs = [{ name: 'json', value: false }, { name: 'field', value: true }, {
 
 describe('parseArgs', () => {
   it('separates positionals from options, in any order', () => {
-    expect(parseArgs(['Rb-87', '--field', '0.5 T', '--json'], specs, 'levels')).toEqual({ ok: true, args: { positional: ['Rb-87'], options: { field: '0.5 T', json: true } } });
-    expect(parseArgs(['--field=0.5 T', 'Rb-87'], specs, 'levels')).toEqual({ ok: true, args: { positional: ['Rb-87'], options: { field: '0.5 T' } } });
+    expect(parseArgs(['Rb-87', '--field', '0.5 T', '--json'], specs, 'levels')).toEqual({ ok: true, args: { positional: ['Rb-87'], options: { field: '0.5 T', json: true }, lists: {} } });
+    expect(parseArgs(['--field=0.5 T', 'Rb-87'], specs, 'levels')).toEqual({ ok: true, args: { positional: ['Rb-87'], options: { field: '0.5 T' }, lists: {} } });
   });
 
   it('takes everything after "--" as positional, so a file may start with a dash', () => {
-    expect(parseArgs(['--', '--json'], specs, 'run')).toEqual({ ok: true, args: { positional: ['--json'], options: {} } });
+    expect(parseArgs(['--', '--json'], specs, 'run')).toEqual({ ok: true, args: { positional: ['--json'], options: {}, lists: {} } });
   });
 
   it('reads a short alias', () => {
-    expect(parseArgs(['-h'], specs, 'run')).toEqual({ ok: true, args: { positional: [], options: { help: true } } });
+    expect(parseArgs(['-h'], specs, 'run')).toEqual({ ok: true, args: { positional: [], options: { help: true }, lists: {} } });
   });
 
   it('refuses unknown, repeated, value-less and value-carrying-flag options', () => {
@@ -23,5 +23,12 @@ describe('parseArgs', () => {
     expect(parseArgs(['--json', '--json'], specs, 'run')).toEqual({ ok: false, message: '--json is given twice' });
     expect(parseArgs(['--field'], specs, 'run')).toEqual({ ok: false, message: '--field needs a value' });
     expect(parseArgs(['--json=yes'], specs, 'run').ok).toBe(false);
+  });
+
+  it('collects a repeatable option\'s values in order', () => {
+    const rs = [{ name: 'param', value: true, repeat: true }, { name: 'json', value: false }];
+    const r = parseArgs(['f', '--param', 'a', '--param=b', '--json'], rs, 'scan');
+    expect(r).toEqual({ ok: true, args: { positional: ['f'], options: { param: 'a', json: true }, lists: { param: ['a', 'b'] } } });
+    expect(parseArgs(['--json', '--json'], rs, 'scan')).toEqual({ ok: false, message: '--json is given twice' });
   });
 });

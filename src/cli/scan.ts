@@ -1,0 +1,112 @@
+/**
+ * `spinyard scan FILE --param NAME --from A --to B --points N [--log] [second --param …] [--json | --csv] [-o OUT]`:
+ * the line evaluated over one parameter or the grid of two (src/engine/scan.ts). The k-th --from, --to, --points
+ * and --log belong to the k-th --param.
+ */
+import { compile, parameter, parameterValue, scan, scanCsv, type ScanAxis, type ScanResult } from '../engine/index.ts';
+import { RunError } from '../engine/index.ts';
+import { DISPLAY_UNITS } from '../beamline/index.ts';
+import { alignTable, formatNumber } from './format.ts';
+import { isSameFile } from './output.ts';
+import { type CliOutput, bad, ok } from './quick.ts';
+
+export const SCAN_OPTIONS = [
+  { name: 'param', value: true, repeat: true },
+  { name: 'from', value: true, repeat: true },
+  { name: 'to', value: true, repeat: true },
+  { name: 'points', value: true, repeat: true },
+  { name: 'log', value: true, repeat: true },
+  { name: 'json', value: false },
+  { name: 'csv', value: false },
+  { name: 'output', value: true, short: 'o' },
+] as const;
+
+const err = (m: string) => bad(`spinyard scan: ${m}`, 'Run "spinyard scan --help" for its use.');
+
+/** A value in its parameter's unit for the terminal ("30 deg"). */
+function shown(v: number, p: ScanResult['parameters'][number]): string {
+  const x = formatNumber(v / p.factor, 6);
+  return p.unit ? `${x} ${p.unit}` : x;
+}
+
+export function scanText(r: ScanResult, file: string): string {
+  const out: string[] = [];
+  const what = r.parameters.map((p) => `${p.name} from ${shown(p.values[0], p)} to ${shown(p.values[p.values.length - 1], p)} in ${p.values.length} point${p.values.length === 1 ? '' : 's'}${p.spacing === 'log' ? ' (equal ratios)' : ''}`).join(', by ');
+  out.push(`Scan of ${r.title || '(untitled)'}  [${file}]`, `  ${what}`);
+  out.push(`  as set in the document: ${r.parameters.map((p) => `${p.name} = ${shown(p.present, p)}`).join(', ')}`, '');
+  const head = r.parameters.map((p) => (p.unit ? `${p.name} (${p.unit})` : p.name));
+  for (const d of r.detectors) head.push(`${d} yield`, `${d} counts ± σ`);
+  const rows = [head];
+  for (const p of r.points) {
+    const row = p.values.map((v, k) => formatNumber(v / r.parameters[k].factor, 6));
+    for (const id of r.detectors) {
+      const d = p.detectors?.find((x) => x.id === id);
+      row.push(d ? formatNumber(d.yield, 6) : '-', d ? `${formatNumber(d.counts, 4)} ± ${formatNumber(d.sigma, 3)}` : p.error ? 'no result' : '-');
+    }
+    rows.push(row);
+  }
+  out.push(alignTable(rows, head.map(() => true)));
+  const errors = new Map<string, number>();
+  for (const p of r.points) if (p.error) errors.set(p.error, (errors.get(p.error) ?? 0) + 1);
+  if (errors.size) {
+    out.push('', 'Points without a result');
+    for (const [m, n] of errors) out.push(`  ${n} point${n === 1 ? '' : 's'}: ${m}`);
+  }
+  if (r.warnings.length) {
+    const count = r.warnings.map(() => 0);
+    for (const p of r.points) for (const i of p.warnings ?? []) count[i]++;
+    out.push('', 'Warnings');
+    r.warnings.forEach((w, i) => out.push(`  - ${w}${count[i] ? ` (at ${count[i]} of ${r.points.length} points)` : ''}`));
+  }
+  out.push('', 'counts ± σ: each detector\'s counts in its dwell with the Poisson σ = √N (background included).');
+  return `${out.join('\n')}\n`;
+}
+
+export function cmdScanWith(file: string, text: string, options: Record<string, unknown>, lists: Record<string, string[]>): CliOutput {
+  const params = lists.param ?? [];
+  if (!params.length) return err('missing --param, the parameter to scan (e.g. --param M2.axis.roll); "spinyard scan FILE --param list" lists them');
+  if (params.length > 2) return err(`--param is given ${params.length} times; a scan takes one or two parameters`);
+  const c = compile(text);
+  if (!c.ok) return bad(`${file}: not a valid beamline (${c.problems.length} problem${c.problems.length === 1 ? '' : 's'}):`, ...c.problems.map((p) => `  ${p}`));
+  const plan = c.plan;
+  if (params.length === 1 && params[0] === 'list') {
+    const rows = [['parameter', 'value', 'as written', 'JSON path']];
+    for (const s of plan.parameters) rows.push([s.name, `${formatNumber(s.value / DISPLAY_UNITS[s.dimension].factor, 6)}${s.unit ? ` ${s.unit}` : ''}`, s.written === undefined ? '(default)' : String(s.written), s.path]);
+    return ok(`${alignTable(rows, [false, true, false, false])}\n`);
+  }
+  const n = params.length;
+  for (const k of ['from', 'to', 'points'] as const) {
+    const got = lists[k]?.length ?? 0;
+    if (got !== n) return err(`--${k} is given ${got} time${got === 1 ? '' : 's'} for ${n} --param; give one per --param, in the same order`);
+  }
+  const logs = lists.log ?? [];
+  const axes: ScanAxis[] = [];
+  try {
+    for (let k = 0; k < n; k++) {
+      const slot = parameter(plan, params[k]);
+      const pts = Number(lists.points[k]);
+      if (!/^\s*\d+\s*$/.test(lists.points[k]) || !Number.isInteger(pts) || pts < 1) return err(`--points: a whole number of points ≥ 1, got "${lists.points[k]}"`);
+      axes.push({ name: slot.name, from: parameterValue(slot, lists.from[k], '--from'), to: parameterValue(slot, lists.to[k], '--to'), points: pts, spacing: logs.includes(params[k]) ? 'log' : 'linear' });
+    }
+    for (const l of logs) if (!params.includes(l)) return err(`--log ${l}: not one of the scanned parameters (${params.join(', ')})`);
+  } catch (e) {
+    if (e instanceof RunError) return err(e.message);
+    throw e;
+  }
+  if (options.json && options.csv) return err('--json and --csv: choose one');
+  let r: ScanResult;
+  try {
+    r = scan(plan, axes);
+  } catch (e) {
+    if (e instanceof RunError) return err(e.message);
+    throw e;
+  }
+  const body = options.json ? `${JSON.stringify(r, null, 2)}\n` : options.csv ? scanCsv(r) : scanText(r, file);
+  const output = options.output;
+  if (typeof output === 'string') {
+    if (output === '') return err('-o: the output file name is empty');
+    if (isSameFile(file, output)) return err(`-o ${output} is the input document ${file}; a scan is never written over its document`);
+    return { code: 0, stdout: '', stderr: '', file: { path: output, format: 'text', html: body, input: file, what: `scan (${options.json ? 'JSON' : options.csv ? 'CSV' : 'text'})`, command: 'scan' } };
+  }
+  return ok(body);
+}

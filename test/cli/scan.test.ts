@@ -1,0 +1,82 @@
+/** `spinyard scan`: arguments, the three outputs, messages, and -o through deliver. */
+import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from '../../src/cli/cli.ts';
+import { deliver } from '../../src/cli/deliver.ts';
+
+const C = new URL('../../samples/bench-c-roll-calibration.spinyard', import.meta.url).pathname;
+let dir: string;
+beforeAll(() => {
+  dir = mkdtempSync(join(tmpdir(), 'spinyard-scan-'));
+});
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+const roll = ['--param', 'M2.axis.roll', '--from', '0 deg', '--to', '180 deg', '--points', '5'];
+
+describe('spinyard scan FILE', () => {
+  it('prints a table of the points with each detector\'s yield and counts ± σ', () => {
+    const out = runCli(['scan', C, ...roll]);
+    expect(out.stderr).toBe('');
+    expect(out.code).toBe(0);
+    const lines = out.stdout.split('\n');
+    expect(lines[1]).toBe('  M2.axis.roll from 0 deg to 180 deg in 5 points');
+    expect(lines[2]).toBe('  as set in the document: M2.axis.roll = 30 deg');
+    const head = lines.findIndex((l) => l.trimStart().startsWith('M2.axis.roll (deg)'));
+    expect(lines[head]).toMatch(/D1 yield\s+D1 counts ± σ\s+D2 yield/);
+    // 90°: D1 = ½·cos²(45°) = 0.25; counts (2e9·0.9·0.25 + 5 /s)·10 s = 4.5e9, σ = √N
+    expect(lines[head + 3]).toMatch(/^\s+90\s+0\.25\s+4\.5e9 ± 67100\s/);
+  });
+
+  it('gives JSON (spinyard.scan) and CSV', () => {
+    const j = JSON.parse(runCli(['scan', C, ...roll, '--json']).stdout);
+    expect(j.format).toBe('spinyard.scan');
+    expect(j.points).toHaveLength(5);
+    const csv = runCli(['scan', C, ...roll, '--csv']).stdout;
+    expect(csv.split('\r\n')[0]).toMatch(/^M2\.axis\.roll \[deg\],D1 yield,/);
+    expect(csv.split('\r\n')).toHaveLength(7);
+  });
+
+  it('scans a grid of two and spaces one of them by equal ratios', () => {
+    const out = runCli(['scan', C, ...roll.slice(0, 6), '--points', '2', '--param', 'oven.flux', '--from', '1e8 /s', '--to', '1e10 /s', '--points', '3', '--log', 'oven.flux', '--csv']);
+    expect(out.stderr).toBe('');
+    const rows = out.stdout.trimEnd().split('\r\n').slice(1).map((r) => r.split(',').slice(0, 2));
+    expect(rows).toEqual([['0', '100000000'], ['0', '1000000000'], ['0', '10000000000'], ['180', '100000000'], ['180', '1000000000'], ['180', '10000000000']]);
+  });
+
+  it('lists the set-points of a file with --param list', () => {
+    const out = runCli(['scan', C, '--param', 'list']);
+    expect(out.code).toBe(0);
+    expect(out.stdout).toMatch(/M2\.axis\.roll\s+30 deg\s+30 deg\s+elements\[1\]\.axis\.roll/);
+    expect(out.stdout).toMatch(/D1\.gap\s+0 mm\s+\(default\)/);
+  });
+
+  it('names what is wrong, with exit 2 and nothing on stdout', () => {
+    const cases: [string[], RegExp][] = [
+      [['scan', C], /missing --param/],
+      [['scan', C, '--param', 'M2.axis.rol', '--from', '0', '--to', '1', '--points', '2'], /no parameter "M2\.axis\.rol".*M2\.axis\.roll/],
+      [['scan', C, '--param', 'M2.axis.roll', '--from', '0 mm', '--to', '1 deg', '--points', '2'], /--from: expected an angle/],
+      [['scan', C, '--param', 'M2.axis.roll', '--from', '0 deg', '--to', '1 deg'], /--points is given 0 times for 1 --param/],
+      [['scan', C, '--param', 'M2.axis.roll', '--from', '0 deg', '--to', '1 deg', '--points', '2.5'], /--points: a whole number/],
+      [['scan', C, ...roll, '--log', 'oven.flux'], /--log oven\.flux: not one of the scanned/],
+      [['scan', C, ...roll, '--json', '--csv'], /choose one/],
+      [['scan', C, ...roll, '-o', C], /never written over its document/],
+    ];
+    for (const [argv, msg] of cases) {
+      const out = runCli(argv);
+      expect(out.code, argv.join(' ')).toBe(2);
+      expect(out.stdout).toBe('');
+      expect(out.stderr).toMatch(msg);
+    }
+  });
+
+  it('writes -o OUT atomically through deliver and says so', async () => {
+    const target = join(dir, 'roll.csv');
+    const out = await deliver(runCli(['scan', C, ...roll, '--csv', '-o', target]));
+    expect(out.code).toBe(0);
+    expect(out.stdout).toBe(`${target}: scan (CSV) of ${C}\n`);
+    expect(readFileSync(target, 'utf8')).toBe(runCli(['scan', C, ...roll, '--csv']).stdout);
+    expect(existsSync(join(dir, 'roll.csv.part'))).toBe(false);
+  });
+});
