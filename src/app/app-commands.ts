@@ -30,7 +30,8 @@ export interface AppApi {
   redo(): void;
   newDoc(): void;
   open(): Promise<void>;
-  save(saveAs: boolean): Promise<void>;
+  /** Saves; true once the document is in a file (false: cancelled or failed, with its message shown). */
+  save(saveAs: boolean): Promise<boolean>;
   openSample(name: string): Promise<void>;
   openRecent(id: string): Promise<void>;
   toggleDark(): void;
@@ -55,7 +56,9 @@ export type DialogState =
   | { kind: 'message'; title: string; text: string }
   | { kind: 'add' }
   | { kind: 'reroute' }
-  | { kind: 'recover'; drafts: AutosaveDraft[] };
+  | { kind: 'recover'; drafts: AutosaveDraft[] }
+  /** Unsaved work is about to be replaced (`what`: "opening bench-b.spinyard"): save it, discard it or cancel. */
+  | { kind: 'unsaved'; name: string; what: string; save(): void; discard(): void; cancel(): void };
 
 const STEP_M = 0.005;
 
@@ -101,8 +104,8 @@ export function buildCommands(): Command<AppCtx>[] {
   return [
     { id: 'file.new', label: 'New', menu: 'File', shortcut: 'CmdOrCtrl+N', perform: (c) => c.app.newDoc() },
     { id: 'file.open', label: 'Open…', menu: 'File', shortcut: 'CmdOrCtrl+O', perform: (c) => c.app.open() },
-    { id: 'file.save', label: 'Save', menu: 'File', shortcut: 'CmdOrCtrl+S', global: true, perform: (c) => c.app.save(false) },
-    { id: 'file.saveAs', label: 'Save As…', menu: 'File', shortcut: 'CmdOrCtrl+Shift+S', global: true, perform: (c) => c.app.save(true) },
+    { id: 'file.save', label: 'Save', menu: 'File', shortcut: 'CmdOrCtrl+S', global: true, perform: async (c) => void (await c.app.save(false)) },
+    { id: 'file.saveAs', label: 'Save As…', menu: 'File', shortcut: 'CmdOrCtrl+Shift+S', global: true, perform: async (c) => void (await c.app.save(true)) },
     { id: 'file.print', label: 'Print Setup Sheet…', menu: 'File', shortcut: 'CmdOrCtrl+P', perform: (c) => c.app.printSheet(false) },
     { id: 'file.exportPdf', label: 'Export Setup Sheet as PDF…', menu: 'File', perform: (c) => c.app.printSheet(true) },
     { id: 'file.close', label: 'Close', menu: 'File', perform: () => window.close() },

@@ -26,3 +26,26 @@ export function problemsFor(problems: readonly { path: string; message: string }
   const list = here.length > 0 ? here : problems;
   return list.map((p) => (p.path === path ? p.message : `${p.path || '(line)'}: ${p.message}`)).join('; ');
 }
+
+/**
+ * What the document in the window was last saved as: `new` (never saved: a new document or a sample),
+ * `saved` (its file text at the last open or save) or `recovered` (a draft recovered after a crash, whose
+ * work was never saved to a file).
+ */
+export type SavedState = { readonly kind: 'new' } | { readonly kind: 'saved'; readonly text: string } | { readonly kind: 'recovered' };
+
+/**
+ * True when the window holds work that is not in a file: a new document once it has been edited (undo back
+ * to the start makes it clean again), a saved one whose text differs from the file's, and a recovered
+ * draft until it is saved (undo cannot reach a saved state of it).
+ */
+export function documentDirty(saved: SavedState, text: string, undoable: number): boolean {
+  switch (saved.kind) {
+    case 'new':
+      return undoable > 0;
+    case 'saved':
+      return text !== saved.text;
+    case 'recovered':
+      return true;
+  }
+}

@@ -10,9 +10,26 @@ export interface KeyLike {
   metaKey: boolean;
   shiftKey: boolean;
   altKey: boolean;
+  /** The physical key ("KeyA", "Digit1"), where the event has it. */
+  code?: string;
 }
 
-const KEY_NAMES: Record<string, string> = { plus: '+', minus: '-', space: ' ', esc: 'escape', escape: 'escape' };
+/**
+ * Electron's key names (lower case) as KeyboardEvent.key reports the key (lower case): the arrows are
+ * "Up" in an accelerator and "ArrowUp" in the browser, Return is "Enter", Space is " ". Names not listed
+ * are the same in both ("Delete", "Home", "F5", letters, digits).
+ */
+const KEY_NAMES: Record<string, string> = {
+  plus: '+', minus: '-', space: ' ', esc: 'escape', escape: 'escape',
+  up: 'arrowup', down: 'arrowdown', left: 'arrowleft', right: 'arrowright',
+  return: 'enter', enter: 'enter',
+};
+
+/** The letter or digit of a physical key code ("KeyA" → "a", "Digit1" → "1"), or undefined. */
+function codeChar(code: string | undefined): string | undefined {
+  const m = code ? /^(?:Key([A-Z])|Digit([0-9]))$/.exec(code) : null;
+  return m ? (m[1] ?? m[2]).toLowerCase() : undefined;
+}
 
 /** True when `event` presses `accelerator` ("CmdOrCtrl+Shift+S"; CmdOrCtrl is ⌘ on darwin, Ctrl elsewhere). */
 export function acceleratorMatches(accelerator: string, event: KeyLike, platform: HostPlatform): boolean {
@@ -34,8 +51,9 @@ export function acceleratorMatches(accelerator: string, event: KeyLike, platform
   }
   const want = KEY_NAMES[keyPart.toLowerCase()] ?? keyPart.toLowerCase();
   const got = event.key.toLowerCase();
-  // "CmdOrCtrl+=" is also pressed as "+" with shift on many layouts; "Plus" names that key.
-  const keyOk = got === want;
+  // "CmdOrCtrl+=" is also pressed as "+" with shift on many layouts; "Plus" names that key. With Alt
+  // (Option on darwin) a letter or digit key types another character ("å" for Alt+A): its position decides.
+  const keyOk = got === want || (alt && /^[a-z0-9]$/.test(want) && codeChar(event.code) === want);
   const shiftOk = want === '+' ? true : event.shiftKey === shift;
   return keyOk && shiftOk && event.ctrlKey === ctrl && event.metaKey === meta && event.altKey === alt;
 }

@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { moveGap, parseEps, problemsFor } from '../../src/app/editing.ts';
+import { documentDirty, moveGap, parseEps, problemsFor } from '../../src/app/editing.ts';
 import { getAt, pathKeys } from '../../src/app/doc-path.ts';
 import { lineTree, unreached } from '../../src/app/line-tree.ts';
 import { newDocument } from '../../src/app/default-doc.ts';
@@ -54,5 +54,20 @@ describe('lineTree', () => {
     expect(m2.id).toBe('M2');
     expect(m2.ports!.map((p) => p.branch[0]).map((b) => [b.id, b.shared])).toEqual([['D1', false], ['D1', true]]);
     expect(unreached(doc, tree)).toEqual(['D2']);
+  });
+});
+
+describe('documentDirty', () => {
+  it('a new document is unsaved once edited, and clean again when undone to the start', () => {
+    expect(documentDirty({ kind: 'new' }, 'a', 0)).toBe(false);
+    expect(documentDirty({ kind: 'new' }, 'b', 1)).toBe(true);
+  });
+  it('a saved document is unsaved while its text differs from the file', () => {
+    expect(documentDirty({ kind: 'saved', text: 'a' }, 'a', 3)).toBe(false);
+    expect(documentDirty({ kind: 'saved', text: 'a' }, 'b', 0)).toBe(true);
+  });
+  it('a recovered draft is unsaved until it is saved, with or without edits', () => {
+    expect(documentDirty({ kind: 'recovered' }, 'a', 0)).toBe(true);
+    expect(documentDirty({ kind: 'recovered' }, 'a', 2)).toBe(true);
   });
 });

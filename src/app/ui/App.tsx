@@ -17,7 +17,7 @@ import { dwellById, portRows, portRowsCsv, warningsByElement, type RunResultView
 import { createEngineClient, type EngineStatus } from '../engine-client.ts';
 import { createEngineFeed } from '../engine-feed.ts';
 import { NEW_ELEMENT_KINDS, type FieldSpec } from '../fields.ts';
-import { parseEps, moveGap } from '../editing.ts';
+import { documentDirty, parseEps, moveGap, type SavedState } from '../editing.ts';
 import { applyInspectorEdit, type InspectorEdit } from '../inspector-edit.ts';
 import { Tree } from './Tree.tsx';
 import { Schematic } from './Schematic.tsx';
@@ -27,6 +27,7 @@ import { MenuBar } from './MenuBar.tsx';
 import { Palette } from './Palette.tsx';
 import { Dialog } from './Dialog.tsx';
 import { Caution } from './Caution.tsx';
+import { SkipLink } from './SkipLink.tsx';
 
 function draftKey(): string {
   return `doc-${Date.now().toString(36)}-${Math.random().toString(36).slice(2, 8)}`;
@@ -41,7 +42,7 @@ export function App({ host }: { host: Host }) {
   const [history, setHistory] = useState<History<BeamlineDoc>>(() => historyStart(newDocument()));
   const [name, setName] = useState<string>(() => docName(newDocument()));
   const [path, setPath] = useState<string | undefined>();
-  const [savedText, setSavedText] = useState<string | null>(null);
+  const [saved, setSaved] = useState<SavedState>({ kind: 'new' });
   const [key, setKey] = useState(draftKey);
   const [selected, setSelected] = useState<string | undefined>('oven');
   const [errors, setErrors] = useState<Record<string, { text: string; message: string }>>({});
@@ -64,7 +65,19 @@ export function App({ host }: { host: Host }) {
   const line = good.line;
   /** The file text of the document, as Save writes it (kept with the check: no serialization of its own). */
   const text = parsed.text;
-  const dirty = savedText === null ? history.past.length > 0 : text !== savedText;
+  const dirty = documentDirty(saved, text, history.past.length);
+  const dirtyRef = useRef(dirty);
+  dirtyRef.current = dirty;
+  const nameRef = useRef(name);
+  nameRef.current = name;
+  const keyRef = useRef(key);
+  keyRef.current = key;
+  const dialogRef = useRef(dialog);
+  dialogRef.current = dialog;
+  const modal = dialog !== undefined;
+  /** A new dialog is a new Dialog (focus moves into it), also where one replaces another. */
+  const dialogSeq = useRef({ of: dialog, n: 0 });
+  if (dialogSeq.current.of !== dialog) dialogSeq.current = { of: dialog, n: dialogSeq.current.n + 1 };
   const tree = useMemo(() => lineTree(doc), [doc]);
   const lost = useMemo(() => unreached(doc, tree), [doc, tree]);
   const placed = useMemo(() => placeElements(line).placed, [line]);
@@ -118,6 +131,7 @@ export function App({ host }: { host: Host }) {
     return () => clearTimeout(t);
   }, [dirty, text, key, name, host]);
 
+  /** Puts `hd` in the window (no question asked: replaceDocument is the way in for commands). */
   const load = useCallback((hd: HostDocument, fromSample = false): boolean => {
     const r = readDocument(hd.text);
     if (!r.ok) {
@@ -129,7 +143,7 @@ export function App({ host }: { host: Host }) {
     feed.reset(); // and this one runs even when its text equals the last one sent
     setName(hd.name);
     setPath(fromSample ? undefined : hd.path);
-    setSavedText(fromSample ? null : checkDocument(r.doc).text); // checked here once, for the view and the engine too
+    setSaved(fromSample ? { kind: 'new' } : { kind: 'saved', text: checkDocument(r.doc).text }); // checked here once, for the view and the engine too
     setKey(draftKey());
     setErrors({});
     setSelected('oven');
@@ -138,19 +152,47 @@ export function App({ host }: { host: Host }) {
     return true;
   }, [feed]);
 
+  /**
+   * The one way a command replaces the document in the window (New, Open, a sample, a recent document,
+   * a document the shell sends, a recovered draft): `replace` runs at once when nothing is unsaved; else
+   * the user is asked, as the shell asks when the window closes: Save (then `replace`, once the save went
+   * through), Don't Save (the draft of the work is dropped) or Cancel (the document and any dialog it
+   * interrupted stay). `what` names the replacement: "opening bench-b.spinyard".
+   */
+  const replaceDocument = useCallback((what: string, replace: () => void) => {
+    if (!dirtyRef.current) {
+      replace();
+      return;
+    }
+    const interrupted = dialogRef.current;
+    setDialog({
+      kind: 'unsaved', name: nameRef.current, what,
+      save: () => {
+        setDialog(undefined);
+        void apiRef.current.save(false).then((ok) => ok && replace());
+      },
+      discard: () => {
+        void host.clearAutosave(keyRef.current).catch(() => {});
+        setDialog(undefined);
+        replace();
+      },
+      cancel: () => setDialog(interrupted),
+    });
+  }, [host]);
+
   useEffect(() => {
     let live = true;
-    void host.initialDocument().then((d) => live && d && load(d)).catch(() => {});
+    void host.initialDocument().then((d) => live && d && replaceDocument(`opening ${d.name}`, () => load(d))).catch(() => {});
     refreshRecent();
     void host.listSamples().then((s) => live && setSamples(s)).catch((e) => live && setNotice(`Samples: ${(e as Error).message}`));
     void host.loadAutosave().then((drafts) => live && drafts.length > 0 && setDialog({ kind: 'recover', drafts })).catch(() => {});
     const ac = new AbortController();
-    host.onOpenDocument((d) => load(d), ac.signal);
+    host.onOpenDocument((d) => replaceDocument(`opening ${d.name}`, () => load(d)), ac.signal);
     return () => {
       live = false;
       ac.abort();
     };
-  }, [host, load, refreshRecent]);
+  }, [host, load, replaceDocument, refreshRecent]);
 
   // ---------------------------------------------------------------- edits
   /** Takes `next` when the document layer accepts it, with `label` for Undo and Redo; else returns the
@@ -220,13 +262,15 @@ export function App({ host }: { host: Host }) {
     },
     newDoc: async () => {
       if (await host.newWindow()) return;
-      load({ name: 'untitled.spinyard', text: documentText(newDocument()) }, true);
-      setName(docName(newDocument()));
+      replaceDocument('starting a new document', () => {
+        load({ name: 'untitled.spinyard', text: documentText(newDocument()) }, true);
+        setName(docName(newDocument()));
+      });
     },
     open: async () => {
       try {
         const d = await host.openDocument();
-        if (d) load(d);
+        if (d) replaceDocument(`opening ${d.name}`, () => load(d));
         refreshRecent();
       } catch (e) {
         fail('Cannot open the file', (e as Error).message);
@@ -236,21 +280,23 @@ export function App({ host }: { host: Host }) {
       const t = text;
       try {
         const r = await host.saveDocument({ name, text: t, ...(path ? { path } : {}), ...(saveAs ? { saveAs: true } : {}) });
-        if (!r) return;
+        if (!r) return false;
         setName(r.name);
         setPath(r.path);
-        setSavedText(t);
+        setSaved({ kind: 'saved', text: t });
         void host.clearAutosave(key).catch(() => {});
         setNotice(`Saved ${r.name}${r.path ? '' : ' (to the downloads)'}.`);
         refreshRecent();
+        return true;
       } catch (e) {
         fail('The document was not saved', (e as Error).message);
+        return false;
       }
     },
     openRecent: async (id) => {
       try {
         const d = await host.openRecent(id);
-        if (d) load(d);
+        if (d) replaceDocument(`opening ${d.name}`, () => load(d));
         else setNotice('That recent document is gone (or opened in another window).');
         refreshRecent();
       } catch (e) {
@@ -259,7 +305,8 @@ export function App({ host }: { host: Host }) {
     },
     openSample: async (s) => {
       try {
-        load(await host.readSample(s), true);
+        const d = await host.readSample(s);
+        replaceDocument(`opening the sample ${d.name}`, () => load(d, true));
       } catch (e) {
         fail('Cannot open the sample', (e as Error).message);
       }
@@ -319,7 +366,9 @@ export function App({ host }: { host: Host }) {
       } else if (!(await host.printSheet(html))) setNotice('The setup sheet was not printed.');
     },
     focusPane: (p) => {
-      const el = document.querySelector<HTMLElement>(p === 'tree' ? '.tree [role="treeitem"]' : p === 'inspector' ? '.inspector input, .inspector select' : '.results');
+      const q = (sel: string) => document.querySelector<HTMLElement>(sel);
+      const el = p === 'tree' ? q('.tree [role="treeitem"][aria-selected="true"]') ?? q('.tree [role="treeitem"]') : q(p === 'inspector' ? '.inspector input, .inspector select' : '.results');
+      if (el && el.tabIndex < 0 && !el.hasAttribute('tabindex')) el.tabIndex = -1; // a section takes the focus only with a tab index
       el?.focus();
     },
   };
@@ -378,6 +427,7 @@ export function App({ host }: { host: Host }) {
       const typing = !!t && (t.tagName === 'INPUT' || t.tagName === 'TEXTAREA' || t.tagName === 'SELECT' || t.isContentEditable);
       if (typing && !cmd.global) return;
       if (palette && cmd.id !== 'edit.palette') return;
+      if (modal) return; // a dialog is open: its own keys only
       e.preventDefault();
       run(cmd.id);
     };
@@ -386,7 +436,7 @@ export function App({ host }: { host: Host }) {
       ac.abort();
       window.removeEventListener('keydown', onKey);
     };
-  }, [host, registry, run, palette]);
+  }, [host, registry, run, palette, modal]);
 
   useEffect(() => {
     document.documentElement.dataset.theme = dark ? 'dark' : 'light';
@@ -423,6 +473,7 @@ export function App({ host }: { host: Host }) {
           <section className="drawing" aria-label="Schematic">
             <Schematic line={line} result={result} selected={selected} onSelect={setSelected} warned={warnedAll} />
           </section>
+          <SkipLink label="Skip the results: go to the inspector" onActivate={() => run('view.focusInspector')} />
           <Results line={line} result={result} resultSeq={lastResult?.seq ?? 0} docSeq={docSeq} error={answer.seq === docSeq ? answer.error : undefined}
             ms={lastResult?.ms} status={status} epsText={epsText} eps={eps} onEps={setEpsText} onCancel={() => run('results.cancel')}
             onCsv={() => run('results.exportCsv')} dark={dark} />
@@ -438,15 +489,13 @@ export function App({ host }: { host: Host }) {
         <span>Ctrl+K: commands</span>
       </footer>
       {palette && <Palette entries={registry.entries(ctx)} platform={host.platform} isEnabled={isEnabled} run={run} close={() => setPalette(false)} />}
-      {dialog && <AppDialog d={dialog} close={() => setDialog(undefined)} api={api} selected={selected} line={line} doc={doc} actions={actions}
-        onRecover={(dr) => {
-          if (load({ name: dr.name, text: dr.text, ...(dr.path ? { path: dr.path } : {}) })) {
-            setSavedText(null);
-            setHistory((h) => historyPush(historyStart(h.present), h.present));
-          }
+      {dialog && <AppDialog key={dialogSeq.current.n} d={dialog} close={() => setDialog(undefined)} api={api} selected={selected} line={line} doc={doc} actions={actions}
+        onRecover={(dr) => replaceDocument(`recovering ${dr.name}`, () => {
+          // the recovered work is in no file: it stays unsaved (the window's mark, the close prompt, autosave)
+          if (load({ name: dr.name, text: dr.text, ...(dr.path ? { path: dr.path } : {}) })) setSaved({ kind: 'recovered' });
           void host.clearAutosave(dr.key).catch(() => {});
           setDialog(undefined);
-        }}
+        })}
         onDiscard={(dr) => {
           void host.clearAutosave(dr.key).catch(() => {});
           setDialog(undefined);
@@ -490,6 +539,15 @@ function AppDialog({ d, close, api, selected, doc, actions, onRecover, onDiscard
         <Dialog title={d.title} onClose={close}>
           <p>Nothing was changed. The file has these problems:</p>
           <ul className="problems">{d.problems.map((p, i) => <li key={i}><code>{p.path || '(file)'}</code>: {p.message}</li>)}</ul>
+        </Dialog>
+      );
+    case 'unsaved':
+      return (
+        <Dialog title={`Save the changes to ${d.name} before ${d.what}?`} onClose={d.cancel} closeLabel="Cancel" alert actions={<>
+          <button type="button" onClick={d.save}>Save</button>
+          <button type="button" onClick={d.discard}>Don&apos;t Save</button>
+        </>}>
+          <p>Changes not saved are lost when another document replaces this one.</p>
         </Dialog>
       );
     case 'message':

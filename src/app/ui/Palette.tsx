@@ -46,6 +46,8 @@ export function Palette({ entries, platform, isEnabled, run, close }: Props) {
             } else if (e.key === 'Escape') {
               e.preventDefault();
               close();
+            } else if (e.key === 'Tab') {
+              e.preventDefault(); // a modal dialog: the focus stays in its one field
             }
           }} />
         <ul id="palette-list" role="listbox" aria-label="Commands">

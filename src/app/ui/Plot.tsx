@@ -1,4 +1,7 @@
 // A plotly.js chart: draws `data`/`layout` with Plotly.react and exports PNG/SVG (Plotly.downloadImage).
+// The chart's own toolbar (plotly's mode bar) keeps only the view controls, zoom, pan and reset: no
+// button of it opens a page, sends the figure anywhere or downloads; the exports are the PNG and SVG
+// buttons of the caption. The mode bar is one stop of the Tab order (arrow keys move along it).
 // plotly.js is a chunk of its own (about 4.6 MB), imported when the first chart is drawn: the tree, the
 // schematic and the tables of the first result appear without it, and the charts fill in when it arrives.
 import { useEffect, useRef, useState } from 'react';
@@ -36,6 +39,62 @@ export function loadPlotly(): Promise<Plotly> {
   return loading;
 }
 
+/** The mode bar's buttons, in one group: view controls only (the names are plotly's, src/components/modebar/buttons.js). */
+export const MODEBAR_BUTTONS: readonly string[] = ['zoom2d', 'pan2d', 'zoomIn2d', 'zoomOut2d', 'autoScale2d', 'resetScale2d'];
+
+/**
+ * plotly's config for every chart. The mode bar is the explicit list above; the rest switches off each way
+ * plotly has to reach its web service or leave the page, in the versions that know the key: the logo link,
+ * the "Share chart" / "Edit in Chart Studio" / send-to-cloud buttons (showSendToCloud defaults to true in
+ * plotly.js 4), the on-graph link, and the server they would go to. plotly ignores a key it does not know.
+ */
+export const PLOT_CONFIG: Readonly<Record<string, unknown>> = Object.freeze({
+  displaylogo: false,
+  showLink: false,
+  showSendToCloud: false,
+  showEditInChartStudio: false,
+  sendData: false,
+  plotlyServerURL: '',
+  modeBarButtons: [[...MODEBAR_BUTTONS]],
+  modeBarButtonsToRemove: ['toImage', 'sendDataToCloud', 'sendChartToCloud', 'editInChartStudio', 'downloadJson', 'select2d', 'lasso2d'],
+  responsive: true,
+});
+
+const ROVING_KEYS = new Set(['ArrowRight', 'ArrowLeft', 'ArrowDown', 'ArrowUp', 'Home', 'End']);
+
+/** The buttons of a chart's mode bar. */
+function modebarButtons(el: HTMLElement): HTMLElement[] {
+  return [...el.querySelectorAll<HTMLElement>('.modebar .modebar-btn')];
+}
+
+/**
+ * Makes a chart's mode bar one stop of the Tab order (a toolbar with a roving tab index): the button at
+ * `index` (the last one used) takes Tab, the others -1. Called after each draw, since plotly may rebuild it.
+ */
+export function rovingModebar(el: HTMLElement, title: string, index = Number(el.dataset.modebarIndex ?? 0)): void {
+  const bar = el.querySelector<HTMLElement>('.modebar');
+  const buttons = modebarButtons(el);
+  if (!bar || buttons.length === 0) return;
+  bar.setAttribute('role', 'toolbar');
+  bar.setAttribute('aria-label', `${title}: zoom and pan`);
+  const at = Math.min(Math.max(0, index), buttons.length - 1);
+  el.dataset.modebarIndex = String(at);
+  buttons.forEach((b, i) => (b.tabIndex = i === at ? 0 : -1));
+}
+
+/** Arrow keys, Home and End on a mode bar button move the focus along the bar; true when it moved. */
+export function modebarKey(el: HTMLElement, title: string, target: EventTarget | null, key: string): boolean {
+  if (!ROVING_KEYS.has(key)) return false;
+  const buttons = modebarButtons(el);
+  const i = buttons.indexOf(target as HTMLElement);
+  if (i < 0) return false;
+  const n = buttons.length;
+  const next = key === 'Home' ? 0 : key === 'End' ? n - 1 : (i + (key === 'ArrowRight' || key === 'ArrowDown' ? 1 : -1) + n) % n;
+  rovingModebar(el, title, next);
+  buttons[next].focus();
+  return true;
+}
+
 export interface PlotProps {
   id: string;
   title: string;
@@ -53,6 +112,8 @@ export function Plot({ id, title, data, layout, seq, fileName, height = 260, del
   const ref = useRef<HTMLDivElement>(null);
   const drawn = useRef<string | undefined>(undefined);
   const [failed, setFailed] = useState<string | undefined>(undefined);
+  const titleRef = useRef(title);
+  titleRef.current = title;
   useEffect(() => {
     const el = ref.current;
     if (!el) return;
@@ -69,11 +130,13 @@ export function Plot({ id, title, data, layout, seq, fileName, height = 260, del
           if (!live) return;
           setFailed(undefined);
           drawn.current = key;
-          return P.react(el, data, { height, autosize: true, ...layout }, {
-            displaylogo: false,
-            responsive: true,
-            modeBarButtonsToRemove: ['toImage', 'sendDataToCloud', 'select2d', 'lasso2d'],
-          }).then(() => {
+          return P.react(el, data, { height, autosize: true, ...layout }, { ...PLOT_CONFIG }).then(() => {
+            const gd = el as HTMLElement & { on?(event: string, fn: () => void): void; _spinyardRoving?: boolean };
+            if (!gd._spinyardRoving && gd.on) {
+              gd._spinyardRoving = true;
+              gd.on('plotly_afterplot', () => rovingModebar(el, titleRef.current));
+            }
+            rovingModebar(el, titleRef.current);
             if (live) el.dataset.seq = String(seq);
           });
         })
@@ -111,7 +174,15 @@ export function Plot({ id, title, data, layout, seq, fileName, height = 260, del
       </figcaption>
       {failed && <p className="note" role="alert">{failed}</p>}
       {/* the chart's height is kept while plotly.js loads, so nothing below moves when the chart arrives */}
-      <div ref={ref} data-chart={id} className="plot-area" style={{ minHeight: height }} />
+      <div ref={ref} data-chart={id} className="plot-area" style={{ minHeight: height }}
+        onKeyDown={(e) => {
+          if (ref.current && modebarKey(ref.current, title, e.target, e.key)) e.preventDefault();
+        }}
+        onFocus={(e) => {
+          // a button clicked or reached keeps the Tab stop of the bar
+          const i = ref.current ? modebarButtons(ref.current).indexOf(e.target as HTMLElement) : -1;
+          if (i >= 0 && ref.current) rovingModebar(ref.current, title, i);
+        }} />
     </figure>
   );
 }
