@@ -71,6 +71,25 @@ describe('buildCommands', () => {
     expect(api.save).toHaveBeenCalledWith(false);
   });
 
+  it('finds every shortcut from the key event a browser sends for it', () => {
+    // KeyboardEvent.key values of the UI Events spec (W3C, "UI Events KeyboardEvent key Values"), written
+    // out here for each key name the menus use; letters arrive lower case without Shift, upper case with it
+    const keyValue: Record<string, string> = { Down: 'ArrowDown', Up: 'ArrowUp', Left: 'ArrowLeft', Right: 'ArrowRight', Delete: 'Delete', Escape: 'Escape' };
+    const r = registry();
+    let checked = 0;
+    for (const c of buildCommands()) {
+      if (!c.shortcut) continue;
+      const parts = c.shortcut.split(/\+(?!$)/);
+      const k = parts.pop()!;
+      const shift = parts.includes('Shift');
+      const key = keyValue[k] ?? (/^[A-Z]$/.test(k) ? (shift ? k : k.toLowerCase()) : k);
+      const ev = { key, ctrlKey: parts.includes('CmdOrCtrl') || parts.includes('Ctrl'), metaKey: false, shiftKey: shift, altKey: parts.includes('Alt') };
+      expect(r.forKey(ev, 'linux')?.id, `${c.shortcut} sent as ${JSON.stringify(ev)}`).toBe(c.id);
+      checked++;
+    }
+    expect(checked).toBeGreaterThanOrEqual(20);
+  });
+
   it('prints the setup sheet (Ctrl+P) or exports it as a PDF', () => {
     const r = registry();
     const api = fakeApi();

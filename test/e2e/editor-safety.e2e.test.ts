@@ -228,6 +228,418 @@ describe('nothing lost: replacing an edited document asks first', () => {
   });
 });
 
+// --------------------------------------------------------------------------------------------- offline
+
+/** What each chart's toolbar may hold: plotly's view controls (their titles), nothing that leaves the page. */
+const VIEW_BUTTONS = ['Zoom', 'Pan', 'Zoom in', 'Zoom out', 'Autoscale', 'Reset axes'];
+
+describe('offline for real: no chart control leaves the machine', () => {
+  it('every toolbar button of every chart of the sample with the most charts stays on 127.0.0.1 and opens no window', async () => {
+    const { page } = app;
+    await freshDocument();
+    const samples = JSON.parse(readFileSync(join(ROOT, 'dist-web', 'samples', 'index.json'), 'utf8')).samples as { name: string }[];
+    let best = { name: '', charts: 0 };
+    for (const s of samples) {
+      const before = Number((await page.locator('section.results').getAttribute('data-seq')) ?? 0);
+      await runMenu('Samples', `samples.open.${s.name}`);
+      await waitForFreshResults(page, before);
+      const charts = await page.locator('[data-chart]').count();
+      if (charts > best.charts) best = { name: s.name, charts };
+    }
+    expect(best.charts).toBeGreaterThanOrEqual(3);
+    const before = Number((await page.locator('section.results').getAttribute('data-seq')) ?? 0);
+    await runMenu('Samples', `samples.open.${best.name}`);
+    await waitForFreshResults(page, before);
+    const charts = page.locator('[data-chart]');
+    await expect.poll(() => page.locator('[data-chart] .modebar').count(), { timeout: 30_000 }).toBe(best.charts);
+    const requestsBefore = app.requests.length;
+    let clicked = 0;
+    for (let c = 0; c < best.charts; c++) {
+      const chart = charts.nth(c);
+      // no link of any kind in or around the chart (plotly's logo is one)
+      expect(await chart.locator('xpath=ancestor::figure').locator('a[href], [target="_blank"]').count()).toBe(0);
+      const buttons = chart.locator('.modebar-btn');
+      const titles = await buttons.evaluateAll((bs) => bs.map((b) => b.getAttribute('data-title') ?? b.getAttribute('aria-label') ?? ''));
+      expect(titles).toEqual(VIEW_BUTTONS);
+      for (let b = 0; b < titles.length; b++) {
+        await chart.hover();
+        await buttons.nth(b).click();
+        clicked++;
+      }
+      const id = await chart.getAttribute('data-chart');
+      const figure = chart.locator('xpath=ancestor::figure');
+      for (const format of ['PNG', 'SVG']) {
+        const [d] = await Promise.all([page.waitForEvent('download'), figure.getByRole('button', { name: new RegExp(`as ${format}$`) }).click()]);
+        expect(d.url()).toMatch(/^(data|blob):/);
+        clicked++;
+      }
+      if (c === 0) await page.screenshot({ path: screenshotPath(`safety-chart-toolbar-${id}`), clip: (await figure.boundingBox())! });
+    }
+    expect(clicked).toBe(best.charts * (VIEW_BUTTONS.length + 2));
+    await page.waitForTimeout(500); // anything a click set off has had its time to ask
+    const after = app.requests.slice(requestsBefore);
+    expect(after.filter((u) => !/^(data|blob):|^http:\/\/127\.0\.0\.1:/.test(u))).toEqual([]);
+    expect(foreignRequests(app)).toEqual([]);
+    expect(opened).toEqual([]);
+    expect(await page.evaluate(() => (window as unknown as { __windowOpenCalls: string[] }).__windowOpenCalls)).toEqual([]);
+    expect(page.context().pages()).toHaveLength(1);
+  });
+});
+
+// -------------------------------------------------------------------------------------------- keyboard
+
+/** The keys of a shortcut as the menu shows it on Linux ("Ctrl+Shift+S", "Alt+Down"), for keyboard.press. */
+function keysOf(label: string): string {
+  const names: Record<string, string> = { Ctrl: 'Control', Up: 'ArrowUp', Down: 'ArrowDown', Left: 'ArrowLeft', Right: 'ArrowRight' };
+  return label.split(/\+(?!$)/).map((p) => names[p] ?? (p.length === 1 ? p.toLowerCase() : p)).join('+');
+}
+
+/** Every command the menu bar lists with a shortcut: id and the shortcut as shown. */
+async function listedShortcuts(page: Page): Promise<{ id: string; label: string }[]> {
+  const out: { id: string; label: string }[] = [];
+  for (const menu of await page.locator('[data-menu-button]').evaluateAll((bs) => bs.map((b) => b.getAttribute('data-menu-button')!))) {
+    await page.locator(`[data-menu-button="${menu}"]`).click();
+    out.push(...(await page.locator('[role="menu"] [data-command]').evaluateAll((items) =>
+      items.filter((i) => i.querySelector('kbd')).map((i) => ({ id: i.getAttribute('data-command')!, label: i.querySelector('kbd')!.textContent! })))));
+    await page.keyboard.press('Escape');
+  }
+  return out;
+}
+
+/** Focus on the tree (a control that is not a text field), with `id` selected. */
+async function onTree(id: string) {
+  await selectElement(id);
+  await app.page.locator(`.tree [data-id="${id}"]`).first().focus();
+}
+
+const inputValue = (name: string) => app.page.locator(`.inspector input[name="${name}"]`).inputValue();
+const activeIn = (sel: string) => app.page.evaluate((s) => !!document.activeElement?.closest(s), sel);
+const rootFontSize = () => app.page.evaluate(() => document.documentElement.style.fontSize);
+const treeCount = () => app.page.locator('.tree [role="treeitem"]').count();
+
+/** A line that keeps the engine busy for minutes: six RF flippers in a row on Cs-133 (each averages its subtree over the RF phase). */
+function slowLine(): BeamlineDoc {
+  const n = 6;
+  const elements: Record<string, unknown>[] = [];
+  for (let i = 1; i <= n; i++) {
+    elements.push({ id: `RF${i}`, kind: 'rf', gap: '1 cm', static: { x: '0 T', y: '0 T', z: '1 mT' }, amplitude: '10 uT', frequency: `${3.5 + 0.1 * i} MHz`,
+      axis: { roll: '90 deg' }, length: '2 cm', to: i < n ? `RF${i + 1}` : 'D1' });
+  }
+  elements.push({ id: 'D1', kind: 'detector', gap: '10 cm' });
+  return {
+    format: 'spinyard.beamline', version: 1, title: 'Bench Q, six RF flippers (a long run to cancel)', species: 'Cs-133',
+    oven: { state: { kind: 'unpolarized' }, flux: '1e9 /s', to: 'RF1', velocity: { kind: 'supersonic', speed: '300 m/s', ratio: 10 } },
+    elements,
+  } as unknown as BeamlineDoc;
+}
+
+/** What each listed shortcut must do, pressed with `keys` from a clean new document. */
+const EFFECTS: Record<string, (keys: string) => Promise<void>> = {
+  'file.new': async (keys) => {
+    const before = Number((await app.page.locator('section.results').getAttribute('data-seq')) ?? 0);
+    await runMenu('Samples', `samples.open.${SAMPLE}`);
+    await waitForFreshResults(app.page, before);
+    await app.page.locator('.tree [data-id="oven"]').focus();
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => docTitle(app.page)).toBe(NEW_DOCUMENT_TITLE);
+  },
+  'file.open': async (keys) => {
+    await onTree('M1');
+    const [chooser] = await Promise.all([app.page.waitForEvent('filechooser'), app.page.keyboard.press(keys)]);
+    await chooser.setFiles([]);
+  },
+  'file.save': async (keys) => {
+    await onTree('M1');
+    const [d] = await Promise.all([app.page.waitForEvent('download'), app.page.keyboard.press(keys)]);
+    expect(d.suggestedFilename()).toBe('bench-a-new-line.spinyard');
+  },
+  'file.saveAs': async (keys) => {
+    await onTree('M1');
+    const [d] = await Promise.all([app.page.waitForEvent('download'), app.page.keyboard.press(keys)]);
+    expect(d.suggestedFilename()).toMatch(/\.spinyard$/);
+  },
+  'file.print': async (keys) => {
+    await onTree('M1');
+    const printed = app.page.waitForFunction(() => [...document.querySelectorAll('iframe[srcdoc]')].some((f) => /Bench A, new line/.test(f.getAttribute('srcdoc') ?? '')),
+      undefined, { polling: 10, timeout: 10_000 });
+    await app.page.keyboard.press(keys);
+    await printed;
+  },
+  'results.exportCsv': async (keys) => {
+    await onTree('M1');
+    const [d] = await Promise.all([app.page.waitForEvent('download'), app.page.keyboard.press(keys)]);
+    expect(d.suggestedFilename()).toBe('bench-a-new-line-ports.csv');
+  },
+  'edit.undo': async (keys) => {
+    await selectElement('M2');
+    await commitField('elements[1].axis.roll', '35 deg');
+    await onTree('M2');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => inputValue('elements[1].axis.roll')).toBe('60 deg');
+  },
+  'edit.redo': async (keys) => {
+    await selectElement('M2');
+    await commitField('elements[1].axis.roll', '35 deg');
+    await onTree('M2');
+    await app.page.keyboard.press('Control+z');
+    await expect.poll(() => inputValue('elements[1].axis.roll')).toBe('60 deg');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => inputValue('elements[1].axis.roll')).toBe('35 deg');
+  },
+  'edit.palette': async (keys) => {
+    await onTree('M1');
+    await app.page.keyboard.press(keys);
+    await app.page.getByRole('combobox', { name: 'Command' }).waitFor();
+    await app.page.keyboard.press('Escape');
+  },
+  'results.cancel': async (keys) => {
+    const file = join(ROOT, 'test-results', 'safety-slow-line.spinyard');
+    writeFileSync(file, documentText(slowLine()));
+    const [chooser] = await Promise.all([app.page.waitForEvent('filechooser'), runMenu('File', 'file.open')]);
+    await chooser.setFiles(file);
+    await app.page.getByRole('button', { name: 'Cancel', exact: true }).waitFor({ timeout: 30_000 }); // the run is slow: it shows its progress
+    await app.page.locator('.tree [data-id="oven"]').focus();
+    await app.page.keyboard.press(keys);
+    await app.page.getByText('cancelled: the table shows the last finished run').waitFor();
+    expect(await app.page.locator('.statusline').textContent()).not.toContain('computing');
+  },
+  'element.add': async (keys) => {
+    await onTree('M1');
+    await app.page.keyboard.press(keys);
+    await app.page.getByRole('dialog', { name: 'Add an element on a port' }).waitFor();
+    await app.page.keyboard.press('Escape');
+  },
+  'element.reroute': async (keys) => {
+    await onTree('M1');
+    await app.page.keyboard.press(keys);
+    await app.page.getByRole('dialog', { name: 'Re-route a port' }).waitFor();
+    await app.page.keyboard.press('Escape');
+  },
+  'element.duplicate': async (keys) => {
+    const n = await treeCount();
+    await onTree('D2');
+    await app.page.keyboard.press(keys);
+    await expect.poll(treeCount).toBe(n + 1);
+  },
+  'element.delete': async (keys) => {
+    await onTree('D2');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => app.page.locator('.tree [data-id="D2"]').count()).toBe(0);
+  },
+  'element.moveDownstream': async (keys) => {
+    await onTree('D1');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => inputValue('elements[2].gap')).toBe('405 mm');
+  },
+  'element.moveUpstream': async (keys) => {
+    await onTree('D1');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => inputValue('elements[2].gap')).toBe('395 mm');
+  },
+  'element.next': async (keys) => {
+    await onTree('M1');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => app.page.locator('.inspector .insp-id').textContent()).toBe('M2');
+    expect(await app.page.evaluate(() => document.activeElement?.getAttribute('data-id'))).toBe('M2');
+  },
+  'element.previous': async (keys) => {
+    await onTree('M2');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => app.page.locator('.inspector .insp-id').textContent()).toBe('M1');
+  },
+  'view.focusTree': async (keys) => {
+    await selectElement('M2');
+    await app.page.locator('.inspector input').first().focus();
+    await app.page.keyboard.press(keys);
+    expect(await app.page.evaluate(() => document.activeElement?.getAttribute('data-id'))).toBe('M2');
+  },
+  'view.focusInspector': async (keys) => {
+    await onTree('M2');
+    await app.page.keyboard.press(keys);
+    expect(await activeIn('.inspector')).toBe(true);
+  },
+  'view.focusResults': async (keys) => {
+    await onTree('M2');
+    await app.page.keyboard.press(keys);
+    expect(await activeIn('section.results')).toBe(true);
+  },
+  'view.zoomIn': async (keys) => {
+    await onTree('M1');
+    const before = parseFloat((await rootFontSize()) || '100%');
+    await app.page.keyboard.press(keys);
+    expect(await rootFontSize()).toBe(`${before + 10}%`);
+  },
+  'view.zoomOut': async (keys) => {
+    await onTree('M1');
+    const before = parseFloat((await rootFontSize()) || '100%');
+    await app.page.keyboard.press(keys);
+    expect(await rootFontSize()).toBe(`${before - 10}%`);
+  },
+  'view.zoomReset': async (keys) => {
+    await onTree('M1');
+    await app.page.keyboard.press('Control+-');
+    expect(await rootFontSize()).not.toBe('100%');
+    await app.page.keyboard.press(keys);
+    expect(await rootFontSize()).toBe('100%');
+  },
+  'view.toggleDark': async (keys) => {
+    await onTree('M1');
+    const before = await app.page.evaluate(() => document.documentElement.dataset.theme);
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => app.page.evaluate(() => document.documentElement.dataset.theme)).not.toBe(before);
+  },
+};
+
+describe('keyboard complete', () => {
+  it('every shortcut the menus list does what it says in the browser host', async () => {
+    const { page } = app;
+    await freshDocument();
+    const listed = await listedShortcuts(page);
+    // the table above covers exactly what the menus list (a new shortcut needs its check here)
+    expect(listed.map((l) => l.id).sort()).toEqual(Object.keys(EFFECTS).sort());
+    const failures: string[] = [];
+    for (const { id, label } of listed) {
+      await freshDocument();
+      try {
+        await EFFECTS[id](keysOf(label));
+      } catch (e) {
+        failures.push(`${id} (${label}): ${(e as Error).message.split('\n')[0]}`);
+        await page.screenshot({ path: screenshotPath(`safety-shortcut-failed-${id}`) });
+      }
+    }
+    expect(failures).toEqual([]);
+    await freshDocument();
+    // Zoom and theme back to where they started
+    await page.locator('.tree [data-id="oven"]').focus();
+    await page.keyboard.press('Control+0');
+    if ((await page.evaluate(() => document.documentElement.dataset.theme)) !== 'light') await page.keyboard.press('Control+Shift+D');
+  });
+
+  it('a dialog keeps the focus: Tab and Shift+Tab cycle inside it, Escape closes it', async () => {
+    const { page } = app;
+    await onTree('M1');
+    await page.keyboard.press('Alt+a');
+    const dialog = page.getByRole('dialog', { name: 'Add an element on a port' });
+    await dialog.waitFor();
+    const seen: string[] = [];
+    for (let i = 0; i < 9; i++) {
+      await page.keyboard.press('Tab');
+      expect(await activeIn('[role="dialog"]')).toBe(true);
+      seen.push(await page.evaluate(() => `${document.activeElement?.tagName} ${document.activeElement?.textContent?.slice(0, 12)}`));
+    }
+    expect(new Set(seen).size).toBe(4); // Output, Kind, Add, Close, and round again
+    expect(seen.slice(4, 8)).toEqual(seen.slice(0, 4));
+    for (let i = 0; i < 5; i++) {
+      await page.keyboard.press('Shift+Tab');
+      expect(await activeIn('[role="dialog"]')).toBe(true);
+    }
+    // a click on the page behind is kept out; the focus stays in the dialog
+    await page.evaluate(() => document.querySelector<HTMLElement>('.tree [data-id="oven"]')?.focus());
+    expect(await activeIn('[role="dialog"]')).toBe(true);
+    await page.screenshot({ path: screenshotPath('safety-dialog-focus'), fullPage: false });
+    await page.keyboard.press('Escape');
+    await expect.poll(() => dialog.count()).toBe(0);
+
+    // the same for a dialog opened from the menu
+    await runMenu('Help', 'help.about');
+    const about = page.getByRole('dialog', { name: 'About Spinyard' });
+    await about.waitFor();
+    for (let i = 0; i < 3; i++) {
+      await page.keyboard.press('Tab');
+      expect(await activeIn('[role="dialog"]')).toBe(true);
+    }
+    await page.keyboard.press('Escape');
+    await expect.poll(() => about.count()).toBe(0);
+    // the palette keeps it too
+    await onTree('M1');
+    await page.keyboard.press('Control+k');
+    await page.keyboard.press('Tab');
+    expect(await page.evaluate(() => document.activeElement?.getAttribute('aria-label'))).toBe('Command');
+    await page.keyboard.press('Escape');
+  });
+
+  it('Escape in an inspector field takes back the typing and commits nothing', async () => {
+    const { page } = app;
+    await freshDocument();
+    const seq = Number(await page.locator('section.results').getAttribute('data-seq'));
+    await selectElement('D1');
+    const gap = page.locator('input[name="elements[2].gap"]');
+    await gap.click();
+    await gap.fill('77 cm');
+    await page.keyboard.press('Escape');
+    expect(await gap.inputValue()).toBe('40 cm');
+    await page.keyboard.press('Tab'); // leaving the field commits only what was typed since
+    await page.waitForTimeout(300);
+    expect(await docFile(page)).not.toContain('unsaved');
+    expect(await page.locator('section.results').getAttribute('data-seq')).toBe(String(seq));
+    await page.locator('[data-menu-button="Edit"]').click();
+    expect(await page.locator('[data-command="edit.undo"]').isDisabled()).toBe(true);
+    await page.keyboard.press('Escape');
+
+    // a refused entry: Escape goes back to what the field showed when the editing began
+    await selectElement('M2');
+    const roll = page.locator('input[name="elements[1].axis.roll"]');
+    await roll.fill('60');
+    await roll.press('Enter');
+    await page.locator('.inspector .field.invalid .field-error').waitFor();
+    await roll.fill('70 deg');
+    await page.keyboard.press('Escape');
+    expect(await roll.inputValue()).toBe('60');
+    await page.keyboard.press('Tab');
+    await page.waitForTimeout(300);
+    expect(await page.locator('.inspector .field.invalid').count()).toBe(1);
+    expect(await docFile(page)).not.toContain('unsaved');
+  });
+
+  it('the charts\' toolbars are one Tab stop each, usable with the arrow keys, and a skip control leads to the inspector', async () => {
+    const { page } = app;
+    await freshDocument();
+    await page.locator('[data-chart] .modebar').first().waitFor();
+    const charts = await page.locator('[data-chart]').count();
+    await expect.poll(() => page.locator('[data-chart] .modebar').count()).toBe(charts);
+    const stops = await page.locator('[data-chart]').evaluateAll((cs) => cs.map((c) => [...c.querySelectorAll<HTMLElement>('.modebar-btn')].filter((b) => b.tabIndex >= 0).length));
+    expect(stops).toEqual(Array(charts).fill(1));
+
+    // Tab from the skip control to the inspector: each toolbar is passed in one step
+    const skip = page.getByRole('button', { name: 'Skip the results: go to the inspector' });
+    await skip.focus();
+    await page.screenshot({ path: screenshotPath('safety-skip-link'), clip: { x: 0, y: 0, width: 1440, height: 700 } });
+    const visited: string[] = [];
+    for (let i = 0; i < 200 && !(await activeIn('.inspector')); i++) {
+      await page.keyboard.press('Tab');
+      visited.push(await page.evaluate(() => (document.activeElement?.classList.contains('modebar-btn') ? `modebar ${document.activeElement.closest('[data-chart]')?.getAttribute('data-chart')}` : 'other')));
+    }
+    expect(await activeIn('.inspector')).toBe(true);
+    const modebarStops = visited.filter((v) => v.startsWith('modebar'));
+    expect(modebarStops).toHaveLength(charts);
+    expect(new Set(modebarStops).size).toBe(charts);
+
+    // the skip control itself
+    await skip.focus();
+    await page.keyboard.press('Enter');
+    expect(await activeIn('.inspector')).toBe(true);
+
+    // arrows move along a toolbar; Enter presses the button the focus is on (Zoom in narrows the x range)
+    const chart = page.locator('[data-chart="counts"]');
+    await chart.locator('.modebar-btn[tabindex="0"]').focus();
+    const range = () => chart.evaluate((el) => JSON.stringify((el as unknown as { _fullLayout: { xaxis: { range: number[] } } })._fullLayout.xaxis.range));
+    const r0 = await range();
+    for (let i = 0; i < 2; i++) await page.keyboard.press('ArrowRight');
+    expect(await page.evaluate(() => document.activeElement?.getAttribute('data-title'))).toBe('Zoom in');
+    await page.screenshot({ path: screenshotPath('safety-toolbar-keyboard'), clip: (await chart.locator('xpath=ancestor::figure').boundingBox())! });
+    await page.keyboard.press('Enter');
+    await expect.poll(range).not.toBe(r0);
+    // the bar remembers the button last used as its Tab stop
+    expect(await chart.locator('.modebar-btn[tabindex="0"]').getAttribute('data-title')).toBe('Zoom in');
+    await page.keyboard.press('Home');
+    expect(await page.evaluate(() => document.activeElement?.getAttribute('data-title'))).toBe('Zoom');
+    await page.keyboard.press('End');
+    expect(await page.evaluate(() => document.activeElement?.getAttribute('data-title'))).toBe('Reset axes');
+    await page.keyboard.press('Enter');
+    await expect.poll(range).toBe(r0);
+  });
+});
+
 describe('the whole run', () => {
   it('sent no request off 127.0.0.1, opened no window and logged no page error', async () => {
     expect(app.requests.length).toBeGreaterThan(0);
