@@ -168,6 +168,20 @@ describe('nothing lost: replacing an edited document asks first', () => {
     expect(await docFile(page)).toContain('unsaved changes');
   });
 
+  it('a file the reader refuses is reported without the question, and the edited document stays', async () => {
+    const { page } = app;
+    const file = join(ROOT, 'test-results', 'safety-broken.spinyard');
+    writeFileSync(file, '{ "format": "spinyard.beamline", "version": 1, "oven": ');
+    const [chooser] = await Promise.all([page.waitForEvent('filechooser'), runMenu('File', 'file.open')]);
+    await chooser.setFiles(file);
+    const problems = page.getByRole('dialog', { name: 'safety-broken.spinyard was not opened' });
+    await problems.waitFor();
+    expect(await prompt(page).count()).toBe(0);
+    await page.keyboard.press('Escape');
+    expect(await page.locator('input[name="elements[3].gap"]').inputValue()).toBe('39 cm');
+    expect(await docFile(page)).toContain('unsaved changes');
+  });
+
   it('Ctrl+N asks while the document is unsaved and not when it is clean', async () => {
     const { page } = app;
     await page.locator('.tree [data-id="D2"]').first().focus();

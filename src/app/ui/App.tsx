@@ -29,6 +29,8 @@ import { Dialog } from './Dialog.tsx';
 import { Caution } from './Caution.tsx';
 import { SkipLink } from './SkipLink.tsx';
 
+type ReadOk = ReturnType<typeof readDocument> & { ok: true };
+
 function draftKey(): string {
   return `doc-${Date.now().toString(36)}-${Math.random().toString(36).slice(2, 8)}`;
 }
@@ -131,13 +133,8 @@ export function App({ host }: { host: Host }) {
     return () => clearTimeout(t);
   }, [dirty, text, key, name, host]);
 
-  /** Puts `hd` in the window (no question asked: replaceDocument is the way in for commands). */
-  const load = useCallback((hd: HostDocument, fromSample = false): boolean => {
-    const r = readDocument(hd.text);
-    if (!r.ok) {
-      setDialog({ kind: 'problems', title: `${hd.name} was not opened`, problems: r.problems });
-      return false;
-    }
+  /** Puts a document that was read (`r`, from `hd`) in the window; no question asked (openIn asks). */
+  const install = useCallback((hd: HostDocument, r: ReadOk, fromSample: boolean) => {
     setHistory(historyStart(r.doc));
     setLastResult(undefined); // results of another document are not shown for this one
     feed.reset(); // and this one runs even when its text equals the last one sent
@@ -149,7 +146,6 @@ export function App({ host }: { host: Host }) {
     setSelected('oven');
     if (r.warnings.length > 0) setNotice(`${hd.name}: ${r.warnings.map((w) => `${w.path}: ${w.message}`).join('; ')}`);
     else setNotice(undefined);
-    return true;
   }, [feed]);
 
   /**
@@ -180,19 +176,35 @@ export function App({ host }: { host: Host }) {
     });
   }, [host]);
 
+  /**
+   * Opens `hd` in this window: a document the reader refuses is reported and nothing is asked or
+   * replaced; else replaceDocument asks about unsaved work first. `then` runs once it is in.
+   */
+  const openIn = useCallback((what: string, hd: HostDocument, fromSample = false, then?: () => void) => {
+    const r = readDocument(hd.text);
+    if (!r.ok) {
+      setDialog({ kind: 'problems', title: `${hd.name} was not opened`, problems: r.problems });
+      return;
+    }
+    replaceDocument(what, () => {
+      install(hd, r, fromSample);
+      then?.();
+    });
+  }, [install, replaceDocument]);
+
   useEffect(() => {
     let live = true;
-    void host.initialDocument().then((d) => live && d && replaceDocument(`opening ${d.name}`, () => load(d))).catch(() => {});
+    void host.initialDocument().then((d) => live && d && openIn(`opening ${d.name}`, d)).catch(() => {});
     refreshRecent();
     void host.listSamples().then((s) => live && setSamples(s)).catch((e) => live && setNotice(`Samples: ${(e as Error).message}`));
     void host.loadAutosave().then((drafts) => live && drafts.length > 0 && setDialog({ kind: 'recover', drafts })).catch(() => {});
     const ac = new AbortController();
-    host.onOpenDocument((d) => replaceDocument(`opening ${d.name}`, () => load(d)), ac.signal);
+    host.onOpenDocument((d) => openIn(`opening ${d.name}`, d), ac.signal);
     return () => {
       live = false;
       ac.abort();
     };
-  }, [host, load, replaceDocument, refreshRecent]);
+  }, [host, openIn, refreshRecent]);
 
   // ---------------------------------------------------------------- edits
   /** Takes `next` when the document layer accepts it, with `label` for Undo and Redo; else returns the
@@ -262,15 +274,12 @@ export function App({ host }: { host: Host }) {
     },
     newDoc: async () => {
       if (await host.newWindow()) return;
-      replaceDocument('starting a new document', () => {
-        load({ name: 'untitled.spinyard', text: documentText(newDocument()) }, true);
-        setName(docName(newDocument()));
-      });
+      openIn('starting a new document', { name: 'untitled.spinyard', text: documentText(newDocument()) }, true, () => setName(docName(newDocument())));
     },
     open: async () => {
       try {
         const d = await host.openDocument();
-        if (d) replaceDocument(`opening ${d.name}`, () => load(d));
+        if (d) openIn(`opening ${d.name}`, d);
         refreshRecent();
       } catch (e) {
         fail('Cannot open the file', (e as Error).message);
@@ -296,7 +305,7 @@ export function App({ host }: { host: Host }) {
     openRecent: async (id) => {
       try {
         const d = await host.openRecent(id);
-        if (d) replaceDocument(`opening ${d.name}`, () => load(d));
+        if (d) openIn(`opening ${d.name}`, d);
         else setNotice('That recent document is gone (or opened in another window).');
         refreshRecent();
       } catch (e) {
@@ -306,7 +315,7 @@ export function App({ host }: { host: Host }) {
     openSample: async (s) => {
       try {
         const d = await host.readSample(s);
-        replaceDocument(`opening the sample ${d.name}`, () => load(d, true));
+        openIn(`opening the sample ${d.name}`, d, true);
       } catch (e) {
         fail('Cannot open the sample', (e as Error).message);
       }
@@ -490,9 +499,9 @@ export function App({ host }: { host: Host }) {
       </footer>
       {palette && <Palette entries={registry.entries(ctx)} platform={host.platform} isEnabled={isEnabled} run={run} close={() => setPalette(false)} />}
       {dialog && <AppDialog key={dialogSeq.current.n} d={dialog} close={() => setDialog(undefined)} api={api} selected={selected} line={line} doc={doc} actions={actions}
-        onRecover={(dr) => replaceDocument(`recovering ${dr.name}`, () => {
+        onRecover={(dr) => openIn(`recovering ${dr.name}`, { name: dr.name, text: dr.text, ...(dr.path ? { path: dr.path } : {}) }, false, () => {
           // the recovered work is in no file: it stays unsaved (the window's mark, the close prompt, autosave)
-          if (load({ name: dr.name, text: dr.text, ...(dr.path ? { path: dr.path } : {}) })) setSaved({ kind: 'recovered' });
+          setSaved({ kind: 'recovered' });
           void host.clearAutosave(dr.key).catch(() => {});
           setDialog(undefined);
         })}
