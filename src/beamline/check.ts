@@ -10,12 +10,13 @@ import { FIRST_SLIT_MIN_DISTANCE, LIMITS } from './limits.ts';
 import { abbreviate, listText, listedProblems, quote } from './messages.ts';
 import { type MigrationRegistry, beamlineMigrations, migrateDoc } from './migrations.ts';
 import { readOven } from './oven.ts';
+import { readStudies } from './studies.ts';
 import { type Obj, type QuantityRead, type ReadCtx, at, checkKeys, describe, full, isObj, problem, quantity, vec, warn } from './read.ts';
 import { type SpeciesResolver, readSpecies } from './speciesDoc.ts';
 import type { Beamline, BeamlineDoc, Element, Oven, ParseResult, Problem } from './types.ts';
 
 export const FORMAT = 'spinyard.beamline';
-export const TOP_KEYS = ['format', 'version', 'title', 'species', 'ambient', 'oven', 'elements'] as const;
+export const TOP_KEYS = ['format', 'version', 'title', 'species', 'ambient', 'oven', 'elements', 'scans', 'tolerances'] as const;
 export const RESERVED_IDS = ['stop', 'oven'] as const;
 
 /** "path: message" (or the message alone for the whole file). */
@@ -47,10 +48,13 @@ export function checkBeamline(json: unknown, resolver: SpeciesResolver, migratio
     else title = doc.title;
   }
   const sp = readSpecies({ problems, warnings }, doc.species, resolver);
-  const ctx: ReadCtx = { problems, warnings, species: sp?.species, quantities };
+  // the studies name the line's quantities: record them when the document keeps any (or the caller asks)
+  const read = quantities ?? (doc.scans !== undefined || doc.tolerances !== undefined ? [] : undefined);
+  const ctx: ReadCtx = { problems, warnings, species: sp?.species, quantities: read };
   const ambient = doc.ambient === undefined ? { x: 0, y: 0, z: 0 } : vec(ctx, doc, 'ambient', 'field', '', LIMITS.field);
   const oven = readOven(ctx, doc.oven);
   const elements = readElements(ctx, doc.elements);
+  const studies = read && oven && elements && !problems.length ? readStudies(ctx, doc, read, elements.map((e) => e.id)) : {};
 
   if (oven && elements && checkRouting(ctx, oven.to, elements)) checkFirstSlits(ctx, oven, elements);
   if (problems.length || !sp || !oven || !elements || !ambient) {
@@ -58,7 +62,7 @@ export function checkBeamline(json: unknown, resolver: SpeciesResolver, migratio
   }
   // the normalized line is frozen: the engine keeps what it derives from it by identity, so a line changed in
   // place would read stale results; a change makes a new line (edits, scans), and assigning into one throws
-  const line: Beamline = deepFreeze({ title, species: sp.ref, oven, ambient, elements });
+  const line: Beamline = deepFreeze({ title, species: sp.ref, oven, ambient, elements, ...studies });
   return { ok: true, doc: doc as unknown as BeamlineDoc, line, warnings: listedProblems(warnings, 'warnings') };
 }
 

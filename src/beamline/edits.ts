@@ -9,6 +9,7 @@
  *     U ──port──▶ D                  addElementOnPort(U, port, kind):  U ──port──▶ N ──to──▶ D
  *                                    (N a magnet: all its ports "*" → stop; N a detector: a leaf)
  */
+import { namesElement } from './studies.ts';
 import { KINDS, isKind } from './elements/registry.ts';
 import { RESERVED_IDS } from './check.ts';
 import { type Group, type LabelSpecies, isHyperfine, portLabels } from './labels.ts';
@@ -188,7 +189,7 @@ export function deleteElement(doc: BeamlineDoc, id: string): EditResult {
   const el = doc.elements[i];
   let down = el.kind === 'magnet' || el.kind === 'detector' ? 'stop' : el.to;
   if (down === id) down = 'stop';
-  const without = { ...doc, elements: doc.elements.filter((_, k) => k !== i) };
+  const without = studiesWithout({ ...doc, elements: doc.elements.filter((_, k) => k !== i) }, id);
   return { ok: true, doc: retarget(without, id, down) };
 }
 
@@ -222,7 +223,27 @@ export function renameElement(doc: BeamlineDoc, oldId: string, newId: string): E
   if (bad) return { ok: false, message: bad };
   const elements = [...doc.elements];
   elements[i] = { ...elements[i], id: newId };
-  return { ok: true, doc: retarget({ ...doc, elements }, oldId, newId), id: newId };
+  return { ok: true, doc: retarget(studiesRenamed({ ...doc, elements }, oldId, newId), oldId, newId), id: newId };
+}
+
+/** The stored scans and tolerances with the parameters of element `oldId` named after `newId`. */
+function studiesRenamed(doc: BeamlineDoc, oldId: string, newId: string): BeamlineDoc {
+  const rename = (p: string) => (typeof p === 'string' && namesElement(p, oldId) ? newId + p.slice(oldId.length) : p);
+  const out = { ...doc };
+  if (Array.isArray(doc.scans)) out.scans = doc.scans.map((s) => (s && Array.isArray(s.parameters) ? { ...s, parameters: s.parameters.map((a) => ({ ...a, parameter: rename(a.parameter) })) } : s));
+  if (Array.isArray(doc.tolerances)) out.tolerances = doc.tolerances.map((t) => (t ? { ...t, parameter: rename(t.parameter) } : t));
+  return out;
+}
+
+/** The stored scans and tolerances without those that name a parameter of the deleted element `id`. */
+function studiesWithout(doc: BeamlineDoc, id: string): BeamlineDoc {
+  const names = (p: unknown) => typeof p === 'string' && namesElement(p, id);
+  const out = { ...doc };
+  if (Array.isArray(doc.scans)) out.scans = doc.scans.filter((s) => !(s && Array.isArray(s.parameters) && s.parameters.some((a) => names(a?.parameter))));
+  if (Array.isArray(doc.tolerances)) out.tolerances = doc.tolerances.filter((t) => !names(t?.parameter));
+  if (out.scans?.length === 0) delete out.scans;
+  if (out.tolerances?.length === 0) delete out.tolerances;
+  return out;
 }
 
 // ---------------------------------------------------------------- outputs of the document

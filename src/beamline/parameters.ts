@@ -8,12 +8,14 @@
  */
 import { checkBeamline, rereadBeamline } from './check.ts';
 import { readBeamlineText } from './text.ts';
+import { parameterName } from './studies.ts';
 import { type SpeciesResolver, readSpecies } from './speciesDoc.ts';
 import { beamlineMigrations } from './migrations.ts';
 import type { QuantityRead } from './read.ts';
 import type { Beamline, BeamlineDoc, Problem } from './types.ts';
 import { ATOMIC_MASS_UNIT_KG, type Dimension } from './units.ts';
 import type { LabelSpecies } from './labels.ts';
+import { quote } from './messages.ts';
 
 /** One parameter of a line. */
 export interface ParameterSlot {
@@ -59,14 +61,6 @@ export interface ParameterizedLine {
 
 export type ParameterizeResult = { ok: true; value: ParameterizedLine } | { ok: false; problems: Problem[] };
 
-/** The name of the quantity at a JSON path: "elements[2].axis.roll" → "M2.axis.roll". */
-function nameOf(path: string, ids: readonly string[]): string {
-  const m = /^elements\[(\d+)\](.*)$/.exec(path);
-  if (!m) return path;
-  const id = ids[Number(m[1])];
-  return id === undefined ? path : `${id}${m[2]}`;
-}
-
 /** Read a document (its text, or parsed JSON) and list its parameters. */
 export function parameterize(input: string | object, resolver: SpeciesResolver): ParameterizeResult {
   const quantities: QuantityRead[] = [];
@@ -77,7 +71,7 @@ export function parameterize(input: string | object, resolver: SpeciesResolver):
   const byName = new Map<string, ParameterSlot>();
   for (const q of quantities) {
     const slot: ParameterSlot = {
-      name: nameOf(q.path, ids), path: q.path, dimension: q.dimension, value: q.value,
+      name: parameterName(q.path, ids), path: q.path, dimension: q.dimension, value: q.value,
       unit: DISPLAY_UNITS[q.dimension].unit, ...(q.written === undefined ? {} : { written: q.written }),
     };
     if (byName.has(slot.path)) continue;
@@ -110,7 +104,7 @@ export function lineWithValues(p: ParameterizedLine, values: ReadonlyMap<string,
   const problems: Problem[] = [];
   for (const [name, v] of entries) {
     const slot = p.byName.get(name);
-    if (!slot) problems.push({ path: name, message: `no parameter ${JSON.stringify(name)} in this line (${parameterHint(p, name)})` });
+    if (!slot) problems.push({ path: name, message: `no parameter ${quote(name)} in this line (${parameterHint(p, name)})` });
     else if (!Number.isFinite(v)) problems.push({ path: slot.path, message: `${slot.name} must be a finite number, got ${v}` });
     else byPath.set(slot.path, v);
   }

@@ -48,7 +48,16 @@ export interface Detector extends Base { kind: 'detector'; efficiency: number; b
   window?: Rect }
 export type Element = Magnet | Rotator | FieldRegion | Twist | RfFlipper | Recombiner | Slit | Detector;
 export type ElementKind = Element['kind'];
-export interface Beamline { title: string; species: SpeciesRef; oven: Oven; ambient: Vec3; elements: readonly Element[] }
+/** A stored scan: one or two parameters (by name and JSON path), each from → to (SI) in `points` values. */
+export interface ScanStudy { readonly title: string; readonly axes: readonly { readonly name: string; readonly path: string; readonly from: number;
+  readonly to: number; readonly points: number; readonly spacing: 'linear' | 'log' }[] }
+/** A set-point's tolerance: ± halfWidth (SI) about its value, uniform, or normal with σ = halfWidth. */
+export interface ToleranceStudy { readonly name: string; readonly path: string; readonly halfWidth: number; readonly distribution: 'uniform' | 'normal' }
+export interface Beamline { title: string; species: SpeciesRef; oven: Oven; ambient: Vec3; elements: readonly Element[];
+  /** The document's stored scans (absent when it keeps none). */
+  scans?: readonly ScanStudy[];
+  /** The document's tolerances (absent when it keeps none). */
+  tolerances?: readonly ToleranceStudy[] }
 
 // ---------------------------------------------------------------- raw document (as written)
 /** A quantity as written: a string with a unit, or (dimensionless only) a JSON number. */
@@ -85,6 +94,8 @@ export interface SlitDoc extends BaseDoc { kind: 'slit'; width: QuantityDoc; hei
 export interface DetectorDoc extends BaseDoc { kind: 'detector'; efficiency?: QuantityDoc; background?: QuantityDoc; dwell?: QuantityDoc;
   window?: RectDoc }
 export type ElementDoc = MagnetDoc | RotatorDoc | FieldDoc | TwistDoc | RfDoc | RecombinerDoc | SlitDoc | DetectorDoc;
+export interface ScanDoc { title?: string; parameters: { parameter: string; from: QuantityDoc; to: QuantityDoc; points: number; spacing?: 'linear' | 'log' }[] }
+export interface ToleranceDoc { parameter: string; halfWidth: QuantityDoc; distribution?: 'uniform' | 'normal' }
 export interface BeamlineDoc {
   format: 'spinyard.beamline';
   version: number;
@@ -93,6 +104,8 @@ export interface BeamlineDoc {
   ambient?: VecDoc;
   oven: OvenDoc;
   elements: ElementDoc[];
+  scans?: ScanDoc[];
+  tolerances?: ToleranceDoc[];
 }
 
 /** Result of reading a document: the raw doc and the normalized line, or every problem found. */

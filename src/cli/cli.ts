@@ -17,6 +17,7 @@ import { type Paper, isSameFile, outputFormatOf } from './output.ts';
 import { withPaper } from './pdf.ts';
 import { readBeamlineFile } from './readFile.ts';
 import { SCAN_OPTIONS, cmdScanWith } from './scan.ts';
+import { BUDGET_OPTIONS, cmdBudgetWith } from './budget.ts';
 import { type CliOutput, bad, ok, quickAnswer } from './quick.ts';
 import { COMMAND_HELP, USAGE } from './usage.ts';
 
@@ -115,6 +116,12 @@ function cmdScan(argv: readonly string[]): CliOutput {
   return cmdScanWith(file, text.text, c.args.options, c.args.lists);
 }
 
+function cmdBudget(argv: readonly string[]): CliOutput {
+  const f = fileCommand('budget', argv, [...BUDGET_OPTIONS]);
+  if (f.out) return f.out;
+  return cmdBudgetWith(f.file, f.text, f.options);
+}
+
 function cmdValidate(argv: readonly string[]): CliOutput {
   const f = fileCommand('validate', argv);
   if (f.out) return f.out;
@@ -162,6 +169,7 @@ export const COMMANDS: Readonly<Record<string, (argv: readonly string[]) => CliO
   run: cmdRun,
   sheet: cmdSheet,
   scan: cmdScan,
+  budget: cmdBudget,
   validate: cmdValidate,
   levels: cmdLevels,
   species: cmdSpecies,

@@ -3,7 +3,7 @@
  * the line evaluated over one parameter or the grid of two (src/engine/scan.ts). The k-th --from, --to, --points
  * and --log belong to the k-th --param.
  */
-import { compile, parameter, parameterValue, scan, scanCsv, type ScanAxis, type ScanResult } from '../engine/index.ts';
+import { compile, parameter, parameterValue, scan, scanCsv, type Plan, type ScanAxis, type ScanResult } from '../engine/index.ts';
 import { RunError } from '../engine/index.ts';
 import { DISPLAY_UNITS } from '../beamline/index.ts';
 import { alignTable, formatNumber } from './format.ts';
@@ -19,6 +19,7 @@ export const SCAN_OPTIONS = [
   { name: 'json', value: false },
   { name: 'csv', value: false },
   { name: 'output', value: true, short: 'o' },
+  { name: 'stored', value: true },
 ] as const;
 
 const err = (m: string) => bad(`spinyard scan: ${m}`, 'Run "spinyard scan --help" for its use.');
@@ -64,7 +65,6 @@ export function scanText(r: ScanResult, file: string): string {
 
 export function cmdScanWith(file: string, text: string, options: Record<string, unknown>, lists: Record<string, string[]>): CliOutput {
   const params = lists.param ?? [];
-  if (!params.length) return err('missing --param, the parameter to scan (e.g. --param M2.axis.roll); "spinyard scan FILE --param list" lists them');
   if (params.length > 2) return err(`--param is given ${params.length} times; a scan takes one or two parameters`);
   const c = compile(text);
   if (!c.ok) return bad(`${file}: not a valid beamline (${c.problems.length} problem${c.problems.length === 1 ? '' : 's'}):`, ...c.problems.map((p) => `  ${p}`));
@@ -74,6 +74,18 @@ export function cmdScanWith(file: string, text: string, options: Record<string, 
     for (const s of plan.parameters) rows.push([s.name, `${formatNumber(s.value / DISPLAY_UNITS[s.dimension].factor, 6)}${s.unit ? ` ${s.unit}` : ''}`, s.written === undefined ? '(default)' : String(s.written), s.path]);
     return ok(`${alignTable(rows, [false, true, false, false])}\n`);
   }
+  const stored = plan.line.scans ?? [];
+  if (!params.length) {
+    if (!stored.length) return err('missing --param, the set-point to scan (e.g. --param M2.axis.roll); "spinyard scan FILE --param list" lists them, and a scan kept in the document runs without one');
+    const which = options.stored;
+    const k = typeof which === 'string' ? Number(which) : stored.length === 1 ? 1 : NaN;
+    if (!Number.isInteger(k) || k < 1 || k > stored.length) {
+      const list = stored.map((s, i) => `  ${i + 1}: ${s.title || s.axes.map((a) => a.name).join(' × ')}`);
+      return bad(`spinyard scan: ${typeof which === 'string' ? `--stored ${which}: ` : ''}${file} keeps ${stored.length} scans; choose one with --stored N:`, ...list);
+    }
+    return scanOutput(plan, stored[k - 1].axes, file, options);
+  }
+  if (options.stored !== undefined) return err('--stored and --param: a stored scan has its own parameters; give one or the other');
   const n = params.length;
   for (const k of ['from', 'to', 'points'] as const) {
     const got = lists[k]?.length ?? 0;
@@ -93,6 +105,10 @@ export function cmdScanWith(file: string, text: string, options: Record<string, 
     if (e instanceof RunError) return err(e.message);
     throw e;
   }
+  return scanOutput(plan, axes, file, options);
+}
+
+function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options: Record<string, unknown>): CliOutput {
   if (options.json && options.csv) return err('--json and --csv: choose one');
   let r: ScanResult;
   try {

@@ -8,6 +8,8 @@ Usage:
                                       the setup sheet of the line: printable HTML on stdout, or a file
   spinyard scan FILE --param NAME --from A --to B --points N [--json|--csv] [-o OUT]
                                       the line over one set-point (or a grid of two): yields, counts
+  spinyard budget FILE [--draws N] [--seed S] [--json] [-o OUT]
+                                      tolerance budget: which set-point's tolerance moves which detector
   spinyard validate FILE              check a beamline file; list every problem as "path: message"
   spinyard levels NAME --field B [--json]
                                       energies (Hz) and moments (μB) of a library species at field B
@@ -71,10 +73,29 @@ or θ and φ). "spinyard scan FILE --param list" lists every set-point of FILE w
   --json           the scan as JSON (format spinyard.scan, version 1)
   --csv            the scan as CSV, one row per point, units in the header
   -o, --output OUT write the output to OUT (atomically; never over FILE) instead of stdout
+  --stored N       run the N-th scan kept in the document ("scans"); without --param a document
+                   that keeps one scan runs it
 
 A value the document's reader refuses (a bound, a first slit moved onto the oven) leaves that point
 without a result and says why; the other points are computed. The k-th --from, --to and --points
 belong to the k-th --param.
+`,
+  budget: `Usage: spinyard budget FILE [--draws N] [--seed S] [--json] [-o OUT]
+
+The tolerance budget of the line in FILE, from the tolerances the document keeps:
+  "tolerances": [ {"parameter": "M2.axis.roll", "halfWidth": "0.5 deg", "distribution": "uniform"}, … ]
+(a set-point by id and key, as for spinyard scan; uniform within ± halfWidth, or normal with σ = halfWidth).
+
+For every detector's signal (counts/s, background excluded) it prints the sensitivity to each tolerance
+(central differences at ±σ and ±σ/2, Richardson-extrapolated, with an error estimate), the combined
+first-order σ (root sum of squares), a Monte Carlo over all tolerances at once (mean, σ, 5 % and 95 %
+quantiles), a note where the two disagree (the signal is not linear over the tolerances), and the
+(detector, tolerance) pairs ranked by their relative effect.
+
+  --draws N   Monte Carlo draws (default 1000; 0 for the first-order budget only)
+  --seed S    the generator's seed (default 1): the same seed gives the same figures
+  --json      the budget as JSON (format spinyard.budget, version 1)
+  -o OUT      write the output to OUT (atomically; never over FILE)
 `,
   validate: `Usage: spinyard validate FILE
 
@@ -97,6 +118,6 @@ g_I, A, B, mass, abundance, vapour pressure) with its source, then its cautions 
 `,
   help: `Usage: spinyard help [COMMAND]
 
-Prints the overview, or the help of COMMAND (run, sheet, scan, validate, levels, species).
+Prints the overview, or the help of COMMAND (run, sheet, scan, budget, validate, levels, species).
 `,
 };

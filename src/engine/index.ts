@@ -8,3 +8,5 @@ export { runScan, withParameter, type ScanSpec, scan, scanPoint, scanParameters,
 export { compile, evaluate, lineAt, parameter, parameterValue, type Plan, type CompileResult, type ParameterSlot } from './plan.ts';
 export { engineCacheStats, clearEngineCaches, type CacheStats } from './session.ts';
 export { countsIn, countSigma, signalToBackground, timeToPrecision } from './counting.ts';
+export { budget, quantile, MAX_BUDGET_DRAWS, type BudgetResult, type BudgetTolerance, type BudgetDetector, type Sensitivity, type BudgetOptions } from './budget.ts';
+export { Random } from './random.ts';

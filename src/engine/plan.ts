@@ -7,6 +7,7 @@
  * oven's state, magnet sortings, velocity grids) serves every evaluation.
  */
 import { formatProblem } from '../beamline/index.ts';
+import { quote } from '../beamline/messages.ts';
 import { type ParameterSlot, type ParameterizedLine, lineWithValues, parameterize, parameterHint, DISPLAY_UNITS } from '../beamline/parameters.ts';
 import { librarySpecies } from '../beamline/validate.ts';
 import { dimensionName, parseQuantity, isProblem } from '../beamline/units.ts';
@@ -42,7 +43,7 @@ export function compile(input: string | object, resolver: SpeciesResolver = libr
 /** A parameter by its name ("M2.axis.roll") or its JSON path; a RunError naming the line's parameters when there is none. */
 export function parameter(plan: Plan, name: string): ParameterSlot {
   const s = plan.source.byName.get(name);
-  if (!s) throw new RunError(`no parameter "${name}" in this line (${parameterHint(plan.source, name)})`);
+  if (!s) throw new RunError(`no parameter ${quote(name)} in this line (${parameterHint(plan.source, name)})`);
   return s;
 }
 

@@ -243,7 +243,7 @@ function axisWarning(path: string, n: Vec3): string | null {
 const sortCache = new BoundedCache<string, Sorting>('magnet sortings', 256);
 const sortByElement = new IdentityCache<Magnet | Recombiner, Map<string, Sorting>>('magnet sortings by element');
 /** The states a port selects from a state, kept with that state (a scan's points share the states before the change). */
-const selections = new CacheFamily('port selections per state', 32);
+const selections = new CacheFamily('port selections per state', 64);
 
 function getSorting(ctx: WalkCtx, e: Magnet | Recombiner): Sorting {
   let byName = sortByElement.get(e);

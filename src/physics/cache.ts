@@ -69,6 +69,7 @@ export class BoundedCache<K, V> implements Registered {
 
   clear(): void {
     this.map.clear();
+    this.hits = this.misses = this.evictions = 0;
   }
 
   stats(): CacheStats {
@@ -99,7 +100,9 @@ export class CacheFamily implements Registered {
     }
   }
 
-  clear(): void {}
+  clear(): void {
+    this.hits = this.misses = this.evictions = 0;
+  }
 
   stats(): CacheStats {
     return { name: this.name, size: -1, bound: this.bound, hits: this.hits, misses: this.misses, evictions: this.evictions };
@@ -140,6 +143,7 @@ export class IdentityCache<K extends object, V> implements Registered {
 
   clear(): void {
     this.map = new WeakMap();
+    this.hits = this.misses = this.made = 0;
   }
 
   stats(): CacheStats {
@@ -152,7 +156,7 @@ export function cacheStats(): CacheStats[] {
   return registry.map((c) => c.stats());
 }
 
-/** Empty every registered cache (results are the same afterwards, computed again). */
+/** Empty every registered cache and zero its counts (results are the same afterwards, computed again). */
 export function clearCaches(): void {
   for (const c of registry) c.clear();
 }

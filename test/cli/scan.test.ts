@@ -54,7 +54,7 @@ describe('spinyard scan FILE', () => {
 
   it('names what is wrong, with exit 2 and nothing on stdout', () => {
     const cases: [string[], RegExp][] = [
-      [['scan', C], /missing --param/],
+      [['scan', new URL('../../samples/bench-a-spin32-rotator.spinyard', import.meta.url).pathname], /missing --param/],
       [['scan', C, '--param', 'M2.axis.rol', '--from', '0', '--to', '1', '--points', '2'], /no parameter "M2\.axis\.rol".*M2\.axis\.roll/],
       [['scan', C, '--param', 'M2.axis.roll', '--from', '0 mm', '--to', '1 deg', '--points', '2'], /--from: expected an angle/],
       [['scan', C, '--param', 'M2.axis.roll', '--from', '0 deg', '--to', '1 deg'], /--points is given 0 times for 1 --param/],
@@ -78,5 +78,24 @@ describe('spinyard scan FILE', () => {
     expect(out.stdout).toBe(`${target}: scan (CSV) of ${C}\n`);
     expect(readFileSync(target, 'utf8')).toBe(runCli(['scan', C, ...roll, '--csv']).stdout);
     expect(existsSync(join(dir, 'roll.csv.part'))).toBe(false);
+  });
+});
+
+describe('spinyard scan FILE with a scan kept in the document', () => {
+  it('runs the document\'s scan without --param', () => {
+    const out = runCli(['scan', C, '--csv']);
+    expect(out.stderr).toBe('');
+    const rows = out.stdout.trimEnd().split('\r\n');
+    // bench C keeps "analyser roll, 0 to 180 deg": M2.axis.roll in 37 points
+    expect(rows).toHaveLength(38);
+    expect(rows[0].startsWith('M2.axis.roll [deg],')).toBe(true);
+    expect(rows[37].split(',')[0]).toBe('180');
+  });
+
+  it('refuses --stored beside --param, and a number past the list', () => {
+    expect(runCli(['scan', C, ...roll, '--stored', '1']).stderr).toMatch(/--stored and --param/);
+    const out = runCli(['scan', C, '--stored', '2']);
+    expect(out.code).toBe(2);
+    expect(out.stderr).toMatch(/--stored 2: .* keeps 1 scans; choose one with --stored N:\n {2}1: analyser roll, 0 to 180 deg/);
   });
 });

@@ -1,0 +1,37 @@
+/** `spinyard budget`: the text, JSON, messages and -o. */
+import { describe, expect, it } from 'vitest';
+import { runCli } from '../../src/cli/cli.ts';
+
+const C = new URL('../../samples/bench-c-roll-calibration.spinyard', import.meta.url).pathname;
+const A = new URL('../../samples/bench-a-spin32-rotator.spinyard', import.meta.url).pathname;
+
+describe('spinyard budget FILE', () => {
+  it('prints the tolerances, each detector\'s first-order and Monte Carlo spread, and the ranked effects', () => {
+    const out = runCli(['budget', C, '--draws', '200']);
+    expect(out.stderr).toBe('');
+    expect(out.code).toBe(0);
+    expect(out.stdout).toMatch(/M2\.axis\.roll\s+30 deg\s+±0\.5 deg uniform\s+0\.289 deg\s+central/);
+    expect(out.stdout).toMatch(/^\s+D1\s+8\.397e8\s+4\.34e7 \(5\.2 %\)/m);
+    expect(out.stdout).toMatch(/Which tolerance moves which detector most/);
+    expect(out.stdout).toMatch(/Monte Carlo: 200 draws, seed 1\./);
+  });
+
+  it('gives JSON that repeats for a seed', () => {
+    const a = runCli(['budget', C, '--draws', '100', '--seed', '9', '--json']);
+    expect(JSON.parse(a.stdout).format).toBe('spinyard.budget');
+    expect(runCli(['budget', C, '--draws', '100', '--seed', '9', '--json']).stdout).toBe(a.stdout);
+  });
+
+  it('names what is wrong', () => {
+    for (const [argv, msg] of [
+      [['budget', A], /no tolerances/],
+      [['budget', C, '--draws', 'many'], /--draws: a whole number/],
+      [['budget', C, '--seed', '-1'], /--seed: a whole number/],
+      [['budget', C, '-o', C], /never written over its document/],
+    ] as [string[], RegExp][]) {
+      const out = runCli(argv);
+      expect(out.code, argv.join(' ')).toBe(2);
+      expect(out.stderr).toMatch(msg);
+    }
+  });
+});
