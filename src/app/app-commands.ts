@@ -44,6 +44,8 @@ export interface AppApi {
   selectStep(d: number): void;
   cancelRun(): void;
   exportCsv(): void;
+  /** Closes the window (the shell asks about unsaved work; a browser tab says how to close it). */
+  close(): void;
   /** The setup sheet to the printer, or as a PDF file. */
   printSheet(pdf: boolean): Promise<void>;
   focusPane(name: 'tree' | 'inspector' | 'results'): void;
@@ -108,7 +110,7 @@ export function buildCommands(): Command<AppCtx>[] {
     { id: 'file.saveAs', label: 'Save As…', menu: 'File', shortcut: 'CmdOrCtrl+Shift+S', global: true, perform: async (c) => void (await c.app.save(true)) },
     { id: 'file.print', label: 'Print Setup Sheet…', menu: 'File', shortcut: 'CmdOrCtrl+P', perform: (c) => c.app.printSheet(false) },
     { id: 'file.exportPdf', label: 'Export Setup Sheet as PDF…', menu: 'File', perform: (c) => c.app.printSheet(true) },
-    { id: 'file.close', label: 'Close', menu: 'File', perform: () => window.close() },
+    { id: 'file.close', label: 'Close', menu: 'File', perform: (c) => c.app.close() },
     { id: 'edit.undo', label: 'Undo', menu: 'Edit', shortcut: 'CmdOrCtrl+Z', describe: (c) => named('Undo', undoLabel(c.app.history)), enabled: (c) => canUndo(c.app.history), perform: (c) => c.app.undo() },
     { id: 'edit.redo', label: 'Redo', menu: 'Edit', shortcut: 'Ctrl+Y', alternates: ['Ctrl+Shift+Z', 'Cmd+Shift+Z'], describe: (c) => named('Redo', redoLabel(c.app.history)), enabled: (c) => canRedo(c.app.history), perform: (c) => c.app.redo() },
     { id: 'edit.palette', label: 'Command Palette…', menu: 'Edit', shortcut: 'CmdOrCtrl+K', global: true, perform: (c) => c.app.palette() },

@@ -195,6 +195,16 @@ describe('nothing lost: replacing an edited document asks first', () => {
     expect(await prompt(page).count()).toBe(0);
   });
 
+  it('File → Close in a browser tab keeps the document and says how the tab closes', async () => {
+    const { page } = app;
+    await selectElement('D2');
+    await commitField('elements[3].gap', '38 cm');
+    await runMenu('File', 'file.close');
+    await expect.poll(() => page.getByRole('status').filter({ hasText: 'Close this tab in the browser' }).count()).toBe(1);
+    expect(page.isClosed()).toBe(false);
+    expect(await page.locator('input[name="elements[3].gap"]').inputValue()).toBe('38 cm');
+  });
+
   it('a draft recovered at start-up is marked unsaved, and replacing it asks', async () => {
     const { page } = app;
     await freshDocument();

@@ -357,6 +357,11 @@ export function App({ host }: { host: Host }) {
       document.querySelector<HTMLElement>(`.tree [data-id="${CSS.escape(next)}"]`)?.focus();
     },
     cancelRun: () => client.cancel(),
+    close: () => {
+      window.close(); // Electron: the shell's close, with its question about unsaved work
+      // a browser closes only a tab a script opened: say how this one closes (its own prompt guards unsaved work)
+      if (host.kind === 'browser') setTimeout(() => !window.closed && setNotice('Close this tab in the browser to close Spinyard; the browser asks first if anything is unsaved.'), 200);
+    },
     exportCsv: async () => {
       if (!result || eps === undefined) return;
       const rows = portRows(result, dwellById(line.elements as never), eps);
