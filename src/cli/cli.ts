@@ -18,6 +18,7 @@ import { withPaper } from './pdf.ts';
 import { readBeamlineFile } from './readFile.ts';
 import { SCAN_OPTIONS, cmdScanWith } from './scan.ts';
 import { BUDGET_OPTIONS, cmdBudgetWith } from './budget.ts';
+import { FIT_OPTIONS, cmdFitWith } from './fit.ts';
 import { type CliOutput, bad, ok, quickAnswer } from './quick.ts';
 import { COMMAND_HELP, USAGE } from './usage.ts';
 
@@ -122,6 +123,12 @@ function cmdBudget(argv: readonly string[]): CliOutput {
   return cmdBudgetWith(f.file, f.text, f.options);
 }
 
+function cmdFit(argv: readonly string[]): CliOutput {
+  const f = fileCommand('fit', argv, [...FIT_OPTIONS]);
+  if (f.out) return f.out;
+  return cmdFitWith(f.file, f.text, f.options);
+}
+
 function cmdValidate(argv: readonly string[]): CliOutput {
   const f = fileCommand('validate', argv);
   if (f.out) return f.out;
@@ -170,6 +177,7 @@ export const COMMANDS: Readonly<Record<string, (argv: readonly string[]) => CliO
   sheet: cmdSheet,
   scan: cmdScan,
   budget: cmdBudget,
+  fit: cmdFit,
   validate: cmdValidate,
   levels: cmdLevels,
   species: cmdSpecies,

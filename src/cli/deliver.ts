@@ -38,6 +38,6 @@ export async function deliver(out: CliOutput, opts: DeliverOptions = {}): Promis
   } catch (e) {
     return { code: 1, stdout: '', stderr: `spinyard ${command}: ${writeFailure(f.path, e)}\n` };
   }
-  if (f.format === 'text') return { code: 0, stdout: `${f.path}: ${f.what ?? 'output'} of ${f.input}\n`, stderr: out.stderr };
+  if (f.format === 'text') return { code: 0, stdout: `${out.stdout}${f.path}: ${f.what ?? 'output'} of ${f.input}\n`, stderr: out.stderr };
   return { code: 0, stdout: `${f.path}: setup sheet of ${f.input} (${f.format === 'pdf' ? `PDF${printedBy}` : 'HTML'})\n`, stderr: out.stderr };
 }

@@ -10,6 +10,8 @@ Usage:
                                       the line over one set-point (or a grid of two): yields, counts
   spinyard budget FILE [--draws N] [--seed S] [--json] [-o OUT]
                                       tolerance budget: which set-point's tolerance moves which detector
+  spinyard fit FILE --data counts.csv --free NAME,… [--json] [-o fitted.spinyard]
+                                      fit set-points (and the oven state) to measured counts
   spinyard validate FILE              check a beamline file; list every problem as "path: message"
   spinyard levels NAME --field B [--json]
                                       energies (Hz) and moments (μB) of a library species at field B
@@ -18,8 +20,8 @@ Usage:
   spinyard --version                  the version
 
 Every command also takes --help. Exit codes: 0 success, 2 invalid input (messages on stderr,
-nothing on stdout), 1 internal error. No command changes a file; only -o writes one (sheet, scan),
-the file it is given.
+nothing on stdout), 1 internal error. No command changes a file; only -o writes one (sheet, scan,
+budget, fit), the file it is given.
 `;
 
 export const COMMAND_HELP: Readonly<Record<string, string>> = {
@@ -97,6 +99,29 @@ quantiles), a note where the two disagree (the signal is not linear over the tol
   --json      the budget as JSON (format spinyard.budget, version 1)
   -o OUT      write the output to OUT (atomically; never over FILE)
 `,
+  fit: `Usage: spinyard fit FILE --data counts.csv --free NAME[=LO..HI],…[,oven.state] [--json] [-o fitted.spinyard]
+
+Fits set-points of the line in FILE to measured counts by Poisson maximum likelihood: the expected
+counts of a reading are (signal + background) × dwell at its set-points.
+
+The data is a CSV file, one row per detector reading (lines starting with # are skipped):
+  detector,counts,dwell [s],M3.axis.roll [deg]
+  D1,84113,10,0
+"detector" is an id of the line, "counts" a whole number; "dwell [unit]" is optional (else the
+detector's dwell); every other column is a set-point that differs between readings, named as a
+parameter of the line (spinyard scan FILE --param list) with its unit in brackets.
+
+  --free LIST   the set-points to fit, separated by commas, each optionally with bounds
+                NAME=LO..HI ("M2.axis.roll=0 deg..90 deg"); oven.state fits the oven's populations
+                of its zero-field states (along the state's axis, else z), kept ≥ 0 and summing to 1
+  --json        the fit as JSON (format spinyard.fit, version 1)
+  -o OUT        also write the document with the fitted values to OUT (atomically; never over
+                FILE or the data)
+
+Prints the fitted values with σ from the Fisher information, profile-likelihood intervals (where the
+deviance rises by 1; marked when asymmetric), the correlations, the deviance with its χ² p-value and
+every reading's residual.
+`,
   validate: `Usage: spinyard validate FILE
 
 Checks FILE against the beamline format (spinyard.beamline, version 1) without running it. Prints
@@ -118,6 +143,6 @@ g_I, A, B, mass, abundance, vapour pressure) with its source, then its cautions 
 `,
   help: `Usage: spinyard help [COMMAND]
 
-Prints the overview, or the help of COMMAND (run, sheet, scan, budget, validate, levels, species).
+Prints the overview, or the help of COMMAND (run, sheet, scan, budget, fit, validate, levels, species).
 `,
 };

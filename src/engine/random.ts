@@ -4,6 +4,8 @@
  * pseudorandom number generators", ACM TOMS 47 (2021) 36; the authors' public-domain reference code), its state
  * filled from the seed by SplitMix32 steps (as the authors advise, a seed is never used as a state directly).
  */
+import { lnGamma } from '../physics/special.ts';
+
 export class Random {
   private a: number;
   private b: number;
@@ -69,6 +71,35 @@ export class Random {
     const r = Math.sqrt(-2 * Math.log(u));
     this.spare = r * Math.sin(2 * Math.PI * v);
     return r * Math.cos(2 * Math.PI * v);
+  }
+
+  /**
+   * A Poisson count of mean `mu` (≥ 0): by inversion of products of uniforms (D. E. Knuth, TAOCP vol. 2,
+   * §3.4.1) below a mean of 10, else by transformed rejection with squeeze, PTRS (W. Hörmann, "The transformed
+   * rejection method for generating Poisson random variables", Insurance: Mathematics and Economics 12 (1993) 39).
+   */
+  poisson(mu: number): number {
+    if (!(mu > 0)) return 0;
+    if (mu < 10) {
+      const limit = Math.exp(-mu);
+      let k = 0, p = this.uniform();
+      while (p > limit) {
+        k++;
+        p *= this.uniform();
+      }
+      return k;
+    }
+    const smu = Math.sqrt(mu), lmu = Math.log(mu);
+    const b = 0.931 + 2.53 * smu, a = -0.059 + 0.02483 * b;
+    const invAlpha = 1.1239 + 1.1328 / (b - 3.4), vr = 0.9277 - 3.6224 / (b - 2);
+    for (;;) {
+      const u = this.uniform() - 0.5, v = this.uniform();
+      const us = 0.5 - Math.abs(u);
+      const k = Math.floor(((2 * a) / us + b) * u + mu + 0.43);
+      if (us >= 0.07 && v <= vr) return k;
+      if (k < 0 || (us < 0.013 && v > us)) continue;
+      if (Math.log(v) + Math.log(invAlpha) - Math.log(a / (us * us) + b) <= -mu + k * lmu - lnGamma(k + 1)) return k;
+    }
   }
 }
 

@@ -1,0 +1,126 @@
+/**
+ * `spinyard fit FILE --data counts.csv --free NAME[=LO..HI],…[,oven.state] [--json] [-o fitted.spinyard]`:
+ * Poisson maximum-likelihood fit of set-points (and the oven's populations) to measured counts
+ * (src/engine/fit.ts). The fitted document is written only where -o asks, never over FILE or the data.
+ */
+import { serializeDoc, setAt } from '../beamline/index.ts';
+import type { BeamlineDoc } from '../beamline/types.ts';
+import { compile, parameter, parameterValue, RunError, type Plan } from '../engine/index.ts';
+import { fit, type FitResult, type FreeParameter } from '../engine/fit.ts';
+import { readMeasurements } from '../engine/measurements.ts';
+import { alignTable, formatNumber } from './format.ts';
+import { isSameFile } from './output.ts';
+import { type CliOutput, bad, ok } from './quick.ts';
+import { readBeamlineFile } from './readFile.ts';
+
+export const FIT_OPTIONS = [
+  { name: 'data', value: true },
+  { name: 'free', value: true },
+  { name: 'json', value: false },
+  { name: 'output', value: true, short: 'o' },
+] as const;
+
+const err = (m: string) => bad(`spinyard fit: ${m}`, 'Run "spinyard fit --help" for its use.');
+
+/** "M2.axis.roll=0 deg..90 deg,oven.flux,oven.state" → parameters with SI bounds, and whether the state is fitted. */
+export function parseFree(plan: Plan, text: string): { free: FreeParameter[]; state: boolean } {
+  const free: FreeParameter[] = [];
+  let state = false;
+  for (const part of text.split(',').map((s) => s.trim()).filter((s) => s !== '')) {
+    if (part === 'oven.state') {
+      state = true;
+      continue;
+    }
+    const eq = part.indexOf('=');
+    const name = (eq < 0 ? part : part.slice(0, eq)).trim();
+    const slot = parameter(plan, name);
+    if (eq < 0) {
+      free.push({ name: slot.name });
+      continue;
+    }
+    const range = part.slice(eq + 1).split('..');
+    if (range.length !== 2) throw new RunError(`--free ${name}: bounds are written LO..HI with units, e.g. "${name}=0 ${slot.unit}..10 ${slot.unit}"`);
+    const [lo, hi] = range.map((r) => r.trim());
+    free.push({ name: slot.name, ...(lo ? { lower: parameterValue(slot, lo, `--free ${name} (lower bound)`) } : {}), ...(hi ? { upper: parameterValue(slot, hi, `--free ${name} (upper bound)`) } : {}) });
+  }
+  if (!free.length && !state) throw new RunError('--free: name at least one set-point (e.g. M2.axis.roll) or oven.state');
+  return { free, state };
+}
+
+/** The document with the fitted values written in (quantities in the parameter's unit, 10 significant digits). */
+export function fittedDocument(doc: BeamlineDoc, f: FitResult): BeamlineDoc {
+  let out = doc;
+  for (const p of f.parameters) {
+    const v = Number((p.value / p.factor).toPrecision(10));
+    const r = setAt(out, p.path, p.unit ? `${v} ${p.unit}` : v);
+    if (r.ok) out = r.doc;
+  }
+  if (f.state) {
+    const st = doc.oven.state;
+    const axis = st.kind === 'unpolarized' ? { theta: '0 deg', phi: '0 deg' } : st.axis;
+    const p: Record<string, number> = {};
+    f.state.labels.forEach((l, i) => (p[l] = Number(f.state!.populations[i].toPrecision(8))));
+    out = { ...out, oven: { ...out.oven, state: { kind: 'populations', axis, p } } };
+  }
+  return out;
+}
+
+export function fitText(f: FitResult, file: string, data: string): string {
+  const out = [`Fit of ${f.title || '(untitled)'}  [${file}] to ${f.readings} readings of ${data}`, ''];
+  const shown = (v: number, p: { unit: string; factor: number }, sig = 6) => `${formatNumber(v / p.factor, sig)}${p.unit ? ` ${p.unit}` : ''}`;
+  if (f.parameters.length) {
+    const rows = [['parameter', 'fitted', '± σ', 'profile interval (ΔD = 1)', 'document']];
+    for (const p of f.parameters) {
+      const prof = p.profile ? `${p.profile.lower !== undefined ? shown(p.profile.lower, p) : '…'} to ${p.profile.upper !== undefined ? shown(p.profile.upper, p) : '…'}${p.profile.asymmetric ? ' (asymmetric)' : ''}` : '-';
+      rows.push([p.name, shown(p.value, p, 7), p.sigma !== undefined ? shown(p.sigma, p, 2) : p.atBound ? 'at its bound' : '-', prof, shown(p.start, p)]);
+    }
+    out.push(alignTable(rows, [false, true, true, false, true]), '');
+  }
+  if (f.state) {
+    const rows = [['oven state', 'population', '± σ']];
+    f.state.labels.forEach((l, i) => rows.push([`${l} (along ${f.state!.axis})`, formatNumber(f.state!.populations[i], 5), f.state!.sigma[i] === null ? '-' : formatNumber(f.state!.sigma[i]!, 2)]));
+    out.push(alignTable(rows, [false, true, true]), '');
+  }
+  if (f.coordinates.length > 1) {
+    out.push('Correlations');
+    const rows = [['', ...f.coordinates.map((_, i) => `${i + 1}`)]];
+    f.correlation.forEach((r, i) => rows.push([`${i + 1} ${f.coordinates[i]}`, ...r.map((c) => (c === null ? '-' : c.toFixed(3)))]));
+    out.push(alignTable(rows, rows[0].map((_, i) => i > 0)), '');
+  }
+  out.push(`Goodness of fit: deviance ${formatNumber(f.deviance, 5)} on ${f.degreesOfFreedom} degrees of freedom${f.pValue !== undefined ? `, p = ${formatNumber(f.pValue, 3)}` : ''}`);
+  out.push(`${f.converged ? 'Converged' : 'Not converged'} in ${f.iterations} iterations.`, '', 'Residuals (Pearson (n − μ)/√μ and deviance)');
+  const rows = [['line', 'detector', 'counts', 'expected', 'Pearson', 'deviance']];
+  for (const r of f.residuals) rows.push([String(r.line), r.detector, String(r.counts), formatNumber(r.expected, 7), formatNumber(r.pearson, 3), formatNumber(r.deviance, 3)]);
+  out.push(alignTable(rows, [true, false, true, true, true, true]), '', `Method: ${f.method}.`);
+  if (f.warnings.length) out.push('', 'Warnings', ...f.warnings.map((w) => `  - ${w}`));
+  return `${out.join('\n')}\n`;
+}
+
+export function cmdFitWith(file: string, text: string, options: Record<string, unknown>): CliOutput {
+  const dataFile = options.data;
+  if (typeof dataFile !== 'string') return err('missing --data, the CSV of measured counts (detector,counts,… one row per reading)');
+  if (typeof options.free !== 'string') return err('missing --free, the set-points to fit (e.g. --free M2.axis.roll,oven.flux; oven.state for the oven\'s populations)');
+  const output = options.output;
+  if (typeof output === 'string') {
+    if (output === '') return err('-o: the output file name is empty');
+    if (isSameFile(file, output)) return err(`-o ${output} is the input document ${file}; the fitted document is never written over it`);
+    if (isSameFile(dataFile, output)) return err(`-o ${output} is the data file; the fitted document is never written over it`);
+  }
+  const c = compile(text);
+  if (!c.ok) return bad(`${file}: not a valid beamline (${c.problems.length} problem${c.problems.length === 1 ? '' : 's'}):`, ...c.problems.map((p) => `  ${p}`));
+  const data = readBeamlineFile(dataFile);
+  if (!data.ok) return err(data.message);
+  let f: FitResult;
+  try {
+    const { free, state } = parseFree(c.plan, options.free);
+    f = fit(c.plan, readMeasurements(data.text, c.plan, dataFile), { free, state });
+  } catch (e) {
+    if (e instanceof RunError) return err(e.message);
+    throw e;
+  }
+  const body = options.json ? `${JSON.stringify(f, null, 2)}\n` : fitText(f, file, dataFile);
+  if (typeof output === 'string') {
+    return { code: 0, stdout: body, stderr: '', file: { path: output, format: 'text', html: serializeDoc(fittedDocument(c.plan.doc, f)), input: file, what: 'fitted document', command: 'fit' } };
+  }
+  return ok(body);
+}
