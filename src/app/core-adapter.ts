@@ -13,11 +13,15 @@ import {
   renameElement,
   portLabels,
   isHyperfine,
+  DISPLAY_UNITS,
   type LabelSpecies,
 } from '../beamline/index.ts';
 import { speciesPortLabels as docSpeciesPortLabels } from '../beamline/edits.ts';
 export { changeSpecies, documentOutputs, elementOutputs, speciesIsHyperfine, DEFAULT_HYPERFINE_FIELD, type DocOutput, type SpeciesChange } from '../beamline/edits.ts';
-import { runLine, type RunResult } from '../engine/index.ts';
+import { runLine, compile, type RunResult, type ParameterSlot } from '../engine/index.ts';
+export { compile, scanParameters, scanIndices, scanPoint, scanResult, scanCsv, budget, csvNumber, leafName, CancelledError, RunError, MAX_SCAN_POINTS, MAX_BUDGET_DRAWS } from '../engine/index.ts';
+export type { Plan, ParameterSlot, ScanResult, ScanPoint, ScanParameterResult, BudgetResult, BudgetTolerance, BudgetDetector, Sensitivity } from '../engine/index.ts';
+export type { ScanDoc, ToleranceDoc } from '../beamline/types.ts';
 import { buildSheet, sheetHtml } from '../sheet/index.ts';
 export { durationIn } from '../sheet/index.ts';
 import { lookupSpecies, speciesNames } from '../species/index.ts';
@@ -153,4 +157,20 @@ export function setupSheetHtml(doc: BeamlineDoc, line: Beamline, fileName?: stri
   const now = new Date();
   const stamp = `${now.toISOString().slice(0, 16).replace('T', ' ')} UTC`;
   return sheetHtml(buildSheet(doc, line, result, { generatedAt: stamp, source: { fileName: fileName || 'untitled', text: documentText(doc) } }));
+}
+
+/** A document's parameters (docs/design.md, "Parameters"): name, JSON path, dimension, SI value, shown unit; an
+ *  empty list when the text does not compile. Kept per text, so a view asks as often as it likes. */
+export function lineParameters(text: string): readonly ParameterSlot[] {
+  if (paramsFor.text === text) return paramsFor.params;
+  const r = compile(text);
+  const params = r.ok ? r.plan.parameters : [];
+  paramsFor = { text, params };
+  return params;
+}
+let paramsFor: { text: string; params: readonly ParameterSlot[] } = { text: '', params: [] };
+
+/** The unit a dimension is shown in and its SI factor (SI = shown × factor), as scans and budgets report them. */
+export function displayUnit(dimension: Dimension): { unit: string; factor: number } {
+  return DISPLAY_UNITS[dimension];
 }

@@ -1,0 +1,106 @@
+// What the engine worker does with a planning request (engine-protocol.ts, PlanRequest): compiles the document
+// text it is sent (the compiled plan is kept while the text stays the same, so a second scan of one document
+// reuses what the engine derived for the first), then runs a scan point by point or a tolerance budget,
+// posting progress at most every 50 ms. A scan gives the event loop a turn every `sliceMs` so that a cancel
+// can arrive; it then stops before its next point and answers "plan-cancelled". A budget runs in one piece
+// (the engine's budget has no place to pause); the client terminates the worker to stop it. Kept apart from
+// the worker's global scope so it runs in tests as it runs in the worker.
+
+import {
+  compile, budget, scanIndices, scanParameters, scanPoint, scanResult, CancelledError, type Plan, type ScanPoint,
+} from './core-adapter.ts';
+import type { PlanReply, PlanRequest } from './engine-protocol.ts';
+
+export interface PlanServerOptions {
+  now?: () => number;
+  /** Gives the event loop a turn (a message, a cancel, can arrive meanwhile). */
+  pause?: () => Promise<void>;
+  /** How long a scan runs between two pauses (ms). */
+  sliceMs?: number;
+  /** How often progress is posted at most (ms). */
+  progressMs?: number;
+}
+
+export interface PlanServer {
+  /** Handles one request; resolves once its answer is posted (a cancel resolves at once). */
+  handle(req: PlanRequest): Promise<void>;
+}
+
+const defaultPause = () => new Promise<void>((resolve) => setTimeout(resolve, 0));
+
+export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerOptions = {}): PlanServer {
+  const now = opts.now ?? (() => performance.now());
+  const pause = opts.pause ?? defaultPause;
+  const sliceMs = opts.sliceMs ?? 40;
+  const progressMs = opts.progressMs ?? 50;
+  let compiled: { text: string; plan: Plan } | undefined;
+  const cancelled = new Set<number>();
+
+  const planOf = (text: string): Plan => {
+    if (compiled?.text === text) return compiled.plan;
+    const r = compile(text);
+    if (!r.ok) throw new Error(`the document cannot be read: ${r.problems.join('; ')}`);
+    compiled = { text, plan: r.plan };
+    return r.plan;
+  };
+
+  const progress = (seq: number) => {
+    let last = -Infinity;
+    return (fraction: number) => {
+      const t = now();
+      if (t - last >= progressMs || fraction >= 1) {
+        last = t;
+        post({ type: 'plan-progress', seq, fraction });
+      }
+    };
+  };
+
+  const runScan = async (req: PlanRequest & { kind: 'scan' }) => {
+    const t0 = now();
+    const plan = planOf(req.text);
+    const params = scanParameters(plan, req.axes);
+    const indices = scanIndices(params.map((p) => p.values.length));
+    const warnings = new Map<string, number>();
+    const points: ScanPoint[] = [];
+    const tell = progress(req.seq);
+    const isCancelled = () => cancelled.has(req.seq);
+    let slice = now();
+    for (let k = 0; k < indices.length; k++) {
+      if (now() - slice >= sliceMs) {
+        await pause();
+        slice = now();
+      }
+      if (isCancelled()) throw new CancelledError('scan: cancelled');
+      points.push(scanPoint(plan, params, indices[k], warnings, { isCancelled }));
+      tell((k + 1) / indices.length);
+    }
+    const result = scanResult(plan, params, points, warnings);
+    if (req.title !== undefined && req.title !== '') result.title = req.title;
+    post({ type: 'scan-result', seq: req.seq, result, ms: now() - t0 });
+  };
+
+  const runBudget = (req: PlanRequest & { kind: 'budget' }) => {
+    const t0 = now();
+    const plan = planOf(req.text);
+    const result = budget(plan, { draws: req.draws, seed: req.seed, onProgress: progress(req.seq), isCancelled: () => cancelled.has(req.seq) });
+    post({ type: 'budget-result', seq: req.seq, result, ms: now() - t0 });
+  };
+
+  return {
+    async handle(req) {
+      if (req.kind === 'cancel') {
+        cancelled.add(req.seq);
+        return;
+      }
+      try {
+        if (req.kind === 'scan') await runScan(req);
+        else runBudget(req);
+      } catch (e) {
+        if (e instanceof CancelledError) post({ type: 'plan-cancelled', seq: req.seq });
+        else post({ type: 'plan-error', seq: req.seq, message: (e as Error).message ?? String(e) });
+      } finally {
+        cancelled.delete(req.seq);
+      }
+    },
+  };
+}
