@@ -5,7 +5,7 @@
  * dimensions and bounds, ids, routing (dangling targets, unrouted ports, cycles), and the leaves.
  */
 import { type LabelSpecies, isHyperfine } from './labels.ts';
-import { KINDS, KIND_NAMES, isKind, outputsOf } from './elements/registry.ts';
+import { KINDS, KIND_NAMES, isKind, lengthOf, outputsOf } from './elements/registry.ts';
 import { FIRST_SLIT_MIN_DISTANCE, LIMITS } from './limits.ts';
 import { abbreviate, listText, listedProblems, quote } from './messages.ts';
 import { type MigrationRegistry, beamlineMigrations, migrateDoc } from './migrations.ts';
@@ -224,15 +224,6 @@ function checkRouting(ctx: ReadCtx, ovenTo: string, elements: readonly Element[]
   }
   for (const el of elements) if (!seen.has(el.id)) warn(ctx, el.path, `${abbreviate(el.id)} is not reached from the oven`);
   return ctx.problems.length === n;
-}
-
-/** Length (m) an element occupies along the beam, as the engine places it: magnets, field regions, twists and RF flippers. */
-function lengthOf(e: Element): number {
-  switch (e.kind) {
-    case 'magnet': return e.length ?? 0;
-    case 'field': case 'twist': case 'rf': return e.length;
-    default: return 0;
-  }
 }
 
 /**

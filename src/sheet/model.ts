@@ -7,6 +7,7 @@
  * positions in mm.
  * No DOM, React or node:* here: the app's renderer and the CLI both build it.
  */
+import { outputsOf } from '../beamline/elements/registry.ts';
 import { ATOMIC_MASS_UNIT_KG } from '../beamline/units.ts';
 import type { AxisDoc, Beamline, BeamlineDoc, Detector, ElementDoc, OvenStateDoc, QuantityDoc, VelocityDoc } from '../beamline/types.ts';
 import type { RunResult } from '../engine/result.ts';
@@ -286,9 +287,7 @@ function elementOf(e: ElementDoc, pos: { entrance: number; exit: number } | unde
     .filter(([k]) => !NOT_SET_POINTS.has(k))
     .map(([name, v]) => setPointOf(e.kind, name, v));
   if (e.kind === 'detector') setPoints.push(...detectorDefaults(e, norm?.kind === 'detector' ? norm : undefined));
-  const routes = e.kind === 'magnet'
-    ? Object.entries(e.ports).map(([port, target]) => ({ port, target }))
-    : e.kind === 'detector' ? [] : [{ port: '', target: (e as { to: string }).to }];
+  const routes = outputsOf(e).map((o) => ({ port: o.port ?? '', target: o.target }));
   const out: SheetElement = { id: e.id, kind: e.kind, setPoints, routes };
   if (pos) {
     out.entranceCm = pos.entrance * 100;

@@ -12,6 +12,7 @@ export const detector: KindModule<Detector> = {
   kind: 'detector',
   keys: ['efficiency', 'background', 'dwell', 'window'],
   output: 'none',
+  length: () => 0,
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
     const efficiency = quantity(ctx, o, 'efficiency', 'dimensionless', path, { fallback: 1, unit: true, what: 'the efficiency' });

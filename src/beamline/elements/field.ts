@@ -8,6 +8,7 @@ export const field: KindModule<FieldRegion> = {
   kind: 'field',
   keys: ['field', 'length'],
   output: 'to',
+  length: (e) => e.length,
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
     const f = vec(ctx, o, 'field', 'field', path, LIMITS.field);

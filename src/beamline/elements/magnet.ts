@@ -15,6 +15,7 @@ export const magnet: KindModule<Magnet> = {
   kind: 'magnet',
   keys: ['axis', 'field', 'gradient', 'length', 'aperture', 'group', 'entry'],
   output: 'ports',
+  length: (e) => e.length ?? 0,
   hyperfineOnly: ['group', 'entry'],
   read(o: Obj, path: string, ctx: ReadCtx) {
     const ax = axis(ctx, o, 'axis', path);

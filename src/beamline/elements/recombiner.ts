@@ -15,6 +15,7 @@ export const recombiner: KindModule<Recombiner> = {
   kind: 'recombiner',
   keys: ['axis', 'open', 'phases', 'coherent', 'field', 'group', 'entry'],
   output: 'to',
+  length: () => 0,
   hyperfineOnly: ['field', 'group', 'entry'],
   read(o: Obj, path: string, ctx: ReadCtx) {
     const n = ctx.problems.length;

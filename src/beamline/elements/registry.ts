@@ -1,5 +1,5 @@
 /** The element kinds of format v1 (docs/design.md "Keys by element kind"), one module each. */
-import type { ElementKind } from '../types.ts';
+import type { Element, ElementKind } from '../types.ts';
 import { detector } from './detector.ts';
 import { field } from './field.ts';
 import type { KindModule } from './kind.ts';
@@ -20,5 +20,26 @@ export function isKind(k: unknown): k is ElementKind {
   return typeof k === 'string' && Object.prototype.hasOwnProperty.call(KINDS, k);
 }
 
-export { outputsOf } from './kind.ts';
+/** What the routing rule reads of an element: a normalized one or its document form alike. */
+export interface Routed {
+  readonly kind: ElementKind;
+  readonly ports?: Readonly<Record<string, string>>;
+  readonly to?: string;
+}
+
+/**
+ * The routing rule, the one place it is written: one entry per "to" or port key ("*" included) as the kind's
+ * module declares its output (a magnet's ports in the order written, one "to", or none for a leaf).
+ */
+export function outputsOf(el: Routed): { port: string | null; target: string }[] {
+  const out = KINDS[el.kind].output;
+  if (out === 'none') return [];
+  if (out === 'ports') return Object.entries(el.ports ?? {}).map(([port, target]) => ({ port, target }));
+  return [{ port: null, target: el.to as string }];
+}
+
+/** The length (m) a normalized element occupies along the beam (its kind module's `length`). */
+export function lengthOf(e: Element): number {
+  return (KINDS[e.kind] as KindModule<Element>).length(e);
+}
 export type { KindModule } from './kind.ts';

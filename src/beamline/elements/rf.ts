@@ -12,6 +12,7 @@ export const rf: KindModule<RfFlipper> = {
   kind: 'rf',
   keys: ['static', 'amplitude', 'frequency', 'axis', 'length', 'phase'],
   output: 'to',
+  length: (e) => e.length,
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
     const st = vec(ctx, o, 'static', 'field', path, LIMITS.field);

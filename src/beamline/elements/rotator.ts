@@ -7,6 +7,7 @@ export const rotator: KindModule<Rotator> = {
   kind: 'rotator',
   keys: ['axis', 'angle'],
   output: 'to',
+  length: () => 0,
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
     const ax = axis(ctx, o, 'axis', path);

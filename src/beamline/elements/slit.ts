@@ -8,6 +8,7 @@ export const slit: KindModule<Slit> = {
   kind: 'slit',
   keys: ['width', 'height', 'x', 'z'],
   output: 'to',
+  length: () => 0,
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
     const width = quantity(ctx, o, 'width', 'length', path, { positive: true, range: LIMITS.size, what: 'the width' });

@@ -11,6 +11,7 @@ export const twist: KindModule<Twist> = {
   kind: 'twist',
   keys: ['field', 'start', 'end', 'length'],
   output: 'to',
+  length: (e) => e.length,
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
     const f = quantity(ctx, o, 'field', 'field', path, { nonNegative: true, range: LIMITS.fieldSize, what: 'the field size' });

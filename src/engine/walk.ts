@@ -1,0 +1,45 @@
+/**
+ * The walk: the line depth first from the oven, one path at a time. At each element it records where the
+ * element stands, brings the state across the gap before it and hands the state to the element kind's step
+ * (steps/index.ts); a step's exit state goes on to the element's output. A magnet forks the walk into the
+ * states it sorts (one rank-one selection |k⟩⟨k| each, docs/design.md "Magnet entry and exit"), so paths that
+ * share elements share the work up to the fork.
+ */
+import type { Element } from '../beamline/types.ts';
+import { lengthOf } from '../beamline/elements/registry.ts';
+import { CancelledError, RunError } from './errors.ts';
+import type { State } from './nodes.ts';
+import { drift } from './propagate.ts';
+import { finishLeaf } from './leaf.ts';
+import { STEPS } from './steps/index.ts';
+import type { Step, Walk, WalkCtx } from './steps/step.ts';
+
+function elementPath(ctx: WalkCtx, id: string): string {
+  return ctx.byId.get(id)?.path ?? id;
+}
+
+function checkCancel(ctx: WalkCtx): void {
+  if (++ctx.counter.steps % 64 === 0 && ctx.opts.isCancelled?.()) throw new CancelledError('cancelled');
+}
+
+export function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
+  checkCancel(ctx);
+  if (walk.depth > 512) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than 512 elements along one path (a cycle?)`);
+  if (target === 'stop') {
+    finishLeaf(ctx, st, walk, 'stop', null);
+    return;
+  }
+  const e = ctx.byId.get(target);
+  if (!e) throw new RunError(`unknown target "${target}"`);
+  const entrance = walk.y + e.gap;
+  const exit = entrance + lengthOf(e);
+  const pos = ctx.positions[e.id];
+  if (!pos) ctx.positions[e.id] = { entrance, exit };
+  else if (Math.abs(pos.entrance - entrance) > 1e-3) {
+    ctx.warnings.add(`${e.path}: reached at ${(entrance * 100).toFixed(1)} cm along one path and ${(pos.entrance * 100).toFixed(1)} cm along another; the gaps of the paths that share it disagree`);
+  }
+  const step = STEPS[e.kind] as Step<Element>;
+  const s = step.enter ? step.enter(ctx, e, st) : drift(ctx, st, e.gap);
+  const out = step.run(ctx, e, s, walk, entrance, exit);
+  if (out !== undefined) visit(ctx, (e as { to: string }).to, out, { ...walk, y: exit });
+}
