@@ -21,6 +21,7 @@ export async function cliMain(argv: readonly string[]): Promise<number> {
   if (!out) {
     const { runCli } = await import('./cli.ts');
     out = runCli(argv);
+    if (out.job) out = await out.job();
     if (out.file) out = await (await import('./deliver.ts')).deliver(out);
   }
   await write(process.stdout, out.stdout);

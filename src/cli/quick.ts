@@ -11,6 +11,8 @@ export interface CliOutput {
   stderr: string;
   /** A file to write after a successful command (`sheet -o`): runCli writes nothing, main.ts writes this (deliver.ts). */
   file?: OutputFile;
+  /** Work that runs outside this thread (a scan over worker threads): main.ts awaits it for the output. */
+  job?: () => Promise<CliOutput>;
 }
 
 /**

@@ -7,7 +7,9 @@ import { compile, parameter, parameterValue, scan, scanCsv, type Plan, type Scan
 import { RunError } from '../engine/index.ts';
 import { DISPLAY_UNITS } from '../beamline/index.ts';
 import { alignTable, formatNumber } from './format.ts';
+import { availableParallelism } from 'node:os';
 import { isSameFile } from './output.ts';
+import { scanParallel } from './scan-parallel.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 
 export const SCAN_OPTIONS = [
@@ -20,7 +22,11 @@ export const SCAN_OPTIONS = [
   { name: 'csv', value: false },
   { name: 'output', value: true, short: 'o' },
   { name: 'stored', value: true },
+  { name: 'workers', value: true },
 ] as const;
+
+/** Points from which a scan is spread over worker threads by default (below, starting them costs more than it saves). */
+export const PARALLEL_FROM_POINTS = 200;
 
 const err = (m: string) => bad(`spinyard scan: ${m}`, 'Run "spinyard scan --help" for its use.');
 
@@ -83,7 +89,7 @@ export function cmdScanWith(file: string, text: string, options: Record<string, 
       const list = stored.map((s, i) => `  ${i + 1}: ${s.title || s.axes.map((a) => a.name).join(' × ')}`);
       return bad(`spinyard scan: ${typeof which === 'string' ? `--stored ${which}: ` : ''}${file} keeps ${stored.length} scans; choose one with --stored N:`, ...list);
     }
-    return scanOutput(plan, stored[k - 1].axes, file, options);
+    return scanOutput(plan, stored[k - 1].axes, file, options, text);
   }
   if (options.stored !== undefined) return err('--stored and --param: a stored scan has its own parameters; give one or the other');
   const n = params.length;
@@ -105,11 +111,28 @@ export function cmdScanWith(file: string, text: string, options: Record<string, 
     if (e instanceof RunError) return err(e.message);
     throw e;
   }
-  return scanOutput(plan, axes, file, options);
+  return scanOutput(plan, axes, file, options, text);
 }
 
-function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options: Record<string, unknown>): CliOutput {
+function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options: Record<string, unknown>, text?: string): CliOutput {
   if (options.json && options.csv) return err('--json and --csv: choose one');
+  const total = axes.reduce((n, a) => n * a.points, 1);
+  let workers = total >= PARALLEL_FROM_POINTS ? availableParallelism() : 1;
+  if (options.workers !== undefined) {
+    const w = String(options.workers);
+    if (!/^\s*\d+\s*$/.test(w) || Number(w) < 1 || Number(w) > 256) return err(`--workers: a whole number from 1 to 256, got "${w}"`);
+    workers = Number(w);
+  }
+  if (workers > 1 && text !== undefined) {
+    return { code: 0, stdout: '', stderr: '', job: async () => {
+      try {
+        return deliverScan(await scanParallel(text, axes, workers), file, options);
+      } catch (e) {
+        if (e instanceof RunError) return err(e.message);
+        throw e;
+      }
+    } };
+  }
   let r: ScanResult;
   try {
     r = scan(plan, axes);
@@ -117,6 +140,10 @@ function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options
     if (e instanceof RunError) return err(e.message);
     throw e;
   }
+  return deliverScan(r, file, options);
+}
+
+function deliverScan(r: ScanResult, file: string, options: Record<string, unknown>): CliOutput {
   const body = options.json ? `${JSON.stringify(r, null, 2)}\n` : options.csv ? scanCsv(r) : scanText(r, file);
   const output = options.output;
   if (typeof output === 'string') {

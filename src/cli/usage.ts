@@ -77,6 +77,8 @@ or θ and φ). "spinyard scan FILE --param list" lists every set-point of FILE w
   -o, --output OUT write the output to OUT (atomically; never over FILE) instead of stdout
   --stored N       run the N-th scan kept in the document ("scans"); without --param a document
                    that keeps one scan runs it
+  --workers N      evaluate the points in N worker threads (default: one per core from 200 points
+                   on, else 1); the result is the same for any N
 
 A value the document's reader refuses (a bound, a first slit moved onto the oven) leaves that point
 without a result and says why; the other points are computed. The k-th --from, --to and --points

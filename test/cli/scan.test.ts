@@ -1,4 +1,5 @@
 /** `spinyard scan`: arguments, the three outputs, messages, and -o through deliver. */
+import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -97,5 +98,37 @@ describe('spinyard scan FILE with a scan kept in the document', () => {
     const out = runCli(['scan', C, '--stored', '2']);
     expect(out.code).toBe(2);
     expect(out.stderr).toMatch(/--stored 2: .* keeps 1 scans; choose one with --stored N:\n {2}1: analyser roll, 0 to 180 deg/);
+  });
+});
+
+describe('spinyard scan --workers N', () => {
+  it('gives the same result, byte for byte, in 1, 2 and 3 worker threads', async () => {
+    const argv = ['scan', new URL('../../samples/bench-h-rb87-mj-then-eigenstate.spinyard', import.meta.url).pathname,
+      '--param', 'M1.axis.roll', '--from', '0 deg', '--to', '90 deg', '--points', '7', '--param', 'oven.flux', '--from', '1e9 /s', '--to', '2e9 /s', '--points', '2', '--json'];
+    const one = runCli([...argv, '--workers', '1']);
+    expect(one.job).toBeUndefined();
+    expect(one.code).toBe(0);
+    for (const w of ['2', '3']) {
+      const out = runCli([...argv, '--workers', w]);
+      expect(out.job).toBeDefined();
+      const done = await out.job!();
+      expect(done.stderr).toBe('');
+      expect(done.stdout).toBe(one.stdout);
+    }
+  }, 60_000);
+
+  it('does the same through the built command line (its worker module is built beside it)', () => {
+    const bin = new URL('../../bin/spinyard.js', import.meta.url).pathname;
+    const args = ['scan', C, '--param', 'M2.axis.roll', '--from', '0 deg', '--to', '180 deg', '--points', '40', '--csv'];
+    const one = spawnSync(process.execPath, [bin, ...args, '--workers', '1'], { encoding: 'utf8' });
+    const two = spawnSync(process.execPath, [bin, ...args, '--workers', '2'], { encoding: 'utf8' });
+    expect(one.status).toBe(0);
+    expect(two.stderr).toBe('');
+    expect(two.stdout).toBe(one.stdout);
+    expect(one.stdout.split('\r\n')).toHaveLength(42);
+  }, 60_000);
+
+  it('refuses a bad number of workers', () => {
+    expect(runCli(['scan', C, ...roll, '--workers', '0']).stderr).toMatch(/--workers: a whole number from 1 to 256/);
   });
 });
