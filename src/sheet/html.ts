@@ -458,6 +458,17 @@ function sourceMeta(m: SheetModel): string {
     + ' (the first digits of the SHA-256 of the file\'s text, on every page: this sheet belongs to this version of the file only)</p>';
 }
 
+/** The largest entries of the first-order tolerance budget, where the document keeps tolerances. */
+function tolerancesBlock(m: SheetModel): string {
+  if (!m.tolerances && !m.tolerancesNote) return '';
+  const head = `<section><h2>Tolerances that move the signals most (first order)</h2>`;
+  if (!m.tolerances) return `${head}<p>No budget: ${e(m.tolerancesNote ?? '')}</p></section>\n`;
+  const pct = (x: number) => `${sheetNumber(x * 100)} %`;
+  const rows = m.tolerances.map((t) => `<tr><td>${e(t.detector)}</td><td>${e(t.parameter)}</td><td>${e(t.tolerance)}</td><td class="num">${sheetNumber(t.effect)}</td><td class="num">${pct(t.relative)}</td><td class="num">${pct(t.share)}</td></tr>`).join('');
+  return `${head}<table><thead><tr><th>detector</th><th>set-point</th><th>tolerance</th><th class="num">σ of signal (counts/s)</th><th class="num">of signal</th><th class="num">share of its variance</th></tr></thead><tbody>${rows}</tbody></table>`
+    + `<p class="meta">Each row: the spread of one detector's signal from one set-point's tolerance alone, largest relative first (the document's "tolerances"; central differences). <code>spinyard budget FILE</code> gives every entry, the combined spread and a Monte Carlo.</p></section>\n`;
+}
+
 /** The complete printable HTML document of the setup sheet. */
 export function sheetHtml(m: SheetModel): string {
   const generated = m.generatedAt ? ` · generated ${e(m.generatedAt)}` : '';
@@ -493,7 +504,7 @@ ${elementsTable(m)}</section>
 ${leavesTable(m)}</section>
 <section><h2>Detectors (expected)</h2>
 ${detectorsTable(m)}</section>
-<section><h2>Run notes</h2>
+${tolerancesBlock(m)}<section><h2>Run notes</h2>
 <ul>${notes.map((n) => `<li>${n}</li>`).join('')}</ul>
 ${m.warnings.length ? `<p><b>Warnings</b></p><ul>${m.warnings.map((w) => `<li>${e(w)}</li>`).join('')}</ul>` : '<p>No warnings.</p>'}
 </section>

@@ -11,6 +11,9 @@ import { outputsOf } from '../beamline/elements/registry.ts';
 import { ATOMIC_MASS_UNIT_KG } from '../beamline/units.ts';
 import type { AxisDoc, Beamline, BeamlineDoc, Detector, ElementDoc, OvenStateDoc, QuantityDoc, VelocityDoc } from '../beamline/types.ts';
 import type { RunResult } from '../engine/result.ts';
+import { budget } from '../engine/budget.ts';
+import { compile } from '../engine/plan.ts';
+import { RunError } from '../engine/errors.ts';
 import { formatHalfInteger } from '../physics/spin.ts';
 import { LINE_CAUTIONS, lookupSpecies } from '../species/index.ts';
 import type { AtomSpecies, Cited } from '../species/types.ts';
@@ -138,6 +141,47 @@ export interface SheetModel {
   deference: string;
   /** One sign-off line per caution area that applies to this line ("Magnets and fields checked (…)"). */
   signOff: string[];
+  /** The five largest entries of the line's first-order tolerance budget, where the document keeps tolerances. */
+  tolerances?: SheetTolerance[];
+  /** Why the budget could not be made, where the document keeps tolerances. */
+  tolerancesNote?: string;
+}
+
+/** One (detector, tolerance) pair of the budget: how much that tolerance alone moves that detector's signal. */
+export interface SheetTolerance {
+  detector: string;
+  parameter: string;
+  /** "±0.5 deg uniform". */
+  tolerance: string;
+  /** σ of the signal from this tolerance, counts/s, to first order. */
+  effect: number;
+  /** effect / the detector's signal. */
+  relative: number;
+  /** Share of the detector's first-order variance. */
+  share: number;
+}
+
+/** Entries of the budget the sheet prints. */
+export const SHEET_TOLERANCES = 5;
+
+/** The five largest entries of the first-order budget (no Monte Carlo: `spinyard budget` has it). */
+function tolerancesOf(doc: BeamlineDoc): { rows?: SheetTolerance[]; note?: string } {
+  const c = compile(doc);
+  if (!c.ok) return { note: c.problems[0] };
+  try {
+    const b = budget(c.plan, { draws: 0 });
+    const byName = new Map(b.tolerances.map((t) => [t.name, t]));
+    const rows = b.ranking.filter((r) => r.effect > 0).slice(0, SHEET_TOLERANCES).map((r) => {
+      const t = byName.get(r.tolerance)!;
+      const h = Number((t.halfWidth / t.factor).toPrecision(4));
+      const ht = Math.abs(h) >= 1e5 || (h !== 0 && Math.abs(h) < 1e-3) ? h.toExponential().replace('e+', 'e') : String(h);
+      return { detector: r.detector, parameter: r.tolerance, tolerance: `±${ht}${t.unit ? ` ${t.unit}` : ''} ${t.distribution}`, effect: r.effect, relative: r.relative, share: r.share };
+    });
+    return { rows };
+  } catch (e) {
+    if (e instanceof RunError) return { note: e.message };
+    throw e;
+  }
 }
 
 export const DEFERENCE = 'These notes summarise common practice; local rules and licensed practice take precedence.';
@@ -369,5 +413,10 @@ export function buildSheet(doc: BeamlineDoc, line: Beamline, result: RunResult,
   if (opts.source) model.source = { fileName: opts.source.fileName, sha256: sha256Hex(opts.source.text) };
   const qd = result.quadrature;
   if (qd) model.quadrature = qd.nodes > 0 ? `${qd.method}, ${qd.nodes} nodes, estimated error ${Number(qd.error.toPrecision(2))}` : qd.method;
+  if (line.tolerances?.length) {
+    const t = tolerancesOf(doc);
+    if (t.rows) model.tolerances = t.rows;
+    if (t.note) model.tolerancesNote = t.note;
+  }
   return model;
 }

@@ -383,3 +383,17 @@ describe('sheetHtml: the oven', () => {
       .toContain('<td class="val">supersonic: speed 1200 m/s, ratio 20 (speed ratio, no unit)</td>');
   });
 });
+
+describe('the tolerance section', () => {
+  it('shows the budget\'s largest entries with their units, and nothing for a line without tolerances', async () => {
+    const { runSample } = await import('./helpers.ts');
+    const { buildSheet } = await import('../../src/sheet/model.ts');
+    const { sheetHtml } = await import('../../src/sheet/html.ts');
+    const c = runSample('bench-c-roll-calibration');
+    const html = sheetHtml(buildSheet(c.doc, c.line, c.result));
+    expect(html).toContain('Tolerances that move the signals most (first order)');
+    expect(html).toMatch(/<td>D1<\/td><td>oven\.flux<\/td><td>±1e8 \/s normal<\/td>/);
+    const a = runSample('bench-a-spin32-rotator');
+    expect(sheetHtml(buildSheet(a.doc, a.line, a.result))).not.toContain('Tolerances that move');
+  });
+});

@@ -306,3 +306,22 @@ describe('buildSheet: plain numbers of the oven', () => {
     expect(buildSheet(r.doc, r.line, r.result).oven.velocity.parameters).toEqual([{ name: 'points', value: '500 m/s: 1, 600 m/s: 2', implied: 'speed: relative weight' }]);
   });
 });
+
+describe('the tolerance budget on the sheet', () => {
+  it('prints the five largest first-order entries of a document that keeps tolerances, largest relative effect first', () => {
+    const r = runSample('bench-c-roll-calibration');
+    const m = buildSheet(r.doc, r.line, r.result);
+    expect(m.tolerances).toHaveLength(5);
+    for (let i = 1; i < 5; i++) expect(m.tolerances![i].relative).toBeLessThanOrEqual(m.tolerances![i - 1].relative);
+    // D1 and the flux: ∂S/∂F = η·Y1 with Y1 = ½·cos²(15°), σ_F = 1e8 /s (normal): 0.9 · 0.46651 · 1e8
+    const d1 = m.tolerances!.find((t) => t.detector === 'D1' && t.parameter === 'oven.flux')!;
+    expect(d1.effect).toBeCloseTo(0.9 * 0.5 * Math.cos(Math.PI / 12) ** 2 * 1e8, 0);
+    expect(d1.tolerance).toBe('±1e8 /s normal');
+    expect(m.tolerances!.some((t) => t.tolerance === '±0.5 deg uniform')).toBe(true);
+  });
+
+  it('prints no budget section for a document without tolerances', () => {
+    const r = runSample('bench-a-spin32-rotator');
+    expect(buildSheet(r.doc, r.line, r.result).tolerances).toBeUndefined();
+  });
+});
