@@ -1,6 +1,7 @@
 /** The end of a path (a detector or a stop): its beam-averaged yield and what the detector plane needs of it. */
 import type { Detector } from '../beamline/types.ts';
-import { specAverageTrace, type SpecState } from './spectral.ts';
+import type { SpecState } from './spectral.ts';
+import { specAverageTrace } from './average.ts';
 import type { FinePath } from './leafgeom.ts';
 import { type State, ScaledNodes, isNodes, nodeTrace, realTrace } from './nodes.ts';
 import type { Walk, WalkCtx } from './steps/step.ts';

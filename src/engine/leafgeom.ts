@@ -16,7 +16,8 @@ import {
   polygonCdfFlat, cdfAtFlat, planeCoefficients, type Collimator1D, type FlatStrips,
 } from './geometry.ts';
 import type { LeafResult, DetectorResult, NeighbourVerdict, CrosstalkEntry } from './result.ts';
-import { specTraceAt, specTraceMoment, type SpecState } from './spectral.ts';
+import type { SpecState } from './spectral.ts';
+import { specTraceAt, specTraceMoment } from './average.ts';
 import { countSigma, countsIn, signalToBackground, timeToPrecision } from './counting.ts';
 
 export interface Kick {

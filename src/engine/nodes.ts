@@ -3,7 +3,8 @@
  * the grid's flux weights, or the spectral state of spectral.ts before that. `State` is either.
  */
 import { type CMat, cmatSandwichParts, cmatScale } from '../physics/cmat.ts';
-import { specAverageTrace, type SpecState } from './spectral.ts';
+import type { SpecState } from './spectral.ts';
+import { specAverageTrace } from './average.ts';
 import type { WalkCtx } from './steps/step.ts';
 
 /**

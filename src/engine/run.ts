@@ -12,7 +12,7 @@ import type { CMat } from '../physics/cmat.ts';
 import type { VelocityDistribution } from '../physics/velocity.ts';
 import type { Beamline } from '../beamline/types.ts';
 import { speciesSystems } from './system.ts';
-import { CharCache } from './spectral.ts';
+import { CharCache } from './average.ts';
 import type { RunResult, LeafResult, DetectorResult } from './result.ts';
 import { evaluateGeometry, type Track, type FinePath } from './leafgeom.ts';
 import { RunError } from './errors.ts';

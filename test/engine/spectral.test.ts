@@ -1,5 +1,6 @@
 import { describe, it, expect } from 'vitest';
-import { specInitial, specKraus, specPropagate, specAverageTrace, specAverageBasis, specAt, specIsStatic, CharCache, type SpecState } from '../../src/engine/spectral.ts';
+import { specInitial, specKraus, specPropagate, specAt, specIsStatic, type SpecState } from '../../src/engine/spectral.ts';
+import { specAverageTrace, specAverageBasis, CharCache } from '../../src/engine/average.ts';
 import { zeemanEigen, hyperfineHamiltonianHz, type HyperfineParams } from '../../src/physics/hyperfine.ts';
 import { tableDistribution } from '../../src/physics/velocity.ts';
 import { cmatMul, cmatDagger, cmatZeros, type CMat } from '../../src/physics/cmat.ts';

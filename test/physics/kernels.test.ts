@@ -1,6 +1,7 @@
 import { describe, it, expect, afterEach } from 'vitest';
 import { tableKernel, denseKernels, setKernelsEnabled } from '../../src/physics/kernels.ts';
-import { specAverageBasis, CharCache, isPositive, type SpecState } from '../../src/engine/spectral.ts';
+import type { SpecState } from '../../src/engine/spectral.ts';
+import { specAverageBasis, CharCache, isPositive } from '../../src/engine/average.ts';
 import { tableDistribution } from '../../src/physics/velocity.ts';
 import { cmatZeros, cmatIdentity, cmatMul, cmatDagger, type CMat } from '../../src/physics/cmat.ts';
 import { eigh } from '../../src/physics/eigh.ts';

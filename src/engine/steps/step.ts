@@ -14,7 +14,7 @@ import type { Vec3 } from '../../physics/rotation.ts';
 import type { VelocityDistribution } from '../../physics/velocity.ts';
 import type { Beamline, Element, ElementKind } from '../../beamline/types.ts';
 import type { SpinSystem } from '../system.ts';
-import type { CharCache } from '../spectral.ts';
+import type { CharCache } from '../average.ts';
 import type { FinePath, Track } from '../leafgeom.ts';
 import type { State } from '../nodes.ts';
 import type { EigenFactors } from '../propagate.ts';
