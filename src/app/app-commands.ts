@@ -7,6 +7,7 @@ import { canRedo, canUndo, redoLabel, undoLabel, type History } from './history.
 import type { Command, CommandChoice } from './commands.ts';
 import { elementFields, VELOCITY_KINDS } from './fields.ts';
 import { BARE_SPIN_CHOICE, type InspectorEdit } from './inspector-edit.ts';
+import type { PlanEdit } from './plan-edit.ts';
 
 export interface AppCtx {
   app: AppApi;
@@ -49,6 +50,12 @@ export interface AppApi {
   /** The setup sheet to the printer, or as a PDF file. */
   printSheet(pdf: boolean): Promise<void>;
   focusPane(name: 'tree' | 'inspector' | 'results'): void;
+  /** Which planning panels are open. */
+  panels: { readonly scan: boolean; readonly budget: boolean };
+  /** Opens a planning panel (and moves the focus to it), or closes it. */
+  togglePanel(name: 'scan' | 'budget'): void;
+  /** An edit of the document's kept scans or tolerances (the command `plan.edit`); a refusal is shown in its panel. */
+  planEdit(e: PlanEdit): void;
 }
 
 export type DialogState =
@@ -133,6 +140,10 @@ export function buildCommands(): Command<AppCtx>[] {
     { id: 'view.zoomOut', label: 'Zoom Out', menu: 'View', shortcut: 'CmdOrCtrl+-', global: true, perform: (c) => c.app.zoom(-1) },
     { id: 'view.zoomReset', label: 'Actual Size', menu: 'View', shortcut: 'CmdOrCtrl+0', global: true, perform: (c) => c.app.zoom(0) },
     { id: 'view.toggleDark', label: 'Toggle Dark Theme', menu: 'View', shortcut: 'CmdOrCtrl+Shift+D', global: true, perform: (c) => c.app.toggleDark() },
+    { id: 'view.scanPanel', label: 'Scan Panel', menu: 'View', shortcut: 'Alt+S', describe: (c) => (c.app.panels.scan ? 'Close the Scan Panel' : 'Scan Panel…'), perform: (c) => c.app.togglePanel('scan') },
+    { id: 'view.budgetPanel', label: 'Tolerance Budget Panel', menu: 'View', shortcut: 'Alt+B', describe: (c) => (c.app.panels.budget ? 'Close the Tolerance Budget Panel' : 'Tolerance Budget Panel…'), perform: (c) => c.app.togglePanel('budget') },
+    // the planning panels' edits of the document's scans and tolerances (undoable like every edit)
+    { id: 'plan.edit', label: 'Edit the Kept Scans and Tolerances', menu: 'Edit', takesArg: true, perform: (c, e) => c.app.planEdit(e as PlanEdit) },
     { id: 'help.about', label: 'About Spinyard', menu: 'Help', perform: (c) => c.app.dialog({ kind: 'about' }) },
     { id: 'help.readme', label: 'README', menu: 'Help', perform: (c) => c.app.dialog({ kind: 'readme' }) },
   ];

@@ -5,7 +5,7 @@ import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { Host, HostDocument, SampleInfo, AutosaveDraft, RecentDocument } from '../../host/contract.ts';
 import {
   checkDocument, documentOutputs, documentText, editAt, editDelete, editDuplicate,
-  lineIsHyperfine, librarySpeciesNames, magnetPortLabels, readDocument, speciesCautions, setupSheetHtml, type BeamlineDoc, type Problem,
+  lineIsHyperfine, librarySpeciesNames, lineParameters, magnetPortLabels, readDocument, speciesCautions, setupSheetHtml, type BeamlineDoc, type Problem,
 } from '../core-adapter.ts';
 import { historyPush, historyRedo, historyStart, historyUndo, type History } from '../history.ts';
 import { buildCommands, type AppApi, type AppCtx, type DialogState } from '../app-commands.ts';
@@ -17,7 +17,9 @@ import { dwellById, portRows, portRowsCsv, warningsByElement, type RunResultView
 import { createEngineClient, type EngineStatus } from '../engine-client.ts';
 import { createEngineFeed } from '../engine-feed.ts';
 import { NEW_ELEMENT_KINDS, type FieldSpec } from '../fields.ts';
-import { documentDirty, parseEps, moveGap, type SavedState } from '../editing.ts';
+import { documentDirty, parseEps, moveGap, problemsFor, type SavedState } from '../editing.ts';
+import { applyPlanEdit, type PlanEdit } from '../plan-edit.ts';
+import type { WorkerLike } from '../engine-client.ts';
 import { applyInspectorEdit, type InspectorEdit } from '../inspector-edit.ts';
 import { Tree } from './Tree.tsx';
 import { Schematic } from './Schematic.tsx';
@@ -28,6 +30,11 @@ import { Palette } from './Palette.tsx';
 import { Dialog } from './Dialog.tsx';
 import { Caution } from './Caution.tsx';
 import { SkipLink } from './SkipLink.tsx';
+import { ScanPanel } from './ScanPanel.tsx';
+import { BudgetPanel } from './BudgetPanel.tsx';
+
+/** A worker of the engine (the same module runs the live run and the planning requests). */
+const makeEngineWorker = (): WorkerLike => new Worker(new URL('../engine.worker.ts', import.meta.url), { type: 'module' }) as never;
 
 type ReadOk = ReturnType<typeof readDocument> & { ok: true };
 
@@ -57,6 +64,11 @@ export function App({ host }: { host: Host }) {
   const refreshRecent = useCallback(() => void host.recentDocuments().then(setRecent).catch(() => {}), [host]);
   const [epsText, setEpsText] = useState('1 %');
   const [notice, setNotice] = useState<string | undefined>();
+  /** The planning panels: open, and mounted once opened (a closed panel keeps its last result and takes no space). */
+  const [panels, setPanels] = useState({ scan: false, budget: false });
+  const [mounted, setMounted] = useState({ scan: false, budget: false });
+  /** The message of the last plan edit the document refused (read by the panel that asked right after). */
+  const planRefusal = useRef<string | undefined>(undefined);
   const doc = history.present;
 
   // ---------------------------------------------------------------- derived
@@ -102,7 +114,7 @@ export function App({ host }: { host: Host }) {
   const client = useMemo(
     () =>
       createEngineClient(
-        () => new Worker(new URL('../engine.worker.ts', import.meta.url), { type: 'module' }) as never,
+        makeEngineWorker,
         (a) => {
           setAnswer(a);
           if (a.result) setLastResult({ seq: a.seq, result: a.result, ms: a.ms });
@@ -379,6 +391,30 @@ export function App({ host }: { host: Host }) {
         if (r) setNotice(`Setup sheet written: ${r.path ?? r.name}`);
       } else if (!(await host.printSheet(html))) setNotice('The setup sheet was not printed.');
     },
+    panels,
+    togglePanel: (name) => {
+      const open = !panels[name];
+      setPanels((ps) => ({ ...ps, [name]: open }));
+      if (open) {
+        setMounted((m) => ({ ...m, [name]: true }));
+        setTimeout(() => {
+          const h = document.querySelector<HTMLElement>(`[data-panel="${name}"] h2`);
+          h?.focus();
+          h?.scrollIntoView({ block: 'start' });
+        }, 0);
+      }
+    },
+    planEdit: (e: PlanEdit) => {
+      const r = applyPlanEdit(doc, e);
+      if (!r.ok) {
+        planRefusal.current = r.message;
+        return;
+      }
+      const problems = propose(r.doc, r.label);
+      const where = e.kind === 'keepScan' || e.kind === 'dropScan' ? 'scans' : 'tolerances';
+      planRefusal.current = problems ? problemsFor(problems, 'index' in e ? `${where}[${e.index}]` : where) : undefined;
+      if (!problems) setNotice(`${r.label[0].toUpperCase()}${r.label.slice(1)} (Undo takes it back).`);
+    },
     focusPane: (p) => {
       const q = (sel: string) => document.querySelector<HTMLElement>(sel);
       const el = p === 'tree' ? q('.tree [role="treeitem"][aria-selected="true"]') ?? q('.tree [role="treeitem"]') : q(p === 'inspector' ? '.inspector input, .inspector select' : '.results');
@@ -425,6 +461,14 @@ export function App({ host }: { host: Host }) {
     };
   }, [run]);
   const isEnabled = (id: string) => registry.isEnabled(id, ctx);
+  /** A plan edit through the registry; the refusal's message, or undefined when the document took it. */
+  const planEdit = useCallback((e: PlanEdit): string | undefined => {
+    planRefusal.current = undefined;
+    run('plan.edit', e);
+    return planRefusal.current;
+  }, [run]);
+  const params = useMemo(() => (mounted.scan || mounted.budget ? lineParameters(good.text) : []), [mounted.scan, mounted.budget, good.text]);
+  const fileBase = name.replace(/\.spinyard$/i, '');
 
   useEffect(() => {
     const ac = new AbortController();
@@ -487,6 +531,29 @@ export function App({ host }: { host: Host }) {
           <section className="drawing" aria-label="Schematic">
             <Schematic line={line} result={result} selected={selected} onSelect={setSelected} warned={warnedAll} />
           </section>
+          {mounted.scan && (
+            <ScanPanel hidden={!panels.scan} doc={good.doc} line={line} text={good.text} params={params} dark={dark} fileBase={fileBase}
+              makeWorker={makeEngineWorker} onClose={() => run('view.scanPanel')}
+              onKeep={(scan) => {
+                const m = planEdit({ kind: 'keepScan', scan });
+                if (m) fail('The scan was not kept', m);
+              }}
+              onDrop={(index) => {
+                const m = planEdit({ kind: 'dropScan', index });
+                if (m) fail('The scan was not removed', m);
+              }}
+              onCsv={(fname, csv) => void host.saveTextFile({ name: fname, text: csv }).then(
+                (r) => r && setNotice(`Scan written: ${r.path ?? `${r.name} (to the downloads)`}`),
+                (e: unknown) => fail('The scan was not saved', (e as Error).message),
+              )} />
+          )}
+          {mounted.budget && (
+            <BudgetPanel hidden={!panels.budget} doc={good.doc} text={good.text} params={params} makeWorker={makeEngineWorker}
+              onClose={() => run('view.budgetPanel')}
+              onAdd={(tolerance) => planEdit({ kind: 'addTolerance', tolerance })}
+              onSet={(index, tolerance) => planEdit({ kind: 'setTolerance', index, tolerance })}
+              onRemove={(index) => planEdit({ kind: 'removeTolerance', index })} />
+          )}
           <SkipLink label="Skip the results: go to the inspector" onActivate={() => run('view.focusInspector')} />
           <Results line={line} result={result} resultSeq={lastResult?.seq ?? 0} docSeq={docSeq} error={answer.seq === docSeq ? answer.error : undefined}
             ms={lastResult?.ms} status={status} epsText={epsText} eps={eps} onEps={setEpsText} onCancel={() => run('results.cancel')}
