@@ -68,7 +68,7 @@ export function scanCurves(r: ScanResult, q: ScanQuantity, theme: Theme): Figure
   }
   const present = shown(p.present, p);
   const layout = {
-    ...theme, showlegend: true, legend: { orientation: 'h', y: -0.22 }, hovermode: 'closest',
+    ...theme, margin: { ...(theme.margin as object), t: 24 }, showlegend: true, legend: { orientation: 'h', y: -0.22 }, hovermode: 'closest',
     xaxis: { ...theme.xaxis, title: { text: label(p) }, type: p.spacing === 'log' ? 'log' : 'linear' },
     yaxis: { ...theme.yaxis, title: { text: AXIS_TITLE[q] }, rangemode: 'tozero', ...(q === 'counts' ? { exponentformat: 'e' } : {}) },
     yaxis2: { overlaying: 'y', range: [0, 1], visible: false, fixedrange: true },

@@ -413,7 +413,6 @@ export function App({ host }: { host: Host }) {
       const problems = propose(r.doc, r.label);
       const where = e.kind === 'keepScan' || e.kind === 'dropScan' ? 'scans' : 'tolerances';
       planRefusal.current = problems ? problemsFor(problems, 'index' in e ? `${where}[${e.index}]` : where) : undefined;
-      if (!problems) setNotice(`${r.label[0].toUpperCase()}${r.label.slice(1)} (Undo takes it back).`);
     },
     focusPane: (p) => {
       const q = (sel: string) => document.querySelector<HTMLElement>(sel);

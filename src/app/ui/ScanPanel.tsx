@@ -239,7 +239,7 @@ export function ScanPanel(p: ScanPanelProps) {
                 if (other) setAxes((as) => [...as, defaultAxis(other, 11)]);
               }}>Add a second parameter</button>
             )}
-            <label>title <input type="text" name="scan-title" value={title} placeholder={autoTitle} onChange={(e) => setTitle(e.target.value)} size={28} /></label>
+            <label>title <input type="text" name="scan-title" value={title} placeholder={autoTitle} onChange={(e) => setTitle(e.target.value)} size={22} /></label>
             <button type="button" className="primary" onClick={runForm} disabled={!valid || status.running}>Run scan{valid ? ` (${total} points)` : ''}</button>
             <button type="button" onClick={keep} disabled={!valid}>Keep in document</button>
           </div>
@@ -256,7 +256,7 @@ export function ScanPanel(p: ScanPanelProps) {
         {!status.running && answer?.cancelled && <span className="run-note" data-scan-cancelled>cancelled{shownResult ? ': the chart shows the last scan that finished' : ''}</span>}
         {!status.running && answer?.error && <span className="run-error" role="alert">The scan did not run: {answer.error}</span>}
         {shownResult && !status.running && !answer?.error && !answer?.cancelled && (
-          <span className="note" data-scan-ms={Math.round(shownResult.ms)}>{shownResult.result.points.length} points in {fmt(shownResult.ms / 1000, 3)} s</span>
+          <span className="note" data-scan-ms={Math.round(shownResult.ms)}>{shownResult.result.points.length} points in {shownResult.ms < 1000 ? `${Math.max(1, Math.round(shownResult.ms))} ms` : `${fmt(shownResult.ms / 1000, 3)} s`}</span>
         )}
       </div>
       {r && figures && (
