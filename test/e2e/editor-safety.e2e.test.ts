@@ -506,6 +506,18 @@ const EFFECTS: Record<string, (keys: string) => Promise<void>> = {
     await app.page.keyboard.press(keys);
     expect(await rootFontSize()).toBe('100%');
   },
+  'view.scanPanel': async (keys) => {
+    await onTree('M1');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => app.page.locator('[data-panel="scan"]').isVisible()).toBe(true);
+    expect(await app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('scan');
+  },
+  'view.budgetPanel': async (keys) => {
+    await onTree('M1');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => app.page.locator('[data-panel="budget"]').isVisible()).toBe(true);
+    expect(await app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('budget');
+  },
   'view.toggleDark': async (keys) => {
     await onTree('M1');
     const before = await app.page.evaluate(() => document.documentElement.dataset.theme);
