@@ -2,7 +2,7 @@
 import type { Detector } from '../beamline/types.ts';
 import type { SpecState } from './spectral.ts';
 import { specAverageTrace } from './average.ts';
-import type { FinePath } from './leafgeom.ts';
+import type { FinePath } from './detector-plane.ts';
 import { type State, ScaledNodes, isNodes, nodeTrace, realTrace } from './nodes.ts';
 import type { Walk, WalkCtx } from './steps/step.ts';
 

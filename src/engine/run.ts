@@ -6,7 +6,8 @@
  * steps/index.ts); the source (source.ts: velocity distribution, initial state, flux); magnet sorting and port
  * selection (sorting.ts); propagators and Kraus operators (propagate.ts) on spectral states (spectral.ts, the
  * velocity average in average.ts) or, from the first field twist on, on states evaluated speed by speed
- * (nodes.ts, twist.ts); the RF flipper (rf.ts); the end of a path (leaf.ts) and the detector plane (leafgeom.ts).
+ * (nodes.ts, twist.ts); the RF flipper (rf.ts); the end of a path (leaf.ts), each sub-beam's geometry
+ * (subbeam.ts) and the detector plane with the counts (detector-plane.ts, counting.ts).
  */
 import type { CMat } from '../physics/cmat.ts';
 import type { VelocityDistribution } from '../physics/velocity.ts';
@@ -14,7 +15,7 @@ import type { Beamline } from '../beamline/types.ts';
 import { speciesSystems } from './system.ts';
 import { CharCache } from './average.ts';
 import type { RunResult, LeafResult, DetectorResult } from './result.ts';
-import { evaluateGeometry, type Track, type FinePath } from './leafgeom.ts';
+import { evaluateGeometry, type Track, type FinePath } from './detector-plane.ts';
 import { RunError } from './errors.ts';
 import { distributionFor, initialSpec, resolveFlux, velocityPlot, checkTable } from './source.ts';
 import { visit } from './walk.ts';

@@ -17,7 +17,7 @@ import { lengthOf, outputsOf } from '../beamline/elements/registry.ts';
 import type { SpinSystem } from './system.ts';
 import { specInitial, specPhaseWeights, type SpecState } from './spectral.ts';
 import type { RunResult } from './result.ts';
-import type { FinePath } from './leafgeom.ts';
+import type { FinePath } from './detector-plane.ts';
 import { RunError } from './errors.ts';
 
 const distCache = new IdentityCache<object, Map<number, VelocityDistribution>>('velocity distributions of tables');

@@ -9,7 +9,7 @@ import { validateBeamline } from '../../src/beamline/index.ts';
 import type { Beamline } from '../../src/beamline/types.ts';
 import { formatRun } from '../../src/cli/format.ts';
 import { RunError, runDocumentText, runLine, withParameter } from '../../src/engine/index.ts';
-import { roundOffFloor } from '../../src/engine/leafgeom.ts';
+import { roundOffFloor } from '../../src/engine/detector-plane.ts';
 
 function line(extra: Record<string, unknown> = {}): Beamline {
   const r = validateBeamline({

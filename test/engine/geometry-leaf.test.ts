@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { evaluateGeometry, type FinePath, type Track } from '../../src/engine/leafgeom.ts';
+import { evaluateGeometry, type FinePath, type Track } from '../../src/engine/detector-plane.ts';
 import type { Detector } from '../../src/beamline/types.ts';
 
 // Sub-beams built by hand with speed-by-speed grids, so that the detector-plane geometry of the engine

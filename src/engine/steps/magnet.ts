@@ -6,7 +6,7 @@
  */
 import { BOHR_MAGNETON } from '../../physics/constants.ts';
 import type { Magnet } from '../../beamline/types.ts';
-import type { Track } from '../leafgeom.ts';
+import type { Track } from '../detector-plane.ts';
 import type { State } from '../nodes.ts';
 import { drift } from '../propagate.ts';
 import { driftCommutesWithSort, getSorting, portComponents, routeOf, selectStates } from '../sorting.ts';

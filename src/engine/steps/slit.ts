@@ -1,6 +1,6 @@
 /**
  * The slit's step: no spin operation. The first slit of a path sets, with the oven's orifice, the directions of
- * its trajectories (the collimator); later slits add their strips, which clip on the detector plane (leafgeom.ts).
+ * its trajectories (the collimator); later slits add their strips, which clip on the detector plane (subbeam.ts).
  */
 import type { Slit } from '../../beamline/types.ts';
 import type { State } from '../nodes.ts';

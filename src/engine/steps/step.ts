@@ -7,7 +7,7 @@
  * on to the element's single output (`to`), or undefined where it went on itself: a magnet forks the walk into
  * its ports, a detector ends a leaf, an RF flipper or field twist walks the subtree behind it more than once.
  * Transverse effects (a slit's collimation, a magnet's pole gap and deflection) go into the `track` of the
- * walks it forks (leafgeom.ts reads them on the detector plane).
+ * walks it forks (subbeam.ts reads them on the detector plane).
  */
 import type { CMat } from '../../physics/cmat.ts';
 import type { Vec3 } from '../../physics/rotation.ts';
@@ -15,7 +15,7 @@ import type { VelocityDistribution } from '../../physics/velocity.ts';
 import type { Beamline, Element, ElementKind } from '../../beamline/types.ts';
 import type { SpinSystem } from '../system.ts';
 import type { CharCache } from '../average.ts';
-import type { FinePath, Track } from '../leafgeom.ts';
+import type { FinePath, Track } from '../detector-plane.ts';
 import type { State } from '../nodes.ts';
 import type { EigenFactors } from '../propagate.ts';
 import type { RunOptions } from '../run.ts';
