@@ -131,6 +131,9 @@ export function buildMenuTemplate(input: MenuInput): MenuItemSpec[] {
       SEP,
       cmd('view.toggleDark', platform),
       { role: 'togglefullscreen' },
+      SEP,
+      cmd('view.scanPanel', platform),
+      cmd('view.budgetPanel', platform),
       ...(input.devTools ? [SEP, { role: 'toggleDevTools' } as MenuItemSpec] : []),
     ],
   });

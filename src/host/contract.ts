@@ -239,6 +239,8 @@ export const HOST_COMMANDS: readonly HostCommand[] = [
   { id: 'view.zoomOut', label: 'Zoom Out', accelerator: 'CmdOrCtrl+-' },
   { id: 'view.zoomReset', label: 'Actual Size', accelerator: 'CmdOrCtrl+0' },
   { id: 'view.toggleDark', label: 'Toggle Dark Theme', accelerator: 'CmdOrCtrl+Shift+D' },
+  { id: 'view.scanPanel', label: 'Scan Panel…', accelerator: 'Alt+S' },
+  { id: 'view.budgetPanel', label: 'Tolerance Budget Panel…', accelerator: 'Alt+B' },
   { id: 'help.about', label: 'About Spinyard' },
   { id: 'help.readme', label: 'README' },
 ];
