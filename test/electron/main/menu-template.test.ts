@@ -68,6 +68,8 @@ describe('buildMenuTemplate', () => {
     const roles = flattenMenu(build('linux')).map((i) => i.role).filter(Boolean);
     for (const r of ['cut', 'copy', 'paste', 'selectAll']) expect(roles).toContain(r);
     expect(accel(build('linux'), 'view.toggleDark')).toBe('CmdOrCtrl+Shift+D');
+    expect(accel(build('linux'), 'view.scanPanel')).toBe('Alt+S');
+    expect(accel(build('darwin'), 'view.budgetPanel')).toBe('Alt+B');
     expect(roles).not.toContain('toggleDevTools');
     expect(flattenMenu(build('linux', { devTools: true })).some((i) => i.role === 'toggleDevTools')).toBe(true);
   });
