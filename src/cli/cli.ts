@@ -19,6 +19,7 @@ import { readBeamlineFile } from './readFile.ts';
 import { SCAN_OPTIONS, cmdScanWith } from './scan.ts';
 import { BUDGET_OPTIONS, cmdBudgetWith } from './budget.ts';
 import { FIT_OPTIONS, cmdFitWith } from './fit.ts';
+import { SIMULATE_OPTIONS, cmdSimulateWith } from './simulate.ts';
 import { type CliOutput, bad, ok, quickAnswer } from './quick.ts';
 import { COMMAND_HELP, USAGE } from './usage.ts';
 
@@ -129,6 +130,12 @@ function cmdFit(argv: readonly string[]): CliOutput {
   return cmdFitWith(f.file, f.text, f.options);
 }
 
+function cmdSimulate(argv: readonly string[]): CliOutput {
+  const f = fileCommand('simulate', argv, [...SIMULATE_OPTIONS]);
+  if (f.out) return f.out;
+  return cmdSimulateWith(f.file, f.text, f.options);
+}
+
 function cmdValidate(argv: readonly string[]): CliOutput {
   const f = fileCommand('validate', argv);
   if (f.out) return f.out;
@@ -178,6 +185,7 @@ export const COMMANDS: Readonly<Record<string, (argv: readonly string[]) => CliO
   scan: cmdScan,
   budget: cmdBudget,
   fit: cmdFit,
+  simulate: cmdSimulate,
   validate: cmdValidate,
   levels: cmdLevels,
   species: cmdSpecies,

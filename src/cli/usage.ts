@@ -12,6 +12,8 @@ Usage:
                                       tolerance budget: which set-point's tolerance moves which detector
   spinyard fit FILE --data counts.csv --free NAME,… [--json] [-o fitted.spinyard]
                                       fit set-points (and the oven state) to measured counts
+  spinyard simulate FILE [--atoms N] [--seed S] [--json] [-o OUT]
+                                      atoms drawn one by one through the line: counts and hit maps
   spinyard validate FILE              check a beamline file; list every problem as "path: message"
   spinyard levels NAME --field B [--json]
                                       energies (Hz) and moments (μB) of a library species at field B
@@ -21,7 +23,7 @@ Usage:
 
 Every command also takes --help. Exit codes: 0 success, 2 invalid input (messages on stderr,
 nothing on stdout), 1 internal error. No command changes a file; only -o writes one (sheet, scan,
-budget, fit), the file it is given.
+budget, fit, simulate), the file it is given.
 `;
 
 export const COMMAND_HELP: Readonly<Record<string, string>> = {
@@ -124,6 +126,22 @@ Prints the fitted values with σ from the Fisher information, profile-likelihood
 deviance rises by 1; marked when asymmetric), the correlations, the deviance with its χ² p-value and
 every reading's residual.
 `,
+  simulate: `Usage: spinyard simulate FILE [--atoms N] [--seed S] [--json] [-o OUT]
+
+A simulated run of the line in FILE: atoms drawn one by one from the oven (isotope by abundance, speed
+from the beam's velocity distribution, a start point in the oven aperture and a direction through the
+first slit), each following one path with the Born-rule probabilities of its own speed, deflected by
+the magnets, clipped by slits, pole gaps and windows, landing on its detector's plane.
+
+Prints per detector the atoms in its window, the signal they give (counts/s, with the standard error of
+the sampling) beside the engine's, the counts of one run of its dwell with Poisson noise and
+background, and the mean and rms of the hits; --json adds a hit map of each detector's plane.
+
+  --atoms N   atoms drawn (default 100000)
+  --seed S    the generator's seed (default 1): the same seed gives the same run
+  --json      the simulation as JSON (format spinyard.simulation, version 1)
+  -o OUT      write the output to OUT (atomically; never over FILE)
+`,
   validate: `Usage: spinyard validate FILE
 
 Checks FILE against the beamline format (spinyard.beamline, version 1) without running it. Prints
@@ -145,6 +163,6 @@ g_I, A, B, mass, abundance, vapour pressure) with its source, then its cautions 
 `,
   help: `Usage: spinyard help [COMMAND]
 
-Prints the overview, or the help of COMMAND (run, sheet, scan, budget, fit, validate, levels, species).
+Prints the overview, or the help of COMMAND (run, sheet, scan, budget, fit, simulate, validate, levels, species).
 `,
 };

@@ -30,6 +30,8 @@ export interface RunOptions {
   epsilon?: number;
   /** Leave out the table-resolution check and the velocity plot (inner points of a scan). */
   light?: boolean;
+  /** Receives the paths of the run before the detector plane is evaluated (simulate.ts draws atoms along them). */
+  onPaths?: (paths: readonly FinePath[], flux: number) => void;
 }
 
 /** Runs the line and returns result format v1 (docs/design.md) with this engine's additions. */
@@ -76,6 +78,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   for (const [path, u] of sampled.unconverged) {
     warnings.add(`${path}: the speed-by-speed average after the field twist did not converge to 1e-9: the yields moved by up to ${u.error.toExponential(1)} between the last two grids (${u.speeds} speeds); a fast phase before, in or after the twist is not resolved, and the yields carry that error`);
   }
+  opts.onPaths?.(leaves, flux);
   const geo = evaluateGeometry(leaves, flux, opts.epsilon ?? 0.01, lost);
   for (const w of geo.warnings) warnings.add(w);
   chiError = geo.chiError;

@@ -1,0 +1,66 @@
+/** `spinyard simulate FILE [--atoms N] [--seed S] [--json] [-o OUT]`: a simulated run of the line (src/engine/simulate.ts). */
+import { compile, evaluate, RunError } from '../engine/index.ts';
+import { MAX_ATOMS, simulate, type SimulationResult } from '../engine/simulate.ts';
+import type { RunResult } from '../engine/result.ts';
+import { alignTable, formatDuration, formatNumber } from './format.ts';
+import { isSameFile } from './output.ts';
+import { type CliOutput, bad, ok } from './quick.ts';
+
+export const SIMULATE_OPTIONS = [
+  { name: 'atoms', value: true },
+  { name: 'seed', value: true },
+  { name: 'json', value: false },
+  { name: 'output', value: true, short: 'o' },
+] as const;
+
+const err = (m: string) => bad(`spinyard simulate: ${m}`, 'Run "spinyard simulate --help" for its use.');
+
+export function simulateText(s: SimulationResult, run: RunResult, file: string): string {
+  const out = [`Simulated run of ${s.title || '(untitled)'}  [${file}]`, `  ${s.atoms} atoms drawn (seed ${s.seed}) from an oven flux of ${formatNumber(s.flux, 4)} /s`, ''];
+  const rows = [['detector', 'atoms in window', 'signal (/s) simulated', 'engine', 'difference', 'counts in dwell', 'mean x, z (mm)', 'rms x, z (mm)']];
+  for (const d of s.detectors) {
+    const e = run.detectors.find((x) => x.id === d.id);
+    const diff = e && d.signalSigma > 0 ? `${formatNumber((d.signal - e.signal) / d.signalSigma, 2)} σ` : '-';
+    const mm = (v: { x: number; z: number } | undefined) => (v ? `${formatNumber(v.x * 1e3, 3)}, ${formatNumber(v.z * 1e3, 3)}` : '-');
+    rows.push([d.id, String(d.hits), `${formatNumber(d.signal, 4)} ± ${formatNumber(d.signalSigma, 2)}`, e ? formatNumber(e.signal, 4) : '-', diff,
+      `${d.counts} in ${formatDuration(d.dwell)}`, mm(d.mean), mm(d.rms)]);
+  }
+  out.push(alignTable(rows, rows[0].map((_, i) => i > 0)), '');
+  out.push(`Lost: ${s.lost.spin} atoms in the spin operations (no path), ${s.lost.clipped} clipped by slits, pole gaps and windows.`);
+  out.push('Counts: one run of each detector\'s dwell, drawn from Poisson((signal + background) × dwell). "difference": (simulated − engine)/σ of the sampling; |difference| above about 3 in a line is worth a look.', '', `Method: ${s.method}.`);
+  if (s.warnings.length) out.push('', 'Warnings', ...s.warnings.map((w) => `  - ${w}`));
+  return `${out.join('\n')}\n`;
+}
+
+function whole(text: unknown, what: string, max: number): number | string | undefined {
+  if (text === undefined) return undefined;
+  const s = String(text);
+  const n = Number(s);
+  return /^\s*\d+\s*$/.test(s) && Number.isSafeInteger(n) && n <= max ? n : `--${what}: a whole number up to ${max}, got "${s}"`;
+}
+
+export function cmdSimulateWith(file: string, text: string, options: Record<string, unknown>): CliOutput {
+  const atoms = whole(options.atoms, 'atoms', MAX_ATOMS);
+  if (typeof atoms === 'string') return err(atoms);
+  const seed = whole(options.seed, 'seed', 0xffffffff);
+  if (typeof seed === 'string') return err(seed);
+  const output = options.output;
+  if (typeof output === 'string') {
+    if (output === '') return err('-o: the output file name is empty');
+    if (isSameFile(file, output)) return err(`-o ${output} is the input document ${file}; a simulation is never written over its document`);
+  }
+  const c = compile(text);
+  if (!c.ok) return bad(`${file}: not a valid beamline (${c.problems.length} problem${c.problems.length === 1 ? '' : 's'}):`, ...c.problems.map((p) => `  ${p}`));
+  let s: SimulationResult;
+  let run: RunResult;
+  try {
+    s = simulate(c.plan, { atoms: atoms ?? undefined, seed: seed ?? undefined });
+    run = evaluate(c.plan, {}, { light: true });
+  } catch (e) {
+    if (e instanceof RunError) return err(e.message);
+    throw e;
+  }
+  const body = options.json ? `${JSON.stringify(s, null, 2)}\n` : simulateText(s, run, file);
+  if (typeof output === 'string') return { code: 0, stdout: '', stderr: '', file: { path: output, format: 'text', html: body, input: file, what: `simulated run (${options.json ? 'JSON' : 'text'})`, command: 'simulate' } };
+  return ok(body);
+}

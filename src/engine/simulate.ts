@@ -1,0 +1,302 @@
+/**
+ * Simulated runs (docs/design.md, "Simulated runs"): atoms drawn one by one from the oven and followed through the
+ * line, as a check of the line's numbers by sampling and as a preview of what a run at the bench gives.
+ *
+ * Each atom: an isotope by its abundance, a speed from the beam's (flux-weighted) velocity distribution, a start point
+ * uniform in the oven aperture and a point uniform in the first slit of its path (the two fix its direction, as the
+ * detector-plane geometry assumes); then one path of the line, drawn with the Born-rule probabilities of the atom's
+ * own speed (the trace of each leaf's state at that speed, every phase kept: an atom has one speed, so nothing is
+ * averaged); it is deflected by each magnet by a μ_eff G/M acceleration over the magnet (its own path's moments),
+ * clipped by every later slit and pole gap, and lands on its detector's plane, inside or outside the window. The
+ * fractions of atoms per detector estimate the detectors' signals with a binomial standard error; the counts of a
+ * run of the detectors' dwells are then drawn with Poisson noise about (signal + background) × dwell, and the hits
+ * give a map of each detector's plane. The same seed gives the same numbers.
+ */
+import type { Rect } from '../beamline/types.ts';
+import { speedRange, densityAt, type VelocityDistribution } from '../physics/velocity.ts';
+import { deflection, type FinePath } from './subbeam.ts';
+import { lineAt, type Plan } from './plan.ts';
+import { Random } from './random.ts';
+import { CancelledError, RunError, runLine, type RunOptions } from './run.ts';
+import { specTraceAt } from './average.ts';
+
+export interface SimulateOptions extends RunOptions {
+  /** Atoms drawn (default 100,000). */
+  atoms?: number;
+  seed?: number;
+  /** Bins per axis of each detector's hit map (default 40). */
+  bins?: number;
+}
+
+export const MAX_ATOMS = 50_000_000;
+
+export interface HitMap {
+  /** Bin edges (m) along x and z. */
+  x: number[];
+  z: number[];
+  /** Atoms per bin, counts[i][j] for x bin i and z bin j. */
+  counts: number[][];
+}
+
+export interface SimulatedDetector {
+  id: string;
+  /** Atoms that reached the detector inside its window. */
+  hits: number;
+  /** hits / atoms drawn: the fraction of the oven flux it receives, and its binomial standard error. */
+  fraction: number;
+  fractionSigma: number;
+  /** flux × fraction × efficiency (counts/s), its standard error from the sampling. */
+  signal: number;
+  signalSigma: number;
+  background: number;
+  dwell: number;
+  /** A run of `dwell`: counts drawn from Poisson((signal + background) × dwell). */
+  counts: number;
+  /** Mean and rms of the hits' positions at the detector's plane (m), where it has hits. */
+  mean?: { x: number; z: number };
+  rms?: { x: number; z: number };
+  map?: HitMap;
+}
+
+export interface SimulationResult {
+  format: 'spinyard.simulation';
+  version: 1;
+  title: string;
+  atoms: number;
+  seed: number;
+  flux: number;
+  detectors: SimulatedDetector[];
+  /** Atoms per path (ELEMENT:PORT list and target), clipped or not. */
+  paths: { path: string[]; target: string; atoms: number; clipped: number }[];
+  /** Atoms absorbed in the spin operations (no path) and clipped by slits, pole gaps and windows. */
+  lost: { spin: number; clipped: number };
+  method: string;
+  warnings: string[];
+}
+
+/** Inverse-CDF sampler of a continuous distribution, tabulated on `n` points of its speed range (linear in the CDF). */
+function tabulated(d: VelocityDistribution, n = 8192): (u: number) => number {
+  const [lo, hi] = speedRange(d);
+  const v = new Float64Array(n), cdf = new Float64Array(n);
+  for (let i = 0; i < n; i++) v[i] = lo + ((hi - lo) * i) / (n - 1);
+  for (let i = 1; i < n; i++) cdf[i] = cdf[i - 1] + 0.5 * (densityAt(d, v[i - 1]) + densityAt(d, v[i])) * (v[i] - v[i - 1]);
+  const total = cdf[n - 1];
+  return (u: number) => {
+    const t = u * total;
+    let a = 0, b = n - 1;
+    while (b - a > 1) {
+      const m = (a + b) >> 1;
+      if (cdf[m] <= t) a = m;
+      else b = m;
+    }
+    const span = cdf[b] - cdf[a];
+    return span > 0 ? v[a] + ((t - cdf[a]) / span) * (v[b] - v[a]) : v[a];
+  };
+}
+
+/** A speed sampler of the beam: exact for a fixed speed, a table and the effusive v³ e^{−v²/a²} (v²/a² is Gamma(2, 1)). */
+function speedSampler(d: VelocityDistribution, rng: Random): () => number {
+  switch (d.kind) {
+    case 'fixed': return () => d.speed;
+    case 'effusive': return () => {
+      let p = 0;
+      while (p === 0) p = rng.uniform() * rng.uniform();
+      return d.a * Math.sqrt(-Math.log(p));
+    };
+    case 'table': {
+      const cum = new Float64Array(d.weights.length);
+      let s = 0;
+      d.weights.forEach((w, i) => (cum[i] = s += w));
+      return () => {
+        const t = rng.uniform() * s;
+        let i = 0;
+        while (i < cum.length - 1 && cum[i] <= t) i++;
+        return d.speeds[i];
+      };
+    }
+    case 'supersonic': {
+      const inv = tabulated(d);
+      return () => inv(rng.uniform());
+    }
+  }
+}
+
+const within = (p: number, c: number, w: number) => Math.abs(p - c) <= w / 2;
+
+/** Each path's probability at each of the atoms' speeds: the trace of its state at that speed. */
+function pathProbabilities(p: FinePath, speeds: Float64Array): Float64Array {
+  if (p.spec) return specTraceAt(p.spec, speeds, Infinity);
+  const g = p.grid!;
+  const out = new Float64Array(speeds.length);
+  // a speed-by-speed path (after a field twist): its traces on its grid, interpolated linearly in the speed
+  const n = g.speeds.length;
+  for (let i = 0; i < speeds.length; i++) {
+    const v = speeds[i];
+    if (n === 1 || v <= g.speeds[0]) out[i] = g.traces[0];
+    else if (v >= g.speeds[n - 1]) out[i] = g.traces[n - 1];
+    else {
+      let k = 1;
+      while (g.speeds[k] < v) k++;
+      const t = (v - g.speeds[k - 1]) / (g.speeds[k] - g.speeds[k - 1]);
+      out[i] = g.traces[k - 1] + t * (g.traces[k] - g.traces[k - 1]);
+    }
+  }
+  return out;
+}
+
+export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonly<Record<string, number>> = {}): SimulationResult {
+  const atoms = opts.atoms ?? 100_000;
+  const seed = opts.seed ?? 1;
+  const bins = opts.bins ?? 40;
+  if (!Number.isInteger(atoms) || atoms < 1 || atoms > MAX_ATOMS) throw new RunError(`simulate: the number of atoms must be a whole number from 1 to ${MAX_ATOMS}, got ${atoms}`);
+  if (!Number.isInteger(seed) || seed < 0 || seed > 0xffffffff) throw new RunError(`simulate: the seed must be a whole number from 0 to 4294967295, got ${seed}`);
+  const line = lineAt(plan, values);
+  let paths: readonly FinePath[] = [];
+  let flux = 0;
+  const result = runLine(line, { ...opts, light: true, onPaths: (p, f) => ((paths = p), (flux = f)) });
+  const warnings: string[] = [];
+  const rng = new Random(seed);
+
+  // isotopes by abundance (the paths of one isotope share its system, fraction and distribution)
+  const systems = new Map<string, { fraction: number; dist: VelocityDistribution; paths: number[] }>();
+  paths.forEach((p, i) => {
+    let s = systems.get(p.system);
+    if (!s) systems.set(p.system, (s = { fraction: p.fraction, dist: p.dist, paths: [] }));
+    s.paths.push(i);
+  });
+  const sysList = [...systems.values()];
+  if (!sysList.length) throw new RunError('simulate: the line has no path that reaches a detector or a stop');
+
+  // every atom's isotope and speed first (the paths' probabilities are evaluated for all speeds at once)
+  const sysOf = new Int32Array(atoms);
+  const speeds = new Float64Array(atoms);
+  const samplers = sysList.map((s) => speedSampler(s.dist, rng));
+  for (let a = 0; a < atoms; a++) {
+    let u = rng.uniform() * sysList.reduce((t, s) => t + s.fraction, 0), k = 0;
+    while (k < sysList.length - 1 && u >= sysList[k].fraction) u -= sysList[k++].fraction;
+    sysOf[a] = k;
+    speeds[a] = samplers[k]();
+  }
+  if (opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
+  const probs = paths.map((p) => pathProbabilities(p, speeds));
+
+  // in the order of the run's result
+  const detectors = result.detectors.map((d) => line.elements.find((e) => e.id === d.id)!).filter((e) => e.kind === 'detector');
+  const perDet = new Map(detectors.map((d) => [d.id, { hits: 0, xs: [] as number[], zs: [] as number[] }]));
+  const perPath = paths.map((p) => ({ path: [...p.path], target: p.target, atoms: 0, clipped: 0 }));
+  let lostSpin = 0, clipped = 0, negative = 0;
+  const point = (r: Rect | null, axis: 'x' | 'z') => (r ? (axis === 'x' ? r.x : r.z) + ((axis === 'x' ? r.width : r.height) * (rng.uniform() - 0.5)) : 0);
+  for (let a = 0; a < atoms; a++) {
+    if ((a & 0xffff) === 0 && opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
+    const s = sysList[sysOf[a]];
+    // one path by the Born rule at this atom's speed; what is left is absorbed in the spin operations
+    let u = rng.uniform(), chosen = -1;
+    for (const i of s.paths) {
+      const p = probs[i][a];
+      if (p < 0) negative = Math.min(negative, p);
+      u -= Math.max(0, p);
+      if (u < 0) {
+        chosen = i;
+        break;
+      }
+    }
+    if (chosen < 0) {
+      lostSpin++;
+      continue;
+    }
+    const fp = paths[chosen];
+    const t = fp.track;
+    const v = speeds[a];
+    const sx = point(t.source, 'x'), sz = point(t.source, 'z');
+    const cx = t.collimator ? point(t.collimator.rect, 'x') : sx, cz = t.collimator ? point(t.collimator.rect, 'z') : sz;
+    const ys = t.collimator?.y ?? Infinity;
+    const at = (y: number) => {
+      const f = Number.isFinite(ys) && ys > 0 ? y / ys : 0;
+      const d = deflection(t.kicks, y, v);
+      return { x: sx + (cx - sx) * f + d.x, z: sz + (cz - sz) * f + d.z };
+    };
+    perPath[chosen].atoms++;
+    let ok = true;
+    for (const st of t.strips) {
+      const q = at(st.y)[st.axis];
+      if (q < st.lo || q > st.hi) {
+        ok = false;
+        break;
+      }
+    }
+    const pos = at(fp.plane);
+    const w = fp.detector?.window;
+    if (ok && w && !(within(pos.x, w.x, w.width) && within(pos.z, w.z, w.height))) ok = false;
+    if (!ok) {
+      perPath[chosen].clipped++;
+      clipped++;
+      continue;
+    }
+    const acc = fp.detector ? perDet.get(fp.detector.id) : undefined;
+    if (acc) {
+      acc.hits++;
+      acc.xs.push(pos.x);
+      acc.zs.push(pos.z);
+    }
+  }
+  if (negative < -1e-9) warnings.push(`a path's probability came out at ${negative.toExponential(1)} at some speed (round-off of the state); it was taken as 0`);
+
+  const out: SimulatedDetector[] = detectors.map((d) => {
+    const acc = perDet.get(d.id)!;
+    const f = acc.hits / atoms;
+    const eff = d.kind === 'detector' ? d.efficiency : 1;
+    const bg = d.kind === 'detector' ? d.background : 0;
+    const dwell = d.kind === 'detector' ? d.dwell : 1;
+    const signal = flux * f * eff;
+    const det: SimulatedDetector = {
+      id: d.id, hits: acc.hits, fraction: f, fractionSigma: Math.sqrt((f * (1 - f)) / atoms), signal,
+      signalSigma: flux * eff * Math.sqrt((f * (1 - f)) / atoms), background: bg, dwell,
+      counts: rng.poisson((signal + bg) * dwell),
+    };
+    if (acc.hits > 0) {
+      const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
+      const mx = mean(acc.xs), mz = mean(acc.zs);
+      const rms = (xs: number[], m: number) => Math.sqrt(xs.reduce((s, x) => s + (x - m) ** 2, 0) / xs.length);
+      det.mean = { x: mx, z: mz };
+      det.rms = { x: rms(acc.xs, mx), z: rms(acc.zs, mz) };
+      det.map = hitMap(acc.xs, acc.zs, bins, d.kind === 'detector' ? d.window : undefined);
+    }
+    return det;
+  });
+  return {
+    format: 'spinyard.simulation', version: 1, title: line.title, atoms, seed, flux, detectors: out, paths: perPath,
+    lost: { spin: lostSpin, clipped },
+    method: 'atoms drawn one by one: isotope by abundance, speed from the flux-weighted distribution (effusive exactly, v²/a² ~ Gamma(2, 1); supersonic by its tabulated inverse CDF; a table by its weights), start point uniform in the oven aperture and a point uniform in the path\'s first slit, one path by the Born rule at the atom\'s speed, deflection μ_eff G/M over each magnet, clipping at every later slit and pole gap and at the window; xoshiro128**, seeded',
+    warnings: [...warnings, ...result.warnings.filter((w) => /^invariant/.test(w))],
+  };
+}
+
+/** A 2-D histogram of hits: over the window where the detector has one, else over the hits' range. */
+function hitMap(xs: readonly number[], zs: readonly number[], bins: number, window: Rect | undefined): HitMap {
+  const range = (vs: readonly number[], c: number | undefined, w: number | undefined): [number, number] => {
+    if (c !== undefined && w !== undefined) return [c - w / 2, c + w / 2];
+    let lo = Infinity, hi = -Infinity;
+    for (const v of vs) {
+      lo = Math.min(lo, v);
+      hi = Math.max(hi, v);
+    }
+    if (!(hi > lo)) return [lo - 5e-4, hi + 5e-4];
+    const pad = (hi - lo) * 0.02;
+    return [lo - pad, hi + pad];
+  };
+  const [x0, x1] = range(xs, window?.x, window?.width);
+  const [z0, z1] = range(zs, window?.z, window?.height);
+  const counts = Array.from({ length: bins }, () => new Array<number>(bins).fill(0));
+  for (let i = 0; i < xs.length; i++) {
+    const a = Math.min(bins - 1, Math.max(0, Math.floor(((xs[i] - x0) / (x1 - x0)) * bins)));
+    const b = Math.min(bins - 1, Math.max(0, Math.floor(((zs[i] - z0) / (z1 - z0)) * bins)));
+    counts[a][b]++;
+  }
+  const edges = (lo: number, hi: number) => Array.from({ length: bins + 1 }, (_, i) => lo + ((hi - lo) * i) / bins);
+  return { x: edges(x0, x1), z: edges(z0, z1), counts };
+}
+
+/** For the tests: the speed sampler of a distribution with its own seeded generator. */
+export const testing = {
+  speedSampler: (d: VelocityDistribution, seed: number): (() => number) => speedSampler(d, new Random(seed)),
+};

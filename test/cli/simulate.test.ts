@@ -1,0 +1,29 @@
+/** `spinyard simulate`: the table beside the engine's numbers, JSON, messages. */
+import { describe, expect, it } from 'vitest';
+import { runCli } from '../../src/cli/cli.ts';
+
+const G = new URL('../../samples/bench-g-silver-split.spinyard', import.meta.url).pathname;
+
+describe('spinyard simulate FILE', () => {
+  it('prints each detector\'s atoms, simulated and engine signals, and one run\'s counts', () => {
+    const out = runCli(['simulate', G, '--atoms', '20000', '--seed', '4']);
+    expect(out.stderr).toBe('');
+    expect(out.code).toBe(0);
+    expect(out.stdout).toMatch(/20000 atoms drawn \(seed 4\) from an oven flux of 1e9 \/s/);
+    expect(out.stdout).toMatch(/^DL\s+\d+\s+[\d.e]+ ± [\d.e]+\s+8\.472e7\s+-?[\d.]+ σ\s+\d+ in 30 s/m);
+  });
+
+  it('gives JSON with hit maps that repeats for a seed', () => {
+    const a = runCli(['simulate', G, '--atoms', '5000', '--json']);
+    const j = JSON.parse(a.stdout);
+    expect(j.format).toBe('spinyard.simulation');
+    expect(j.detectors[0].map.counts).toHaveLength(40);
+    expect(runCli(['simulate', G, '--atoms', '5000', '--json']).stdout).toBe(a.stdout);
+  });
+
+  it('names what is wrong', () => {
+    expect(runCli(['simulate', G, '--atoms', 'lots']).stderr).toMatch(/--atoms: a whole number/);
+    expect(runCli(['simulate', G, '--seed', '1.5']).stderr).toMatch(/--seed: a whole number/);
+    expect(runCli(['simulate', G, '-o', G]).stderr).toMatch(/never written over its document/);
+  });
+});
