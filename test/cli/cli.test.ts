@@ -214,7 +214,7 @@ describe('help, version and unknown commands', () => {
   });
 
   it('no arguments, an unknown command or an unknown top-level option: usage error on stderr', () => {
-    for (const [argv, re] of [[[], /Usage:/], [['simulate'], /unknown command "simulate"/], [['--verbose'], /unknown option --verbose/], [['help', 'simulate'], /unknown command "simulate"/]] as const) {
+    for (const [argv, re] of [[[], /Usage:/], [['optimise'], /unknown command "optimise"/], [['--verbose'], /unknown option --verbose/], [['help', 'optimise'], /unknown command "optimise"/]] as const) {
       const out = runCli(argv);
       expect(out.code).toBe(2);
       expect(out.stdout).toBe('');
