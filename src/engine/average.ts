@@ -11,7 +11,7 @@ import { charFunction, effusiveCharInto, type VelocityDistribution } from '../ph
 import { expNegI } from '../physics/trig.ts';
 import { tableKernel, denseKernels } from '../physics/kernels.ts';
 import { type SpecState, type SpecTerm, type SharedAverages, addPhased, basisCols, phaseLength, significance } from './spectral.ts';
-import { type BasisFactors, blocksSandwich, gramOf } from './blocks.ts';
+import { type BasisFactors, blocksGramEntries, blocksSandwich, gramOf } from './blocks.ts';
 import { workArray } from './work.ts';
 
 /** Caches χ(Φ) of one distribution (many leaves share frequencies). */
@@ -440,34 +440,8 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
   const np = pairs.length;
   const gre = new Float64Array(np), gim = new Float64Array(np);
   const f = st.fac;
-  if (f) {
-    // (B†(L†L)B)_ba over the few non-zero rows of columns a and b of B, without forming W
-    const bl = f.blocks, { start, rows } = f.support, m = f.left ? gramOf(f.left) : null, dm = bl.rows;
-    for (let p = 0; p < np; p++) {
-      const i = pairs[p], a = (i / r) | 0, b = i - a * r;
-      let sr = 0, si = 0;
-      for (let q = start[b]; q < start[b + 1]; q++) {
-        const c = rows[q];
-        const xr = bl.re[c * r + b], xi = -bl.im[c * r + b];
-        if (xr === 0 && xi === 0) continue;
-        let yr = 0, yi = 0;
-        if (m) {
-          for (let u = start[a]; u < start[a + 1]; u++) {
-            const j = rows[u];
-            const mr = m.re[c * dm + j], mi = m.im[c * dm + j], br = bl.re[j * r + a], bi = bl.im[j * r + a];
-            yr += mr * br - mi * bi;
-            yi += mr * bi + mi * br;
-          }
-        } else {
-          yr = bl.re[c * r + a];
-          yi = bl.im[c * r + a];
-        }
-        sr += xr * yr - xi * yi;
-        si += xr * yi + xi * yr;
-      }
-      gre[p] = sr; gim[p] = si;
-    }
-  } else {
+  if (f) blocksGramEntries(f, r, pairs, gre, gim);
+  else {
     const W = st.W, d = W.rows;
     for (let p = 0; p < np; p++) {
       const i = pairs[p], a = (i / r) | 0, b = i - a * r;

@@ -175,3 +175,36 @@ export function blocksSandwich(f: BasisFactors, A: CMat): CMat {
   }
   return out;
 }
+
+/**
+ * The entries (b, a) of the Gram matrix W†W = B†(L†L)B of a factored basis at the pairs i = a·r + b listed in
+ * `pairs`, over the few non-zero rows of columns a and b of B, without forming W (re into gre, im into gim).
+ */
+export function blocksGramEntries(f: BasisFactors, r: number, pairs: Int32Array, gre: Float64Array, gim: Float64Array): void {
+  const np = pairs.length;
+  const bl = f.blocks, { start, rows } = f.support, m = f.left ? gramOf(f.left) : null, dm = bl.rows;
+  for (let p = 0; p < np; p++) {
+    const i = pairs[p], a = (i / r) | 0, b = i - a * r;
+    let sr = 0, si = 0;
+    for (let q = start[b]; q < start[b + 1]; q++) {
+      const c = rows[q];
+      const xr = bl.re[c * r + b], xi = -bl.im[c * r + b];
+      if (xr === 0 && xi === 0) continue;
+      let yr = 0, yi = 0;
+      if (m) {
+        for (let u = start[a]; u < start[a + 1]; u++) {
+          const j = rows[u];
+          const mr = m.re[c * dm + j], mi = m.im[c * dm + j], br = bl.re[j * r + a], bi = bl.im[j * r + a];
+          yr += mr * br - mi * bi;
+          yi += mr * bi + mi * br;
+        }
+      } else {
+        yr = bl.re[c * r + a];
+        yi = bl.im[c * r + a];
+      }
+      sr += xr * yr - xi * yi;
+      si += xr * yi + xi * yr;
+    }
+    gre[p] = sr; gim[p] = si;
+  }
+}
