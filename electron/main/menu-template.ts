@@ -134,6 +134,8 @@ export function buildMenuTemplate(input: MenuInput): MenuItemSpec[] {
       SEP,
       cmd('view.scanPanel', platform),
       cmd('view.budgetPanel', platform),
+      cmd('view.fitPanel', platform),
+      cmd('view.simulatePanel', platform),
       ...(input.devTools ? [SEP, { role: 'toggleDevTools' } as MenuItemSpec] : []),
     ],
   });

@@ -51,9 +51,9 @@ export interface AppApi {
   printSheet(pdf: boolean): Promise<void>;
   focusPane(name: 'tree' | 'inspector' | 'results'): void;
   /** Which planning panels are open. */
-  panels: { readonly scan: boolean; readonly budget: boolean };
+  panels: { readonly scan: boolean; readonly budget: boolean; readonly fit: boolean; readonly simulate: boolean };
   /** Opens a planning panel (and moves the focus to it), or closes it. */
-  togglePanel(name: 'scan' | 'budget'): void;
+  togglePanel(name: 'scan' | 'budget' | 'fit' | 'simulate'): void;
   /** An edit of the document's kept scans or tolerances (the command `plan.edit`); a refusal is shown in its panel. */
   planEdit(e: PlanEdit): void;
 }
@@ -142,7 +142,9 @@ export function buildCommands(): Command<AppCtx>[] {
     { id: 'view.toggleDark', label: 'Toggle Dark Theme', menu: 'View', shortcut: 'CmdOrCtrl+Shift+D', global: true, perform: (c) => c.app.toggleDark() },
     { id: 'view.scanPanel', label: 'Scan Panel', menu: 'View', shortcut: 'Alt+S', describe: (c) => (c.app.panels.scan ? 'Close the Scan Panel' : 'Scan Panel…'), perform: (c) => c.app.togglePanel('scan') },
     { id: 'view.budgetPanel', label: 'Tolerance Budget Panel', menu: 'View', shortcut: 'Alt+B', describe: (c) => (c.app.panels.budget ? 'Close the Tolerance Budget Panel' : 'Tolerance Budget Panel…'), perform: (c) => c.app.togglePanel('budget') },
-    // the planning panels' edits of the document's scans and tolerances (undoable like every edit)
+    { id: 'view.fitPanel', label: 'Fit Panel', menu: 'View', shortcut: 'Alt+T', describe: (c) => (c.app.panels.fit ? 'Close the Fit Panel' : 'Fit Panel…'), perform: (c) => c.app.togglePanel('fit') },
+    { id: 'view.simulatePanel', label: 'Simulated Run Panel', menu: 'View', shortcut: 'Alt+M', describe: (c) => (c.app.panels.simulate ? 'Close the Simulated Run Panel' : 'Simulated Run Panel…'), perform: (c) => c.app.togglePanel('simulate') },
+    // the planning panels' edits of the document's scans and tolerances and a fit's values (undoable like every edit)
     { id: 'plan.edit', label: 'Edit the Kept Scans and Tolerances', menu: 'Edit', takesArg: true, perform: (c, e) => c.app.planEdit(e as PlanEdit) },
     { id: 'help.about', label: 'About Spinyard', menu: 'Help', perform: (c) => c.app.dialog({ kind: 'about' }) },
     { id: 'help.readme', label: 'README', menu: 'Help', perform: (c) => c.app.dialog({ kind: 'readme' }) },

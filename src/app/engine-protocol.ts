@@ -1,7 +1,7 @@
 // Messages between the renderer and the engine worker.
 import type { Beamline } from './core-adapter.ts';
 import type { RunResultView } from './results.ts';
-import type { BudgetResult, ScanResult } from './core-adapter.ts';
+import type { BudgetResult, FitResult, ScanResult, SimulationResult } from './core-adapter.ts';
 
 export interface EngineRequest {
   seq: number;
@@ -32,15 +32,38 @@ export interface ScanAxisRequest {
   spacing: 'linear' | 'log';
 }
 
+// A fit (fit.ts of the engine) reads the measurements' CSV text in the worker against the compiled document and
+// runs in one piece; a simulated run (simulate.ts) likewise. Neither can pause: the client terminates the worker
+// to stop them. A fit's answer carries, beside the result, the data's set-point columns and each reading's
+// set-points (by its line in the file), for the residuals plot; a simulated run's carries the engine's signal of
+// every detector at the document's set-points, to compare the sampled signals with.
+
+/** A parameter to fit, by name, with optional bounds (SI). */
+export interface FitParameterRequest { name: string; lower?: number; upper?: number }
+
+/** The readings' set-points as the file gives them: the columns (name, unit of the file, SI factor of the
+ *  shown unit) and per reading its line in the file and its values (SI, in the order of the columns). */
+export interface FitData {
+  columns: { name: string; unit: string; factor: number }[];
+  readings: { line: number; detector: string; values: number[] }[];
+}
+
+/** A detector's signal (counts/s without background) by the engine, at the document's set-points. */
+export interface EngineSignal { id: string; signal: number }
+
 export type PlanRequest =
   | { kind: 'scan'; seq: number; text: string; axes: ScanAxisRequest[]; title?: string }
   | { kind: 'budget'; seq: number; text: string; draws: number; seed: number }
+  | { kind: 'fit'; seq: number; text: string; csv: string; fileName: string; free: FitParameterRequest[]; state: boolean }
+  | { kind: 'simulate'; seq: number; text: string; atoms: number; seed: number; bins?: number }
   | { kind: 'cancel'; seq: number };
 
 export type PlanReply =
   | { type: 'plan-progress'; seq: number; fraction: number }
   | { type: 'scan-result'; seq: number; result: ScanResult; ms: number }
   | { type: 'budget-result'; seq: number; result: BudgetResult; ms: number }
+  | { type: 'fit-result'; seq: number; result: FitResult; data: FitData; ms: number }
+  | { type: 'simulate-result'; seq: number; result: SimulationResult; engine: EngineSignal[]; ms: number }
   | { type: 'plan-error'; seq: number; message: string }
   | { type: 'plan-cancelled'; seq: number };
 

@@ -2,19 +2,24 @@
 // with progress and cancel. Cancel asks the worker to stop (a scan stops before its next point and keeps its
 // compiled document for the next request); when no answer comes within `graceMs`, or for a budget, which
 // cannot pause, the worker is terminated and a fresh one starts with the next request. A new request while one
-// runs replaces it. Answers of a request that is not the current one are discarded.
+// runs replaces it. Answers of a request that is not the current one are discarded. A fit and a simulated run are
+// stopped as a budget is, by ending the worker.
 
-import type { BudgetResult, ScanResult } from './core-adapter.ts';
-import type { PlanReply, PlanRequest, WorkerReply } from './engine-protocol.ts';
+import type { BudgetResult, FitResult, ScanResult, SimulationResult } from './core-adapter.ts';
+import type { EngineSignal, FitData, FitParameterRequest, PlanReply, PlanRequest, WorkerReply } from './engine-protocol.ts';
 import type { WorkerLike } from './engine-client.ts';
 
 export type PlanJob =
   | { kind: 'scan'; text: string; axes: (PlanRequest & { kind: 'scan' })['axes']; title?: string }
-  | { kind: 'budget'; text: string; draws: number; seed: number };
+  | { kind: 'budget'; text: string; draws: number; seed: number }
+  | { kind: 'fit'; text: string; csv: string; fileName: string; free: FitParameterRequest[]; state: boolean }
+  | { kind: 'simulate'; text: string; atoms: number; seed: number; bins?: number };
+
+export type PlanKind = PlanJob['kind'];
 
 export interface PlanStatus {
   running: boolean;
-  kind?: 'scan' | 'budget';
+  kind?: PlanKind;
   seq: number;
   progress: number;
   /** A cancel was asked for and has not been answered yet. */
@@ -24,8 +29,10 @@ export interface PlanStatus {
 export type PlanAnswer =
   | { seq: number; kind: 'scan'; result: ScanResult; ms: number }
   | { seq: number; kind: 'budget'; result: BudgetResult; ms: number }
-  | { seq: number; kind: 'scan' | 'budget'; error: string }
-  | { seq: number; kind: 'scan' | 'budget'; cancelled: true };
+  | { seq: number; kind: 'fit'; result: FitResult; data: FitData; ms: number }
+  | { seq: number; kind: 'simulate'; result: SimulationResult; engine: EngineSignal[]; ms: number }
+  | { seq: number; kind: PlanKind; error: string }
+  | { seq: number; kind: PlanKind; cancelled: true };
 
 export interface PlanClient {
   /** Starts `job` (replacing a running one); returns its sequence number. */
@@ -76,6 +83,10 @@ export function createPlanClient(
           return done({ seq: r.seq, kind: 'scan', result: r.result, ms: r.ms });
         case 'budget-result':
           return done({ seq: r.seq, kind: 'budget', result: r.result, ms: r.ms });
+        case 'fit-result':
+          return done({ seq: r.seq, kind: 'fit', result: r.result, data: r.data, ms: r.ms });
+        case 'simulate-result':
+          return done({ seq: r.seq, kind: 'simulate', result: r.result, engine: r.engine, ms: r.ms });
         case 'plan-error':
           return done({ seq: r.seq, kind, error: r.message });
         case 'plan-cancelled':
@@ -106,14 +117,15 @@ export function createPlanClient(
       Object.assign(status, { running: true, kind: job.kind, seq, progress: 0, cancelling: false });
       const req: PlanRequest = job.kind === 'scan'
         ? { kind: 'scan', seq, text: job.text, axes: job.axes, ...(job.title !== undefined ? { title: job.title } : {}) }
-        : { kind: 'budget', seq, text: job.text, draws: job.draws, seed: job.seed };
+        : { ...job, seq };
       ensure().postMessage(req);
       emit();
       return seq;
     },
     cancel() {
       if (!status.running || status.cancelling) return;
-      if (status.kind === 'budget') return stopNow();
+      // a budget, a fit and a simulated run cannot pause: the worker is ended at once
+      if (status.kind !== 'scan') return stopNow();
       status.cancelling = true;
       const req: PlanRequest = { kind: 'cancel', seq: status.seq };
       worker?.postMessage(req);

@@ -1,20 +1,59 @@
 // The planning panels' edits of the document: keep a scan in its `scans` list, drop one, and add, change or
-// remove a tolerance in its `tolerances` list (docs/design.md, "Scans" and "Tolerances"). Each gives the new
+// remove a tolerance in its `tolerances` list (docs/design.md, "Scans" and "Tolerances"), and write a fit's values
+// into the document (all of them, one edit). Each gives the new
 // document and the label Undo shows; the document layer validates it when the editor takes it (a half-width in
 // the wrong unit is refused there, naming its path). Pure: the document given is not changed.
-import type { BeamlineDoc, ScanDoc, ToleranceDoc } from './core-adapter.ts';
+import { editAt, type BeamlineDoc, type FitResult, type ScanDoc, type ToleranceDoc } from './core-adapter.ts';
 
 export type PlanEdit =
   | { kind: 'keepScan'; scan: ScanDoc }
   | { kind: 'dropScan'; index: number }
   | { kind: 'addTolerance'; tolerance: ToleranceDoc }
   | { kind: 'setTolerance'; index: number; tolerance: ToleranceDoc }
-  | { kind: 'removeTolerance'; index: number };
+  | { kind: 'removeTolerance'; index: number }
+  | { kind: 'applyFit'; fit: FitResult };
 
 export type PlanEditResult = { ok: true; doc: BeamlineDoc; label: string } | { ok: false; message: string };
 
 function scanName(s: ScanDoc): string {
   return s.title || s.parameters.map((p) => p.parameter).join(' × ');
+}
+
+/** A fitted value as the document writes it: in the parameter's shown unit, 10 significant digits (a plain
+ *  number where it has no unit), as the command line's fitted document writes it. */
+export function fittedQuantity(value: number, unit: string, factor: number): string | number {
+  const v = Number((value / factor).toPrecision(10));
+  return unit ? `${v} ${unit}` : v;
+}
+
+/** The document with a fit's values written in: each parameter at its path, and the oven's populations (along
+ *  the oven state's axis, 8 significant digits) where the fit had them. */
+export function fittedDoc(doc: BeamlineDoc, f: FitResult): { ok: true; doc: BeamlineDoc } | { ok: false; message: string } {
+  let out = doc;
+  for (const p of f.parameters) {
+    if (!Number.isFinite(p.value)) return { ok: false, message: `the fitted ${p.name} is not a number` };
+    const r = editAt(out, p.path, fittedQuantity(p.value, p.unit, p.factor));
+    if (!r.ok) return { ok: false, message: `${p.name}: ${r.message}` };
+    out = r.doc;
+  }
+  if (f.state) {
+    const st = doc.oven.state;
+    const axis = st.kind === 'unpolarized' ? { theta: '0 deg', phi: '0 deg' } : st.axis;
+    const pops: Record<string, number> = {};
+    for (let i = 0; i < f.state.labels.length; i++) {
+      const v = f.state.populations[i];
+      if (!Number.isFinite(v)) return { ok: false, message: `the fitted population ${f.state.labels[i]} is not a number` };
+      pops[f.state.labels[i]] = Number(v.toPrecision(8));
+    }
+    out = { ...out, oven: { ...out.oven, state: { kind: 'populations', axis, p: pops } } } as BeamlineDoc;
+  }
+  return { ok: true, doc: out };
+}
+
+/** What Undo calls a fit's edit. */
+export function fitLabel(f: FitResult): string {
+  const names = [...f.parameters.map((p) => p.name), ...(f.state ? ['oven.state'] : [])];
+  return `apply fitted ${names.join(', ')}`;
 }
 
 export function applyPlanEdit(doc: BeamlineDoc, e: PlanEdit): PlanEditResult {
@@ -45,5 +84,10 @@ export function applyPlanEdit(doc: BeamlineDoc, e: PlanEdit): PlanEditResult {
     case 'removeTolerance':
       if (!tols[e.index]) return { ok: false, message: `the document keeps no tolerance ${e.index + 1}` };
       return { ok: true, doc: withList('tolerances', without(tols, e.index)), label: `remove tolerance ${tols[e.index].parameter}` };
+    case 'applyFit': {
+      if (!e.fit.parameters.length && !e.fit.state) return { ok: false, message: 'the fit has no values to apply' };
+      const r = fittedDoc(doc, e.fit);
+      return r.ok ? { ok: true, doc: r.doc, label: fitLabel(e.fit) } : r;
+    }
   }
 }

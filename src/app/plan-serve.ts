@@ -3,13 +3,15 @@
 // reuses what the engine derived for the first), then runs a scan point by point or a tolerance budget,
 // posting progress at most every 50 ms. A scan gives the event loop a turn every `sliceMs` so that a cancel
 // can arrive; it then stops before its next point and answers "plan-cancelled". A budget runs in one piece
-// (the engine's budget has no place to pause); the client terminates the worker to stop it. Kept apart from
+// (the engine's budget has no place to pause); the client terminates the worker to stop it. A fit (the
+// measurements' CSV read against the compiled document) and a simulated run likewise run in one piece. Kept apart from
 // the worker's global scope so it runs in tests as it runs in the worker.
 
 import {
-  compile, budget, scanIndices, scanParameters, scanPoint, scanResult, CancelledError, type Plan, type ScanPoint,
+  compile, budget, scanIndices, scanParameters, scanPoint, scanResult, CancelledError, fit, readMeasurements, simulate, evaluate, parameter,
+  displayUnit, type Plan, type ScanPoint,
 } from './core-adapter.ts';
-import type { PlanReply, PlanRequest } from './engine-protocol.ts';
+import type { FitData, PlanReply, PlanRequest } from './engine-protocol.ts';
 
 export interface PlanServerOptions {
   now?: () => number;
@@ -86,6 +88,29 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     post({ type: 'budget-result', seq: req.seq, result, ms: now() - t0 });
   };
 
+  const runFit = (req: PlanRequest & { kind: 'fit' }) => {
+    const t0 = now();
+    const plan = planOf(req.text);
+    const m = readMeasurements(req.csv, plan, req.fileName);
+    const result = fit(plan, m, { free: req.free, state: req.state, isCancelled: () => cancelled.has(req.seq) });
+    const columns = m.columns.map((c) => {
+      const slot = parameter(plan, c.name);
+      const u = displayUnit(slot.dimension);
+      return { name: slot.name, unit: u.unit, factor: u.factor };
+    });
+    const data: FitData = { columns, readings: m.readings.map((r) => ({ line: r.line, detector: r.detector, values: columns.map((c) => r.setPoints[c.name]) })) };
+    post({ type: 'fit-result', seq: req.seq, result, data, ms: now() - t0 });
+  };
+
+  const runSimulate = (req: PlanRequest & { kind: 'simulate' }) => {
+    const t0 = now();
+    const plan = planOf(req.text);
+    const isCancelled = () => cancelled.has(req.seq);
+    const result = simulate(plan, { atoms: req.atoms, seed: req.seed, ...(req.bins !== undefined ? { bins: req.bins } : {}), isCancelled });
+    const run = evaluate(plan, {}, { light: true, isCancelled });
+    post({ type: 'simulate-result', seq: req.seq, result, engine: run.detectors.map((d) => ({ id: d.id, signal: d.signal })), ms: now() - t0 });
+  };
+
   return {
     async handle(req) {
       if (req.kind === 'cancel') {
@@ -94,7 +119,9 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
       }
       try {
         if (req.kind === 'scan') await runScan(req);
-        else runBudget(req);
+        else if (req.kind === 'budget') runBudget(req);
+        else if (req.kind === 'fit') runFit(req);
+        else runSimulate(req);
       } catch (e) {
         if (e instanceof CancelledError) post({ type: 'plan-cancelled', seq: req.seq });
         else post({ type: 'plan-error', seq: req.seq, message: (e as Error).message ?? String(e) });

@@ -10,3 +10,6 @@ export { engineCacheStats, clearEngineCaches, type CacheStats } from './session.
 export { countsIn, countSigma, signalToBackground, timeToPrecision } from './counting.ts';
 export { budget, quantile, MAX_BUDGET_DRAWS, type BudgetResult, type BudgetTolerance, type BudgetDetector, type Sensitivity, type BudgetOptions } from './budget.ts';
 export { Random } from './random.ts';
+export { fit, type FitResult, type FitOptions, type FreeParameter, type FittedParameter, type FitResidual } from './fit.ts';
+export { readMeasurements, MAX_READINGS, type Measurements, type Reading } from './measurements.ts';
+export { simulate, MAX_ATOMS, type SimulationResult, type SimulatedDetector, type SimulateOptions, type HitMap } from './simulate.ts';

@@ -241,6 +241,8 @@ export const HOST_COMMANDS: readonly HostCommand[] = [
   { id: 'view.toggleDark', label: 'Toggle Dark Theme', accelerator: 'CmdOrCtrl+Shift+D' },
   { id: 'view.scanPanel', label: 'Scan Panel…', accelerator: 'Alt+S' },
   { id: 'view.budgetPanel', label: 'Tolerance Budget Panel…', accelerator: 'Alt+B' },
+  { id: 'view.fitPanel', label: 'Fit Panel…', accelerator: 'Alt+T' },
+  { id: 'view.simulatePanel', label: 'Simulated Run Panel…', accelerator: 'Alt+M' },
   { id: 'help.about', label: 'About Spinyard' },
   { id: 'help.readme', label: 'README' },
 ];

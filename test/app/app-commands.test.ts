@@ -16,7 +16,7 @@ function fakeApi(over: Partial<AppApi> = {}): AppApi {
     undo: f(), redo: f(), newDoc: f(), open: vi.fn(async () => {}), save: vi.fn(async () => true), openSample: vi.fn(async () => {}),
     openRecent: vi.fn(async () => {}), toggleDark: f(), zoom: f(), palette: f(), dialog: f(), deleteSelected: f(), duplicateSelected: f(),
     moveSelected: f(), selectStep: f(), cancelRun: f(), close: f(), exportCsv: f(), printSheet: vi.fn(async () => {}), focusPane: f(),
-    panels: { scan: false, budget: false }, togglePanel: f(), planEdit: f(),
+    panels: { scan: false, budget: false, fit: false, simulate: false }, togglePanel: f(), planEdit: f(),
     ...over,
   };
 }

@@ -32,6 +32,8 @@ import { Caution } from './Caution.tsx';
 import { SkipLink } from './SkipLink.tsx';
 import { ScanPanel } from './ScanPanel.tsx';
 import { BudgetPanel } from './BudgetPanel.tsx';
+import { FitPanel } from './FitPanel.tsx';
+import { SimulatePanel } from './SimulatePanel.tsx';
 
 /** A worker of the engine (the same module runs the live run and the planning requests). */
 const makeEngineWorker = (): WorkerLike => new Worker(new URL('../engine.worker.ts', import.meta.url), { type: 'module' }) as never;
@@ -65,8 +67,8 @@ export function App({ host }: { host: Host }) {
   const [epsText, setEpsText] = useState('1 %');
   const [notice, setNotice] = useState<string | undefined>();
   /** The planning panels: open, and mounted once opened (a closed panel keeps its last result and takes no space). */
-  const [panels, setPanels] = useState({ scan: false, budget: false });
-  const [mounted, setMounted] = useState({ scan: false, budget: false });
+  const [panels, setPanels] = useState({ scan: false, budget: false, fit: false, simulate: false });
+  const [mounted, setMounted] = useState({ scan: false, budget: false, fit: false, simulate: false });
   /** The message of the last plan edit the document refused (read by the panel that asked right after). */
   const planRefusal = useRef<string | undefined>(undefined);
   const doc = history.present;
@@ -411,7 +413,7 @@ export function App({ host }: { host: Host }) {
         return;
       }
       const problems = propose(r.doc, r.label);
-      const where = e.kind === 'keepScan' || e.kind === 'dropScan' ? 'scans' : 'tolerances';
+      const where = e.kind === 'keepScan' || e.kind === 'dropScan' ? 'scans' : e.kind === 'applyFit' ? '' : 'tolerances';
       planRefusal.current = problems ? problemsFor(problems, 'index' in e ? `${where}[${e.index}]` : where) : undefined;
     },
     focusPane: (p) => {
@@ -466,7 +468,7 @@ export function App({ host }: { host: Host }) {
     run('plan.edit', e);
     return planRefusal.current;
   }, [run]);
-  const params = useMemo(() => (mounted.scan || mounted.budget ? lineParameters(good.text) : []), [mounted.scan, mounted.budget, good.text]);
+  const params = useMemo(() => (mounted.scan || mounted.budget || mounted.fit ? lineParameters(good.text) : []), [mounted.scan, mounted.budget, mounted.fit, good.text]);
   const fileBase = name.replace(/\.spinyard$/i, '');
 
   useEffect(() => {
@@ -552,6 +554,14 @@ export function App({ host }: { host: Host }) {
               onAdd={(tolerance) => planEdit({ kind: 'addTolerance', tolerance })}
               onSet={(index, tolerance) => planEdit({ kind: 'setTolerance', index, tolerance })}
               onRemove={(index) => planEdit({ kind: 'removeTolerance', index })} />
+          )}
+          {mounted.fit && (
+            <FitPanel hidden={!panels.fit} text={good.text} params={params} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
+              onClose={() => run('view.fitPanel')} onApply={(fit) => planEdit({ kind: 'applyFit', fit })} />
+          )}
+          {mounted.simulate && (
+            <SimulatePanel hidden={!panels.simulate} text={good.text} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
+              onClose={() => run('view.simulatePanel')} />
           )}
           <SkipLink label="Skip the results: go to the inspector" onActivate={() => run('view.focusInspector')} />
           <Results line={line} result={result} resultSeq={lastResult?.seq ?? 0} docSeq={docSeq} error={answer.seq === docSeq ? answer.error : undefined}

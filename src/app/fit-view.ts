@@ -1,0 +1,103 @@
+// The fit and simulated-run panels' figures and rows, as plain data (pure, tested in Node): the Pearson residual
+// of every reading, grouped by detector, against the data's first set-point column (in its shown unit) or, where
+// the file has none, against the reading's line in the file; the profile interval of a fitted value, marked when
+// it is asymmetric; and a simulated detector's signal beside the engine's with the difference in σ of the sampling,
+// and its hit map as a heat map over its window (mm). A missing number is a gap or a dash, never NaN.
+import type { FitResult, FittedParameter, SimulationResult } from './core-adapter.ts';
+import type { EngineSignal, FitData } from './engine-protocol.ts';
+import { SCAN_COLORS, type Figure } from './plan-view.ts';
+
+type Theme = { font: { color: string }; xaxis: Record<string, unknown>; yaxis: Record<string, unknown> } & Record<string, unknown>;
+
+const shown = (v: number, factor: number) => Number((v / factor).toPrecision(12));
+
+/** The x of the residuals plot: the first set-point column, or the line in the file. */
+export function residualAxis(data: FitData): { title: string; column?: number } {
+  if (data.columns.length === 0) return { title: 'line in the data file' };
+  const c = data.columns[0];
+  return { title: c.unit ? `${c.name} (${c.unit})` : c.name, column: 0 };
+}
+
+/** Per detector (in the order of the first reading of each) the residuals' x, Pearson residual and hover text. */
+export function residualGroups(f: FitResult, data: FitData): { detector: string; x: number[]; y: number[]; text: string[] }[] {
+  const axis = residualAxis(data);
+  const byLine = new Map(data.readings.map((r) => [r.line, r]));
+  const groups = new Map<string, { detector: string; x: number[]; y: number[]; text: string[] }>();
+  for (const r of f.residuals) {
+    if (!Number.isFinite(r.pearson)) continue;
+    const reading = byLine.get(r.line);
+    let x: number;
+    if (axis.column === undefined) x = r.line;
+    else {
+      const v = reading?.values[axis.column];
+      if (v === undefined || !Number.isFinite(v)) continue;
+      x = shown(v, data.columns[axis.column].factor);
+    }
+    let g = groups.get(r.detector);
+    if (!g) groups.set(r.detector, (g = { detector: r.detector, x: [], y: [], text: [] }));
+    g.x.push(x);
+    g.y.push(r.pearson);
+    g.text.push(`line ${r.line}: ${r.counts} counts, expected ${r.expected.toPrecision(7)}`);
+  }
+  return [...groups.values()];
+}
+
+/** The residuals plot: a marker per reading, a colour per detector, the zero line solid and ±2 dashed. */
+export function residualsFigure(f: FitResult, data: FitData, theme: Theme): Figure {
+  const axis = residualAxis(data);
+  const groups = residualGroups(f, data);
+  const data_: unknown[] = groups.map((g, i) => ({
+    type: 'scatter', mode: 'markers', name: g.detector, x: g.x, y: g.y, text: g.text,
+    marker: { size: 7, color: SCAN_COLORS[i % SCAN_COLORS.length] },
+    hovertemplate: `${g.detector}: %{y:.3g}<br>${axis.title} = %{x:.6g}<br>%{text}<extra></extra>`,
+  }));
+  const line = (y: number, dash: string) => ({ type: 'line', xref: 'paper', yref: 'y', x0: 0, x1: 1, y0: y, y1: y, line: { color: theme.font.color, width: y === 0 ? 1.2 : 1, dash } });
+  const extreme = Math.max(3, ...groups.flatMap((g) => g.y.map((v) => Math.abs(v))));
+  const layout = {
+    ...theme, margin: { ...(theme.margin as object), t: 16 }, showlegend: true, legend: { orientation: 'h', y: -0.25 }, hovermode: 'closest',
+    xaxis: { ...theme.xaxis, title: { text: axis.title } },
+    yaxis: { ...theme.yaxis, title: { text: 'Pearson residual (n − μ)/√μ' }, range: [-1.1 * extreme, 1.1 * extreme], zeroline: false },
+    shapes: [line(0, 'solid'), line(2, 'dot'), line(-2, 'dot')],
+  };
+  return { data: data_, layout };
+}
+
+/** A fitted value's profile interval in its shown unit, and whether it is marked asymmetric. */
+export function profileText(p: FittedParameter, digits = 6): { text: string; asymmetric: boolean } | undefined {
+  if (!p.profile) return undefined;
+  const end = (v: number | undefined) => (v !== undefined && Number.isFinite(v) ? `${Number((v / p.factor).toPrecision(digits))}` : '…');
+  return { text: `${end(p.profile.lower)} to ${end(p.profile.upper)}${p.unit ? ` ${p.unit}` : ''}`, asymmetric: p.profile.asymmetric };
+}
+
+/** Per detector: the simulated signal ± σ, the engine's, and the difference in σ of the sampling (absent without a σ). */
+export function simulatedRows(s: SimulationResult, engine: readonly EngineSignal[]): {
+  id: string; hits: number; signal: number; sigma: number; engine?: number; difference?: number; counts: number; dwell: number;
+}[] {
+  return s.detectors.map((d) => {
+    const e = engine.find((x) => x.id === d.id)?.signal;
+    const difference = e !== undefined && Number.isFinite(e) && d.signalSigma > 0 ? (d.signal - e) / d.signalSigma : undefined;
+    return { id: d.id, hits: d.hits, signal: d.signal, sigma: d.signalSigma, ...(e !== undefined && Number.isFinite(e) ? { engine: e } : {}), ...(difference !== undefined ? { difference } : {}), counts: d.counts, dwell: d.dwell };
+  });
+}
+
+/** A detector's hit map as a plotly heat map over its window (mm): z rows, x columns, atoms per bin. */
+export function hitMapFigure(d: SimulationResult['detectors'][number], theme: Theme, dark: boolean): Figure | undefined {
+  const m = d.map;
+  if (!m || m.x.length < 2 || m.z.length < 2) return undefined;
+  const centres = (e: number[]) => e.slice(1).map((v, i) => Number((((v + e[i]) / 2) * 1e3).toPrecision(9)));
+  const xs = centres(m.x);
+  const zs = centres(m.z);
+  // counts[i][j] is x bin i, z bin j; plotly's z is rows (y) of columns (x)
+  const z = zs.map((_, j) => xs.map((_, i) => m.counts[i]?.[j] ?? 0));
+  const data = [{
+    type: 'heatmap', x: xs, y: zs, z, colorscale: dark ? 'Cividis' : 'Viridis', zmin: 0,
+    colorbar: { title: { text: 'atoms', side: 'right' }, thickness: 12 },
+    hovertemplate: `${d.id}<br>x = %{x:.4g} mm<br>z = %{y:.4g} mm<br>%{z} atoms<extra></extra>`,
+  }];
+  const layout = {
+    ...theme, showlegend: false, margin: { ...(theme.margin as object), t: 16 },
+    xaxis: { ...theme.xaxis, title: { text: 'x at the detector plane (mm)' }, range: [m.x[0] * 1e3, m.x[m.x.length - 1] * 1e3] },
+    yaxis: { ...theme.yaxis, title: { text: 'z (mm)' }, range: [m.z[0] * 1e3, m.z[m.z.length - 1] * 1e3] },
+  };
+  return { data, layout };
+}

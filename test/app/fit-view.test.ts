@@ -1,0 +1,123 @@
+// The fit and simulated-run panels' figures and rows (pure), and a fit's values written into the document as one
+// edit: in the parameter's shown unit with 10 significant digits, the oven's populations with 8.
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { hitMapFigure, profileText, residualAxis, residualGroups, residualsFigure, simulatedRows } from '../../src/app/fit-view.ts';
+import { applyPlanEdit, fittedQuantity } from '../../src/app/plan-edit.ts';
+import { checkDocument, lineParameters, readDocument, type FitResult, type FittedParameter, type SimulationResult } from '../../src/app/core-adapter.ts';
+import type { FitData } from '../../src/app/engine-protocol.ts';
+
+const deg = Math.PI / 180;
+const theme = { font: { color: '#000' }, xaxis: {}, yaxis: {}, margin: { l: 1, r: 1, t: 1, b: 1 } };
+const benchC = readFileSync(join(import.meta.dirname, '..', '..', 'samples', 'bench-c-roll-calibration.spinyard'), 'utf8');
+
+const rollP: FittedParameter = {
+  name: 'M2.axis.roll', path: 'elements[2].axis.roll', dimension: 'angle', unit: 'deg', factor: deg, start: 30 * deg,
+  value: 31.19975123456789 * deg, sigma: 0.0006 * deg, profile: { lower: 31.1992 * deg, upper: 31.2004 * deg, asymmetric: true },
+};
+function fitOf(over: Partial<FitResult> = {}): FitResult {
+  return {
+    format: 'spinyard.fit', version: 1, title: 't', parameters: [rollP], coordinates: ['M2.axis.roll'], correlation: [[1]], deviance: 2, degreesOfFreedom: 3,
+    pValue: 0.5, readings: 4, iterations: 3, converged: true, method: 'm', warnings: [],
+    residuals: [
+      { line: 4, detector: 'D1', counts: 10, expected: 9, pearson: 1 / 3, deviance: 0.1 },
+      { line: 5, detector: 'D2', counts: 4, expected: 4, pearson: 0, deviance: 0 },
+      { line: 6, detector: 'D1', counts: 7, expected: 9, pearson: -2 / 3, deviance: 0.4 },
+      { line: 7, detector: 'D2', counts: 5, expected: 4, pearson: Number.NaN, deviance: 0 },
+    ],
+    ...over,
+  };
+}
+const data: FitData = {
+  columns: [{ name: 'M3.axis.roll', unit: 'deg', factor: deg }],
+  readings: [4, 5, 6, 7].map((line, i) => ({ line, detector: i % 2 ? 'D2' : 'D1', values: [i < 2 ? 0 : 20 * deg] })),
+};
+
+describe('the residuals plot', () => {
+  it('groups the Pearson residuals by detector against the first set-point column in its unit; a residual that is not a number is left out', () => {
+    expect(residualAxis(data)).toEqual({ title: 'M3.axis.roll (deg)', column: 0 });
+    const g = residualGroups(fitOf(), data);
+    expect(g.map((x) => x.detector)).toEqual(['D1', 'D2']);
+    expect(g[0].x).toEqual([0, 20]);
+    expect(g[0].y).toEqual([1 / 3, -2 / 3]);
+    expect(g[1].x).toEqual([0]);
+    const fig = residualsFigure(fitOf(), data, theme);
+    expect(fig.data).toHaveLength(2);
+    expect(JSON.stringify(fig)).not.toMatch(/NaN|null/);
+    expect((fig.layout.shapes as { y0: number }[]).map((s) => s.y0)).toEqual([0, 2, -2]);
+  });
+
+  it('uses the line in the file where the data have no set-point column', () => {
+    const plain: FitData = { columns: [], readings: data.readings.map((r) => ({ ...r, values: [] })) };
+    expect(residualAxis(plain).title).toBe('line in the data file');
+    expect(residualGroups(fitOf(), plain)[0].x).toEqual([4, 6]);
+  });
+
+  it('writes a profile interval in the parameter\'s unit and marks it asymmetric', () => {
+    expect(profileText(rollP)).toEqual({ text: '31.1992 to 31.2004 deg', asymmetric: true });
+    expect(profileText({ ...rollP, profile: { upper: 31.2 * deg, asymmetric: false } })!.text).toBe('… to 31.2 deg');
+    expect(profileText({ ...rollP, profile: undefined })).toBeUndefined();
+  });
+});
+
+describe('applying a fit', () => {
+  it('writes the values in the parameter\'s unit to 10 significant digits, as one edit named for Undo; the reader takes the result', () => {
+    expect(fittedQuantity(31.19975123456789 * deg, 'deg', deg)).toBe('31.19975123 deg');
+    expect(fittedQuantity(1.929992345678e9, '/s', 1)).toBe('1929992346 /s');
+    expect(fittedQuantity(0.912345678912, '', 1)).toBe(0.9123456789);
+    const r = readDocument(benchC);
+    if (!r.ok) throw new Error('bench C does not read');
+    const path = lineParameters(benchC).find((s) => s.name === 'M2.axis.roll')!.path;
+    const flux: FittedParameter = { name: 'oven.flux', path: 'oven.flux', dimension: 'rate', unit: '/s', factor: 1, start: 2e9, value: 1.929992345678e9, sigma: 2e4 };
+    const e = applyPlanEdit(r.doc, { kind: 'applyFit', fit: fitOf({ parameters: [{ ...rollP, path }, flux] }) });
+    if (!e.ok) throw new Error(e.message);
+    expect(e.label).toBe('apply fitted M2.axis.roll, oven.flux');
+    const c = checkDocument(e.doc);
+    if (!c.ok) throw new Error(JSON.stringify(c.problems));
+    const after = lineParameters(c.text);
+    expect(after.find((s) => s.name === 'M2.axis.roll')!.value / deg).toBeCloseTo(31.19975123, 8);
+    expect(after.find((s) => s.name === 'oven.flux')!.value).toBe(1929992346);
+    expect(c.text).toContain('"31.19975123 deg"');
+    expect(c.text).toContain('1929992346 /s');
+    // the document given is unchanged
+    expect(checkDocument(r.doc).text).not.toContain('31.19975123');
+  });
+
+  it('writes the oven\'s fitted populations along the oven state\'s axis, and refuses a value that is not a number', () => {
+    const r = readDocument(benchC);
+    if (!r.ok) throw new Error('bench C does not read');
+    const e = applyPlanEdit(r.doc, { kind: 'applyFit', fit: fitOf({ parameters: [], state: { axis: 'z', labels: ['+1/2', '-1/2'], populations: [0.612345678912, 0.387654321088], sigma: [0.01, null] } }) });
+    if (!e.ok) throw new Error(e.message);
+    expect(e.doc.oven.state).toMatchObject({ kind: 'populations', p: { '+1/2': 0.61234568, '-1/2': 0.38765432 } });
+    expect(e.label).toBe('apply fitted oven.state');
+    expect(applyPlanEdit(r.doc, { kind: 'applyFit', fit: fitOf({ parameters: [{ ...rollP, value: Number.NaN }] }) })).toMatchObject({ ok: false, message: expect.stringMatching(/M2\.axis\.roll/) });
+    expect(applyPlanEdit(r.doc, { kind: 'applyFit', fit: fitOf({ parameters: [] }) })).toMatchObject({ ok: false });
+  });
+});
+
+describe('a simulated run beside the engine', () => {
+  const det = {
+    id: 'DU', hits: 3, fraction: 0.3, fractionSigma: 0.1, signal: 300, signalSigma: 20, background: 0, dwell: 30, counts: 9000,
+    map: { x: [-1e-3, 0, 1e-3], z: [0, 1e-4, 2e-4], counts: [[1, 0], [0, 2]] },
+  };
+  const sim = { detectors: [det, { ...det, id: 'DL', hits: 0, signal: 0, signalSigma: 0, map: undefined }] } as unknown as SimulationResult;
+
+  it('gives each detector\'s difference from the engine in σ of the sampling, none without a σ', () => {
+    const rows = simulatedRows(sim, [{ id: 'DU', signal: 330 }, { id: 'DL', signal: 1 }]);
+    expect(rows[0]).toMatchObject({ id: 'DU', signal: 300, sigma: 20, engine: 330, difference: -1.5 });
+    expect(rows[1].difference).toBeUndefined();
+    expect(simulatedRows(sim, [])[0].engine).toBeUndefined();
+  });
+
+  it('draws a hit map over the window in mm, rows along z and columns along x', () => {
+    const f = hitMapFigure(det, theme, false)!;
+    const h = f.data[0] as { x: number[]; y: number[]; z: number[][] };
+    expect(h.x).toEqual([-0.5, 0.5]);
+    expect(h.y).toEqual([0.05, 0.15]);
+    // counts[i][j]: x bin i, z bin j → z[j][i]
+    expect(h.z).toEqual([[1, 0], [0, 2]]);
+    expect((f.layout.xaxis as { range: number[] }).range).toEqual([-1, 1]);
+    expect(hitMapFigure(sim.detectors[1], theme, true)).toBeUndefined();
+  });
+});
