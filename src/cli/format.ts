@@ -1,15 +1,11 @@
 /** Text form of a run for the terminal: aligned tables of leaves and detectors, then the notes of the run. */
 import type { DetectorResult, LeafResult, RunResult } from '../engine/index.ts';
 import { durationIn } from '../sheet/index.ts';
+import { FIGURES, ROUND_OFF, formatColumn, formatCountsColumn, formatValue, isRoundOff } from '../beamline/numbers.ts';
 
-/** A number to `sig` significant digits, trailing zeros dropped, exponent form outside [1e-4, 1e6). */
+/** A number by the one rule of src/beamline/numbers.ts: `sig` significant figures, exponent form outside [1e-4, 1e6). */
 export function formatNumber(x: number, sig = 6): string {
-  if (x === 0) return '0';
-  if (!Number.isFinite(x)) return x > 0 ? '∞' : x < 0 ? '-∞' : 'NaN';
-  const a = Math.abs(x);
-  if (a >= 1e-4 && a < 1e6) return String(Number(x.toPrecision(sig)));
-  const [m, e] = x.toExponential(sig - 1).split('e');
-  return `${m.includes('.') ? m.replace(/\.?0+$/, '') : m}e${Number(e)}`;
+  return formatValue(x, sig);
 }
 
 /** A duration in the unit a person would read it in (µs … days); "never" when it does not end. */
@@ -26,38 +22,56 @@ export function alignTable(rows: readonly (readonly string[])[], right: readonly
 }
 
 /** Metres as millimetres; below 1 pm (rounding noise of a centred beam) as 0. */
-const mm = (m: number | undefined) => (m === undefined ? '-' : formatNumber(Math.abs(m) < 1e-12 ? 0 : m * 1e3, 4));
+const mm = (m: number | undefined) => (m === undefined ? '-' : formatNumber(Math.abs(m) < 1e-12 ? 0 : m * 1e3, FIGURES.length));
 
-function leafTable(leaves: readonly LeafResult[]): string {
+/** The stated absolute error of the yields (the quadrature's estimate), or undefined where there is none. */
+function yieldError(result: RunResult): number | undefined {
+  const e = result.quadrature?.error;
+  return e !== undefined && e > 0 && Number.isFinite(e) ? e : undefined;
+}
+
+/** An error on the yield carried to a quantity proportional to it (a rate, counts): error × quantity / yield. */
+function carried(error: number | undefined, quantity: number, yieldValue: number): number | undefined {
+  return error === undefined || !(yieldValue > 0) ? undefined : (error * quantity) / yieldValue;
+}
+
+/** The leaves' table by the one rule: yields to 6 figures, rates to 4, round-off as 0, one notation per column. */
+export function leafTable(leaves: readonly LeafResult[], flux: number, error?: number): string {
   const geo = leaves.some((l) => l.displacement);
   const head = ['path', 'target', 'yield', 'rate (/s)'];
   if (geo) head.push('x (mm)', 'z (mm)', 'rms x (mm)', 'rms z (mm)', 'captured');
+  const yields = formatColumn(leaves.map((l) => l.yield), { figures: FIGURES.yield, floor: ROUND_OFF, error });
+  const rates = formatColumn(leaves.map((l) => l.rate), leaves.map((l) => ({ figures: FIGURES.rate, floor: ROUND_OFF * flux, error: carried(error, l.rate, l.yield) })));
+  const lengths = (f: (l: LeafResult) => number | undefined) =>
+    formatColumn(leaves.map((l) => { const v = f(l); return v === undefined ? undefined : Math.abs(v) < 1e-12 ? 0 : v * 1e3; }), { figures: FIGURES.length }, { blank: '-' });
+  const cols = geo
+    ? [lengths((l) => l.displacement?.x), lengths((l) => l.displacement?.z), lengths((l) => l.spread?.x), lengths((l) => l.spread?.z),
+        formatColumn(leaves.map((l) => l.captured), { figures: FIGURES.ratio }, { blank: '-' })]
+    : [];
   const rows = [head];
-  for (const l of leaves) {
-    const r = [l.path.join(' '), l.target, formatNumber(l.yield), formatNumber(l.rate, 4)];
-    if (geo) {
-      r.push(mm(l.displacement?.x), mm(l.displacement?.z), mm(l.spread?.x), mm(l.spread?.z));
-      r.push(l.captured === undefined ? '-' : formatNumber(l.captured, 4));
-    }
-    rows.push(r);
-  }
+  leaves.forEach((l, i) => rows.push([l.path.join(' '), l.target, yields[i], rates[i], ...cols.map((c) => c[i])]));
   return alignTable(rows, head.map((_, c) => c >= 2));
 }
 
-function detectorTable(detectors: readonly DetectorResult[]): string {
+/** The detectors' table by the one rule; a signal of round-off has S/B 0 and no time to precision. */
+export function detectorTable(detectors: readonly DetectorResult[], flux: number, error?: number): string {
   const eps = detectors[0]?.timeToPrecision.epsilon ?? 0.01;
   const head = ['detector', 'yield', 'rate (/s)', 'counts ± σ', 'S/B', `time to ${formatNumber(eps * 100)} %`];
+  const noise = detectors.map((d) => d.signal === 0 || isRoundOff(d.signal, flux));
+  const yields = formatColumn(detectors.map((d) => d.yield), { figures: FIGURES.yield, floor: ROUND_OFF, error });
+  const rates = formatColumn(detectors.map((d) => d.rate), detectors.map((d) => ({ figures: FIGURES.rate, floor: ROUND_OFF * flux, error: carried(error, d.signal, d.yield) })));
+  const counts = formatCountsColumn(detectors.map((d) => ({
+    counts: d.counts, sigma: d.sigma, floor: ROUND_OFF * flux * d.dwell, error: carried(error, d.signal * d.dwell, d.yield),
+  })));
+  const sb = formatColumn(detectors.map((d, i) => (d.signalToBackground === undefined ? undefined : noise[i] ? 0 : d.signalToBackground)),
+    { figures: FIGURES.ratio }, { blank: '∞ (no background)' });
   const rows = [head];
-  for (const d of detectors) {
+  detectors.forEach((d, i) => {
     rows.push([
-      d.id,
-      formatNumber(d.yield),
-      formatNumber(d.rate, 4),
-      `${formatNumber(d.counts, 4)} ± ${formatNumber(d.sigma, 3)} in ${formatDuration(d.dwell)}`,
-      d.signalToBackground === undefined ? '∞ (no background)' : formatNumber(d.signalToBackground, 3),
-      d.timeToPrecision.seconds === undefined ? 'no signal' : formatDuration(d.timeToPrecision.seconds),
+      d.id, yields[i], rates[i], `${counts[i]} in ${formatDuration(d.dwell)}`, sb[i],
+      noise[i] || d.timeToPrecision.seconds === undefined ? 'no signal' : formatDuration(d.timeToPrecision.seconds),
     ]);
-  }
+  });
   return alignTable(rows, head.map((_, c) => c >= 1 && c !== 3));
 }
 
@@ -88,11 +102,12 @@ function collapse(lines: readonly string[]): string[] {
 
 /** The report `spinyard run FILE` prints. */
 export function formatRun(result: RunResult, heading: string): string {
-  const out = [heading, '', 'Leaves', leafTable(result.leaves)];
-  if (result.detectors.length) out.push('', 'Detectors', detectorTable(result.detectors));
+  const error = yieldError(result);
+  const out = [heading, '', 'Leaves', leafTable(result.leaves, result.flux, error)];
+  if (result.detectors.length) out.push('', 'Detectors', detectorTable(result.detectors, result.flux, error));
   const notes = planeNotes(result.detectors);
   if (notes.length) out.push('', 'Detector plane', ...notes);
-  out.push('', `lost: ${formatNumber(result.lost)} of the oven flux (${formatNumber(result.flux, 4)} /s)`);
+  out.push('', `lost: ${formatValue(result.lost, { figures: FIGURES.yield, floor: ROUND_OFF, error })} of the oven flux (${formatNumber(result.flux, 4)} /s)`);
   for (const w of collapse(result.warnings)) out.push(`warning: ${w}`);
   const q = result.quadrature;
   if (q) out.push(`quadrature: ${q.method}, ${q.nodes} nodes, estimated error ${formatNumber(q.error, 2)}`);

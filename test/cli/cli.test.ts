@@ -36,8 +36,8 @@ describe('spinyard run FILE', () => {
     expect(new Set(rows.map((r) => r.length)).size).toBe(1);
     const det = lines.findIndex((l) => l.startsWith('detector'));
     expect(lines[det]).toMatch(/detector\s+yield\s+rate \(\/s\)\s+counts ± σ\s+S\/B\s+time to 1 %/);
-    // D1: rate 6.75e8 + 3 /s background, counts for 10 s, σ = √counts
-    expect(lines[det + 1]).toMatch(/^D1\s+0\.375\s+6\.75e8\s+6\.75e9 ± 82200 in 10 s/);
+    // D1: rate 6.75e8 + 3 /s background, counts for 10 s, σ = √counts = 82158.5 to 2 figures and the counts to its place
+    expect(lines[det + 1]).toMatch(/^D1\s+0\.375\s+6\.75e8\s+6\.750000e9 ± 8\.2e4 in 10 s/);
     expect(out.stdout).toMatch(/lost: 0 of the oven flux \(2e9 \/s\)/);
     expect(out.stdout).toMatch(/quadrature: single speed/);
   });
