@@ -16,7 +16,7 @@ import { type SpeciesResolver, readSpecies } from './speciesDoc.ts';
 import type { Beamline, BeamlineDoc, Element, Oven, ParseResult, Problem } from './types.ts';
 
 export const FORMAT = 'spinyard.beamline';
-export const TOP_KEYS = ['format', 'version', 'title', 'species', 'ambient', 'oven', 'elements', 'scans', 'tolerances'] as const;
+export const TOP_KEYS = ['format', 'version', 'title', 'species', 'ambient', 'oven', 'elements', 'scans', 'tolerances', 'fits', 'simulations'] as const;
 export const RESERVED_IDS = ['stop', 'oven'] as const;
 
 /** "path: message" (or the message alone for the whole file). */
@@ -49,12 +49,12 @@ export function checkBeamline(json: unknown, resolver: SpeciesResolver, migratio
   }
   const sp = readSpecies({ problems, warnings }, doc.species, resolver);
   // the studies name the line's quantities: record them when the document keeps any (or the caller asks)
-  const read = quantities ?? (doc.scans !== undefined || doc.tolerances !== undefined ? [] : undefined);
+  const read = quantities ?? (doc.scans !== undefined || doc.tolerances !== undefined || doc.fits !== undefined ? [] : undefined);
   const ctx: ReadCtx = { problems, warnings, species: sp?.species, quantities: read };
   const ambient = doc.ambient === undefined ? { x: 0, y: 0, z: 0 } : vec(ctx, doc, 'ambient', 'field', '', LIMITS.field);
   const oven = readOven(ctx, doc.oven);
   const elements = readElements(ctx, doc.elements);
-  const studies = read && oven && elements && !problems.length ? readStudies(ctx, doc, read, elements.map((e) => e.id)) : {};
+  const studies = (read || doc.simulations !== undefined) && oven && elements && !problems.length ? readStudies(ctx, doc, read ?? [], elements.map((e) => e.id)) : {};
 
   if (oven && elements && checkRouting(ctx, oven.to, elements)) checkFirstSlits(ctx, oven, elements);
   if (problems.length || !sp || !oven || !elements || !ambient) {

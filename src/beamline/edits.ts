@@ -232,6 +232,7 @@ function studiesRenamed(doc: BeamlineDoc, oldId: string, newId: string): Beamlin
   const out = { ...doc };
   if (Array.isArray(doc.scans)) out.scans = doc.scans.map((s) => (s && Array.isArray(s.parameters) ? { ...s, parameters: s.parameters.map((a) => ({ ...a, parameter: rename(a.parameter) })) } : s));
   if (Array.isArray(doc.tolerances)) out.tolerances = doc.tolerances.map((t) => (t ? { ...t, parameter: rename(t.parameter) } : t));
+  if (Array.isArray(doc.fits)) out.fits = doc.fits.map((f) => (f && Array.isArray(f.free) ? { ...f, free: f.free.map((x) => ({ ...x, parameter: rename(x.parameter) })) } : f));
   return out;
 }
 
@@ -241,7 +242,9 @@ function studiesWithout(doc: BeamlineDoc, id: string): BeamlineDoc {
   const out = { ...doc };
   if (Array.isArray(doc.scans)) out.scans = doc.scans.filter((s) => !(s && Array.isArray(s.parameters) && s.parameters.some((a) => names(a?.parameter))));
   if (Array.isArray(doc.tolerances)) out.tolerances = doc.tolerances.filter((t) => !names(t?.parameter));
+  if (Array.isArray(doc.fits)) out.fits = doc.fits.filter((f) => !(f && Array.isArray(f.free) && f.free.some((x) => names(x?.parameter))));
   if (out.scans?.length === 0) delete out.scans;
+  if (out.fits?.length === 0) delete out.fits;
   if (out.tolerances?.length === 0) delete out.tolerances;
   return out;
 }

@@ -5,7 +5,7 @@
  * the line, against the quantities the line's reader read.
  */
 import { type Obj, type QuantityRead, type ReadCtx, at, bounded, checkKeys, choice, describe, isObj, problem } from './read.ts';
-import type { ScanStudy, ToleranceStudy } from './types.ts';
+import type { FitStudy, ScanStudy, SimulationStudy, ToleranceStudy } from './types.ts';
 import { quote } from './messages.ts';
 import { type Dimension, dimensionName, isProblem, parseQuantity } from './units.ts';
 
@@ -98,16 +98,67 @@ function readTolerance(ctx: ReadCtx, raw: unknown, path: string, byName: Readonl
   return halfWidth === undefined ? undefined : { name: found.name, path: found.slot.path, halfWidth, distribution };
 }
 
-/** Read `scans` and `tolerances` of a document against the quantities its line's reader read. */
+const FIT_KEYS = ['title', 'data', 'free', 'state'];
+const FREE_KEYS = ['parameter', 'lower', 'upper'];
+const SIMULATION_KEYS = ['title', 'atoms', 'seed'];
+/** The most atoms a kept simulation may ask for (as the engine's simulate). */
+export const MAX_STORED_ATOMS = 50_000_000;
+
+function readFit(ctx: ReadCtx, raw: unknown, path: string, byName: ReadonlyMap<string, Named>): FitStudy | undefined {
+  if (!isObj(raw)) return problem(ctx, path, `a fit is an object {"title", "data", "free", "state"}, got ${describe(raw)}`);
+  checkKeys(ctx, raw, path, FIT_KEYS, 'a fit');
+  const title = raw.title === undefined ? '' : typeof raw.title === 'string' ? raw.title : problem(ctx, at(path, 'title'), `expected a string, got ${describe(raw.title)}`);
+  const data = typeof raw.data === 'string' && raw.data.trim() !== '' ? raw.data
+    : problem(ctx, at(path, 'data'), `the measured counts: a CSV file's name, relative to the document's folder, got ${describe(raw.data)}`);
+  const state = raw.state === undefined ? false : typeof raw.state === 'boolean' ? raw.state : problem(ctx, at(path, 'state'), `true to fit the oven's populations too, got ${describe(raw.state)}`);
+  const fr = raw.free;
+  const fp = at(path, 'free');
+  const free: FitStudy['free'][number][] = [];
+  if (fr !== undefined && !Array.isArray(fr)) return problem(ctx, fp, `a list of set-points to fit, got ${describe(fr)}`);
+  (fr as unknown[] | undefined)?.forEach((f, i) => {
+    const ip = at(fp, i);
+    if (!isObj(f)) return problem(ctx, ip, `a set-point to fit is {"parameter", "lower"?, "upper"?}, got ${describe(f)}`);
+    checkKeys(ctx, f, ip, FREE_KEYS, 'a set-point to fit');
+    const found = lookup(ctx, f, ip, byName);
+    if (!found) return undefined;
+    const named = { ...found.slot, name: found.name };
+    const lower = f.lower === undefined ? undefined : inDimension(ctx, f, 'lower', ip, named);
+    const upper = f.upper === undefined ? undefined : inDimension(ctx, f, 'upper', ip, named);
+    if (lower !== undefined && upper !== undefined && !(lower < upper)) return problem(ctx, ip, 'the lower bound must be below the upper bound');
+    if (free.some((x) => x.path === found.slot.path)) return problem(ctx, at(ip, 'parameter'), `${found.name} is listed twice`);
+    free.push({ name: found.name, path: found.slot.path, ...(lower !== undefined ? { lower } : {}), ...(upper !== undefined ? { upper } : {}) });
+    return undefined;
+  });
+  if (!(fr as unknown[] | undefined)?.length && state === false) return problem(ctx, fp, 'a fit needs set-points in "free", or "state": true');
+  if (title === undefined || data === undefined || state === undefined) return undefined;
+  if (free.length !== ((fr as unknown[] | undefined)?.length ?? 0)) return undefined;
+  return { title, data, free, state };
+}
+
+function readSimulation(ctx: ReadCtx, raw: unknown, path: string): SimulationStudy | undefined {
+  if (!isObj(raw)) return problem(ctx, path, `a simulation is an object {"title", "atoms", "seed"}, got ${describe(raw)}`);
+  checkKeys(ctx, raw, path, SIMULATION_KEYS, 'a simulation');
+  const title = raw.title === undefined ? '' : typeof raw.title === 'string' ? raw.title : problem(ctx, at(path, 'title'), `expected a string, got ${describe(raw.title)}`);
+  const whole = (k: string, min: number, max: number, fallback: number) => {
+    const v = raw[k];
+    if (v === undefined) return fallback;
+    return typeof v === 'number' && Number.isInteger(v) && v >= min && v <= max ? v : problem(ctx, at(path, k), `a whole number from ${min} to ${max}, got ${describe(v)}`);
+  };
+  const atoms = whole('atoms', 1, MAX_STORED_ATOMS, 100_000);
+  const seed = whole('seed', 0, 0xffffffff, 1);
+  return title === undefined || atoms === undefined || seed === undefined ? undefined : { title, atoms, seed };
+}
+
+/** Read the studies of a document (`scans`, `tolerances`, `fits`, `simulations`) against the quantities its line's reader read. */
 export function readStudies(ctx: ReadCtx, doc: Obj, quantities: readonly QuantityRead[], ids: readonly string[]):
-  { scans?: ScanStudy[]; tolerances?: ToleranceStudy[] } {
+  { scans?: ScanStudy[]; tolerances?: ToleranceStudy[]; fits?: FitStudy[]; simulations?: SimulationStudy[] } {
   const byName = new Map<string, Named>();
   for (const q of quantities) {
     byName.set(parameterName(q.path, ids), q);
     byName.set(q.path, q);
   }
-  const out: { scans?: ScanStudy[]; tolerances?: ToleranceStudy[] } = {};
-  const list = (k: 'scans' | 'tolerances') => {
+  const out: { scans?: ScanStudy[]; tolerances?: ToleranceStudy[]; fits?: FitStudy[]; simulations?: SimulationStudy[] } = {};
+  const list = (k: 'scans' | 'tolerances' | 'fits' | 'simulations') => {
     const v = doc[k];
     if (v === undefined) return undefined;
     if (!Array.isArray(v)) return problem(ctx, k, `expected a list, got ${describe(v)}`);
@@ -126,6 +177,10 @@ export function readStudies(ctx: ReadCtx, doc: Obj, quantities: readonly Quantit
       return r;
     }).filter((t): t is ToleranceStudy => t !== undefined);
   }
+  const fits = list('fits');
+  if (fits) out.fits = fits.map((f, i) => readFit(ctx, f, at('fits', i), byName)).filter((f): f is FitStudy => f !== undefined);
+  const sims = list('simulations');
+  if (sims) out.simulations = sims.map((m, i) => readSimulation(ctx, m, at('simulations', i))).filter((m): m is SimulationStudy => m !== undefined);
   return out;
 }
 

@@ -53,7 +53,16 @@ export interface ScanStudy { readonly title: string; readonly axes: readonly { r
   readonly to: number; readonly points: number; readonly spacing: 'linear' | 'log' }[] }
 /** A set-point's tolerance: ± halfWidth (SI) about its value, uniform, or normal with σ = halfWidth. */
 export interface ToleranceStudy { readonly name: string; readonly path: string; readonly halfWidth: number; readonly distribution: 'uniform' | 'normal' }
+/** A kept fit: the measured counts (a CSV file relative to the document's folder), the set-points to fit (SI bounds), the oven state too. */
+export interface FitStudy { readonly title: string; readonly data: string;
+  readonly free: readonly { readonly name: string; readonly path: string; readonly lower?: number; readonly upper?: number }[]; readonly state: boolean }
+/** A kept simulated run: atoms drawn and the seed. */
+export interface SimulationStudy { readonly title: string; readonly atoms: number; readonly seed: number }
 export interface Beamline { title: string; species: SpeciesRef; oven: Oven; ambient: Vec3; elements: readonly Element[];
+  /** The document's kept fits (absent when it keeps none). */
+  fits?: readonly FitStudy[];
+  /** The document's kept simulated runs (absent when it keeps none). */
+  simulations?: readonly SimulationStudy[];
   /** The document's stored scans (absent when it keeps none). */
   scans?: readonly ScanStudy[];
   /** The document's tolerances (absent when it keeps none). */
@@ -96,6 +105,8 @@ export interface DetectorDoc extends BaseDoc { kind: 'detector'; efficiency?: Qu
 export type ElementDoc = MagnetDoc | RotatorDoc | FieldDoc | TwistDoc | RfDoc | RecombinerDoc | SlitDoc | DetectorDoc;
 export interface ScanDoc { title?: string; parameters: { parameter: string; from: QuantityDoc; to: QuantityDoc; points: number; spacing?: 'linear' | 'log' }[] }
 export interface ToleranceDoc { parameter: string; halfWidth: QuantityDoc; distribution?: 'uniform' | 'normal' }
+export interface FitDoc { title?: string; data: string; free?: { parameter: string; lower?: QuantityDoc; upper?: QuantityDoc }[]; state?: boolean }
+export interface SimulationDoc { title?: string; atoms?: number; seed?: number }
 export interface BeamlineDoc {
   format: 'spinyard.beamline';
   version: number;
@@ -106,6 +117,8 @@ export interface BeamlineDoc {
   elements: ElementDoc[];
   scans?: ScanDoc[];
   tolerances?: ToleranceDoc[];
+  fits?: FitDoc[];
+  simulations?: SimulationDoc[];
 }
 
 /** Result of reading a document: the raw doc and the normalized line, or every problem found. */

@@ -4,7 +4,8 @@
  * (src/engine/fit.ts). The fitted document is written only where -o asks, never over FILE or the data.
  */
 import { serializeDoc, setAt } from '../beamline/index.ts';
-import type { BeamlineDoc } from '../beamline/types.ts';
+import type { BeamlineDoc, FitStudy } from '../beamline/types.ts';
+import { dirname, join } from 'node:path';
 import { compile, parameter, parameterValue, RunError, type Plan } from '../engine/index.ts';
 import { fit, type FitResult, type FreeParameter } from '../engine/fit.ts';
 import { readMeasurements } from '../engine/measurements.ts';
@@ -14,6 +15,7 @@ import { type CliOutput, bad, ok } from './quick.ts';
 import { readBeamlineFile } from './readFile.ts';
 
 export const FIT_OPTIONS = [
+  { name: 'stored', value: true },
   { name: 'data', value: true },
   { name: 'free', value: true },
   { name: 'json', value: false },
@@ -97,22 +99,35 @@ export function fitText(f: FitResult, file: string, data: string): string {
 }
 
 export function cmdFitWith(file: string, text: string, options: Record<string, unknown>): CliOutput {
-  const dataFile = options.data;
+  const c0 = compile(text);
+  if (!c0.ok) return bad(`${file}: not a valid beamline (${c0.problems.length} problem${c0.problems.length === 1 ? '' : 's'}):`, ...c0.problems.map((p) => `  ${p}`));
+  const kept = c0.plan.line.fits ?? [];
+  let stored: FitStudy | undefined;
+  if (options.data === undefined && options.free === undefined && kept.length) {
+    const k = typeof options.stored === 'string' ? Number(options.stored) : kept.length === 1 ? 1 : NaN;
+    if (!Number.isInteger(k) || k < 1 || k > kept.length) {
+      return bad(`spinyard fit: ${typeof options.stored === 'string' ? `--stored ${options.stored}: ` : ''}${file} keeps ${kept.length} fits; choose one with --stored N:`, ...kept.map((f, i) => `  ${i + 1}: ${f.title || f.data}`));
+    }
+    stored = kept[k - 1];
+  } else if (options.stored !== undefined) return err('--stored and --data/--free: a kept fit has its own data and set-points; give one or the other');
+  // a kept fit's data file is relative to the document's folder
+  const dataFile = stored ? join(dirname(file), stored.data) : options.data;
   if (typeof dataFile !== 'string') return err('missing --data, the CSV of measured counts (detector,counts,… one row per reading)');
-  if (typeof options.free !== 'string') return err('missing --free, the set-points to fit (e.g. --free M2.axis.roll,oven.flux; oven.state for the oven\'s populations)');
+  if (!stored && typeof options.free !== 'string') return err('missing --free, the set-points to fit (e.g. --free M2.axis.roll,oven.flux; oven.state for the oven\'s populations)');
   const output = options.output;
   if (typeof output === 'string') {
     if (output === '') return err('-o: the output file name is empty');
     if (isSameFile(file, output)) return err(`-o ${output} is the input document ${file}; the fitted document is never written over it`);
     if (isSameFile(dataFile, output)) return err(`-o ${output} is the data file; the fitted document is never written over it`);
   }
-  const c = compile(text);
-  if (!c.ok) return bad(`${file}: not a valid beamline (${c.problems.length} problem${c.problems.length === 1 ? '' : 's'}):`, ...c.problems.map((p) => `  ${p}`));
+  const c = c0;
   const data = readBeamlineFile(dataFile);
   if (!data.ok) return err(data.message);
   let f: FitResult;
   try {
-    const { free, state } = parseFree(c.plan, options.free);
+    const { free, state } = stored
+      ? { free: stored.free.map((f) => ({ name: f.name, ...(f.lower !== undefined ? { lower: f.lower } : {}), ...(f.upper !== undefined ? { upper: f.upper } : {}) })), state: stored.state }
+      : parseFree(c.plan, options.free as string);
     f = fit(c.plan, readMeasurements(data.text, c.plan, dataFile), { free, state });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);

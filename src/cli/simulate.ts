@@ -7,6 +7,7 @@ import { isSameFile } from './output.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 
 export const SIMULATE_OPTIONS = [
+  { name: 'stored', value: true },
   { name: 'atoms', value: true },
   { name: 'seed', value: true },
   { name: 'json', value: false },
@@ -51,10 +52,20 @@ export function cmdSimulateWith(file: string, text: string, options: Record<stri
   }
   const c = compile(text);
   if (!c.ok) return bad(`${file}: not a valid beamline (${c.problems.length} problem${c.problems.length === 1 ? '' : 's'}):`, ...c.problems.map((p) => `  ${p}`));
+  // a simulation the document keeps gives the atoms and the seed, unless they are given here
+  const kept = c.plan.line.simulations ?? [];
+  let settings: { atoms?: number; seed?: number } = { atoms: atoms ?? undefined, seed: seed ?? undefined };
+  if (options.stored !== undefined || (atoms === undefined && seed === undefined && kept.length === 1)) {
+    const k = options.stored === undefined ? 1 : Number(options.stored);
+    if (!Number.isInteger(k) || k < 1 || k > kept.length) {
+      return bad(`spinyard simulate: --stored ${String(options.stored)}: ${file} keeps ${kept.length} simulation${kept.length === 1 ? '' : 's'}${kept.length ? ':' : ''}`, ...kept.map((m, i) => `  ${i + 1}: ${m.title || `${m.atoms} atoms, seed ${m.seed}`}`));
+    }
+    settings = { atoms: atoms ?? kept[k - 1].atoms, seed: seed ?? kept[k - 1].seed };
+  }
   let s: SimulationResult;
   let run: RunResult;
   try {
-    s = simulate(c.plan, { atoms: atoms ?? undefined, seed: seed ?? undefined });
+    s = simulate(c.plan, settings);
     run = evaluate(c.plan, {}, { light: true });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);

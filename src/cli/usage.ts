@@ -121,6 +121,9 @@ parameter of the line (spinyard scan FILE --param list) with its unit in bracket
   --json        the fit as JSON (format spinyard.fit, version 1)
   -o OUT        also write the document with the fitted values to OUT (atomically; never over
                 FILE or the data)
+  --stored N    run the N-th fit kept in the document ("fits": data file relative to the document,
+                set-points with optional bounds, state); without --data and --free a document that
+                keeps one fit runs it
 
 Prints the fitted values with σ from the Fisher information, profile-likelihood intervals (where the
 deviance rises by 1; marked when asymmetric), the correlations, the deviance with its χ² p-value and
@@ -139,6 +142,8 @@ background, and the mean and rms of the hits; --json adds a hit map of each dete
 
   --atoms N   atoms drawn (default 100000)
   --seed S    the generator's seed (default 1): the same seed gives the same run
+  --stored N  the atoms and seed of the N-th simulation kept in the document ("simulations"); a
+              document that keeps one uses it unless --atoms or --seed is given
   --json      the simulation as JSON (format spinyard.simulation, version 1)
   -o OUT      write the output to OUT (atomically; never over FILE)
 `,

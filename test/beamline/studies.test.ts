@@ -62,3 +62,41 @@ describe('scans and tolerances in the document', () => {
     expect(del.doc.scans).toBeUndefined();
   });
 });
+
+describe('kept fits and simulations', () => {
+  it('reads a fit (data, set-points with bounds in SI, state) and a simulation (atoms, seed, defaults)', () => {
+    const d = base();
+    d.fits = [{ title: 'roll', data: 'counts.csv', free: [{ parameter: 'M2.axis.roll', lower: '20 deg', upper: '40 deg' }, { parameter: 'oven.flux' }] },
+      { data: 'pol.csv', state: true }];
+    d.simulations = [{ atoms: 5000, seed: 3 }, {}];
+    const l = ok(check(d)).line;
+    expect(l.fits![0]).toEqual({ title: 'roll', data: 'counts.csv', state: false,
+      free: [{ name: 'M2.axis.roll', path: 'elements[1].axis.roll', lower: (20 * Math.PI) / 180, upper: (40 * Math.PI) / 180 }, { name: 'oven.flux', path: 'oven.flux' }] });
+    expect(l.fits![1]).toEqual({ title: '', data: 'pol.csv', state: true, free: [] });
+    expect(l.simulations).toEqual([{ title: '', atoms: 5000, seed: 3 }, { title: '', atoms: 100000, seed: 1 }]);
+  });
+
+  it('names every problem with its path', () => {
+    const d = base();
+    d.fits = [{ free: [{ parameter: 'M2.axis.roll', lower: '40 deg', upper: '20 deg' }] } as never, { data: 'x.csv' }, { data: 'y.csv', free: [{ parameter: 'M2.axis.roll', lower: '1 mm' }] }];
+    d.simulations = [{ atoms: 0 }, { seed: 1.5 }];
+    const msgs = lines(d);
+    expect(msgs).toContainEqual(expect.stringMatching(/^fits\[0\]\.data: the measured counts: a CSV file's name/));
+    expect(msgs).toContainEqual(expect.stringMatching(/^fits\[0\]\.free\[0\]: the lower bound must be below the upper bound/));
+    expect(msgs).toContainEqual(expect.stringMatching(/^fits\[1\]\.free: a fit needs set-points in "free", or "state": true/));
+    expect(msgs).toContainEqual(expect.stringMatching(/^fits\[2\]\.free\[0\]\.lower: expected an angle/));
+    expect(msgs).toContainEqual(expect.stringMatching(/^simulations\[0\]\.atoms: a whole number from 1/));
+    expect(msgs).toContainEqual(expect.stringMatching(/^simulations\[1\]\.seed: a whole number from 0/));
+  });
+
+  it('follows a renamed or deleted element in the kept fits', () => {
+    const d = base();
+    d.fits = [{ data: 'c.csv', free: [{ parameter: 'M2.axis.roll' }] }];
+    const r = renameElement(d, 'M2', 'MA');
+    if (!r.ok) throw new Error(r.message);
+    expect(r.doc.fits?.[0].free?.[0].parameter).toBe('MA.axis.roll');
+    const del = deleteElement(r.doc, 'MA');
+    if (!del.ok) throw new Error(del.message);
+    expect(del.doc.fits).toBeUndefined();
+  });
+});

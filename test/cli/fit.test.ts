@@ -62,3 +62,18 @@ describe('spinyard fit FILE --data CSV --free …', () => {
     }
   });
 });
+
+describe('spinyard fit FILE with a fit kept in the document', () => {
+  it('runs the kept fit, its data found beside the document', () => {
+    const out = runCli(['fit', C, '--json']);
+    expect(out.stderr).toBe('');
+    const f = JSON.parse(out.stdout);
+    expect(f.parameters.map((p: { name: string }) => p.name)).toEqual(['M2.axis.roll', 'oven.flux']);
+    expect(f.parameters[0].lower).toBeCloseTo((20 * Math.PI) / 180, 15);
+    expect(Math.abs(f.parameters[0].value * 180 / Math.PI - 31.2)).toBeLessThan(3 * f.parameters[0].sigma * 180 / Math.PI);
+  });
+
+  it('refuses --stored beside --data', () => {
+    expect(runCli(['fit', C, '--stored', '1', '--data', DATA]).stderr).toMatch(/--stored and --data\/--free/);
+  });
+});

@@ -27,3 +27,13 @@ describe('spinyard simulate FILE', () => {
     expect(runCli(['simulate', G, '-o', G]).stderr).toMatch(/never written over its document/);
   });
 });
+
+describe('spinyard simulate FILE with a simulation kept in the document', () => {
+  it('takes the kept atoms and seed unless given, and names a number past the list', () => {
+    // bench G keeps 200000 atoms, seed 1; --atoms overrides the atoms and keeps nothing else of it
+    const out = runCli(['simulate', G, '--stored', '1', '--atoms', '3000', '--json']);
+    const j = JSON.parse(out.stdout);
+    expect([j.atoms, j.seed]).toEqual([3000, 1]);
+    expect(runCli(['simulate', G, '--stored', '2']).stderr).toMatch(/--stored 2: .* keeps 1 simulation:\n {2}1: collector check, 200000 atoms/);
+  });
+});
