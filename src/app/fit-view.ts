@@ -6,6 +6,7 @@
 import type { FitResult, FittedParameter, SimulationResult } from './core-adapter.ts';
 import type { EngineSignal, FitData } from './engine-protocol.ts';
 import { SCAN_COLORS, type Figure } from './plan-view.ts';
+import { fmt } from './format.ts';
 
 type Theme = { font: { color: string }; xaxis: Record<string, unknown>; yaxis: Record<string, unknown> } & Record<string, unknown>;
 
@@ -65,7 +66,7 @@ export function residualsFigure(f: FitResult, data: FitData, theme: Theme): Figu
 /** A fitted value's profile interval in its shown unit, and whether it is marked asymmetric. */
 export function profileText(p: FittedParameter, digits = 6): { text: string; asymmetric: boolean } | undefined {
   if (!p.profile) return undefined;
-  const end = (v: number | undefined) => (v !== undefined && Number.isFinite(v) ? `${Number((v / p.factor).toPrecision(digits))}` : '…');
+  const end = (v: number | undefined) => (v !== undefined && Number.isFinite(v) ? fmt(v / p.factor, digits).replace(/\.?0+e/, 'e') : '…');
   return { text: `${end(p.profile.lower)} to ${end(p.profile.upper)}${p.unit ? ` ${p.unit}` : ''}`, asymmetric: p.profile.asymmetric };
 }
 

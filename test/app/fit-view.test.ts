@@ -58,6 +58,8 @@ describe('the residuals plot', () => {
     expect(profileText(rollP)).toEqual({ text: '31.1992 to 31.2004 deg', asymmetric: true });
     expect(profileText({ ...rollP, profile: { upper: 31.2 * deg, asymmetric: false } })!.text).toBe('… to 31.2 deg');
     expect(profileText({ ...rollP, profile: undefined })).toBeUndefined();
+    const flux: FittedParameter = { ...rollP, name: 'oven.flux', unit: '/s', factor: 1, profile: { lower: 1.92997e9, upper: 1.9300e9, asymmetric: false } };
+    expect(profileText(flux)!.text).toBe('1.92997e9 to 1.93e9 /s');
   });
 });
 

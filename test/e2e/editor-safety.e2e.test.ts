@@ -518,6 +518,18 @@ const EFFECTS: Record<string, (keys: string) => Promise<void>> = {
     await expect.poll(() => app.page.locator('[data-panel="budget"]').isVisible()).toBe(true);
     expect(await app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('budget');
   },
+  'view.fitPanel': async (keys) => {
+    await onTree('M1');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => app.page.locator('[data-panel="fit"]').isVisible()).toBe(true);
+    expect(await app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('fit');
+  },
+  'view.simulatePanel': async (keys) => {
+    await onTree('M1');
+    await app.page.keyboard.press(keys);
+    await expect.poll(() => app.page.locator('[data-panel="simulate"]').isVisible()).toBe(true);
+    expect(await app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('simulate');
+  },
   'view.toggleDark': async (keys) => {
     await onTree('M1');
     const before = await app.page.evaluate(() => document.documentElement.dataset.theme);

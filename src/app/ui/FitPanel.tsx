@@ -48,7 +48,7 @@ function checkRow(row: FreeRow, slot: ParameterSlot | undefined): BoundCheck {
 
 function valueText(v: number | undefined, unit: string, factor: number, sig = 7): string {
   if (v === undefined || !Number.isFinite(v)) return '—';
-  return `${fmt(v / factor, sig)}${unit ? ` ${unit}` : ''}`;
+  return `${fmt(v / factor, sig).replace(/\.?0+e/, 'e')}${unit ? ` ${unit}` : ''}`;
 }
 
 export function FitPanel(p: FitPanelProps) {
@@ -103,7 +103,7 @@ export function FitPanel(p: FitPanelProps) {
     <section className="plan-panel fit-panel" aria-labelledby={headId} hidden={p.hidden} data-panel="fit">
       <div className="plan-head">
         <h2 id={headId} tabIndex={-1}>Fit to measured counts</h2>
-        <span className="note">Poisson maximum likelihood of chosen set-points (and the oven&apos;s populations) from detector readings</span>
+        <span className="note">Poisson maximum likelihood from the detectors&apos; readings</span>
         <button type="button" className="plan-close" onClick={p.onClose} aria-label="Close the fit panel">×</button>
       </div>
       <div className="plan-actions">
@@ -129,7 +129,7 @@ export function FitPanel(p: FitPanelProps) {
                 <td className="num">{slot && u ? valueText(slot.value, u.unit, u.factor, 6) : '—'}</td>
                 {(['lower', 'upper'] as const).map((k) => (
                   <td key={k}>
-                    <input type="text" className="mono" name={`fit-${k}-${i}`} aria-label={`${k} bound of ${r.name}`} value={r[k]} placeholder={u?.unit ? `none (e.g. ${k === 'lower' ? 0 : 10} ${u.unit})` : 'none'}
+                    <input type="text" className="mono" name={`fit-${k}-${i}`} aria-label={`${k} bound of ${r.name}`} value={r[k]} placeholder={u?.unit ? `none (${u.unit})` : 'none'}
                       onChange={(e) => set(k, e.target.value)} aria-invalid={!c.ok && c[k] !== undefined} />
                     {!c.ok && c[k] && <span className="field-error" role="alert">{c[k]}</span>}
                   </td>
