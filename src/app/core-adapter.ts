@@ -23,7 +23,7 @@ export { compile, scanParameters, scanIndices, scanPoint, scanResult, scanCsv, b
 export type { Plan, ParameterSlot, ScanResult, ScanPoint, ScanParameterResult, BudgetResult, BudgetTolerance, BudgetDetector, Sensitivity } from '../engine/index.ts';
 export { fit, readMeasurements, simulate, evaluate, parameter, MAX_ATOMS, MAX_READINGS } from '../engine/index.ts';
 export type { FitResult, FittedParameter, FitResidual, FreeParameter, Measurements, SimulationResult, SimulatedDetector, HitMap } from '../engine/index.ts';
-export type { ScanDoc, ToleranceDoc } from '../beamline/types.ts';
+export type { ScanDoc, ToleranceDoc, FitDoc, SimulationDoc } from '../beamline/types.ts';
 import { buildSheet, sheetHtml } from '../sheet/index.ts';
 export { durationIn } from '../sheet/index.ts';
 import { lookupSpecies, speciesNames } from '../species/index.ts';

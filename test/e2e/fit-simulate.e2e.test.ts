@@ -56,15 +56,28 @@ describe('the fit and simulated-run panels in Chromium', () => {
     await page.waitForSelector('[data-panel="fit"]:not([hidden])');
     await expect.poll(() => page.evaluate(() => document.activeElement?.textContent)).toBe('Fit to measured counts');
 
+    // bench C keeps a fit: its parameters and bounds fill the form, and the panel names the data file it reads
+    await expect.poll(() => panel.locator('[data-kept-fit="0"]').textContent()).toMatch(/M2\.axis\.roll \(20 deg to 40 deg\), oven\.flux to bench-c-roll-calibration\.counts\.csv/);
+    expect(await panel.locator('tr[data-fit-param]').evaluateAll((trs) => trs.map((t) => (t as HTMLElement).dataset.fitParam))).toEqual(['M2.axis.roll', 'oven.flux']);
+    expect(await panel.locator('input[name="fit-lower-0"]').inputValue()).toBe('20 deg');
+    expect(await panel.locator('input[name="fit-upper-0"]').inputValue()).toBe('40 deg');
+    await expect.poll(() => panel.locator('[data-fit-wants]').textContent()).toMatch(/bench-c-roll-calibration\.counts\.csv/);
+    expect(await panel.getByRole('button', { name: 'Run fit' }).isDisabled()).toBe(true);
+
+    // a file the reader refuses: the message names the file, the line and the column
+    await panel.locator('input[type="file"][name="fit-data"]').setInputFiles({ name: 'bad.csv', mimeType: 'text/csv', buffer: Buffer.from('detector,counts,dwell [s]\nD1,12,1\nD9,4,1\n') });
+    await expect.poll(() => panel.locator('[data-fit-file]').textContent()).toMatch(/bad\.csv: 2 readings/);
+    await panel.getByRole('button', { name: 'Run fit' }).click();
+    await expect.poll(() => panel.locator('.plan-status [role="alert"]').textContent(), { timeout: 30_000 }).toMatch(/The fit did not run: .*bad\.csv.*line 3.*D9/);
+
     await panel.locator('input[type="file"][name="fit-data"]').setInputFiles(join(SAMPLES_DIR, 'bench-c-roll-calibration.counts.csv'));
     await expect.poll(() => panel.locator('[data-fit-file]').textContent()).toMatch(/bench-c-roll-calibration\.counts\.csv: 30 readings/);
-    const add = async (name: string) => {
-      await panel.locator('select[name="fit-new-param"]').selectOption(name);
-      await panel.getByRole('button', { name: 'Add', exact: true }).click();
-      await panel.locator(`tr[data-fit-param="${name}"]`).waitFor();
-    };
-    await add('M2.axis.roll');
-    await add('oven.flux');
+    expect(await panel.locator('[data-fit-wants]').count()).toBe(0);
+    // a parameter taken out and put back through the picker
+    await panel.getByRole('button', { name: 'Do not fit oven.flux' }).click();
+    await panel.locator('select[name="fit-new-param"]').selectOption('oven.flux');
+    await panel.getByRole('button', { name: 'Add', exact: true }).click();
+    await panel.locator('tr[data-fit-param="oven.flux"]').waitFor();
     // a bound in the wrong unit is refused where it is typed, and the fit cannot start
     const lower = panel.locator('input[name="fit-lower-0"]');
     await lower.fill('2 mm');
@@ -141,6 +154,9 @@ describe('the fit and simulated-run panels in Chromium', () => {
     await page.keyboard.press('Alt+m');
     const panel = page.locator('[data-panel="simulate"]');
     await page.waitForSelector('[data-panel="simulate"]:not([hidden])');
+    // bench G keeps a simulated run: its atoms and seed fill the form
+    await expect.poll(() => panel.locator('[data-kept-simulation="0"]').textContent()).toMatch(/collector check, 200000 atoms.*200,000 atoms, seed 1/);
+    expect(await panel.locator('input[name="simulate-atoms"]').inputValue()).toBe('200000');
     await panel.locator('input[name="simulate-atoms"]').fill('20000');
     await panel.locator('input[name="simulate-seed"]').fill('3');
     const t0 = Date.now();

@@ -556,11 +556,11 @@ export function App({ host }: { host: Host }) {
               onRemove={(index) => planEdit({ kind: 'removeTolerance', index })} />
           )}
           {mounted.fit && (
-            <FitPanel hidden={!panels.fit} text={good.text} params={params} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
+            <FitPanel hidden={!panels.fit} text={good.text} params={params} kept={good.doc.fits ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
               onClose={() => run('view.fitPanel')} onApply={(fit) => planEdit({ kind: 'applyFit', fit })} />
           )}
           {mounted.simulate && (
-            <SimulatePanel hidden={!panels.simulate} text={good.text} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
+            <SimulatePanel hidden={!panels.simulate} text={good.text} kept={good.doc.simulations ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
               onClose={() => run('view.simulatePanel')} />
           )}
           <SkipLink label="Skip the results: go to the inspector" onActivate={() => run('view.focusInspector')} />

@@ -5,7 +5,7 @@
 // profile intervals (marked where asymmetric), the correlations, the deviance with its p-value, and the Pearson
 // residual of every reading by detector. "Apply the fitted values" writes them into the document as one undoable edit.
 import { useEffect, useId, useMemo, useRef, useState } from 'react';
-import { checkQuantity, displayUnit, type FitResult, type ParameterSlot } from '../core-adapter.ts';
+import { checkQuantity, displayUnit, type FitDoc, type FitResult, type ParameterSlot } from '../core-adapter.ts';
 import { createPlanClient, type PlanStatus } from '../plan-client.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import type { FitData, FitParameterRequest } from '../engine-protocol.ts';
@@ -18,6 +18,8 @@ export interface FitPanelProps {
   hidden: boolean;
   text: string;
   params: readonly ParameterSlot[];
+  /** The fits the document keeps (its `fits` list): their parameters, bounds and state fill the form. */
+  kept: readonly FitDoc[];
   dark: boolean;
   fileBase: string;
   makeWorker(): WorkerLike;
@@ -30,6 +32,12 @@ export interface FitPanelProps {
 const MAX_CSV_BYTES = 16 * 1024 * 1024;
 
 interface FreeRow { name: string; lower: string; upper: string }
+
+/** A kept fit's parameters as rows of the form, or undefined when one of them is not a parameter of the line. */
+function rowsOf(k: FitDoc, params: readonly ParameterSlot[]): FreeRow[] | undefined {
+  const rows = (k.free ?? []).map((f) => ({ name: f.parameter, lower: f.lower === undefined ? '' : String(f.lower), upper: f.upper === undefined ? '' : String(f.upper) }));
+  return rows.every((r) => params.some((s) => s.name === r.name)) ? rows : undefined;
+}
 
 type BoundCheck = { ok: true; free: FitParameterRequest } | { ok: false; lower?: string; upper?: string };
 
@@ -56,9 +64,10 @@ export function FitPanel(p: FitPanelProps) {
   const fileId = useId();
   const [data, setData] = useState<{ name: string; text: string; rows: number } | undefined>();
   const [fileError, setFileError] = useState<string | undefined>();
-  const [rows, setRows] = useState<FreeRow[]>([]);
+  const [rows, setRows] = useState<FreeRow[]>(() => (p.kept[0] && rowsOf(p.kept[0], p.params)) || []);
   const [newName, setNewName] = useState('');
-  const [state, setState] = useState(false);
+  const [state, setState] = useState(() => p.kept[0]?.state === true && rowsOf(p.kept[0], p.params) !== undefined);
+  const [loaded, setLoaded] = useState<string | undefined>(() => (p.kept[0] && rowsOf(p.kept[0], p.params) ? p.kept[0].data : undefined));
   const [status, setStatus] = useState<PlanStatus>({ running: false, seq: 0, progress: 0, cancelling: false });
   const [answer, setAnswer] = useState<{ error?: string; cancelled?: boolean } | undefined>();
   const [shown, setShown] = useState<{ seq: number; result: FitResult; data: FitData; ms: number; text: string; file: string } | undefined>();
@@ -106,11 +115,34 @@ export function FitPanel(p: FitPanelProps) {
         <span className="note">Poisson maximum likelihood from the detectors&apos; readings</span>
         <button type="button" className="plan-close" onClick={p.onClose} aria-label="Close the fit panel">×</button>
       </div>
+      {p.kept.length > 0 && (
+        <div className="stored" aria-label="Fits kept in the document">
+          <h3>Kept in the document</h3>
+          <ul>
+            {p.kept.map((k, i) => {
+              const r = rowsOf(k, p.params);
+              return (
+                <li key={i} data-kept-fit={i}>
+                  <span className="stored-title">{k.title || `fit ${i + 1}`}</span>
+                  <span className="note">{(k.free ?? []).map((f) => `${f.parameter}${f.lower !== undefined || f.upper !== undefined ? ` (${f.lower ?? '…'} to ${f.upper ?? '…'})` : ''}`).concat(k.state ? ['oven state'] : []).join(', ')} to {k.data}</span>
+                  <button type="button" disabled={!r} onClick={() => {
+                    if (!r) return;
+                    setRows(r);
+                    setState(k.state === true);
+                    setLoaded(k.data);
+                  }}>Use</button>
+                </li>
+              );
+            })}
+          </ul>
+        </div>
+      )}
       <div className="plan-actions">
         <label htmlFor={fileId}>Measurements (CSV)</label>
         <input id={fileId} type="file" name="fit-data" accept=".csv,text/csv,text/plain" onChange={(e) => readFile(e.target.files?.[0])} />
         {data && <span className="note" data-fit-file={data.name}>{data.name}: {data.rows} reading{data.rows === 1 ? '' : 's'}</span>}
         {fileError && <span className="field-error" role="alert">{fileError}</span>}
+        {loaded && data?.name !== loaded && <span className="note" data-fit-wants={loaded}>the kept fit reads {loaded} (beside the document): pick it</span>}
       </div>
       <p className="note">One row per reading: <code>detector,counts,dwell [s],M2.axis.roll [deg]</code> — a column per set-point that differs between readings, its unit in brackets; lines starting with # are skipped.</p>
       <table className="plan-table fit-free" aria-label="Parameters to fit">

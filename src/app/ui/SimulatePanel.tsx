@@ -3,7 +3,7 @@
 // the atoms in its window, the sampled signal ± σ beside the engine's signal and their difference in σ, the counts
 // of one run of its dwell, and its hit map over its window. The same atoms and seed give the same numbers.
 import { useEffect, useId, useMemo, useRef, useState } from 'react';
-import { MAX_ATOMS, type SimulationResult } from '../core-adapter.ts';
+import { MAX_ATOMS, type SimulationDoc, type SimulationResult } from '../core-adapter.ts';
 import { createPlanClient, type PlanStatus } from '../plan-client.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import type { EngineSignal } from '../engine-protocol.ts';
@@ -15,6 +15,8 @@ import { plotTheme } from './Results.tsx';
 export interface SimulatePanelProps {
   hidden: boolean;
   text: string;
+  /** The simulated runs the document keeps (its `simulations` list: atoms and seed). */
+  kept: readonly SimulationDoc[];
   dark: boolean;
   fileBase: string;
   makeWorker(): WorkerLike;
@@ -31,8 +33,8 @@ function wholeNumber(text: string, max: number): number | undefined {
 
 export function SimulatePanel(p: SimulatePanelProps) {
   const headId = useId();
-  const [atoms, setAtoms] = useState('100000');
-  const [seed, setSeed] = useState('1');
+  const [atoms, setAtoms] = useState(() => String(p.kept[0]?.atoms ?? 100_000));
+  const [seed, setSeed] = useState(() => String(p.kept[0]?.seed ?? 1));
   const [status, setStatus] = useState<PlanStatus>({ running: false, seq: 0, progress: 0, cancelling: false });
   const [answer, setAnswer] = useState<{ error?: string; cancelled?: boolean } | undefined>();
   const [shown, setShown] = useState<{ seq: number; result: SimulationResult; engine: EngineSignal[]; ms: number; text: string } | undefined>();
@@ -58,6 +60,11 @@ export function SimulatePanel(p: SimulatePanelProps) {
   const maps = useMemo(() => (s ? s.detectors.map((d) => ({ id: d.id, figure: hitMapFigure(d, theme, p.dark) })) : []), [s, theme, p.dark]);
   const stale = shown !== undefined && shown.text !== p.text;
   const base = `${p.fileBase}-simulated`;
+  const start = (a: number, s: number) => {
+    sentText.current = p.text;
+    setAnswer(undefined);
+    client.start({ kind: 'simulate', text: p.text, atoms: a, seed: s });
+  };
 
   return (
     <section className="plan-panel simulate-panel" aria-labelledby={headId} hidden={p.hidden} data-panel="simulate">
@@ -66,14 +73,28 @@ export function SimulatePanel(p: SimulatePanelProps) {
         <span className="note">atoms drawn from the oven, one path each by the Born rule, deflected and clipped</span>
         <button type="button" className="plan-close" onClick={p.onClose} aria-label="Close the simulated-run panel">×</button>
       </div>
+      {p.kept.length > 0 && (
+        <div className="stored" aria-label="Simulated runs kept in the document">
+          <h3>Kept in the document</h3>
+          <ul>
+            {p.kept.map((k, i) => (
+              <li key={i} data-kept-simulation={i}>
+                <span className="stored-title">{k.title || `run ${i + 1}`}</span>
+                <span className="note">{(k.atoms ?? 100_000).toLocaleString('en')} atoms, seed {k.seed ?? 1}</span>
+                <button type="button" disabled={status.running} onClick={() => {
+                  setAtoms(String(k.atoms ?? 100_000));
+                  setSeed(String(k.seed ?? 1));
+                  start(k.atoms ?? 100_000, k.seed ?? 1);
+                }}>Run</button>
+              </li>
+            ))}
+          </ul>
+        </div>
+      )}
       <div className="plan-actions">
         <label>atoms <input type="text" inputMode="numeric" name="simulate-atoms" value={atoms} size={10} onChange={(e) => setAtoms(e.target.value)} aria-invalid={!atomsOk} /></label>
         <label>seed <input type="text" inputMode="numeric" name="simulate-seed" value={seed} size={8} onChange={(e) => setSeed(e.target.value)} aria-invalid={!seedOk} /></label>
-        <button type="button" className="primary" disabled={!atomsOk || !seedOk || status.running} onClick={() => {
-          sentText.current = p.text;
-          setAnswer(undefined);
-          client.start({ kind: 'simulate', text: p.text, atoms: nAtoms!, seed: nSeed! });
-        }}>Run simulation</button>
+        <button type="button" className="primary" disabled={!atomsOk || !seedOk || status.running} onClick={() => start(nAtoms!, nSeed!)}>Run simulation</button>
         {!atomsOk && <span className="field-error" role="alert">atoms: a whole number from 1 to {MAX_ATOMS.toExponential(0).replace('e+', 'e')}</span>}
         {!seedOk && <span className="field-error" role="alert">seed: a whole number from 0 to 4294967295</span>}
       </div>
