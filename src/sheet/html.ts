@@ -8,6 +8,7 @@
  * CSS strings too).
  */
 import type { SheetElement, SheetModel, SheetSetPoint } from './model.ts';
+import { FIGURES, ROUND_OFF, formatColumn, formatCountsColumn, formatValue, isRoundOff } from '../beamline/numbers.ts';
 
 /** Text safe inside HTML/SVG element content and double- or single-quoted attributes. */
 export function escapeHtml(s: string): string {
@@ -35,21 +36,15 @@ export function sourceLine(m: SheetModel): string {
   return m.source ? `${m.source.fileName} · sha256 ${m.source.sha256.slice(0, SHORT_HASH)}` : 'unsaved document (no file, no hash)';
 }
 
-/** A number to `sig` significant digits, exponent form outside [1e-4, 1e6); −0 and sub-pm noise as 0 where asked. */
+/** A number by the one rule of src/beamline/numbers.ts (`sig` significant figures, exponent form outside [1e-4, 1e6)), with a typeset minus. */
 export function sheetNumber(x: number | undefined, sig = 4): string {
-  if (x === undefined) return '–';
-  if (x === 0) return '0';
-  if (!Number.isFinite(x)) return x > 0 ? '∞' : x < 0 ? '−∞' : '–';
-  const a = Math.abs(x);
-  const s = a >= 1e-4 && a < 1e6 ? String(Number(x.toPrecision(sig))) : (() => {
-    const [m, ex] = x.toExponential(sig - 1).split('e');
-    return `${m.includes('.') ? m.replace(/\.?0+$/, '') : m}e${Number(ex)}`;
-  })();
-  return s.replace(/^-/, '−');
+  if (x === undefined || Number.isNaN(x)) return '–';
+  return formatValue(x, sig, '−');
 }
 
-/** Millimetres on the detector plane; below 1e-9 mm (rounding noise of a centred beam) as 0. */
-const mm = (v: number | undefined) => (v === undefined ? '–' : sheetNumber(Math.abs(v) < 1e-9 ? 0 : v, 3));
+/** A column of the sheet's tables by the one rule: one notation, typeset minus, "–" for a blank cell. */
+const column = (values: readonly (number | undefined)[], spec: Parameters<typeof formatColumn>[1]) => formatColumn(values, spec, { minus: '−', blank: '–' });
+
 
 /**
  * A finite duration (s) in the unit a person reads it in (µs, ms, s, min, h, d), its number written by
@@ -304,22 +299,29 @@ function elementsTable(m: SheetModel): string {
     + `${m.elements.map(elementRows).join('')}</table>`;
 }
 
-/** Yields below this are rounding noise of the sums (the engine balances yields to 1e-12) and print as "≈ 0". */
-const NOISE = 1e-15;
-const isNoise = (x: number) => x !== 0 && Math.abs(x) < NOISE;
+/** The stated absolute error of the yields, carried to a quantity proportional to a yield (a rate, counts). */
+function carried(error: number | undefined, quantity: number, yieldValue: number): number | undefined {
+  return error === undefined || !(error > 0) || !(yieldValue > 0) ? undefined : (error * quantity) / yieldValue;
+}
 
 function leavesTable(m: SheetModel): string {
   const geo = m.leaves.some((l) => l.displacementMm);
   const head = ['path', 'target', 'yield', 'rate (/s)', ...(geo ? ['x (mm)', 'z (mm)', 'rms x (mm)', 'rms z (mm)', 'captured'] : [])];
-  const rows = m.leaves.map((l) => {
-    const noise = isNoise(l.yield);
+  const flux = m.oven.flux;
+  const error = m.yieldError;
+  const yields = column(m.leaves.map((l) => l.yield), { figures: FIGURES.yield, floor: ROUND_OFF, error });
+  const rates = column(m.leaves.map((l) => l.rate), m.leaves.map((l) => ({ figures: FIGURES.rate, floor: ROUND_OFF * flux, error: carried(error, l.rate, l.yield) })));
+  // millimetres on the detector plane: below 1e-9 mm (rounding noise of a centred beam) as 0
+  const lengths = (f: (l: SheetModel['leaves'][number]) => number | undefined) =>
+    column(m.leaves.map((l) => { const v = f(l); return v === undefined ? undefined : Math.abs(v) < 1e-9 ? 0 : v; }), { figures: FIGURES.length });
+  const geoCols = geo
+    ? [lengths((l) => l.displacementMm?.x), lengths((l) => l.displacementMm?.z), lengths((l) => l.spreadMm?.x), lengths((l) => l.spreadMm?.z),
+        column(m.leaves.map((l) => l.captured), { figures: FIGURES.ratio })]
+    : [];
+  const rows = m.leaves.map((l, i) => {
     const path = l.path.length ? l.path.map((p) => `<span class="nw">${e(p)}</span>`).join(' ') : '<span class="dim">(no magnet on the way)</span>';
     const cells = [`<td class="path">${path}</td>`, `<td>${e(l.target)}</td>`,
-      `<td class="num">${noise ? '≈ 0' : sheetNumber(l.yield)}</td>`, `<td class="num">${noise ? '≈ 0' : sheetNumber(l.rate)}</td>`];
-    if (geo) {
-      cells.push(...[l.displacementMm?.x, l.displacementMm?.z, l.spreadMm?.x, l.spreadMm?.z].map((v) => `<td class="num">${mm(v)}</td>`),
-        `<td class="num">${sheetNumber(l.captured, 3)}</td>`);
-    }
+      `<td class="num">${yields[i]}</td>`, `<td class="num">${rates[i]}</td>`, ...geoCols.map((c) => `<td class="num">${c[i]}</td>`)];
     return `<tr>${cells.join('')}</tr>`;
   });
   const cols = geo ? [27, 8, 11, 10, 9, 9, 8, 8, 10] : [46, 14, 20, 20];
@@ -330,24 +332,37 @@ function leavesTable(m: SheetModel): string {
 function detectorsTable(m: SheetModel): string {
   if (!m.detectors.length) return '<p class="note">This line has no detector.</p>';
   const eps = m.detectors[0].epsilon;
-  // a signal of rounding noise (yield below 1e-15) has no meaningful S/B or time: said as such
-  const rows = m.detectors.map((d) => {
-    const none = isNoise(d.yield) || d.yield === 0;
-    const sb = d.signalToBackground === undefined ? '∞ (no background)' : none ? '≈ 0' : sheetNumber(d.signalToBackground, 3);
-    return `<tr><th scope="row">${e(d.id)}</th><td class="num">${isNoise(d.yield) ? '≈ 0' : sheetNumber(d.yield)}</td>`
-      + `<td class="num">${isNoise(d.yield) ? '≈ 0' : sheetNumber(d.signal)}</td><td class="num">${sheetNumber(d.background)}</td><td class="num">${sheetNumber(d.rate)}</td>`
-      + `<td class="num">${sheetNumber(d.counts)} ± ${sheetNumber(d.sigma, 3)}</td><td class="num">${duration(d.dwell)}</td>`
-      + `<td class="num">${sb}</td><td class="num">${none || d.timeToPrecision === undefined ? 'no signal' : duration(d.timeToPrecision)}</td>${blank}</tr>`;
+  const flux = m.oven.flux;
+  const error = m.yieldError;
+  const ds = m.detectors;
+  // a signal of round-off (below 1e-12 of the oven flux) has S/B 0 and no time to precision
+  const none = ds.map((d) => d.signal === 0 || isRoundOff(d.signal, flux));
+  const yields = column(ds.map((d) => d.yield), { figures: FIGURES.yield, floor: ROUND_OFF, error });
+  const rate = (f: (d: SheetModel['detectors'][number]) => number, err: boolean) =>
+    column(ds.map(f), ds.map((d) => ({ figures: FIGURES.rate, floor: ROUND_OFF * flux, error: err ? carried(error, d.signal, d.yield) : undefined })));
+  const signals = rate((d) => d.signal, true);
+  const backgrounds = rate((d) => d.background, false);
+  const totals = rate((d) => d.rate, true);
+  const counts = formatCountsColumn(ds.map((d) => ({ counts: d.counts, sigma: d.sigma, floor: ROUND_OFF * flux * d.dwell, error: carried(error, d.signal * d.dwell, d.yield) })), { minus: '−' });
+  const sbs = column(ds.map((d, i) => (d.signalToBackground === undefined ? undefined : none[i] ? 0 : d.signalToBackground)), { figures: FIGURES.ratio });
+  const rows = ds.map((d, i) => {
+    const sb = d.signalToBackground === undefined ? '∞ (no background)' : sbs[i];
+    return `<tr><th scope="row">${e(d.id)}</th><td class="num">${yields[i]}</td>`
+      + `<td class="num">${signals[i]}</td><td class="num">${backgrounds[i]}</td><td class="num">${totals[i]}</td>`
+      + `<td class="num counts">${counts[i].split(' ± ').map((x) => `<span class="nw">${x}</span>`).join(' ± ')}</td><td class="num">${duration(d.dwell)}</td>`
+      + `<td class="num">${sb}</td><td class="num">${none[i] || d.timeToPrecision === undefined ? 'no signal' : duration(d.timeToPrecision)}</td>${blank}</tr>`;
   });
   const pct = sheetNumber(eps * 100);
   return '<table class="detectors"><colgroup>'
-    + [8, 9, 9, 11, 9, 15, 7, 8, 9, 15].map((w) => `<col style="width:${w}%">`).join('')
+    + [8, 10, 9, 11, 9, 18, 6, 7, 8, 14].map((w) => `<col style="width:${w}%">`).join('')
     + '</colgroup><thead><tr><th>detector</th><th class="num">yield</th><th class="num">signal<br>(counts/s)</th>'
     + '<th class="num">background<br>(counts/s)</th><th class="num">total<br>(counts/s)</th>'
     + `<th class="num">counts ± σ<br>in the dwell</th><th class="num">dwell</th><th class="num">S/B</th><th class="num">time to<br>${pct} %</th><th>measured counts</th></tr></thead>`
     + `<tbody>${rows.join('')}</tbody></table>`
     + `<p class="note">Signal: oven flux × yield × efficiency (× the fraction inside the window). S/B: signal over background. Time to ${pct} %: `
-    + `the counting time for a ${pct} % relative uncertainty on the signal with the background known, t = (S + B)/(S² ε²).</p>`;
+    + `the counting time for a ${pct} % relative uncertainty on the signal with the background known, t = (S + B)/(S² ε²). `
+    + `Numbers: yields to 6 significant figures, rates to 4, counts to the place of σ (2 figures); below the engine's round-off (1e-12 of the oven flux) as 0`
+    + `${error !== undefined && error > 0 ? `; no finer than the velocity average's estimated error (${sheetNumber(error, 2)} on the yields)` : ''}.</p>`;
 }
 
 function speciesBlock(m: SheetModel): string {
@@ -417,7 +432,8 @@ tbody th { font-weight: 700; }
 td.val { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-size: 7.5pt; }
 td.blank { height: 5.5mm; }
 td.src { font-size: 6.8pt; color: #222; }
-table.detectors td.num, table.leaves td.num { font-size: 7.5pt; }
+table.detectors td.num, table.leaves td.num { font-size: 7.5pt; white-space: nowrap; }
+table.detectors td.counts { white-space: normal; }
 td.path { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-size: 7.5pt; }
 td.routes { font-size: 7pt; }
 td.sp, td.kind { font-size: 7.5pt; }
@@ -473,7 +489,7 @@ function tolerancesBlock(m: SheetModel): string {
 export function sheetHtml(m: SheetModel): string {
   const generated = m.generatedAt ? ` · generated ${e(m.generatedAt)}` : '';
   const notes = [
-    `Lost (apertures, slits): ${isNoise(m.lost) ? '≈ 0' : sheetNumber(m.lost)} of the oven flux.`,
+    `Lost (apertures, slits): ${formatValue(m.lost, { figures: FIGURES.yield, floor: ROUND_OFF, error: m.yieldError }, '−')} of the oven flux.`,
     ...(m.quadrature ? [`Velocity quadrature: ${e(m.quadrature)}.`] : []),
   ];
   return `<!DOCTYPE html>

@@ -18,6 +18,7 @@ import { formatHalfInteger } from '../physics/spin.ts';
 import { LINE_CAUTIONS, lookupSpecies } from '../species/index.ts';
 import type { AtomSpecies, Cited } from '../species/types.ts';
 import { sha256Hex } from './sha256.ts';
+import { formatValue } from '../beamline/numbers.ts';
 
 /** One number of the species with where it was read. */
 export interface SheetConstant {
@@ -135,6 +136,8 @@ export interface SheetModel {
   warnings: string[];
   /** "method, N nodes, estimated error E", when the run reports one. */
   quadrature?: string;
+  /** The run's estimated absolute error of the yields (its quadrature), when above 0: the tables print no finer. */
+  yieldError?: number;
   /** Species cautions then line cautions, each once. */
   cautions: string[];
   /** The closing line that defers to local rules. */
@@ -412,7 +415,8 @@ export function buildSheet(doc: BeamlineDoc, line: Beamline, result: RunResult,
   if (opts.generatedAt !== undefined) model.generatedAt = opts.generatedAt;
   if (opts.source) model.source = { fileName: opts.source.fileName, sha256: sha256Hex(opts.source.text) };
   const qd = result.quadrature;
-  if (qd) model.quadrature = qd.nodes > 0 ? `${qd.method}, ${qd.nodes} nodes, estimated error ${Number(qd.error.toPrecision(2))}` : qd.method;
+  if (qd) model.quadrature = qd.nodes > 0 ? `${qd.method}, ${qd.nodes} nodes, estimated error ${formatValue(qd.error, 2)}` : qd.method;
+  if (qd && qd.error > 0 && Number.isFinite(qd.error)) model.yieldError = qd.error;
   if (line.tolerances?.length) {
     const t = tolerancesOf(doc);
     if (t.rows) model.tolerances = t.rows;

@@ -1,6 +1,7 @@
 /** The printable setup sheet: a complete, self-contained, escaped HTML document with the side view. */
 import { createHash } from 'node:crypto';
 import { describe, expect, it } from 'vitest';
+import { formatCountsColumn } from '../../src/beamline/numbers.ts';
 import { BEAM_STYLES, cssString, escapeHtml, rowLetter, sheetHtml, sheetNumber, sideViewSvg } from '../../src/sheet/html.ts';
 import { buildSheet } from '../../src/sheet/model.ts';
 import { DESIGN_V1 } from '../beamline/examples.ts';
@@ -75,7 +76,13 @@ describe('sheetHtml (samples/bench-h)', () => {
     expect(bodyRows(det)).toBe(m.detectors.length);
     for (const d of m.detectors) {
       expect(det).toContain(`<th scope="row">${d.id}</th>`);
-      expect(det).toContain(`${sheetNumber(d.counts)} ± ${sheetNumber(d.sigma, 3)}`);
+      // counts ± σ by the one rule: σ to 2 significant figures, the counts to σ's place
+      const row = det.slice(det.indexOf(`<th scope="row">${d.id}</th>`)).split('</tr>')[0];
+      const [, c, sg] = /<td class="num counts"><span class="nw">([\d.e−-]+)<\/span> ± <span class="nw">([\d.e−-]+)<\/span><\/td>/.exec(row)!;
+      expect(sg.replace(/e.*/, '').replace('.', '').replace(/^0+/, '')).toHaveLength(2);
+      expect(Math.abs(Number(sg) - d.sigma)).toBeLessThanOrEqual(0.05 * d.sigma);
+      expect(Math.abs(Number(c) - d.counts)).toBeLessThanOrEqual(0.1 * d.sigma);
+      expect(`${c} ± ${sg}`).toBe(formatCountsColumn([{ counts: d.counts, sigma: d.sigma }])[0]);
     }
   });
 
@@ -303,7 +310,8 @@ describe('sheetHtml: what the bench needs (samples/bench-h)', () => {
       expect(t).toContain(`<th class="num">${h}</th>`);
     }
     const d1 = m.detectors[0];
-    expect(t).toContain(`<th scope="row">D1</th><td class="num">${sheetNumber(d1.yield)}</td><td class="num">${sheetNumber(d1.signal)}</td><td class="num">20</td><td class="num">${sheetNumber(d1.rate)}</td>`);
+    // yields to 6 figures and rates to 4 (src/beamline/numbers.ts), as on the command line
+    expect(t).toContain(`<th scope="row">D1</th><td class="num">${sheetNumber(d1.yield, 6)}</td><td class="num">${sheetNumber(d1.signal)}</td><td class="num">20</td><td class="num">${sheetNumber(d1.rate)}</td>`);
   });
 
   it('has sign-off lines with blank cells: prepared, aligned, checked, then one per caution area', () => {
@@ -315,15 +323,16 @@ describe('sheetHtml: what the bench needs (samples/bench-h)', () => {
     expect(t).toContain('Alkali metal handling checked');
   });
 
-  it('a detector that gets no signal (a yield of rounding noise) shows no S/B and no time, not a number of days', () => {
+  it('a detector that gets no signal (a yield of round-off) shows yield 0, S/B 0 and no time, not a number of days', () => {
     const k = runSample('bench-k-field-twist-passage');
     const mk = buildSheet(k.doc, k.line, k.result);
     const dead = mk.detectors.find((d) => d.yield !== 0 && Math.abs(d.yield) < 1e-15);
     expect(dead, 'samples/bench-k has a detector whose yield is rounding noise').toBeDefined();
     const t = table(sheetHtml(mk), 'detectors');
     const row = t.slice(t.indexOf(`<th scope="row">${dead!.id}</th>`)).split('</tr>')[0];
-    expect(row).toContain('<td class="num">≈ 0</td>');
+    expect(row).toMatch(/^<th scope="row">DA2<\/th><td class="num">0<\/td><td class="num">0<\/td>/);
     expect(row).toContain('<td class="num">no signal</td>');
+    expect(row).not.toMatch(/e-16|e-7/);
     expect(row).not.toMatch(/\d d</);
   });
 
@@ -395,5 +404,48 @@ describe('the tolerance section', () => {
     expect(html).toMatch(/<td>D1<\/td><td>oven\.flux<\/td><td>±1e8 \/s normal<\/td>/);
     const a = runSample('bench-a-spin32-rotator');
     expect(sheetHtml(buildSheet(a.doc, a.line, a.result))).not.toContain('Tolerances that move');
+  });
+});
+
+describe('the sheet prints results by the one number rule (src/beamline/numbers.ts)', () => {
+  const cellsOf = (t: string, id: string) => {
+    const row = t.slice(t.indexOf(id)).split('</tr>')[0];
+    return [...row.matchAll(/<td class="num[^"]*">(.*?)<\/td>/g)].map((x) => x[1].replace(/<[^>]+>/g, ''));
+  };
+  it('writes round-off as 0: bench H\'s closed ports (3.5e-33) and bench D\'s lost fraction (2.8e-16)', () => {
+    const h = sheetOf('bench-h-rb87-mj-then-eigenstate');
+    const leaves = table(sheetHtml(h), 'leaves');
+    expect(leaves).not.toMatch(/e-3\d/);
+    const noise = h.leaves.filter((l) => l.yield !== 0 && l.yield < 1e-30);
+    expect(noise.length).toBeGreaterThan(0);
+    for (const l of noise) {
+      const row = leaves.split('<tr>').find((r) => r.includes(`<span class="nw">${escapeHtml(l.path[l.path.length - 1])}</span>`))!;
+      expect(row).toContain('<td class="num">0</td><td class="num">0</td>');
+    }
+    const d = sheetOf('bench-d-recombiner-closure');
+    expect(d.lost).toBeGreaterThan(0);
+    expect(sheetHtml(d)).toContain('Lost (apertures, slits): 0 of the oven flux.');
+  });
+  it('prints bench K\'s DA0 no finer than the run\'s stated error, and says which error', () => {
+    const k = sheetOf('bench-k-field-twist-passage');
+    expect(k.yieldError).toBeGreaterThan(1e-9);
+    const html = sheetHtml(k);
+    const da0 = k.detectors.find((d) => d.id === 'DA0')!;
+    expect(da0.yield).toBeCloseTo(1.37193e-8, 12);
+    expect(cellsOf(table(html, 'detectors'), '<th scope="row">DA0</th>')[0]).toBe('1.4e-8');
+    expect(html).toContain(`no finer than the velocity average's estimated error (${sheetNumber(k.yieldError, 2)} on the yields)`);
+  });
+  it('prints equal values equally (bench A: S/B of D2 and D3, 9.375e6)', () => {
+    const a = sheetOf('bench-a-spin32-rotator');
+    const t = table(sheetHtml(a), 'detectors');
+    expect(cellsOf(t, '<th scope="row">D2</th>')[6]).toBe('9.38e6');
+    expect(cellsOf(t, '<th scope="row">D3</th>')[6]).toBe('9.38e6');
+    expect(cellsOf(t, '<th scope="row">D1</th>')[6]).toBe(cellsOf(t, '<th scope="row">D4</th>')[6]);
+  });
+  it('writes each column in one notation', () => {
+    const k = sheetOf('bench-k-field-twist-passage');
+    const t = table(sheetHtml(k), 'detectors');
+    const yields = k.detectors.map((d) => cellsOf(t, `<th scope="row">${d.id}</th>`)[0]).filter((c) => c !== '0');
+    expect(yields.every((c) => c.includes('e'))).toBe(true);
   });
 });
