@@ -48,8 +48,9 @@ export interface FitData {
   readings: { line: number; detector: string; values: number[] }[];
 }
 
-/** A detector's signal (counts/s without background) by the engine, at the document's set-points. */
-export interface EngineSignal { id: string; signal: number }
+/** A detector's signal (counts/s without background) by the engine, at the document's set-points, and the
+ *  profiles at its plane of the sub-beams that end on it (fraction of the oven flux per metre along the axis). */
+export interface EngineSignal { id: string; signal: number; profiles?: { axis: 'x' | 'z'; positions: number[]; density: number[] }[] }
 
 export type PlanRequest =
   | { kind: 'scan'; seq: number; text: string; axes: ScanAxisRequest[]; title?: string }

@@ -102,3 +102,60 @@ export function hitMapFigure(d: SimulationResult['detectors'][number], theme: Th
   };
   return { data, layout };
 }
+
+/** The density of a sampled profile at `v` (linear between its points, 0 outside them). */
+function densityAt(p: { positions: number[]; density: number[] }, v: number): number {
+  const xs = p.positions;
+  const n = xs.length;
+  if (n === 0 || v < xs[0] || v > xs[n - 1]) return 0;
+  let k = 0;
+  while (k < n - 2 && xs[k + 1] < v) k++;
+  const span = xs[k + 1] - xs[k];
+  const t = span > 0 ? (v - xs[k]) / span : 0;
+  const d = p.density[k] + t * ((p.density[k + 1] ?? p.density[k]) - p.density[k]);
+  return Number.isFinite(d) ? d : 0;
+}
+
+/**
+ * The shape of a detector's hits along the engine's profile axis against the engine's profile of the sub-beams
+ * that end on it, each normalised to 1 over the window (per mm): the window also clips across the other axis,
+ * which the profile does not, so the shapes are compared, not the heights. The hits carry their Poisson error.
+ */
+export function profileComparison(d: SimulationResult['detectors'][number], engine: EngineSignal | undefined, theme: Theme): Figure | undefined {
+  const m = d.map;
+  const profiles = engine?.profiles ?? [];
+  if (!m || profiles.length === 0 || !(d.hits > 0)) return undefined;
+  const axis = profiles[0].axis;
+  const same = profiles.filter((p) => p.axis === axis);
+  const edges = axis === 'z' ? m.z : m.x;
+  const nb = edges.length - 1;
+  if (nb < 1) return undefined;
+  const counts = Array.from({ length: nb }, (_, j) => (axis === 'z' ? m.counts.reduce((a, row) => a + (row[j] ?? 0), 0) : (m.counts[j] ?? []).reduce((a, b) => a + b, 0)));
+  const total = counts.reduce((a, b) => a + b, 0);
+  const centres = edges.slice(1).map((v, j) => (v + edges[j]) / 2);
+  const widths = edges.slice(1).map((v, j) => v - edges[j]);
+  // the engine's density averaged over each bin (Simpson's rule on the bin's ends and centre), as the hits are
+  const at = (v: number) => same.reduce((a, p) => a + densityAt(p, v), 0);
+  const analytic = centres.map((c, j) => (at(edges[j]) + 4 * at(c) + at(edges[j + 1])) / 6);
+  const norm = analytic.reduce((a, v, j) => a + v * widths[j], 0);
+  if (!(total > 0) || !(norm > 0)) return undefined;
+  const mm = centres.map((c) => Number((c * 1e3).toPrecision(9)));
+  const perMm = (v: number) => v * 1e-3;
+  const data = [
+    {
+      type: 'scatter', mode: 'markers', name: 'hits', x: mm, y: counts.map((n, j) => perMm(n / (total * widths[j]))),
+      error_y: { type: 'data', array: counts.map((n, j) => perMm(Math.sqrt(n) / (total * widths[j]))), visible: true, thickness: 1, width: 0 },
+      marker: { size: 5, color: SCAN_COLORS[0] }, hovertemplate: `${axis} = %{x:.4g} mm<br>hits: %{y:.4g} /mm<extra></extra>`,
+    },
+    {
+      type: 'scatter', mode: 'lines', name: 'engine profile', x: mm, y: analytic.map((v) => perMm(v / norm)),
+      line: { color: SCAN_COLORS[1], width: 2 }, hovertemplate: `${axis} = %{x:.4g} mm<br>engine: %{y:.4g} /mm<extra></extra>`,
+    },
+  ];
+  const layout = {
+    ...theme, showlegend: true, legend: { orientation: 'h', y: -0.3 }, margin: { ...(theme.margin as object), t: 16 },
+    xaxis: { ...theme.xaxis, title: { text: `${axis} at the detector plane (mm)` }, range: [edges[0] * 1e3, edges[nb] * 1e3] },
+    yaxis: { ...theme.yaxis, title: { text: 'share per mm' }, rangemode: 'tozero' },
+  };
+  return { data, layout };
+}

@@ -108,7 +108,11 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     const isCancelled = () => cancelled.has(req.seq);
     const result = simulate(plan, { atoms: req.atoms, seed: req.seed, ...(req.bins !== undefined ? { bins: req.bins } : {}), isCancelled });
     const run = evaluate(plan, {}, { light: true, isCancelled });
-    post({ type: 'simulate-result', seq: req.seq, result, engine: run.detectors.map((d) => ({ id: d.id, signal: d.signal })), ms: now() - t0 });
+    const engine = run.detectors.map((d) => {
+      const profiles = run.leaves.filter((l) => l.target === d.id && l.profile).map((l) => l.profile!);
+      return { id: d.id, signal: d.signal, ...(profiles.length ? { profiles } : {}) };
+    });
+    post({ type: 'simulate-result', seq: req.seq, result, engine, ms: now() - t0 });
   };
 
   return {

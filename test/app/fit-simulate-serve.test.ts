@@ -115,3 +115,32 @@ describe('the client of a fit or a simulated run', () => {
     c.dispose();
   });
 });
+
+describe('the hits\' profile beside the engine\'s', () => {
+  it('bench G: the sub-beam profiles ride with the engine\'s signals, and the hits along z follow the engine\'s shape (χ² per bin)', async () => {
+    const { profileComparison } = await import('../../src/app/fit-view.ts');
+    const r = await ask({ kind: 'simulate', seq: 1, text: benchG, atoms: 200_000, seed: 5 });
+    if (r.type !== 'simulate-result') throw new Error(`expected a simulated run, got ${JSON.stringify(r)}`);
+    for (const d of r.result.detectors) {
+      const e = r.engine.find((x) => x.id === d.id)!;
+      expect(e.profiles?.length).toBe(1);
+      expect(e.profiles![0].axis).toBe('z');
+      const f = profileComparison(d, e, { font: { color: '#000' }, xaxis: {}, yaxis: {}, margin: {} })!;
+      const [hits, engine] = f.data as { y: number[]; error_y?: { array: number[] } }[];
+      // χ² of the normalised shapes over the bins with an error (the engine's curve is exact up to its grid)
+      let chi2 = 0;
+      let bins = 0;
+      hits.y.forEach((y, j) => {
+        const s = hits.error_y!.array[j];
+        if (s > 0) {
+          chi2 += ((y - engine.y[j]) / s) ** 2;
+          bins += 1;
+        }
+      });
+      console.log(`${d.id}: χ² ${chi2.toFixed(1)} on ${bins - 1} degrees of freedom (${d.hits} hits)`);
+      expect(bins).toBeGreaterThan(30);
+      // a fixed seed; χ² above dof + 5√(2·dof) would be a false alarm below about 1e-5
+      expect(chi2).toBeLessThan(bins - 1 + 5 * Math.sqrt(2 * (bins - 1)));
+    }
+  }, 60_000);
+});

@@ -3,7 +3,7 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { hitMapFigure, profileText, residualAxis, residualGroups, residualsFigure, simulatedRows } from '../../src/app/fit-view.ts';
+import { hitMapFigure, profileComparison, profileText, residualAxis, residualGroups, residualsFigure, simulatedRows } from '../../src/app/fit-view.ts';
 import { applyPlanEdit, fittedQuantity } from '../../src/app/plan-edit.ts';
 import { checkDocument, lineParameters, readDocument, type FitResult, type FittedParameter, type SimulationResult } from '../../src/app/core-adapter.ts';
 import type { FitData } from '../../src/app/engine-protocol.ts';
@@ -121,5 +121,19 @@ describe('a simulated run beside the engine', () => {
     expect(h.z).toEqual([[1, 0], [0, 2]]);
     expect((f.layout.xaxis as { range: number[] }).range).toEqual([-1, 1]);
     expect(hitMapFigure(sim.detectors[1], theme, true)).toBeUndefined();
+  });
+
+  it('compares the hits\' shape along the profile axis with the engine\'s, both normalised over the window, or draws nothing', () => {
+    const flat = { id: 'DU', signal: 1, profiles: [{ axis: 'z' as const, positions: [-1, 1], density: [5, 5] }] };
+    const f = profileComparison(det, flat, theme)!;
+    const [hits, engine] = f.data as { x: number[]; y: number[] }[];
+    expect(hits.x).toEqual([0.05, 0.15]);
+    // 1 hit in the lower z bin, 2 in the upper, bins 0.1 mm wide: 1/3 and 2/3 of the window per 0.1 mm
+    expect(hits.y[0]).toBeCloseTo(1 / 3 / 0.1, 12);
+    expect(hits.y[1]).toBeCloseTo(2 / 3 / 0.1, 12);
+    // a flat profile is 1/(0.2 mm) per mm across the window whatever its height
+    expect(engine.y).toEqual([5, 5].map(() => expect.closeTo(5, 12)));
+    expect(profileComparison(det, undefined, theme)).toBeUndefined();
+    expect(profileComparison(det, { id: 'DU', signal: 1, profiles: [{ axis: 'z', positions: [5, 6], density: [1, 1] }] }, theme)).toBeUndefined();
   });
 });

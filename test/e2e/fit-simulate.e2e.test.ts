@@ -178,11 +178,15 @@ describe('the fit and simulated-run panels in Chromium', () => {
         const el = document.querySelector<HTMLElement & { data?: { type: string; z: number[][] }[] }>(`[data-chart="hit-map-${d}"]`);
         return el?.dataset.seq && el.data?.[0]?.type === 'heatmap' && el.querySelector('.hm, image, .heatmaplayer') !== null;
       }, id, { timeout: 30_000 });
+      await page.waitForFunction((d) => document.querySelector<HTMLElement>(`[data-chart="hit-profile-${d}"]`)?.dataset.seq !== undefined, id, { timeout: 30_000 });
+      const names = await page.$eval(`[data-chart="hit-profile-${id}"]`, (el) => (el as unknown as { data: { name: string }[] }).data.map((t) => t.name));
+      expect(names).toEqual(['hits', 'engine profile']);
       const hits = await page.$eval(`[data-chart="hit-map-${id}"]`, (el) => ((el as unknown as { data: { z: number[][] }[] }).data[0].z.flat().reduce((a, b) => a + b, 0)));
       expect(hits).toBe(Number((await r.locator('td').nth(1).textContent())!.replace(/,/g, '')));
     }
     expect(await panel.textContent()).not.toMatch(/NaN/);
     await screenshots('e2e-simulate', '[data-panel="simulate"] h2');
+    await screenshots('e2e-simulate-profiles', '[data-chart="hit-map-DU"]');
     expect(foreignRequests(app)).toEqual([]);
     expect(app.errors).toEqual([]);
   }, 120_000);

@@ -7,7 +7,7 @@ import { MAX_ATOMS, type SimulationDoc, type SimulationResult } from '../core-ad
 import { createPlanClient, type PlanStatus } from '../plan-client.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import type { EngineSignal } from '../engine-protocol.ts';
-import { hitMapFigure, simulatedRows } from '../fit-view.ts';
+import { hitMapFigure, profileComparison, simulatedRows } from '../fit-view.ts';
 import { fmt } from '../format.ts';
 import { Plot } from './Plot.tsx';
 import { plotTheme } from './Results.tsx';
@@ -57,7 +57,9 @@ export function SimulatePanel(p: SimulatePanelProps) {
   const theme = useMemo(() => plotTheme(p.dark), [p.dark]);
   const s = shown?.result;
   const rows = useMemo(() => (s && shown ? simulatedRows(s, shown.engine) : []), [s, shown]);
-  const maps = useMemo(() => (s ? s.detectors.map((d) => ({ id: d.id, figure: hitMapFigure(d, theme, p.dark) })) : []), [s, theme, p.dark]);
+  const maps = useMemo(() => (s && shown ? s.detectors.map((d) => ({
+    id: d.id, figure: hitMapFigure(d, theme, p.dark), profile: profileComparison(d, shown.engine.find((e) => e.id === d.id), theme),
+  })) : []), [s, shown, theme, p.dark]);
   const stale = shown !== undefined && shown.text !== p.text;
   const base = `${p.fileBase}-simulated`;
   const start = (a: number, s: number) => {
@@ -137,10 +139,16 @@ export function SimulatePanel(p: SimulatePanelProps) {
             {' '}{s.lost.clipped.toLocaleString('en')} clipped by slits, pole gaps and windows.
           </p>
           <div className="plots hit-maps">
-            {maps.map((m) => (m.figure ? (
-              <Plot key={m.id} id={`hit-map-${m.id}`} title={`${m.id}: hits over its window (x, z in mm)`}
-                data={m.figure.data} layout={m.figure.layout} seq={shown.seq} fileName={`${base}-${m.id}-hits`} height={260} />
-            ) : <p key={m.id} className="note" data-no-hits={m.id}>{m.id}: no atom reached its window; no hit map.</p>))}
+            {maps.flatMap((m) => [
+              m.figure ? (
+                <Plot key={`${m.id}-map`} id={`hit-map-${m.id}`} title={`${m.id}: hits over its window (x, z in mm)`}
+                  data={m.figure.data} layout={m.figure.layout} seq={shown.seq} fileName={`${base}-${m.id}-hits`} height={260} />
+              ) : <p key={`${m.id}-map`} className="note" data-no-hits={m.id}>{m.id}: no atom reached its window; no hit map.</p>,
+              m.profile && (
+                <Plot key={`${m.id}-profile`} id={`hit-profile-${m.id}`} title={`${m.id}: the hits' profile beside the engine's, each normalised over the window`}
+                  data={m.profile.data} layout={m.profile.layout} seq={shown.seq} fileName={`${base}-${m.id}-profile`} height={260} />
+              ),
+            ])}
           </div>
           {s.warnings.length > 0 && <div className="warnings" role="note"><h3>Warnings</h3><ul>{s.warnings.map((w, i) => <li key={i}>{w}</li>)}</ul></div>}
           <p className="note">Method: {s.method}.</p>
