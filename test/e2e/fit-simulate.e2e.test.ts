@@ -145,6 +145,22 @@ describe('the fit and simulated-run panels in Chromium', () => {
     await expect.poll(() => page.locator('.doc-file').textContent()).not.toMatch(/unsaved/);
   }, 60_000);
 
+  it('cancels a running fit at once and keeps the tables of the last one that finished', async () => {
+    const { page } = app;
+    const panel = page.locator('[data-panel="fit"]');
+    const seq = await panel.locator('[data-fit-seq]').getAttribute('data-fit-seq');
+    await panel.locator('input[name="fit-state"]').check();
+    await panel.getByRole('button', { name: 'Run fit' }).click();
+    await page.waitForSelector('[data-panel="fit"] progress');
+    const t0 = Date.now();
+    await panel.getByRole('button', { name: 'Cancel' }).click();
+    await page.waitForSelector('[data-fit-cancelled]', { timeout: 5_000 });
+    console.log(`a fit stopped ${Date.now() - t0} ms after Cancel`);
+    expect(await panel.locator('[data-fit-seq]').getAttribute('data-fit-seq')).toBe(seq);
+    expect(await panel.locator('progress').count()).toBe(0);
+    await panel.locator('input[name="fit-state"]').uncheck();
+  }, 60_000);
+
   it('simulates 20,000 atoms through bench G: each detector within 4.5σ of the engine, a hit map drawn for each', async () => {
     const { page } = app;
     await openSample('bench-g-silver-split.spinyard');
