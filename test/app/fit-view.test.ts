@@ -92,6 +92,8 @@ describe('applying a fit', () => {
     const e = applyPlanEdit(r.doc, { kind: 'applyFit', fit: fitOf({ parameters: [], state: { axis: 'z', labels: ['+1/2', '-1/2'], populations: [0.612345678912, 0.387654321088], sigma: [0.01, null] } }) });
     if (!e.ok) throw new Error(e.message);
     expect(e.doc.oven.state).toMatchObject({ kind: 'populations', p: { '+1/2': 0.61234568, '-1/2': 0.38765432 } });
+    const c = checkDocument(e.doc);
+    expect(c.ok ? [] : c.problems).toEqual([]);
     expect(e.label).toBe('apply fitted oven.state');
     expect(applyPlanEdit(r.doc, { kind: 'applyFit', fit: fitOf({ parameters: [{ ...rollP, value: Number.NaN }] }) })).toMatchObject({ ok: false, message: expect.stringMatching(/M2\.axis\.roll/) });
     expect(applyPlanEdit(r.doc, { kind: 'applyFit', fit: fitOf({ parameters: [] }) })).toMatchObject({ ok: false });
