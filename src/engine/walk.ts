@@ -23,23 +23,30 @@ function checkCancel(ctx: WalkCtx): void {
 }
 
 export function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
-  checkCancel(ctx);
-  if (walk.depth > 512) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than 512 elements along one path (a cycle?)`);
-  if (target === 'stop') {
-    finishLeaf(ctx, st, walk, 'stop', null);
-    return;
+  // a loop along the single outputs (a chain of any length runs in constant stack); a step that forks (a magnet's
+  // ports) or walks a subtree more than once (RF flipper, field twist) calls visit again for each branch
+  for (;;) {
+    checkCancel(ctx);
+    if (walk.depth > 512) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than 512 elements along one path (a cycle?)`);
+    if (target === 'stop') {
+      finishLeaf(ctx, st, walk, 'stop', null);
+      return;
+    }
+    const e = ctx.byId.get(target);
+    if (!e) throw new RunError(`unknown target "${target}"`);
+    const entrance = walk.y + e.gap;
+    const exit = entrance + lengthOf(e);
+    const pos = ctx.positions[e.id];
+    if (!pos) ctx.positions[e.id] = { entrance, exit };
+    else if (Math.abs(pos.entrance - entrance) > 1e-3) {
+      ctx.warnings.add(`${e.path}: reached at ${(entrance * 100).toFixed(1)} cm along one path and ${(pos.entrance * 100).toFixed(1)} cm along another; the gaps of the paths that share it disagree`);
+    }
+    const step = STEPS[e.kind] as Step<Element>;
+    const s = step.enter ? step.enter(ctx, e, st) : drift(ctx, st, e.gap);
+    const out = step.run(ctx, e, s, walk, entrance, exit);
+    if (out === undefined) return;
+    target = (e as { to: string }).to;
+    st = out;
+    walk = { ...walk, y: exit };
   }
-  const e = ctx.byId.get(target);
-  if (!e) throw new RunError(`unknown target "${target}"`);
-  const entrance = walk.y + e.gap;
-  const exit = entrance + lengthOf(e);
-  const pos = ctx.positions[e.id];
-  if (!pos) ctx.positions[e.id] = { entrance, exit };
-  else if (Math.abs(pos.entrance - entrance) > 1e-3) {
-    ctx.warnings.add(`${e.path}: reached at ${(entrance * 100).toFixed(1)} cm along one path and ${(pos.entrance * 100).toFixed(1)} cm along another; the gaps of the paths that share it disagree`);
-  }
-  const step = STEPS[e.kind] as Step<Element>;
-  const s = step.enter ? step.enter(ctx, e, st) : drift(ctx, st, e.gap);
-  const out = step.run(ctx, e, s, walk, entrance, exit);
-  if (out !== undefined) visit(ctx, (e as { to: string }).to, out, { ...walk, y: exit });
 }
