@@ -7,6 +7,7 @@
  * `npm run bench -- ui`      the browser: time from an edit to the updated table and chart, per sample
  * `npm run bench -- session [--evaluations N]`
  *                            the engine's heap over N evaluations of one compiled line with a changed parameter
+ * `npm run bench -- planning` scans, budgets, fits and simulated runs on the samples; a scan in 1 and 2 worker threads
  * `npm run bench -- startup` cold starts: `spinyard --help`, `spinyard run`, the app's load to its first result
  * Figures go into docs/bench.md by hand, with the machine they were taken on.
  */
@@ -237,6 +238,11 @@ async function main(): Promise<void> {
     }
     const { benchSession } = await import('./session.ts');
     console.log(benchSession(root, args));
+    return;
+  }
+  if (args[0] === 'planning') {
+    const { benchPlanning } = await import('./planning.ts');
+    console.log(benchPlanning(root));
     return;
   }
   if (args[0] === 'ui') {
