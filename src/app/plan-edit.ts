@@ -3,7 +3,7 @@
 // into the document (all of them, one edit). Each gives the new
 // document and the label Undo shows; the document layer validates it when the editor takes it (a half-width in
 // the wrong unit is refused there, naming its path). Pure: the document given is not changed.
-import { editAt, type BeamlineDoc, type FitResult, type ScanDoc, type ToleranceDoc } from './core-adapter.ts';
+import { editAt, type BeamlineDoc, type FitDoc, type FitResult, type ScanDoc, type SimulationDoc, type ToleranceDoc } from './core-adapter.ts';
 
 export type PlanEdit =
   | { kind: 'keepScan'; scan: ScanDoc }
@@ -11,7 +11,9 @@ export type PlanEdit =
   | { kind: 'addTolerance'; tolerance: ToleranceDoc }
   | { kind: 'setTolerance'; index: number; tolerance: ToleranceDoc }
   | { kind: 'removeTolerance'; index: number }
-  | { kind: 'applyFit'; fit: FitResult };
+  | { kind: 'applyFit'; fit: FitResult }
+  | { kind: 'keepFit'; fit: FitDoc }
+  | { kind: 'keepSimulation'; simulation: SimulationDoc };
 
 export type PlanEditResult = { ok: true; doc: BeamlineDoc; label: string } | { ok: false; message: string };
 
@@ -60,7 +62,7 @@ export function applyPlanEdit(doc: BeamlineDoc, e: PlanEdit): PlanEditResult {
   const scans = doc.scans ?? [];
   const tols = doc.tolerances ?? [];
   const without = <T>(list: readonly T[], i: number) => list.filter((_, k) => k !== i);
-  const withList = (key: 'scans' | 'tolerances', list: readonly unknown[]): BeamlineDoc => {
+  const withList = (key: 'scans' | 'tolerances' | 'fits' | 'simulations', list: readonly unknown[]): BeamlineDoc => {
     const next: Record<string, unknown> = { ...doc };
     if (list.length === 0) delete next[key];
     else next[key] = list;
@@ -84,6 +86,10 @@ export function applyPlanEdit(doc: BeamlineDoc, e: PlanEdit): PlanEditResult {
     case 'removeTolerance':
       if (!tols[e.index]) return { ok: false, message: `the document keeps no tolerance ${e.index + 1}` };
       return { ok: true, doc: withList('tolerances', without(tols, e.index)), label: `remove tolerance ${tols[e.index].parameter}` };
+    case 'keepFit':
+      return { ok: true, doc: withList('fits', [...(doc.fits ?? []), e.fit]), label: `keep fit ${e.fit.title || (e.fit.free ?? []).map((f) => f.parameter).concat(e.fit.state ? ['oven.state'] : []).join(', ')}` };
+    case 'keepSimulation':
+      return { ok: true, doc: withList('simulations', [...(doc.simulations ?? []), e.simulation]), label: `keep simulated run ${e.simulation.title || `of ${e.simulation.atoms ?? 100_000} atoms, seed ${e.simulation.seed ?? 1}`}` };
     case 'applyFit': {
       if (!e.fit.parameters.length && !e.fit.state) return { ok: false, message: 'the fit has no values to apply' };
       const r = fittedDoc(doc, e.fit);

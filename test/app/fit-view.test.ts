@@ -139,3 +139,24 @@ describe('a simulated run beside the engine', () => {
     expect(profileComparison(det, { id: 'DU', signal: 1, profiles: [{ axis: 'z', positions: [5, 6], density: [1, 1] }] }, theme)).toBeUndefined();
   });
 });
+
+describe('keeping a fit or a simulated run in the document', () => {
+  it('adds them at the end of the document\'s lists, named for Undo; the reader takes them, and refuses a bound in the wrong unit', () => {
+    const r = readDocument(benchC);
+    if (!r.ok) throw new Error('bench C does not read');
+    const f = applyPlanEdit(r.doc, { kind: 'keepFit', fit: { data: 'run-2.csv', free: [{ parameter: 'M3.axis.roll', lower: '-5 deg' }], state: true } });
+    if (!f.ok) throw new Error(f.message);
+    expect(f.label).toBe('keep fit M3.axis.roll, oven.state');
+    expect(f.doc.fits).toHaveLength(2);
+    const c = checkDocument(f.doc);
+    expect(c.ok ? c.line.fits?.[1] : c.problems).toMatchObject({ data: 'run-2.csv', state: true, free: [{ name: 'M3.axis.roll', lower: expect.closeTo(-5 * deg, 12) }] });
+    const bad = applyPlanEdit(r.doc, { kind: 'keepFit', fit: { data: 'x.csv', free: [{ parameter: 'M3.axis.roll', lower: '2 mm' }] } });
+    const cb = bad.ok ? checkDocument(bad.doc) : undefined;
+    expect(cb?.ok).toBe(false);
+    const s = applyPlanEdit(r.doc, { kind: 'keepSimulation', simulation: { atoms: 20000, seed: 3 } });
+    if (!s.ok) throw new Error(s.message);
+    expect(s.label).toBe('keep simulated run of 20000 atoms, seed 3');
+    const cs = checkDocument(s.doc);
+    expect(cs.ok ? cs.line.simulations : cs.problems).toMatchObject([{ atoms: 20000, seed: 3 }]);
+  });
+});

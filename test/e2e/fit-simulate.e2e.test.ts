@@ -219,4 +219,21 @@ describe('the fit and simulated-run panels in Chromium', () => {
     expect(await panel.locator('[data-simulate-seq]').getAttribute('data-simulate-seq')).toBe(seq);
     expect(await panel.locator('progress').count()).toBe(0);
   }, 60_000);
+
+  it('keeps a simulated run in the document as an undoable edit', async () => {
+    const { page } = app;
+    const panel = page.locator('[data-panel="simulate"]');
+    await panel.locator('input[name="simulate-atoms"]').fill('30000');
+    await panel.locator('input[name="simulate-seed"]').fill('4');
+    await panel.getByRole('button', { name: 'Keep in document' }).click();
+    await expect.poll(() => panel.locator('[data-kept-simulation]').count()).toBe(2);
+    await expect.poll(() => panel.locator('[data-kept-simulation="1"]').textContent()).toMatch(/30,000 atoms, seed 4/);
+    await page.locator('[data-menu-button="Edit"]').click();
+    await expect.poll(() => page.locator('[data-command="edit.undo"]').textContent()).toMatch(/Undo keep simulated run of 30000 atoms, seed 4/);
+    await page.keyboard.press('Escape');
+    await panel.getByRole('button', { name: 'Run simulation' }).focus();
+    await page.keyboard.press('Control+z');
+    await expect.poll(() => panel.locator('[data-kept-simulation]').count()).toBe(1);
+    expect(app.errors).toEqual([]);
+  }, 60_000);
 });

@@ -413,7 +413,7 @@ export function App({ host }: { host: Host }) {
         return;
       }
       const problems = propose(r.doc, r.label);
-      const where = e.kind === 'keepScan' || e.kind === 'dropScan' ? 'scans' : e.kind === 'applyFit' ? '' : 'tolerances';
+      const where = e.kind === 'keepScan' || e.kind === 'dropScan' ? 'scans' : e.kind === 'applyFit' ? '' : e.kind === 'keepFit' ? 'fits' : e.kind === 'keepSimulation' ? 'simulations' : 'tolerances';
       planRefusal.current = problems ? problemsFor(problems, 'index' in e ? `${where}[${e.index}]` : where) : undefined;
     },
     focusPane: (p) => {
@@ -557,11 +557,11 @@ export function App({ host }: { host: Host }) {
           )}
           {mounted.fit && (
             <FitPanel hidden={!panels.fit} text={good.text} params={params} kept={good.doc.fits ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
-              onClose={() => run('view.fitPanel')} onApply={(fit) => planEdit({ kind: 'applyFit', fit })} />
+              onClose={() => run('view.fitPanel')} onApply={(fit) => planEdit({ kind: 'applyFit', fit })} onKeep={(fit) => planEdit({ kind: 'keepFit', fit })} />
           )}
           {mounted.simulate && (
             <SimulatePanel hidden={!panels.simulate} text={good.text} kept={good.doc.simulations ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
-              onClose={() => run('view.simulatePanel')} />
+              onClose={() => run('view.simulatePanel')} onKeep={(simulation) => planEdit({ kind: 'keepSimulation', simulation })} />
           )}
           <SkipLink label="Skip the results: go to the inspector" onActivate={() => run('view.focusInspector')} />
           <Results line={line} result={result} resultSeq={lastResult?.seq ?? 0} docSeq={docSeq} error={answer.seq === docSeq ? answer.error : undefined}

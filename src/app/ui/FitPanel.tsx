@@ -25,6 +25,8 @@ export interface FitPanelProps {
   makeWorker(): WorkerLike;
   /** Writes the fitted values into the document (one undoable edit); the message when the document refuses them. */
   onApply(f: FitResult): string | undefined;
+  /** Keeps the form (the data file by its name, parameters, bounds, state) in the document's fits; the message when refused. */
+  onKeep(k: FitDoc): string | undefined;
   onClose(): void;
 }
 
@@ -72,6 +74,7 @@ export function FitPanel(p: FitPanelProps) {
   const [answer, setAnswer] = useState<{ error?: string; cancelled?: boolean } | undefined>();
   const [shown, setShown] = useState<{ seq: number; result: FitResult; data: FitData; ms: number; text: string; file: string } | undefined>();
   const [applyError, setApplyError] = useState<string | undefined>();
+  const [keepError, setKeepError] = useState<string | undefined>();
   const sent = useRef({ text: '', file: '' });
   const makeWorker = useRef(p.makeWorker);
   const client = useMemo(() => createPlanClient(() => makeWorker.current(), (a) => {
@@ -191,7 +194,12 @@ export function FitPanel(p: FitPanelProps) {
           setAnswer(undefined);
           client.start({ kind: 'fit', text: p.text, csv: data.text, fileName: data.name, free: checks.flatMap((c) => (c.ok ? [c.free] : [])), state });
         }}>Run fit</button>
+        <button type="button" disabled={!ready} onClick={() => {
+          if (!data) return;
+          setKeepError(p.onKeep({ data: data.name, free: rows.map((r) => ({ parameter: r.name, ...(r.lower.trim() ? { lower: r.lower.trim() } : {}), ...(r.upper.trim() ? { upper: r.upper.trim() } : {}) })), ...(state ? { state: true } : {}) }));
+        }}>Keep in document</button>
         {!data && <span className="note">Pick the measurements file first.</span>}
+        {keepError && <span className="field-error" role="alert">The fit was not kept: {keepError}</span>}
       </div>
       <div className="plan-status" aria-live="polite">
         {status.running && (

@@ -20,6 +20,8 @@ export interface SimulatePanelProps {
   dark: boolean;
   fileBase: string;
   makeWorker(): WorkerLike;
+  /** Keeps atoms and seed in the document's simulated runs; the message when refused. */
+  onKeep(k: SimulationDoc): string | undefined;
   onClose(): void;
 }
 
@@ -35,6 +37,7 @@ export function SimulatePanel(p: SimulatePanelProps) {
   const headId = useId();
   const [atoms, setAtoms] = useState(() => String(p.kept[0]?.atoms ?? 100_000));
   const [seed, setSeed] = useState(() => String(p.kept[0]?.seed ?? 1));
+  const [keepError, setKeepError] = useState<string | undefined>();
   const [status, setStatus] = useState<PlanStatus>({ running: false, seq: 0, progress: 0, cancelling: false });
   const [answer, setAnswer] = useState<{ error?: string; cancelled?: boolean } | undefined>();
   const [shown, setShown] = useState<{ seq: number; result: SimulationResult; engine: EngineSignal[]; ms: number; text: string } | undefined>();
@@ -97,6 +100,8 @@ export function SimulatePanel(p: SimulatePanelProps) {
         <label>atoms <input type="text" inputMode="numeric" name="simulate-atoms" value={atoms} size={10} onChange={(e) => setAtoms(e.target.value)} aria-invalid={!atomsOk} /></label>
         <label>seed <input type="text" inputMode="numeric" name="simulate-seed" value={seed} size={8} onChange={(e) => setSeed(e.target.value)} aria-invalid={!seedOk} /></label>
         <button type="button" className="primary" disabled={!atomsOk || !seedOk || status.running} onClick={() => start(nAtoms!, nSeed!)}>Run simulation</button>
+        <button type="button" disabled={!atomsOk || !seedOk} onClick={() => setKeepError(p.onKeep({ atoms: nAtoms!, seed: nSeed! }))}>Keep in document</button>
+        {keepError && <span className="field-error" role="alert">The run was not kept: {keepError}</span>}
         {!atomsOk && <span className="field-error" role="alert">atoms: a whole number from 1 to {MAX_ATOMS.toExponential(0).replace('e+', 'e')}</span>}
         {!seedOk && <span className="field-error" role="alert">seed: a whole number from 0 to 4294967295</span>}
       </div>
