@@ -23,6 +23,8 @@ export interface FitOptions extends RunOptions {
   /** Fit the oven's populations of its zero-field states too (along the oven state's axis, else z). */
   state?: boolean;
   maxIterations?: number;
+  /** Find the profile-likelihood intervals (default true; they cost a fit per step along each parameter). */
+  profiles?: boolean;
 }
 
 export interface FittedParameter {
@@ -143,6 +145,7 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
   for (let i = 0; i < labels.length - 1; i++) coords.push({ name: `oven.state population ${labels[i]}`, lower: 0, upper: 1, scale: 1 });
   const k = coords.length;
   const nParams = slots.length;
+  if (readings.length < k) throw new RunError(`fit: ${readings.length} reading${readings.length === 1 ? '' : 's'} for ${k} fitted coordinate${k === 1 ? '' : 's'} (${coords.map((c) => c.name).join(', ')}): a fit needs at least as many readings as it fits`);
   const x0 = [...slots.map((s) => s.slot.value), ...startPops.slice(0, Math.max(0, labels.length - 1))];
 
   // readings grouped by their set-points: one evaluation per group
@@ -339,7 +342,7 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
     }
     const s = atBound[j] ? undefined : sigma(j);
     if (s !== undefined) out.sigma = s;
-    if (!atBound[j] && readings.length > k) {
+    if (!atBound[j] && readings.length > k && opts.profiles !== false) {
       const lo = profileSide(j, -1), hi = profileSide(j, 1);
       if (lo !== undefined || hi !== undefined) {
         const asym = s !== undefined && ((lo !== undefined && Math.abs(Math.abs(best.x[j] - lo) / s - 1) > 0.1) || (hi !== undefined && Math.abs(Math.abs(hi - best.x[j]) / s - 1) > 0.1));

@@ -83,3 +83,28 @@ describe('budget', () => {
     expect(() => budget(plan(), { seed: 1.5 })).toThrow(/seed/);
   });
 });
+
+describe('sensitivities of a spin-1 analyser against the closed form', () => {
+  it('∂S/∂β of |d¹_{m1}(β)|² to 1e-8 relative (Wigner d¹: d¹₁₁ = (1 + cos β)/2, d¹₀₁ = sin β/√2, d¹₋₁₁ = (1 − cos β)/2; J. J. Sakurai, Modern Quantum Mechanics, §3.5)', () => {
+    const beta = 50 * deg;
+    const doc = {
+      format: 'spinyard.beamline', version: 1, species: { spin: '1', g: 2.0023, mass: '4.0026 u' },
+      oven: { state: { kind: 'unpolarized' }, flux: '3e9 /s', velocity: { kind: 'fixed', speed: '1500 m/s' }, to: 'M1' },
+      elements: [
+        { id: 'M1', kind: 'magnet', axis: { roll: '0 deg' }, ports: { '+1': 'M2', '0': 'stop', '-1': 'stop' } },
+        { id: 'M2', kind: 'magnet', axis: { roll: '50 deg' }, ports: { '+1': 'D1', '0': 'D2', '-1': 'D3' } },
+        { id: 'D1', kind: 'detector' }, { id: 'D2', kind: 'detector' }, { id: 'D3', kind: 'detector' },
+      ],
+      tolerances: [{ parameter: 'M2.axis.roll', halfWidth: '0.1 deg' }],
+    };
+    const b = budget(plan(JSON.stringify(doc)), { draws: 0 });
+    const s = b.tolerances[0].sensitivities!;
+    const c = Math.cos(beta), sn = Math.sin(beta), k = 3e9 / 3; // flux × efficiency 1 × P(m = +1 at M1) = 1/3
+    const expected: Record<string, number> = {
+      D1: k * 2 * ((1 + c) / 2) * (-sn / 2),
+      D2: k * 2 * (sn / Math.SQRT2) * (c / Math.SQRT2),
+      D3: k * 2 * ((1 - c) / 2) * (sn / 2),
+    };
+    for (const x of s) expect(Math.abs(x.derivative / expected[x.detector] - 1), x.detector).toBeLessThan(1e-8);
+  });
+});
