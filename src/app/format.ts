@@ -1,16 +1,21 @@
-// Number formatting for the UI: significant figures, SI lengths, times.
+// Number formatting for the UI: significant figures, SI lengths, times; the numbers by the one rule of
+// src/beamline/numbers.ts (shared with the setup sheet and the command line).
 
 import { durationIn } from './core-adapter.ts';
+import { formatValue } from '../beamline/numbers.ts';
 
-/** n to `sig` significant figures; exponent form outside 1e-3 … 1e6. */
+/** n to `sig` significant figures by the one number rule; exponent form outside [1e-4, 1e6). */
 export function fmt(n: number | undefined, sig = 4): string {
   if (n === undefined || Number.isNaN(n)) return '—';
-  if (!Number.isFinite(n)) return n > 0 ? '∞' : '−∞';
-  if (n === 0) return '0';
-  const a = Math.abs(n);
-  if (a >= 1e6 || a < 1e-3) return n.toExponential(sig - 1).replace('e+', 'e');
-  return Number(n.toPrecision(sig)).toString();
+  return formatValue(n, sig);
 }
+
+/**
+ * How every chart's axes write their numbers (plotly axis attributes): SI prefixes ("6G", "120M", "2µ"; plotly's
+ * default is "6B" for 6e9), the unit in the axis title ("signal rate (/s)" reads "6G" as 6 G/s), no thousands
+ * separators. plotly keeps plain numbers while the ticks' magnitude is within 1e-3 … 1e4.
+ */
+export const AXIS_NUMBERS: Readonly<Record<string, unknown>> = Object.freeze({ exponentformat: 'SI', separatethousands: false });
 
 /** A length in m as mm, cm or m ("3.5 cm"). */
 export function fmtLength(m: number): string {

@@ -3,7 +3,7 @@
 // parameters are shown in, with the document's set-point marked. A point the reader refused is a gap (null, never
 // NaN or 0) and carries its reason on hover.
 import type { ScanResult } from './core-adapter.ts';
-import { fmt } from './format.ts';
+import { AXIS_NUMBERS, fmt } from './format.ts';
 
 export type ScanQuantity = 'yield' | 'counts';
 
@@ -69,8 +69,8 @@ export function scanCurves(r: ScanResult, q: ScanQuantity, theme: Theme): Figure
   const present = shown(p.present, p);
   const layout = {
     ...theme, margin: { ...(theme.margin as object), t: 24 }, showlegend: true, legend: { orientation: 'h', y: -0.22 }, hovermode: 'closest',
-    xaxis: { ...theme.xaxis, title: { text: label(p) }, type: p.spacing === 'log' ? 'log' : 'linear' },
-    yaxis: { ...theme.yaxis, title: { text: AXIS_TITLE[q] }, rangemode: 'tozero', ...(q === 'counts' ? { exponentformat: 'e' } : {}) },
+    xaxis: { ...theme.xaxis, title: { text: label(p) }, type: p.spacing === 'log' ? 'log' : 'linear', ...AXIS_NUMBERS },
+    yaxis: { ...theme.yaxis, title: { text: AXIS_TITLE[q] }, rangemode: 'tozero', ...AXIS_NUMBERS },
     yaxis2: { overlaying: 'y', range: [0, 1], visible: false, fixedrange: true },
     shapes: [{ type: 'line', xref: 'x', yref: 'paper', x0: present, x1: present, y0: 0, y1: 1, line: { color: theme.font.color, width: 1.2, dash: 'dash' } }],
     annotations: [{ xref: 'x', yref: 'paper', x: present, y: 1, yanchor: 'bottom', showarrow: false, text: `set-point ${fmt(present, 6)}${p.unit ? ` ${p.unit}` : ''}`, font: { size: 11, color: theme.font.color } }],
@@ -95,7 +95,7 @@ export function scanMaps(r: ScanResult, q: ScanQuantity, theme: Theme, dark: boo
     const data = [
       {
         type: 'heatmap', x: xs, y: ys, z, text, hoverongaps: true, colorscale: dark ? 'Cividis' : 'Viridis',
-        colorbar: { title: { text: q === 'yield' ? 'yield' : 'counts', side: 'right' }, thickness: 12, exponentformat: 'e' },
+        colorbar: { title: { text: q === 'yield' ? 'yield' : 'counts', side: 'right' }, thickness: 12, ...AXIS_NUMBERS },
         hovertemplate: `${b.name} = %{x:.6g} ${b.unit}<br>${a.name} = %{y:.6g} ${a.unit}<br>%{text}<extra></extra>`,
       },
       {
@@ -106,8 +106,8 @@ export function scanMaps(r: ScanResult, q: ScanQuantity, theme: Theme, dark: boo
     ];
     const layout = {
       ...theme, showlegend: false,
-      xaxis: { ...theme.xaxis, title: { text: label(b) }, type: b.spacing === 'log' ? 'log' : 'linear' },
-      yaxis: { ...theme.yaxis, title: { text: label(a) }, type: a.spacing === 'log' ? 'log' : 'linear' },
+      xaxis: { ...theme.xaxis, title: { text: label(b) }, type: b.spacing === 'log' ? 'log' : 'linear', ...AXIS_NUMBERS },
+      yaxis: { ...theme.yaxis, title: { text: label(a) }, type: a.spacing === 'log' ? 'log' : 'linear', ...AXIS_NUMBERS },
     };
     return { id, figure: { data, layout } };
   });

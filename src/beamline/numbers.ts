@@ -221,3 +221,15 @@ export function formatCountsColumn(cells: readonly (CountsCell | undefined)[], o
 export function isRoundOff(x: number, scale = 1): boolean {
   return x !== 0 && Math.abs(x) < ROUND_OFF * Math.abs(scale);
 }
+
+/**
+ * A number for a CSV cell by the rule at full precision: round-off (below `floor`) as 0, then 12 significant
+ * figures (what the engine's round-off supports, so no binary noise such as 0.37499999999999967), written as
+ * the shortest number that reads back as that value (675000000, 2.5e-11); "" for none, "inf"/"-inf"/"nan" for a
+ * value that is not finite.
+ */
+export function csvValue(x: number | undefined, floor?: number): string {
+  if (x === undefined) return '';
+  if (!Number.isFinite(x)) return x > 0 ? 'inf' : x < 0 ? '-inf' : 'nan';
+  return String(Number(formatValue(x, { figures: CLEAN, floor })));
+}

@@ -60,3 +60,16 @@ describe('the scan panel figures', () => {
     expect((m.figure.layout.yaxis as { type: string }).type).toBe('log');
   });
 });
+
+describe('the scan panel axes', () => {
+  it('write numbers with SI prefixes ("6G", never plotly\'s "6B"), as every chart of the app', () => {
+    for (const q of ['yield', 'counts'] as const) {
+      const f = scanCurves(oneD(), q, theme);
+      const x = f.layout.xaxis as Record<string, unknown>;
+      const y = f.layout.yaxis as Record<string, unknown>;
+      expect(x.exponentformat).toBe('SI');
+      expect(y.exponentformat).toBe('SI');
+      expect(String((y.title as { text: string }).text)).toMatch(/\(.+\)/);
+    }
+  });
+});

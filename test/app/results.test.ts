@@ -1,5 +1,6 @@
 import { describe, it, expect } from 'vitest';
-import { csvField, dwellById, portRows, portRowsCsv, toCsv, warningsByElement, type RunResultView } from '../../src/app/results.ts';
+import { csvField, detectorCells, dwellById, lostCell, portCells, portRows, portRowsCsv, toCsv, warningsByElement, type RunResultView } from '../../src/app/results.ts';
+import { formatColumn, formatCountsColumn } from '../../src/beamline/numbers.ts';
 
 // A hand-made result in result format v1 (docs/design.md), not an engine run: the table logic is under test.
 // A detector with 3 /s background and a 10 s dwell.
@@ -65,5 +66,64 @@ describe('warningsByElement', () => {
     expect(m.get('M2')).toEqual([result.warnings[0]]);
     expect(m.get('oven')).toEqual([result.warnings[1]]);
     expect(m.get('line')).toEqual(['something general']);
+  });
+});
+
+describe('the tables follow the one number rule (src/beamline/numbers.ts)', () => {
+  // bench H's closed ports (3.5e-33 of the flux), bench A's equal S/B reached from both sides of 9.375e6, bench K's DA0 with the run's 6.1e-9 error
+  const noisy: RunResultView = {
+    ...result, flux: 5e8, lost: 2.7755575615628914e-16,
+    leaves: [
+      { path: ['M1:+1/2'], target: 'D1', yield: 0.0977627, rate: 808000 },
+      { path: ['M1:-1/2'], target: 'D2', yield: 0.102262, rate: 1.12e7 },
+      { path: ['M2:F=1,mF=+1'], target: 'stop', yield: 3.466673899897024e-33, rate: 1.733e-24 },
+    ],
+    detectors: [
+      { ...detector('D1', 0.0977627, 808000), signalToBackground: 9374999.999999998 },
+      { ...detector('D2', 0.102262, 1.12e7), signalToBackground: 9375000.000000002 },
+      { ...detector('DA2', 2.28e-16, 1.14e-7), signalToBackground: 3.8e-8 },
+    ],
+  };
+  const rows = portRows(noisy, new Map([['D1', 10], ['D2', 10]]), 0.01);
+  const cells = portCells(rows);
+
+  it('writes round-off as 0 in the ports table, the lost fraction and the detectors table', () => {
+    expect(cells[2].yield).toBe('0');
+    expect(cells[2].rate).toBe('0');
+    expect(lostCell(noisy)).toBe('0');
+    const dead = detectorCells(noisy)[2];
+    expect(dead.yield).toBe('0');
+    expect(dead.signalToBackground).toBe('0');
+    expect(dead.noSignal).toBe(true);
+  });
+  it('writes one notation per column: no 808000 beside 1.12e7', () => {
+    expect([cells[0].rate, cells[1].rate]).toEqual(['8.08e5', '1.12e7']);
+    expect([cells[0].rate, cells[1].rate]).toEqual(formatColumn([808000, 1.12e7], { figures: 4 }));
+  });
+  it('prints equal values equally', () => {
+    const d = detectorCells(noisy);
+    expect(d[0].signalToBackground).toBe('9.38e6');
+    expect(d[1].signalToBackground).toBe(d[0].signalToBackground);
+  });
+  it('gives counts ± σ with σ to 2 figures and the counts to its place', () => {
+    expect(cells[0].counts).toBe(formatCountsColumn([{ counts: rows[0].counts!, sigma: rows[0].sigma! }, { counts: rows[1].counts!, sigma: rows[1].sigma! }])[0]);
+    expect(cells[0].counts).toBe('8.0800e6 ± 2.8e3');
+    expect(cells[2].counts).toBe('—');
+  });
+  it('prints a yield no finer than the run\'s stated error (bench K: DA0 1.37193e-8, error 6.1e-9)', () => {
+    const k: RunResultView = { ...noisy, quadrature: { nodes: 4416, error: 6.108e-9, method: 'speed by speed' },
+      leaves: [{ path: ['MA:0'], target: 'DA0', yield: 1.3719312e-8, rate: 9.604 }], detectors: [detector('DA0', 1.3719312e-8, 9.604)] };
+    const c = portCells(portRows(k, new Map([['DA0', 20]]), 0.01))[0];
+    expect(c.yield).toBe('1.4e-8');
+    // the signal's error, 6.1e-9 of the flux: 4.3 /s on a rate of 9.6 + 3 /s background
+    expect(c.rate).toBe('10');
+    expect(c.detectorRate).toBe('13');
+    expect(detectorCells(k)[0].yield).toBe('1.4e-8');
+  });
+  it('exports round-off as 0 and other numbers without binary noise in the CSV', () => {
+    const lines = portRowsCsv(rows, 0.01).trim().split('\r\n');
+    expect(lines[3]).toBe('"M2:F=1,mF=+1",stop,0,0,,,,,');
+    const tidy = portRowsCsv(portRows({ ...result, leaves: [{ path: ['M1:+1/2'], target: 'D1', yield: 0.37499999999999967, rate: 6.75e8 }] }, new Map([['D1', 10]]), 0.01), 0.01);
+    expect(tidy.split('\r\n')[1].split(',')[2]).toBe('0.375');
   });
 });

@@ -2,8 +2,8 @@
 import { useId, useMemo } from 'react';
 import type { Beamline } from '../core-adapter.ts';
 import { timeToPrecision } from '../core-adapter.ts';
-import { dwellById, portRows, type RunResultView } from '../results.ts';
-import { fmt, fmtTime } from '../format.ts';
+import { detectorCells, dwellById, lostCell, portCells, portRows, type RunResultView } from '../results.ts';
+import { AXIS_NUMBERS, fmt, fmtTime } from '../format.ts';
 import { Plot } from './Plot.tsx';
 import { LEAF_COLORS } from './Schematic.tsx';
 import type { EngineStatus } from '../engine-client.ts';
@@ -33,8 +33,9 @@ export function plotTheme(dark: boolean) {
     plot_bgcolor: dark ? '#1f252d' : '#ffffff',
     font: { family: 'system-ui, sans-serif', size: 12, color: fg },
     margin: { l: 64, r: 16, t: 12, b: 48 },
-    xaxis: { gridcolor: grid, zerolinecolor: grid, linecolor: fg },
-    yaxis: { gridcolor: grid, zerolinecolor: grid, linecolor: fg },
+    // numbers on every axis with SI prefixes, units in the axis titles (AXIS_NUMBERS)
+    xaxis: { gridcolor: grid, zerolinecolor: grid, linecolor: fg, ...AXIS_NUMBERS },
+    yaxis: { gridcolor: grid, zerolinecolor: grid, linecolor: fg, ...AXIS_NUMBERS },
   };
 }
 
@@ -43,6 +44,9 @@ export function Results(p: Props) {
   const epsId = useId();
   const dwell = useMemo(() => dwellById(line.elements as unknown as { id: string; kind: string; dwell?: number }[]), [line]);
   const rows = useMemo(() => (result ? portRows(result, dwell, eps ?? 0.01) : []), [result, dwell, eps]);
+  // the numbers as the one rule writes them (src/beamline/numbers.ts): round-off as 0, figures per column, one notation per column
+  const cells = useMemo(() => portCells(rows), [rows]);
+  const detCells = useMemo(() => (result ? detectorCells(result) : []), [result]);
   const theme = useMemo(() => plotTheme(p.dark), [p.dark]);
   const seq = p.resultSeq;
 
@@ -61,7 +65,7 @@ export function Results(p: Props) {
     const rowsOfLabel = Math.max(1, ...det.map((x) => result.leaves[x.i].path.length + 1));
     const layout = {
       ...theme, margin: { ...theme.margin, b: 14 + 15 * rowsOfLabel },
-      yaxis: { ...theme.yaxis, title: { text: 'expected signal counts in dwell' }, rangemode: 'tozero' }, xaxis: { ...theme.xaxis, tickangle: 0, showgrid: false },
+      yaxis: { ...theme.yaxis, title: { text: 'signal counts in the dwell' }, rangemode: 'tozero' }, xaxis: { ...theme.xaxis, tickangle: 0, showgrid: false },
     };
     return { data, layout };
   }, [result, rows, theme]);
@@ -122,7 +126,7 @@ export function Results(p: Props) {
             layout: {
               ...theme, shapes: edges, showlegend: true, legend: { orientation: 'h', y: -0.3 },
               xaxis: { ...theme.xaxis, title: { text: `${profileAxis} (mm)` } },
-              yaxis: { ...theme.yaxis, title: { text: 'oven flux fraction / mm' }, rangemode: 'tozero' },
+              yaxis: { ...theme.yaxis, title: { text: 'fraction of the oven flux per mm (/mm)' }, rangemode: 'tozero' },
             },
             axis: profileAxis,
           }
@@ -185,17 +189,17 @@ export function Results(p: Props) {
                 <tr key={i} data-target={r.target} data-path={r.path}>
                   <td><span className="swatch" style={{ background: LEAF_COLORS[i % LEAF_COLORS.length] }} aria-hidden="true" />{r.path}</td>
                   <td>{r.target}</td>
-                  <td className="num" data-yield={r.yield}>{fmt(r.yield, 6)}</td>
-                  <td className="num">{fmt(r.rate)}</td>
-                  <td className="num">{r.counts !== undefined ? `${fmt(r.counts)} ± ${fmt(r.sigma, 3)}` : '—'}</td>
-                  <td className="num">{fmt(r.detectorRate)}</td>
-                  <td className="num">{r.time !== undefined ? fmtTime(r.time) : '—'}</td>
-                  {rows.some((x) => x.captured !== undefined) && <td className="num">{fmt(r.captured, 3)}</td>}
+                  <td className="num" data-yield={r.yield}>{cells[i].yield}</td>
+                  <td className="num">{cells[i].rate}</td>
+                  <td className="num">{cells[i].counts}</td>
+                  <td className="num">{cells[i].detectorRate}</td>
+                  <td className="num">{r.time !== undefined ? (detCells.find((d) => d.id === r.target)?.noSignal ? 'no signal' : fmtTime(r.time)) : '—'}</td>
+                  {rows.some((x) => x.captured !== undefined) && <td className="num">{cells[i].captured}</td>}
                 </tr>
               ))}
             </tbody>
             <tfoot>
-              <tr><td colSpan={2}>lost</td><td className="num">{fmt(result.lost, 6)}</td><td colSpan={5} /></tr>
+              <tr><td colSpan={2}>lost</td><td className="num">{lostCell(result)}</td><td colSpan={5} /></tr>
             </tfoot>
           </table>
           <table className="detectors" aria-label="Detectors">
@@ -205,12 +209,12 @@ export function Results(p: Props) {
                 <th scope="col">signal to {eps !== undefined ? `${fmt(eps * 100, 3)} %` : 'ε'}, background known</th></tr>
             </thead>
             <tbody>
-              {result.detectors.map((d) => (
+              {result.detectors.map((d, i) => (
                 <tr key={d.id}>
-                  <td>{d.id}</td><td className="num">{fmt(d.yield, 6)}</td><td className="num">{fmt(d.rate)}</td>
-                  <td className="num">{fmt(d.counts)} ± {fmt(d.sigma, 3)}</td><td className="num">{fmt(d.background)}</td>
-                  <td className="num">{d.background === 0 && d.signal > 0 ? '∞ (no background)' : fmt(d.signalToBackground, 3)}</td>
-                  <td className="num">{eps !== undefined ? fmtTime(timeToPrecision(d.signal, d.background, eps)) : '—'}</td>
+                  <td>{d.id}</td><td className="num">{detCells[i].yield}</td><td className="num">{detCells[i].rate}</td>
+                  <td className="num">{detCells[i].counts}</td><td className="num">{detCells[i].background}</td>
+                  <td className="num">{detCells[i].signalToBackground}</td>
+                  <td className="num">{eps === undefined ? '—' : detCells[i].noSignal ? 'no signal' : fmtTime(timeToPrecision(d.signal, d.background, eps))}</td>
                 </tr>
               ))}
             </tbody>
