@@ -149,12 +149,6 @@ function scaleRows(mr: ArrayLike<number>, mi: ArrayLike<number>, pr: Float64Arra
 }
 
 /**
- * From a field twist on, the subtree is averaged speed by speed: on the tabulated speeds (or the one
- * speed) as they are, or on grids uniform in 1/v below the typical speed and in v above it
- * (physics/velocity.ts oscillationGrid), doubled from 2×8 to 2×128 panels of 8 nodes until no leaf
- * yield moves by 1e-11 (the last change is reported as the error, and as a warning above 1e-9).
- */
-/**
  * The first grid of the doubling: levels whose nodes step the fastest phase (the twist's eigenphase
  * spread ℓ·ΔΛ plus the incoming state's largest phase-length, times 1/v) by more than ~2 rad between
  * neighbours cannot have converged, so the doubling starts past them (at most at 64 panels, so that
@@ -177,6 +171,12 @@ function firstPanels(d: VelocityDistribution, st: SpecState, twist: TwistOp): nu
   return panels;
 }
 
+/**
+ * From a field twist on, the subtree is averaged speed by speed: on the tabulated speeds (or the one
+ * speed) as they are, or on grids uniform in 1/v below the typical speed and in v above it
+ * (physics/velocity.ts oscillationGrid), doubled from 2×8 to 2×128 panels of 8 nodes until no leaf
+ * yield moves by 1e-11 (the last change is reported as the error, and as a warning above 1e-9).
+ */
 export function runSampledSubtree(ctx: WalkCtx, e: Element, st: SpecState, twist: TwistOp, walk: Walk): void {
   const d = ctx.dist;
   const exact = d.kind === 'fixed' || d.kind === 'table';
