@@ -19,6 +19,7 @@ import { lineAt, type Plan } from './plan.ts';
 import { Random } from './random.ts';
 import { CancelledError, RunError, runLine, type RunOptions } from './run.ts';
 import { specTraceAt } from './average.ts';
+import { specIsStatic } from './spectral.ts';
 
 export interface SimulateOptions extends RunOptions {
   /** Atoms drawn (default 100,000). */
@@ -123,8 +124,46 @@ function speedSampler(d: VelocityDistribution, rng: Random): () => number {
 
 const within = (p: number, c: number, w: number) => Math.abs(p - c) <= w / 2;
 
+/**
+ * A path's transverse geometry, prepared once: at each clipping plane (and the detector's) the deflection is
+ * num/v² along its axis (subbeam.ts `deflection`: Σ a L (L/2 + y − y_exit) n̂ over the magnets already passed).
+ */
+interface PreparedPath {
+  readonly ys: number;
+  readonly stripY: Float64Array;
+  readonly stripLo: Float64Array;
+  readonly stripHi: Float64Array;
+  readonly stripX: Uint8Array;
+  readonly stripNum: Float64Array;
+  readonly planeNumX: number;
+  readonly planeNumZ: number;
+}
+
+function prepare(p: FinePath): PreparedPath {
+  const t = p.track;
+  const num = (y: number) => deflection(t.kicks, y, 1);
+  const n = t.strips.length;
+  const stripY = new Float64Array(n), stripLo = new Float64Array(n), stripHi = new Float64Array(n), stripNum = new Float64Array(n);
+  const stripX = new Uint8Array(n);
+  t.strips.forEach((st, i) => {
+    stripY[i] = st.y;
+    stripLo[i] = st.lo;
+    stripHi[i] = st.hi;
+    stripX[i] = st.axis === 'x' ? 1 : 0;
+    const d = num(st.y);
+    stripNum[i] = st.axis === 'x' ? d.x : d.z;
+  });
+  const d = num(p.plane);
+  return { ys: t.collimator?.y ?? Infinity, stripY, stripLo, stripHi, stripX, stripNum, planeNumX: d.x, planeNumZ: d.z };
+}
+
 /** Each path's probability at each of the atoms' speeds: the trace of its state at that speed. */
 function pathProbabilities(p: FinePath, speeds: Float64Array): Float64Array {
+  if (p.spec && specIsStatic(p.spec)) {
+    // the same state at every speed (no phase term): one trace for all
+    const t = speeds.length ? specTraceAt(p.spec, speeds.subarray(0, 1), Infinity)[0] : 0;
+    return new Float64Array(speeds.length).fill(t);
+  }
   if (p.spec) return specTraceAt(p.spec, speeds, Infinity);
   const g = p.grid!;
   const out = new Float64Array(speeds.length);
@@ -185,7 +224,7 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
   const perDet = new Map(detectors.map((d) => [d.id, { hits: 0, xs: [] as number[], zs: [] as number[] }]));
   const perPath = paths.map((p) => ({ path: [...p.path], target: p.target, atoms: 0, clipped: 0 }));
   let lostSpin = 0, clipped = 0, negative = 0;
-  const point = (r: Rect | null, axis: 'x' | 'z') => (r ? (axis === 'x' ? r.x : r.z) + ((axis === 'x' ? r.width : r.height) * (rng.uniform() - 0.5)) : 0);
+  const prepared = paths.map(prepare);
   for (let a = 0; a < atoms; a++) {
     if ((a & 0xffff) === 0 && opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
     const s = sysList[sysOf[a]];
@@ -206,32 +245,32 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
     }
     const fp = paths[chosen];
     const t = fp.track;
-    const v = speeds[a];
-    const sx = point(t.source, 'x'), sz = point(t.source, 'z');
-    const cx = t.collimator ? point(t.collimator.rect, 'x') : sx, cz = t.collimator ? point(t.collimator.rect, 'z') : sz;
-    const ys = t.collimator?.y ?? Infinity;
-    const at = (y: number) => {
-      const f = Number.isFinite(ys) && ys > 0 ? y / ys : 0;
-      const d = deflection(t.kicks, y, v);
-      return { x: sx + (cx - sx) * f + d.x, z: sz + (cz - sz) * f + d.z };
-    };
+    const g = prepared[chosen];
+    const inv2 = 1 / (speeds[a] * speeds[a]);
+    const src = t.source, col = t.collimator?.rect ?? null;
+    const sx = src ? src.x + src.width * (rng.uniform() - 0.5) : 0, sz = src ? src.z + src.height * (rng.uniform() - 0.5) : 0;
+    const cx = col ? col.x + col.width * (rng.uniform() - 0.5) : sx, cz = col ? col.z + col.height * (rng.uniform() - 0.5) : sz;
+    const slope = Number.isFinite(g.ys) && g.ys > 0 ? 1 / g.ys : 0;
     perPath[chosen].atoms++;
     let ok = true;
-    for (const st of t.strips) {
-      const q = at(st.y)[st.axis];
-      if (q < st.lo || q > st.hi) {
+    for (let j = 0; j < g.stripY.length; j++) {
+      const f = g.stripY[j] * slope;
+      const q = (g.stripX[j] ? sx + (cx - sx) * f : sz + (cz - sz) * f) + g.stripNum[j] * inv2;
+      if (q < g.stripLo[j] || q > g.stripHi[j]) {
         ok = false;
         break;
       }
     }
-    const pos = at(fp.plane);
+    const fpl = fp.plane * slope;
+    const px = sx + (cx - sx) * fpl + g.planeNumX * inv2, pz = sz + (cz - sz) * fpl + g.planeNumZ * inv2;
     const w = fp.detector?.window;
-    if (ok && w && !(within(pos.x, w.x, w.width) && within(pos.z, w.z, w.height))) ok = false;
+    if (ok && w && !(within(px, w.x, w.width) && within(pz, w.z, w.height))) ok = false;
     if (!ok) {
       perPath[chosen].clipped++;
       clipped++;
       continue;
     }
+    const pos = { x: px, z: pz };
     const acc = fp.detector ? perDet.get(fp.detector.id) : undefined;
     if (acc) {
       acc.hits++;
