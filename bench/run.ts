@@ -7,7 +7,9 @@
  * `npm run bench -- ui`      the browser: time from an edit to the updated table and chart, per sample
  * `npm run bench -- session [--evaluations N]`
  *                            the engine's heap over N evaluations of one compiled line with a changed parameter
- * `npm run bench -- planning` scans, budgets, fits and simulated runs on the samples; a scan in 1 and 2 worker threads
+ * `npm run bench -- w3 [--json OUT] [--no-peers]`
+ *                            workload W3 of ../shared/peers (10⁶ silver atoms, simulate) beside its NumPy peer
+ * `npm run bench -- planning` (or plan) scans, budgets, fits and simulated runs on the samples; a scan in 1 and 2 worker threads
  * `npm run bench -- startup` cold starts: `spinyard --help`, `spinyard run`, the app's load to its first result
  * Figures go into docs/bench.md by hand, with the machine they were taken on.
  */
@@ -240,7 +242,17 @@ async function main(): Promise<void> {
     console.log(benchSession(root, args));
     return;
   }
-  if (args[0] === 'planning') {
+  if (args[0] === 'w3') {
+    if (!existsSync(join(peersDir, 'w3-expected.json'))) {
+      console.log(`W3 not run: it needs the shared performance peers (w3-expected.json and the NumPy peer) in ${peersDir}, which this machine does not have`);
+      return;
+    }
+    const j = args.indexOf('--json');
+    const { benchW3 } = await import('./w3.ts');
+    console.log(benchW3(peersDir, j >= 0 ? args[j + 1] : null, !args.includes('--no-peers')));
+    return;
+  }
+  if (args[0] === 'planning' || args[0] === 'plan') {
     const { benchPlanning } = await import('./planning.ts');
     console.log(benchPlanning(root));
     return;

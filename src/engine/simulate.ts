@@ -27,6 +27,8 @@ export interface SimulateOptions extends RunOptions {
   seed?: number;
   /** Bins per axis of each detector's hit map (default 40). */
   bins?: number;
+  /** Receives every atom that reaches a detector inside its window: the detector, x and z on its plane (m) and its speed. */
+  onHit?: (detector: string, x: number, z: number, speed: number) => void;
 }
 
 export const MAX_ATOMS = 50_000_000;
@@ -270,12 +272,12 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
       clipped++;
       continue;
     }
-    const pos = { x: px, z: pz };
     const acc = fp.detector ? perDet.get(fp.detector.id) : undefined;
     if (acc) {
+      opts.onHit?.(fp.detector!.id, px, pz, speeds[a]);
       acc.hits++;
-      acc.xs.push(pos.x);
-      acc.zs.push(pos.z);
+      acc.xs.push(px);
+      acc.zs.push(pz);
     }
   }
   if (negative < -1e-9) warnings.push(`a path's probability came out at ${negative.toExponential(1)} at some speed (round-off of the state); it was taken as 0`);
