@@ -1,4 +1,5 @@
 /** The end of a path (a detector or a stop): its beam-averaged yield and what the detector plane needs of it. */
+import { RunError } from './errors.ts';
 import type { Detector } from '../beamline/types.ts';
 import type { SpecState } from './spectral.ts';
 import { specAverageTrace } from './average.ts';
@@ -6,7 +7,18 @@ import type { FinePath } from './detector-plane.ts';
 import { type State, ScaledNodes, isNodes, nodeTrace, realTrace } from './nodes.ts';
 import type { Walk, WalkCtx } from './steps/step.ts';
 
+/**
+ * The most paths (leaves) a run follows. Each magnet that deflects splits a path into its states, each routed port
+ * and each RF entry phase multiplies the paths behind it, so they grow exponentially along a chain: 18 magnets that
+ * route both ports onward make 262,144 leaves (about 1.7 GB). A line past this bound is refused with the reason,
+ * instead of running out of memory (the samples have at most 9).
+ */
+export const MAX_LEAVES = 20_000;
+
 export function finishLeaf(ctx: WalkCtx, st: State, walk: Walk, target: string, det: Detector | null): void {
+  if (ctx.leaves.length >= MAX_LEAVES) {
+    throw new RunError(`the line has more than ${MAX_LEAVES.toLocaleString('en-US')} paths to follow (this one ends at ${target} after ${walk.path.length} magnet ports: ${walk.path.slice(0, 6).join(' ')}${walk.path.length > 6 ? ' …' : ''}): every magnet that deflects splits a path into its states, and every port routed onward, RF entry phase and isotope multiplies the paths behind it; route the ports you do not measure to "stop", or split the line into parts`);
+  }
   let yieldSpin: number;
   let yieldError = 0;
   let grid: FinePath['grid'];
