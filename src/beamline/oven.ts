@@ -14,6 +14,7 @@ import { listText, quote } from './messages.ts';
 import { type Obj, type ReadCtx, at, axis, bounded, checkKeys, choice, describe, full, isObj, object, problem, quantity, rect, setOwn, target, warn } from './read.ts';
 import type { Flux, Oven, OvenState, Velocity } from './types.ts';
 import { isProblem, parseQuantity } from './units.ts';
+import { plausible } from './plausible.ts';
 
 export const OVEN_KEYS = ['state', 'flux', 'velocity', 'aperture', 'to'] as const;
 export const VELOCITY_KINDS = ['fixed', 'effusive', 'supersonic', 'table'] as const;
@@ -77,9 +78,11 @@ function readFlux(ctx: ReadCtx, o: Obj, path: string): Flux | undefined {
     checkKeys(ctx, v, p, ['kind', 'temperature'], 'a vapor flux estimate');
     if (v.kind !== 'vapor') return problem(ctx, at(p, 'kind'), `a flux object is {"kind": "vapor", "temperature": …}, got kind ${describe(v.kind)}`);
     const t = quantity(ctx, v, 'temperature', 'temperature', p, { positive: true, range: LIMITS.temperature, what: 'the temperature' });
+    plausible(ctx, at(p, 'temperature'), 'temperature', t, 'the reservoir temperature');
     return t === undefined ? undefined : { kind: 'vapor', temperature: t };
   }
   const f = quantity(ctx, o, 'flux', 'rate', path, { nonNegative: true, range: LIMITS.flux, what: 'the flux' });
+  plausible(ctx, p, 'flux', f, 'the flux');
   return f === undefined ? undefined : { kind: 'given', value: f };
 }
 
@@ -101,6 +104,7 @@ function readVelocity(ctx: ReadCtx, o: Obj, path: string): Velocity | undefined 
     case 'effusive': {
       checkKeys(ctx, v, p, ['kind', 'temperature'], 'an effusive velocity distribution');
       const temperature = quantity(ctx, v, 'temperature', 'temperature', p, { positive: true, range: LIMITS.temperature, what: 'the temperature' });
+      plausible(ctx, at(p, 'temperature'), 'temperature', temperature, 'the oven temperature');
       return temperature === undefined ? undefined : { kind, temperature };
     }
     case 'supersonic': {

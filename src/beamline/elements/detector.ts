@@ -5,8 +5,9 @@
  */
 import type { Detector } from '../types.ts';
 import { LIMITS } from '../limits.ts';
-import { type Obj, type ReadCtx, quantity, rect } from '../read.ts';
+import { type Obj, type ReadCtx, at, quantity, rect } from '../read.ts';
 import type { KindModule } from './kind.ts';
+import { plausible } from '../plausible.ts';
 
 export const detector: KindModule<Detector> = {
   kind: 'detector',
@@ -18,6 +19,8 @@ export const detector: KindModule<Detector> = {
     const efficiency = quantity(ctx, o, 'efficiency', 'dimensionless', path, { fallback: 1, unit: true, what: 'the efficiency' });
     const background = quantity(ctx, o, 'background', 'rate', path, { fallback: 0, nonNegative: true, range: LIMITS.background, what: 'the background' });
     const dwell = quantity(ctx, o, 'dwell', 'time', path, { fallback: 1, positive: true, range: LIMITS.dwell, what: 'the dwell' });
+    plausible(ctx, at(path, 'efficiency'), 'efficiency', efficiency, 'the efficiency');
+    plausible(ctx, at(path, 'dwell'), 'dwell', dwell, 'the dwell');
     const window = rect(ctx, o, 'window', path);
     if (efficiency === undefined || background === undefined || dwell === undefined) return undefined;
     const out: Omit<Detector, 'id' | 'kind' | 'gap' | 'path'> = { efficiency, background, dwell };

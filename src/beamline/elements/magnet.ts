@@ -10,6 +10,7 @@ import { listText, quote } from '../messages.ts';
 import { type Obj, type ReadCtx, at, axis, describe, full, isObj, problem, quantity, rect, setOwn, warn } from '../read.ts';
 import type { KindModule } from './kind.ts';
 import { readSorting } from './sorting.ts';
+import { plausible } from '../plausible.ts';
 
 export const magnet: KindModule<Magnet> = {
   kind: 'magnet',
@@ -22,6 +23,8 @@ export const magnet: KindModule<Magnet> = {
     const field = quantity(ctx, o, 'field', 'field', path, { required: false, nonNegative: true, range: LIMITS.fieldSize, what: 'the field size' });
     const gradient = quantity(ctx, o, 'gradient', 'gradient', path, { required: false, range: LIMITS.gradient, what: 'the gradient' });
     const length = quantity(ctx, o, 'length', 'length', path, { required: false, nonNegative: true, range: LIMITS.distance, what: 'the length' });
+    plausible(ctx, at(path, 'field'), 'field', field, 'the field size');
+    plausible(ctx, at(path, 'gradient'), 'gradient', gradient, 'the gradient');
     const aperture = rect(ctx, o, 'aperture', path);
     const sort = readSorting(ctx, o, path);
     const ports = readPorts(ctx, o, path, sort.labels);

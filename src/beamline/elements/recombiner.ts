@@ -10,6 +10,7 @@ import { listText, quote } from '../messages.ts';
 import { type Obj, type ReadCtx, at, axis, describe, full, isObj, problem, quantity, setOwn, target } from '../read.ts';
 import type { KindModule } from './kind.ts';
 import { readSorting } from './sorting.ts';
+import { plausible } from '../plausible.ts';
 
 export const recombiner: KindModule<Recombiner> = {
   kind: 'recombiner',
@@ -56,6 +57,7 @@ export const recombiner: KindModule<Recombiner> = {
       else coherent = o.coherent;
     }
     const f = quantity(ctx, o, 'field', 'field', path, { required: false, nonNegative: true, range: LIMITS.fieldSize, what: 'the field size' });
+    plausible(ctx, at(path, 'field'), 'field', f, 'the field size');
     const to = target(ctx, o, 'to', path, 'a recombiner');
     if (ctx.problems.length > n || !ax || !to) return undefined;
     const out: Omit<Recombiner, 'id' | 'kind' | 'gap' | 'path'> = { axis: ax, open, phases, coherent, to };

@@ -5,8 +5,9 @@
  */
 import type { RfFlipper } from '../types.ts';
 import { LIMITS } from '../limits.ts';
-import { type Obj, type ReadCtx, axis, quantity, target, vec } from '../read.ts';
+import { type Obj, type ReadCtx, at, axis, quantity, target, vec } from '../read.ts';
 import type { KindModule } from './kind.ts';
+import { plausible, plausibleVector } from '../plausible.ts';
 
 export const rf: KindModule<RfFlipper> = {
   kind: 'rf',
@@ -17,6 +18,8 @@ export const rf: KindModule<RfFlipper> = {
   read(o: Obj, path: string, ctx: ReadCtx) {
     const st = vec(ctx, o, 'static', 'field', path, LIMITS.field);
     const amplitude = quantity(ctx, o, 'amplitude', 'field', path, { nonNegative: true, range: LIMITS.fieldSize, what: 'the amplitude' });
+    plausibleVector(ctx, at(path, 'static'), st, 'the static field');
+    plausible(ctx, at(path, 'amplitude'), 'field', amplitude, 'the amplitude');
     const frequency = quantity(ctx, o, 'frequency', 'frequency', path, { nonNegative: true, range: LIMITS.frequency, what: 'the frequency' });
     const ax = axis(ctx, o, 'axis', path);
     const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, range: LIMITS.distance, what: 'the length' });

@@ -4,8 +4,9 @@
  */
 import type { Twist } from '../types.ts';
 import { LIMITS } from '../limits.ts';
-import { type Obj, type ReadCtx, axis, quantity, target } from '../read.ts';
+import { type Obj, type ReadCtx, at, axis, quantity, target } from '../read.ts';
 import type { KindModule } from './kind.ts';
+import { plausible } from '../plausible.ts';
 
 export const twist: KindModule<Twist> = {
   kind: 'twist',
@@ -15,6 +16,7 @@ export const twist: KindModule<Twist> = {
   hyperfineOnly: [],
   read(o: Obj, path: string, ctx: ReadCtx) {
     const f = quantity(ctx, o, 'field', 'field', path, { nonNegative: true, range: LIMITS.fieldSize, what: 'the field size' });
+    plausible(ctx, at(path, 'field'), 'field', f, 'the field size');
     const start = axis(ctx, o, 'start', path);
     const end = axis(ctx, o, 'end', path);
     const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, range: LIMITS.distance, what: 'the length' });
