@@ -14,6 +14,7 @@ import {
   type FactoryFunctionMap, type MathNode, type Unit,
 } from 'mathjs';
 import { abbreviate, groupDigits, quote } from './messages.ts';
+import { ATOMIC_MASS_KG } from '../physics/constants.ts';
 import type { Problem } from './types.ts';
 
 declare module 'mathjs' {
@@ -40,12 +41,8 @@ export const math = create({
   piDependencies, tauDependencies, InfinityDependencies, NaNDependencies,
 });
 
-/**
- * Unified atomic mass unit u = m(¹²C)/12 = 1.660 539 066 60(50)e-27 kg
- * (CODATA 2018, Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021); NIST SP 961 (2019)). mathjs has the
- * constant (`atomicMass`) but no unit.
- */
-export const ATOMIC_MASS_UNIT_KG = 1.6605390666e-27;
+/** The unit u = m(¹²C)/12 in kg (src/physics/constants.ts, CODATA 2018). mathjs has the constant (`atomicMass`) but no unit. */
+export const ATOMIC_MASS_UNIT_KG = ATOMIC_MASS_KG;
 math.createUnit('u', { definition: `${ATOMIC_MASS_UNIT_KG} kg`, prefixes: 'none' });
 
 /** The gauss, G = 1e-4 T exactly (NIST SP 811 (2008), B.8), as labs still quote fields and gradients ("20 G/cm"). */
