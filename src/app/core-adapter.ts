@@ -17,6 +17,7 @@ import {
   type LabelSpecies,
 } from '../beamline/index.ts';
 import { speciesPortLabels as docSpeciesPortLabels } from '../beamline/edits.ts';
+export { outputsOf, lengthOf, KINDS } from '../beamline/elements/registry.ts';
 export { changeSpecies, documentOutputs, elementOutputs, speciesIsHyperfine, DEFAULT_HYPERFINE_FIELD, type DocOutput, type SpeciesChange } from '../beamline/edits.ts';
 import { runLine, compile, type RunResult, type ParameterSlot } from '../engine/index.ts';
 export { compile, scanParameters, scanIndices, scanPoint, scanResult, scanCsv, budget, csvNumber, leafName, CancelledError, RunError, MAX_SCAN_POINTS, MAX_BUDGET_DRAWS } from '../engine/index.ts';

@@ -2,7 +2,7 @@
 // gaps and lengths, the routes of the leaves, the transverse offsets of the sub-beams and a scale bar.
 // Lengths in m. Pure functions of the normalized line (all numbers SI).
 
-import type { Beamline, Element } from './core-adapter.ts';
+import { type Beamline, type Element, lengthOf, outputsOf } from './core-adapter.ts';
 
 export interface Placed {
   id: string;
@@ -13,18 +13,14 @@ export interface Placed {
   element: Element;
 }
 
-/** Length of an element along the beam (0 for ideal elements: rotators, slits, detectors, ideal magnets). */
+/** Length of an element along the beam (0 for ideal elements: rotators, slits, detectors, ideal magnets): its kind module's. */
 export function elementLength(e: Element): number {
-  switch (e.kind) {
-    case 'magnet': return e.length ?? 0;
-    case 'field': case 'twist': case 'rf': return e.length;
-    default: return 0;
-  }
+  return lengthOf(e);
 }
 
-/** The targets an element routes to: its ports (magnet) or its one output. "stop" is not an element. */
+/** The targets an element routes to (the one routing rule of the kind modules). "stop" is not an element. */
 export function targetsOf(e: Element): string[] {
-  return e.kind === 'magnet' ? Object.values(e.ports) : e.kind === 'detector' ? [] : [e.to];
+  return outputsOf(e).map((o) => o.target);
 }
 
 /**
@@ -104,11 +100,12 @@ export function leafRoute(line: Beamline, path: readonly string[]): string[] {
     const e = byId.get(id);
     if (!e) break;
     out.push(id);
-    if (e.kind === 'magnet') {
-      const port = ports.get(id);
-      id = port === undefined ? undefined : (e.ports[port] ?? e.ports['*']);
-    } else if (e.kind === 'detector') id = undefined;
-    else id = e.to;
+    // the one routing rule: the named port of a magnet (or its "*" entry), else the single output
+    const outs = outputsOf(e);
+    const port = ports.get(id);
+    const next = outs.length === 1 && outs[0].port === null ? outs[0]
+      : outs.find((o) => o.port === port) ?? outs.find((o) => o.port === '*');
+    id = port === undefined && !(outs.length === 1 && outs[0].port === null) ? undefined : next?.target;
   }
   return out;
 }

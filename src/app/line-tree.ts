@@ -2,7 +2,7 @@
 // opens a nested branch. An element reached a second time (paths may share elements) appears as a
 // reference to its first place.
 
-import type { BeamlineDoc } from './core-adapter.ts';
+import { type BeamlineDoc, type ElementKind, outputsOf } from './core-adapter.ts';
 
 export interface TreeItem {
   /** Unique key in the tree ("M1", "M1/+1/2/D1"). */
@@ -20,7 +20,7 @@ export interface TreePort {
   branch: TreeItem[];
 }
 
-type El = { id: string; kind: string; to?: string; ports?: Record<string, string> };
+type El = { id: string; kind: ElementKind; to?: string; ports?: Record<string, string> };
 
 export function lineTree(doc: BeamlineDoc): TreeItem[] {
   const els = doc.elements as unknown as El[];
@@ -38,17 +38,19 @@ export function lineTree(doc: BeamlineDoc): TreeItem[] {
         break;
       }
       shown.add(id);
-      if (e.kind === 'magnet') {
-        const ports = Object.entries(e.ports ?? {}).map(([label, target]) => ({
-          label,
+      // the one routing rule (the kind modules' outputsOf): a magnet's ports open branches, else the single output
+      const outs = outputsOf(e);
+      if (outs.some((o) => o.port !== null)) {
+        const ports = outs.map(({ port, target }) => ({
+          label: port!,
           target,
-          branch: branch(target, `${key}/${label}`, depth + 1),
+          branch: branch(target, `${key}/${port}`, depth + 1),
         }));
         out.push({ key, id, kind: e.kind, shared: false, ports });
         break;
       }
       out.push({ key, id, kind: e.kind, shared: false });
-      id = e.kind === 'detector' ? undefined : e.to;
+      id = outs[0]?.target;
       depth++;
     }
     return out;

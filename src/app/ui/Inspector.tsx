@@ -1,11 +1,13 @@
 // The inspector of the selected element (or the oven and species): unit-aware fields, routing, ports.
-import type { BeamlineDoc, Beamline } from '../core-adapter.ts';
+import { type BeamlineDoc, type Beamline, type ElementKind, KINDS } from '../core-adapter.ts';
 import { elementFields, velocityFields, VELOCITY_KINDS, NEW_ELEMENT_KINDS, type FieldSpec } from '../fields.ts';
 import { getAt, joinPath } from '../doc-path.ts';
 import { QuantityInput } from './QuantityInput.tsx';
 import { fmtLength } from '../format.ts';
 import type { Placed } from '../layout.ts';
 import { useId, useState } from 'react';
+
+const isElementKind = (k: string): k is ElementKind => Object.hasOwn(KINDS, k);
 
 /** What the inspector's controls do. The editor runs each as the command `inspector.edit` (an
  *  InspectorEdit of src/app/inspector-edit.ts); a refused entry comes back in `errors`. */
@@ -160,7 +162,9 @@ export function Inspector(p: Props) {
   }
   const el = doc.elements[index] as unknown as Record<string, unknown> & { id: string; kind: string };
   const base = `elements[${index}]`;
-  const ports = el.kind === 'magnet' ? (el.ports as Record<string, string>) : undefined;
+  // what the kind routes (its kind module: ports, one output, or none for a leaf)
+  const output = isElementKind(el.kind) ? KINDS[el.kind].output : 'to';
+  const ports = output === 'ports' ? (el.ports as Record<string, string>) : undefined;
   const unlisted = ports ? p.portLabels.filter((l) => !(l in ports)) : [];
   const lineEl = line.elements.find((e) => e.id === el.id);
   return (
@@ -178,7 +182,7 @@ export function Inspector(p: Props) {
         <QuantityInput name={`${base}.id`} label="id" value={el.id} error={errors[`${base}.id`]} onCommit={(t) => actions.rename(el.id, t.trim())} />
       </div>
       <Fields base={base} specs={elementFields(el, p.hyperfine)} doc={doc} errors={errors} actions={actions} />
-      {el.kind !== 'detector' && (
+      {output !== 'none' && (
         <>
           <h3>Routing</h3>
           <table className="routes">
