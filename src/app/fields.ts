@@ -1,7 +1,7 @@
 // What the inspector shows for each element kind: quantity fields (relative JSON path, label,
 // dimension), choices, and which keys are optional. The document layer validates; this only lists.
 
-import type { Dimension } from './core-adapter.ts';
+import type { Dimension, ElementKind } from './core-adapter.ts';
 
 export interface QuantityField {
   type: 'quantity';
@@ -54,53 +54,49 @@ const rect = (key: string, label: string, offsets: boolean) => [
   ...(offsets ? [q(`${key}.x`, `${label} x`, 'length', true, '0 mm'), q(`${key}.z`, `${label} z`, 'length', true, '0 mm')] : []),
 ];
 
-/** The fields of an element as written in the document (`el` is the raw element object). */
+type FieldsOf = (el: Record<string, unknown>, hyperfine: boolean) => FieldSpec[];
+
+/** The inspector's fields of each element kind, one entry per kind (a kind without one fails the type check). */
+export const ELEMENT_FIELDS: { readonly [K in ElementKind]: FieldsOf } = {
+  magnet: (el, hyperfine) => [
+    gap,
+    ...axisFields('axis', 'axis', el.axis),
+    q('field', 'field at the beam', 'field', true),
+    q('gradient', 'gradient', 'gradient', true),
+    q('length', 'length', 'length', true),
+    ...rect('aperture', 'pole gap', false),
+    ...(hyperfine
+      ? [
+          { type: 'choice', key: 'group', label: 'ports group', options: ['', 'mJ', 'each'], optional: true } as ChoiceField,
+          { type: 'choice', key: 'entry', label: 'entry', options: ['', 'adiabatic', 'sudden'], optional: true } as ChoiceField,
+        ]
+      : []),
+  ],
+  rotator: (el) => [gap, ...axisFields('axis', 'axis', el.axis), q('angle', 'angle', 'angle')],
+  field: () => [gap, ...vec('field', 'field', 'field'), q('length', 'length', 'length')],
+  twist: (el) => [gap, q('field', 'field size', 'field'), ...axisFields('start', 'start', el.start), ...axisFields('end', 'end', el.end), q('length', 'length', 'length')],
+  rf: (el) => [
+    gap, ...vec('static', 'static', 'field'), q('amplitude', 'amplitude', 'field'), q('frequency', 'frequency', 'frequency'),
+    ...axisFields('axis', 'axis', el.axis), q('length', 'length', 'length'),
+    // empty: a continuous beam, averaged over every RF phase; a value: a pulsed beam locked to the RF at that phase
+    q('phase', 'entry phase (locked beam)', 'angle', true, 'every phase'),
+  ],
+  recombiner: (el, hyperfine) => [gap, ...axisFields('axis', 'axis', el.axis), { type: 'bool', key: 'coherent', label: 'coherent' },
+    ...(hyperfine ? [q('field', 'field', 'field', true)] : [])],
+  slit: () => [gap, q('width', 'width', 'length'), q('height', 'height', 'length'), q('x', 'offset x', 'length', true, '0 mm'), q('z', 'offset z', 'length', true, '0 mm')],
+  detector: () => [
+    gap,
+    q('efficiency', 'efficiency', 'dimensionless', true, '1'),
+    q('background', 'background', 'rate', true, '0 /s'),
+    q('dwell', 'dwell', 'time', true, '1 s'),
+    ...rect('window', 'window', true),
+  ],
+};
+
+/** The fields of an element as written in the document (`el` is the raw element object); an unknown kind shows its gap. */
 export function elementFields(el: Record<string, unknown>, hyperfine: boolean): FieldSpec[] {
-  switch (el.kind) {
-    case 'magnet':
-      return [
-        gap,
-        ...axisFields('axis', 'axis', el.axis),
-        q('field', 'field at the beam', 'field', true),
-        q('gradient', 'gradient', 'gradient', true),
-        q('length', 'length', 'length', true),
-        ...rect('aperture', 'pole gap', false),
-        ...(hyperfine
-          ? [
-              { type: 'choice', key: 'group', label: 'ports group', options: ['', 'mJ', 'each'], optional: true } as ChoiceField,
-              { type: 'choice', key: 'entry', label: 'entry', options: ['', 'adiabatic', 'sudden'], optional: true } as ChoiceField,
-            ]
-          : []),
-      ];
-    case 'rotator':
-      return [gap, ...axisFields('axis', 'axis', el.axis), q('angle', 'angle', 'angle')];
-    case 'field':
-      return [gap, ...vec('field', 'field', 'field'), q('length', 'length', 'length')];
-    case 'twist':
-      return [gap, q('field', 'field size', 'field'), ...axisFields('start', 'start', el.start), ...axisFields('end', 'end', el.end), q('length', 'length', 'length')];
-    case 'rf':
-      return [
-        gap, ...vec('static', 'static', 'field'), q('amplitude', 'amplitude', 'field'), q('frequency', 'frequency', 'frequency'),
-        ...axisFields('axis', 'axis', el.axis), q('length', 'length', 'length'),
-        // empty: a continuous beam, averaged over every RF phase; a value: a pulsed beam locked to the RF at that phase
-        q('phase', 'entry phase (locked beam)', 'angle', true, 'every phase'),
-      ];
-    case 'recombiner':
-      return [gap, ...axisFields('axis', 'axis', el.axis), { type: 'bool', key: 'coherent', label: 'coherent' },
-        ...(hyperfine ? [q('field', 'field', 'field', true)] : [])];
-    case 'slit':
-      return [gap, q('width', 'width', 'length'), q('height', 'height', 'length'), q('x', 'offset x', 'length', true, '0 mm'), q('z', 'offset z', 'length', true, '0 mm')];
-    case 'detector':
-      return [
-        gap,
-        q('efficiency', 'efficiency', 'dimensionless', true, '1'),
-        q('background', 'background', 'rate', true, '0 /s'),
-        q('dwell', 'dwell', 'time', true, '1 s'),
-        ...rect('window', 'window', true),
-      ];
-    default:
-      return [gap];
-  }
+  const kind = el.kind;
+  return typeof kind === 'string' && Object.hasOwn(ELEMENT_FIELDS, kind) ? ELEMENT_FIELDS[kind as ElementKind](el, hyperfine) : [gap];
 }
 
 export const VELOCITY_KINDS = ['fixed', 'effusive', 'supersonic', 'table'] as const;

@@ -1,8 +1,9 @@
 // The line drawn to scale: a side view (z up) and a top view (x across) along the beam (+y to the
 // right), with positions from the cumulative gaps and lengths, apertures and windows, magnets with an
 // end-view of their roll, and the sub-beams to the engine's displacements at the detector planes.
+import { drawElement } from './drawings.tsx';
 import { useMemo } from 'react';
-import type { Beamline, Element } from '../core-adapter.ts';
+import type { Beamline } from '../core-adapter.ts';
 import { beamTrace, maxTransverse, placeElements, placeInOrder, scaleBar, transverseExaggeration, lengthLabel, type Placed } from '../layout.ts';
 import type { RunResultView } from '../results.ts';
 import { fmtLength } from '../format.ts';
@@ -20,12 +21,6 @@ interface Props {
   selected?: string;
   onSelect(id: string): void;
   warned: ReadonlySet<string>;
-}
-
-function rollOf(e: Element): number | undefined {
-  if (e.kind !== 'magnet') return undefined;
-  // n̂ = (sin α, 0, cos α): the angle of the axis from z toward x in the x–z plane.
-  return Math.atan2(e.axis.x, e.axis.z);
 }
 
 export function Schematic({ line, result, selected, onSelect, warned }: Props) {
@@ -166,67 +161,7 @@ function ElementGlyph({ p, which, cy, X, T, row, selected, warned, onSelect, par
       {warned ? ' ⚠' : ''}
     </text>
   );
-  let body: React.ReactNode;
-  switch (e.kind) {
-    case 'magnet': {
-      const ap = e.aperture ? (which === 'side' ? e.aperture.height : e.aperture.width) : undefined;
-      const half = ap !== undefined ? Math.max(T(ap / 2), 2) : 8;
-      const roll = rollOf(e) ?? 0;
-      body = (
-        <>
-          {which === 'side' ? (
-            <>
-              <rect x={x0} y={cy - half - 18} width={w} height={18} className="pole" />
-              <rect x={x0} y={cy + half} width={w} height={18} className="pole" />
-            </>
-          ) : (
-            // seen from above: the upper pole over the gap, its width the pole-gap width
-            <rect x={x0} y={cy - half} width={w} height={2 * half} className="pole pole-top" />
-          )}
-          {which === 'side' && (
-            <g transform={`translate(${x0 + w / 2}, ${cy - 62})`} className="endview">
-              <circle r={11} />
-              <line x1={-9 * Math.sin(roll)} y1={9 * Math.cos(roll)} x2={9 * Math.sin(roll)} y2={-9 * Math.cos(roll)} markerEnd="url(#arrow)" />
-              <text x={14} y={4} className="pos-label">{Math.round((roll * 180) / Math.PI)}°</text>
-            </g>
-          )}
-          {which === 'top' && e.gradient !== undefined && (
-            <text x={x0 + w / 2} y={cy + half + 32} textAnchor="middle" className="pos-label">{`${Math.round(e.gradient)} T/m`}</text>
-          )}
-        </>
-      );
-      break;
-    }
-    case 'slit': {
-      const open = which === 'side' ? e.height : e.width;
-      const off = which === 'side' ? e.z : e.x;
-      body = (
-        <>
-          <rect x={x0 - 2} y={cy - T(off) - T(open / 2) - 26} width={5} height={26} className="jaw" />
-          <rect x={x0 - 2} y={cy - T(off) + T(open / 2)} width={5} height={26} className="jaw" />
-        </>
-      );
-      break;
-    }
-    case 'detector': {
-      const win = e.window;
-      const c = win ? (which === 'side' ? win.z : win.x) : 0;
-      const size = win ? (which === 'side' ? win.height : win.width) : undefined;
-      const reach = win ? Math.max(Math.abs(T(c)) + T(size! / 2) + 6, 40) : 40;
-      body = (
-        <>
-          <rect x={x0} y={cy - reach} width={6} height={2 * reach} className="plate" />
-          {size !== undefined && <rect x={x0 - 2} y={cy - T(c) - T(size / 2)} width={10} height={Math.max(T(size), 1.5)} className="window" />}
-        </>
-      );
-      break;
-    }
-    case 'rotator':
-      body = <path d={`M ${x0} ${cy - 10} L ${x0 + 7} ${cy} L ${x0} ${cy + 10} L ${x0 - 7} ${cy} Z`} className="field-el" />;
-      break;
-    default:
-      body = <rect x={x0} y={cy - 24} width={w} height={48} className="field-el" strokeDasharray="4 2" />;
-  }
+  const body = drawElement(e, { which, cy, x0, w, T });
   if (part === 'label') {
     return (
       <g className={cls} onClick={() => onSelect(e.id)}>
