@@ -1,6 +1,7 @@
 // The renderer: document state (a history of documents), the command registry, the engine worker and
 // the panes (tree, schematic, inspector, results). An edit is validated once (checkDocument keeps the
 // answer and the file text per document) and the worker gets the normalized line (engine-feed.ts).
+import { formatValue, isRoundOff } from '../../beamline/numbers.ts';
 import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { Host, HostDocument, SampleInfo, AutosaveDraft, RecentDocument } from '../../host/contract.ts';
 import {
@@ -573,8 +574,8 @@ export function App({ host }: { host: Host }) {
       </main>
       <footer className="statusline" role="status" aria-live="polite">
         <span>{status.running ? 'computing…' : lastResult ? `run ${lastResult.seq} in ${lastResult.ms !== undefined ? Math.round(lastResult.ms) : '?'} ms` : 'no run yet'}</span>
-        <span>{quad ? (quad.nodes > 0 ? `quadrature: ${quad.nodes} nodes, error ${quad.error.toExponential(1)}${quad.method ? ` (${quad.method})` : ''}` : `quadrature: ${quad.method ?? 'none'}`) : result ? 'quadrature: not reported' : ''}</span>
-        <span>{result ? `lost ${result.lost.toExponential(2)}` : ''}</span>
+        <span>{quad ? (quad.nodes > 0 ? `quadrature: ${quad.nodes} nodes, error ${formatValue(quad.error, 2)}${quad.method ? ` (${quad.method})` : ''}` : `quadrature: ${quad.method ?? 'none'}`) : result ? 'quadrature: not reported' : ''}</span>
+        <span>{result ? `lost ${formatValue(isRoundOff(result.lost) ? 0 : result.lost, 3)}` : ''}</span>
         <span>{result ? `${result.warnings.length} warning${result.warnings.length === 1 ? '' : 's'}` : ''}</span>
         <span>Ctrl+K: commands</span>
       </footer>
