@@ -1,7 +1,7 @@
 /** `spinyard budget FILE [--draws N] [--seed S] [--json] [-o OUT]`: the tolerance budget of a line (src/engine/budget.ts). */
 import { budget, compile, RunError, type BudgetResult } from '../engine/index.ts';
 import { alignTable, formatNumber } from './format.ts';
-import { isSameFile } from './output.ts';
+import { outputProblem, problemsOut, wholeOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 
 export const BUDGET_OPTIONS = [
@@ -52,28 +52,19 @@ export function budgetText(b: BudgetResult, file: string): string {
   return `${out.join('\n')}\n`;
 }
 
-function whole(text: unknown, what: string, max: number): number | string {
-  if (text === undefined) return NaN;
-  const s = String(text);
-  const n = Number(s);
-  return /^\s*\d+\s*$/.test(s) && Number.isSafeInteger(n) && n <= max ? n : `--${what}: a whole number from 0 to ${max}, got "${s}"`;
-}
-
 export function cmdBudgetWith(file: string, text: string, options: Record<string, unknown>): CliOutput {
-  const draws = whole(options.draws, 'draws', 1_000_000);
+  const draws = wholeOption(options.draws, 'draws', 1_000_000);
   if (typeof draws === 'string') return err(draws);
-  const seed = whole(options.seed, 'seed', 0xffffffff);
+  const seed = wholeOption(options.seed, 'seed', 0xffffffff);
   if (typeof seed === 'string') return err(seed);
   const output = options.output;
-  if (typeof output === 'string') {
-    if (output === '') return err('-o: the output file name is empty');
-    if (isSameFile(file, output)) return err(`-o ${output} is the input document ${file}; a budget is never written over its document`);
-  }
+  const outBad = outputProblem(file, output, 'a budget');
+  if (outBad) return err(outBad);
   const c = compile(text);
-  if (!c.ok) return bad(`${file}: not a valid beamline (${c.problems.length} problem${c.problems.length === 1 ? '' : 's'}):`, ...c.problems.map((p) => `  ${p}`));
+  if (!c.ok) return problemsOut(file, c.problems);
   let b: BudgetResult;
   try {
-    b = budget(c.plan, { draws: Number.isNaN(draws) ? undefined : draws, seed: Number.isNaN(seed) ? undefined : seed });
+    b = budget(c.plan, { draws, seed });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);
     throw e;

@@ -16,6 +16,7 @@ import { formatRun } from './format.ts';
 import { type Paper, isSameFile, outputFormatOf } from './output.ts';
 import { withPaper } from './pdf.ts';
 import { readBeamlineFile } from './readFile.ts';
+import { problemsOut } from './common.ts';
 import { SCAN_OPTIONS, cmdScanWith } from './scan.ts';
 import { BUDGET_OPTIONS, cmdBudgetWith } from './budget.ts';
 import { FIT_OPTIONS, cmdFitWith } from './fit.ts';
@@ -40,10 +41,6 @@ function commandArgs(command: string, argv: readonly string[], specs: OptionSpec
   return { args: r.args };
 }
 
-function problemsOut(file: string, problems: readonly string[]): CliOutput {
-  const n = problems.length;
-  return bad(`${file}: not a valid beamline (${n} problem${n === 1 ? '' : 's'}):`, ...problems.map((p) => `  ${p}`));
-}
 
 /** The arguments of a command that takes one FILE, and the file's text; `out` when either fails. */
 function fileCommand(command: string, argv: readonly string[], specs: OptionSpec[] = []):

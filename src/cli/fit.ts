@@ -10,6 +10,7 @@ import { compile, parameter, parameterValue, RunError, type Plan } from '../engi
 import { fit, type FitResult, type FreeParameter } from '../engine/fit.ts';
 import { readMeasurements } from '../engine/measurements.ts';
 import { alignTable, formatNumber } from './format.ts';
+import { problemsOut } from './common.ts';
 import { isSameFile } from './output.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { readBeamlineFile } from './readFile.ts';
@@ -100,7 +101,7 @@ export function fitText(f: FitResult, file: string, data: string): string {
 
 export function cmdFitWith(file: string, text: string, options: Record<string, unknown>): CliOutput {
   const c0 = compile(text);
-  if (!c0.ok) return bad(`${file}: not a valid beamline (${c0.problems.length} problem${c0.problems.length === 1 ? '' : 's'}):`, ...c0.problems.map((p) => `  ${p}`));
+  if (!c0.ok) return problemsOut(file, c0.problems);
   const kept = c0.plan.line.fits ?? [];
   let stored: FitStudy | undefined;
   if (options.data === undefined && options.free === undefined && kept.length) {

@@ -8,7 +8,7 @@ import { RunError } from '../engine/index.ts';
 import { DISPLAY_UNITS } from '../beamline/index.ts';
 import { alignTable, formatNumber } from './format.ts';
 import { availableParallelism } from 'node:os';
-import { isSameFile } from './output.ts';
+import { outputProblem, problemsOut } from './common.ts';
 import { scanParallel } from './scan-parallel.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 
@@ -73,7 +73,7 @@ export function cmdScanWith(file: string, text: string, options: Record<string, 
   const params = lists.param ?? [];
   if (params.length > 2) return err(`--param is given ${params.length} times; a scan takes one or two parameters`);
   const c = compile(text);
-  if (!c.ok) return bad(`${file}: not a valid beamline (${c.problems.length} problem${c.problems.length === 1 ? '' : 's'}):`, ...c.problems.map((p) => `  ${p}`));
+  if (!c.ok) return problemsOut(file, c.problems);
   const plan = c.plan;
   if (params.length === 1 && params[0] === 'list') {
     const rows = [['parameter', 'value', 'as written', 'JSON path']];
@@ -147,8 +147,8 @@ function deliverScan(r: ScanResult, file: string, options: Record<string, unknow
   const body = options.json ? `${JSON.stringify(r, null, 2)}\n` : options.csv ? scanCsv(r) : scanText(r, file);
   const output = options.output;
   if (typeof output === 'string') {
-    if (output === '') return err('-o: the output file name is empty');
-    if (isSameFile(file, output)) return err(`-o ${output} is the input document ${file}; a scan is never written over its document`);
+    const outBad = outputProblem(file, output, 'a scan');
+    if (outBad) return err(outBad);
     return { code: 0, stdout: '', stderr: '', file: { path: output, format: 'text', html: body, input: file, what: `scan (${options.json ? 'JSON' : options.csv ? 'CSV' : 'text'})`, command: 'scan' } };
   }
   return ok(body);

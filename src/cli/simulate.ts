@@ -3,7 +3,7 @@ import { compile, evaluate, RunError } from '../engine/index.ts';
 import { MAX_ATOMS, simulate, type SimulationResult } from '../engine/simulate.ts';
 import type { RunResult } from '../engine/result.ts';
 import { alignTable, formatDuration, formatNumber } from './format.ts';
-import { isSameFile } from './output.ts';
+import { outputProblem, problemsOut, wholeOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 
 export const SIMULATE_OPTIONS = [
@@ -33,25 +33,16 @@ export function simulateText(s: SimulationResult, run: RunResult, file: string):
   return `${out.join('\n')}\n`;
 }
 
-function whole(text: unknown, what: string, max: number): number | string | undefined {
-  if (text === undefined) return undefined;
-  const s = String(text);
-  const n = Number(s);
-  return /^\s*\d+\s*$/.test(s) && Number.isSafeInteger(n) && n <= max ? n : `--${what}: a whole number up to ${max}, got "${s}"`;
-}
-
 export function cmdSimulateWith(file: string, text: string, options: Record<string, unknown>): CliOutput {
-  const atoms = whole(options.atoms, 'atoms', MAX_ATOMS);
+  const atoms = wholeOption(options.atoms, 'atoms', MAX_ATOMS);
   if (typeof atoms === 'string') return err(atoms);
-  const seed = whole(options.seed, 'seed', 0xffffffff);
+  const seed = wholeOption(options.seed, 'seed', 0xffffffff);
   if (typeof seed === 'string') return err(seed);
   const output = options.output;
-  if (typeof output === 'string') {
-    if (output === '') return err('-o: the output file name is empty');
-    if (isSameFile(file, output)) return err(`-o ${output} is the input document ${file}; a simulation is never written over its document`);
-  }
+  const outBad = outputProblem(file, output, 'a simulation');
+  if (outBad) return err(outBad);
   const c = compile(text);
-  if (!c.ok) return bad(`${file}: not a valid beamline (${c.problems.length} problem${c.problems.length === 1 ? '' : 's'}):`, ...c.problems.map((p) => `  ${p}`));
+  if (!c.ok) return problemsOut(file, c.problems);
   // a simulation the document keeps gives the atoms and the seed, unless they are given here
   const kept = c.plan.line.simulations ?? [];
   let settings: { atoms?: number; seed?: number } = { atoms: atoms ?? undefined, seed: seed ?? undefined };

@@ -1,0 +1,25 @@
+/** What the planning commands (scan, budget, fit, simulate) share: reading their options and saying what is wrong. */
+import { isSameFile } from './output.ts';
+import { type CliOutput, bad } from './quick.ts';
+
+/** A document that does not read: every problem, one per line. */
+export function problemsOut(file: string, problems: readonly string[]): CliOutput {
+  const n = problems.length;
+  return bad(`${file}: not a valid beamline (${n} problem${n === 1 ? '' : 's'}):`, ...problems.map((p) => `  ${p}`));
+}
+
+/** A whole-number option from 0 to `max`: the number, undefined when absent, or the message naming it. */
+export function wholeOption(text: unknown, name: string, max: number): number | undefined | string {
+  if (text === undefined) return undefined;
+  const s = String(text);
+  const n = Number(s);
+  return /^\s*\d+\s*$/.test(s) && Number.isSafeInteger(n) && n <= max ? n : `--${name}: a whole number from 0 to ${max}, got "${s}"`;
+}
+
+/** Why `-o OUT` cannot be written for this input (empty, or the input document itself), or undefined. */
+export function outputProblem(file: string, output: unknown, what: string): string | undefined {
+  if (typeof output !== 'string') return undefined;
+  if (output === '') return '-o: the output file name is empty';
+  if (isSameFile(file, output)) return `-o ${output} is the input document ${file}; ${what} is never written over its document`;
+  return undefined;
+}
