@@ -9,7 +9,7 @@ import type { Detector } from '../beamline/types.ts';
 import { polygonCdfFlat, cdfAtFlat, planeCoefficients } from './geometry.ts';
 import type { LeafResult, DetectorResult, NeighbourVerdict, CrosstalkEntry } from './result.ts';
 import { countSigma, countsIn, signalToBackground, timeToPrecision } from './counting.ts';
-import { type FineGeo, type FinePath, NO_NODES, fineGeometry, hasGeometry, nodeFraction } from './subbeam.ts';
+import { type FineGeo, type FinePath, GEOMETRY_PANELS, GEOMETRY_TOLERANCE, NO_NODES, convergedGeometry, hasGeometry, nodeFraction } from './subbeam.ts';
 
 export type { FinePath, Track, Kick } from './subbeam.ts';
 
@@ -28,6 +28,7 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
   leaves: LeafResult[]; detectors: DetectorResult[]; clipped: number; nodes: number; chiError: number; warnings: string[];
 } {
   const warnings: string[] = [];
+  const unconverged: string[] = [];
   const geometry = fines.some(hasGeometry);
   const accs = new Map<string, LeafAcc>();
   let clipped = 0, nodes = 0, chiError = 0;
@@ -46,7 +47,8 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
         a.fines.push({ fine: f, yieldGeo: f.yieldSpin, captured: 1, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: NO_NODES });
         continue;
       }
-      const g = fineGeometry(f);
+      const { geo: g, change } = convergedGeometry(f);
+      if (change !== undefined) unconverged.push(`${f.path.join(' ')} → ${f.target}: ${change.toExponential(1)}`);
       nodes += g.nodes.count;
       clipped += f.yieldSpin - g.yieldGeo;
       a.fines.push(g);
@@ -118,6 +120,9 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
   }
   if (geometry && fines.some((f) => f.dist.kind === 'effusive' && f.track.kicks.length > 0)) {
     warnings.push('geometry: behind a deflecting magnet the rms spread of an effusive beam is set by its slowest atoms (⟨1/v⁴⟩ diverges for a v³ flux distribution); the spreads and profiles shown leave out v < 0.05·√(2kT/M), 3e-6 of the flux, which in a real line ends on an aperture');
+  }
+  if (unconverged.length) {
+    warnings.push(`geometry: the detector-plane average over the speeds did not settle to ${GEOMETRY_TOLERANCE} of the sub-beam's flux on ${GEOMETRY_PANELS[GEOMETRY_PANELS.length - 1] * 8} speeds for ${unconverged.length} sub-beam${unconverged.length === 1 ? '' : 's'} (the last change: ${unconverged.slice(0, 3).join('; ')}${unconverged.length > 3 ? '; …' : ''}); their transmitted and captured fractions carry that error`);
   }
   return { leaves, detectors, clipped, nodes, chiError, warnings };
 }

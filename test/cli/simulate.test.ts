@@ -10,7 +10,7 @@ describe('spinyard simulate FILE', () => {
     expect(out.stderr).toBe('');
     expect(out.code).toBe(0);
     expect(out.stdout).toMatch(/20000 atoms drawn \(seed 4\) from an oven flux of 1e9 \/s/);
-    expect(out.stdout).toMatch(/^DL\s+\d+\s+[\d.e]+ ± [\d.e]+\s+8\.472e7\s+-?[\d.]+ σ\s+\d+ in 30 s/m);
+    expect(out.stdout).toMatch(/^DL\s+\d+\s+[\d.e]+ ± [\d.e]+\s+8\.488e7\s+-?[\d.]+ σ\s+\d+ in 30 s/m);
   });
 
   it('gives JSON with hit maps that repeats for a seed', () => {
