@@ -146,7 +146,10 @@ describe('nothing lost: replacing an edited document asks first', () => {
     expect(await docTitle(page)).toBe(NEW_DOCUMENT_TITLE);
     expect(await page.locator('input[name="elements[1].axis.roll"]').inputValue()).toBe('35 deg');
 
+    // the edit's run settles first, so that no late render moves the focus while the key is pressed
+    await waitForFreshResults(page);
     await page.locator('.tree [data-id="M2"]').first().focus();
+    await expect.poll(() => page.evaluate(() => document.activeElement?.closest('.tree') !== null)).toBe(true);
     const [again] = await Promise.all([page.waitForEvent('filechooser'), page.keyboard.press('Control+o')]);
     await again.setFiles(file);
     await prompt(page).getByRole('button', { name: "Don't Save" }).click();
