@@ -396,6 +396,10 @@ export function specAverageTrace(st: SpecState, chi: CharCache): { value: number
   return { value, error: av.error, hermiticity: av.hermiticity, positive: av.positive };
 }
 
+/** Speed sets whose phase factors a state keeps (the detector plane's grids), and the largest set kept. */
+const KEPT_SPEED_SETS = 8;
+const KEPT_SPEEDS_MAX = 8192;
+
 /**
  * Tr ρ(s) on a set of speeds, keeping only terms whose phase-length is below `phiMax` (faster terms
  * average out against the smooth weights they are used with; phiMax = Infinity keeps all). The
@@ -403,8 +407,11 @@ export function specAverageTrace(st: SpecState, chi: CharCache): { value: number
  */
 export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: number): Float64Array {
   const r = basisCols(st);
-  let hit = st.shared.nodes;
-  if (!hit || hit.speeds !== speeds || hit.phiMax !== phiMax) {
+  // kept per speed set (the detector plane's grids of doubling panels each have theirs); a large set (a simulated
+  // run's atoms) is used once and not kept
+  const kept = (st.shared.nodesBy ??= []);
+  let hit = kept.find((h) => h.speeds === speeds && h.phiMax === phiMax);
+  if (!hit) {
     // the contributions (term, entry (a, b)) with |φ + Ω_ab| ≤ phiMax, found once: the other entries
     // are 0 at every speed
     const slotOf = new Map<number, number>();
@@ -433,7 +440,10 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
       for (let c = 0; c < cSlot.length; c++) addPhased(mre, mim, o + cSlot[c], cRe[c], cIm[c], cF[c] / v);
     }
     hit = { speeds, phiMax, pairs: Int32Array.from(pairs), mre, mim };
-    st.shared.nodes = hit;
+    if (ns <= KEPT_SPEEDS_MAX) {
+      kept.push(hit);
+      if (kept.length > KEPT_SPEED_SETS) kept.shift();
+    }
   }
   // Tr(W M W†) = Σ_ab M_ab (W†W)_ba over the active entries: (W†W)_ba = Σ_c conj(W_cb) W_ca
   const { pairs, mre, mim } = hit;

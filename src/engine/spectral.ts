@@ -71,7 +71,7 @@ export interface SharedAverages {
   /** The same for the second moment m2. */
   lab2?: CMat;
   m2?: CMat;
-  nodes?: { speeds: ArrayLike<number>; phiMax: number; pairs: Int32Array; mre: Float64Array; mim: Float64Array };
+  nodesBy?: { speeds: ArrayLike<number>; phiMax: number; pairs: Int32Array; mre: Float64Array; mim: Float64Array }[];
 }
 
 /** The phase-length φ_t + Ω_ab (rad·m/s) of entry (a, b) of term t: its phase at speed v is that over v. */
