@@ -1,5 +1,5 @@
 /** `spinyard simulate FILE [--atoms N] [--seed S] [--json] [-o OUT]`: a simulated run of the line (src/engine/simulate.ts). */
-import { compile, evaluate, RunError } from '../engine/index.ts';
+import { compile, csvNumber, evaluate, RunError } from '../engine/index.ts';
 import { MAX_ATOMS, simulate, type SimulationResult } from '../engine/simulate.ts';
 import type { RunResult } from '../engine/result.ts';
 import { alignTable, formatDuration, formatNumber } from './format.ts';
@@ -12,6 +12,7 @@ export const SIMULATE_OPTIONS = [
   { name: 'seed', value: true },
   { name: 'json', value: false },
   { name: 'output', value: true, short: 'o' },
+  { name: 'hits', value: true },
 ] as const;
 
 const err = (m: string) => bad(`spinyard simulate: ${m}`, 'Run "spinyard simulate --help" for its use.');
@@ -41,6 +42,10 @@ export function cmdSimulateWith(file: string, text: string, options: Record<stri
   const output = options.output;
   const outBad = outputProblem(file, output, 'a simulation');
   if (outBad) return err(outBad);
+  const hitsFile = options.hits;
+  if (hitsFile !== undefined && output !== undefined) return err('-o and --hits: one file per run; write the hits with --hits and the report to stdout');
+  const hitsBad = outputProblem(file, hitsFile, 'the hits file');
+  if (hitsBad) return err(hitsBad.replace('-o', '--hits'));
   const c = compile(text);
   if (!c.ok) return problemsOut(file, c.problems);
   // a simulation the document keeps gives the atoms and the seed, unless they are given here
@@ -55,8 +60,15 @@ export function cmdSimulateWith(file: string, text: string, options: Record<stri
   }
   let s: SimulationResult;
   let run: RunResult;
+  let hitsText = '';
   try {
-    s = simulate(c.plan, settings);
+    // every hit as a CSV row (mm on the detector's plane, the atom's speed), where --hits asks for them
+    const rows: string[] = typeof hitsFile === 'string' ? ['detector,x [mm],z [mm],speed [m/s]'] : [];
+    const onHit = typeof hitsFile === 'string'
+      ? (d: string, x: number, z: number, v: number) => void rows.push(`${d},${csvNumber(x * 1e3)},${csvNumber(z * 1e3)},${csvNumber(v)}`)
+      : undefined;
+    s = simulate(c.plan, { ...settings, onHit });
+    if (typeof hitsFile === 'string') hitsText = `${rows.join('\r\n')}\r\n`;
     run = evaluate(c.plan, {}, { light: true });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);
@@ -64,5 +76,6 @@ export function cmdSimulateWith(file: string, text: string, options: Record<stri
   }
   const body = options.json ? `${JSON.stringify(s, null, 2)}\n` : simulateText(s, run, file);
   if (typeof output === 'string') return { code: 0, stdout: '', stderr: '', file: { path: output, format: 'text', html: body, input: file, what: `simulated run (${options.json ? 'JSON' : 'text'})`, command: 'simulate' } };
+  if (typeof hitsFile === 'string') return { code: 0, stdout: body, stderr: '', file: { path: hitsFile, format: 'text', html: hitsText, input: file, what: `hits of the simulated run (CSV, ${s.detectors.reduce((n, d) => n + d.hits, 0)} rows)`, command: 'simulate' } };
   return ok(body);
 }

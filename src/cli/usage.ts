@@ -12,7 +12,7 @@ Usage:
                                       tolerance budget: which set-point's tolerance moves which detector
   spinyard fit FILE --data counts.csv --free NAME,… [--json] [-o fitted.spinyard]
                                       fit set-points (and the oven state) to measured counts
-  spinyard simulate FILE [--atoms N] [--seed S] [--json] [-o OUT]
+  spinyard simulate FILE [--atoms N] [--seed S] [--json] [-o OUT | --hits CSV]
                                       atoms drawn one by one through the line: counts and hit maps
   spinyard validate FILE              check a beamline file; list every problem as "path: message"
   spinyard levels NAME --field B [--json]
@@ -129,7 +129,7 @@ Prints the fitted values with σ from the Fisher information, profile-likelihood
 deviance rises by 1; marked when asymmetric), the correlations, the deviance with its χ² p-value and
 every reading's residual.
 `,
-  simulate: `Usage: spinyard simulate FILE [--atoms N] [--seed S] [--json] [-o OUT]
+  simulate: `Usage: spinyard simulate FILE [--atoms N] [--seed S] [--json] [-o OUT | --hits CSV]
 
 A simulated run of the line in FILE: atoms drawn one by one from the oven (isotope by abundance, speed
 from the beam's velocity distribution, a start point in the oven aperture and a direction through the
@@ -146,6 +146,8 @@ background, and the mean and rms of the hits; --json adds a hit map of each dete
               document that keeps one uses it unless --atoms or --seed is given
   --json      the simulation as JSON (format spinyard.simulation, version 1)
   -o OUT      write the output to OUT (atomically; never over FILE)
+  --hits CSV  write every hit to CSV, one row per atom that reached a detector's window:
+              detector, x and z on its plane (mm), the atom's speed (m/s); the report goes to stdout
 `,
   validate: `Usage: spinyard validate FILE
 

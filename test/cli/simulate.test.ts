@@ -37,3 +37,35 @@ describe('spinyard simulate FILE with a simulation kept in the document', () => 
     expect(runCli(['simulate', G, '--stored', '2']).stderr).toMatch(/--stored 2: .* keeps 1 simulation:\n {2}1: collector check, 200000 atoms/);
   });
 });
+
+describe('spinyard simulate --hits CSV', () => {
+  it('writes one row per hit (detector, x and z in mm, speed) and keeps the report on stdout', async () => {
+    const { deliver } = await import('../../src/cli/deliver.ts');
+    const { mkdtempSync, readFileSync, rmSync } = await import('node:fs');
+    const { join } = await import('node:path');
+    const { tmpdir } = await import('node:os');
+    const dir = mkdtempSync(join(tmpdir(), 'spinyard-hits-'));
+    try {
+      const target = join(dir, 'hits.csv');
+      const json = JSON.parse(runCli(['simulate', G, '--atoms', '3000', '--json']).stdout);
+      const out = await deliver(runCli(['simulate', G, '--atoms', '3000', '--json', '--hits', target]));
+      expect(out.code).toBe(0);
+      expect(out.stdout).toContain('"format": "spinyard.simulation"');
+      const rows = readFileSync(target, 'utf8').trimEnd().split('\r\n');
+      expect(rows[0]).toBe('detector,x [mm],z [mm],speed [m/s]');
+      const hits = json.detectors.reduce((n: number, d: { hits: number }) => n + d.hits, 0);
+      expect(rows).toHaveLength(hits + 1);
+      // each row's detector is one of the line's and its z lies on that collector's side (DL below, DU above)
+      for (const r of rows.slice(1, 200)) {
+        const [d, , z] = r.split(',');
+        expect(Math.sign(Number(z))).toBe(d === 'DL' ? -1 : 1);
+      }
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it('refuses -o beside --hits', () => {
+    expect(runCli(['simulate', G, '--hits', '/tmp/x.csv', '-o', '/tmp/y.txt']).stderr).toMatch(/-o and --hits/);
+  });
+});
