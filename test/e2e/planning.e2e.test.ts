@@ -223,4 +223,24 @@ describe('the planning panels in Chromium', () => {
     expect(foreignRequests(app)).toEqual([]);
     expect(app.errors).toEqual([]);
   }, 60_000);
+
+  it('starts the panels afresh on another document: the scan form offers that line\'s set-points', async () => {
+    const { page } = app;
+    const before = await waitForFreshResults(page);
+    await page.locator('[data-menu-button="Samples"]').click();
+    await page.locator('[data-command="samples.open.bench-g-silver-split.spinyard"]').click();
+    // the edits above left bench C unsaved: the question comes first
+    const dontSave = page.getByRole('button', { name: "Don't Save" });
+    if (await dontSave.count()) await dontSave.click();
+    await waitForFreshResults(page, before);
+    const scan = page.locator('[data-panel="scan"]');
+    await expect.poll(() => scan.locator('select[name="scan-param-0"] option').allTextContents()).toContainEqual(expect.stringMatching(/^M1\.gradient/));
+    const options = await scan.locator('select[name="scan-param-0"] option').allTextContents();
+    expect(options.some((o) => o.startsWith('M2.axis.roll'))).toBe(false);
+    // the form itself starts from this line: its chosen set-point is one of bench G's, not bench C's M2.axis.roll
+    const chosen = await scan.locator('select[name="scan-param-0"]').inputValue();
+    expect(chosen).not.toBe('M2.axis.roll');
+    expect(options.some((o) => o.startsWith(chosen))).toBe(true);
+    expect(app.errors).toEqual([]);
+  }, 60_000);
 });

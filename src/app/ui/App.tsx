@@ -534,7 +534,7 @@ export function App({ host }: { host: Host }) {
             <Schematic line={line} result={result} selected={selected} onSelect={setSelected} warned={warnedAll} />
           </section>
           {mounted.scan && (
-            <ScanPanel hidden={!panels.scan} doc={good.doc} line={line} text={good.text} params={params} dark={dark} fileBase={fileBase}
+            <ScanPanel key={`ScanPanel-${key}`} hidden={!panels.scan} doc={good.doc} line={line} text={good.text} params={params} dark={dark} fileBase={fileBase}
               makeWorker={makeEngineWorker} onClose={() => run('view.scanPanel')}
               onKeep={(scan) => {
                 const m = planEdit({ kind: 'keepScan', scan });
@@ -550,18 +550,18 @@ export function App({ host }: { host: Host }) {
               )} />
           )}
           {mounted.budget && (
-            <BudgetPanel hidden={!panels.budget} doc={good.doc} text={good.text} params={params} makeWorker={makeEngineWorker}
+            <BudgetPanel key={`BudgetPanel-${key}`} hidden={!panels.budget} doc={good.doc} text={good.text} params={params} makeWorker={makeEngineWorker}
               onClose={() => run('view.budgetPanel')}
               onAdd={(tolerance) => planEdit({ kind: 'addTolerance', tolerance })}
               onSet={(index, tolerance) => planEdit({ kind: 'setTolerance', index, tolerance })}
               onRemove={(index) => planEdit({ kind: 'removeTolerance', index })} />
           )}
           {mounted.fit && (
-            <FitPanel hidden={!panels.fit} text={good.text} params={params} kept={good.doc.fits ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
+            <FitPanel key={`FitPanel-${key}`} hidden={!panels.fit} text={good.text} params={params} kept={good.doc.fits ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
               onClose={() => run('view.fitPanel')} onApply={(fit) => planEdit({ kind: 'applyFit', fit })} onKeep={(fit) => planEdit({ kind: 'keepFit', fit })} />
           )}
           {mounted.simulate && (
-            <SimulatePanel hidden={!panels.simulate} text={good.text} kept={good.doc.simulations ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
+            <SimulatePanel key={`SimulatePanel-${key}`} hidden={!panels.simulate} text={good.text} kept={good.doc.simulations ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
               onClose={() => run('view.simulatePanel')} onKeep={(simulation) => planEdit({ kind: 'keepSimulation', simulation })} />
           )}
           <SkipLink label="Skip the results: go to the inspector" onActivate={() => run('view.focusInspector')} />
