@@ -6,6 +6,7 @@
 import { compile, parameter, parameterValue, scan, scanCsv, type Plan, type ScanAxis, type ScanResult } from '../engine/index.ts';
 import { RunError } from '../engine/index.ts';
 import { DISPLAY_UNITS } from '../beamline/index.ts';
+import { isRoundOff } from '../beamline/numbers.ts';
 import { alignTable, formatNumber } from './format.ts';
 import { availableParallelism } from 'node:os';
 import { outputProblem, problemsOut } from './common.ts';
@@ -48,7 +49,8 @@ export function scanText(r: ScanResult, file: string): string {
     const row = p.values.map((v, k) => formatNumber(v / r.parameters[k].factor, 6));
     for (const id of r.detectors) {
       const d = p.detectors?.find((x) => x.id === id);
-      row.push(d ? formatNumber(d.yield, 6) : '-', d ? `${formatNumber(d.counts, 4)} ± ${formatNumber(d.sigma, 3)}` : p.error ? 'no result' : '-');
+      // a yield below the engine's round-off (1e-12 of the flux) is 0, as in every table (src/beamline/numbers.ts)
+      row.push(d ? formatNumber(isRoundOff(d.yield) ? 0 : d.yield, 6) : '-', d ? `${formatNumber(d.counts, 4)} ± ${formatNumber(d.sigma, 3)}` : p.error ? 'no result' : '-');
     }
     rows.push(row);
   }

@@ -132,3 +132,14 @@ describe('spinyard scan --workers N', () => {
     expect(runCli(['scan', C, ...roll, '--workers', '0']).stderr).toMatch(/--workers: a whole number from 1 to 256/);
   });
 });
+
+describe('spinyard scan numbers', () => {
+  it('shows a yield below the engine\'s round-off as 0 (bench C\'s D1 at 180°: cos²(90°) of a binary π/2)', () => {
+    const out = runCli(['scan', C, '--param', 'M2.axis.roll', '--from', '180 deg', '--to', '180 deg', '--points', '1']);
+    const row = out.stdout.split('\n').find((l) => /^\s+180\s/.test(l))!;
+    expect(row).toMatch(/^\s+180\s+0\s+50 ± 7\.07\s+0\.5\s/);
+    // the JSON keeps the number the engine computed
+    const j = JSON.parse(runCli(['scan', C, '--param', 'M2.axis.roll', '--from', '180 deg', '--to', '180 deg', '--points', '1', '--json']).stdout);
+    expect(j.points[0].detectors[0].yield).toBeLessThan(1e-12);
+  });
+});
