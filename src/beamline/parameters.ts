@@ -8,7 +8,7 @@
  */
 import { checkBeamline, rereadBeamline } from './check.ts';
 import { readBeamlineText } from './text.ts';
-import { parameterName } from './studies.ts';
+import { parameterName, parametersNear } from './studies.ts';
 import { type SpeciesResolver, readSpecies } from './speciesDoc.ts';
 import { beamlineMigrations } from './migrations.ts';
 import type { QuantityRead } from './read.ts';
@@ -85,8 +85,7 @@ export function parameterize(input: string | object, resolver: SpeciesResolver):
 
 /** Ten names near `name` for a message ("did you mean"), or the first parameters when none is near. */
 export function parameterHint(p: ParameterizedLine, name: string): string {
-  const head = name.split(/[.[]/)[0];
-  const near = p.slots.filter((s) => s.name.split(/[.[]/)[0] === head).map((s) => s.name);
+  const { head, near } = parametersNear(p.slots.map((s) => s.name), name);
   const list = (near.length ? near : p.slots.map((s) => s.name)).slice(0, 12);
   return list.length ? `parameters${near.length ? ` of ${head}` : ''}: ${list.join(', ')}${list.length < (near.length || p.slots.length) ? ', …' : ''}` : 'the line has no parameters';
 }

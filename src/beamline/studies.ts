@@ -17,6 +17,14 @@ export function parameterName(path: string, ids: readonly string[]): string {
   return id === undefined ? path : `${id}${m[2]}`;
 }
 
+/** The parameter names that share `name`'s element id (the part before the first "." or "["), in order. */
+export function parametersNear(names: Iterable<string>, name: string): { head: string; near: string[] } {
+  const head = name.split(/[.[]/)[0];
+  const near: string[] = [];
+  for (const n of names) if (!n.startsWith('elements[') && n.split(/[.[]/)[0] === head) near.push(n);
+  return { head, near };
+}
+
 /** The most points one stored scan may ask for (the grid of two counted), as the engine's scans. */
 export const MAX_STORED_SCAN_POINTS = 1_000_000;
 const SCAN_KEYS = ['title', 'parameters'];
@@ -35,8 +43,8 @@ function lookup(ctx: ReadCtx, o: Obj, path: string, byName: ReadonlyMap<string, 
   if (typeof v !== 'string') return problem(ctx, p, `a parameter is named by a string such as "M2.axis.roll", got ${describe(v)}`);
   const slot = byName.get(v);
   if (!slot) {
-    const head = v.split(/[.[]/)[0];
-    const near = [...byName.keys()].filter((k) => !k.startsWith('elements[') && k.split(/[.[]/)[0] === head).slice(0, 12);
+    const { head, near: all } = parametersNear(byName.keys(), v);
+    const near = all.slice(0, 12);
     return problem(ctx, p, `no parameter ${quote(v)} in this line${near.length ? ` (parameters of ${head}: ${near.join(', ')})` : ' (the id before the first "." must be an element of the line, "oven" or "ambient")'}`);
   }
   return { name: v, slot };

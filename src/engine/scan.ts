@@ -7,6 +7,7 @@
  */
 import type { Beamline, Element } from '../beamline/types.ts';
 import { DISPLAY_UNITS } from '../beamline/parameters.ts';
+import { ROUND_OFF, csvValue } from '../beamline/numbers.ts';
 import type { Dimension } from '../beamline/units.ts';
 import { evaluate, parameter, type Plan } from './plan.ts';
 import { runLine, RunError, CancelledError, type RunOptions } from './run.ts';
@@ -196,11 +197,12 @@ export function runScan(line: Beamline, spec: ScanSpec, opts: RunOptions = {}): 
 }
 
 /**
- * A number for a CSV cell: 13 significant digits, beyond what the engine's own round-off (1e-12, its balance check)
- * supports, and without binary round-off such as 29.999999999999996 or 0.06249999999999989; "" for none.
+ * A number for a CSV cell by the one number rule (src/beamline/numbers.ts `csvValue`: 12 significant figures, no
+ * binary round-off such as 29.999999999999996); a fraction of the oven flux (a yield, the lost fraction) below
+ * the engine's round-off with `floor` ROUND_OFF is 0; "" for none.
  */
-export function csvNumber(x: number | undefined): string {
-  return x === undefined || !Number.isFinite(x) ? '' : String(Number(x.toPrecision(13)));
+export function csvNumber(x: number | undefined, floor?: number): string {
+  return x === undefined || !Number.isFinite(x) ? '' : csvValue(x, floor);
 }
 
 function csvCell(s: string): string {
@@ -234,13 +236,13 @@ export function scanCsv(r: ScanResult): string {
     const row = p.values.map((v, k) => csvNumber(v / r.parameters[k].factor));
     for (const id of r.detectors) {
       const d = p.detectors?.find((x) => x.id === id);
-      row.push(csvNumber(d?.yield), csvNumber(d?.rate), csvNumber(d?.signal), csvNumber(d?.counts), csvNumber(d?.sigma));
+      row.push(csvNumber(d?.yield, ROUND_OFF), csvNumber(d?.rate), csvNumber(d?.signal), csvNumber(d?.counts), csvNumber(d?.sigma));
     }
     for (const n of leafNames) {
       const l = p.leaves?.find((x) => leafName(x) === n);
-      row.push(csvNumber(l?.yield), csvNumber(l?.rate), ...(leafCaptured.has(n) ? [csvNumber(l?.captured)] : []));
+      row.push(csvNumber(l?.yield, ROUND_OFF), csvNumber(l?.rate), ...(leafCaptured.has(n) ? [csvNumber(l?.captured)] : []));
     }
-    row.push(csvNumber(p.lost), csvCell(p.error ?? ''));
+    row.push(csvNumber(p.lost, ROUND_OFF), csvCell(p.error ?? ''));
     rows.push(row.join(','));
   }
   return `${rows.join('\r\n')}\r\n`;
