@@ -177,3 +177,10 @@ let paramsFor: { text: string; params: readonly ParameterSlot[] } = { text: '', 
 export function displayUnit(dimension: Dimension): { unit: string; factor: number } {
   return DISPLAY_UNITS[dimension];
 }
+
+// The oven's state, the velocity table and positions from the oven aperture (src/beamline/edits.ts), a measured
+// velocity table from CSV, and the levels listing of the line's species (src/engine/levels.ts).
+export { ovenStateOfKind, setOvenState, setVelocityTable, editVelocityRows, setPositionFromOven } from '../beamline/edits.ts';
+export { readVelocityCsv, type VelocityCsv } from '../beamline/velocity-csv.ts';
+export type { OvenStateDoc, QuantityDoc } from '../beamline/types.ts';
+export { levelsListing } from '../engine/index.ts';

@@ -6,7 +6,8 @@
 
 import {
   changeSpecies, checkQuantity, editAddOnPort, editAt, editRename, editReroute, DEFAULT_HYPERFINE_FIELD,
-  type Beamline, type BeamlineDoc, type ElementKind, type Problem,
+  editVelocityRows, setOvenState, setPositionFromOven, setVelocityTable,
+  type Beamline, type BeamlineDoc, type ElementKind, type OvenStateDoc, type Problem, type QuantityDoc,
 } from './core-adapter.ts';
 import { newDocument } from './default-doc.ts';
 import { getAt } from './doc-path.ts';
@@ -22,7 +23,15 @@ export type InspectorEdit =
   | { kind: 'species'; value: string }
   | { kind: 'rename'; from: string; to: string }
   | { kind: 'reroute'; fromId: string; port: string | null; target: string }
-  | { kind: 'addOnPort'; fromId: string; port: string | null; elementKind: string };
+  | { kind: 'addOnPort'; fromId: string; port: string | null; elementKind: string }
+  /** The oven's initial state as a whole (its kind changed, or a population, an axis or the pure state). */
+  | { kind: 'ovenState'; state: OvenStateDoc; what: string }
+  /** The oven's velocity distribution a table of these points (a CSV imported: `source` names the file). */
+  | { kind: 'velocityTable'; points: readonly (readonly [QuantityDoc, QuantityDoc])[]; source: string }
+  /** A row of the velocity table added after `insert` or removed. */
+  | { kind: 'velocityRows'; op: { insert: number } | { remove: number } }
+  /** An element placed at a distance from the oven aperture (its gap set from where its upstream element ends). */
+  | { kind: 'position'; id: string; text: string; upstreamExit: number; upstreamName: string };
 
 /** The species choice that is not a library name. */
 export const BARE_SPIN_CHOICE = 'bare spin';
@@ -65,6 +74,10 @@ export function editLabel(doc: BeamlineDoc, e: InspectorEdit): string {
     case 'rename': return `rename ${e.from} → ${e.to}`;
     case 'reroute': return `route ${e.fromId}${e.port === null ? '' : ` ${e.port}`} → ${e.target}`;
     case 'addOnPort': return `add a ${e.elementKind} on ${e.fromId}${e.port === null ? '' : ` ${e.port}`}`;
+    case 'ovenState': return `oven state: ${e.what}`;
+    case 'velocityTable': return `velocity table from ${e.source} (${e.points.length} speeds)`;
+    case 'velocityRows': return 'insert' in e.op ? `velocity table: row added after row ${e.op.insert + 1}` : `velocity table: row ${e.op.remove + 1} removed`;
+    case 'position': return `${e.id} at ${e.text.trim()} from the oven aperture`;
   }
 }
 
@@ -133,6 +146,28 @@ export function applyInspectorEdit(doc: BeamlineDoc, line: Beamline, e: Inspecto
       if (!r.ok) return { ok: false, title, message: r.message };
       const problems = check(r.doc);
       return problems ? { ok: false, title, message: listed(problems) } : { ok: true, doc: r.doc, label, ...(r.id ? { select: r.id } : {}) };
+    }
+    case 'ovenState': {
+      const r = setOvenState(doc, e.state);
+      return r.ok ? atField(r.doc, 'oven.state', e.what) : { ok: false, field: 'oven.state', text: e.what, message: r.message };
+    }
+    case 'velocityTable': {
+      const r = setVelocityTable(doc, e.points);
+      if (!r.ok) return { ok: false, title: `Cannot take the velocity table of ${e.source}`, message: r.message };
+      const problems = check(r.doc);
+      return problems
+        ? { ok: false, title: `Cannot take the velocity table of ${e.source}`, message: listed(problems) }
+        : { ok: true, doc: r.doc, label, field: 'oven.velocity', notice: `Velocity table: ${e.points.length} speeds from ${e.source}.` };
+    }
+    case 'velocityRows': {
+      const r = editVelocityRows(doc, e.op);
+      return r.ok ? atField(r.doc, 'oven.velocity', '') : { ok: false, field: 'oven.velocity', text: '', message: r.message };
+    }
+    case 'position': {
+      const i = doc.elements.findIndex((x) => x.id === e.id);
+      const field = `elements[${i}].position`;
+      const r = setPositionFromOven(doc, e.id, e.text, e.upstreamExit, e.upstreamName);
+      return r.ok ? atField(r.doc, field, e.text) : { ok: false, field, text: e.text, message: r.message };
     }
   }
 }

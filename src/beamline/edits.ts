@@ -15,7 +15,8 @@ import { RESERVED_IDS } from './check.ts';
 import { type Group, type LabelSpecies, isHyperfine, portLabels } from './labels.ts';
 import { type SpeciesResolver, readSpin } from './speciesDoc.ts';
 import { librarySpecies } from './validate.ts';
-import type { BeamlineDoc, ElementDoc, ElementKind, SpeciesDoc } from './types.ts';
+import { parseQuantity } from './units.ts';
+import type { AxisDoc, BeamlineDoc, ElementDoc, ElementKind, OvenStateDoc, QuantityDoc, SpeciesDoc } from './types.ts';
 
 export type EditResult = { ok: true; doc: BeamlineDoc; id?: string } | { ok: false; message: string };
 
@@ -371,4 +372,120 @@ export function changeSpecies(doc: BeamlineDoc, species: SpeciesDoc, resolver: S
     return next as ElementDoc;
   });
   return { ok: true, doc: { ...doc, species, elements }, fieldSet };
+}
+
+// ---------------------------------------------------------------- the oven's state, the velocity table, positions
+
+/** The axis an oven state gets when it had none (unpolarised before): along the lab's z, the beam's vertical. */
+const STATE_AXIS: AxisDoc = { theta: '0 deg', phi: '0 deg' };
+
+/** x to 12 significant figures (what the engine's round-off supports), so a computed entry carries no float noise. */
+function clean12(x: number): number {
+  return Number(x.toPrecision(12));
+}
+
+/**
+ * The oven's state changed to `kind`, carried over from `current` where the kinds correspond (docs/design.md,
+ * `oven.state`): the axis is kept; pure → populations puts all of it in the pure state; populations → pure takes
+ * the most populated state; unpolarised → populations gives every zero-field state of `labels` the same share
+ * (1/n to 12 figures, so the reader needs no normalisation warning). `labels` are the species' zero-field state
+ * labels (portLabels with group "each"); the same kind returns `current` unchanged.
+ */
+export function ovenStateOfKind(current: OvenStateDoc, kind: 'unpolarized' | 'pure' | 'populations', labels: readonly string[]): OvenStateDoc {
+  if (current.kind === kind) return current;
+  if (kind === 'unpolarized') return { kind };
+  const axis = 'axis' in current && current.axis ? current.axis : STATE_AXIS;
+  if (kind === 'pure') {
+    let m = labels[0] ?? '';
+    if (current.kind === 'populations') {
+      const best = Object.entries(current.p).map(([l, v]) => [l, Number(v)] as const).filter(([, v]) => Number.isFinite(v)).sort((a, b) => b[1] - a[1])[0];
+      if (best && best[1] > 0) m = best[0];
+    }
+    return { kind: 'pure', axis, m };
+  }
+  if (current.kind === 'pure') return { kind: 'populations', axis, p: { [current.m]: 1 } };
+  const share = labels.length > 0 ? clean12(1 / labels.length) : 1;
+  return { kind: 'populations', axis, p: Object.fromEntries(labels.map((l) => [l, share])) };
+}
+
+/** The document with the oven's state set to `state` (a new value; nothing else changes). */
+export function setOvenState(doc: BeamlineDoc, state: OvenStateDoc): EditResult {
+  return { ok: true, doc: { ...doc, oven: { ...doc.oven, state } } };
+}
+
+/**
+ * The document with the oven's velocity distribution a table of `points` ([speed, weight], speeds as quantity
+ * strings with units, weights plain numbers). At least one point; the reader checks the rest (speeds positive
+ * and strictly increasing, weights ≥ 0 with a positive sum).
+ */
+export function setVelocityTable(doc: BeamlineDoc, points: readonly (readonly [QuantityDoc, QuantityDoc])[]): EditResult {
+  if (points.length === 0) return { ok: false, message: 'a velocity table needs at least one speed' };
+  return { ok: true, doc: { ...doc, oven: { ...doc.oven, velocity: { kind: 'table', points: points.map(([s, w]) => [s, w]) } } } };
+}
+
+/** The unit a speed of the table is written in ("m/s" of "450 m/s"), or m/s for an expression. */
+function unitOfText(text: string): string | undefined {
+  const m = /^\s*[-+]?(?:\d+\.?\d*|\.\d+)(?:e[-+]?\d+)?\s*([A-Za-zµμ/]+(?:\/[A-Za-z]+)?)\s*$/i.exec(String(text));
+  return m ? m[1] : undefined;
+}
+
+/**
+ * A velocity table's rows edited: `insert` adds a row after row `index` (at the mean speed of it and the next,
+ * or one step past the last, in the unit of that row, with weight 0); `remove` takes row `index` out (the last
+ * row cannot be removed). A table with a speed that cannot be read says which.
+ */
+export function editVelocityRows(doc: BeamlineDoc, op: { insert: number } | { remove: number }): EditResult {
+  const v = doc.oven.velocity;
+  if (v.kind !== 'table') return { ok: false, message: 'the oven\'s velocity distribution is not a table' };
+  const pts = v.points;
+  if ('remove' in op) {
+    if (op.remove < 0 || op.remove >= pts.length) return { ok: false, message: `the table has no row ${op.remove + 1}` };
+    if (pts.length === 1) return { ok: false, message: 'a velocity table needs at least one speed: choose another distribution instead' };
+    return setVelocityTable(doc, pts.filter((_, i) => i !== op.remove));
+  }
+  const i = op.insert;
+  if (i < 0 || i >= pts.length) return { ok: false, message: `the table has no row ${i + 1}` };
+  const speed = (k: number): number | undefined => {
+    const r = parseQuantity(pts[k][0], 'speed', `oven.velocity.points[${k}][0]`);
+    return typeof r === 'number' ? r : undefined;
+  };
+  const a = speed(i);
+  if (a === undefined) return { ok: false, message: `row ${i + 1}: its speed ${JSON.stringify(pts[i][0])} cannot be read` };
+  let next: number;
+  if (i + 1 < pts.length) {
+    const b = speed(i + 1);
+    if (b === undefined) return { ok: false, message: `row ${i + 2}: its speed ${JSON.stringify(pts[i + 1][0])} cannot be read` };
+    next = (a + b) / 2;
+  } else {
+    const prev = i > 0 ? speed(i - 1) : undefined;
+    next = prev !== undefined && a > prev ? a + (a - prev) : a * 1.1;
+  }
+  const unit = unitOfText(String(pts[i][0])) ?? 'm/s';
+  const factor = parseQuantity(`1 ${unit}`, 'speed', 'unit');
+  const f = typeof factor === 'number' && factor > 0 ? factor : 1;
+  const row: [QuantityDoc, QuantityDoc] = [`${clean12(next / f)} ${typeof factor === 'number' ? unit : 'm/s'}`, 0];
+  return setVelocityTable(doc, [...pts.slice(0, i + 1), row, ...pts.slice(i + 1)]);
+}
+
+/**
+ * The element `id` placed at `position` from the oven aperture (a length as typed, "45 cm") by setting its gap
+ * to position − `upstreamExit` (m: where the element it follows ends, from the oven aperture). The document
+ * keeps gaps: the gap is written in the unit typed (mm for an expression), to 12 figures. A position upstream
+ * of that exit is refused with both distances named.
+ */
+export function setPositionFromOven(doc: BeamlineDoc, id: string, position: string, upstreamExit: number, upstreamName = 'the element before it'): EditResult {
+  const i = indexOfId(doc, id);
+  if (i < 0) return { ok: false, message: `no element "${id}"` };
+  const pos = parseQuantity(position.trim(), 'length', `elements[${i}].position`);
+  if (typeof pos !== 'number') return { ok: false, message: pos.message };
+  if (!Number.isFinite(upstreamExit) || upstreamExit < 0) return { ok: false, message: `the exit of ${upstreamName} is not known` };
+  const unit = unitOfText(position);
+  const factor = unit === undefined ? undefined : parseQuantity(`1 ${unit}`, 'length', 'unit');
+  const [u, f] = typeof factor === 'number' && factor > 0 ? [unit!, factor] : ['mm', 1e-3];
+  const gap = clean12((pos - upstreamExit) / f);
+  if (gap < 0) {
+    const exit = clean12(upstreamExit / f);
+    return { ok: false, message: `${id} cannot start at ${clean12(pos / f)} ${u} from the oven aperture: ${upstreamName} ends at ${exit} ${u}, so its gap would be negative (move ${upstreamName} first)` };
+  }
+  return setAt(doc, ['elements', i, 'gap'], `${gap} ${u}`);
 }
