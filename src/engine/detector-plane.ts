@@ -9,6 +9,7 @@ import type { Detector } from '../beamline/types.ts';
 import { polygonCdfFlat, cdfAtFlat, planeCoefficients } from './geometry.ts';
 import type { LeafResult, DetectorResult, NeighbourVerdict, CrosstalkEntry } from './result.ts';
 import { countSigma, countsIn, signalToBackground, timeToPrecision } from './counting.ts';
+import { leafCentreLine } from './centre-line.ts';
 import { type FineGeo, type FinePath, GEOMETRY_PANELS, GEOMETRY_TOLERANCE, NO_NODES, convergedGeometry, hasGeometry, nodeFraction } from './subbeam.ts';
 
 export type { FinePath, Track, Kick } from './subbeam.ts';
@@ -79,6 +80,7 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
       spread: { x: Math.sqrt(Math.max(0, second.x - mean.x ** 2)), z: Math.sqrt(Math.max(0, second.z - mean.z ** 2)) },
       ...(captured !== undefined ? { captured } : {}),
       plane: a.plane,
+      centreLine: leafCentreLine(a.fines, a.plane, w),
     });
   }
   const verdicts = new Map<string, NeighbourVerdict[]>();

@@ -34,6 +34,13 @@ export interface LeafResult {
   profile?: Profile;
   /** Position of the leaf's plane along the beam (m from the oven aperture). */
   plane?: number;
+  /**
+   * The sub-beam's centre line: the flux-weighted mean transverse position (m) of the atoms that reach the plane, at
+   * y (m from the oven aperture) = 0, every plane that shapes or deflects it (slits, pole gaps, each deflecting
+   * magnet's entrance and exit and points inside it) and the plane, where it equals `displacement`; straight between
+   * the points (src/engine/centre-line.ts). Present where `displacement` is.
+   */
+  centreLine?: { y: number; x: number; z: number }[];
 }
 
 export interface CrosstalkEntry {
