@@ -9,6 +9,7 @@
  */
 import type { SheetElement, SheetModel, SheetSetPoint } from './model.ts';
 import { FIGURES, ROUND_OFF, formatColumn, formatCountsColumn, formatValue, isRoundOff } from '../beamline/numbers.ts';
+import { branchLayout } from './layout-rule.ts';
 
 /** Text safe inside HTML/SVG element content and double- or single-quoted attributes. */
 export function escapeHtml(s: string): string {
@@ -123,47 +124,19 @@ export function rowLetter(i: number): string {
   return i < 26 ? String.fromCharCode(65 + i) : rowLetter(Math.floor(i / 26) - 1) + rowLetter(i % 26);
 }
 
-const near = (a: number, b: number) => Math.abs(a - b) < 1e-6;
-
 /**
- * Rows by routing: from the oven, each element's first target continues its row; a target at the same
- * place as that first one (sibling detectors on one plane) shares it; any other target opens a new row
- * below, which starts at the element's exit. Elements the oven does not reach get rows of their own.
+ * Rows by routing and the marks in them, by the shared rule of layout-rule.ts (the app's schematic follows it too):
+ * from the oven, each element's first target continues its row; a target at the same place as that first one
+ * (sibling detectors on one plane) shares it; any other target opens a new row below, which starts at the element's
+ * exit. Elements the oven does not reach get rows of their own.
  */
 function layout(m: SheetModel): { marks: Mark[]; rows: Row[] } {
-  const byId = new Map(m.elements.map((el) => [el.id, el]));
-  const rowOf = new Map<string, number>();
-  const rows: Row[] = [{ parent: -1, fromCm: 0, toCm: 0 }];
-  const at = (el: SheetElement) => el.entranceCm ?? 0;
-  const len = (el: SheetElement) => el.lengthCm ?? 0;
-  const place = (id: string, row: number) => {
-    const el = byId.get(id);
-    if (!el || rowOf.has(id)) return;
-    rowOf.set(id, row);
-    rows[row].toCm = Math.max(rows[row].toCm, at(el) + len(el));
-    const targets = [...new Set(el.routes.map((r) => r.target))].filter((t) => byId.has(t) && !rowOf.has(t));
-    const first = targets.length ? byId.get(targets[0]) : undefined;
-    for (const t of targets) {
-      const child = byId.get(t);
-      if (!child || rowOf.has(t)) continue;
-      const same = first && (t === first.id || (child.kind === first.kind && near(at(child), at(first)) && near(len(child), len(first))));
-      if (same) place(t, row);
-      else {
-        const ports = el.routes.filter((r) => r.target === t).map((r) => r.port).filter((p) => p !== '');
-        place(t, rows.push({ parent: row, fromCm: at(el) + len(el), toCm: at(el) + len(el), origin: { id: el.id, ports, first: t } }) - 1);
-      }
-    }
+  const els = m.elements.map((el) => ({ id: el.id, kind: el.kind, entrance: el.entranceCm ?? 0, length: el.lengthCm ?? 0, routes: el.routes }));
+  const { rows, marks } = branchLayout(els, m.oven.to, 1e-6);
+  return {
+    rows: rows.map((r) => ({ parent: r.parent, fromCm: r.from, toCm: r.to, ...(r.origin ? { origin: r.origin } : {}) })),
+    marks: marks.map((mk) => ({ kind: mk.kind, ids: mk.ids, row: mk.row, entranceCm: mk.entrance, lengthCm: mk.length })),
   };
-  place(m.oven.to, 0);
-  for (const el of m.elements) if (!rowOf.has(el.id)) place(el.id, rows.push({ parent: -1, fromCm: at(el), toCm: at(el) }) - 1);
-  const marks: Mark[] = [];
-  for (const el of m.elements) {
-    const row = rowOf.get(el.id) ?? 0;
-    const same = marks.find((mk) => mk.row === row && mk.kind === el.kind && near(mk.entranceCm, at(el)) && near(mk.lengthCm, len(el)));
-    if (same) same.ids.push(el.id);
-    else marks.push({ kind: el.kind, ids: [el.id], row, entranceCm: at(el), lengthCm: len(el) });
-  }
-  return { marks, rows };
 }
 
 /** Where a mark's box and labels go (mm); labels near the page edge are anchored inward. */
