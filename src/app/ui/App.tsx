@@ -460,6 +460,10 @@ export function App({ host }: { host: Host }) {
       rename: (from: string, to: string) => ed({ kind: 'rename', from, to }),
       reroute: (fromId: string, port: string | null, target: string) => ed({ kind: 'reroute', fromId, port, target }),
       addOnPort: (fromId: string, port: string | null, elementKind: string) => ed({ kind: 'addOnPort', fromId, port, elementKind }),
+      setOvenState: (state, what) => ed({ kind: 'ovenState', state, what }),
+      setVelocityTable: (points, source) => ed({ kind: 'velocityTable', points, source }),
+      velocityRows: (op) => ed({ kind: 'velocityRows', op }),
+      setPosition: (id, text, upstreamExit, upstreamName) => ed({ kind: 'position', id, text, upstreamExit, upstreamName }),
     };
   }, [run]);
   const isEnabled = (id: string) => registry.isEnabled(id, ctx);
@@ -570,7 +574,8 @@ export function App({ host }: { host: Host }) {
             onCsv={() => run('results.exportCsv')} dark={dark} />
         </div>
         <Inspector doc={doc} line={line} selected={selected} errors={errors} warnings={selWarnings} placed={selected ? placed.get(selected) : undefined}
-          portLabels={magnetPortLabels(line)} hyperfine={hyperfine} speciesNames={speciesNames} actions={actions} />
+          portLabels={magnetPortLabels(line)} portLabelsOf={(g) => magnetPortLabels(line, g)} hyperfine={hyperfine} speciesNames={speciesNames} actions={actions}
+          dark={dark} seq={lastResult?.seq ?? 0} />
       </main>
       <footer className="statusline" role="status" aria-live="polite">
         <span>{status.running ? 'computing…' : lastResult ? `run ${lastResult.seq} in ${lastResult.ms !== undefined ? Math.round(lastResult.ms) : '?'} ms` : 'no run yet'}</span>

@@ -1,9 +1,12 @@
 // The inspector of the selected element (or the oven and species): unit-aware fields, routing, ports.
-import { type BeamlineDoc, type Beamline, type ElementKind, KINDS } from '../core-adapter.ts';
+import { type BeamlineDoc, type Beamline, type ElementKind, type OvenStateDoc, type QuantityDoc, KINDS, documentOutputs, speciesPortLabels } from '../core-adapter.ts';
 import { elementFields, velocityFields, VELOCITY_KINDS, NEW_ELEMENT_KINDS, type FieldSpec } from '../fields.ts';
 import { getAt, joinPath } from '../doc-path.ts';
 import { QuantityInput } from './QuantityInput.tsx';
-import { fmtLength } from '../format.ts';
+import { OvenState } from './OvenState.tsx';
+import { VelocityTable } from './VelocityTable.tsx';
+import { LevelsPanel } from './LevelsPanel.tsx';
+import { fmt, fmtLength } from '../format.ts';
 import type { Placed } from '../layout.ts';
 import { useId, useState } from 'react';
 
@@ -19,6 +22,13 @@ export interface InspectorActions {
   addOnPort(fromId: string, port: string | null, kind: string): void;
   rename(oldId: string, newId: string): void;
   setSpecies(value: string): void;
+  /** The oven's initial state as a whole; `what` says what changed, for Undo. */
+  setOvenState(state: OvenStateDoc, what: string): void;
+  /** The oven's velocity distribution a table of these points, read from the file `source`. */
+  setVelocityTable(points: [string, number][], source: string): void;
+  velocityRows(op: { insert: number } | { remove: number }): void;
+  /** Element `id` placed at `text` from the oven aperture, behind `upstreamName`, which ends at `upstreamExit` (m). */
+  setPosition(id: string, text: string, upstreamExit: number, upstreamName: string): void;
 }
 
 interface Props {
@@ -29,7 +39,12 @@ interface Props {
   warnings: readonly string[];
   placed?: Placed;
   portLabels: readonly string[];
+  /** The port labels of a magnet sorting by `group` (the line's species); `portLabels` where absent. */
+  portLabelsOf?(group?: 'mJ' | 'each'): readonly string[];
   hyperfine: boolean;
+  /** The charts' colours, and the result the levels chart belongs to. */
+  dark?: boolean;
+  seq?: number;
   speciesNames: readonly string[];
   actions: InspectorActions;
 }
@@ -136,18 +151,18 @@ export function Inspector(p: Props) {
             onChange={(v) => actions.setValue('oven.velocity', v)} />
         </div>
         <Fields base="" doc={doc} errors={errors} actions={actions} specs={velocityFields(str(vel.kind))} />
-        {vel.kind === 'table' && (
-          <p className="note">{(vel.points as unknown[]).length} tabulated speeds (edit the table in the file).</p>
-        )}
+        <VelocityTable points={vel.kind === 'table' ? (vel.points as [QuantityDoc, QuantityDoc][]) : undefined} errors={errors}
+          commitQuantity={actions.commitQuantity} onRows={actions.velocityRows} onImport={actions.setVelocityTable} />
         <Fields base="" doc={doc} errors={errors} actions={actions} specs={[
           { type: 'quantity', key: 'oven.aperture.width', label: 'aperture width', dim: 'length', optional: true },
           { type: 'quantity', key: 'oven.aperture.height', label: 'aperture height', dim: 'length', optional: true },
         ]} />
-        <p className="note">Initial state: {str((doc.oven.state as { kind: string }).kind)}</p>
+        <OvenState state={doc.oven.state} labels={speciesPortLabels(doc.species, 'each') ?? []} error={errors['oven.state']} onChange={actions.setOvenState} />
         <table className="routes"><tbody>
           <Route fromId="oven" port={null} target={doc.oven.to} ids={ids} actions={actions} />
         </tbody></table>
         <Warnings list={p.warnings} />
+        {p.hyperfine && <LevelsPanel line={line} dark={p.dark ?? false} seq={p.seq ?? 0} />}
       </section>
     );
   }
@@ -165,19 +180,20 @@ export function Inspector(p: Props) {
   // what the kind routes (its kind module: ports, one output, or none for a leaf)
   const output = isElementKind(el.kind) ? KINDS[el.kind].output : 'to';
   const ports = output === 'ports' ? (el.ports as Record<string, string>) : undefined;
-  const unlisted = ports ? p.portLabels.filter((l) => !(l in ports)) : [];
+  // the ports this magnet sorts into: by its own group (m_J, or each eigenstate) for a hyperfine species
+  const group = el.kind === 'magnet' && (el.group === 'mJ' || el.group === 'each') ? el.group : undefined;
+  const offered = p.portLabelsOf ? p.portLabelsOf(group) : p.portLabels;
+  const unlisted = ports ? offered.filter((l) => !(l in ports)) : [];
   const lineEl = line.elements.find((e) => e.id === el.id);
   return (
     <section className="inspector" aria-label="Inspector">
       <h2>
         {KIND_TITLE[el.kind] ?? el.kind} <span className="insp-id">{el.id}</span>
       </h2>
-      {p.placed && (
-        <p className="note">
-          at {fmtLength(p.placed.y0)} from the oven aperture{p.placed.y1 > p.placed.y0 ? `, exit ${fmtLength(p.placed.y1)}` : ''}
-          {lineEl && 'axis' in lineEl ? ` · axis ${(lineEl as { axis: { text: string } }).axis.text}` : ''}
-        </p>
+      {p.placed && lineEl && (
+        <Position id={el.id} base={base} y0={p.placed.y0} y1={p.placed.y1} gap={lineEl.gap} doc={doc} errors={errors} actions={actions} />
       )}
+      {lineEl && 'axis' in lineEl && <p className="note">axis {(lineEl as { axis: { text: string } }).axis.text}</p>}
       <div className="fields">
         <QuantityInput name={`${base}.id`} label="id" value={el.id} error={errors[`${base}.id`]} onCommit={(t) => actions.rename(el.id, t.trim())} />
       </div>
@@ -203,7 +219,26 @@ export function Inspector(p: Props) {
         </>
       )}
       <Warnings list={p.warnings} />
+      {p.hyperfine && el.kind === 'magnet' && <LevelsPanel line={line} only={el.id} dark={p.dark ?? false} seq={p.seq ?? 0} />}
     </section>
+  );
+}
+
+/**
+ * Where an element starts, typed as a distance from the oven aperture: the document keeps its gap, set to the
+ * distance less where the element before it ends (`y0 − gap`). The exit is shown for elements with a length.
+ */
+function Position({ id, base, y0, y1, gap, doc, errors, actions }: { id: string; base: string; y0: number; y1: number; gap: number; doc: BeamlineDoc; errors: Props['errors']; actions: InspectorActions }) {
+  const upstream = documentOutputs(doc).find((o) => o.target === id)?.fromId ?? 'oven';
+  const upstreamName = upstream === 'oven' ? 'the oven aperture' : upstream;
+  const exit = Math.max(0, y0 - gap);
+  const path = `${base}.position`;
+  return (
+    <div className="fields">
+      <QuantityInput name={path} label="from the oven" value={y0 < 1 ? `${fmt(y0 * 100, 6)} cm` : `${fmt(y0, 7)} m`} error={errors[path]}
+        hint={`behind ${upstreamName}${upstream === 'oven' ? '' : ` (ends at ${fmtLength(exit)})`}${y1 > y0 ? `; exit at ${fmtLength(y1)}` : ''}; the file keeps the gap`}
+        onCommit={(t) => actions.setPosition(id, t, exit, upstreamName)} />
+    </div>
   );
 }
 

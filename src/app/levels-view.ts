@@ -1,0 +1,92 @@
+// The Breit–Rabi levels of the line's species at its magnets' fields, with each magnet's sorted ports marked:
+// what the levels panel shows. The energies and moments are the engine's levels listing (src/engine/levels.ts,
+// the same as `spinyard levels`); a level's port is its label as the magnet sorts it — the low-field label
+// |F, m_F⟩ for group "each", "mJ=…" of its high-field label for group "mJ" — and its target is where the
+// magnet routes that port ("*" for the ports not listed, else stop), the reader's routing rule.
+import { levelsListing, type Beamline } from './core-adapter.ts';
+
+export interface LevelRow {
+  /** the isotope, for a mixture */
+  isotope?: string;
+  lowField: string;
+  highField: string;
+  /** E/h, Hz */
+  energy: number;
+  /** μ_eff, μB */
+  moment: number;
+  /** the port the magnet sorts this level into, and where that port goes ("stop" absorbs it) */
+  port: string;
+  target: string;
+}
+
+export interface MagnetLevels {
+  id: string;
+  /** T */
+  field: number;
+  group: 'mJ' | 'each';
+  rows: LevelRow[];
+}
+
+export type LevelsView =
+  | { ok: true; species: string; magnets: MagnetLevels[]; /** magnets without a field size (no levels to show) */ noField: string[] }
+  | { ok: false; message: string };
+
+type ListedLevel = ReturnType<typeof levelsListing>['levels'][number];
+
+/** The port a level is sorted into by a magnet of `group`. */
+export function portOfLevel(level: { lowField: string; highField: string }, group: 'mJ' | 'each'): string {
+  return group === 'mJ' ? level.highField.split(',')[0] : level.lowField;
+}
+
+/** Where a magnet's port goes: its own entry, else "*", else stop. */
+function targetOf(ports: Readonly<Record<string, string>>, port: string): string {
+  return ports[port] ?? ports['*'] ?? 'stop';
+}
+
+/** The levels of the line's species at each magnet's field, every level with its port and target. */
+export function levelsView(line: Beamline): LevelsView {
+  const sp = line.species as { kind: string; name?: string };
+  if (sp.kind !== 'named' || !sp.name) {
+    return { ok: false, message: 'a bare spin has no hyperfine structure: its levels are E = g μB m B, one per m, each sorted into its own port' };
+  }
+  const magnets: MagnetLevels[] = [];
+  const noField: string[] = [];
+  for (const e of line.elements) {
+    if (e.kind !== 'magnet') continue;
+    if (e.field === undefined || !Number.isFinite(e.field)) {
+      noField.push(e.id);
+      continue;
+    }
+    const group = e.group ?? 'each';
+    let listing: ReturnType<typeof levelsListing>;
+    try {
+      listing = levelsListing(sp.name, e.field);
+    } catch (err) {
+      return { ok: false, message: (err as Error).message };
+    }
+    const rows = listing.levels.map((l: ListedLevel) => {
+      const port = portOfLevel(l, group);
+      return { ...(l.isotope ? { isotope: l.isotope } : {}), lowField: l.lowField, highField: l.highField, energy: l.energy, moment: l.moment, port, target: targetOf(e.ports, port) };
+    });
+    magnets.push({ id: e.id, field: e.field, group, rows });
+  }
+  return { ok: true, species: sp.name, magnets, noField };
+}
+
+/**
+ * The Breit–Rabi diagram from 0 to `maxField` (T) in `points` + 1 equally spaced fields: one curve per level
+ * (by its low-field label, and isotope for a mixture), E/h in Hz.
+ */
+export function breitRabiCurves(species: string, maxField: number, points = 120): { fields: number[]; curves: { name: string; energy: number[] }[] } {
+  const fields = Array.from({ length: points + 1 }, (_, i) => (maxField * i) / points);
+  const curves = new Map<string, number[]>();
+  for (const b of fields) {
+    for (const l of levelsListing(species, b).levels) {
+      const key = l.isotope ? `${l.isotope} ${l.lowField}` : l.lowField;
+      const c = curves.get(key) ?? [];
+      c.push(l.energy);
+      curves.set(key, c);
+    }
+  }
+  return { fields, curves: [...curves].map(([name, energy]) => ({ name, energy })) };
+}
