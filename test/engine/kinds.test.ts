@@ -8,7 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { KINDS, KIND_NAMES, lengthOf, outputsOf, type KindModule } from '../../src/beamline/elements/registry.ts';
 import { parseBeamlineText, serializeDoc, validateBeamline } from '../../src/beamline/index.ts';
 import type { Beamline, Element, ElementKind } from '../../src/beamline/types.ts';
-import { type Obj, type ReadCtx, quantity, target } from '../../src/beamline/read.ts';
+import { defineKind } from '../../src/beamline/elements/keys.ts';
 import { runLine } from '../../src/engine/run.ts';
 import { drift } from '../../src/engine/propagate.ts';
 import { STEPS } from '../../src/engine/steps/index.ts';
@@ -87,19 +87,16 @@ describe('element kind registries', () => {
 /** A kind this file defines: a pipe of a given length, a drift in the line's ambient field and nothing else. */
 interface Pipe { id: string; kind: 'pipe'; gap: number; path: string; length: number; to: string }
 
-const pipe: KindModule<Element> = {
+/** The pipe's key table: its length (a quantity ≥ 0) and its one output; the reader, the writer's order, the inspector's fields and the sheet's rows come from it. */
+const pipe: KindModule<Element> = defineKind<Element>({
   kind: 'pipe' as ElementKind,
-  keys: ['length'],
-  output: 'to',
-  hyperfineOnly: [],
+  table: [
+    { key: 'length', shape: { type: 'quantity', dim: 'length', nonNegative: true, what: 'the length' }, label: 'pipe length' },
+    { key: 'to', shape: { type: 'target', what: 'a pipe' }, label: 'output' },
+  ],
   length: (e) => (e as unknown as Pipe).length,
-  read(o: Obj, path: string, ctx: ReadCtx) {
-    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, what: 'the length' });
-    const to = target(ctx, o, 'to', path, 'a pipe');
-    return length !== undefined && to ? ({ length, to } as never) : undefined;
-  },
   defaults: () => ({ length: '10 cm' }),
-};
+});
 const pipeStep: Step = { run: (ctx, e, s) => drift(ctx, s, (e as unknown as Pipe).length) };
 
 describe('a kind defined in a test fixture flows through reading, running and writing', () => {

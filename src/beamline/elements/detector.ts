@@ -5,27 +5,19 @@
  */
 import type { Detector } from '../types.ts';
 import { LIMITS } from '../limits.ts';
-import { type Obj, type ReadCtx, at, quantity, rect } from '../read.ts';
-import type { KindModule } from './kind.ts';
-import { plausible } from '../plausible.ts';
+import { defineKind } from './keys.ts';
 
-export const detector: KindModule<Detector> = {
+export const detector = defineKind<Detector>({
   kind: 'detector',
-  keys: ['efficiency', 'background', 'dwell', 'window'],
-  output: 'none',
+  table: [
+    { key: 'efficiency', shape: { type: 'quantity', dim: 'dimensionless', fallback: 1, unit: true, what: 'the efficiency', plausible: 'efficiency' },
+      label: 'efficiency', defaultText: '1', implied: 'fraction of arrivals counted', sheetDefault: true },
+    { key: 'background', shape: { type: 'quantity', dim: 'rate', fallback: 0, nonNegative: true, range: LIMITS.background, what: 'the background' },
+      label: 'background', defaultText: '0 /s', sheetDefault: true },
+    { key: 'dwell', shape: { type: 'quantity', dim: 'time', fallback: 1, positive: true, range: LIMITS.dwell, what: 'the dwell', plausible: 'dwell' },
+      label: 'dwell', defaultText: '1 s', sheetDefault: true },
+    { key: 'window', shape: { type: 'rect' }, label: 'window', optional: true },
+  ],
   length: () => 0,
-  hyperfineOnly: [],
-  read(o: Obj, path: string, ctx: ReadCtx) {
-    const efficiency = quantity(ctx, o, 'efficiency', 'dimensionless', path, { fallback: 1, unit: true, what: 'the efficiency' });
-    const background = quantity(ctx, o, 'background', 'rate', path, { fallback: 0, nonNegative: true, range: LIMITS.background, what: 'the background' });
-    const dwell = quantity(ctx, o, 'dwell', 'time', path, { fallback: 1, positive: true, range: LIMITS.dwell, what: 'the dwell' });
-    plausible(ctx, at(path, 'efficiency'), 'efficiency', efficiency, 'the efficiency');
-    plausible(ctx, at(path, 'dwell'), 'dwell', dwell, 'the dwell');
-    const window = rect(ctx, o, 'window', path);
-    if (efficiency === undefined || background === undefined || dwell === undefined) return undefined;
-    const out: Omit<Detector, 'id' | 'kind' | 'gap' | 'path'> = { efficiency, background, dwell };
-    if (window) out.window = window;
-    return out;
-  },
   defaults: () => ({ efficiency: 1, background: '0 /s', dwell: '10 s' }),
-};
+});

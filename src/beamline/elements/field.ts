@@ -1,22 +1,15 @@
 /** field: a uniform field vector `field` over `length`; U(v) = exp(−i H(B) t/ħ), t = length/v. */
 import type { FieldRegion } from '../types.ts';
 import { LIMITS } from '../limits.ts';
-import { type Obj, type ReadCtx, at, quantity, target, vec } from '../read.ts';
-import type { KindModule } from './kind.ts';
-import { plausibleVector } from '../plausible.ts';
+import { defineKind } from './keys.ts';
 
-export const field: KindModule<FieldRegion> = {
+export const field = defineKind<FieldRegion>({
   kind: 'field',
-  keys: ['field', 'length'],
-  output: 'to',
+  table: [
+    { key: 'field', shape: { type: 'vector', dim: 'field', range: LIMITS.field, plausible: 'the field' }, label: 'field' },
+    { key: 'length', shape: { type: 'quantity', dim: 'length', nonNegative: true, range: LIMITS.distance, what: 'the length' }, label: 'length' },
+    { key: 'to', shape: { type: 'target', what: 'a field region' }, label: 'output' },
+  ],
   length: (e) => e.length,
-  hyperfineOnly: [],
-  read(o: Obj, path: string, ctx: ReadCtx) {
-    const f = vec(ctx, o, 'field', 'field', path, LIMITS.field);
-    plausibleVector(ctx, at(path, 'field'), f, 'the field');
-    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, range: LIMITS.distance, what: 'the length' });
-    const to = target(ctx, o, 'to', path, 'a field region');
-    return f && length !== undefined && to ? { field: f, length, to } : undefined;
-  },
   defaults: () => ({ field: { x: '10 uT', y: '0 T', z: '0 T' }, length: '5 cm' }),
-};
+});

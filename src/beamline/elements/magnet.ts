@@ -7,45 +7,34 @@
 import type { Magnet } from '../types.ts';
 import { LIMITS } from '../limits.ts';
 import { listText, quote } from '../messages.ts';
-import { type Obj, type ReadCtx, at, axis, describe, full, isObj, problem, quantity, rect, setOwn, warn } from '../read.ts';
-import type { KindModule } from './kind.ts';
-import { readSorting } from './sorting.ts';
-import { plausible } from '../plausible.ts';
+import { type KeyRead } from './kind.ts';
+import { at, describe, full, isObj, problem, setOwn, warn } from '../read.ts';
+import { defineKind } from './keys.ts';
+import { SORTING_KEYS, sortedLabels } from './sorting.ts';
 
-export const magnet: KindModule<Magnet> = {
+export const magnet = defineKind<Magnet>({
   kind: 'magnet',
-  keys: ['axis', 'field', 'gradient', 'length', 'aperture', 'group', 'entry'],
-  output: 'ports',
+  table: [
+    { key: 'axis', shape: { type: 'axis' }, label: 'axis' },
+    { key: 'field', shape: { type: 'quantity', dim: 'field', nonNegative: true, range: LIMITS.fieldSize, what: 'the field size', plausible: 'field' },
+      label: 'field at the beam', optional: true },
+    { key: 'gradient', shape: { type: 'quantity', dim: 'gradient', range: LIMITS.gradient, what: 'the gradient', plausible: 'gradient' }, label: 'gradient', optional: true },
+    { key: 'length', shape: { type: 'quantity', dim: 'length', nonNegative: true, range: LIMITS.distance, what: 'the length' }, label: 'length', optional: true },
+    { key: 'aperture', shape: { type: 'rect' }, label: 'pole gap', optional: true },
+    ...SORTING_KEYS,
+    { key: 'ports', shape: { type: 'ports' }, label: 'ports', read: readPorts },
+  ],
   length: (e) => e.length ?? 0,
-  hyperfineOnly: ['group', 'entry'],
-  read(o: Obj, path: string, ctx: ReadCtx) {
-    const ax = axis(ctx, o, 'axis', path);
-    const field = quantity(ctx, o, 'field', 'field', path, { required: false, nonNegative: true, range: LIMITS.fieldSize, what: 'the field size' });
-    const gradient = quantity(ctx, o, 'gradient', 'gradient', path, { required: false, range: LIMITS.gradient, what: 'the gradient' });
-    const length = quantity(ctx, o, 'length', 'length', path, { required: false, nonNegative: true, range: LIMITS.distance, what: 'the length' });
-    plausible(ctx, at(path, 'field'), 'field', field, 'the field size');
-    plausible(ctx, at(path, 'gradient'), 'gradient', gradient, 'the gradient');
-    const aperture = rect(ctx, o, 'aperture', path);
-    const sort = readSorting(ctx, o, path);
-    const ports = readPorts(ctx, o, path, sort.labels);
-    if (!ax || !ports) return undefined;
-    const out: Omit<Magnet, 'id' | 'kind' | 'gap' | 'path'> = { axis: ax, ports };
-    if (field !== undefined) out.field = field;
-    if (gradient !== undefined) out.gradient = gradient;
-    if (length !== undefined) out.length = length;
-    if (aperture) out.aperture = aperture;
-    if (sort.group) out.group = sort.group;
-    if (sort.entry) out.entry = sort.entry;
-    return out;
-  },
   defaults: () => ({ axis: { roll: '0 deg' } }),
-};
+});
 
 /**
  * The `ports` object: every key a port label of the species (for this group) or "*", every value a
  * target; every label routed by name or by "*".
  */
-function readPorts(ctx: ReadCtx, o: Obj, path: string, labels: string[] | undefined): Record<string, string> | undefined {
+function readPorts(r: KeyRead): Record<string, string> | undefined {
+  const { ctx, o, path } = r;
+  const labels = sortedLabels(r);
   const p = at(path, 'ports');
   const v = o.ports;
   if (v === undefined) return problem(ctx, p, `missing "ports": a magnet routes each port${labels ? ` (${listText(labels)})` : ''} to an element id or "stop"`);

@@ -7,64 +7,65 @@
 import type { Recombiner } from '../types.ts';
 import { LIMITS } from '../limits.ts';
 import { listText, quote } from '../messages.ts';
-import { type Obj, type ReadCtx, at, axis, describe, full, isObj, problem, quantity, setOwn, target } from '../read.ts';
-import type { KindModule } from './kind.ts';
-import { readSorting } from './sorting.ts';
-import { plausible } from '../plausible.ts';
+import { at, describe, full, isObj, problem, quantity, setOwn } from '../read.ts';
+import type { KeyRead } from './kind.ts';
+import { defineKind } from './keys.ts';
+import { SORTING_KEYS, sortedLabels } from './sorting.ts';
 
-export const recombiner: KindModule<Recombiner> = {
+export const recombiner = defineKind<Recombiner>({
   kind: 'recombiner',
-  keys: ['axis', 'open', 'phases', 'coherent', 'field', 'group', 'entry'],
-  output: 'to',
+  table: [
+    { key: 'axis', shape: { type: 'axis' }, label: 'axis' },
+    { key: 'open', shape: { type: 'labels' }, label: 'open ports', read: readOpen },
+    { key: 'phases', shape: { type: 'angles' }, label: 'phase', optional: true, defaultText: '0 deg', read: readPhases },
+    { key: 'coherent', shape: { type: 'bool', fallback: true }, label: 'coherent' },
+    { key: 'field', shape: { type: 'quantity', dim: 'field', nonNegative: true, range: LIMITS.fieldSize, what: 'the field size', plausible: 'field' },
+      label: 'field', optional: true, hyperfineOnly: true },
+    ...SORTING_KEYS,
+    { key: 'to', shape: { type: 'target', what: 'a recombiner' }, label: 'output' },
+  ],
+  // the port labels in `open` depend on the sorting: group and entry are read first
+  readOrder: ['axis', 'group', 'entry', 'open', 'phases', 'coherent', 'field', 'to'],
   length: () => 0,
-  hyperfineOnly: ['field', 'group', 'entry'],
-  read(o: Obj, path: string, ctx: ReadCtx) {
-    const n = ctx.problems.length;
-    const ax = axis(ctx, o, 'axis', path);
-    const sort = readSorting(ctx, o, path);
-    const labels = sort.labels;
-    // open
-    const op = at(path, 'open');
-    const open: string[] = [];
-    if (o.open === undefined) problem(ctx, op, `missing "open": the port labels the recombiner passes${labels ? ` (of ${listText(labels)})` : ''}`);
-    else if (!Array.isArray(o.open)) problem(ctx, op, `expected a list of port labels, got ${describe(o.open)}`);
-    else {
-      if (o.open.length === 0) problem(ctx, op, 'open is empty: name at least one port label');
-      for (let i = 0; i < o.open.length && !full(ctx); i++) {
-        const l: unknown = o.open[i];
-        if (typeof l !== 'string') problem(ctx, at(op, i), `expected a port label, got ${describe(l)}`);
-        else if (labels && !labels.includes(l)) problem(ctx, at(op, i), `no port ${quote(l)} for this species and group; its ports are ${listText(labels)}`);
-        else if (open.includes(l)) problem(ctx, at(op, i), `port ${quote(l)} is listed twice`);
-        else open.push(l);
-      }
-    }
-    // phases
-    const phases: Record<string, number> = {};
-    const pp = at(path, 'phases');
-    if (o.phases !== undefined) {
-      if (!isObj(o.phases)) problem(ctx, pp, `expected an object {port label: angle}, got ${describe(o.phases)}`);
-      else
-        for (const l of Object.keys(o.phases)) {
-          if (full(ctx)) break;
-          if (Array.isArray(o.open) && !open.includes(l)) problem(ctx, at(pp, l), `phase for ${quote(l)}, which is not in "open"`);
-          const phi = quantity(ctx, o.phases, l, 'angle', pp);
-          if (phi !== undefined) setOwn(phases, l, phi);
-        }
-    }
-    let coherent = true;
-    if (o.coherent !== undefined) {
-      if (typeof o.coherent !== 'boolean') problem(ctx, at(path, 'coherent'), `expected true or false, got ${describe(o.coherent)}`);
-      else coherent = o.coherent;
-    }
-    const f = quantity(ctx, o, 'field', 'field', path, { required: false, nonNegative: true, range: LIMITS.fieldSize, what: 'the field size' });
-    plausible(ctx, at(path, 'field'), 'field', f, 'the field size');
-    const to = target(ctx, o, 'to', path, 'a recombiner');
-    if (ctx.problems.length > n || !ax || !to) return undefined;
-    const out: Omit<Recombiner, 'id' | 'kind' | 'gap' | 'path'> = { axis: ax, open, phases, coherent, to };
-    if (f !== undefined) out.field = f;
-    if (sort.group) out.group = sort.group;
-    if (sort.entry) out.entry = sort.entry;
-    return out;
-  },
   defaults: (labels) => ({ axis: { roll: '0 deg' }, open: [...labels], coherent: true }),
-};
+});
+
+/** `open`: a non-empty list of distinct port labels of the species (for its group). */
+function readOpen(r: KeyRead): string[] {
+  const { ctx, o, path } = r;
+  const labels = sortedLabels(r);
+  const op = at(path, 'open');
+  const open: string[] = [];
+  if (o.open === undefined) problem(ctx, op, `missing "open": the port labels the recombiner passes${labels ? ` (of ${listText(labels)})` : ''}`);
+  else if (!Array.isArray(o.open)) problem(ctx, op, `expected a list of port labels, got ${describe(o.open)}`);
+  else {
+    if (o.open.length === 0) problem(ctx, op, 'open is empty: name at least one port label');
+    for (let i = 0; i < o.open.length && !full(ctx); i++) {
+      const l: unknown = o.open[i];
+      if (typeof l !== 'string') problem(ctx, at(op, i), `expected a port label, got ${describe(l)}`);
+      else if (labels && !labels.includes(l)) problem(ctx, at(op, i), `no port ${quote(l)} for this species and group; its ports are ${listText(labels)}`);
+      else if (open.includes(l)) problem(ctx, at(op, i), `port ${quote(l)} is listed twice`);
+      else open.push(l);
+    }
+  }
+  return open;
+}
+
+/** `phases`: {port label: angle} for labels in `open` (a label left out has phase 0). */
+function readPhases(r: KeyRead): Record<string, number> {
+  const { ctx, o, path } = r;
+  const open = (r.values.open as string[] | undefined) ?? [];
+  const phases: Record<string, number> = {};
+  const pp = at(path, 'phases');
+  if (o.phases !== undefined) {
+    if (!isObj(o.phases)) problem(ctx, pp, `expected an object {port label: angle}, got ${describe(o.phases)}`);
+    else
+      for (const l of Object.keys(o.phases)) {
+        if (full(ctx)) break;
+        if (Array.isArray(o.open) && !open.includes(l)) problem(ctx, at(pp, l), `phase for ${quote(l)}, which is not in "open"`);
+        const phi = quantity(ctx, o.phases, l, 'angle', pp);
+        if (phi !== undefined) setOwn(phases, l, phi);
+      }
+  }
+  return phases;
+}

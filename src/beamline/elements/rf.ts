@@ -5,31 +5,21 @@
  */
 import type { RfFlipper } from '../types.ts';
 import { LIMITS } from '../limits.ts';
-import { type Obj, type ReadCtx, at, axis, quantity, target, vec } from '../read.ts';
-import type { KindModule } from './kind.ts';
-import { plausible, plausibleVector } from '../plausible.ts';
+import { defineKind } from './keys.ts';
 
-export const rf: KindModule<RfFlipper> = {
+export const rf = defineKind<RfFlipper>({
   kind: 'rf',
-  keys: ['static', 'amplitude', 'frequency', 'axis', 'length', 'phase'],
-  output: 'to',
+  table: [
+    { key: 'static', shape: { type: 'vector', dim: 'field', range: LIMITS.field, plausible: 'the static field' }, label: 'static' },
+    { key: 'amplitude', shape: { type: 'quantity', dim: 'field', nonNegative: true, range: LIMITS.fieldSize, what: 'the amplitude', plausible: 'field' }, label: 'amplitude' },
+    { key: 'frequency', shape: { type: 'quantity', dim: 'frequency', nonNegative: true, range: LIMITS.frequency, what: 'the frequency' }, label: 'frequency' },
+    { key: 'axis', shape: { type: 'axis' }, label: 'axis' },
+    { key: 'length', shape: { type: 'quantity', dim: 'length', nonNegative: true, range: LIMITS.distance, what: 'the length' }, label: 'length' },
+    // empty: a continuous beam, averaged over every RF phase; a value: a pulsed beam locked to the RF at that phase
+    { key: 'phase', shape: { type: 'quantity', dim: 'angle' }, label: 'entry phase (locked beam)', optional: true, emptyText: 'every phase' },
+    { key: 'to', shape: { type: 'target', what: 'an RF flipper' }, label: 'output' },
+  ],
   length: (e) => e.length,
-  hyperfineOnly: [],
-  read(o: Obj, path: string, ctx: ReadCtx) {
-    const st = vec(ctx, o, 'static', 'field', path, LIMITS.field);
-    const amplitude = quantity(ctx, o, 'amplitude', 'field', path, { nonNegative: true, range: LIMITS.fieldSize, what: 'the amplitude' });
-    plausibleVector(ctx, at(path, 'static'), st, 'the static field');
-    plausible(ctx, at(path, 'amplitude'), 'field', amplitude, 'the amplitude');
-    const frequency = quantity(ctx, o, 'frequency', 'frequency', path, { nonNegative: true, range: LIMITS.frequency, what: 'the frequency' });
-    const ax = axis(ctx, o, 'axis', path);
-    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, range: LIMITS.distance, what: 'the length' });
-    const phase = quantity(ctx, o, 'phase', 'angle', path, { required: false });
-    const to = target(ctx, o, 'to', path, 'an RF flipper');
-    const phaseOk = o.phase === undefined || phase !== undefined;
-    return st && amplitude !== undefined && frequency !== undefined && ax && length !== undefined && phaseOk && to
-      ? { static: st, amplitude, frequency, axis: ax, length, ...(phase === undefined ? {} : { phase }), to }
-      : undefined;
-  },
   // 1 mT static field: the free-electron Larmor frequency g μB B / h ≈ 28.0 MHz (CODATA 2018 μB/h, g ≈ 2.0023).
   defaults: () => ({ static: { x: '0 T', y: '0 T', z: '1 mT' }, amplitude: '10 uT', frequency: '28 MHz', axis: { roll: '90 deg' }, length: '2 cm' }),
-};
+});

@@ -4,24 +4,17 @@
  */
 import type { Twist } from '../types.ts';
 import { LIMITS } from '../limits.ts';
-import { type Obj, type ReadCtx, at, axis, quantity, target } from '../read.ts';
-import type { KindModule } from './kind.ts';
-import { plausible } from '../plausible.ts';
+import { defineKind } from './keys.ts';
 
-export const twist: KindModule<Twist> = {
+export const twist = defineKind<Twist>({
   kind: 'twist',
-  keys: ['field', 'start', 'end', 'length'],
-  output: 'to',
+  table: [
+    { key: 'field', shape: { type: 'quantity', dim: 'field', nonNegative: true, range: LIMITS.fieldSize, what: 'the field size', plausible: 'field' }, label: 'field size' },
+    { key: 'start', shape: { type: 'axis' }, label: 'start' },
+    { key: 'end', shape: { type: 'axis' }, label: 'end' },
+    { key: 'length', shape: { type: 'quantity', dim: 'length', nonNegative: true, range: LIMITS.distance, what: 'the length' }, label: 'length' },
+    { key: 'to', shape: { type: 'target', what: 'a field twist' }, label: 'output' },
+  ],
   length: (e) => e.length,
-  hyperfineOnly: [],
-  read(o: Obj, path: string, ctx: ReadCtx) {
-    const f = quantity(ctx, o, 'field', 'field', path, { nonNegative: true, range: LIMITS.fieldSize, what: 'the field size' });
-    plausible(ctx, at(path, 'field'), 'field', f, 'the field size');
-    const start = axis(ctx, o, 'start', path);
-    const end = axis(ctx, o, 'end', path);
-    const length = quantity(ctx, o, 'length', 'length', path, { nonNegative: true, range: LIMITS.distance, what: 'the length' });
-    const to = target(ctx, o, 'to', path, 'a field twist');
-    return f !== undefined && start && end && length !== undefined && to ? { field: f, start, end, length, to } : undefined;
-  },
   defaults: () => ({ field: '0.2 mT', start: { roll: '0 deg' }, end: { roll: '90 deg' }, length: '4 cm' }),
-};
+});
