@@ -1,12 +1,14 @@
 /**
  * Writing a document: pretty-printed JSON (2 spaces), keys in a stable order so a diff reads well
  * (format, version, title, species, ambient, oven, elements; in an element id, kind, gap, then its
- * kind's keys in docs/design.md order, then to/ports), short lists of plain values such as a velocity
+ * kind's keys in its key table's order, which is docs/design.md's, then to/ports; axes, vectors and rectangles inside
+ * in their own order, as the table's shapes say), short lists of plain values such as a velocity
  * table's [speed, weight] pairs on one line each, and a newline at the end. Keys the order does not
  * know keep their place after the known ones; labels in ports, phases and populations keep the order
  * the user wrote.
  */
 import { KINDS, isKind } from './elements/registry.ts';
+import type { KeyShape, KeySpec } from './elements/kind.ts';
 import { TOP_KEYS } from './check.ts';
 import { OVEN_KEYS } from './oven.ts';
 import type { BeamlineDoc } from './types.ts';
@@ -28,19 +30,23 @@ const axisPlan: Plan = { keys: AXIS };
 const vecPlan: Plan = { keys: VEC };
 const rectPlan: Plan = { keys: RECT };
 
+/** How a value of each key shape is ordered (a quantity, a choice, a list of labels, a target: as it is). */
+const SHAPE_PLANS: Readonly<Partial<Record<KeyShape['type'], Plan>>> = { axis: axisPlan, vector: vecPlan, rect: rectPlan, ports: 'keep', angles: 'keep' };
+
+/** The plan of key `k` in its kind's table; a key its kind does not have takes the plan its shape has in every kind that has it (where they agree). */
+function keyPlan(table: readonly KeySpec[] | undefined, k: string): Plan {
+  const own = table?.find((s) => s.key === k);
+  if (own) return SHAPE_PLANS[own.shape.type];
+  const plans = new Set<Plan>();
+  for (const m of Object.values(KINDS)) for (const s of m.table) if (s.key === k) plans.add(SHAPE_PLANS[s.shape.type]);
+  return plans.size === 1 ? [...plans][0] : undefined;
+}
+
+/** An element's order from its kind's key table: id, kind, gap, the table's keys, then to and ports. */
 function elementPlan(kind: unknown): Plan {
   const mod = isKind(kind) ? KINDS[kind] : undefined;
   const keys = ['id', 'kind', 'gap', ...(mod?.keys ?? []), 'to', 'ports'];
-  return {
-    keys,
-    child: (k) => {
-      if (k === 'axis' || k === 'start' || k === 'end') return axisPlan;
-      if (k === 'static' || (k === 'field' && kind === 'field')) return vecPlan;
-      if (k === 'aperture' || k === 'window') return rectPlan;
-      if (k === 'ports' || k === 'phases') return 'keep';
-      return undefined;
-    },
-  };
+  return { keys, child: (k) => keyPlan(mod?.table, k) };
 }
 
 const topPlan: Plan = {
