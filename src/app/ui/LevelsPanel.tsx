@@ -16,6 +16,9 @@ interface Props {
   seq: number;
 }
 
+/** The curve of a level: its low-field label, with the isotope in a mixture (breitRabiCurves names them so). */
+const curveKey = (r: { isotope?: string; lowField: string }) => (r.isotope ? `${r.isotope} ${r.lowField}` : r.lowField);
+
 const CURVE = ['#1f6fb2', '#c2410c', '#15803d', '#7c3aed', '#b91c1c', '#0e7490', '#a16207', '#be185d'];
 
 export function LevelsPanel({ line, only, dark, seq }: Props) {
@@ -24,13 +27,22 @@ export function LevelsPanel({ line, only, dark, seq }: Props) {
   const magnets = useMemo(() => (view.ok ? view.magnets.filter((m) => only === undefined || m.id === only) : []), [view, only]);
   const species = view.ok ? view.species : '';
   const maxField = Math.max(0, ...magnets.map((m) => m.field));
+  /** One colour per level (its low-field label, and isotope in a mixture), in the order of the first magnet's rows. */
+  const colours = useMemo(() => {
+    const m = new Map<string, string>();
+    for (const g of magnets) for (const r of g.rows) {
+      const k = curveKey(r);
+      if (!m.has(k)) m.set(k, CURVE[m.size % CURVE.length]);
+    }
+    return m;
+  }, [magnets]);
   const chart = useMemo(() => {
     if (!view.ok || magnets.length === 0) return undefined;
     const top = maxField > 0 ? maxField * 1.25 : 0.1;
     const c = breitRabiCurves(species, top);
-    const data: unknown[] = c.curves.map((k, i) => ({
+    const data: unknown[] = c.curves.map((k) => ({
       type: 'scatter', mode: 'lines', name: k.name, x: c.fields, y: k.energy.map((e) => e / 1e9),
-      line: { color: CURVE[i % CURVE.length], width: 1.4 }, hovertemplate: `${k.name}<br>%{x:.4g} T: %{y:.6g} GHz<extra></extra>`,
+      line: { color: colours.get(k.name) ?? CURVE[0], width: 1.4 }, hovertemplate: `${k.name}<br>%{x:.4g} T: %{y:.6g} GHz<extra></extra>`,
     }));
     // each magnet's levels at its field: filled where the port goes on, open where it is stopped
     for (const m of magnets) {
@@ -48,13 +60,14 @@ export function LevelsPanel({ line, only, dark, seq }: Props) {
     const shapes = magnets.map((m) => ({ type: 'line', x0: m.field, x1: m.field, yref: 'paper', y0: 0, y1: 1, line: { color: theme.font.color, width: 1, dash: 'dot' } }));
     const annotations = magnets.map((m, i) => ({ x: m.field, yref: 'paper', y: 1 - 0.07 * (i % 3), text: m.id, showarrow: false, xanchor: 'left', font: { size: 11, color: theme.font.color } }));
     const layout = {
-      ...theme, shapes, annotations, showlegend: true, legend: { orientation: 'h', y: -0.28, font: { size: 10 } },
-      margin: { ...theme.margin, t: 16 },
+      // no legend in the narrow inspector: each curve's colour is the swatch of its level in the tables below
+      ...theme, shapes, annotations, showlegend: false,
+      margin: { l: 48, r: 10, t: 16, b: 44 },
       xaxis: { ...theme.xaxis, title: { text: 'field B (T)' }, range: [0, top] },
       yaxis: { ...theme.yaxis, title: { text: 'E/h (GHz)' } },
     };
     return { data, layout };
-  }, [view, magnets, maxField, species, theme]);
+  }, [view, magnets, maxField, species, theme, colours]);
 
   if (!view.ok) return <p className="note">Levels: {view.message}.</p>;
   if (magnets.length === 0) {
@@ -66,18 +79,22 @@ export function LevelsPanel({ line, only, dark, seq }: Props) {
       {chart && <Plot id={`levels-${only ?? 'line'}`} title={`Breit–Rabi levels of ${species}; ● routed on, ○ stopped`} data={chart.data} layout={chart.layout}
         seq={seq} fileName={`levels-${species}`} height={300} />}
       {magnets.map((m) => {
-        const energies = formatColumn(m.rows.map((r) => r.energy / 1e6), { figures: 10 });
+        const energies = formatColumn(m.rows.map((r) => r.energy / 1e6), { figures: 9 });
         const moments = formatColumn(m.rows.map((r) => r.moment), { figures: 6 });
         return (
-          <table key={m.id} className="levels" aria-label={`Levels in ${m.id}`} data-magnet={m.id}>
-            <caption>{m.id} at {formatColumn([m.field], { figures: 6 })[0]} T, sorted by {m.group === 'mJ' ? 'm_J' : 'eigenstate'}</caption>
-            <thead><tr><th scope="col">level</th><th scope="col">high field</th><th scope="col">E/h (MHz)</th><th scope="col">μ_eff (μB)</th><th scope="col">port → target</th></tr></thead>
+          <table key={m.id} className="levels" aria-label={`Levels in ${m.id}`} data-magnet={m.id} style={{ fontSize: 11, borderCollapse: 'collapse', width: '100%', margin: '6px 0' }}>
+            <caption style={{ textAlign: 'left', fontWeight: 600 }}>{m.id} at {formatColumn([m.field], { figures: 6 })[0]} T, sorted by {m.group === 'mJ' ? 'm_J' : 'eigenstate'}</caption>
+            <thead><tr><th scope="col">level</th><th scope="col">E/h (MHz)</th><th scope="col">μ_eff (μB)</th><th scope="col">{m.group === 'mJ' ? 'port → ' : ''}target</th></tr></thead>
             <tbody>
               {m.rows.map((r, i) => (
-                <tr key={i} data-level={r.lowField} data-target={r.target} className={r.target === 'stop' ? 'stopped' : 'routed'}>
-                  <td>{r.isotope ? `${r.isotope} ` : ''}{r.lowField}</td><td>{r.highField}</td>
+                <tr key={i} data-level={r.lowField} data-target={r.target} className={r.target === 'stop' ? 'stopped' : 'routed'}
+                  style={r.target === 'stop' ? { color: 'var(--ink-soft, #667)' } : undefined}>
+                  <td title={`high field: ${r.highField}`} style={{ whiteSpace: 'nowrap' }}>
+                    <span className="swatch" style={{ background: colours.get(curveKey(r)) }} aria-hidden="true" />
+                    {r.isotope ? `${r.isotope} ` : ''}{r.lowField}
+                  </td>
                   <td className="num">{energies[i]}</td><td className="num">{moments[i]}</td>
-                  <td>{r.target === 'stop' ? `${r.port} → stop` : <strong>{r.port} → {r.target}</strong>}</td>
+                  <td style={{ whiteSpace: 'nowrap' }}>{m.group === 'mJ' ? `${r.port} → ` : ''}{r.target === 'stop' ? 'stop' : <strong>{r.target}</strong>}</td>
                 </tr>
               ))}
             </tbody>
@@ -85,7 +102,7 @@ export function LevelsPanel({ line, only, dark, seq }: Props) {
         );
       })}
       {view.noField.length > 0 && <p className="note">No levels for {view.noField.join(', ')}: no field size given.</p>}
-      <p className="note">E/h of H as written (traceless), μ_eff = −∂E/∂B, as <code>spinyard levels</code> lists them.</p>
+      <p className="note">Hover a level for its high-field label. E/h of H as written (traceless), μ_eff = −∂E/∂B, as <code>spinyard levels</code> lists them.</p>
     </section>
   );
 }

@@ -2,10 +2,9 @@
 // and removed, and a measured table imported from CSV (speed and weight columns, the unit in the header;
 // readVelocityCsv of src/beamline/velocity-csv.ts). Each change is one undoable edit; a file the reader
 // refuses leaves the document as it was and says what and where.
-import { useId, useState } from 'react';
+import { useEffect, useId, useRef, useState } from 'react';
 import { readVelocityCsv, type QuantityDoc } from '../core-adapter.ts';
 import type { FieldSpec } from '../fields.ts';
-import { QuantityInput } from './QuantityInput.tsx';
 
 /** Rows shown at once: a table of thousands of measured speeds is paged, never cut. */
 export const ROWS_PER_PAGE = 50;
@@ -21,6 +20,51 @@ interface Props {
 
 const SPEED: FieldSpec = { type: 'quantity', key: '0', label: 'speed', dim: 'speed' };
 const WEIGHT: FieldSpec = { type: 'quantity', key: '1', label: 'weight', dim: 'dimensionless' };
+
+/**
+ * One cell of the table: a compact text entry that commits on Enter or leaving it, takes back the typing on
+ * Escape, and keeps a refused entry with its message (as the inspector's quantity fields do).
+ */
+function Cell({ name, label, value, error, onCommit, width }: { name: string; label: string; value: string; error?: { text: string; message: string }; onCommit(t: string): void; width: string }) {
+  const id = useId();
+  const [text, setText] = useState(error?.text ?? value);
+  const [focused, setFocused] = useState(false);
+  const start = useRef(text);
+  useEffect(() => {
+    if (!focused) setText(error?.text ?? value);
+  }, [value, error, focused]);
+  const commit = () => {
+    if (text === start.current) return;
+    start.current = text;
+    onCommit(text);
+  };
+  return (
+    <>
+      <input id={id} name={name} type="text" value={text} aria-label={label} spellCheck={false} autoComplete="off" style={{ width, boxSizing: 'border-box' }}
+        aria-invalid={error ? true : undefined} aria-describedby={error ? `${id}-err` : undefined}
+        onChange={(e) => setText(e.target.value)}
+        onFocus={() => {
+          start.current = text;
+          setFocused(true);
+        }}
+        onBlur={() => {
+          setFocused(false);
+          commit();
+        }}
+        onKeyDown={(e) => {
+          if (e.key === 'Enter') {
+            e.preventDefault();
+            commit();
+          } else if (e.key === 'Escape' && text !== start.current) {
+            e.preventDefault();
+            e.stopPropagation();
+            setText(start.current);
+          }
+        }} />
+      {error && <span id={`${id}-err`} className="field-error" role="alert" style={{ display: 'block' }}>{error.message}</span>}
+    </>
+  );
+}
 
 export function VelocityTable({ points, errors, commitQuantity, onRows, onImport }: Props) {
   const fileId = useId();
@@ -52,8 +96,8 @@ export function VelocityTable({ points, errors, commitQuantity, onRows, onImport
     <div className="velocity-table">
       {points && (
         <>
-          <table aria-label="Velocity table">
-            <caption>{n} tabulated speed{n === 1 ? '' : 's'} with their flux weights (normalised by their sum)</caption>
+          <table aria-label="Velocity table" style={{ borderCollapse: 'collapse', width: '100%', fontSize: 12 }}>
+            <caption style={{ textAlign: 'left' }}>{n} tabulated speed{n === 1 ? '' : 's'} with their flux weights (normalised by their sum)</caption>
             <thead><tr><th scope="col">#</th><th scope="col">speed</th><th scope="col">weight</th><th scope="col"><span className="sr-only">rows</span></th></tr></thead>
             <tbody>
               {shown.map(([s, w], k) => {
@@ -63,9 +107,9 @@ export function VelocityTable({ points, errors, commitQuantity, onRows, onImport
                 return (
                   <tr key={i} data-row={i}>
                     <th scope="row">{i + 1}</th>
-                    <td><QuantityInput name={sp} label={`speed ${i + 1}`} value={String(s)} error={errors[sp]} onCommit={(t) => commitQuantity(sp, t, SPEED)} /></td>
-                    <td><QuantityInput name={wp} label={`weight ${i + 1}`} value={String(w)} error={errors[wp]} onCommit={(t) => commitQuantity(wp, t, WEIGHT)} /></td>
-                    <td className="row-actions">
+                    <td><Cell name={sp} label={`speed ${i + 1}`} value={String(s)} error={errors[sp]} width="7.5em" onCommit={(t) => commitQuantity(sp, t, SPEED)} /></td>
+                    <td><Cell name={wp} label={`weight ${i + 1}`} value={String(w)} error={errors[wp]} width="5em" onCommit={(t) => commitQuantity(wp, t, WEIGHT)} /></td>
+                    <td className="row-actions" style={{ whiteSpace: 'nowrap' }}>
                       <button type="button" onClick={() => onRows({ insert: i })} aria-label={`Add a row after row ${i + 1}`}>+</button>
                       <button type="button" onClick={() => onRows({ remove: i })} disabled={n <= 1} aria-label={`Remove row ${i + 1}`}>−</button>
                     </td>
@@ -86,7 +130,7 @@ export function VelocityTable({ points, errors, commitQuantity, onRows, onImport
       )}
       <div className="field">
         <label htmlFor={fileId}>{points ? 'replace from CSV' : 'velocity table from CSV'}</label>
-        <input id={fileId} type="file" name="velocity-csv" accept=".csv,.tsv,.txt,text/csv,text/plain" onChange={(e) => {
+        <input id={fileId} type="file" name="velocity-csv" style={{ minWidth: 0, width: '100%' }} accept=".csv,.tsv,.txt,text/csv,text/plain" onChange={(e) => {
           read(e.target.files?.[0]);
           e.target.value = '';
         }} />
