@@ -1,7 +1,8 @@
 /**
  * The oven: initial spin state, flux, velocity distribution, aperture, and its one output `to`.
  * - state: unpolarized (ρ = 1/d) | pure {axis, m} (|j m⟩ or |F m_F⟩ along n̂) | populations {axis, p}
- *   (zero-field states along n̂; missing labels 0; normalised by their sum, with a warning when it is not 1).
+ *   (zero-field states along n̂; missing labels 0; normalised by their sum, with a warning when it is not 1) |
+ *   density {axis, basis, re, im} (ρ over the zero-field states `basis` along n̂; Hermitian, ≥ 0, trace 1).
  * - flux: a rate "2e9 /s", or {kind: "vapor", temperature} (the engine estimates it from the reservoir).
  * - velocity (required): fixed {speed} | effusive {temperature} | supersonic {speed, ratio} |
  *   table {points: [[speed, weight], …]}: speeds strictly increasing and positive, weights ≥ 0 with a
@@ -14,11 +15,87 @@ import { listText, quote } from './messages.ts';
 import { type Obj, type ReadCtx, at, axis, bounded, checkKeys, choice, describe, full, isObj, object, problem, quantity, rect, setOwn, target, warn } from './read.ts';
 import type { Flux, Oven, OvenState, Velocity } from './types.ts';
 import { isProblem, parseQuantity } from './units.ts';
+import { cmatZeros } from '../physics/cmat.ts';
+import { eigh } from '../physics/eigh.ts';
 import { plausible } from './plausible.ts';
 
 export const OVEN_KEYS = ['state', 'flux', 'velocity', 'aperture', 'to'] as const;
 export const VELOCITY_KINDS = ['fixed', 'effusive', 'supersonic', 'table'] as const;
-export const STATE_KINDS = ['unpolarized', 'pure', 'populations'] as const;
+export const STATE_KINDS = ['unpolarized', 'pure', 'populations', 'density'] as const;
+
+/** How far a density matrix may be from Hermitian, and its least eigenvalue below 0, relative to its trace. */
+export const DENSITY_TOLERANCE = 1e-9;
+
+/**
+ * A density matrix over the zero-field states `basis` along an axis: `re` (and `im`, 0 where absent) are its
+ * rows, in the order of `basis`; Hermitian and positive semidefinite (both to 1e-9 of its trace), normalised to
+ * trace 1 (with a warning when it was not 1). States of the species missing from `basis` have no weight.
+ */
+function readDensity(ctx: ReadCtx, s: Obj, p: string, labels: string[] | undefined): OvenState | undefined {
+  checkKeys(ctx, s, p, ['kind', 'axis', 'basis', 're', 'im'], 'a density-matrix state');
+  const ax = axis(ctx, s, 'axis', p);
+  const bp = at(p, 'basis');
+  const basis = s.basis;
+  if (basis === undefined) return problem(ctx, bp, `missing "basis": the zero-field states the rows and columns stand for, in order${labels ? `, from ${listText(labels)}` : ''}`);
+  if (!Array.isArray(basis) || basis.length === 0) return problem(ctx, bp, `expected a non-empty list of state labels, got ${describe(basis)}`);
+  const seen = new Set<string>();
+  for (let i = 0; i < basis.length; i++) {
+    const l: unknown = basis[i];
+    if (typeof l !== 'string') return problem(ctx, at(bp, i), `expected a state label, got ${describe(l)}`);
+    if (labels && !labels.includes(l)) return problem(ctx, at(bp, i), `no state ${quote(l)} for this species; its states are ${listText(labels)}`);
+    if (seen.has(l)) return problem(ctx, at(bp, i), `the state ${quote(l)} is listed twice`);
+    seen.add(l);
+  }
+  const d = basis.length;
+  const part = (key: 're' | 'im'): number[] | undefined => {
+    const mp = at(p, key);
+    const rows: unknown = s[key];
+    if (rows === undefined) return key === 'im' ? new Array<number>(d * d).fill(0) : problem(ctx, mp, `missing "re": the real parts of ρ, ${d} rows of ${d} numbers`);
+    if (!Array.isArray(rows) || rows.length !== d) return problem(ctx, mp, `expected ${d} rows (one per state of "basis"), got ${Array.isArray(rows) ? `${rows.length}` : describe(rows)}`);
+    const out: number[] = [];
+    for (let r = 0; r < d; r++) {
+      const row: unknown = rows[r];
+      if (!Array.isArray(row) || row.length !== d) return problem(ctx, at(mp, r), `expected a row of ${d} numbers, got ${Array.isArray(row) ? `${row.length}` : describe(row)}`);
+      for (let c = 0; c < d; c++) {
+        const v = parseQuantity(row[c], 'dimensionless', at(at(mp, r), c));
+        if (isProblem(v)) {
+          ctx.problems.push(v);
+          return undefined;
+        }
+        if (!Number.isFinite(v) || Math.abs(v) > 1e300) return problem(ctx, at(at(mp, r), c), `expected a finite number, got ${describe(row[c])}`);
+        out.push(v);
+      }
+    }
+    return out;
+  };
+  const re = part('re'), im = part('im');
+  if (!re || !im || !ax) return undefined;
+  let tr = 0;
+  for (let i = 0; i < d; i++) tr += re[i * d + i];
+  if (!(tr > 0)) return problem(ctx, at(p, 're'), `the trace of ρ (the sum of the diagonal of "re") is ${tr}; a state needs a positive trace`);
+  for (let a = 0; a < d; a++) {
+    if (Math.abs(im[a * d + a]) > DENSITY_TOLERANCE * tr) return problem(ctx, at(at(at(p, 'im'), a), a), `a diagonal element of ρ must be real: the imaginary part is ${im[a * d + a]}, not 0`);
+    for (let b = a + 1; b < d; b++) {
+      if (Math.abs(re[a * d + b] - re[b * d + a]) > DENSITY_TOLERANCE * tr || Math.abs(im[a * d + b] + im[b * d + a]) > DENSITY_TOLERANCE * tr) {
+        return problem(ctx, at(at(at(p, 're'), a), b), `ρ is not Hermitian: element (${quote(basis[a])}, ${quote(basis[b])}) is ${re[a * d + b]} + ${im[a * d + b]}i but (${quote(basis[b])}, ${quote(basis[a])}) is ${re[b * d + a]} + ${im[b * d + a]}i (it must be the complex conjugate)`);
+      }
+    }
+  }
+  const m = cmatZeros(d, d);
+  m.re.set(re);
+  m.im.set(im);
+  const least = eigh(m).values[0];
+  if (least < -DENSITY_TOLERANCE * tr) return problem(ctx, p, `ρ is not positive semidefinite: its least eigenvalue is ${least.toPrecision(4)} (trace ${tr.toPrecision(4)}); a state has no negative probabilities`);
+  if (Math.abs(tr - 1) > 1e-9) warn(ctx, at(p, 're'), `the trace of ρ is ${tr}; normalised to 1`);
+  // the Hermitian part, normalised
+  const nre: number[] = [], nim: number[] = [];
+  for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) {
+    nre.push((a === b ? re[a * d + a] : 0.5 * (re[a * d + b] + re[b * d + a])) / tr);
+    nim.push((a === b ? 0 : 0.5 * (im[a * d + b] - im[b * d + a])) / tr);
+  }
+  return { kind: 'density', axis: ax, basis: [...basis] as string[], re: nre, im: nim };
+}
+
 
 function readState(ctx: ReadCtx, o: Obj, path: string): OvenState | undefined {
   const s = object(ctx, o, 'state', path, true);
@@ -40,6 +117,7 @@ function readState(ctx: ReadCtx, o: Obj, path: string): OvenState | undefined {
     if (labels && !labels.includes(m)) return problem(ctx, at(p, 'm'), `no state ${quote(m)} for this species; its states are ${listText(labels)}`);
     return ax ? { kind, axis: ax, m } : undefined;
   }
+  if (kind === 'density') return readDensity(ctx, s, p, labels);
   checkKeys(ctx, s, p, ['kind', 'axis', 'p'], 'a populations state');
   const ax = axis(ctx, s, 'axis', p);
   const pv = object(ctx, s, 'p', p, true);

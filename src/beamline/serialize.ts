@@ -19,7 +19,7 @@ const AXIS = ['theta', 'phi', 'roll'];
 const VEC = ['x', 'y', 'z'];
 const RECT = ['x', 'z', 'width', 'height'];
 const SPECIES = ['spin', 'g', 'mass'];
-const STATE = ['kind', 'axis', 'm', 'p'];
+const STATE = ['kind', 'axis', 'm', 'p', 'basis', 're', 'im'];
 const VELOCITY = ['kind', 'speed', 'temperature', 'ratio', 'points'];
 const FLUX = ['kind', 'temperature'];
 

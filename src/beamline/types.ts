@@ -28,7 +28,9 @@ export type Velocity =
 export type OvenState =
   | { kind: 'unpolarized' }
   | { kind: 'pure'; axis: Axis; m: string }
-  | { kind: 'populations'; axis: Axis; p: Readonly<Record<string, number>> };
+  | { kind: 'populations'; axis: Axis; p: Readonly<Record<string, number>> }
+  /** ρ over the zero-field states `basis` along the axis (row-major, d = basis.length; Hermitian, ≥ 0, trace 1). */
+  | { kind: 'density'; axis: Axis; basis: readonly string[]; re: readonly number[]; im: readonly number[] };
 export type Flux = { kind: 'given'; value: number } | { kind: 'vapor'; temperature: number };
 export interface Rect { readonly width: number; readonly height: number; readonly x: number; readonly z: number } // x,z offsets default 0
 export interface Oven { state: OvenState; flux: Flux; velocity: Velocity; aperture?: Rect; to: string; path: 'oven' }
@@ -80,7 +82,8 @@ export type SpeciesDoc = string | BareSpinDoc;
 export type OvenStateDoc =
   | { kind: 'unpolarized' }
   | { kind: 'pure'; axis: AxisDoc; m: string }
-  | { kind: 'populations'; axis: AxisDoc; p: Record<string, QuantityDoc> };
+  | { kind: 'populations'; axis: AxisDoc; p: Record<string, QuantityDoc> }
+  | { kind: 'density'; axis: AxisDoc; basis: string[]; re: QuantityDoc[][]; im?: QuantityDoc[][] };
 export type VelocityDoc =
   | { kind: 'fixed'; speed: QuantityDoc }
   | { kind: 'effusive'; temperature: QuantityDoc }

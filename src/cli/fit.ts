@@ -1,6 +1,7 @@
 /**
  * `spinyard fit FILE --data counts.csv --free NAME[=LO..HI],…[,oven.state] [--json] [-o fitted.spinyard]`:
- * Poisson maximum-likelihood fit of set-points (and the oven's populations) to measured counts
+ * Poisson maximum-likelihood fit of set-points (and the oven's state: its density matrix for a species without
+ * hyperfine structure, else its populations) to measured counts
  * (src/engine/fit.ts). The fitted document is written only where -o asks, never over FILE or the data.
  */
 import { serializeDoc, setAt } from '../beamline/index.ts';
@@ -58,9 +59,14 @@ export function fittedDocument(doc: BeamlineDoc, f: FitResult): BeamlineDoc {
     const r = setAt(out, p.path, p.unit ? `${v} ${p.unit}` : v);
     if (r.ok) out = r.doc;
   }
-  if (f.state) {
-    const st = doc.oven.state;
-    const axis = st.kind === 'unpolarized' ? { theta: '0 deg', phi: '0 deg' } : st.axis;
+  const st = doc.oven.state;
+  const axis = st.kind === 'unpolarized' ? { theta: '0 deg', phi: '0 deg' } : st.axis;
+  if (f.density) {
+    // the full ρ over the zero-field states along the state's axis (10 significant digits: positive to 1e-9)
+    const dm = f.density;
+    const r10 = (x: number) => (x === 0 ? 0 : Number(x.toPrecision(10)));
+    out = { ...out, oven: { ...out.oven, state: { kind: 'density', axis, basis: [...dm.basis], re: dm.re.map((r) => r.map(r10)), im: dm.im.map((r) => r.map(r10)) } } };
+  } else if (f.state) {
     const p: Record<string, number> = {};
     f.state.labels.forEach((l, i) => (p[l] = Number(f.state!.populations[i].toPrecision(8))));
     out = { ...out, oven: { ...out.oven, state: { kind: 'populations', axis, p } } };
@@ -79,7 +85,20 @@ export function fitText(f: FitResult, file: string, data: string): string {
     }
     out.push(alignTable(rows, [false, true, true, false, true]), '');
   }
-  if (f.state) {
+  if (f.density) {
+    const dm = f.density;
+    const cell = (v: number, sg: number | null) => `${formatNumber(v, 5)}${sg === null ? ' (undetermined)' : ` ± ${formatNumber(sg, 2)}`}`;
+    out.push(`Oven state: density matrix over the zero-field states along ${dm.axis} (ρ = T T†/Tr, T a Cholesky factor)`);
+    const rows = [['ρ', ...dm.basis]];
+    dm.basis.forEach((a, i) => rows.push([`Re ${a}`, ...dm.basis.map((_, j) => cell(dm.re[i][j], dm.sigmaRe[i][j]))]));
+    dm.basis.forEach((a, i) => rows.push([`Im ${a}`, ...dm.basis.map((_, j) => (i === j ? '0' : cell(dm.im[i][j], dm.sigmaIm[i][j])))]));
+    out.push(alignTable(rows, rows[0].map((_, i) => i > 0)));
+    const pol = dm.polarization;
+    const ps = (v: number, sg: number | null) => cell(v, sg);
+    out.push(`eigenvalues ${dm.eigenvalues.map((v) => formatNumber(v, 4)).join(', ')}; purity Tr ρ² = ${ps(dm.purity, dm.puritySigma)}`);
+    out.push(`${dm.basis.length === 2 ? 'Bloch vector' : 'polarization ⟨J⟩/j'} (lab x, y, z): ${ps(pol.x, pol.sigma.x)}, ${ps(pol.y, pol.sigma.y)}, ${ps(pol.z, pol.sigma.z)}`);
+    out.push(`the readings determine ${dm.determined} of the ${dm.parameters} real parameters of ρ`, '');
+  } else if (f.state) {
     const rows = [['oven state', 'population', '± σ']];
     f.state.labels.forEach((l, i) => rows.push([`${l} (along ${f.state!.axis})`, formatNumber(f.state!.populations[i], 5), f.state!.sigma[i] === null ? '-' : formatNumber(f.state!.sigma[i]!, 2)]));
     out.push(alignTable(rows, [false, true, true]), '');

@@ -88,7 +88,32 @@ function initialState(line: Beamline, sys: SpinSystem): CMat {
     }
   };
   if (st.kind === 'pure') add(st.m, 1);
-  else {
+  else if (st.kind === 'density') {
+    // ρ = Σ_ab ρ_ab |a⟩⟨b| over the zero-field states |a⟩ along the axis (the columns of zf.vectors)
+    const n = st.basis.length;
+    const cols = st.basis.map((label) => {
+      const i = zf.labels.indexOf(label);
+      if (i < 0) throw new RunError(`oven.state.basis: "${label}" is not a state of ${sys.name} (states: ${zf.labels.join(', ')})`);
+      return i;
+    });
+    const vr = zf.vectors.re, vi = zf.vectors.im;
+    for (let a = 0; a < n; a++) for (let b = 0; b < n; b++) {
+      const pr = st.re[a * n + b], pi = st.im[a * n + b];
+      if (pr === 0 && pi === 0) continue;
+      const ia = cols[a], ib = cols[b];
+      for (let r = 0; r < d; r++) {
+        // (ρ_ab u_a)_r
+        const ur = vr[r * d + ia], ui = vi[r * d + ia];
+        const xr = pr * ur - pi * ui, xi = pr * ui + pi * ur;
+        for (let c = 0; c < d; c++) {
+          // × conj(u_b)_c
+          const wr = vr[c * d + ib], wi = -vi[c * d + ib];
+          rho.re[r * d + c] += xr * wr - xi * wi;
+          rho.im[r * d + c] += xr * wi + xi * wr;
+        }
+      }
+    }
+  } else {
     const total = Object.values(st.p).reduce((s, x) => s + x, 0);
     for (const [k, p] of Object.entries(st.p)) add(k, p / total);
   }

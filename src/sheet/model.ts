@@ -228,6 +228,10 @@ export function writtenValue(v: unknown): string {
 function stateText(s: OvenStateDoc): string {
   if (s.kind === 'unpolarized') return 'unpolarized';
   if (s.kind === 'pure') return `pure ${s.m} along ${axisText(s.axis)}`;
+  if (s.kind === 'density') {
+    const row = (r: number) => s.basis.map((_, c) => `${q(s.re[r]?.[c] ?? 0)}${s.im?.[r]?.[c] !== undefined && Number(s.im[r][c]) !== 0 ? ` ${Number(s.im[r][c]) < 0 ? '−' : '+'} ${q(Math.abs(Number(s.im[r][c])))}i` : ''}`).join(', ');
+    return `density matrix over ${s.basis.join(', ')} along ${axisText(s.axis)}: rows ${s.basis.map((_, r) => `(${row(r)})`).join(', ')}`;
+  }
   return `populations ${Object.entries(s.p).map(([k, p]) => `${k}: ${q(p)}`).join(', ')} along ${axisText(s.axis)}`;
 }
 
