@@ -184,3 +184,9 @@ export { ovenStateOfKind, setOvenState, setVelocityTable, editVelocityRows, setP
 export { readVelocityCsv, type VelocityCsv } from '../beamline/velocity-csv.ts';
 export type { OvenStateDoc, QuantityDoc } from '../beamline/types.ts';
 export { levelsListing } from '../engine/index.ts';
+
+import { sha256Hex } from '../sheet/index.ts';
+/** The SHA-256 (hex) of a document's text as Save writes it: the hash the setup sheet prints and the ports CSV carries. */
+export function documentHash(doc: BeamlineDoc): string {
+  return sha256Hex(checkDocument(doc).text);
+}

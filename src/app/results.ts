@@ -28,6 +28,9 @@ export interface PortRow {
   detectorRate?: number;
   time?: number;
   captured?: number;
+  /** The sub-beam's flux-weighted mean position and rms width on its plane (m), where the engine reports them. */
+  displacement?: { x: number; z: number };
+  spread?: { x: number; z: number };
   /** The oven flux (atoms/s) and the dwell (s): the scales of the round-off of rates and counts. */
   flux?: number;
   dwell?: number;
@@ -68,6 +71,8 @@ export function portRows(result: RunResultView, dwell: ReadonlyMap<string, numbe
       row.time = timeToPrecision(d.signal, d.background, eps);
     }
     if (l.captured !== undefined) row.captured = l.captured;
+    if (l.displacement) row.displacement = { x: l.displacement.x, z: l.displacement.z };
+    if (l.spread) row.spread = { x: l.spread.x, z: l.spread.z };
     return row;
   });
 }
@@ -83,16 +88,32 @@ export function toCsv(header: readonly string[], rows: readonly (readonly (strin
   return [header, ...rows].map((r) => r.map(csvField).join(',')).join('\r\n') + '\r\n';
 }
 
+/** The ports CSV's columns, each with its unit ("1" for a fraction of the oven flux or of a sub-beam). Columns are added at the end, never renamed. */
 export const PORT_CSV_HEADER = [
-  'path', 'target', 'yield', 'signal rate (1/s)', 'counts', 'sigma', 'detector rate (1/s)', 'time to precision (s)', 'captured',
+  'path', 'target', 'yield (fraction of the oven flux)', 'signal rate (1/s)', 'counts (in the dwell)', 'sigma (counts)', 'detector rate (1/s)',
+  'time to precision (s)', 'captured (fraction of the sub-beam in the window)',
+  'displacement x (mm)', 'displacement z (mm)', 'spread x (mm)', 'spread z (mm)', 'document', 'document sha256',
 ] as const;
+
+/** The document a table was computed from: its file name and the SHA-256 of its text as Save writes it. */
+export interface CsvSource {
+  name: string;
+  sha256: string;
+}
+
+/** A length on the detector plane in mm for the CSV: 12 figures of the value in m, so no float noise from the scaling. */
+function mmValue(m: number | undefined): string {
+  return m === undefined ? '' : csvValue(Number(csvValue(m)) * 1e3);
+}
 
 /**
  * The ports table as CSV by the one number rule at full precision (src/beamline/numbers.ts): 12 significant
  * figures, yields, rates and counts of round-off (below 1e-12 of the oven flux) as 0; the precision ε is
- * written in the time column's header.
+ * written in the time column's header; every column names its unit; each row names the document and its hash
+ * (the same SHA-256 as the setup sheet's), so a table read later, or rows of several runs put together, say
+ * which line they came from.
  */
-export function portRowsCsv(rows: readonly PortRow[], eps: number): string {
+export function portRowsCsv(rows: readonly PortRow[], eps: number, source?: CsvSource): string {
   const header: string[] = [...PORT_CSV_HEADER];
   header[7] = `time to ${csvValue(eps * 100)}% (s)`;
   return toCsv(header, rows.map((r) => {
@@ -100,7 +121,9 @@ export function portRowsCsv(rows: readonly PortRow[], eps: number): string {
     const rateFloor = ROUND_OFF * flux;
     const noise = r.counts !== undefined && r.dwell !== undefined && isRoundOff(r.counts, flux * r.dwell);
     return [r.path, r.target, csvValue(r.yield, ROUND_OFF), csvValue(r.rate, rateFloor), csvValue(r.counts, rateFloor * (r.dwell ?? 0)),
-      noise ? '0' : csvValue(r.sigma), csvValue(r.detectorRate), csvValue(r.time), csvValue(r.captured)];
+      noise ? '0' : csvValue(r.sigma), csvValue(r.detectorRate), csvValue(r.time), csvValue(r.captured),
+      mmValue(r.displacement?.x), mmValue(r.displacement?.z), mmValue(r.spread?.x), mmValue(r.spread?.z),
+      source?.name ?? 'unsaved', source?.sha256 ?? ''];
   }));
 }
 

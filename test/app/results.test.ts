@@ -56,7 +56,22 @@ describe('CSV', () => {
     expect(lines[0]).toContain('time to 2% (s)');
     expect(lines).toHaveLength(4);
     expect(lines[1].startsWith('M1:+1/2 → M2:+1/2,D1,0.375,675000000,6750000000,')).toBe(true);
-    expect(lines[3]).toBe('M1:-1/2,stop,0.5,0,,,,,');
+    expect(lines[3]).toBe('M1:-1/2,stop,0.5,0,,,,,,,,,,unsaved,');
+  });
+
+  it('carries each sub-beam\'s displacement, spread and captured fraction in mm without float noise, and the document\'s name and hash', () => {
+    const placed: RunResultView = { ...result, leaves: [
+      // 0.1 + 0.2 m is 0.30000000000000004 in binary: the CSV writes 300 mm
+      { path: ['M1:+1/2'], target: 'D1', yield: 0.5, rate: 9e8, displacement: { x: 0.1 + 0.2, z: -0.0057 }, spread: { x: 1.2e-4, z: 3.3e-4 }, captured: 0.8125 },
+      { path: ['M1:-1/2'], target: 'stop', yield: 0.5, rate: 0 },
+    ] };
+    const csv = portRowsCsv(portRows(placed, new Map([['D1', 10]]), 0.01), 0.01, { name: 'bench-x.spinyard', sha256: 'ab'.repeat(32) });
+    const [head, d1, stop] = csv.trim().split('\r\n');
+    expect(head).toBe('path,target,yield (fraction of the oven flux),signal rate (1/s),counts (in the dwell),sigma (counts),detector rate (1/s),time to 1% (s),'
+      + 'captured (fraction of the sub-beam in the window),displacement x (mm),displacement z (mm),spread x (mm),spread z (mm),document,document sha256');
+    const cells = d1.split(',');
+    expect(cells.slice(8)).toEqual(['0.8125', '300', '-5.7', '0.12', '0.33', 'bench-x.spinyard', 'ab'.repeat(32)]);
+    expect(stop.split(',').slice(8)).toEqual(['', '', '', '', '', 'bench-x.spinyard', 'ab'.repeat(32)]);
   });
 });
 

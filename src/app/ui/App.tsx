@@ -5,7 +5,7 @@ import { formatValue, isRoundOff } from '../../beamline/numbers.ts';
 import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { Host, HostDocument, SampleInfo, AutosaveDraft, RecentDocument } from '../../host/contract.ts';
 import {
-  checkDocument, documentOutputs, documentText, editAt, editDelete, editDuplicate,
+  checkDocument, documentHash, documentOutputs, documentText, editAt, editDelete, editDuplicate,
   lineIsHyperfine, librarySpeciesNames, lineParameters, magnetPortLabels, readDocument, speciesCautions, setupSheetHtml, type BeamlineDoc, type Problem,
 } from '../core-adapter.ts';
 import { historyPush, historyRedo, historyStart, historyUndo, type History } from '../history.ts';
@@ -379,9 +379,14 @@ export function App({ host }: { host: Host }) {
     },
     exportCsv: async () => {
       if (!result || eps === undefined) return;
+      // the CSV names the document and its hash: only a result of the document as it is now may carry them
+      if (lastResult?.seq !== docSeq) {
+        setNotice('The ports table is still being computed for the latest edit: export it once the run has finished.');
+        return;
+      }
       const rows = portRows(result, dwellById(line.elements as never), eps);
       try {
-        const r = await host.saveTextFile({ name: `${name.replace(/\.spinyard$/i, '')}-ports.csv`, text: portRowsCsv(rows, eps) });
+        const r = await host.saveTextFile({ name: `${name.replace(/\.spinyard$/i, '')}-ports.csv`, text: portRowsCsv(rows, eps, { name, sha256: documentHash(good.doc) }) });
         if (r) setNotice(`Ports table written: ${r.path ?? `${r.name} (to the downloads)`}`);
       } catch (e) {
         fail('The ports table was not saved', (e as Error).message);
