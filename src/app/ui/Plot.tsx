@@ -1,4 +1,5 @@
-// A plotly.js chart: draws `data`/`layout` with Plotly.react and exports PNG/SVG (Plotly.downloadImage).
+// A plotly.js chart: draws `data`/`layout` with Plotly.react and exports PNG/SVG (Plotly.toImage) at a chosen
+// size, always on the light palette.
 // The chart's own toolbar (plotly's mode bar) keeps only the view controls, zoom, pan and reset: no
 // button of it opens a page, sends the figure anywhere or downloads; the exports are the PNG and SVG
 // buttons of the caption. The mode bar is one stop of the Tab order (arrow keys move along it).
@@ -8,6 +9,8 @@ import { useEffect, useRef, useState } from 'react';
 import type PlotlyApi from 'plotly.js-dist-min';
 
 type Plotly = typeof PlotlyApi;
+/** plotly's toImage (src/plot_api/to_image.js): a figure {data, layout} drawn off screen, as a data URL. */
+type PlotlyToImage = { toImage(fig: { data: unknown[]; layout: Record<string, unknown> }, opts: { format: 'png' | 'svg'; width: number; height: number }): Promise<string> };
 
 let loading: Promise<Plotly> | undefined;
 let loaded: Plotly | undefined;
@@ -95,6 +98,44 @@ export function modebarKey(el: HTMLElement, title: string, target: EventTarget |
   return true;
 }
 
+/**
+ * The charts' two palettes (plotTheme of Results.tsx builds every chart's layout from them). An export is always
+ * drawn on the light one: a figure for a report or a lab notebook is printed on white, whichever theme the app shows.
+ */
+export const PLOT_PALETTE = {
+  light: { fg: '#1d2530', grid: '#d9dde2', paper: '#ffffff' },
+  dark: { fg: '#d8dde3', grid: '#3a434f', paper: '#1f252d' },
+} as const;
+
+const DARK_TO_LIGHT: ReadonlyMap<string, string> = new Map([
+  [PLOT_PALETTE.dark.fg, PLOT_PALETTE.light.fg],
+  [PLOT_PALETTE.dark.grid, PLOT_PALETTE.light.grid],
+  [PLOT_PALETTE.dark.paper, PLOT_PALETTE.light.paper],
+]);
+
+function lighten(v: unknown): unknown {
+  if (typeof v === 'string') return DARK_TO_LIGHT.get(v.toLowerCase()) ?? v;
+  if (Array.isArray(v)) return v.map(lighten);
+  if (v && typeof v === 'object') return Object.fromEntries(Object.entries(v).map(([k, x]) => [k, lighten(x)]));
+  return v;
+}
+
+/** A figure as exported: every colour of the dark palette replaced by its light counterpart, on an opaque white paper. */
+export function lightFigure(data: readonly unknown[], layout: Record<string, unknown>): { data: unknown[]; layout: Record<string, unknown> } {
+  const l = lighten(layout) as Record<string, unknown>;
+  return { data: data.map(lighten), layout: { ...l, paper_bgcolor: PLOT_PALETTE.light.paper, plot_bgcolor: PLOT_PALETTE.light.paper } };
+}
+
+/** Export sizes in px: a slide, a page, a poster; or the chart as it is shown. */
+export const EXPORT_SIZES = {
+  small: { width: 800, height: 500 },
+  page: { width: 1200, height: 800 },
+  print: { width: 2400, height: 1600 },
+} as const;
+export type ExportSize = keyof typeof EXPORT_SIZES | 'shown';
+/** The size last chosen, for every chart (a lab exports a set of figures at one size). */
+let exportSize: ExportSize = 'page';
+
 export interface PlotProps {
   id: string;
   title: string;
@@ -156,11 +197,22 @@ export function Plot({ id, title, data, layout, seq, fileName, height = 260, del
       if (el && loaded) loaded.purge(el);
     };
   }, []);
+  const [size, setSize] = useState<ExportSize>(exportSize);
   const save = (format: 'png' | 'svg') => {
     const el = ref.current;
     if (!el) return;
+    const { width, height: h } = size === 'shown' ? { width: Math.max(300, Math.round(el.clientWidth)), height: Math.round(height) } : EXPORT_SIZES[size];
+    const fig = lightFigure(data, { height: h, autosize: false, ...layout, width });
     void loadPlotly()
-      .then((P) => P.downloadImage(el, { format, filename: fileName, width: 900, height: height + 60 }))
+      .then((P) => (P as unknown as PlotlyToImage).toImage(fig, { format, width, height: h }))
+      .then((url: string) => {
+        const a = document.createElement('a');
+        a.href = url;
+        a.download = `${fileName}.${format}`;
+        document.body.appendChild(a);
+        a.click();
+        a.remove();
+      })
       .catch((e: unknown) => setFailed(`The chart cannot be exported: ${(e as Error).message ?? String(e)}.`));
   };
   return (
@@ -168,6 +220,14 @@ export function Plot({ id, title, data, layout, seq, fileName, height = 260, del
       <figcaption>
         <span id={`${id}-title`}>{title}</span>
         <span className="plot-actions">
+          <select aria-label={`Size of the exported ${title}`} value={size} data-export-size onChange={(e) => {
+            exportSize = e.target.value as ExportSize;
+            setSize(exportSize);
+          }}>
+            {(Object.keys(EXPORT_SIZES) as ExportSize[]).concat('shown').map((k) => (
+              <option key={k} value={k}>{k === 'shown' ? 'as shown' : `${EXPORT_SIZES[k as Exclude<ExportSize, 'shown'>].width} × ${EXPORT_SIZES[k as Exclude<ExportSize, 'shown'>].height}`}</option>
+            ))}
+          </select>
           <button type="button" onClick={() => save('png')} aria-label={`Export ${title} as PNG`}>PNG</button>
           <button type="button" onClick={() => save('svg')} aria-label={`Export ${title} as SVG`}>SVG</button>
         </span>

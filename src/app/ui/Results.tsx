@@ -4,7 +4,7 @@ import type { Beamline } from '../core-adapter.ts';
 import { timeToPrecision } from '../core-adapter.ts';
 import { detectorCells, dwellById, lostCell, portCells, portRows, type RunResultView } from '../results.ts';
 import { AXIS_NUMBERS, fmt, fmtTime } from '../format.ts';
-import { Plot } from './Plot.tsx';
+import { Plot, PLOT_PALETTE } from './Plot.tsx';
 import { LEAF_COLORS } from './Schematic.tsx';
 import type { EngineStatus } from '../engine-client.ts';
 
@@ -25,12 +25,13 @@ interface Props {
 }
 
 export function plotTheme(dark: boolean) {
-  const fg = dark ? '#d8dde3' : '#1d2530';
-  const grid = dark ? '#3a434f' : '#d9dde2';
+  const pal = dark ? PLOT_PALETTE.dark : PLOT_PALETTE.light;
+  const fg = pal.fg;
+  const grid = pal.grid;
   return {
-    // opaque, so an exported PNG/SVG reads the same outside the app
-    paper_bgcolor: dark ? '#1f252d' : '#ffffff',
-    plot_bgcolor: dark ? '#1f252d' : '#ffffff',
+    // opaque; an export is drawn on the light palette whatever the theme (Plot.tsx, lightFigure)
+    paper_bgcolor: pal.paper,
+    plot_bgcolor: pal.paper,
     font: { family: 'system-ui, sans-serif', size: 12, color: fg },
     margin: { l: 64, r: 16, t: 12, b: 48 },
     // numbers on every axis with SI prefixes, units in the axis titles (AXIS_NUMBERS)
