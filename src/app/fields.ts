@@ -1,7 +1,11 @@
 // What the inspector shows for each element kind: quantity fields (relative JSON path, label,
-// dimension), choices, and which keys are optional. The document layer validates; this only lists.
+// dimension), choices, switches, and lists and maps of port labels, and which keys are optional. An element's
+// fields come from its kind's key table (src/beamline/elements): one field per key, or one per component of an
+// axis, a vector or a rectangle. The document layer validates; this only lists.
 
-import type { Dimension, ElementKind } from './core-adapter.ts';
+import { KINDS, type Dimension, type ElementKind } from './core-adapter.ts';
+import { isOptional } from '../beamline/elements/keys.ts';
+import type { KeySpec } from '../beamline/elements/kind.ts';
 
 export interface QuantityField {
   type: 'quantity';
@@ -29,7 +33,26 @@ export interface BoolField {
   label: string;
 }
 
-export type FieldSpec = QuantityField | ChoiceField | BoolField;
+/** A list of port labels (a recombiner's open ports): the line's port labels, each on or off. */
+export interface LabelsField {
+  type: 'labels';
+  key: string;
+  label: string;
+  /** The key of the map over these labels (a label with a value there cannot be taken out before it is cleared). */
+  mappedBy?: string;
+}
+
+/** A map port label → angle over the labels listed at `of` (a recombiner's phases): one angle per listed label. */
+export interface AnglesField {
+  type: 'angles';
+  key: string;
+  label: string;
+  of: string;
+  /** What a label left out of the map has ("0 deg"). */
+  placeholder?: string;
+}
+
+export type FieldSpec = QuantityField | ChoiceField | BoolField | LabelsField | AnglesField;
 
 const q = (key: string, label: string, dim: Dimension, optional = false, placeholder?: string): QuantityField => ({
   type: 'quantity', key, label, dim, optional, placeholder,
@@ -48,55 +71,52 @@ export function axisFields(key: string, label: string, axis: unknown): QuantityF
 const vec = (key: string, label: string, dim: Dimension) =>
   (['x', 'y', 'z'] as const).map((c) => q(`${key}.${c}`, `${label} ${c}`, dim));
 
-const rect = (key: string, label: string, offsets: boolean) => [
+// a rectangle is optional as a whole: each entry can be emptied; its offsets default to 0 (read.ts, rect)
+const rect = (key: string, label: string) => [
   q(`${key}.width`, `${label} width`, 'length', true),
   q(`${key}.height`, `${label} height`, 'length', true),
-  ...(offsets ? [q(`${key}.x`, `${label} x`, 'length', true, '0 mm'), q(`${key}.z`, `${label} z`, 'length', true, '0 mm')] : []),
+  q(`${key}.x`, `${label} x`, 'length', true, '0 mm'),
+  q(`${key}.z`, `${label} z`, 'length', true, '0 mm'),
 ];
+
+/** The fields of one key of a kind's table, as `el` (the raw element) writes it; none for the output (the routing section). */
+export function keyFields(s: KeySpec, el: Record<string, unknown>, table: readonly KeySpec[] = []): FieldSpec[] {
+  const sh = s.shape;
+  const optional = isOptional(s);
+  switch (sh.type) {
+    case 'quantity': return [q(s.key, s.label, sh.dim, optional, s.defaultText ?? s.emptyText)];
+    case 'axis': return axisFields(s.key, s.label, el[s.key]);
+    case 'vector': return vec(s.key, s.label, sh.dim);
+    case 'rect': return rect(s.key, s.label);
+    case 'bool': return [{ type: 'bool', key: s.key, label: s.label }];
+    case 'choice': return [{ type: 'choice', key: s.key, label: s.label, options: optional ? ['', ...sh.options] : sh.options, optional }];
+    case 'labels': {
+      const map = table.find((x) => x.shape.type === 'angles' && x.shape.of === s.key);
+      return [{ type: 'labels', key: s.key, label: s.label, ...(map ? { mappedBy: map.key } : {}) }];
+    }
+    case 'angles': return [{ type: 'angles', key: s.key, label: s.label, of: sh.of, ...(s.defaultText ? { placeholder: s.defaultText } : {}) }];
+    case 'ports':
+    case 'target':
+      return [];
+  }
+}
+
+/** The fields of a kind's key table for the raw element `el`: the gap first, then each key in the table's order (hyperfine-only keys for a hyperfine species only). */
+export function tableFields(table: readonly KeySpec[], el: Record<string, unknown>, hyperfine: boolean): FieldSpec[] {
+  return [gap, ...table.filter((s) => hyperfine || !s.hyperfineOnly).flatMap((s) => keyFields(s, el, table))];
+}
 
 type FieldsOf = (el: Record<string, unknown>, hyperfine: boolean) => FieldSpec[];
 
-/** The inspector's fields of each element kind, one entry per kind (a kind without one fails the type check). */
-export const ELEMENT_FIELDS: { readonly [K in ElementKind]: FieldsOf } = {
-  magnet: (el, hyperfine) => [
-    gap,
-    ...axisFields('axis', 'axis', el.axis),
-    q('field', 'field at the beam', 'field', true),
-    q('gradient', 'gradient', 'gradient', true),
-    q('length', 'length', 'length', true),
-    ...rect('aperture', 'pole gap', false),
-    ...(hyperfine
-      ? [
-          { type: 'choice', key: 'group', label: 'ports group', options: ['', 'mJ', 'each'], optional: true } as ChoiceField,
-          { type: 'choice', key: 'entry', label: 'entry', options: ['', 'adiabatic', 'sudden'], optional: true } as ChoiceField,
-        ]
-      : []),
-  ],
-  rotator: (el) => [gap, ...axisFields('axis', 'axis', el.axis), q('angle', 'angle', 'angle')],
-  field: () => [gap, ...vec('field', 'field', 'field'), q('length', 'length', 'length')],
-  twist: (el) => [gap, q('field', 'field size', 'field'), ...axisFields('start', 'start', el.start), ...axisFields('end', 'end', el.end), q('length', 'length', 'length')],
-  rf: (el) => [
-    gap, ...vec('static', 'static', 'field'), q('amplitude', 'amplitude', 'field'), q('frequency', 'frequency', 'frequency'),
-    ...axisFields('axis', 'axis', el.axis), q('length', 'length', 'length'),
-    // empty: a continuous beam, averaged over every RF phase; a value: a pulsed beam locked to the RF at that phase
-    q('phase', 'entry phase (locked beam)', 'angle', true, 'every phase'),
-  ],
-  recombiner: (el, hyperfine) => [gap, ...axisFields('axis', 'axis', el.axis), { type: 'bool', key: 'coherent', label: 'coherent' },
-    ...(hyperfine ? [q('field', 'field', 'field', true)] : [])],
-  slit: () => [gap, q('width', 'width', 'length'), q('height', 'height', 'length'), q('x', 'offset x', 'length', true, '0 mm'), q('z', 'offset z', 'length', true, '0 mm')],
-  detector: () => [
-    gap,
-    q('efficiency', 'efficiency', 'dimensionless', true, '1'),
-    q('background', 'background', 'rate', true, '0 /s'),
-    q('dwell', 'dwell', 'time', true, '1 s'),
-    ...rect('window', 'window', true),
-  ],
-};
+/** The inspector's fields of each element kind, from its key table: one entry per kind (a kind without one fails the type check). */
+export const ELEMENT_FIELDS: { readonly [K in ElementKind]: FieldsOf } = Object.fromEntries(
+  (Object.keys(KINDS) as ElementKind[]).map((k) => [k, (el: Record<string, unknown>, hyperfine: boolean) => tableFields(KINDS[k].table, el, hyperfine)]),
+) as { readonly [K in ElementKind]: FieldsOf };
 
-/** The fields of an element as written in the document (`el` is the raw element object); an unknown kind shows its gap. */
+/** The fields of an element as written in the document (`el` is the raw element object), from its kind's key table; an unknown kind shows its gap. */
 export function elementFields(el: Record<string, unknown>, hyperfine: boolean): FieldSpec[] {
   const kind = el.kind;
-  return typeof kind === 'string' && Object.hasOwn(ELEMENT_FIELDS, kind) ? ELEMENT_FIELDS[kind as ElementKind](el, hyperfine) : [gap];
+  return typeof kind === 'string' && Object.hasOwn(KINDS, kind) ? tableFields(KINDS[kind as ElementKind].table, el, hyperfine) : [gap];
 }
 
 export const VELOCITY_KINDS = ['fixed', 'effusive', 'supersonic', 'table'] as const;

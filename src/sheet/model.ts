@@ -7,9 +7,12 @@
  * positions in mm.
  * No DOM, React or node:* here: the app's renderer and the CLI both build it.
  */
-import { outputsOf } from '../beamline/elements/registry.ts';
+import { KINDS, isKind, outputsOf } from '../beamline/elements/registry.ts';
+import { isOutputKey } from '../beamline/elements/keys.ts';
+import type { KeySpec } from '../beamline/elements/kind.ts';
+import { DISPLAY_UNITS } from '../beamline/parameters.ts';
 import { ATOMIC_MASS_UNIT_KG } from '../beamline/units.ts';
-import type { AxisDoc, Beamline, BeamlineDoc, Detector, ElementDoc, OvenStateDoc, QuantityDoc, VelocityDoc } from '../beamline/types.ts';
+import type { AxisDoc, Beamline, BeamlineDoc, ElementDoc, OvenStateDoc, QuantityDoc, VelocityDoc } from '../beamline/types.ts';
 import type { RunResult } from '../engine/result.ts';
 import { budget } from '../engine/budget.ts';
 import { compile } from '../engine/plan.ts';
@@ -301,12 +304,8 @@ function speciesOf(doc: BeamlineDoc, line: Beamline): { species: SheetSpecies; i
 }
 
 // ------------------------------------------------------------------ elements
+/** Keys of an element that are not set-points: its name, its kind and its routing (the routes have their own rows). */
 const NOT_SET_POINTS = new Set(['id', 'kind', 'ports', 'to']);
-
-/** Units that plain numbers of the format carry without writing them (dimensionless keys), said in words. */
-const IMPLIED: Readonly<Record<string, Readonly<Record<string, string>>>> = {
-  detector: { efficiency: 'fraction of arrivals counted' },
-};
 
 const plain = (x: number) => String(Number(x.toPrecision(6)));
 
@@ -315,29 +314,47 @@ function isPlainNumber(v: unknown): boolean {
   return typeof v === 'number' || (typeof v === 'string' && /^\s*[-+]?(\d+\.?\d*|\.\d+)(e[-+]?\d+)?\s*$/i.test(v));
 }
 
-/** A detector's keys the run fills in when the document leaves them out (src/beamline/elements/detector.ts). */
-function detectorDefaults(e: ElementDoc, d: Detector | undefined): SheetSetPoint[] {
-  if (!d) return [];
-  const has = (k: string) => (e as unknown as Record<string, unknown>)[k] !== undefined;
-  const out: SheetSetPoint[] = [];
-  if (!has('efficiency')) out.push({ name: 'efficiency', value: plain(d.efficiency), implied: IMPLIED.detector.efficiency, default: true });
-  if (!has('background')) out.push({ name: 'background', value: `${plain(d.background)} /s`, default: true });
-  if (!has('dwell')) out.push({ name: 'dwell', value: `${plain(d.dwell)} s`, default: true });
-  return out;
-}
-
-function setPointOf(kind: string, name: string, v: unknown): SheetSetPoint {
+/** A written key's row: its value as written, and the unit a plain number carries in words where its key table says one. */
+function setPointOf(spec: KeySpec | undefined, name: string, v: unknown): SheetSetPoint {
   const sp: SheetSetPoint = { name, value: writtenValue(v) };
-  const implied = IMPLIED[kind]?.[name];
-  if (implied && isPlainNumber(v)) sp.implied = implied;
+  if (spec?.implied && isPlainNumber(v)) sp.implied = spec.implied;
   return sp;
 }
 
+/** The row of a key the document leaves out and its table marks for the sheet: the value the run used, in its dimension's display unit. */
+function defaultRow(s: KeySpec, norm: Readonly<Record<string, unknown>> | undefined): SheetSetPoint | undefined {
+  const v = norm?.[s.key];
+  if (s.shape.type !== 'quantity' || typeof v !== 'number' || !Number.isFinite(v)) return undefined;
+  const u = DISPLAY_UNITS[s.shape.dim];
+  const row: SheetSetPoint = { name: s.key, value: u.unit ? `${plain(v / u.factor)} ${u.unit}` : plain(v), default: true };
+  if (s.implied) row.implied = s.implied;
+  return row;
+}
+
+/**
+ * The set-point rows of an element from its kind's key table: the gap, then each key in the table's order as written,
+ * or the value the run used where the table says the sheet prints a left-out key's default; a written key the table
+ * does not know (an unknown kind's) follows in the document's order, so nothing written is left off.
+ */
+function setPointsOf(e: ElementDoc, norm: Beamline['elements'][number] | undefined): SheetSetPoint[] {
+  const written = e as unknown as Readonly<Record<string, unknown>>;
+  const table = isKind(e.kind) ? KINDS[e.kind].table.filter((s) => !isOutputKey(s)) : [];
+  const rows: SheetSetPoint[] = [];
+  if (written.gap !== undefined) rows.push(setPointOf(undefined, 'gap', written.gap));
+  for (const s of table) {
+    if (written[s.key] !== undefined) rows.push(setPointOf(s, s.key, written[s.key]));
+    else if (s.sheetDefault) {
+      const d = defaultRow(s, norm as Readonly<Record<string, unknown>> | undefined);
+      if (d) rows.push(d);
+    }
+  }
+  const known = new Set(['gap', ...table.map((s) => s.key)]);
+  for (const [name, v] of Object.entries(written)) if (!NOT_SET_POINTS.has(name) && !known.has(name) && v !== undefined) rows.push(setPointOf(undefined, name, v));
+  return rows;
+}
+
 function elementOf(e: ElementDoc, pos: { entrance: number; exit: number } | undefined, norm: Beamline['elements'][number] | undefined): SheetElement {
-  const setPoints = Object.entries(e)
-    .filter(([k]) => !NOT_SET_POINTS.has(k))
-    .map(([name, v]) => setPointOf(e.kind, name, v));
-  if (e.kind === 'detector') setPoints.push(...detectorDefaults(e, norm?.kind === 'detector' ? norm : undefined));
+  const setPoints = setPointsOf(e, norm);
   const routes = outputsOf(e).map((o) => ({ port: o.port ?? '', target: o.target }));
   const out: SheetElement = { id: e.id, kind: e.kind, setPoints, routes };
   if (pos) {

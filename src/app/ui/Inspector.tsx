@@ -3,6 +3,7 @@ import { type BeamlineDoc, type Beamline, type ElementKind, type OvenStateDoc, t
 import { elementFields, velocityFields, VELOCITY_KINDS, NEW_ELEMENT_KINDS, type FieldSpec } from '../fields.ts';
 import { getAt, joinPath } from '../doc-path.ts';
 import { QuantityInput } from './QuantityInput.tsx';
+import { KeyFields } from './KeyFields.tsx';
 import { OvenState } from './OvenState.tsx';
 import { VelocityTable } from './VelocityTable.tsx';
 import { LevelsPanel } from './LevelsPanel.tsx';
@@ -197,7 +198,7 @@ export function Inspector(p: Props) {
       <div className="fields">
         <QuantityInput name={`${base}.id`} label="id" value={el.id} error={errors[`${base}.id`]} onCommit={(t) => actions.rename(el.id, t.trim())} />
       </div>
-      <Fields base={base} specs={elementFields(el, p.hyperfine)} doc={doc} errors={errors} actions={actions} />
+      <KeyFields Plain={Fields} portLabels={p.portLabels} base={base} specs={elementFields(el, p.hyperfine)} doc={doc} errors={errors} actions={actions} />
       {output !== 'none' && (
         <>
           <h3>Routing</h3>
