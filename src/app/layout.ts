@@ -3,6 +3,7 @@
 // Lengths in m. Pure functions of the normalized line (all numbers SI).
 
 import { type Beamline, type Element, lengthOf, outputsOf } from './core-adapter.ts';
+import { branchLayout } from '../sheet/layout-rule.ts';
 
 export interface Placed {
   id: string;
@@ -111,39 +112,160 @@ export function leafRoute(line: Beamline, path: readonly string[]): string[] {
 }
 
 export interface BeamTrace {
-  /** Points (y along the beam, transverse offset) in m; offsets along x (top view) and z (side view). */
+  /**
+   * The sub-beam's centre line (m): y along the beam, x and z across. Vertices at y = 0, at the entrance and exit of
+   * every element of its route and at every point of the engine's centre line between them.
+   */
   points: { y: number; x: number; z: number }[];
+  /** The route element each vertex is drawn with (its branch row and slot): one per point. Where a route passes from
+   *  one element to the next the exit appears twice, once with each, so a branch change draws a connector there. */
+  at: string[];
+  /** The element ids the leaf passes, in order (its target last where it ends on a detector). */
+  route: string[];
   endsInStop: boolean;
-  /** True when the offsets come from the engine's displacement; false: drawn on the axis. */
+  /** True when the offsets are the engine's centre line; false: drawn on the axis (no geometry). */
   fromEngine: boolean;
 }
 
+/** A centre line {y, x, z}[] at plane y: linear between its points (it is straight between them), its ends held outside. */
+export function centreLineAt(points: readonly { y: number; x: number; z: number }[], y: number): { x: number; z: number } {
+  if (points.length === 0) return { x: 0, z: 0 };
+  if (y <= points[0].y) return { x: points[0].x, z: points[0].z };
+  for (let i = 1; i < points.length; i++) {
+    const a = points[i - 1], b = points[i];
+    if (y <= b.y) {
+      const t = b.y > a.y ? (y - a.y) / (b.y - a.y) : 1;
+      return { x: a.x + t * (b.x - a.x), z: a.z + t * (b.z - a.z) };
+    }
+  }
+  const l = points[points.length - 1];
+  return { x: l.x, z: l.z };
+}
+
 /**
- * The drawn trace of one sub-beam: on the beam axis up to the entrance of the first magnet on its path,
- * then straight to the engine's displacement at its detector plane (the drawing joins the engine's end
- * point; the curve inside the magnets is not drawn). A leaf that ends in a stop ends at the exit of its
- * last magnet.
+ * The drawn trace of one sub-beam: its route from the oven through the placed elements, and across the beam the
+ * engine's centre line (`centreLine` of result format v1: the flux-weighted mean position of the atoms that reach its
+ * plane), bending where each magnet deflects it. A leaf without a centre line (no geometry, or a line drawn in
+ * routing order) is drawn on the axis. A leaf that ends in a stop ends at the exit of its last element.
  */
 export function beamTrace(
   line: Beamline,
   placed: ReadonlyMap<string, Placed>,
-  leaf: { path: readonly string[]; target: string; displacement?: { x: number; z: number } },
+  leaf: { path: readonly string[]; target: string; plane?: number; centreLine?: readonly { y: number; x: number; z: number }[] },
+  toScale = true,
 ): BeamTrace {
   const route = leafRoute(line, leaf.path).filter((id) => placed.has(id));
-  const pts: { y: number; x: number; z: number }[] = [{ y: 0, x: 0, z: 0 }];
   const endsInStop = leaf.target === 'stop';
-  const last = route.length > 0 ? placed.get(route[route.length - 1])! : undefined;
-  const firstMagnet = route.map((id) => placed.get(id)!).find((p) => p.kind === 'magnet');
-  const d = leaf.displacement;
-  if (!last) return { points: pts, endsInStop, fromEngine: false };
-  const yEnd = endsInStop ? last.y1 : last.y0;
-  if (firstMagnet && d && !endsInStop) {
-    if (firstMagnet.y0 > 0) pts.push({ y: firstMagnet.y0, x: 0, z: 0 });
-    pts.push({ y: yEnd, x: d.x, z: d.z });
-    return { points: pts, endsInStop, fromEngine: true };
+  const cl = toScale && leaf.centreLine && leaf.centreLine.length > 0 ? leaf.centreLine : undefined;
+  const points: BeamTrace['points'] = [];
+  const at: string[] = [];
+  const push = (y: number, id: string) => {
+    const c = cl ? centreLineAt(cl, y) : { x: 0, z: 0 };
+    points.push({ y, x: c.x, z: c.z });
+    at.push(id);
+  };
+  let start = 0;
+  route.forEach((id, i) => {
+    const p = placed.get(id)!;
+    const last = i === route.length - 1;
+    // the route ends on a detector at its plane (the leaf's own where the engine gives it), otherwise at an exit
+    const end = last && !endsInStop ? (cl ? leaf.plane ?? p.y0 : p.y0) : Math.max(p.y1, start);
+    push(start, id);
+    const inner = new Set<number>();
+    if (p.y0 > start && p.y0 < end) inner.add(p.y0);
+    if (cl) for (const q of cl) if (q.y > start && q.y < end) inner.add(q.y);
+    for (const y of [...inner].sort((a, b) => a - b)) push(y, id);
+    if (end > start || last) push(end, id);
+    start = end;
+  });
+  if (route.length === 0) push(0, '');
+  return { points, at, route, endsInStop, fromEngine: !!cl };
+}
+
+/** The rows (branches) and marks of the shared layout rule (src/sheet/layout-rule.ts), on the placed elements. */
+export function schematicRows(line: Beamline, placed: ReadonlyMap<string, Placed>): ReturnType<typeof branchLayout> {
+  const order = new Map(line.elements.map((e, i) => [e.id, i]));
+  const els = [...placed.values()]
+    .sort((a, b) => a.y0 - b.y0 || (order.get(a.id) ?? 0) - (order.get(b.id) ?? 0))
+    .map((p) => ({ id: p.id, kind: p.kind, entrance: p.y0, length: p.y1 - p.y0, routes: outputsOf(p.element).map((o) => ({ port: o.port ?? '', target: o.target })) }));
+  // 1e-8 m: the sheet's 1e-6 cm
+  return branchLayout(els, line.oven.to, 1e-8);
+}
+
+/**
+ * Offsets (px) that move intervals [centre − half, centre + half] apart until no two overlap (with `gap` between),
+ * keeping their order by centre (ties in the order given) and their mean place: members of one mark (elements at one
+ * place on one branch) drawn side by side. Intervals that do not overlap keep offset 0.
+ */
+export function packSlots(items: readonly { centre: number; half: number }[], gap: number): number[] {
+  const n = items.length;
+  const out = new Array<number>(n).fill(0);
+  if (n < 2) return out;
+  const idx = items.map((_, i) => i).sort((a, b) => items[a].centre - items[b].centre || a - b);
+  // clusters of overlapping intervals, each packed tight around its own mean centre; merged while they overlap
+  type Cluster = { members: number[]; lo: number; size: number };
+  const clusters: Cluster[] = [];
+  const place = (c: Cluster) => {
+    const mean = c.members.reduce((s, i) => s + items[i].centre, 0) / c.members.length;
+    const sizes = c.members.map((i) => 2 * items[i].half);
+    c.size = sizes.reduce((s, v) => s + v, 0) + gap * (c.members.length - 1);
+    // the packed members' mean centre at the members' mean centre
+    let acc = 0;
+    const rel = sizes.map((w) => { const r = acc + w / 2; acc += w + gap; return r; });
+    const relMean = rel.reduce((s, v) => s + v, 0) / rel.length;
+    c.lo = mean - relMean;
+  };
+  for (const i of idx) {
+    const c: Cluster = { members: [i], lo: 0, size: 0 };
+    place(c);
+    clusters.push(c);
+    while (clusters.length > 1) {
+      const b = clusters[clusters.length - 1], a = clusters[clusters.length - 2];
+      if (a.lo + a.size + gap <= b.lo + 1e-9) break;
+      clusters.pop();
+      a.members.push(...b.members);
+      place(a);
+    }
   }
-  pts.push({ y: yEnd, x: 0, z: 0 });
-  return { points: pts, endsInStop, fromEngine: false };
+  for (const c of clusters) {
+    if (c.members.length === 1) continue;
+    let y = c.lo;
+    for (const i of c.members) {
+      out[i] = y + items[i].half - items[i].centre;
+      y += 2 * items[i].half + gap;
+    }
+  }
+  return out;
+}
+
+/**
+ * Tiers for labels along one line: each label (its wanted left edge and width, px) goes into the first tier where it
+ * clears the last label by `gap`, in order of x; a new tier otherwise. Returns the tier of each label.
+ */
+export function labelTiers(items: readonly { left: number; width: number }[], gap: number): number[] {
+  const idx = items.map((_, i) => i).sort((a, b) => items[a].left - items[b].left || a - b);
+  const ends: number[] = [];
+  const tier = new Array<number>(items.length).fill(0);
+  for (const i of idx) {
+    const { left, width } = items[i];
+    let t = ends.findIndex((e) => e + gap <= left);
+    if (t < 0) t = ends.push(left + width) - 1;
+    else ends[t] = left + width;
+    tier[i] = t;
+  }
+  return tier;
+}
+
+/**
+ * A magnet's axis as its end view shows it (looking along the beam, z up, x right): the roll of its projection across
+ * the beam (deg, from z toward x), the length of that projection (1 for a transverse axis), and the angle out of the
+ * transverse plane toward +y (deg; 0 for a transverse axis).
+ */
+export function axisDial(n: { x: number; y: number; z: number }): { roll: number; across: number; tilt: number } {
+  const across = Math.hypot(n.x, n.z);
+  const roll = across > 1e-12 ? (Math.atan2(n.x, n.z) * 180) / Math.PI : 0;
+  const tilt = (Math.atan2(n.y, across) * 180) / Math.PI;
+  return { roll, across, tilt };
 }
 
 /** The scale bar for a drawing `span` m wide: the largest 1, 2 or 5 × 10ⁿ m not above a fifth of it. */
