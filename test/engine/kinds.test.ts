@@ -1,8 +1,8 @@
 /**
  * Element kinds as modules: every kind has a reader module (src/beamline/elements) and an engine step
  * (src/engine/steps), the routing rule and the length are each kind module's own, and a kind defined here in
- * the test (a drift pipe, registered in both registries for this file only) flows through reading, running
- * and writing like the kinds of the format.
+ * the test (a drift pipe, defined by its key table and registered in both registries for this file only) flows
+ * through reading, running, writing, the inspector's fields and the setup sheet's rows like the kinds of the format.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { KINDS, KIND_NAMES, lengthOf, outputsOf, type KindModule } from '../../src/beamline/elements/registry.ts';
@@ -14,6 +14,8 @@ import { drift } from '../../src/engine/propagate.ts';
 import { STEPS } from '../../src/engine/steps/index.ts';
 import type { Step } from '../../src/engine/steps/step.ts';
 import { completedBeamKeys, DESIGN_V1 } from '../beamline/examples.ts';
+import { elementFields } from '../../src/app/fields.ts';
+import { buildSheet } from '../../src/sheet/model.ts';
 
 function line(doc: Record<string, unknown>): Beamline {
   const r = validateBeamline(doc);
@@ -91,7 +93,8 @@ interface Pipe { id: string; kind: 'pipe'; gap: number; path: string; length: nu
 const pipe: KindModule<Element> = defineKind<Element>({
   kind: 'pipe' as ElementKind,
   table: [
-    { key: 'length', shape: { type: 'quantity', dim: 'length', nonNegative: true, what: 'the length' }, label: 'pipe length' },
+    { key: 'length', shape: { type: 'quantity', dim: 'length', nonNegative: true, fallback: 0.1, what: 'the length' }, label: 'pipe length',
+      defaultText: '10 cm', sheetDefault: true },
     { key: 'to', shape: { type: 'target', what: 'a pipe' }, label: 'output' },
   ],
   length: (e) => (e as unknown as Pipe).length,
@@ -99,7 +102,7 @@ const pipe: KindModule<Element> = defineKind<Element>({
 });
 const pipeStep: Step = { run: (ctx, e, s) => drift(ctx, s, (e as unknown as Pipe).length) };
 
-describe('a kind defined in a test fixture flows through reading, running and writing', () => {
+describe('a kind defined by a key table in a test fixture flows through reading, running, writing, the inspector and the sheet', () => {
   const kinds = KINDS as Record<string, KindModule<Element>>;
   const steps = STEPS as unknown as Record<string, Step>;
   beforeAll(() => {
@@ -163,5 +166,33 @@ describe('a kind defined in a test fixture flows through reading, running and wr
     const omega = (2.00231930436 * MU_B * b) / HBAR;
     const t = 0.3 / 600;
     expect(r1.detectors.find((d) => d.id === 'D1')!.yield).toBeCloseTo(Math.cos((omega * t) / 2) ** 2, 9);
+  });
+  it('leaves its length out: the table\'s default is read, placed and printed on the sheet as the value the run used', () => {
+    const text = withPipe('0 T').replace('"length": "25 cm", ', '');
+    const r = parseBeamlineText(text);
+    if (!r.ok) throw new Error(r.problems.map((p) => `${p.path}: ${p.message}`).join('\n'));
+    expect((r.line.elements[0] as unknown as Pipe).length).toBe(0.1);
+    const run = runLine(r.line);
+    expect(run.positions!.P1.exit).toBeCloseTo(0.15, 15);
+    const sheet = buildSheet(r.doc, r.line, run);
+    const p1 = sheet.elements.find((e) => e.id === 'P1')!;
+    expect(p1.setPoints).toEqual([{ name: 'gap', value: '5 cm' }, { name: 'length', value: '100 mm', default: true }]);
+  });
+
+  it('gives the inspector its fields from its table (the gap, then the length with its default shown) and the sheet its rows as written', () => {
+    const el = { to: 'M1', length: '25 cm', kind: 'pipe', id: 'P1', gap: '5 cm' };
+    expect(elementFields(el, false)).toEqual([
+      { type: 'quantity', key: 'gap', label: 'gap before', dim: 'length', optional: true, placeholder: '0 m' },
+      { type: 'quantity', key: 'length', label: 'pipe length', dim: 'length', optional: true, placeholder: '10 cm' },
+    ]);
+    const r = parseBeamlineText(withPipe('0 T'));
+    if (!r.ok) throw new Error('not read');
+    const sheet = buildSheet(r.doc, r.line, runLine(r.line));
+    const p1 = sheet.elements.find((e) => e.id === 'P1')!;
+    expect(p1.kind).toBe('pipe');
+    expect(p1.setPoints).toEqual([{ name: 'gap', value: '5 cm' }, { name: 'length', value: '25 cm' }]);
+    expect(p1.routes).toEqual([{ port: '', target: 'M1' }]);
+    expect(p1.entranceCm).toBeCloseTo(5, 12);
+    expect(p1.exitCm).toBeCloseTo(30, 12);
   });
 });
