@@ -1,6 +1,7 @@
 /** `spinyard budget FILE [--draws N] [--seed S] [--json] [-o OUT]`: the tolerance budget of a line (src/engine/budget.ts). */
 import { budget, compile, RunError, type BudgetResult } from '../engine/index.ts';
 import { alignTable, formatNumber } from './format.ts';
+import { formatColumn } from '../beamline/numbers.ts';
 import { outputProblem, problemsOut, wholeOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 
@@ -12,7 +13,6 @@ export const BUDGET_OPTIONS = [
 ] as const;
 
 const err = (m: string) => bad(`spinyard budget: ${m}`, 'Run "spinyard budget --help" for its use.');
-const pct = (x: number) => `${formatNumber(x * 100, 2)} %`;
 
 function shown(v: number, t: { unit: string; factor: number }, sig = 4): string {
   const x = formatNumber(v / t.factor, sig);
@@ -27,23 +27,39 @@ export function budgetText(b: BudgetResult, file: string): string {
     trows.push([t.name, shown(t.value, t, 6), `±${shown(t.halfWidth, t)} ${t.distribution}${t.distribution === 'normal' ? ' (1σ)' : ''}`, shown(t.sigma, t, 3), t.error ? 'none: see the warnings' : t.method!]);
   }
   out.push(alignTable(trows, [false, true, false, true, false]).split('\n').map((l) => `  ${l}`).join('\n'), '', 'Detectors');
+  // the numbers by the one rule per column (src/beamline/numbers.ts): one count of figures and one notation down
+  // each column (no 275000 beside 4.34e7); a derivative no finer than its stated error
   const drows = [['detector', 'signal (/s)', 'first-order σ (/s)', 'Monte Carlo mean ± σ (/s)', '5 % … 95 % (/s)']];
-  for (const d of b.detectors) {
+  const ds = b.detectors;
+  const nominal = formatColumn(ds.map((d) => d.nominal), { figures: 4 });
+  const linear = formatColumn(ds.map((d) => d.linearSigma), { figures: 3 });
+  const linearPct = formatColumn(ds.map((d) => (d.nominal > 0 ? (d.linearSigma / d.nominal) * 100 : undefined)), { figures: 2 });
+  const mcMean = formatColumn(ds.map((d) => d.monteCarlo?.mean), { figures: 4 });
+  const mcSigma = formatColumn(ds.map((d) => d.monteCarlo?.sigma), { figures: 3 });
+  const quantiles = formatColumn(ds.flatMap((d) => [d.monteCarlo?.q05, d.monteCarlo?.q95]), { figures: 4 });
+  ds.forEach((d, i) => {
     const mc = d.monteCarlo;
-    drows.push([d.id, formatNumber(d.nominal, 4), `${formatNumber(d.linearSigma, 3)}${d.nominal > 0 ? ` (${pct(d.linearSigma / d.nominal)})` : ''}`,
-      mc ? `${formatNumber(mc.mean, 4)} ± ${formatNumber(mc.sigma, 3)}${d.nonlinear ? ' (not linear)' : ''}` : '-', mc ? `${formatNumber(mc.q05, 4)} … ${formatNumber(mc.q95, 4)}` : '-']);
-  }
+    drows.push([d.id, nominal[i], `${linear[i]}${d.nominal > 0 ? ` (${linearPct[i]} %)` : ''}`,
+      mc ? `${mcMean[i]} ± ${mcSigma[i]}${d.nonlinear ? ' (not linear)' : ''}` : '-', mc ? `${quantiles[2 * i]} … ${quantiles[2 * i + 1]}` : '-']);
+  });
   out.push(alignTable(drows, [false, true, true, true, true]).split('\n').map((l) => `  ${l}`).join('\n'), '');
   out.push('Which tolerance moves which detector most (first order, largest relative effect first)');
   const byName = new Map(b.tolerances.map((t) => [t.name, t]));
   const rrows = [['detector', 'tolerance', '∂S/∂p', 'σ of S (/s)', 'of S', 'share']];
   const moving = b.ranking.filter((r) => r.effect > 0);
-  for (const r of moving.slice(0, 20)) {
+  const shownRanks = moving.slice(0, 20).map((r) => {
     const t = byName.get(r.tolerance)!;
-    const s = t.sensitivities!.find((x) => x.detector === r.detector)!;
+    return { r, t, s: t.sensitivities!.find((x) => x.detector === r.detector)! };
+  });
+  const derivative = formatColumn(shownRanks.map((x) => x.s.derivative * x.t.factor), shownRanks.map((x) => ({ figures: 4, error: x.s.error * x.t.factor })));
+  const derivativeError = formatColumn(shownRanks.map((x) => x.s.error * x.t.factor), { figures: 2 });
+  const effect = formatColumn(shownRanks.map((x) => x.r.effect), { figures: 3 });
+  const relative = formatColumn(shownRanks.map((x) => x.r.relative * 100), { figures: 2 });
+  const share = formatColumn(shownRanks.map((x) => x.r.share * 100), { figures: 2 });
+  shownRanks.forEach(({ r, t }, i) => {
     const per = t.unit ? ` /s per ${t.unit}` : ' /s';
-    rrows.push([r.detector, r.tolerance, `${formatNumber(s.derivative * t.factor, 4)} ± ${formatNumber(s.error * t.factor, 2)}${per}`, formatNumber(r.effect, 3), pct(r.relative), pct(r.share)]);
-  }
+    rrows.push([r.detector, r.tolerance, `${derivative[i]} ± ${derivativeError[i]}${per}`, effect[i], `${relative[i]} %`, `${share[i]} %`]);
+  });
   out.push(alignTable(rrows, [false, false, true, true, true, true]).split('\n').map((l) => `  ${l}`).join('\n'));
   if (moving.length > 20) out.push(`  … ${moving.length - 20} more in --json`);
   if (moving.length < b.ranking.length) out.push(`  (${b.ranking.length - moving.length} pairs where the tolerance does not move the detector's signal are left out)`);

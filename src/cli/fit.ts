@@ -11,6 +11,7 @@ import { compile, parameter, parameterValue, RunError, type Plan } from '../engi
 import { fit, type FitResult, type FreeParameter } from '../engine/fit.ts';
 import { readMeasurements } from '../engine/measurements.ts';
 import { alignTable, formatNumber } from './format.ts';
+import { formatColumn } from '../beamline/numbers.ts';
 import { problemsOut } from './common.ts';
 import { isSameFile } from './output.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
@@ -100,7 +101,9 @@ export function fitText(f: FitResult, file: string, data: string): string {
     out.push(`the readings determine ${dm.determined} of the ${dm.parameters} real parameters of ρ`, '');
   } else if (f.state) {
     const rows = [['oven state', 'population', '± σ']];
-    f.state.labels.forEach((l, i) => rows.push([`${l} (along ${f.state!.axis})`, formatNumber(f.state!.populations[i], 5), f.state!.sigma[i] === null ? '-' : formatNumber(f.state!.sigma[i]!, 2)]));
+    const pops = formatColumn(f.state.populations, { figures: 5 });
+    const sigmas = formatColumn(f.state.sigma.map((x) => (x === null ? undefined : x)), { figures: 2 }, { blank: '-' });
+    f.state.labels.forEach((l, i) => rows.push([`${l} (along ${f.state!.axis})`, pops[i], sigmas[i]]));
     out.push(alignTable(rows, [false, true, true]), '');
   }
   if (f.coordinates.length > 1) {
@@ -112,7 +115,11 @@ export function fitText(f: FitResult, file: string, data: string): string {
   out.push(`Goodness of fit: deviance ${formatNumber(f.deviance, 5)} on ${f.degreesOfFreedom} degrees of freedom${f.pValue !== undefined ? `, p = ${formatNumber(f.pValue, 3)}` : ''}`);
   out.push(`${f.converged ? 'Converged' : 'Not converged'} in ${f.iterations} iterations.`, '', 'Residuals (Pearson (n − μ)/√μ and deviance)');
   const rows = [['line', 'detector', 'counts', 'expected', 'Pearson', 'deviance']];
-  for (const r of f.residuals) rows.push([String(r.line), r.detector, String(r.counts), formatNumber(r.expected, 7), formatNumber(r.pearson, 3), formatNumber(r.deviance, 3)]);
+  // by the one rule per column (src/beamline/numbers.ts): one count of figures and one notation down each column
+  const expected = formatColumn(f.residuals.map((r) => r.expected), { figures: 7 });
+  const pearson = formatColumn(f.residuals.map((r) => r.pearson), { figures: 3 });
+  const deviance = formatColumn(f.residuals.map((r) => r.deviance), { figures: 3 });
+  f.residuals.forEach((r, i) => rows.push([String(r.line), r.detector, String(r.counts), expected[i], pearson[i], deviance[i]]));
   out.push(alignTable(rows, [true, false, true, true, true, true]), '', `Method: ${f.method}.`);
   if (f.warnings.length) out.push('', 'Warnings', ...f.warnings.map((w) => `  - ${w}`));
   return `${out.join('\n')}\n`;

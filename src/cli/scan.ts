@@ -6,7 +6,7 @@
 import { compile, parameter, parameterValue, scan, scanCsv, type Plan, type ScanAxis, type ScanResult } from '../engine/index.ts';
 import { RunError } from '../engine/index.ts';
 import { DISPLAY_UNITS } from '../beamline/index.ts';
-import { isRoundOff } from '../beamline/numbers.ts';
+import { FIGURES, ROUND_OFF, formatColumn, formatCountsColumn, isRoundOff } from '../beamline/numbers.ts';
 import { alignTable, formatNumber } from './format.ts';
 import { availableParallelism } from 'node:os';
 import { outputProblem, problemsOut } from './common.ts';
@@ -44,16 +44,18 @@ export function scanText(r: ScanResult, file: string): string {
   out.push(`  as set in the document: ${r.parameters.map((p) => `${p.name} = ${shown(p.present, p)}`).join(', ')}`, '');
   const head = r.parameters.map((p) => (p.unit ? `${p.name} (${p.unit})` : p.name));
   for (const d of r.detectors) head.push(`${d} yield`, `${d} counts ± σ`);
-  const rows = [head];
-  for (const p of r.points) {
-    const row = p.values.map((v, k) => formatNumber(v / r.parameters[k].factor, 6));
-    for (const id of r.detectors) {
-      const d = p.detectors?.find((x) => x.id === id);
-      // a yield below the engine's round-off (1e-12 of the flux) is 0, as in every table (src/beamline/numbers.ts)
-      row.push(d ? formatNumber(isRoundOff(d.yield) ? 0 : d.yield, 6) : '-', d ? `${formatNumber(d.counts, 4)} ± ${formatNumber(d.sigma, 3)}` : p.error ? 'no result' : '-');
-    }
-    rows.push(row);
+  // the numbers by the one rule per column (src/beamline/numbers.ts): each parameter's values to 6 figures in one
+  // notation, each detector's yields to 6 figures with round-off (below 1e-12 of the flux) as 0, its counts ± σ
+  // with σ to 2 figures and the counts to σ's place, one notation down the column
+  const columns: string[][] = r.parameters.map((par, k) => formatColumn(r.points.map((p) => p.values[k] / par.factor), { figures: 6 }));
+  for (const id of r.detectors) {
+    const ds = r.points.map((p) => p.detectors?.find((x) => x.id === id));
+    columns.push(
+      formatColumn(ds.map((d) => (d ? (isRoundOff(d.yield) ? 0 : d.yield) : undefined)), { figures: FIGURES.yield, floor: ROUND_OFF }, { blank: '-' }),
+      formatCountsColumn(ds.map((d) => (d ? { counts: d.counts, sigma: d.sigma } : undefined)), { blank: '-' }).map((c, i) => (ds[i] === undefined && r.points[i].error ? 'no result' : c)),
+    );
   }
+  const rows = [head, ...r.points.map((_, i) => columns.map((c) => c[i]))];
   out.push(alignTable(rows, head.map(() => true)));
   const errors = new Map<string, number>();
   for (const p of r.points) if (p.error) errors.set(p.error, (errors.get(p.error) ?? 0) + 1);

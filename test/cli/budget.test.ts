@@ -12,6 +12,8 @@ describe('spinyard budget FILE', () => {
     expect(out.code).toBe(0);
     expect(out.stdout).toMatch(/M2\.axis\.roll\s+30 deg\s+±0\.5 deg uniform\s+0\.289 deg\s+central/);
     expect(out.stdout).toMatch(/^\s+D1\s+8\.397e8\s+4\.34e7 \(5\.2 %\)/m);
+    // one notation down a column: D2's first-order σ is 2.75e5 beside D1's 4.34e7, never 275000
+    expect(out.stdout).toMatch(/^\s+D2\s+4\.039e6\s+2\.75e5 \(6\.8 %\)/m);
     expect(out.stdout).toMatch(/Which tolerance moves which detector most/);
     expect(out.stdout).toMatch(/Monte Carlo: 200 draws, seed 1\./);
   });

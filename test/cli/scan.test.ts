@@ -26,8 +26,11 @@ describe('spinyard scan FILE', () => {
     expect(lines[2]).toBe('  as set in the document: M2.axis.roll = 30 deg');
     const head = lines.findIndex((l) => l.trimStart().startsWith('M2.axis.roll (deg)'));
     expect(lines[head]).toMatch(/D1 yield\s+D1 counts ± σ\s+D2 yield/);
-    // 90°: D1 = ½·cos²(45°) = 0.25; counts (2e9·0.9·0.25 + 5 /s)·10 s = 4.5e9, σ = √N
-    expect(lines[head + 3]).toMatch(/^\s+90\s+0\.25\s+4\.5e9 ± 67100\s/);
+    // 90°: D1 = ½·cos²(45°) = 0.25; counts (2e9·0.9·0.25 + 5 /s)·10 s = 4.5e9 + 50, σ = √N = 6.7e4 to 2 figures,
+    // the counts to σ's place (1e3)
+    expect(lines[head + 3]).toMatch(/^\s+90\s+0\.25\s+4\.500000e9 ± 6\.7e4\s/);
+    // one notation per column: D1's background-only 50 counts at 180° are written with an exponent beside 9e9
+    expect(lines[head + 5]).toMatch(/^\s+180\s+0\s+5\.00e1 ± 7\.1e0\s+0\.5\s+9\.000000e9 ± 9\.5e4\s/);
   });
 
   it('gives JSON (spinyard.scan) and CSV', () => {
@@ -137,7 +140,8 @@ describe('spinyard scan numbers', () => {
   it('shows a yield below the engine\'s round-off as 0 (bench C\'s D1 at 180°: cos²(90°) of a binary π/2)', () => {
     const out = runCli(['scan', C, '--param', 'M2.axis.roll', '--from', '180 deg', '--to', '180 deg', '--points', '1']);
     const row = out.stdout.split('\n').find((l) => /^\s+180\s/.test(l))!;
-    expect(row).toMatch(/^\s+180\s+0\s+50 ± 7\.07\s+0\.5\s/);
+    // alone in its column, 50 ± √50 is written plainly: σ to 2 figures, the counts to its place
+    expect(row).toMatch(/^\s+180\s+0\s+50\.0 ± 7\.1\s+0\.5\s/);
     // the JSON keeps the number the engine computed
     const j = JSON.parse(runCli(['scan', C, '--param', 'M2.axis.roll', '--from', '180 deg', '--to', '180 deg', '--points', '1', '--json']).stdout);
     expect(j.points[0].detectors[0].yield).toBeLessThan(1e-12);
