@@ -358,17 +358,34 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
       }
       ctl.push({ y: p.y0, v, row }, { y: p.y1, v, row });
     }
-    return (y: number, row: number) => {
+    const at = (y: number, row: number) => {
       const c = ctl.filter((q) => q.row === row);
       if (c.length === 0) return 0;
       return centreLineAt(c.map((q) => ({ y: q.y, x: q.v, z: q.v })), y).x;
     };
+    return { at, ctl };
   });
-  // the beams' offsets across the beam (px, up) with their slots, per row
-  const drawn = traces.map((t, i) => t.points.map((p, j) => {
-    const row = rowOf.get(t.at[j]) ?? 0;
-    return { y: p.y, row, t: T(sideOf(which, p)), s: offsetFns[i](p.y, row), id: t.at[j] };
-  }));
+  // the beams' offsets across the beam (px, up) with their slots, per row; a vertex where a fan begins or ends (the
+  // centre line is straight between the trace's vertices, so a vertex added between two is on it)
+  const drawn = traces.map((t, i) => {
+    const out: { y: number; row: number; t: number; s: number; id: string }[] = [];
+    const add = (y: number, q: { x: number; z: number }, id: string) => {
+      const row = rowOf.get(id) ?? 0;
+      out.push({ y, row, t: T(sideOf(which, q)), s: offsetFns[i].at(y, row), id });
+    };
+    t.points.forEach((p, j) => {
+      if (j > 0) {
+        const a = t.points[j - 1], row = rowOf.get(t.at[j]) ?? 0;
+        const inner = offsetFns[i].ctl.filter((c) => c.row === row && c.y > a.y + 1e-12 && c.y < p.y - 1e-12).map((c) => c.y);
+        for (const y of [...new Set(inner)].sort((u, v) => u - v)) {
+          const f = (y - a.y) / (p.y - a.y);
+          add(y, { x: a.x + f * (p.x - a.x), z: a.z + f * (p.z - a.z) }, t.at[j]);
+        }
+      }
+      add(p.y, p, t.at[j]);
+    });
+    return out;
+  });
   // a magnet without a pole gap given is drawn clear of the beams through it
   for (const p of placed.values()) {
     if (p.element.kind !== 'magnet' || p.element.aperture) continue;
