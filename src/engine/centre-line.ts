@@ -106,17 +106,25 @@ function modelOf(g: FineGeo): CentreModel {
   if (ns === NO_NODES || ns.count === 0 || !ns.x || !ns.z) return { geo: g, x: null, z: null, m2: 0 };
   const ax = ns.x, az = ns.z;
   const mx: AxisMean = { ax, p: 0, q: 0 }, mz: AxisMean = { ax: az, p: 0, q: 0 };
+  // a fixed axis has one polygon for every node: its means once
+  const fx = ax.fixed ? axisMeans(ax, 0) : null, fz = az.fixed ? axisMeans(az, 0) : null;
   let tSum = 0;
   for (let j = 0; j < ns.count; j++) {
     const t = ns.w[j] * ax.tr[ax.fixed ? 0 : j] * az.tr[az.fixed ? 0 : j];
     if (t === 0) continue;
     tSum += t;
-    const [px, qx] = axisMeans(ax, j), [pz, qz] = axisMeans(az, j);
-    mx.p += t * px; mx.q += t * qx;
-    mz.p += t * pz; mz.q += t * qz;
+    if (!fx) {
+      const [px, qx] = axisMeans(ax, j);
+      mx.p += t * px; mx.q += t * qx;
+    }
+    if (!fz) {
+      const [pz, qz] = axisMeans(az, j);
+      mz.p += t * pz; mz.q += t * qz;
+    }
   }
   if (!(tSum > 0)) return { geo: g, x: null, z: null, m2: 0 };
-  mx.p /= tSum; mx.q /= tSum; mz.p /= tSum; mz.q /= tSum;
+  if (fx) { mx.p = fx[0]; mx.q = fx[1]; } else { mx.p /= tSum; mx.q /= tSum; }
+  if (fz) { mz.p = fz[0]; mz.q = fz[1]; } else { mz.p /= tSum; mz.q /= tSum; }
   const plane = g.fine.plane;
   const c = kicksAt(g.fine.track.kicks, plane);
   const cc = c.x * c.x + c.z * c.z;
@@ -180,4 +188,15 @@ export function leafCentreLine(gs: readonly FineGeo[], plane: number, w: number)
     }
     return { y, x: x / w, z: z / w };
   });
+}
+
+/** A leaf's centre line at any plane y (as leafCentreLine, without its stations). */
+export function leafCentreAt(gs: readonly FineGeo[], w: number, y: number): { x: number; z: number } {
+  let x = 0, z = 0;
+  for (const g of gs) {
+    const c = centreAt(g, y);
+    x += g.yieldGeo * c.x;
+    z += g.yieldGeo * c.z;
+  }
+  return { x: x / w, z: z / w };
 }
