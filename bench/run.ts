@@ -9,7 +9,12 @@
  *                            the engine's heap over N evaluations of one compiled line with a changed parameter
  * `npm run bench -- w3 [--json OUT] [--no-peers]`
  *                            workload W3 of ../shared/peers (10⁶ silver atoms, simulate) beside its NumPy peer
- * `npm run bench -- planning` (or plan) scans, budgets, fits and simulated runs on the samples; a scan in 1 and 2 worker threads
+ * `npm run bench -- w2 [--json OUT] [--no-peers]`
+ *                            workload W2 of ../shared/peers (W1's line, a 100 × 100 map over the field and M2's roll)
+ *                            by the engine's 2-D scan beside its NumPy peer
+ * `npm run bench -- planning [--quick]` (or plan) scans, maps, budgets, fits (a spin-1 state among them) and simulated
+ *                            runs on the samples; a scan in 1 and 2 worker threads; --quick leaves out bench H's map and
+ *                            its budget of 10⁴ draws
  * `npm run bench -- startup` cold starts: `spinyard --help`, `spinyard run`, the app's load to its first result
  * Figures go into docs/bench.md by hand, with the machine they were taken on.
  */
@@ -252,9 +257,19 @@ async function main(): Promise<void> {
     console.log(benchW3(peersDir, j >= 0 ? args[j + 1] : null, !args.includes('--no-peers')));
     return;
   }
+  if (args[0] === 'w2') {
+    if (!existsSync(join(peersDir, 'w2-expected.json'))) {
+      console.log(`W2 not run: it needs the shared performance peers (w1.spinyard, w2-expected.json and the NumPy peer) in ${peersDir}, which this machine does not have`);
+      return;
+    }
+    const j = args.indexOf('--json');
+    const { benchW2 } = await import('./w2.ts');
+    console.log(benchW2(peersDir, j >= 0 ? args[j + 1] : null, !args.includes('--no-peers')));
+    return;
+  }
   if (args[0] === 'planning' || args[0] === 'plan') {
     const { benchPlanning } = await import('./planning.ts');
-    console.log(benchPlanning(root));
+    console.log(benchPlanning(root, args.includes('--quick')));
     return;
   }
   if (args[0] === 'ui') {

@@ -244,7 +244,7 @@ describe('the density state in the document (src/beamline/oven.ts, src/engine/so
   it('runs as the same ρ written as populations where it is diagonal, and follows its axis', () => {
     const diag = { kind: 'density', axis: { theta: '40 deg', phi: '10 deg' }, basis: ['-1', '+1', '0'], re: [[0.2, 0, 0], [0, 0.5, 0], [0, 0, 0.3]] };
     const pops = { kind: 'populations', axis: { theta: '40 deg', phi: '10 deg' }, p: { '+1': 0.5, '0': 0.3, '-1': 0.2 } };
-    for (const setting of [{ 'M1.axis.theta': 0 }, { 'M1.axis.theta': 1.1, 'M1.axis.phi': 0.3 }]) {
+    for (const setting of [{ 'M1.axis.theta': 0 }, { 'M1.axis.theta': 1.1, 'M1.axis.phi': 0.3 }] as Record<string, number>[]) {
       const a = evaluate(planOf(spin1Doc(diag)), setting).detectors.map((d) => d.rate);
       const b = evaluate(planOf(spin1Doc(pops)), setting).detectors.map((d) => d.rate);
       a.forEach((x, i) => expect(x).toBeCloseTo(b[i], 9));
@@ -257,7 +257,7 @@ describe('the density state in the document (src/beamline/oven.ts, src/engine/so
     [0, 1, 2].forEach((a) => expect(z[a]).toBeCloseTo(truth.re[a * 4], 12));
     // spin ½ along x: P(+½_x) = ½ + Re ρ(+½, −½)
     const half = { ...spin1Doc({ kind: 'density', axis: { theta: '0 deg', phi: '0 deg' }, basis: ['+1/2', '-1/2'], re: [[0.7, 0.2], [0.2, 0.3]], im: [[0, -0.1], [0.1, 0]] }), species: { spin: '1/2', g: 2, mass: '1 u' } };
-    (half.elements as { ports?: Record<string, string> }[])[0].ports = { '+1/2': 'D1', '-1/2': 'D2' };
+    ((half as Record<string, unknown>).elements as { ports?: Record<string, string> }[])[0].ports = { '+1/2': 'D1', '-1/2': 'D2' };
     const h = planOf(half);
     expect(evaluate(h, { 'M1.axis.theta': Math.PI / 2, 'M1.axis.phi': 0 }).detectors[0].rate / 2e4).toBeCloseTo(0.5 + 0.2, 12);
     // along y: P(+½_y) = ½ − Im ρ(+½, −½)
