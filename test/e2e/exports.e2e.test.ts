@@ -89,6 +89,25 @@ describe('exports', () => {
     expect(rows.some((row) => row[col('displacement z (mm)')] !== '')).toBe(true);
   });
 
+  it('draws bench G\'s two collectors in one detector-plane plot with each sub-beam\'s 90 % band, and one plot of their profiles', async () => {
+    const { page } = app;
+    await page.waitForFunction(() => document.querySelector<HTMLElement>('[data-chart="plane-DL"]')?.dataset.seq !== undefined, undefined, { timeout: 60_000 });
+    await expect(page.locator('[data-chart="plane-DU"]').count()).resolves.toBe(0);
+    await expect(page.locator('[data-chart="profile-DU"]').count()).resolves.toBe(0);
+    const fig = await page.$eval('[data-chart="plane-DL"]', (el) => {
+      const gd = el as unknown as { data: { name: string }[]; layout: { shapes: { type: string; fillcolor?: string; line: { dash?: string } }[] } };
+      return { names: gd.data.map((d) => d.name), shapes: gd.layout.shapes.map((x) => ({ dash: x.line.dash ?? '', filled: (x.fillcolor ?? '').startsWith('rgba(') && !x.fillcolor!.endsWith(',0)') })) };
+    });
+    expect(fig.names).toEqual(['M1:mJ=+1/2', 'M1:mJ=-1/2']);
+    // two bands (filled) and two windows (dotted)
+    expect(fig.shapes.filter((x) => x.filled && x.dash === '')).toHaveLength(2);
+    expect(fig.shapes.filter((x) => x.dash === 'dot')).toHaveLength(2);
+    const profiles = await page.$eval('[data-chart="profile-DL"]', (el) => (el as unknown as { data: { fill: string }[] }).data.map((d) => d.fill));
+    expect(profiles).toEqual(['tozeroy', 'tozeroy']);
+    await page.locator('[data-chart="plane-DL"]').scrollIntoViewIfNeeded();
+    await page.screenshot({ path: screenshotPath('editor/bench-g-detector-plane') });
+  });
+
   it('exports a chart at the chosen size on a light background while the app is dark', async () => {
     const { page } = app;
     await page.locator('button.theme-toggle').click();

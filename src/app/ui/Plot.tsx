@@ -220,12 +220,12 @@ export function Plot({ id, title, data, layout, seq, fileName, height = 260, del
       <figcaption>
         <span id={`${id}-title`}>{title}</span>
         <span className="plot-actions">
-          <select aria-label={`Size of the exported ${title}`} value={size} data-export-size onChange={(e) => {
+          <select aria-label={`Size of the exported ${title}`} title="size of the exported image (px)" value={size} data-export-size style={{ fontSize: 11, maxWidth: '7.5em' }} onChange={(e) => {
             exportSize = e.target.value as ExportSize;
             setSize(exportSize);
           }}>
             {(Object.keys(EXPORT_SIZES) as ExportSize[]).concat('shown').map((k) => (
-              <option key={k} value={k}>{k === 'shown' ? 'as shown' : `${EXPORT_SIZES[k as Exclude<ExportSize, 'shown'>].width} × ${EXPORT_SIZES[k as Exclude<ExportSize, 'shown'>].height}`}</option>
+              <option key={k} value={k}>{k === 'shown' ? 'as shown' : `${EXPORT_SIZES[k as Exclude<ExportSize, 'shown'>].width}×${EXPORT_SIZES[k as Exclude<ExportSize, 'shown'>].height}`}</option>
             ))}
           </select>
           <button type="button" onClick={() => save('png')} aria-label={`Export ${title} as PNG`}>PNG</button>

@@ -3,7 +3,8 @@ import { useId, useMemo } from 'react';
 import type { Beamline } from '../core-adapter.ts';
 import { timeToPrecision } from '../core-adapter.ts';
 import { detectorCells, dwellById, lostCell, portCells, portRows, type RunResultView } from '../results.ts';
-import { AXIS_NUMBERS, fmt, fmtTime } from '../format.ts';
+import { AXIS_NUMBERS, fmt, fmtLength, fmtTime } from '../format.ts';
+import { detectorPlanes } from '../plane-view.ts';
 import { Plot, PLOT_PALETTE } from './Plot.tsx';
 import { LEAF_COLORS } from './Schematic.tsx';
 import type { EngineStatus } from '../engine-client.ts';
@@ -71,68 +72,62 @@ export function Results(p: Props) {
     return { data, layout };
   }, [result, rows, theme]);
 
+  // one plot and one scale per detector plane (plane-view.ts): each sub-beam as the band holding 90 % of its flux
+  // along its profile's axis (± rms across it), the windows dotted; and the profiles themselves, filled
   const planes = useMemo(() => {
     if (!result) return [];
-    return result.detectors.flatMap((d) => {
-      const el = line.elements.find((e) => e.id === d.id);
-      const leaves = result.leaves.map((l, i) => ({ l, i })).filter((x) => x.l.target === d.id);
-      const withGeo = leaves.filter((x) => x.l.displacement || x.l.profile);
-      const win = el && el.kind === 'detector' ? el.window : undefined;
-      if (withGeo.length === 0 && !win) return [];
-      const mm = 1e3;
-      const data: unknown[] = [];
-      const profiles: unknown[] = [];
-      let profileAxis: 'x' | 'z' = 'x';
-      for (const { l, i } of withGeo) {
-        const color = LEAF_COLORS[i % LEAF_COLORS.length];
-        const name = l.path.join(' → ');
-        const pos = l.profile ? l.profile.positions : [];
-        if (l.profile && pos.length > 0) {
-          profileAxis = l.profile.axis;
-          profiles.push({
-            type: 'scatter', mode: 'lines', name, line: { color, width: 1.5, shape: 'hv' },
-            x: pos.map((v) => v * mm), y: l.profile.density.map((dd) => dd / mm),
-            hovertemplate: `${name}<br>%{x:.3f} mm: %{y:.4g} per mm<extra></extra>`,
-          });
-        }
-        if (l.displacement) {
-          data.push({
-            type: 'scatter', mode: 'markers', name, marker: { color, size: 9, symbol: 'x' },
-            x: [l.displacement.x * mm], y: [l.displacement.z * mm],
-            error_x: l.spread ? { type: 'data', array: [l.spread.x * mm], visible: true, color } : undefined,
-            error_y: l.spread ? { type: 'data', array: [l.spread.z * mm], visible: true, color } : undefined,
-            hovertemplate: `${name}<br>x %{x:.3f} mm, z %{y:.3f} mm${l.captured !== undefined ? `<br>captured ${fmt(l.captured, 3)}` : ''}<extra></extra>`,
-          });
-        }
-      }
-      const shapes = win
-        ? [{ type: 'rect', x0: (win.x - win.width / 2) * mm, x1: (win.x + win.width / 2) * mm, y0: (win.z - win.height / 2) * mm, y1: (win.z + win.height / 2) * mm,
-            line: { color: theme.font.color, width: 1.5, dash: 'dot' }, fillcolor: 'rgba(120,140,160,0.08)' }]
-        : [];
+    const mm = 1e3;
+    const fill = (c: string, a: number) => {
+      const m = /^#([0-9a-f]{2})([0-9a-f]{2})([0-9a-f]{2})$/i.exec(c);
+      return m ? `rgba(${parseInt(m[1], 16)},${parseInt(m[2], 16)},${parseInt(m[3], 16)},${a})` : c;
+    };
+    return detectorPlanes(result, line.elements).flatMap((g) => {
+      if (g.beams.length === 0 && g.windows.length === 0) return [];
+      const name = g.detectors.join(', ');
+      const windows = g.windows.map((w) => ({ type: 'rect', x0: w.x0 * mm, x1: w.x1 * mm, y0: w.z0 * mm, y1: w.z1 * mm,
+        line: { color: theme.font.color, width: 1.2, dash: 'dot' }, fillcolor: 'rgba(0,0,0,0)' }));
+      const bands = g.beams.map((b) => {
+        const c = LEAF_COLORS[b.leaf % LEAF_COLORS.length];
+        return { type: 'rect', x0: b.band.x0 * mm, x1: b.band.x1 * mm, y0: b.band.z0 * mm, y1: b.band.z1 * mm, line: { color: c, width: 1 }, fillcolor: fill(c, 0.3), layer: 'below' };
+      });
+      const labels = g.windows.map((w) => ({ x: ((w.x0 + w.x1) / 2) * mm, y: w.z1 * mm, text: w.id, showarrow: false, yanchor: 'bottom', font: { size: 11, color: theme.font.color } }));
+      const across = g.axis === 'z' ? 'x' : 'z';
+      // one invisible point per sub-beam at its mean carries the legend entry and the hover (the band is a shape)
+      const data = g.beams.map((b) => ({
+        type: 'scatter', mode: 'markers', name: b.name, x: [b.mean.x * mm], y: [b.mean.z * mm],
+        marker: { color: LEAF_COLORS[b.leaf % LEAF_COLORS.length], size: 6, symbol: 'line-ew-open' },
+        hovertemplate: `${b.name} → ${b.target}<br>mean x %{x:.3f} mm, z %{y:.3f} mm<br>90 % of the flux in ${g.axis} ${fmt(b.band[`${g.axis}0`] * mm, 3)} … ${fmt(b.band[`${g.axis}1`] * mm, 3)} mm`
+          + `${b.spread ? `<br>rms ${across} ${fmt(b.spread[across] * mm, 3)} mm` : ''}${b.captured !== undefined ? `<br>captured ${fmt(b.captured, 3)}` : ''}<extra></extra>`,
+      }));
       const layout = {
-        ...theme, shapes, showlegend: true, legend: { orientation: 'h', y: -0.25 },
+        ...theme, shapes: [...bands, ...windows], annotations: labels, showlegend: true, legend: { orientation: 'h', y: -0.25 },
         xaxis: { ...theme.xaxis, title: { text: 'x (mm)' }, zeroline: true },
         yaxis: { ...theme.yaxis, title: { text: 'z (mm)' }, zeroline: true, scaleanchor: 'x' },
       };
-      const verdicts = (d.neighbours ?? []).map((n) => `${n.a} / ${n.b}: ${n.verdict} along ${n.axis} (separation ${fmt(n.separation * mm, 3)} mm, overlap ${fmt(n.overlap, 2)})`);
-      const note = withGeo.length === 0 ? 'the engine reports no sub-beam positions for this line' : verdicts.join(' · ') || undefined;
-      const edges = win
-        ? (profileAxis === 'x' ? [win.x - win.width / 2, win.x + win.width / 2] : [win.z - win.height / 2, win.z + win.height / 2]).map((e) => ({
-            type: 'line', x0: e * mm, x1: e * mm, yref: 'paper', y0: 0, y1: 1, line: { color: theme.font.color, width: 1.2, dash: 'dot' },
-          }))
-        : [];
-      const profile = profiles.length > 0
+      const verdicts = g.verdicts.map((n) => `${n.a} / ${n.b}: ${n.verdict} along ${n.axis} (separation ${fmt(n.separation * mm, 3)} mm, overlap ${fmt(n.overlap, 2)})`);
+      const note = g.beams.length === 0 ? 'the engine reports no sub-beam positions for this line' : verdicts.join(' · ') || undefined;
+      const profiled = g.beams.filter((b) => b.profile && b.profile.axis === g.axis);
+      const edges = g.windows.map((w) => ({ type: 'rect', xref: 'x', yref: 'paper', x0: (g.axis === 'x' ? w.x0 : w.z0) * mm, x1: (g.axis === 'x' ? w.x1 : w.z1) * mm, y0: 0, y1: 1,
+        line: { color: theme.font.color, width: 1, dash: 'dot' }, fillcolor: 'rgba(120,140,160,0.10)', layer: 'below' }));
+      const edgeLabels = g.windows.map((w) => ({ x: ((g.axis === 'x' ? w.x0 + w.x1 : w.z0 + w.z1) / 2) * mm, yref: 'paper', y: 1, text: w.id, showarrow: false, yanchor: 'bottom', font: { size: 11, color: theme.font.color } }));
+      const profile = profiled.length > 0
         ? {
-            data: profiles,
+            data: profiled.map((b) => {
+              const c = LEAF_COLORS[b.leaf % LEAF_COLORS.length];
+              return { type: 'scatter', mode: 'lines', name: b.name, line: { color: c, width: 1.5, shape: 'hv' }, fill: 'tozeroy', fillcolor: fill(c, 0.25),
+                x: b.profile!.positions.map((v) => v * mm), y: b.profile!.density.map((dd) => dd / mm),
+                hovertemplate: `${b.name}<br>%{x:.3f} mm: %{y:.4g} per mm<extra></extra>` };
+            }),
             layout: {
-              ...theme, shapes: edges, showlegend: true, legend: { orientation: 'h', y: -0.3 },
-              xaxis: { ...theme.xaxis, title: { text: `${profileAxis} (mm)` } },
+              ...theme, shapes: edges, annotations: edgeLabels, showlegend: true, legend: { orientation: 'h', y: -0.3 }, margin: { ...theme.margin, t: 22 },
+              xaxis: { ...theme.xaxis, title: { text: `${g.axis} (mm)` } },
               yaxis: { ...theme.yaxis, title: { text: 'fraction of the oven flux per mm (/mm)' }, rangemode: 'tozero' },
             },
-            axis: profileAxis,
           }
         : undefined;
-      return [{ id: d.id, data, layout, note, profile }];
+      const key = g.detectors[0];
+      const where = g.plane !== undefined ? ` at ${fmtLength(g.plane)}` : '';
+      return [{ key, name, where, axis: g.axis, data, layout, note, profile }];
     });
   }, [result, line, theme]);
 
@@ -229,15 +224,15 @@ export function Results(p: Props) {
           <div className="plots">
             {counts && <Plot id="counts" title="Expected counts per leaf (±√N)" data={counts.data} layout={counts.layout} seq={seq} fileName="counts-per-leaf" height={300} />}
             {planes.map((pl) => (
-              <div key={pl.id}>
-                <Plot id={`plane-${pl.id}`} title={`Detector plane ${pl.id}: mean position ± rms, window dotted`} data={pl.data} layout={pl.layout} seq={seq}
-                  fileName={`detector-plane-${pl.id}`} height={300} delayMs={40} />
+              <div key={pl.key}>
+                <Plot id={`plane-${pl.key}`} title={`Detector plane${pl.where} (${pl.name}): each sub-beam\u2019s central 90 % along ${pl.axis}, windows dotted`} data={pl.data} layout={pl.layout} seq={seq}
+                  fileName={`detector-plane-${pl.key}`} height={300} delayMs={40} />
                 {pl.note && <p className="note">{pl.note}</p>}
               </div>
             ))}
             {planes.filter((pl) => pl.profile).map((pl) => (
-              <Plot key={`profile-${pl.id}`} id={`profile-${pl.id}`} title={`Profile at ${pl.id} along ${pl.profile!.axis}, window edges dotted`}
-                data={pl.profile!.data} layout={pl.profile!.layout} seq={seq} fileName={`profile-${pl.id}`} delayMs={80} />
+              <Plot key={`profile-${pl.key}`} id={`profile-${pl.key}`} title={`Profiles${pl.where} along ${pl.axis} (${pl.name}), windows shaded`}
+                data={pl.profile!.data} layout={pl.profile!.layout} seq={seq} fileName={`profiles-${pl.key}`} delayMs={80} />
             ))}
             {velocity ? (
               <Plot id="velocity" title="Velocity distribution of the oven" data={velocity.data} layout={velocity.layout} seq={seq} fileName="velocity-distribution" delayMs={120} />
