@@ -3,6 +3,7 @@ import { compile, csvNumber, evaluate, RunError } from '../engine/index.ts';
 import { MAX_ATOMS, simulate, type SimulationResult } from '../engine/simulate.ts';
 import type { RunResult } from '../engine/result.ts';
 import { alignTable, formatDuration, formatNumber } from './format.ts';
+import { formatColumn, formatCountsColumn } from '../beamline/numbers.ts';
 import { outputProblem, problemsOut, wholeOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 
@@ -20,13 +21,19 @@ const err = (m: string) => bad(`spinyard simulate: ${m}`, 'Run "spinyard simulat
 export function simulateText(s: SimulationResult, run: RunResult, file: string): string {
   const out = [`Simulated run of ${s.title || '(untitled)'}  [${file}]`, `  ${s.atoms} atoms drawn (seed ${s.seed}) from an oven flux of ${formatNumber(s.flux, 4)} /s`, ''];
   const rows = [['detector', 'atoms in window', 'signal (/s) simulated', 'engine', 'difference', 'counts in dwell', 'mean x, z (mm)', 'rms x, z (mm)']];
-  for (const d of s.detectors) {
-    const e = run.detectors.find((x) => x.id === d.id);
-    const diff = e && d.signalSigma > 0 ? `${formatNumber((d.signal - e.signal) / d.signalSigma, 2)} σ` : '-';
-    const mm = (v: { x: number; z: number } | undefined) => (v ? `${formatNumber(v.x * 1e3, 3)}, ${formatNumber(v.z * 1e3, 3)}` : '-');
-    rows.push([d.id, String(d.hits), `${formatNumber(d.signal, 4)} ± ${formatNumber(d.signalSigma, 2)}`, e ? formatNumber(e.signal, 4) : '-', diff,
-      `${d.counts} in ${formatDuration(d.dwell)}`, mm(d.mean), mm(d.rms)]);
-  }
+  // by the one rule per column (src/beamline/numbers.ts): the simulated signal ± σ with σ to 2 figures and the
+  // signal to its place, every other column in one count of figures and one notation
+  const ds = s.detectors;
+  const engine = ds.map((d) => run.detectors.find((x) => x.id === d.id));
+  const signal = formatCountsColumn(ds.map((d) => ({ counts: d.signal, sigma: d.signalSigma })));
+  const engineSignal = formatColumn(engine.map((e) => e?.signal), { figures: 4 }, { blank: '-' });
+  const diff = formatColumn(ds.map((d, i) => (engine[i] && d.signalSigma > 0 ? (d.signal - engine[i]!.signal) / d.signalSigma : undefined)), { figures: 2 });
+  const lengths = (f: (d: (typeof ds)[number]) => number | undefined) => formatColumn(ds.map((d) => { const v = f(d); return v === undefined ? undefined : v * 1e3; }), { figures: 3 });
+  const [mx, mz, rx, rz] = [lengths((d) => d.mean?.x), lengths((d) => d.mean?.z), lengths((d) => d.rms?.x), lengths((d) => d.rms?.z)];
+  ds.forEach((d, i) => {
+    rows.push([d.id, String(d.hits), signal[i], engineSignal[i], diff[i] === '' ? '-' : `${diff[i]} σ`,
+      `${d.counts} in ${formatDuration(d.dwell)}`, d.mean ? `${mx[i]}, ${mz[i]}` : '-', d.rms ? `${rx[i]}, ${rz[i]}` : '-']);
+  });
   out.push(alignTable(rows, rows[0].map((_, i) => i > 0)), '');
   out.push(`Lost: ${s.lost.spin} atoms in the spin operations (no path), ${s.lost.clipped} clipped by slits, pole gaps and windows.`);
   out.push('Counts: one run of each detector\'s dwell, drawn from Poisson((signal + background) × dwell). "difference": (simulated − engine)/σ of the sampling; |difference| above about 3 in a line is worth a look.', '', `Method: ${s.method}.`);
