@@ -3,7 +3,7 @@
 // fields come from its kind's key table (src/beamline/elements): one field per key, or one per component of an
 // axis, a vector or a rectangle. The document layer validates; this only lists.
 
-import { KINDS, type Dimension, type ElementKind } from './core-adapter.ts';
+import { KINDS, checkQuantity, type Dimension, type ElementKind } from './core-adapter.ts';
 import { isOptional } from '../beamline/elements/keys.ts';
 import type { KeySpec } from '../beamline/elements/kind.ts';
 
@@ -52,7 +52,14 @@ export interface AnglesField {
   placeholder?: string;
 }
 
-export type FieldSpec = QuantityField | ChoiceField | BoolField | LabelsField | AnglesField;
+/** How an axis is written: a roll about the beam, or θ and φ; switching rewrites it as the same direction where it can. */
+export interface AxisFormField {
+  type: 'axisForm';
+  key: string;
+  label: string;
+}
+
+export type FieldSpec = QuantityField | ChoiceField | BoolField | LabelsField | AnglesField | AxisFormField;
 
 const q = (key: string, label: string, dim: Dimension, optional = false, placeholder?: string): QuantityField => ({
   type: 'quantity', key, label, dim, optional, placeholder,
@@ -66,6 +73,37 @@ export function axisFields(key: string, label: string, axis: unknown): QuantityF
     return [q(`${key}.theta`, `${label} θ`, 'angle'), q(`${key}.phi`, `${label} φ`, 'angle')];
   }
   return [q(`${key}.roll`, `${label} roll`, 'angle')];
+}
+
+const isRecord = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
+
+/** How an axis is written: "angles" ({theta, phi}) or "roll" ({roll}, and anything else). */
+export function axisForm(axis: unknown): 'roll' | 'angles' {
+  return isRecord(axis) && 'theta' in axis ? 'angles' : 'roll';
+}
+
+/** −a as people write it: "90 deg" → "-90 deg", "-1 rad" → "1 rad", 0 as it is, any other text as "-(text)". */
+export function negated(a: string): string {
+  const m = /^\s*([-+]?)\s*((?:\d+\.?\d*|\.\d+)(?:e[-+]?\d+)?(?:\s*[a-z]+)?)\s*$/i.exec(a);
+  if (!m) return `-(${a.trim()})`;
+  if (Number.parseFloat(m[2]) === 0) return a.trim();
+  return m[1] === '-' ? m[2] : `-${m[2]}`;
+}
+
+/**
+ * The axis as written (`axis`) rewritten in `form`, the same direction: a roll α is the axis (sin α, 0, cos α)
+ * (src/beamline/read.ts), which is θ = α, φ = 0 exactly; θ and φ become a roll only where φ is 0 (roll θ) or 180°
+ * (roll −θ), the axes in the x–z plane; undefined otherwise (or where φ does not read as an angle). An axis already
+ * in `form` comes back as it is.
+ */
+export function axisAs(axis: unknown, form: 'roll' | 'angles'): unknown {
+  const w = isRecord(axis) ? axis : {};
+  if (axisForm(axis) === form) return axis;
+  if (form === 'angles') return { theta: w.roll ?? '0 deg', phi: '0 deg' };
+  const phi = checkQuantity(w.phi, 'angle', 'phi');
+  if (!phi.ok || Math.abs(Math.sin(phi.si)) > 1e-12) return undefined;
+  const theta = w.theta ?? '0 deg';
+  return { roll: Math.cos(phi.si) > 0 ? theta : negated(String(theta)) };
 }
 
 const vec = (key: string, label: string, dim: Dimension) =>
@@ -85,7 +123,7 @@ export function keyFields(s: KeySpec, el: Record<string, unknown>, table: readon
   const optional = isOptional(s);
   switch (sh.type) {
     case 'quantity': return [q(s.key, s.label, sh.dim, optional, s.defaultText ?? s.emptyText)];
-    case 'axis': return axisFields(s.key, s.label, el[s.key]);
+    case 'axis': return [{ type: 'axisForm', key: s.key, label: s.label }, ...axisFields(s.key, s.label, el[s.key])];
     case 'vector': return vec(s.key, s.label, sh.dim);
     case 'rect': return rect(s.key, s.label);
     case 'bool': return [{ type: 'bool', key: s.key, label: s.label }];

@@ -28,16 +28,18 @@ describe('the app\'s kind registries', () => {
       expect(shown(true), kind).toEqual(['gap', ...table.map((s) => s.key)]);
       expect(shown(false), kind).toEqual(['gap', ...table.filter((s) => !s.hyperfineOnly).map((s) => s.key)]);
     }
-    // an axis as the document writes it: a twist's start in θ, φ, its end as a roll
-    const twist = elementFields({ kind: 'twist', start: { theta: '90 deg', phi: '30 deg' }, end: { roll: '0 deg' } }, false).map((f) => f.key);
-    expect(twist).toEqual(['gap', 'field', 'start.theta', 'start.phi', 'end.roll', 'length']);
+    // an axis as the document writes it, after the choice of its form: a twist's start in θ, φ, its end as a roll
+    const twist = elementFields({ kind: 'twist', start: { theta: '90 deg', phi: '30 deg' }, end: { roll: '0 deg' } }, false);
+    expect(twist.map((f) => `${f.type} ${f.key}`)).toEqual([
+      'quantity gap', 'quantity field', 'axisForm start', 'quantity start.theta', 'quantity start.phi', 'axisForm end', 'quantity end.roll', 'quantity length',
+    ]);
   });
 
   it('show a recombiner\'s open ports and their phases (bench D\'s 60° phase had no field)', () => {
     const fields = elementFields({ kind: 'recombiner', id: 'RC', axis: { roll: '90 deg' }, open: ['+1/2', '-1/2'], phases: { '-1/2': '60 deg' }, to: 'RI' }, false);
     expect(fields.find((f) => f.key === 'open')).toEqual({ type: 'labels', key: 'open', label: 'open ports', mappedBy: 'phases' });
     expect(fields.find((f) => f.key === 'phases')).toEqual({ type: 'angles', key: 'phases', label: 'phase', of: 'open', placeholder: '0 deg' });
-    expect(fields.map((f) => f.key)).toEqual(['gap', 'axis.roll', 'open', 'phases', 'coherent']);
+    expect(fields.map((f) => f.key)).toEqual(['gap', 'axis', 'axis.roll', 'open', 'phases', 'coherent']);
   });
 
   it('show an unknown kind by its gap only', () => {

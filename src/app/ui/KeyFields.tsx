@@ -1,9 +1,10 @@
 // An element's fields in the inspector, as its kind's key table lists them (src/app/fields.ts): quantities, choices
-// and switches through the inspector's own field list (`Plain`), and the keys that are a list or a map of port labels
-// (a recombiner's open ports and their phases) with widgets of their own, each in the table's place.
+// and switches through the inspector's own field list (`Plain`), and with widgets of their own, each in the table's
+// place, the keys that are a list or a map of port labels (a recombiner's open ports and their phases) and the form
+// an axis is written in (a roll, or θ and φ).
 import { useId, type ComponentType } from 'react';
 import type { BeamlineDoc } from '../core-adapter.ts';
-import type { AnglesField, FieldSpec, LabelsField, QuantityField } from '../fields.ts';
+import { axisAs, axisForm, type AnglesField, type AxisFormField, type FieldSpec, type LabelsField, type QuantityField } from '../fields.ts';
 import { getAt, joinPath } from '../doc-path.ts';
 import { QuantityInput } from './QuantityInput.tsx';
 import type { InspectorActions } from './Inspector.tsx';
@@ -30,12 +31,15 @@ export function labelPath(base: string, label: string): string {
   return /^[A-Za-z_$][A-Za-z0-9_$]*$/.test(label) ? `${base}.${label}` : `${base}[${JSON.stringify(label)}]`;
 }
 
+/** The look of the inspector's field labels (styles.css, ".field label") for a group's name. */
+const LABEL_STYLE = { color: 'var(--ink-soft)', fontSize: '12px' } as const;
+
 const stringList = (v: unknown): string[] => (Array.isArray(v) ? v.filter((x): x is string => typeof x === 'string') : []);
 
 export function KeyFields({ Plain, portLabels, ...p }: Props) {
-  const parts: (FieldSpec[] | LabelsField | AnglesField)[] = [];
+  const parts: (FieldSpec[] | LabelsField | AnglesField | AxisFormField)[] = [];
   for (const f of p.specs) {
-    if (f.type === 'labels' || f.type === 'angles') parts.push(f);
+    if (f.type === 'labels' || f.type === 'angles' || f.type === 'axisForm') parts.push(f);
     else {
       const last = parts[parts.length - 1];
       if (Array.isArray(last)) last.push(f);
@@ -47,6 +51,7 @@ export function KeyFields({ Plain, portLabels, ...p }: Props) {
       {parts.map((part, i) => {
         if (Array.isArray(part)) return <Plain key={`plain-${i}`} {...p} specs={part} />;
         if (part.type === 'labels') return <LabelList key={part.key} f={part} portLabels={portLabels} {...p} />;
+        if (part.type === 'axisForm') return <AxisForm key={`${part.key}-form`} f={part} {...p} />;
         return <AngleMap key={part.key} f={part} {...p} />;
       })}
     </>
@@ -69,7 +74,7 @@ function LabelList({ f, base, doc, errors, actions, portLabels }: PlainFieldsPro
   return (
     <div className="fields">
       <div className={`field${error ? ' invalid' : ''}`} role="group" aria-labelledby={id}>
-        <span id={id} className="field-label">{f.label}</span>
+        <span id={id} style={LABEL_STYLE}>{f.label}</span>
         <span>
           {options.map((l) => {
             const on = listed.includes(l);
@@ -105,6 +110,32 @@ function AngleMap({ f, base, doc, errors, actions }: PlainFieldsProps & { f: Ang
             error={errors[path]} onCommit={(t) => actions.commitQuantity(path, t, spec)} />
         );
       })}
+    </div>
+  );
+}
+
+/** The form an axis is written in (`axisAs`): the roll form is offered disabled where θ and φ have no roll. */
+function AxisForm({ f, base, doc, errors, actions }: PlainFieldsProps & { f: AxisFormField }) {
+  const id = useId();
+  const path = joinPath(base, f.key);
+  const axis = getAt(doc, path);
+  const angles = axisForm(axis) === 'angles';
+  const asRoll = angles ? axisAs(axis, 'roll') : axis;
+  const onChange = (form: string) => {
+    const next = axisAs(axis, form === 'roll' ? 'roll' : 'angles');
+    if (next && next !== axis) actions.setValue(path, next);
+  };
+  const error = errors[path]?.message;
+  return (
+    <div className="fields">
+      <div className={`field${error ? ' invalid' : ''}`}>
+        <label htmlFor={id}>{f.label} as</label>
+        <select id={id} name={`${path}:form`} value={angles ? 'angles' : 'roll'} onChange={(e) => onChange(e.target.value)}>
+          <option value="roll" disabled={asRoll === undefined}>a roll about the beam</option>
+          <option value="angles">θ and φ</option>
+        </select>
+        {error && <span className="field-error" role="alert">{error}</span>}
+      </div>
     </div>
   );
 }
