@@ -316,6 +316,8 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
   const pxPerM = X(1) - X(0);
   const slot = new Map<string, number>();
   const shift = new Map<string, number>();
+  /** Glyph half-heights (px) of the elements of a mark of other kinds than detectors: their names go above them. */
+  const halfOf = new Map<string, number>();
   const reach = new Map<string, number>();
   const clear = new Map<string, number>();
   // elements at one place on one branch: side by side, each at its own place across the beam where that is apart
@@ -333,7 +335,10 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
       }
       return { centre: own ? T(own.c) : 0, half: glyphHalf(e, which, T) };
     });
-    const off = packSlots(spots, 4);
+    // detectors: their names beside them; other kinds: a line for the name above each
+    const detectorsOnly = mk.ids.every((id) => placed.get(id)!.element.kind === 'detector');
+    const off = packSlots(spots, detectorsOnly ? 4 : LABEL_H + 6);
+    if (!detectorsOnly) mk.ids.forEach((id, i) => halfOf.set(id, spots[i].half));
     mk.ids.forEach((id, i) => {
       const e = placed.get(id)!.element;
       shift.set(id, off[i]);
@@ -432,7 +437,8 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
       const s = slot.get(p.id) ?? 0;
       const own = ownExtent(p.element, which);
       const h = reach.get(p.id) ?? (p.element.kind === 'detector' ? 40 : glyphHalf(p.element, which, T));
-      half = Math.max(half, Math.abs(s) + h + (own ? Math.abs(T(own.c)) : 0) + 6, Math.abs(s) + (clear.get(p.id) ?? 0) + 24);
+      const named = halfOf.has(p.id) ? LABEL_H : 0;
+      half = Math.max(half, Math.abs(s) + h + (own ? Math.abs(T(own.c)) : 0) + 6 + named, Math.abs(s) + (clear.get(p.id) ?? 0) + 24 + named);
     }
     for (const d of drawn) for (const q of d) if (q.row === r) half = Math.max(half, Math.abs(q.t + q.s) + 8);
     const laneTop = y;
@@ -450,7 +456,11 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
       return { centre: (slot.get(l.id) ?? 0) + (ext ? T(ext.c) : 0), half: LABEL_H / 2 };
     });
     const off = packSlots(want, 0);
-    own.forEach((l, i) => (l.inline!.y = ln.cy - (want[i].centre + off[i]) + 4));
+    own.forEach((l, i) => {
+      const above = halfOf.get(l.id);
+      if (above === undefined) l.inline!.y = ln.cy - (want[i].centre + off[i]) + 4;
+      else l.inline = { x: l.x - l.width / 2, y: ln.cy - (slot.get(l.id) ?? 0) - above - 4 };
+    });
   }
   const beams = drawn.map((d) => ({
     pts: d.map((q) => {
