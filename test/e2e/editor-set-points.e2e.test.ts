@@ -144,6 +144,15 @@ describe('every set-point editable (bench H, Rb-87)', () => {
     seq = await waitForFreshResults(page, seq);
     const table: [string, number][] = [['200 m/s', 0.5], ['300 m/s', 1.5], ['400 m/s', 2], ['500 m/s', 1], ['600 m/s', 0.25]];
     await expect(page.locator('table[aria-label="Velocity table"] tbody tr').count()).resolves.toBe(5);
+    // the engine ran with the imported table: the velocity chart's stems are its speeds with the weights normalised
+    await page.waitForFunction((s) => document.querySelector<HTMLElement>('[data-chart="velocity"]')?.dataset.seq === String(s), seq, { timeout: 60_000 });
+    const stems = await page.$eval('[data-chart="velocity"]', (el) => {
+      const d = (el as unknown as { data: { x: (number | null)[]; y: (number | null)[] }[] }).data[0];
+      return d.x.map((x, i) => [x, d.y[i]]).filter((_, i) => i % 3 === 1);
+    });
+    const sum = table.reduce((a, [, wt]) => a + wt, 0);
+    expect(stems.map(([x]) => x)).toEqual([200, 300, 400, 500, 600]);
+    stems.forEach(([, y], i) => expect(y).toBeCloseTo(table[i][1] / sum, 12));
     const w = page.locator('input[name="oven.velocity.points[1][1]"]');
     await w.fill('3');
     await w.press('Enter');
