@@ -5,7 +5,7 @@ import {
   axisDial, beamTrace, centreLineAt, labelTiers, leafRoute, packSlots, placeElements, placeInOrder, scaleBar, schematicRows,
   transverseExaggeration, maxTransverse, lengthLabel,
 } from '../../src/app/layout.ts';
-import { parseBeamlineText } from '../../src/beamline/index.ts';
+import { parseBeamlineText, validateBeamline } from '../../src/beamline/index.ts';
 import { runLine } from '../../src/engine/run.ts';
 import { convergedGeometry, type FinePath } from '../../src/engine/subbeam.ts';
 import { leafCentreAt } from '../../src/engine/centre-line.ts';
@@ -117,6 +117,37 @@ describe('the drawn centre lines against the engine, at every element of every s
       expect(Math.abs(last.z - leaf.displacement!.z)).toBeLessThanOrEqual(1e-12 * scale);
     }
     if (r.leaves.some((l) => l.centreLine)) expect(compared).toBeGreaterThan(0);
+  });
+});
+
+describe('a line whose M1 rolls 0° and M2 rolls 90°', () => {
+  it('splits in z from M1 on and in x only from M2 on', () => {
+    const r = validateBeamline({
+      format: 'spinyard.beamline', version: 1, title: 'roll check',
+      species: { spin: '1/2', g: 2.0023, mass: '106.905 u' },
+      oven: { state: { kind: 'unpolarized' }, flux: '1e9 /s', velocity: { kind: 'fixed', speed: '600 m/s' }, aperture: { width: '0.1 mm', height: '0.1 mm' }, to: 'M1' },
+      elements: [
+        { id: 'M1', kind: 'magnet', gap: '20 cm', axis: { roll: '0 deg' }, gradient: '200 T/m', length: '5 cm', ports: { '+1/2': 'M2', '-1/2': 'M2' } },
+        { id: 'M2', kind: 'magnet', gap: '20 cm', axis: { roll: '90 deg' }, gradient: '200 T/m', length: '5 cm', ports: { '+1/2': 'D1', '-1/2': 'D2' } },
+        { id: 'D1', kind: 'detector', gap: '30 cm' }, { id: 'D2', kind: 'detector', gap: '30 cm' },
+      ],
+    });
+    if (!r.ok) throw new Error(r.problems.map((p) => p.message).join('\n'));
+    const res = runLine(r.line);
+    const { placed } = placeElements(r.line);
+    const m1 = placed.get('M1')!, m2 = placed.get('M2')!;
+    expect(res.leaves).toHaveLength(4);
+    for (const leaf of res.leaves) {
+      const t = beamTrace(r.line, placed, leaf);
+      expect(t.fromEngine).toBe(true);
+      for (const p of t.points) {
+        if (p.y <= m2.y0 + 1e-12) expect(Math.abs(p.x)).toBeLessThan(1e-15);
+        if (p.y <= m1.y0 + 1e-12) expect(Math.abs(p.z)).toBeLessThan(1e-15);
+      }
+      const last = t.points[t.points.length - 1];
+      expect(Math.abs(last.x)).toBeGreaterThan(1e-5);
+      expect(Math.abs(last.z)).toBeGreaterThan(1e-5);
+    }
   });
 });
 

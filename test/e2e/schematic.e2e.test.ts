@@ -147,6 +147,14 @@ describe('the schematic drawn from the physics', () => {
       for (let i = 0; i < glyphs.length; i++) for (let j = i + 1; j < glyphs.length; j++) {
         expect(overlap(glyphs[i], glyphs[j], 0.6), `${name} ${view}: ${glyphs[i].id} and ${glyphs[j].id} overlap`).toBe(false);
       }
+      // and no element's name or dial lies over another element's drawing
+      const labels: (Box & { id: string })[] = await page.$$eval(`svg.schematic [data-view="${view}"] [data-label]`, (gs) => gs.map((g) => {
+        const b = (g as SVGGElement).getBoundingClientRect();
+        return { id: (g as SVGGElement).dataset.label!, x: b.x, y: b.y, width: b.width, height: b.height, text: '', kind: '' };
+      }));
+      for (const l of labels) for (const gl of glyphs) {
+        if (l.id !== gl.id) expect(overlap(l, gl, 0.6), `${name} ${view}: the label of ${l.id} lies over ${gl.id}`).toBe(false);
+      }
     }
     const detectors = parsed.line.elements.filter((e) => e.kind === 'detector').map((e) => e.id);
     for (const id of detectors) {
