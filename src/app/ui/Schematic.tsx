@@ -327,7 +327,8 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
       const e = placed.get(id)!.element;
       const own = ownExtent(e, which);
       if (e.kind === 'detector') {
-        if (own) return { centre: T(own.c), half: Math.max(T(own.half), 2) + 3 };
+        // a window: its own size (a plate just around it), so that windows apart on the bench stay where they are
+        if (own) return { centre: T(own.c), half: Math.max(T(own.half), 1.5) + 0.5 };
         // a detector without a window: where its sub-beams arrive
         const ends = traces.filter((t) => t.route[t.route.length - 1] === id && !t.endsInStop).map((t) => t.points[t.points.length - 1]);
         const c = ends.length ? ends.reduce((s, p) => s + T(sideOf(which, p)), 0) / ends.length : 0;
@@ -337,7 +338,7 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
     });
     // detectors: their names beside them; other kinds: a line for the name above each
     const detectorsOnly = mk.ids.every((id) => placed.get(id)!.element.kind === 'detector');
-    const off = packSlots(spots, detectorsOnly ? 4 : LABEL_H + 6);
+    const off = packSlots(spots, detectorsOnly ? 2 : LABEL_H + 6);
     if (!detectorsOnly) mk.ids.forEach((id, i) => halfOf.set(id, spots[i].half));
     mk.ids.forEach((id, i) => {
       const e = placed.get(id)!.element;
