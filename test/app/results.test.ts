@@ -137,7 +137,7 @@ describe('the tables follow the one number rule (src/beamline/numbers.ts)', () =
   });
   it('exports round-off as 0 and other numbers without binary noise in the CSV', () => {
     const lines = portRowsCsv(rows, 0.01).trim().split('\r\n');
-    expect(lines[3]).toBe('"M2:F=1,mF=+1",stop,0,0,,,,,');
+    expect(lines[3]).toBe('"M2:F=1,mF=+1",stop,0,0,,,,,,,,,,unsaved,');
     const tidy = portRowsCsv(portRows({ ...result, leaves: [{ path: ['M1:+1/2'], target: 'D1', yield: 0.37499999999999967, rate: 6.75e8 }] }, new Map([['D1', 10]]), 0.01), 0.01);
     expect(tidy.split('\r\n')[1].split(',')[2]).toBe('0.375');
   });
