@@ -77,7 +77,22 @@ export function levelsView(line: Beamline): LevelsView {
  * The Breit–Rabi diagram from 0 to `maxField` (T) in `points` + 1 equally spaced fields: one curve per level
  * (by its low-field label, and isotope for a mixture), E/h in Hz.
  */
-export function breitRabiCurves(species: string, maxField: number, points = 120): { fields: number[]; curves: { name: string; energy: number[] }[] } {
+export function breitRabiCurves(species: string, maxField: number, points = 80): BreitRabiCurves {
+  const key = `${species}|${maxField}|${points}`;
+  const hit = curveCache.get(key);
+  if (hit) return hit;
+  const made = makeCurves(species, maxField, points);
+  curveCache.set(key, made);
+  // the last few diagrams only (one per magnet selected in turn, a species tried and another)
+  if (curveCache.size > CURVE_CACHE_SIZE) curveCache.delete(curveCache.keys().next().value!);
+  return made;
+}
+
+export type BreitRabiCurves = { fields: number[]; curves: { name: string; energy: number[] }[] };
+const CURVE_CACHE_SIZE = 8;
+const curveCache = new Map<string, BreitRabiCurves>();
+
+function makeCurves(species: string, maxField: number, points: number): BreitRabiCurves {
   const fields = Array.from({ length: points + 1 }, (_, i) => (maxField * i) / points);
   const curves = new Map<string, number[]>();
   for (const b of fields) {

@@ -36,10 +36,13 @@ export function LevelsPanel({ line, only, dark, seq }: Props) {
     }
     return m;
   }, [magnets]);
+  const top = maxField > 0 ? maxField * 1.25 : 0.1;
+  // the diagram depends on the species and the field range only: an edit of any other set-point does not redo it
+  // (a Cs-133 diagram is about a hundred eigen-solutions of a 16 × 16 Hamiltonian)
+  const curves = useMemo(() => (species ? breitRabiCurves(species, top) : undefined), [species, top]);
   const chart = useMemo(() => {
-    if (!view.ok || magnets.length === 0) return undefined;
-    const top = maxField > 0 ? maxField * 1.25 : 0.1;
-    const c = breitRabiCurves(species, top);
+    if (!view.ok || magnets.length === 0 || !curves) return undefined;
+    const c = curves;
     const data: unknown[] = c.curves.map((k) => ({
       type: 'scatter', mode: 'lines', name: k.name, x: c.fields, y: k.energy.map((e) => e / 1e9),
       line: { color: colours.get(k.name) ?? CURVE[0], width: 1.4 }, hovertemplate: `${k.name}<br>%{x:.4g} T: %{y:.6g} GHz<extra></extra>`,
@@ -67,7 +70,7 @@ export function LevelsPanel({ line, only, dark, seq }: Props) {
       yaxis: { ...theme.yaxis, title: { text: 'E/h (GHz)' } },
     };
     return { data, layout };
-  }, [view, magnets, maxField, species, theme, colours]);
+  }, [view, magnets, curves, top, theme, colours]);
 
   if (!view.ok) return <p className="note">Levels: {view.message}.</p>;
   if (magnets.length === 0) {
