@@ -31,6 +31,8 @@ export interface BoolField {
   type: 'bool';
   key: string;
   label: string;
+  /** The value the document's reader takes where the key is left out. */
+  fallback?: boolean;
 }
 
 /** A list of port labels (a recombiner's open ports): the line's port labels, each on or off. */
@@ -126,7 +128,7 @@ export function keyFields(s: KeySpec, el: Record<string, unknown>, table: readon
     case 'axis': return [{ type: 'axisForm', key: s.key, label: s.label }, ...axisFields(s.key, s.label, el[s.key])];
     case 'vector': return vec(s.key, s.label, sh.dim);
     case 'rect': return rect(s.key, s.label);
-    case 'bool': return [{ type: 'bool', key: s.key, label: s.label }];
+    case 'bool': return [{ type: 'bool', key: s.key, label: s.label, ...(sh.fallback === undefined ? {} : { fallback: sh.fallback }) }];
     case 'choice': return [{ type: 'choice', key: s.key, label: s.label, options: optional ? ['', ...sh.options] : sh.options, optional }];
     case 'labels': {
       const map = table.find((x) => x.shape.type === 'angles' && x.shape.of === s.key);

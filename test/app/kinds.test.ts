@@ -40,6 +40,8 @@ describe('the app\'s kind registries', () => {
     expect(fields.find((f) => f.key === 'open')).toEqual({ type: 'labels', key: 'open', label: 'open ports', mappedBy: 'phases' });
     expect(fields.find((f) => f.key === 'phases')).toEqual({ type: 'angles', key: 'phases', label: 'phase', of: 'open', placeholder: '0 deg' });
     expect(fields.map((f) => f.key)).toEqual(['gap', 'axis', 'axis.roll', 'open', 'phases', 'coherent']);
+    // left out, a recombiner is coherent (its reader's default): the switch shows it on
+    expect(fields.find((f) => f.key === 'coherent')).toEqual({ type: 'bool', key: 'coherent', label: 'coherent', fallback: true });
   });
 
   it('show an unknown kind by its gap only', () => {

@@ -4,7 +4,7 @@
 // an axis is written in (a roll, or θ and φ).
 import { useId, type ComponentType } from 'react';
 import type { BeamlineDoc } from '../core-adapter.ts';
-import { axisAs, axisForm, type AnglesField, type AxisFormField, type FieldSpec, type LabelsField, type QuantityField } from '../fields.ts';
+import { axisAs, axisForm, type AnglesField, type AxisFormField, type BoolField, type FieldSpec, type LabelsField, type QuantityField } from '../fields.ts';
 import { getAt, joinPath } from '../doc-path.ts';
 import { QuantityInput } from './QuantityInput.tsx';
 import type { InspectorActions } from './Inspector.tsx';
@@ -37,9 +37,10 @@ const LABEL_STYLE = { color: 'var(--ink-soft)', fontSize: '12px' } as const;
 const stringList = (v: unknown): string[] => (Array.isArray(v) ? v.filter((x): x is string => typeof x === 'string') : []);
 
 export function KeyFields({ Plain, portLabels, ...p }: Props) {
-  const parts: (FieldSpec[] | LabelsField | AnglesField | AxisFormField)[] = [];
+  const parts: (FieldSpec[] | LabelsField | AnglesField | AxisFormField | BoolField)[] = [];
   for (const f of p.specs) {
-    if (f.type === 'labels' || f.type === 'angles' || f.type === 'axisForm') parts.push(f);
+    // a switch with a default shows the default where the key is left out (the inspector's plain switch shows it off)
+    if (f.type === 'labels' || f.type === 'angles' || f.type === 'axisForm' || (f.type === 'bool' && f.fallback !== undefined)) parts.push(f);
     else {
       const last = parts[parts.length - 1];
       if (Array.isArray(last)) last.push(f);
@@ -52,6 +53,7 @@ export function KeyFields({ Plain, portLabels, ...p }: Props) {
         if (Array.isArray(part)) return <Plain key={`plain-${i}`} {...p} specs={part} />;
         if (part.type === 'labels') return <LabelList key={part.key} f={part} portLabels={portLabels} {...p} />;
         if (part.type === 'axisForm') return <AxisForm key={`${part.key}-form`} f={part} {...p} />;
+        if (part.type === 'bool') return <Switch key={part.key} f={part} {...p} />;
         return <AngleMap key={part.key} f={part} {...p} />;
       })}
     </>
@@ -135,6 +137,23 @@ function AxisForm({ f, base, doc, errors, actions }: PlainFieldsProps & { f: Axi
           <option value="angles">θ and φ</option>
         </select>
         {error && <span className="field-error" role="alert">{error}</span>}
+      </div>
+    </div>
+  );
+}
+
+/** true/false with the reader's default shown where the key is left out. */
+function Switch({ f, base, doc, actions }: PlainFieldsProps & { f: BoolField }) {
+  const path = joinPath(base, f.key);
+  const v = getAt(doc, path);
+  const on = typeof v === 'boolean' ? v : f.fallback === true;
+  return (
+    <div className="fields">
+      <div className="field">
+        <label>
+          <input type="checkbox" name={path} checked={on} onChange={(e) => actions.setValue(path, e.target.checked)} /> {f.label}
+          {v === undefined ? ' (default)' : ''}
+        </label>
       </div>
     </div>
   );

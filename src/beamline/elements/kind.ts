@@ -49,8 +49,8 @@ export type KeyShape =
   | { readonly type: 'choice'; readonly options: readonly string[] }
   /** A list of port labels of the species. */
   | { readonly type: 'labels' }
-  /** A map port label → angle. */
-  | { readonly type: 'angles' }
+  /** A map port label → angle over the labels listed at key `of` (a label left out: the key's default). */
+  | { readonly type: 'angles'; readonly of: string }
   /** The output of a kind with ports: a map port label (or "*") → target. */
   | { readonly type: 'ports' }
   /** The one output of a kind: an element id or "stop"; `what` names the kind in the message ("a rotator"). */

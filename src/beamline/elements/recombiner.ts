@@ -17,7 +17,7 @@ export const recombiner = defineKind<Recombiner>({
   table: [
     { key: 'axis', shape: { type: 'axis' }, label: 'axis' },
     { key: 'open', shape: { type: 'labels' }, label: 'open ports', read: readOpen },
-    { key: 'phases', shape: { type: 'angles' }, label: 'phase', optional: true, defaultText: '0 deg', read: readPhases },
+    { key: 'phases', shape: { type: 'angles', of: 'open' }, label: 'phase', optional: true, defaultText: '0 deg', read: readPhases },
     { key: 'coherent', shape: { type: 'bool', fallback: true }, label: 'coherent' },
     { key: 'field', shape: { type: 'quantity', dim: 'field', nonNegative: true, range: LIMITS.fieldSize, what: 'the field size', plausible: 'field' },
       label: 'field', optional: true, hyperfineOnly: true },
