@@ -73,7 +73,7 @@ interface ViewGeo {
   shift: Map<string, number>;
   /** A detector's own plate half-height where it shares its plane; a magnet's drawn half-gap where none is given. */
   reach: Map<string, number>;
-  clear: Map<string, number>;
+  clear: Map<string, { c: number; half: number }>;
   labels: LabelSpot[];
   /** Per leaf: the drawn points (px) and, per point, its offset from the axis (px) and the base it is drawn from. */
   beams: { pts: { X: number; Y: number; y: number; t: number; base: number }[] }[];
@@ -299,6 +299,12 @@ interface LayoutInput {
   X(y: number): number;
 }
 
+/** How far (px) from its row's axis a magnet drawn around its beams reaches, its poles (18 px) included, and a margin. */
+function clearExtent(s: number, c: { c: number; half: number } | undefined): number {
+  if (!c) return 0;
+  return Math.max(Math.abs(s + c.c + c.half + 18), Math.abs(s + c.c - c.half - 18)) + 6;
+}
+
 /** Half-extent (px) of an element's glyph across the beam, around its own axis, before any slot. */
 function glyphHalf(e: Element, which: Which, T: (t: number) => number): number {
   switch (e.kind) {
@@ -319,7 +325,7 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
   /** Glyph half-heights (px) of the elements of a mark of other kinds than detectors: their names go above them. */
   const halfOf = new Map<string, number>();
   const reach = new Map<string, number>();
-  const clear = new Map<string, number>();
+  const clear = new Map<string, { c: number; half: number }>();
   // elements at one place on one branch: side by side, each at its own place across the beam where that is apart
   for (const mk of marks) {
     if (mk.ids.length < 2) continue;
@@ -392,15 +398,17 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
     });
     return out;
   });
-  // a magnet without a pole gap given is drawn clear of the beams through it
+  // a magnet without a pole gap given is drawn with its gap around the beams through it (centre and half, px, up)
   for (const p of placed.values()) {
     if (p.element.kind !== 'magnet' || p.element.aperture) continue;
-    let m = 0;
+    let lo = Infinity, hi = -Infinity;
     const own = shift.get(p.id) ?? 0;
     drawn.forEach((d) => d.forEach((q) => {
-      if (q.id === p.id && q.y >= p.y0 - 1e-12 && q.y <= p.y1 + 1e-12) m = Math.max(m, Math.abs(q.t + q.s - own));
+      if (q.id !== p.id || q.y < p.y0 - 1e-12 || q.y > p.y1 + 1e-12) return;
+      lo = Math.min(lo, q.t + q.s - own);
+      hi = Math.max(hi, q.t + q.s - own);
     }));
-    if (m > 0) clear.set(p.id, m + 5);
+    if (hi >= lo && (hi > 3 || lo < -3)) clear.set(p.id, { c: (hi + lo) / 2, half: Math.max((hi - lo) / 2 + 6, 8) });
   }
   // labels: elements drawn side by side get theirs beside the glyph; the others go in tiers of the row's strip
   const labels: LabelSpot[] = [];
@@ -439,7 +447,7 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
       const own = ownExtent(p.element, which);
       const h = reach.get(p.id) ?? (p.element.kind === 'detector' ? 40 : glyphHalf(p.element, which, T));
       const named = halfOf.has(p.id) ? LABEL_H : 0;
-      half = Math.max(half, Math.abs(s) + h + (own ? Math.abs(T(own.c)) : 0) + 6 + named, Math.abs(s) + (clear.get(p.id) ?? 0) + 24 + named);
+      half = Math.max(half, Math.abs(s) + h + (own ? Math.abs(T(own.c)) : 0) + 6 + named, clearExtent(s, clear.get(p.id)) + named);
     }
     for (const d of drawn) for (const q of d) if (q.row === r) half = Math.max(half, Math.abs(q.t + q.s) + 8);
     const laneTop = y;
@@ -473,7 +481,7 @@ function layoutView(which: Which, top: number, g: LayoutInput): ViewGeo {
 }
 
 function ElementGlyph({ p, which, cy, X, T, reach, clear, selected, warned, onSelect }: {
-  p: Placed; which: Which; cy: number; X(y: number): number; T(t: number): number; reach?: number; clear?: number;
+  p: Placed; which: Which; cy: number; X(y: number): number; T(t: number): number; reach?: number; clear?: { c: number; half: number };
   selected: boolean; warned: boolean; onSelect(id: string): void;
 }): ReactNode {
   const e = p.element;

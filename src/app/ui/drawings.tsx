@@ -16,8 +16,9 @@ export interface GlyphPlace {
   T(t: number): number;
   /** A detector drawn beside others on its plane: the half-height (px) of its plate, centred on its own axis. */
   reach?: number;
-  /** A magnet without a pole gap given: the half-gap (px) it is drawn with, clear of the sub-beams drawn through it. */
-  clear?: number;
+  /** A magnet without a pole gap given: the gap it is drawn with around the sub-beams drawn through it (centre, px up
+   *  from cy, and half-gap, px). */
+  clear?: { c: number; half: number };
 }
 
 type Drawing<K extends ElementKind> = (e: Extract<Element, { kind: K }>, g: GlyphPlace) => ReactNode;
@@ -49,8 +50,8 @@ export const DRAWINGS: { readonly [K in ElementKind]: Drawing<K> } = {
   magnet: (e, { which, cy, x0, w, T, clear }) => {
     const ap = e.aperture;
     // the pole gap as given (its centre and size across the beam), or, where none is given, drawn clear of the beams
-    const half = ap ? Math.max(T((which === 'side' ? ap.height : ap.width) / 2), 2) : Math.max(clear ?? 8, 8);
-    const c = ap ? cy - T(which === 'side' ? ap.z : ap.x) : cy;
+    const half = ap ? Math.max(T((which === 'side' ? ap.height : ap.width) / 2), 2) : Math.max(clear?.half ?? 8, 8);
+    const c = ap ? cy - T(which === 'side' ? ap.z : ap.x) : cy - (clear?.c ?? 0);
     return which === 'side' ? (
       <>
         <rect x={x0} y={c - half - 18} width={w} height={18} className="pole" />
