@@ -163,7 +163,8 @@ describe('the renderer in Chromium', () => {
     const csvFile = join(ROOT, 'test-results', 'e2e-ports.csv');
     await csv.saveAs(csvFile);
     const lines = readFileSync(csvFile, 'utf8').trim().split('\r\n');
-    expect(lines[0]).toBe('path,target,yield,signal rate (1/s),counts,sigma,detector rate (1/s),time to 1% (s),captured');
+    expect(lines[0]).toBe('path,target,yield (fraction of the oven flux),signal rate (1/s),counts (in the dwell),sigma (counts),detector rate (1/s),time to 1% (s),'
+      + 'captured (fraction of the sub-beam in the window),displacement x (mm),displacement z (mm),spread x (mm),spread z (mm),document,document sha256');
     expect(lines).toHaveLength(want.length + 1);
     want.forEach((w, i) => {
       const cells = lines[i + 1].split(',');
