@@ -3,7 +3,7 @@
 // the same as `spinyard levels`); a level's port is its label as the magnet sorts it — the low-field label
 // |F, m_F⟩ for group "each", "mJ=…" of its high-field label for group "mJ" — and its target is where the
 // magnet routes that port ("*" for the ports not listed, else stop), the reader's routing rule.
-import { levelsListing, type Beamline } from './core-adapter.ts';
+import { levelsListing, magnetPortLabels, type Beamline } from './core-adapter.ts';
 
 export interface LevelRow {
   /** the isotope, for a mixture */
@@ -51,13 +51,15 @@ export function levelsView(line: Beamline): LevelsView {
   }
   const magnets: MagnetLevels[] = [];
   const noField: string[] = [];
+  // a magnet without a group sorts as the engine's default: by m_J where J = 1/2, else by eigenstate
+  const defaultGroup: 'mJ' | 'each' = magnetPortLabels(line)[0]?.startsWith('mJ=') ? 'mJ' : 'each';
   for (const e of line.elements) {
     if (e.kind !== 'magnet') continue;
     if (e.field === undefined || !Number.isFinite(e.field)) {
       noField.push(e.id);
       continue;
     }
-    const group = e.group ?? 'each';
+    const group = e.group ?? defaultGroup;
     let listing: ReturnType<typeof levelsListing>;
     try {
       listing = levelsListing(sp.name, e.field);

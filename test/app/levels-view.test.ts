@@ -57,6 +57,14 @@ describe('levelsView', () => {
     expect(byLabel.get('F=2,mF=-2')).toBe('stop');
     expect(byLabel.get('F=1,mF=0')).toBe('stop');
   });
+  it('sorts a magnet without a group as the engine does: bench G\'s silver (J = 1/2) by m_J, each port to its collector', () => {
+    const v = levelsView(sample('bench-g-silver-split.spinyard'));
+    if (!v.ok) throw new Error(v.message);
+    const m1 = v.magnets[0];
+    expect(m1.group).toBe('mJ');
+    expect(new Set(m1.rows.map((r) => r.port))).toEqual(new Set(['mJ=+1/2', 'mJ=-1/2']));
+    for (const r of m1.rows) expect(r.target).toBe(r.port === 'mJ=+1/2' ? 'DL' : 'DU');
+  });
   it('says why a bare spin has no panel', () => {
     const v = levelsView(sample('bench-a-spin32-rotator.spinyard'));
     expect(v.ok).toBe(false);
