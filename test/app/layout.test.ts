@@ -9,6 +9,8 @@ import { parseBeamlineText, validateBeamline } from '../../src/beamline/index.ts
 import { runLine } from '../../src/engine/run.ts';
 import { convergedGeometry, type FinePath } from '../../src/engine/subbeam.ts';
 import { leafCentreAt } from '../../src/engine/centre-line.ts';
+import { buildSheet } from '../../src/sheet/index.ts';
+import { branchLayout } from '../../src/sheet/layout-rule.ts';
 import type { Beamline } from '../../src/beamline/types.ts';
 
 // A normalized line written by hand (SI): oven → S1 (30 cm) → M1 (5 cm gap, 10 cm long) → ports → D1 (40 cm) / stop.
@@ -164,6 +166,23 @@ describe('branch rows of the schematic: the setup sheet\'s rule', () => {
     expect(rowOf.get('T2')).not.toBe(rowOf.get('T1'));
     for (const id of ['MS', 'DS0', 'DS1', 'DS2']) expect(rowOf.get(id)).toBe(rowOf.get('T2'));
     expect(marks.find((m) => m.ids.includes('DA0'))!.ids.sort()).toEqual(['DA0', 'DA1', 'DA2']);
+  });
+  it('every sample with distances: the same rows as its setup sheet\'s side view', () => {
+    const dir = resolve(import.meta.dirname, '..', '..', 'samples');
+    let lines = 0;
+    for (const name of readdirSync(dir).filter((n) => n.endsWith('.spinyard'))) {
+      const p = parseBeamlineText(readFileSync(join(dir, name), 'utf8'));
+      if (!p.ok) throw new Error(name);
+      const { placed, end } = placeElements(p.line);
+      if (!(end > 0)) continue;
+      const m = buildSheet(p.doc, p.line, runLine(p.line));
+      const sheet = branchLayout(m.elements.map((el) => ({ id: el.id, kind: el.kind, entrance: el.entranceCm ?? 0, length: el.lengthCm ?? 0, routes: el.routes })), m.oven.to, 1e-6);
+      const app = schematicRows(p.line, placed);
+      expect(Object.fromEntries(app.rowOf), name).toEqual(Object.fromEntries(sheet.rowOf));
+      expect(app.marks.map((mk) => mk.ids), name).toEqual(sheet.marks.map((mk) => mk.ids));
+      lines++;
+    }
+    expect(lines).toBeGreaterThanOrEqual(4);
   });
   it('bench C (no distances, drawn in routing order): D1 and M3 on different rows', () => {
     const l = sample('bench-c-roll-calibration.spinyard');

@@ -157,11 +157,13 @@ describe('the schematic drawn from the physics', () => {
       }
     }
     const detectors = parsed.line.elements.filter((e) => e.kind === 'detector').map((e) => e.id);
-    for (const id of detectors) {
-      const g = page.locator(`svg.schematic [data-view="side"] [data-element="${id}"]`);
-      const box = (await g.boundingBox())!;
-      await page.mouse.click(box.x + box.width / 2, box.y + box.height / 2);
-      await page.waitForSelector(`.inspector .insp-id:text-is("${id}")`, { timeout: 10_000 });
+    for (const view of ['side', 'top']) {
+      for (const id of detectors) {
+        const g = page.locator(`svg.schematic [data-view="${view}"] [data-element="${id}"]`);
+        const box = (await g.boundingBox())!;
+        await page.mouse.click(box.x + box.width / 2, box.y + box.height / 2);
+        await page.waitForSelector(`.inspector .insp-id:text-is("${id}")`, { timeout: 10_000 });
+      }
     }
   });
 
