@@ -102,6 +102,11 @@ export interface RunResult {
   quadrature?: QuadratureReport;
   /** Oven flux used (atoms/s). */
   flux: number;
+  /**
+   * Sub-beams merged into others because their mean deflections coincided within `fraction` of their width at every
+   * plane that clips or detects them (docs/design.md "Merging sub-beams"); absent when none was.
+   */
+  merged?: { subBeams: number; fraction: number };
   /** Velocity distribution for plots (flux density per m/s, or table weights). */
   velocity?: { speeds: number[]; density: number[]; kind: string };
   /** Element positions along the beam (m): entrance and exit. */

@@ -18,7 +18,8 @@ import type { RunResult, LeafResult, DetectorResult } from './result.ts';
 import { evaluateGeometry, type Track, type FinePath } from './detector-plane.ts';
 import { RunError } from './errors.ts';
 import { distributionFor, initialSpec, resolveFlux, velocityPlot, checkTable } from './source.ts';
-import { visit } from './walk.ts';
+import { visit, visitBundle } from './walk.ts';
+import { MAX_BUNDLE } from './merge.ts';
 import type { WalkCtx } from './steps/step.ts';
 
 export { RunError, CancelledError } from './errors.ts';
@@ -32,6 +33,12 @@ export interface RunOptions {
   light?: boolean;
   /** Receives the paths of the run before the detector plane is evaluated (simulate.ts draws atoms along them). */
   onPaths?: (paths: readonly FinePath[], flux: number) => void;
+  /**
+   * The largest fraction of a sub-beam's width within which sub-beams whose mean deflections coincide at every plane
+   * that clips or detects them may be merged, where a port's bundle exceeds merge.ts MAX_BUNDLE (default
+   * MERGE_FRACTION, 0.01); 0 follows every sorted state on its own.
+   */
+  mergeFraction?: number;
 }
 
 /** Runs the line and returns result format v1 (docs/design.md) with this engine's additions. */
@@ -50,6 +57,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const positions: Record<string, { entrance: number; exit: number }> = {};
   const hermiticity = { max: 0, positive: true };
   const sampled = { nodes: 0, error: 0, unconverged: new Map<string, { error: number; speeds: number }>() };
+  const merged = { count: 0, fraction: 0, at: new Set<string>() };
   let chiNodes = 0, chiError = 0, wasmUsed = false;
   const dists: VelocityDistribution[] = [];
   systems.forEach(({ system, fraction }, i) => {
@@ -59,7 +67,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     const ctx: WalkCtx = {
       sys: system, fraction, dist, chi, line, byId, leaves, lost, warnings, positions, opts,
       counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(), seen: new Set(), fieldEigen: [],
-      hAmbient: system.hamiltonian(line.ambient), ambientZero: false, visit,
+      hAmbient: system.hamiltonian(line.ambient), ambientZero: false, visit, visitBundle, merged,
     };
     ctx.ambientZero = isZeroMatrix(ctx.hAmbient);
     const st0 = initialSpec(line, system);
@@ -77,6 +85,10 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   if (line.oven.velocity.kind === 'table' && !opts.light) checkTable(line, leaves, warnings);
   for (const [path, u] of sampled.unconverged) {
     warnings.add(`${path}: the speed-by-speed average after the field twist did not converge to 1e-9: the yields moved by up to ${u.error.toExponential(1)} between the last two grids (${u.speeds} speeds); a fast phase before, in or after the twist is not resolved, and the yields carry that error`);
+  }
+  if (merged.count > 0) {
+    const at = [...merged.at];
+    warnings.add(`${at.slice(0, 4).join(', ')}${at.length > 4 ? ` and ${at.length - 4} more` : ''}: a port carried more than ${MAX_BUNDLE} sub-beams, so ${merged.count.toLocaleString('en-US')} of them were merged with others whose mean deflections agree within ${(merged.fraction * 100).toPrecision(1)} % of their width at every aperture and detector plane (docs/design.md "Merging sub-beams"); the spin populations are exact, what the apertures clip, the captured fractions and the profiles carry an error of up to about ${(merged.fraction * 100).toPrecision(1)} % for each magnet listed`);
   }
   opts.onPaths?.(leaves, flux);
   const geo = evaluateGeometry(leaves, flux, opts.epsilon ?? 0.01, lost);
@@ -115,6 +127,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     velocity: opts.light ? undefined : velocityPlot(d0),
     positions,
     invariants: { balance, maxHermiticity: hermiticity.max, positive: hermiticity.positive },
+    ...(merged.count > 0 ? { merged: { subBeams: merged.count, fraction: merged.fraction } } : {}),
   };
 }
 

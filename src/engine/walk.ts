@@ -13,6 +13,7 @@ import { drift } from './propagate.ts';
 import { finishLeaf } from './leaf.ts';
 import { STEPS } from './steps/index.ts';
 import type { Step, Walk, WalkCtx } from './steps/step.ts';
+import type { Member } from './merge.ts';
 
 function elementPath(ctx: WalkCtx, id: string): string {
   return ctx.byId.get(id)?.path ?? id;
@@ -48,5 +49,45 @@ export function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void
     target = (e as { to: string }).to;
     st = out;
     walk = { ...walk, y: exit };
+  }
+}
+
+/**
+ * A bundle of paths that left a magnet through one port (merge.ts): they pass the same elements, so they are walked
+ * together, each member's state through each step, until a magnet forks them all and merges the forks whose
+ * trajectories coincide. A bundle of one is the plain walk.
+ */
+export function visitBundle(ctx: WalkCtx, target: string, members: readonly Member[]): void {
+  for (;;) {
+    if (members.length === 1) {
+      visit(ctx, target, members[0].st, members[0].walk);
+      return;
+    }
+    checkCancel(ctx);
+    const walk0 = members[0].walk;
+    if (walk0.depth > 512) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than 512 elements along one path (a cycle?)`);
+    if (target === 'stop') {
+      for (const m of members) finishLeaf(ctx, m.st, m.walk, 'stop', null);
+      return;
+    }
+    const e = ctx.byId.get(target);
+    if (!e) throw new RunError(`unknown target "${target}"`);
+    const entrance = walk0.y + e.gap;
+    const exit = entrance + lengthOf(e);
+    if (!ctx.positions[e.id]) ctx.positions[e.id] = { entrance, exit };
+    const step = STEPS[e.kind] as Step<Element>;
+    const entered = members.map((m) => ({ st: step.enter ? step.enter(ctx, e, m.st) : drift(ctx, m.st, e.gap), walk: m.walk }));
+    if (step.runBundle) {
+      step.runBundle(ctx, e, entered, entrance, exit);
+      return;
+    }
+    const next: Member[] = [];
+    for (const m of entered) {
+      const out = step.run(ctx, e, m.st, m.walk, entrance, exit);
+      if (out !== undefined) next.push({ st: out, walk: { ...m.walk, y: exit } });
+    }
+    if (next.length === 0) return;
+    target = (e as { to: string }).to;
+    members = next;
   }
 }

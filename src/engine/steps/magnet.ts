@@ -11,6 +11,7 @@ import type { State } from '../nodes.ts';
 import { drift } from '../propagate.ts';
 import { driftCommutesWithSort, getSorting, portComponents, routeOf, selectStates } from '../sorting.ts';
 import { type Step, type Walk, type WalkCtx, fork } from './step.ts';
+import { type Member, mergeForks } from '../merge.ts';
 
 /**
  * A warning when the collimated beam, undeflected, is already wider or taller at a magnet's entrance
@@ -35,6 +36,48 @@ function apertureWarning(ctx: WalkCtx, e: Magnet, track: Track, y: number): void
   if (over.length > 0) ctx.warnings.add(`${e.path}.aperture: the collimated beam at the magnet's entrance is ${over.join(' and ')}: part of it is clipped before any deflection (counted as lost)`);
 }
 
+/** Pole-gap strips at a magnet's entrance and exit. */
+function stripsOf(e: Magnet, entrance: number, exit: number): Track['strips'] {
+  const a = e.aperture;
+  if (!a) return [];
+  return [
+    { y: entrance, lo: a.x - a.width / 2, hi: a.x + a.width / 2, axis: 'x' as const },
+    { y: entrance, lo: a.z - a.height / 2, hi: a.z + a.height / 2, axis: 'z' as const },
+    { y: exit, lo: a.x - a.width / 2, hi: a.x + a.width / 2, axis: 'x' as const },
+    { y: exit, lo: a.z - a.height / 2, hi: a.z + a.height / 2, axis: 'z' as const },
+  ];
+}
+
+function deflectsOf(e: Magnet): boolean {
+  return e.gradient !== undefined && e.length !== undefined && e.length > 0 && e.gradient !== 0;
+}
+
+/**
+ * Every member of a bundle sorted into its states, each state a sub-beam with its own kick; the forks that leave by
+ * one port are merged where their trajectories coincide and go on to the port's target as one bundle.
+ */
+function sortBundle(ctx: WalkCtx, e: Magnet, members: readonly Member[], exit: number, deflects: boolean, strips: Track['strips']): void {
+  const sorting = getSorting(ctx, e);
+  const groups = new Map<string, { to: string; forks: Member[] }>();
+  for (const m of members) {
+    const walk = m.walk;
+    for (const c of sorting.components) {
+      const to = routeOf(e, c);
+      const kick = deflects ? [{ exitY: exit, length: e.length!, accel: (c.moment * BOHR_MAGNETON * e.gradient!) / ctx.sys.massKg, n: e.axis }] : [];
+      const w = fork(walk, {
+        path: [...walk.path, `${e.id}:${c.port}`],
+        y: exit,
+        track: { ...walk.track, kicks: [...walk.track.kicks, ...kick], strips: [...walk.track.strips, ...strips], components: [...walk.track.components, `${e.id}:${c.lowField}`] },
+      });
+      const key = `${c.port}\u0000${to}`;
+      let g = groups.get(key);
+      if (!g) groups.set(key, (g = { to, forks: [] }));
+      g.forks.push({ st: selectStates(m.st, [c]), walk: w });
+    }
+  }
+  for (const g of groups.values()) ctx.visitBundle(ctx, g.to, mergeForks(ctx, e.path, g.to, g.forks));
+}
+
 export const magnetStep: Step<Magnet> = {
   enter(ctx: WalkCtx, e: Magnet, st: State): State {
     // a drift just before a magnet whose states are all eigenvectors of the drift Hamiltonian changes
@@ -43,28 +86,14 @@ export const magnetStep: Step<Magnet> = {
     return skipDrift ? st : drift(ctx, st, e.gap);
   },
   run(ctx: WalkCtx, e: Magnet, s: State, walk: Walk, entrance: number, exit: number): undefined {
-    const sys = ctx.sys;
     const sorting = getSorting(ctx, e);
-    const strips = e.aperture ? [
-      { y: entrance, lo: e.aperture.x - e.aperture.width / 2, hi: e.aperture.x + e.aperture.width / 2, axis: 'x' as const },
-      { y: entrance, lo: e.aperture.z - e.aperture.height / 2, hi: e.aperture.z + e.aperture.height / 2, axis: 'z' as const },
-      { y: exit, lo: e.aperture.x - e.aperture.width / 2, hi: e.aperture.x + e.aperture.width / 2, axis: 'x' as const },
-      { y: exit, lo: e.aperture.z - e.aperture.height / 2, hi: e.aperture.z + e.aperture.height / 2, axis: 'z' as const },
-    ] : [];
+    const strips = stripsOf(e, entrance, exit);
     if (e.aperture) apertureWarning(ctx, e, walk.track, entrance);
-    const deflects = e.gradient !== undefined && e.length !== undefined && e.length > 0 && e.gradient !== 0;
+    const deflects = deflectsOf(e);
     if (deflects || e.aperture) {
-      // every state its own sub-beam: each has its own moment, so its own deflection
-      for (const c of sorting.components) {
-        const to = routeOf(e, c);
-        const kick = deflects ? [{ exitY: exit, length: e.length!, accel: (c.moment * BOHR_MAGNETON * e.gradient!) / sys.massKg, n: e.axis }] : [];
-        const w = fork(walk, {
-          path: [...walk.path, `${e.id}:${c.port}`],
-          y: exit,
-          track: { ...walk.track, kicks: [...walk.track.kicks, ...kick], strips: [...walk.track.strips, ...strips], components: [...walk.track.components, `${e.id}:${c.lowField}`] },
-        });
-        ctx.visit(ctx, to, selectStates(s, [c]), w);
-      }
+      // every state its own sub-beam: each has its own moment, so its own deflection; those whose trajectories
+      // coincide are merged (merge.ts) and the states of one port go on together
+      sortBundle(ctx, e, [{ st: s, walk }], exit, deflects, strips);
       return undefined;
     }
     // an ideal sorter: the states of one port share one trajectory; Σ_k P_k ρ P_k over the port
@@ -75,5 +104,15 @@ export const magnetStep: Step<Magnet> = {
       ctx.visit(ctx, to, selectStates(s, comps, to === 'stop' || ctx.byId.get(to)?.kind === 'detector'), w);
     }
     return undefined;
+  },
+  runBundle(ctx: WalkCtx, e: Magnet, members: readonly Member[], entrance: number, exit: number): void {
+    if (e.aperture) for (const m of members) apertureWarning(ctx, e, m.walk.track, entrance);
+    const deflects = deflectsOf(e);
+    if (deflects || e.aperture) {
+      sortBundle(ctx, e, members, exit, deflects, stripsOf(e, entrance, exit));
+      return;
+    }
+    // an ideal sorter: each member on its own, as in run
+    for (const m of members) this.run(ctx, e, m.st, m.walk, entrance, exit);
   },
 };

@@ -19,12 +19,18 @@ import type { FinePath, Track } from '../detector-plane.ts';
 import type { State } from '../nodes.ts';
 import type { EigenFactors } from '../propagate.ts';
 import type { RunOptions } from '../run.ts';
+import type { Member } from '../merge.ts';
 
 export interface Step<E extends Element = Element> {
   /** The state at the entrance from the state at the start of the gap; absent: the drift over the gap in the ambient field. */
   enter?(ctx: WalkCtx, e: E, st: State): State;
   /** The element's action on the state at its entrance; the state at its exit, or undefined where the step continued or ended the walk itself. */
   run(ctx: WalkCtx, e: E, st: State, walk: Walk, entrance: number, exit: number): State | undefined;
+  /**
+   * The element's action on a bundle of paths that arrive together (merge.ts), for a kind that forks and merges
+   * them (the magnet); without it each member's `run` is called on its own.
+   */
+  runBundle?(ctx: WalkCtx, e: E, members: readonly Member[], entrance: number, exit: number): void;
 }
 
 /** One step per element kind: a kind without one fails the type check. */
@@ -32,6 +38,9 @@ export type Steps = { readonly [K in ElementKind]: Step<Extract<Element, { kind:
 
 /** Continues the walk at `target` ("stop" or an element id) with the state `st`. */
 export type Visit = (ctx: WalkCtx, target: string, st: State, walk: Walk) => void;
+
+/** Continues a bundle of paths at `target` together (walk.ts visitBundle). */
+export type VisitBundle = (ctx: WalkCtx, target: string, members: readonly Member[]) => void;
 
 /** What a step sees of the run: the isotope being walked, its beam, the line, and what the run collects. */
 export interface WalkCtx {
@@ -60,6 +69,9 @@ export interface WalkCtx {
   ambientZero: boolean;
   /** The walk itself (walk.ts visit): a step that forks, or averages a subtree, continues the walk through it. */
   visit: Visit;
+  visitBundle: VisitBundle;
+  /** How many sub-beams were merged into others (merge.ts). */
+  merged: { count: number; fraction: number; at: Set<string> };
 }
 
 /** Where one path of the walk is: the magnets' ports passed, the distance from the orifice, its transverse track. */

@@ -1,0 +1,292 @@
+/**
+ * Merging sub-beams whose trajectories coincide (docs/design.md "Merging sub-beams").
+ *
+ * A deflecting magnet splits a path into one sub-beam per state it sorts, each with its own moment and so its own
+ * kick. Behind a chain of magnets the sub-beams would multiply with every magnet, although most of them land on top
+ * of each other. The states of one port that leave a magnet together travel on as one bundle (walk.ts
+ * `visitBundle`); at each deflecting magnet the forks of every member of the bundle that go the same way are
+ * gathered. Up to MAX_BUNDLE of them go on as they are (exact); above that, those whose mean deflections differ, at
+ * every plane that clips or detects them, by less than a fraction f of the sub-beam's width there are merged, with
+ * the smallest f of MERGE_FRACTIONS that brings the bundle to MAX_BUNDLE (the run reports the largest f used): their spin states add (exact: what follows acts linearly
+ * on ρ), their kicks become the flux-weighted mean of theirs (the mean deflection at any plane is kept to first
+ * order; the spread of the merged members, at most the stated fraction of the width, is dropped). The width of a
+ * sub-beam at a plane is its geometric width (oven orifice and collimator) plus the spread of its deflection over
+ * the central 80 % of the flux's 1/v².
+ */
+import { type CMat, cmatZeros } from '../physics/cmat.ts';
+import { speedGrid, inverseSpeedMoment, type VelocityDistribution } from '../physics/velocity.ts';
+import type { Rect } from '../beamline/types.ts';
+import { lengthOf, outputsOf } from '../beamline/elements/registry.ts';
+import type { Kick, Track } from './subbeam.ts';
+import { type SpecState, specExpand, mergeTerms, specAt } from './spectral.ts';
+import { type NodeState, type State, isNodes, averagedTrace } from './nodes.ts';
+import type { Walk, WalkCtx } from './steps/step.ts';
+
+/**
+ * A bundle keeps at most this many sub-beams per port: below it every sorted state is followed on its own (exact);
+ * above it the forks are merged with the smallest fraction of MERGE_FRACTIONS that brings them to this count.
+ */
+export const MAX_BUNDLE = 16;
+
+/** The fractions of a sub-beam's width tried in turn, up to the run's largest (RunOptions.mergeFraction). */
+export const MERGE_FRACTIONS = [1e-4, 3e-4, 1e-3, 3e-3, 0.01] as const;
+
+/** The largest fraction used unless a run says otherwise; a bundle still above MAX_BUNDLE there keeps its clusters. */
+export const MERGE_FRACTION = 0.01;
+
+/** One path of a bundle: its state and where it is. */
+export interface Member {
+  st: State;
+  walk: Walk;
+}
+
+interface SpeedScale {
+  /** ⟨1/v²⟩ of the flux (s²/m²). */
+  m2: number;
+  /** 1/v² at the 10 % slowest minus at the 10 % fastest of the flux: the central spread of 1/v². */
+  q: number;
+}
+
+const scales = new WeakMap<VelocityDistribution, SpeedScale>();
+
+function speedScale(d: VelocityDistribution): SpeedScale {
+  let s = scales.get(d);
+  if (!s) {
+    const g = speedGrid(d);
+    let total = 0;
+    for (let k = 0; k < g.weights.length; k++) total += g.weights[k];
+    const idx = Array.from(g.speeds.keys()).sort((a, b) => g.speeds[a] - g.speeds[b]);
+    let acc = 0, lo = g.speeds[idx[0]], hi = g.speeds[idx[idx.length - 1]];
+    let loSet = false;
+    for (const k of idx) {
+      acc += g.weights[k] / total;
+      if (!loSet && acc >= 0.1) {
+        lo = g.speeds[k];
+        loSet = true;
+      }
+      if (acc >= 0.9) {
+        hi = g.speeds[k];
+        break;
+      }
+    }
+    s = { m2: inverseSpeedMoment(d, 2), q: lo > 0 && hi > 0 ? 1 / (lo * lo) - 1 / (hi * hi) : 0 };
+    scales.set(d, s);
+  }
+  return s;
+}
+
+/** The geometric full width of the undeflected beam at plane y along one axis (orifice and collimator). */
+function geometricWidth(t: Track, axis: 'x' | 'z', y: number): number {
+  const src: Rect | null = t.source;
+  const w0 = src ? (axis === 'x' ? src.width : src.height) : 0;
+  const col = t.collimator;
+  if (!col) return w0;
+  const w1 = axis === 'x' ? col.rect.width : col.rect.height;
+  const r = y / col.y;
+  return w0 * Math.abs(1 - r) + w1 * r;
+}
+
+/** Σ over kicks before plane y of a L (L/2 + y − exit) n along an axis: the deflection at y times v². */
+function deflectionCoefficient(kicks: readonly Kick[], axis: 'x' | 'z', y: number): number {
+  let s = 0;
+  for (const k of kicks) {
+    if (y < k.exitY - 1e-12) continue;
+    s += k.accel * k.length * (k.length / 2 + (y - k.exitY)) * k.n[axis];
+  }
+  return s;
+}
+
+/**
+ * For every element, the farthest distance a path goes from the element's entrance on (its gap not included), over
+ * every route behind it: the last plane at which two sub-beams that arrive there are compared.
+ */
+const reaches = new WeakMap<object, Map<string, number>>();
+function reachFrom(ctx: WalkCtx, id: string): number {
+  let byId = reaches.get(ctx.line);
+  if (!byId) reaches.set(ctx.line, (byId = new Map()));
+  const known = byId.get(id);
+  if (known !== undefined) return known;
+  // depth first without recursion; a route met again while open (a cycle the walk refuses anyway) counts as the end
+  const open = new Set<string>();
+  const stack: { id: string; outs: string[]; i: number; best: number }[] = [];
+  const push = (eid: string): void => {
+    const e = ctx.byId.get(eid);
+    open.add(eid);
+    stack.push({ id: eid, outs: e ? outputsOf(e).map((o) => o.target) : [], i: 0, best: 0 });
+  };
+  push(id);
+  let result = 0;
+  while (stack.length) {
+    const top = stack[stack.length - 1];
+    if (top.i < top.outs.length) {
+      const next = top.outs[top.i++];
+      if (next === 'stop' || open.has(next)) continue;
+      const k = byId.get(next);
+      const ne = ctx.byId.get(next);
+      if (k !== undefined) top.best = Math.max(top.best, (ne ? ne.gap : 0) + k);
+      else if (ne) push(next);
+      continue;
+    }
+    stack.pop();
+    open.delete(top.id);
+    const e = ctx.byId.get(top.id);
+    const value = (e ? lengthOf(e) : 0) + top.best;
+    byId.set(top.id, value);
+    result = value;
+    const parent = stack[stack.length - 1];
+    if (parent) parent.best = Math.max(parent.best, (e ? e.gap : 0) + value);
+  }
+  return result;
+}
+
+/** The planes at which two forks leaving for `target` are compared: every clipping strip, the current plane and the farthest one. */
+function comparePlanes(ctx: WalkCtx, w: Walk, target: string): number[] {
+  const ys = w.track.strips.map((s) => s.y);
+  const e = ctx.byId.get(target);
+  ys.push(w.y, w.y + (e ? e.gap + reachFrom(ctx, target) : 0));
+  return ys;
+}
+
+/**
+ * A fork's deflection coefficients (deflection × v², m³/s²) and the geometric width of its beam at each compared plane,
+ * x and z interleaved: what `coincide` compares.
+ */
+interface Profile {
+  coef: Float64Array;
+  width: Float64Array;
+}
+
+function profileOf(t: Track, planes: readonly number[]): Profile {
+  const coef = new Float64Array(planes.length * 2), width = new Float64Array(planes.length * 2);
+  planes.forEach((y, p) => {
+    coef[2 * p] = deflectionCoefficient(t.kicks, 'x', y);
+    coef[2 * p + 1] = deflectionCoefficient(t.kicks, 'z', y);
+    width[2 * p] = geometricWidth(t, 'x', y);
+    width[2 * p + 1] = geometricWidth(t, 'z', y);
+  });
+  return { coef, width };
+}
+
+/** True when two forks' mean deflections agree within the fraction f of the sub-beam's width at every compared plane. */
+function coincide(a: Profile, b: Profile, sc: SpeedScale, f: number): boolean {
+  const ca = a.coef, cb = b.coef, w = a.width;
+  for (let i = 0; i < ca.length; i++) {
+    const diff = Math.abs(ca[i] - cb[i]) * sc.m2;
+    if (diff === 0) continue;
+    if (!(diff <= f * (w[i] + Math.abs(ca[i] + cb[i]) * 0.5 * sc.q))) return false;
+  }
+  return true;
+}
+
+/** Forks of one bundle have passed the same elements: the same kicks but for their sizes. */
+function sameStructure(a: Track, b: Track): boolean {
+  if (a.kicks.length !== b.kicks.length || a.strips.length !== b.strips.length) return false;
+  for (let i = 0; i < a.kicks.length; i++) {
+    const ka = a.kicks[i], kb = b.kicks[i];
+    if (ka.exitY !== kb.exitY || ka.length !== kb.length || ka.n !== kb.n) return false;
+  }
+  return true;
+}
+
+/** ρ_a + ρ_b: lab-frame terms merged by phase-length, or node by node on one speed grid. */
+export function addStates(a: State, b: State): State | null {
+  if (isNodes(a) || isNodes(b)) {
+    const na = isNodes(a) ? a : null, nb = isNodes(b) ? b : null;
+    const grid = (na ?? nb)!;
+    if (na && nb && (na.speeds !== nb.speeds || na.weights !== nb.weights)) return null;
+    const at = (s: State, k: number): CMat => (isNodes(s) ? s.rhos[k] : specAt(s, grid.speeds[k]));
+    const rhos = grid.speeds.length ? Array.from(grid.speeds, (_, k) => {
+      const x = at(a, k), y = at(b, k);
+      const out = cmatZeros(x.rows, x.cols);
+      for (let i = 0; i < out.re.length; i++) {
+        out.re[i] = x.re[i] + y.re[i];
+        out.im[i] = x.im[i] + y.im[i];
+      }
+      return out;
+    }) : [];
+    const out: NodeState = { nodes: true, speeds: grid.speeds, weights: grid.weights, rhos };
+    return out;
+  }
+  const terms = mergeTerms([...specExpand(a as SpecState), ...specExpand(b as SpecState)]);
+  const d = (a as SpecState).W.rows;
+  const identity = cmatZeros(d, d);
+  for (let i = 0; i < d; i++) identity.re[i * d + i] = 1;
+  const out: SpecState = { W: identity, mu: null, terms, shared: {}, memo: {} };
+  return out;
+}
+
+/**
+ * The forks of one bundle that go the same way (one port to one target). Up to MAX_BUNDLE of them go on as they are;
+ * more are merged where their trajectories coincide within the smallest fraction of their width that brings them to
+ * MAX_BUNDLE (greedy clusters around the heaviest members, each member joining the first cluster whose seed it
+ * coincides with). `at` names the magnet (for the run's report). Returns the members in their first-seen order.
+ */
+export function mergeForks(ctx: WalkCtx, at: string, target: string, forks: readonly Member[]): Member[] {
+  const fmax = ctx.opts.mergeFraction ?? MERGE_FRACTION;
+  if (forks.length <= MAX_BUNDLE || !(fmax > 0)) return [...forks];
+  const sc = speedScale(ctx.dist);
+  const planes = comparePlanes(ctx, forks[0].walk, target);
+  const t0 = forks[0].walk.track;
+  if (!forks.every((m) => sameStructure(t0, m.walk.track))) return [...forks];
+  const profiles = forks.map((m) => profileOf(m.walk.track, planes));
+  const weights = forks.map((m) => Math.max(0, averagedTrace(ctx, m.st)));
+  const order = forks.map((_, i) => i).sort((i, j) => weights[j] - weights[i] || i - j);
+  const ladder = [...MERGE_FRACTIONS.filter((f) => f < fmax), fmax];
+  let clusterOf = new Int32Array(0), count = forks.length, used = 0;
+  for (const f of ladder) {
+    const seeds: number[] = [];
+    const cl = new Int32Array(forks.length).fill(-1);
+    for (const i of order) {
+      for (let c = 0; c < seeds.length; c++) {
+        if (coincide(profiles[seeds[c]], profiles[i], sc, f)) {
+          cl[i] = c;
+          break;
+        }
+      }
+      if (cl[i] < 0) {
+        cl[i] = seeds.length;
+        seeds.push(i);
+      }
+    }
+    if (seeds.length < count) {
+      clusterOf = cl;
+      count = seeds.length;
+      used = f;
+    }
+    if (seeds.length <= MAX_BUNDLE) break;
+  }
+  if (count === forks.length) return [...forks];
+  const members: number[][] = Array.from({ length: count }, () => []);
+  for (let i = 0; i < forks.length; i++) members[clusterOf[i]].push(i);
+  const out: Member[] = [];
+  for (const idx of members.sort((p, q) => p[0] - q[0])) {
+    if (idx.length === 1) {
+      out.push(forks[idx[0]]);
+      continue;
+    }
+    let st: State | null = forks[idx[0]].st;
+    for (let k = 1; k < idx.length && st; k++) st = addStates(st, forks[idx[k]].st);
+    if (!st) {
+      for (const i of idx) out.push(forks[i]);
+      continue;
+    }
+    ctx.merged.count += idx.length - 1;
+    ctx.merged.at.add(at);
+    ctx.merged.fraction = Math.max(ctx.merged.fraction, used);
+    out.push({ st, walk: { ...forks[idx[0]].walk, track: meanTrack(idx.map((i) => forks[i].walk.track), idx.map((i) => weights[i])) } });
+  }
+  return out;
+}
+
+/** The tracks' flux-weighted mean kicks (equal weights where none carries flux). */
+function meanTrack(tracks: readonly Track[], weights: readonly number[]): Track {
+  let total = 0;
+  for (const w of weights) total += w;
+  const ws = total > 0 ? weights.map((w) => w / total) : weights.map(() => 1 / weights.length);
+  const kicks = tracks[0].kicks.map((k, i) => {
+    let a = 0;
+    for (let t = 0; t < tracks.length; t++) a += ws[t] * tracks[t].kicks[i].accel;
+    return { ...k, accel: a };
+  });
+  return { ...tracks[0], kicks };
+}
