@@ -12,6 +12,7 @@ import {
 import { newDocument } from './default-doc.ts';
 import { getAt } from './doc-path.ts';
 import { problemsFor } from './editing.ts';
+import { regroupPorts } from './levels-view.ts';
 import { defaultVelocity, type FieldSpec, type VelocityKind } from './fields.ts';
 
 export type InspectorEdit =
@@ -113,6 +114,19 @@ export function applyInspectorEdit(doc: BeamlineDoc, line: Beamline, e: Inspecto
     }
     case 'value': {
       const { path, value } = e;
+      // a magnet's sorting changed: its ports are carried over to the new group's labels (each level keeps its
+      // target, through the levels at the magnet's field), or the change is refused where they cannot be
+      const g = /^elements\[(\d+)\]\.group$/.exec(path);
+      const el = g ? doc.elements[Number(g[1])] : undefined;
+      if (g && el?.kind === 'magnet' && (value === 'mJ' || value === 'each')) {
+        const r = regroupPorts(line, el.id, value);
+        if (r && !r.ok) return { ok: false, field: path, text: String(value), message: r.message };
+        if (r) {
+          const next = editAt(doc, path, value);
+          const both = next.ok ? editAt(next.doc, `elements[${g[1]}].ports`, r.ports) : next;
+          return both.ok ? atField(both.doc, path, String(value)) : { ok: false, field: path, text: String(value), message: both.message };
+        }
+      }
       const v = path === 'oven.velocity' ? defaultVelocity(value as VelocityKind, getAt(doc, 'oven.velocity') as Record<string, unknown>) : value;
       const r = editAt(doc, path, v);
       return r.ok ? atField(r.doc, path, String(value)) : { ok: false, field: path, text: String(value), message: r.message };

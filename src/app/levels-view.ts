@@ -107,3 +107,45 @@ function makeCurves(species: string, maxField: number, points: number): BreitRab
   }
   return { fields, curves: [...curves].map(([name, energy]) => ({ name, energy })) };
 }
+
+export type Regrouped = { ok: true; ports: Record<string, string> } | { ok: false; message: string };
+
+/**
+ * A magnet's ports carried over to sorting by `group` (docs/design.md, "Port labels"): each level keeps the target
+ * it has now, found through the levels at the magnet's field — sorting by eigenstate, every |F, m_F⟩ goes where its
+ * m_J port went; sorting by m_J, each m_J port goes where all its eigenstates went, and a split that m_J sorting
+ * cannot keep (two eigenstates of one m_J to different targets) is refused, naming them. Ports ending at a stop
+ * are written as "*" → stop. Undefined where there is nothing to carry over (the same group, a bare spin, a
+ * mixture, a magnet without a field).
+ */
+export function regroupPorts(line: Beamline, id: string, group: 'mJ' | 'each'): Regrouped | undefined {
+  const view = levelsView(line);
+  if (!view.ok) return undefined;
+  const m = view.magnets.find((x) => x.id === id);
+  if (!m || m.group === group || m.rows.some((r) => r.isotope)) return undefined;
+  const to = new Map<string, { target: string; levels: string[] }[]>();
+  for (const r of m.rows) {
+    const port = portOfLevel(r, group);
+    const list = to.get(port) ?? [];
+    const same = list.find((x) => x.target === r.target);
+    if (same) same.levels.push(r.lowField);
+    else list.push({ target: r.target, levels: [r.lowField] });
+    to.set(port, list);
+  }
+  const split = [...to].filter(([, list]) => list.length > 1);
+  if (split.length > 0) {
+    const [port, list] = split[0];
+    return {
+      ok: false,
+      message: `sorting ${id} by m_J would put ${list.map((x) => `${x.levels.join(', ')} (to ${x.target})`).join(' and ')} into one port ${port}: route them to one target first`,
+    };
+  }
+  const ports: Record<string, string> = {};
+  let stopped = false;
+  for (const [port, [only]] of to) {
+    if (only.target === 'stop') stopped = true;
+    else ports[port] = only.target;
+  }
+  if (stopped) ports['*'] = 'stop';
+  return { ok: true, ports };
+}

@@ -4,6 +4,9 @@ import { describe, expect, it } from 'vitest';
 import { checkDocument, runEngine, type Beamline, type BeamlineDoc } from '../../src/app/core-adapter.ts';
 import { newDocument } from '../../src/app/default-doc.ts';
 import { applyInspectorEdit, type InspectorEdit } from '../../src/app/inspector-edit.ts';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { readDocument } from '../../src/app/core-adapter.ts';
 
 const check = (d: BeamlineDoc) => {
   const r = checkDocument(d);
@@ -66,5 +69,29 @@ describe('a position from the oven aperture', () => {
   it('keeps a refused position beside its field', () => {
     const r = apply(newDocument(), { kind: 'position', id: 'M2', text: '20 cm', upstreamExit: 0.35, upstreamName: 'M1' });
     expect(r).toMatchObject({ ok: false, field: 'elements[1].position', text: '20 cm' });
+  });
+});
+
+describe('a magnet\'s sorting group changed from the inspector', () => {
+  const benchH = () => {
+    const r = readDocument(readFileSync(join(import.meta.dirname, '..', '..', 'samples', 'bench-h-rb87-mj-then-eigenstate.spinyard'), 'utf8'));
+    if (!r.ok) throw new Error('bench H does not read');
+    return r.doc;
+  };
+  it('carries the ports over: M1 by eigenstate sends the four m_J = +1/2 states on to M2, and the line runs as before', () => {
+    const d = benchH();
+    const r = apply(d, { kind: 'value', path: 'elements[1].group', value: 'each' });
+    expect(r).toMatchObject({ ok: true, label: 'M1 group = each' });
+    if (!r.ok) return;
+    expect((r.doc.elements[1] as { ports: Record<string, string> }).ports).toEqual({ 'F=2,mF=+2': 'M2', 'F=2,mF=+1': 'M2', 'F=2,mF=0': 'M2', 'F=2,mF=-1': 'M2', '*': 'stop' });
+    // the same atoms reach each detector: the detectors' yields are unchanged to round-off
+    const before = runEngine(lineOf(d)).detectors.map((x) => x.yield);
+    const after = runEngine(lineOf(r.doc)).detectors.map((x) => x.yield);
+    after.forEach((y, i) => expect(y).toBeCloseTo(before[i], 9));
+  });
+  it('refuses M2 by m_J, which would merge its collectors, with the reason at the field', () => {
+    const r = apply(benchH(), { kind: 'value', path: 'elements[2].group', value: 'mJ' });
+    expect(r).toMatchObject({ ok: false, field: 'elements[2].group' });
+    expect(!r.ok && r.message).toMatch(/would put F=2,mF=\+2 \(to D1\) and/);
   });
 });

@@ -8,7 +8,7 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { readDocument } from '../../src/app/core-adapter.ts';
-import { breitRabiCurves, levelsView, portOfLevel } from '../../src/app/levels-view.ts';
+import { breitRabiCurves, levelsView, portOfLevel, regroupPorts } from '../../src/app/levels-view.ts';
 import { lookupSpecies, type AtomSpecies } from '../../src/species/index.ts';
 import { BOHR_MAGNETON, PLANCK } from '../../src/physics/constants.ts';
 
@@ -84,5 +84,22 @@ describe('portOfLevel and breitRabiCurves', () => {
     const down = c.curves.find((x) => x.name === 'F=1,mF=0')!;
     expect(up.energy[0] - down.energy[0]).toBeCloseTo(dE, 0);
     c.curves.forEach((x) => x.energy.forEach((e, i) => expect(Math.abs(e - breitRabi(x.name.startsWith('F=2'), Number(/mF=([-+]?\d)/.exec(x.name)![1]), c.fields[i]))).toBeLessThan(1)));
+  });
+});
+
+describe('regroupPorts', () => {
+  const line = sample('bench-h-rb87-mj-then-eigenstate.spinyard');
+  it('carries M1\'s m_J ports over to its eigenstates at 0.5 T: the four with m_J = +1/2 go on to M2', () => {
+    const r = regroupPorts(line, 'M1', 'each');
+    expect(r).toEqual({ ok: true, ports: { 'F=2,mF=+2': 'M2', 'F=2,mF=+1': 'M2', 'F=2,mF=0': 'M2', 'F=2,mF=-1': 'M2', '*': 'stop' } });
+  });
+  it('refuses to sort M2 by m_J: its m_J = +1/2 eigenstates go to four collectors', () => {
+    const r = regroupPorts(line, 'M2', 'mJ');
+    expect(r?.ok).toBe(false);
+    if (r && !r.ok) expect(r.message).toMatch(/^sorting M2 by m_J would put F=2,mF=\+2 \(to D1\) and F=2,mF=\+1 \(to D2\)/);
+  });
+  it('has nothing to do for the same group or an unknown magnet', () => {
+    expect(regroupPorts(line, 'M1', 'mJ')).toBeUndefined();
+    expect(regroupPorts(line, 'X', 'each')).toBeUndefined();
   });
 });
