@@ -190,4 +190,18 @@ describe('every set-point editable (bench H, Rb-87)', () => {
     if (gap !== undefined) expect(gap).toBe('5 cm');
     await shot('bench-h-m2-position');
   });
+
+  it('switches M1 to sorting by eigenstate: its ports are carried over, the detectors see the same yields', async () => {
+    const { page } = app;
+    const before = await tableYields(page);
+    await selectElement('M1');
+    await page.getByLabel('ports group').selectOption('each');
+    seq = await waitForFreshResults(page, seq);
+    const ports = await page.$$eval('.inspector table.routes select[data-port]', (xs) => xs.map((x) => [(x as HTMLSelectElement).dataset.port, (x as HTMLSelectElement).value]));
+    expect(ports).toEqual([['F=2,mF=+2', 'M2'], ['F=2,mF=+1', 'M2'], ['F=2,mF=0', 'M2'], ['F=2,mF=-1', 'M2'], ['*', 'stop']]);
+    const after = await tableYields(page);
+    const sumAt = (rows: typeof before, t: string) => rows.filter((r) => r.target === t).reduce((a, r) => a + r.yield, 0);
+    for (const t of ['D1', 'D2', 'D3', 'D4']) expect(sumAt(after, t)).toBeCloseTo(sumAt(before, t), 9);
+    await shot('bench-h-m1-by-eigenstate');
+  });
 });
