@@ -97,7 +97,7 @@ export function LevelsPanel({ line, only, dark, seq }: Props) {
                     {r.isotope ? `${r.isotope} ` : ''}{r.lowField}
                   </td>
                   <td className="num">{energies[i]}</td><td className="num">{moments[i]}</td>
-                  <td style={{ whiteSpace: 'nowrap' }}>{m.group === 'mJ' ? `${r.port} → ` : ''}{r.target === 'stop' ? 'stop' : <strong>{r.target}</strong>}</td>
+                  <td>{m.group === 'mJ' ? `${r.port} → ` : ''}{r.target === 'stop' ? 'stop' : <strong>{r.target}</strong>}</td>
                 </tr>
               ))}
             </tbody>

@@ -8,8 +8,8 @@ import { QuantityInput } from './QuantityInput.tsx';
 export type StateKind = 'unpolarized' | 'pure' | 'populations';
 const KINDS: readonly { kind: StateKind; label: string }[] = [
   { kind: 'unpolarized', label: 'unpolarised' },
-  { kind: 'pure', label: 'pure state along an axis' },
-  { kind: 'populations', label: 'populations along an axis' },
+  { kind: 'pure', label: 'pure state (axis)' },
+  { kind: 'populations', label: 'populations (axis)' },
 ];
 
 type Axis = { theta: QuantityDoc; phi: QuantityDoc } | { roll: QuantityDoc };
@@ -57,7 +57,7 @@ export function OvenState({ state, labels, error, onChange }: Props) {
       <legend style={{ fontWeight: 600 }}>Initial state</legend>
       <div className="field">
         <label htmlFor={kindId}>state</label>
-        <select id={kindId} name="oven.state.kind" value={known ? kind : ''}
+        <select id={kindId} name="oven.state.kind" value={known ? kind : ''} style={{ minWidth: 0, maxWidth: '100%' }}
           onChange={(e) => onChange(ovenStateOfKind(state, e.target.value as StateKind, labels), e.target.value)}>
           {!known && <option value="">{kind} (as written in the file)</option>}
           {KINDS.map((k) => <option key={k.kind} value={k.kind}>{k.label}</option>)}
@@ -84,7 +84,7 @@ export function OvenState({ state, labels, error, onChange }: Props) {
       {state.kind === 'pure' && (
         <div className="field">
           <label htmlFor={pureId}>state m</label>
-          <select id={pureId} name="oven.state.m" value={state.m} onChange={(e) => onChange({ ...state, m: e.target.value }, `pure ${e.target.value}`)}>
+          <select id={pureId} name="oven.state.m" value={state.m} style={{ minWidth: 0, maxWidth: '100%' }} onChange={(e) => onChange({ ...state, m: e.target.value }, `pure ${e.target.value}`)}>
             {!labels.includes(state.m) && <option value={state.m}>{state.m}</option>}
             {labels.map((l) => <option key={l} value={l}>{l}</option>)}
           </select>
