@@ -483,6 +483,9 @@ export function setPositionFromOven(doc: BeamlineDoc, id: string, position: stri
   const factor = unit === undefined ? undefined : parseQuantity(`1 ${unit}`, 'length', 'unit');
   const [u, f] = typeof factor === 'number' && factor > 0 ? [unit!, factor] : ['mm', 1e-3];
   const gap = clean12((pos - upstreamExit) / f);
+  if (gap < 0 && upstreamExit === 0) {
+    return { ok: false, message: `${id} cannot start at ${clean12(pos / f)} ${u}: positions are measured downstream from the oven aperture, from 0 on` };
+  }
   if (gap < 0) {
     const exit = clean12(upstreamExit / f);
     return { ok: false, message: `${id} cannot start at ${clean12(pos / f)} ${u} from the oven aperture: ${upstreamName} ends at ${exit} ${u}, so its gap would be negative (move ${upstreamName} first)` };

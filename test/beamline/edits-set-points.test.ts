@@ -123,6 +123,11 @@ describe('a position from the oven aperture', () => {
     expect(r.ok).toBe(false);
     if (!r.ok) expect(r.message).toBe('F1 cannot start at 40 cm from the oven aperture: M1 ends at 45 cm, so its gap would be negative (move M1 first)');
   });
+  it('refuses a place upstream of the oven aperture for the first element', () => {
+    const r = setPositionFromOven(rbDoc(), 'S1', '-2 cm', 0, 'the oven aperture');
+    expect(r.ok).toBe(false);
+    if (!r.ok) expect(r.message).toBe('S1 cannot start at -2 cm: positions are measured downstream from the oven aperture, from 0 on');
+  });
   it('refuses what is not a length, and an unknown element', () => {
     const r = setPositionFromOven(rbDoc(), 'F1', '40 T', 0.45, 'M1');
     expect(r.ok).toBe(false);
