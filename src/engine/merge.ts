@@ -14,13 +14,14 @@
  * the central 80 % of the flux's 1/v².
  */
 import { type CMat, cmatZeros } from '../physics/cmat.ts';
-import { speedGrid, inverseSpeedMoment, type VelocityDistribution } from '../physics/velocity.ts';
+import { speedGrid, speedRange, inverseSpeedMoment, type VelocityDistribution } from '../physics/velocity.ts';
 import type { Rect } from '../beamline/types.ts';
 import { lengthOf, outputsOf } from '../beamline/elements/registry.ts';
 import type { Kick, Track } from './subbeam.ts';
 import { type SpecState, specExpand, mergeTerms, specAt } from './spectral.ts';
 import { type NodeState, type State, isNodes, averagedTrace } from './nodes.ts';
 import type { Walk, WalkCtx } from './steps/step.ts';
+import { RunError } from './errors.ts';
 
 /**
  * A bundle keeps at most this many sub-beams per port: below it every sorted state is followed on its own (exact);
@@ -30,6 +31,12 @@ export const MAX_BUNDLE = 16;
 
 /** The fractions of a sub-beam's width tried in turn, up to the run's largest (RunOptions.mergeFraction). */
 export const MERGE_FRACTIONS = [1e-4, 3e-4, 1e-3, 3e-3, 0.01] as const;
+
+/**
+ * A port whose sub-beams stay above this count even when merged at the run's largest fraction is refused: they
+ * would multiply again at the next magnet.
+ */
+export const MAX_UNMERGED = 256;
 
 /** The largest fraction used unless a run says otherwise; a bundle still above MAX_BUNDLE there keeps its clusters. */
 export const MERGE_FRACTION = 0.01;
@@ -188,6 +195,36 @@ function sameStructure(a: Track, b: Track): boolean {
   return true;
 }
 
+/**
+ * True when no atom of the sub-beam passes some aperture it has met: at a strip's plane, the undeflected beam's extent
+ * (every line from the oven orifice through the collimator) moved by the deflections of the fastest to the slowest
+ * speeds of the distribution lies wholly beside the strip. Such a sub-beam goes no further (its flux is lost there);
+ * speeds outside speedRange hold under 1e-9 of the flux.
+ */
+export function blockedByApertures(t: Track, d: VelocityDistribution): boolean {
+  const col = t.collimator, src = t.source;
+  if (!col || t.kicks.length === 0) return false;
+  const [vmin, vmax] = speedRange(d);
+  for (const s of t.strips) {
+    if (s.y < t.kicks[0].exitY - t.kicks[0].length) continue;
+    const w0 = src ? (s.axis === 'x' ? src.width : src.height) : 0, c0 = src ? (s.axis === 'x' ? src.x : src.z) : 0;
+    const w1 = s.axis === 'x' ? col.rect.width : col.rect.height, c1 = s.axis === 'x' ? col.rect.x : col.rect.z;
+    const r = s.y / col.y;
+    let lo = Infinity, hi = -Infinity;
+    for (const p of [c0 - w0 / 2, c0 + w0 / 2]) for (const q of [c1 - w1 / 2, c1 + w1 / 2]) {
+      const x = p + (q - p) * r;
+      lo = Math.min(lo, x);
+      hi = Math.max(hi, x);
+    }
+    const coef = deflectionCoefficient(t.kicks, s.axis, s.y);
+    if (coef === 0) continue;
+    const fast = coef / (vmax * vmax), slow = vmin > 0 ? coef / (vmin * vmin) : coef * Infinity;
+    const dlo = Math.min(fast, slow), dhi = Math.max(fast, slow);
+    if (hi + dhi < s.lo || lo + dlo > s.hi) return true;
+  }
+  return false;
+}
+
 /** ρ_a + ρ_b: lab-frame terms merged by phase-length, or node by node on one speed grid. */
 export function addStates(a: State, b: State): State | null {
   if (isNodes(a) || isNodes(b)) {
@@ -254,6 +291,9 @@ export function mergeForks(ctx: WalkCtx, at: string, target: string, forks: read
       used = f;
     }
     if (seeds.length <= MAX_BUNDLE) break;
+  }
+  if (count > MAX_UNMERGED) {
+    throw new RunError(`${at}: ${forks.length.toLocaleString('en-US')} sub-beams leave for ${target}, and ${count.toLocaleString('en-US')} of them still differ by more than ${(fmax * 100).toPrecision(1)} % of their width somewhere along the line; each magnet behind would multiply them again. Route the ports you do not measure to "stop", shorten the chain of deflecting magnets, or split the line into parts`);
   }
   if (count === forks.length) return [...forks];
   const members: number[][] = Array.from({ length: count }, () => []);

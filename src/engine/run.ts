@@ -11,7 +11,9 @@
  */
 import type { CMat } from '../physics/cmat.ts';
 import type { VelocityDistribution } from '../physics/velocity.ts';
-import type { Beamline } from '../beamline/types.ts';
+import type { Beamline, Detector, Element } from '../beamline/types.ts';
+import { outputsOf } from '../beamline/elements/registry.ts';
+import { countSigma, countsIn, signalToBackground } from './counting.ts';
 import { speciesSystems } from './system.ts';
 import { CharCache } from './average.ts';
 import type { RunResult, LeafResult, DetectorResult } from './result.ts';
@@ -58,6 +60,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const hermiticity = { max: 0, positive: true };
   const sampled = { nodes: 0, error: 0, unconverged: new Map<string, { error: number; speeds: number }>() };
   const merged = { count: 0, fraction: 0, at: new Set<string>() };
+  const blocked = new Set<string>();
   let chiNodes = 0, chiError = 0, wasmUsed = false;
   const dists: VelocityDistribution[] = [];
   systems.forEach(({ system, fraction }, i) => {
@@ -67,7 +70,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     const ctx: WalkCtx = {
       sys: system, fraction, dist, chi, line, byId, leaves, lost, warnings, positions, opts,
       counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(), seen: new Set(), fieldEigen: [],
-      hAmbient: system.hamiltonian(line.ambient), ambientZero: false, visit, visitBundle, merged,
+      hAmbient: system.hamiltonian(line.ambient), ambientZero: false, visit, visitBundle, merged, blocked,
     };
     ctx.ambientZero = isZeroMatrix(ctx.hAmbient);
     const st0 = initialSpec(line, system);
@@ -99,6 +102,10 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const balance = Math.abs(totalYield + lostTotal - 1);
   const leavesOut: LeafResult[] = geo.leaves;
   const detectors: DetectorResult[] = geo.detectors;
+  // a detector that only sub-beams stopped on the way would reach still counts its background
+  for (const det of detectorsBehind(byId, blocked)) {
+    if (!detectors.some((d) => d.id === det.id)) detectors.push(emptyDetector(det, opts.epsilon ?? 0.01));
+  }
   // written so that NaN fails it too
   if (!(balance <= 1e-12)) warnings.add(`invariant: Σ yields + lost = ${(totalYield + lostTotal).toPrecision(15)}, not 1 within 1e-12`);
   if (hermiticity.max > 1e-12) warnings.add(`invariant: the averaged state lost Hermiticity (‖ρ − ρ†‖ = ${hermiticity.max.toExponential(1)})`);
@@ -153,6 +160,31 @@ function requireFinite(line: Beamline, leaves: readonly LeafResult[], detectors:
     if (found) throw new RunError(`${where(d.id)}: ${found}; the set-points give no finite result (check its efficiency, background and dwell, and the flux)`);
   }
   if (!Number.isFinite(lost)) throw new RunError(`the lost fraction is ${lost}; the set-points give no finite result`);
+}
+
+/** The detectors reached from the targets by the line's routing (the targets themselves included), in the line's order. */
+function detectorsBehind(byId: ReadonlyMap<string, Element>, targets: ReadonlySet<string>): Detector[] {
+  const seen = new Set<string>();
+  const stack = [...targets];
+  while (stack.length) {
+    const id = stack.pop()!;
+    if (id === 'stop' || seen.has(id)) continue;
+    seen.add(id);
+    const e = byId.get(id);
+    if (e) for (const o of outputsOf(e)) stack.push(o.target);
+  }
+  return [...byId.values()].filter((e): e is Detector => e.kind === 'detector' && seen.has(e.id));
+}
+
+/** A detector no atom reaches: its background alone. */
+function emptyDetector(det: Detector, epsilon: number): DetectorResult {
+  const counts = countsIn(det.background, det.dwell);
+  const sb = signalToBackground(0, det.background);
+  return {
+    id: det.id, yield: 0, rate: det.background, counts, sigma: countSigma(counts), signal: 0, background: det.background, dwell: det.dwell,
+    ...(Number.isFinite(sb) ? { signalToBackground: sb } : {}),
+    timeToPrecision: { epsilon },
+  };
 }
 
 const zeroMatrices = new WeakMap<CMat, boolean>();

@@ -7,7 +7,9 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { runDocumentText, type RunResult } from '../../src/engine/index.ts';
-import { addStates, MAX_BUNDLE, MERGE_FRACTION } from '../../src/engine/merge.ts';
+import { addStates, blockedByApertures, MAX_BUNDLE, MERGE_FRACTION } from '../../src/engine/merge.ts';
+import type { Track } from '../../src/engine/subbeam.ts';
+import { effusiveDistribution } from '../../src/physics/velocity.ts';
 import { specAt, specInitial, specKraus, specPropagate } from '../../src/engine/spectral.ts';
 import { cmatZeros } from '../../src/physics/cmat.ts';
 
@@ -15,7 +17,7 @@ import { cmatZeros } from '../../src/physics/cmat.ts';
  * A lab's chain of Rb-87 state analysers: n magnets (0.5 T, 200 T/m, 5 cm, pole gaps 2 mm × 6 mm), each passing
  * m_J = +1/2 through a 40° rotator to the next and sending m_J = −1/2 to its own collector.
  */
-function chain(n: number, gradient = '200 T/m'): string {
+function chain(n: number, gradient = '200 T/m', speed?: string): string {
   const elements: unknown[] = [{ id: 'S1', kind: 'slit', gap: '30 cm', width: '1 mm', height: '0.05 mm', to: 'M1' }];
   for (let i = 1; i <= n; i++) {
     const last = i === n;
@@ -29,7 +31,7 @@ function chain(n: number, gradient = '200 T/m'): string {
   elements.push({ id: 'D1', kind: 'detector', gap: '30 cm', efficiency: 0.9, background: '1 /s', dwell: '10 s', window: { width: '2 mm', height: '30 mm' } });
   return JSON.stringify({
     format: 'spinyard.beamline', version: 1, title: `Rb-87 analyser chain of ${n}`, species: 'Rb-87',
-    oven: { state: { kind: 'unpolarized' }, flux: '5e8 /s', velocity: { kind: 'effusive', temperature: '420 K' }, aperture: { width: '1 mm', height: '0.05 mm' }, to: 'S1' },
+    oven: { state: { kind: 'unpolarized' }, flux: '5e8 /s', velocity: speed ? { kind: 'fixed', speed } : { kind: 'effusive', temperature: '420 K' }, aperture: { width: '1 mm', height: '0.05 mm' }, to: 'S1' },
     elements,
   });
 }
@@ -104,6 +106,40 @@ describe('a chain of Rb-87 analysers', () => {
     expect(r.invariants.balance).toBeLessThan(1e-12);
     for (const d of r.detectors) expect(Number.isFinite(d.rate) && d.rate > 0).toBe(true);
     expect(r.warnings.filter((x) => x.startsWith('invariant'))).toEqual([]);
+  });
+});
+
+describe('sub-beams that no atom carries past an aperture', () => {
+  // a 1 mm orifice and a 1 mm collimator 0.3 m apart, a strip of ±1 mm at 0.5 m
+  const base = (accel: number): Track => ({
+    source: { width: 1e-3, height: 1e-3, x: 0, z: 0 },
+    collimator: { y: 0.3, rect: { width: 1e-3, height: 1e-3, x: 0, z: 0 } },
+    kicks: [{ exitY: 0.4, length: 0.05, accel, n: { x: 0, y: 0, z: 1 } }],
+    strips: [{ y: 0.5, lo: -1e-3, hi: 1e-3, axis: 'z' }],
+    components: [],
+  });
+  // extent at 0.5 m: corners p ± 0.5 mm, q ± 0.5 mm, p + (q − p)·5/3 → ±(0.5·2/3 + 0.5·5/3) mm = ±7/6 mm
+  const dist = effusiveDistribution(420, 86.909 * 1.66053906660e-27);
+
+  it('is blocked when even its fastest atoms land beside the strip, and not when they reach it', () => {
+    // deflection at 0.5 m is a·L·(L/2 + 0.1)/v²; fastest speed 4.8·√(2kT/M) ≈ 1366 m/s
+    const vmax = 4.8 * Math.sqrt((2 * 1.380649e-23 * 420) / (86.909 * 1.66053906660e-27));
+    const lever = 0.05 * (0.025 + 0.1);
+    // the beam's lower edge −7/6 mm moved past +1 mm needs a·lever/vmax² > 13/6 mm
+    const edge = ((13 / 6) * 1e-3 * vmax * vmax) / lever;
+    expect(blockedByApertures(base(edge * 1.01), dist)).toBe(true);
+    expect(blockedByApertures(base(edge * 0.99), dist)).toBe(false);
+    expect(blockedByApertures(base(-edge * 1.01), dist)).toBe(true);
+    expect(blockedByApertures(base(0), dist)).toBe(false);
+  });
+
+  it('a chain of 20 at one speed, whose beam leaves the pole gaps after four magnets, ends there with the flux counted as lost', () => {
+    const r = run(chain(20, '200 T/m', '350 m/s'));
+    expect(r.detectors.map((d) => d.id).sort()).toEqual(['D1', ...Array.from({ length: 19 }, (_, i) => `X${i + 2}`)].sort());
+    const reached = r.detectors.filter((d) => d.signal > 0).map((d) => d.id).sort();
+    expect(reached).toEqual(['X2', 'X3', 'X4']);
+    for (const d of r.detectors.filter((x) => x.signal === 0)) expect(d.rate).toBe(d.background);
+    expect(r.invariants.balance).toBeLessThan(1e-12);
   });
 });
 

@@ -7,11 +7,11 @@
 import { BOHR_MAGNETON } from '../../physics/constants.ts';
 import type { Magnet } from '../../beamline/types.ts';
 import type { Track } from '../detector-plane.ts';
-import type { State } from '../nodes.ts';
+import { type State, averagedTrace } from '../nodes.ts';
 import { drift } from '../propagate.ts';
 import { driftCommutesWithSort, getSorting, portComponents, routeOf, selectStates } from '../sorting.ts';
 import { type Step, type Walk, type WalkCtx, fork } from './step.ts';
-import { type Member, mergeForks } from '../merge.ts';
+import { type Member, blockedByApertures, mergeForks } from '../merge.ts';
 
 /**
  * A warning when the collimated beam, undeflected, is already wider or taller at a magnet's entrance
@@ -69,6 +69,12 @@ function sortBundle(ctx: WalkCtx, e: Magnet, members: readonly Member[], exit: n
         y: exit,
         track: { ...walk.track, kicks: [...walk.track.kicks, ...kick], strips: [...walk.track.strips, ...strips], components: [...walk.track.components, `${e.id}:${c.lowField}`] },
       });
+      if (deflects && blockedByApertures(w.track, ctx.dist)) {
+        // no atom of this sub-beam passes an aperture it meets: its flux is lost there
+        ctx.lost.spin += ctx.fraction * averagedTrace(ctx, selectStates(m.st, [c]));
+        ctx.blocked.add(to);
+        continue;
+      }
       const key = `${c.port}\u0000${to}`;
       let g = groups.get(key);
       if (!g) groups.set(key, (g = { to, forks: [] }));

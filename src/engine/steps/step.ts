@@ -72,6 +72,8 @@ export interface WalkCtx {
   visitBundle: VisitBundle;
   /** How many sub-beams were merged into others (merge.ts). */
   merged: { count: number; fraction: number; at: Set<string> };
+  /** Targets of sub-beams that no atom reaches (stopped by an aperture at the magnet that split them off). */
+  blocked: Set<string>;
 }
 
 /** Where one path of the walk is: the magnets' ports passed, the distance from the orifice, its transverse track. */
