@@ -53,7 +53,7 @@ export function OvenState({ state, labels, error, onChange }: Props) {
   };
   const setAxis = (next: Axis, what: string) => onChange({ ...(state as Extract<OvenStateDoc, { axis: Axis }>), axis: next }, what);
   return (
-    <fieldset className="oven-state" aria-label="Initial state" style={{ minWidth: 0, margin: '6px 0', padding: '4px 6px', border: '1px solid var(--line, #c8ced6)' }}>
+    <fieldset className="oven-state" aria-label="Initial state" style={{ minWidth: 0, margin: '6px 0', padding: '4px 6px', border: '1px solid var(--rule)' }}>
       <legend style={{ fontWeight: 600 }}>Initial state</legend>
       <div className="field">
         <label htmlFor={kindId}>state</label>
