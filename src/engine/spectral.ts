@@ -26,6 +26,7 @@ import {
   type BasisFactors, type PropagatorFactors, leftTimesBlocks, kTimesLeft, blocksDaggerTimes, blocksDaggerSandwich, rotatedBasis,
 } from './blocks.ts';
 import { workArray } from './work.ts';
+import { CostError } from './errors.ts';
 
 export type { BasisFactors, PropagatorFactors } from './blocks.ts';
 export { workArray } from './work.ts';
@@ -235,8 +236,30 @@ const orderScratch = workArray((n) => new Int32Array(n)), gramScratch = workArra
  * ρ(s) → U(s) ρ(s) U(s)† with U(s) = V e^{−iΛℓs} V† (H = V Λ V†, Λ in rad/s). The step is skipped when
  * every term commutes with H (then U ρ U† = ρ exactly: e.g. a hyperfine drift of a state diagonal in F).
  */
+/**
+ * The most frequency terms a state may be expanded into before a propagator. Each non-commuting propagator can
+ * multiply the terms by up to r² (the distinct Bohr frequencies of the basis before it): for Cs (16 states) a third
+ * field region in a new direction would make 65,536 terms of 16×16, minutes and gigabytes of work.
+ */
+export const MAX_SPEC_TERMS = 8192;
+
+/** An upper bound on the lab-frame terms specExpand makes: terms × the distinct differences μ_a − μ_b. */
+function expandedTermsBound(st: SpecState): number {
+  if (!st.mu) return st.terms.length;
+  const diffs = new Set<number>();
+  const mu = st.mu;
+  for (let a = 0; a < mu.length; a++) for (let b = 0; b < mu.length; b++) diffs.add(mu[a] - mu[b]);
+  return st.terms.length * diffs.size;
+}
+
 export function specPropagate(st: SpecState, vectors: () => CMat, lambda: ArrayLike<number>, length: number, factors?: PropagatorFactors): SpecState {
   const d = lambda.length;
+  if (st.mu !== null) {
+    const bound = expandedTermsBound(st);
+    if (bound > MAX_SPEC_TERMS) {
+      throw new CostError(`the spin state arriving here carries ${st.terms.length.toLocaleString('en-US')} frequency terms over ${st.mu.length} states, and this field (not along the one before it) would make up to ${bound.toLocaleString('en-US')} of them (more than ${MAX_SPEC_TERMS.toLocaleString('en-US')}): averaging each frequency over the speeds would take minutes and gigabytes`);
+    }
+  }
   const snapped = snapDegenerate(lambda);
   let lab: SpecTerm[], xs: CMat[];
   if (st.mu === null) {

@@ -7,7 +7,7 @@
  */
 import type { Element } from '../beamline/types.ts';
 import { lengthOf } from '../beamline/elements/registry.ts';
-import { CancelledError, RunError } from './errors.ts';
+import { CancelledError, CostError, RunError } from './errors.ts';
 import type { State } from './nodes.ts';
 import { drift } from './propagate.ts';
 import { finishLeaf } from './leaf.ts';
@@ -43,8 +43,13 @@ export function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void
       ctx.warnings.add(`${e.path}: reached at ${(entrance * 100).toFixed(1)} cm along one path and ${(pos.entrance * 100).toFixed(1)} cm along another; the gaps of the paths that share it disagree`);
     }
     const step = STEPS[e.kind] as Step<Element>;
-    const s = step.enter ? step.enter(ctx, e, st) : drift(ctx, st, e.gap);
-    const out = step.run(ctx, e, s, walk, entrance, exit);
+    let out: State | undefined;
+    try {
+      const s = step.enter ? step.enter(ctx, e, st) : drift(ctx, st, e.gap);
+      out = step.run(ctx, e, s, walk, entrance, exit);
+    } catch (err) {
+      throw costNamed(err, e);
+    }
     if (out === undefined) return;
     target = (e as { to: string }).to;
     st = out;
@@ -76,18 +81,33 @@ export function visitBundle(ctx: WalkCtx, target: string, members: readonly Memb
     const exit = entrance + lengthOf(e);
     if (!ctx.positions[e.id]) ctx.positions[e.id] = { entrance, exit };
     const step = STEPS[e.kind] as Step<Element>;
-    const entered = members.map((m) => ({ st: step.enter ? step.enter(ctx, e, m.st) : drift(ctx, m.st, e.gap), walk: m.walk }));
-    if (step.runBundle) {
-      step.runBundle(ctx, e, entered, entrance, exit);
-      return;
+    try {
+      members = bundleStep(ctx, e, step, members, entrance, exit);
+    } catch (err) {
+      throw costNamed(err, e);
     }
-    const next: Member[] = [];
-    for (const m of entered) {
-      const out = step.run(ctx, e, m.st, m.walk, entrance, exit);
-      if (out !== undefined) next.push({ st: out, walk: { ...m.walk, y: exit } });
-    }
-    if (next.length === 0) return;
+    if (members.length === 0) return;
     target = (e as { to: string }).to;
-    members = next;
   }
+}
+
+/** One element's step for every member of a bundle: the members that go on to its output (none where it forked them). */
+function bundleStep(ctx: WalkCtx, e: Element, step: Step<Element>, members: readonly Member[], entrance: number, exit: number): Member[] {
+  const entered = members.map((m) => ({ st: step.enter ? step.enter(ctx, e, m.st) : drift(ctx, m.st, e.gap), walk: m.walk }));
+  if (step.runBundle) {
+    step.runBundle(ctx, e, entered, entrance, exit);
+    return [];
+  }
+  const next: Member[] = [];
+  for (const m of entered) {
+    const out = step.run(ctx, e, m.st, m.walk, entrance, exit);
+    if (out !== undefined) next.push({ st: out, walk: { ...m.walk, y: exit } });
+  }
+  return next;
+}
+
+/** A step's CostError as the run's error, naming the element and what to change. */
+function costNamed(err: unknown, e: Element): unknown {
+  if (!(err instanceof CostError)) return err;
+  return new RunError(`${e.path}: ${err.message}. Give the field regions, RF flippers and twists of this path one field axis where the experiment allows, use fewer of them in a row, or split the line into parts`);
 }
