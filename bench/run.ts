@@ -12,9 +12,9 @@
  * `npm run bench -- w2 [--json OUT] [--no-peers]`
  *                            workload W2 of ../shared/peers (W1's line, a 100 × 100 map over the field and M2's roll)
  *                            by the engine's 2-D scan beside its NumPy peer
- * `npm run bench -- planning [--quick]` (or plan) scans, maps, budgets, fits (a spin-1 state among them) and simulated
- *                            runs on the samples; a scan in 1 and 2 worker threads; --quick leaves out bench H's map and
- *                            its budget of 10⁴ draws
+ * `npm run bench -- planning [--quick] [--only KEY,…]` (or plan) scans, maps, budgets, fits (a spin-1 state among
+ *                            them) and simulated runs on the samples; a scan in 1 and 2 worker threads; --quick leaves
+ *                            out bench H's map and its budget of 10⁴ draws, --only runs the items of those keys
  * `npm run bench -- startup` cold starts: `spinyard --help`, `spinyard run`, the app's load to its first result
  * Figures go into docs/bench.md by hand, with the machine they were taken on.
  */
@@ -269,7 +269,8 @@ async function main(): Promise<void> {
   }
   if (args[0] === 'planning' || args[0] === 'plan') {
     const { benchPlanning } = await import('./planning.ts');
-    console.log(benchPlanning(root, args.includes('--quick')));
+    const o = args.indexOf('--only');
+    console.log(benchPlanning(root, { quick: args.includes('--quick'), ...(o >= 0 ? { only: (args[o + 1] ?? '').split(',') } : {}) }));
     return;
   }
   if (args[0] === 'ui') {

@@ -8,6 +8,7 @@
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
+import { loadavg } from 'node:os';
 import { compile, scan, type ScanResult } from '../src/engine/index.ts';
 
 export interface W2Expected { b_T: number[]; alpha_deg: number[]; result: [number, number][][] }
@@ -37,10 +38,13 @@ export function benchW2(peersDir: string, jsonOut: string | null, peers: boolean
   const expected = JSON.parse(readFileSync(join(peersDir, 'w2-expected.json'), 'utf8')) as W2Expected;
   const out: string[] = [];
   const timed = () => {
+    const c0 = process.cpuUsage();
     const t0 = performance.now();
     const r = w2Map(peersDir, expected);
-    return { ...r, seconds: (performance.now() - t0) / 1000 };
+    const c = process.cpuUsage(c0);
+    return { ...r, seconds: (performance.now() - t0) / 1000, cpu: (c.user + c.system) / 1e6 };
   };
+  out.push(`load average: ${loadavg().map((x) => x.toFixed(2)).join(', ')}`);
   const first = timed();
   out.push(`W2 first map (cold: the JIT and the caches fill): ${first.seconds.toFixed(3)} s`);
   let best = first;
@@ -48,7 +52,7 @@ export function benchW2(peersDir: string, jsonOut: string | null, peers: boolean
     const r = timed();
     if (r.seconds < best.seconds) best = r;
   }
-  out.push(`W2 on the engine's 2-D scan, one thread: best of 3 = ${best.seconds.toFixed(3)} s for ${expected.b_T.length * expected.alpha_deg.length} points (${(best.seconds * 1000 / (expected.b_T.length * expected.alpha_deg.length)).toFixed(3)} ms per point), max |Δ| vs w2-expected.json = ${best.maxdiff.toExponential(2)} (check 1e-6: ${best.maxdiff <= 1e-6 ? 'pass' : 'FAIL'})`);
+  out.push(`W2 on the engine's 2-D scan, one thread: best of 3 = ${best.seconds.toFixed(3)} s for ${expected.b_T.length * expected.alpha_deg.length} points (${(best.seconds * 1000 / (expected.b_T.length * expected.alpha_deg.length)).toFixed(3)} ms per point; CPU ${best.cpu.toFixed(3)} s), max |Δ| vs w2-expected.json = ${best.maxdiff.toExponential(2)} (check 1e-6: ${best.maxdiff <= 1e-6 ? 'pass' : 'FAIL'})`);
   if (peers) {
     const r = spawnSync('/usr/bin/python3', [join(peersDir, 'peer_numpy_w2.py')], { encoding: 'utf8', env: { ...process.env, OPENBLAS_NUM_THREADS: '1' }, timeout: 600_000 });
     const line = (r.stdout ?? '').trim().split('\n').pop() ?? '';

@@ -9,9 +9,7 @@ import type { Beamline, Element } from '../beamline/types.ts';
 import { DISPLAY_UNITS } from '../beamline/parameters.ts';
 import { ROUND_OFF, csvValue } from '../beamline/numbers.ts';
 import type { Dimension } from '../beamline/units.ts';
-import { lineAt, parameter, type Plan } from './plan.ts';
-import { lineWithValues, type ParameterizedLine } from '../beamline/parameters.ts';
-import { IdentityCache } from '../physics/cache.ts';
+import { evaluate, parameter, type Plan } from './plan.ts';
 import { runLine, RunError, CancelledError, type RunOptions } from './run.ts';
 import type { RunResult } from './result.ts';
 
@@ -107,47 +105,6 @@ export function scanParameters(plan: Plan, axes: readonly ScanAxis[]): ScanParam
   return out;
 }
 
-/**
- * The line of a 2-D scan's row (its first parameter at one value), kept per plan for the points of that row: each
- * point then reads again only the part of the document its second parameter lives in, and the rest of the line
- * (the row's elements, the same objects at every point) is not read again for every point.
- */
-const rowLines = new IdentityCache<Plan, { name: string; value: number; source: ParameterizedLine }>('scan rows');
-
-function rowSource(plan: Plan, name: string, value: number): ParameterizedLine | undefined {
-  const hit = rowLines.get(plan);
-  if (hit && hit.name === name && Object.is(hit.value, value)) return hit.source;
-  let line: Beamline;
-  try {
-    line = lineAt(plan, { [name]: value });
-  } catch (err) {
-    if (err instanceof RunError) return undefined; // the point reads both values and names the refusal
-    throw err;
-  }
-  const source: ParameterizedLine = { ...plan.source, line };
-  rowLines.set(plan, { name, value, source });
-  return source;
-}
-
-/** The line at one point: a 2-D point from its row's line with the second parameter read again (plan.ts lineAt's messages). */
-/** The part of the document a parameter's path lies in, as the reader reads it again: an element, the oven, the ambient field. */
-function partOf(path: string): string {
-  const m = /^elements\[(\d+)\]/.exec(path);
-  return m ? m[0] : path.startsWith('oven') ? 'oven' : path.startsWith('ambient') ? 'ambient' : path;
-}
-
-function pointLine(plan: Plan, params: readonly ScanParameterResult[], values: readonly number[], set: Record<string, number>): Beamline {
-  // two parameters of one part (M1.axis.theta and M1.axis.phi) are read together, as a plain point
-  if (params.length === 2 && partOf(params[0].path) !== partOf(params[1].path)) {
-    const row = rowSource(plan, params[0].name, values[0]);
-    if (row) {
-      const r = lineWithValues(row, { [params[1].name]: values[1] });
-      if (r.ok) return r.line;
-    }
-  }
-  return lineAt(plan, set);
-}
-
 /** One point of a scan (a worker evaluates its share of them with this). */
 export function scanPoint(plan: Plan, params: readonly ScanParameterResult[], index: readonly number[], warnings: Map<string, number>, opts: RunOptions = {}): ScanPoint {
   const values = params.map((p, k) => p.values[index[k]]);
@@ -156,7 +113,7 @@ export function scanPoint(plan: Plan, params: readonly ScanParameterResult[], in
   params.forEach((p, k) => (set[p.name] = values[k]));
   let r: RunResult;
   try {
-    r = runLine(pointLine(plan, params, values, set), { ...opts, onProgress: undefined, light: true });
+    r = evaluate(plan, set, { ...opts, onProgress: undefined, light: true });
   } catch (err) {
     if (err instanceof RunError && !(err instanceof CancelledError)) {
       point.error = err.message;

@@ -33,7 +33,7 @@ describe('W2: the engine\'s 100 × 100 map over the field and M2\'s roll', () =>
   }, 300_000);
 });
 
-describe('a 2-D scan reads each row\'s line once and each point\'s second parameter again (src/engine/scan.ts)', () => {
+describe('a 2-D scan as W2 runs it: each point is a plain run at its set-points (src/engine/scan.ts)', () => {
   const doc = (): Record<string, unknown> => JSON.parse(readFileSync(new URL('../../samples/bench-c-roll-calibration.spinyard', import.meta.url), 'utf8'));
   const close = (a: number, b: number) => Math.abs(a - b) <= 1e-14 * Math.max(1, Math.abs(b));
 
