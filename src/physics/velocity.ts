@@ -24,7 +24,7 @@
  */
 import { BoundedCache } from './cache.ts';
 import { BOLTZMANN } from './constants.ts';
-import { integrateAdaptive, compositeRule } from './quadrature.ts';
+import { gaussLegendre, type Rule, integrateAdaptive, compositeRule } from './quadrature.ts';
 import { reduceAngle } from './trig.ts';
 import { chebFit, chebEval, type ChebPanel } from './chebyshev.ts';
 
@@ -221,6 +221,11 @@ export function charFunction(d: VelocityDistribution, phi: number, n: number = 0
       const { f, lo, hi } = supersonicDensity(d);
       const decay = (Math.abs(phi) * d.alpha) / (d.u * d.u);
       if (decay > 60 && d.u / d.alpha > 3) return { re: 0, im: 0, error: 1e-300, nodes: 0 };
+      // many oscillations across the beam: panels uniform in 1/v (the phase is linear there), each short enough
+      // that the phase turns by at most 2 rad, with 16 and 8 Gauss–Legendre nodes (their difference the error);
+      // adaptive Gauss–Kronrod on the real axis took 120,000 evaluations (45 ms) per frequency from decay 5 on
+      const panels = decay > 2 && d.u / d.alpha > 3 ? supersonicPanels(f, Math.max(lo, d.u - 8 * d.alpha), Math.min(hi, d.u + 8 * d.alpha), phi, n) : null;
+      if (panels) return panels;
       const r = integrateAdaptive((v) => {
         if (v <= 0) return [0, 0];
         const a = f(v) * Math.pow(v, -n);
@@ -230,6 +235,37 @@ export function charFunction(d: VelocityDistribution, phi: number, n: number = 0
       return { re: r.re, im: r.im, error: r.error, nodes: r.evaluations };
     }
   }
+}
+
+/**
+ * ∫ f(v) v^{−n} e^{−iΦ/v} dv over [lo, hi] as ∫ f(1/s) s^{n−2} e^{−iΦs} ds on panels uniform in s = 1/v, the
+ * phase turning by at most 2 rad per panel (and at least 64 panels across the beam): 16-node Gauss–Legendre, with
+ * the 8-node rule on the same panels as the error estimate. The caller passes u ± 8α, outside which the density is
+ * below e^{−64} of its peak. Null where more than 4096 panels would be needed.
+ */
+function supersonicPanels(f: (v: number) => number, lo: number, hi: number, phi: number, n: number): CharValue | null {
+  const s0 = 1 / hi, s1 = 1 / Math.max(lo, hi * 1e-3);
+  const panels = Math.max(64, Math.ceil((Math.abs(phi) * (s1 - s0)) / 2));
+  // a beam so broad that it reaches down to slow speeds (a speed ratio below about 8) spans too many turns of the
+  // phase in 1/v: the adaptive rule is used there
+  if (panels > 4096) return null;
+  const h = (s1 - s0) / panels;
+  const g16 = gaussLegendre(16), g8 = gaussLegendre(8);
+  let re = 0, im = 0, re8 = 0, im8 = 0;
+  const add = (g: Rule, c: number, acc: (x: number, y: number) => void) => {
+    for (let i = 0; i < g.nodes.length; i++) {
+      const sv = c + (h / 2) * g.nodes[i];
+      const a = (g.weights[i] * h * 0.5) * f(1 / sv) * Math.pow(sv, n - 2);
+      const ph = reduceAngle(phi * sv);
+      acc(a * Math.cos(ph), -a * Math.sin(ph));
+    }
+  };
+  for (let p = 0; p < panels; p++) {
+    const c = s0 + (p + 0.5) * h;
+    add(g16, c, (x, y) => { re += x; im += y; });
+    add(g8, c, (x, y) => { re8 += x; im8 += y; });
+  }
+  return { re, im, error: Math.hypot(re - re8, im - im8) + 1e-17, nodes: panels * 24 };
 }
 
 /** ⟨v^{−n}⟩: e.g. ⟨1/v²⟩ = M/(2kT) for the effusive beam (Ramsey). */
