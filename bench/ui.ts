@@ -67,6 +67,9 @@ export async function benchUi(): Promise<string> {
       open: async () => {
         await page.locator('[data-menu-button="Samples"]').click();
         await page.locator(`[data-command="samples.open.${name}"]`).click();
+        // the edits made to the previous sample are not kept: answer the unsaved-work question
+        const dont = page.getByRole('button', { name: "Don't Save" });
+        await dont.waitFor({ timeout: 2000 }).then(() => dont.click(), () => undefined);
       },
     }));
     if (list.length === 0) lines.push('  (no samples/*.spinyard: nothing measured)');
