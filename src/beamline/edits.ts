@@ -10,7 +10,7 @@
  *                                    (N a magnet: all its ports "*" → stop; N a detector: a leaf)
  */
 import { namesElement } from './studies.ts';
-import { KINDS, isKind } from './elements/registry.ts';
+import { KINDS, KIND_NAMES, isKind } from './elements/registry.ts';
 import { RESERVED_IDS } from './check.ts';
 import { type Group, type LabelSpecies, isHyperfine, portLabels } from './labels.ts';
 import { type SpeciesResolver, readSpin } from './speciesDoc.ts';
@@ -94,10 +94,8 @@ export function freshId(doc: BeamlineDoc, prefix: string): string {
   }
 }
 
-/** Id prefixes of new elements: M1 magnet, R1 rotator, F1 field, T1 twist, RF1, C1 recombiner, S1 slit, D1 detector. */
-export const ID_PREFIX: Readonly<Record<ElementKind, string>> = {
-  magnet: 'M', rotator: 'R', field: 'F', twist: 'T', rf: 'RF', recombiner: 'C', slit: 'S', detector: 'D',
-};
+/** Id prefixes of new elements, each its kind module's (M1 magnet, R1 rotator, F1 field, T1 twist, RF1, C1 recombiner, S1 slit, D1 detector). */
+export const ID_PREFIX: Readonly<Record<ElementKind, string>> = Object.fromEntries(KIND_NAMES.map((k) => [k, KINDS[k].idPrefix])) as Record<ElementKind, string>;
 
 function indexOfId(doc: BeamlineDoc, id: string): number {
   return doc.elements.findIndex((e) => e.id === id);
@@ -144,7 +142,7 @@ export function addElementOnPort(doc: BeamlineDoc, fromId: string, port: string 
   if (!isKind(kind)) return { ok: false, message: `unknown element kind ${JSON.stringify(kind)}` };
   const cur = currentTarget(doc, fromId, port);
   if (typeof cur !== 'string') return { ok: false, message: cur.error };
-  const id = newId ?? freshId(doc, ID_PREFIX[kind]);
+  const id = newId ?? freshId(doc, KINDS[kind].idPrefix);
   const bad = idProblem(doc, id);
   if (bad) return { ok: false, message: bad };
   const mod = KINDS[kind];
@@ -202,7 +200,7 @@ export function duplicateElement(doc: BeamlineDoc, id: string, newId?: string): 
   const i = indexOfId(doc, id);
   if (i < 0) return { ok: false, message: `no element "${id}"` };
   const el = doc.elements[i];
-  const nid = newId ?? freshId(doc, ID_PREFIX[el.kind] ?? id);
+  const nid = newId ?? freshId(doc, isKind(el.kind) ? KINDS[el.kind].idPrefix : id);
   const bad = idProblem(doc, nid);
   if (bad) return { ok: false, message: bad };
   const copy = { ...(structuredCloneJson(el) as ElementDoc), id: nid };

@@ -6,7 +6,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { KINDS, KIND_NAMES, lengthOf, outputsOf, type KindModule } from '../../src/beamline/elements/registry.ts';
-import { parseBeamlineText, serializeDoc, validateBeamline } from '../../src/beamline/index.ts';
+import { addElementOnPort, parseBeamlineText, serializeDoc, validateBeamline } from '../../src/beamline/index.ts';
 import type { Beamline, Element, ElementKind } from '../../src/beamline/types.ts';
 import { defineKind } from '../../src/beamline/elements/keys.ts';
 import { runLine } from '../../src/engine/run.ts';
@@ -92,6 +92,7 @@ interface Pipe { id: string; kind: 'pipe'; gap: number; path: string; length: nu
 /** The pipe's key table: its length (a quantity ≥ 0) and its one output; the reader, the writer's order, the inspector's fields and the sheet's rows come from it. */
 const pipe: KindModule<Element> = defineKind<Element>({
   kind: 'pipe' as ElementKind,
+  idPrefix: 'P',
   table: [
     { key: 'length', shape: { type: 'quantity', dim: 'length', nonNegative: true, fallback: 0.1, what: 'the length' }, label: 'pipe length',
       defaultText: '10 cm', sheetDefault: true },
@@ -194,5 +195,16 @@ describe('a kind defined by a key table in a test fixture flows through reading,
     expect(p1.routes).toEqual([{ port: '', target: 'M1' }]);
     expect(p1.entranceCm).toBeCloseTo(5, 12);
     expect(p1.exitCm).toBeCloseTo(30, 12);
+  });
+
+  it('is inserted by the editor with its module\'s id prefix and defaults, and the result reads', () => {
+    const r = parseBeamlineText(withPipe('0 T'));
+    if (!r.ok) throw new Error('not read');
+    const added = addElementOnPort(r.doc, 'P1', null, 'pipe' as ElementKind);
+    expect(added.ok).toBe(true);
+    if (!added.ok) return;
+    const el = added.doc.elements.find((e) => e.id === 'P2') as Record<string, unknown> | undefined;
+    expect(el).toMatchObject({ kind: 'pipe', to: 'M1' });
+    expect(validateBeamline(added.doc).ok).toBe(true);
   });
 });

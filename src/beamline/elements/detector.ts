@@ -9,6 +9,7 @@ import { defineKind } from './keys.ts';
 
 export const detector = defineKind<Detector>({
   kind: 'detector',
+  idPrefix: 'D',
   table: [
     { key: 'efficiency', shape: { type: 'quantity', dim: 'dimensionless', fallback: 1, unit: true, what: 'the efficiency', plausible: 'efficiency' },
       label: 'efficiency', defaultText: '1', implied: 'fraction of arrivals counted', sheetDefault: true },

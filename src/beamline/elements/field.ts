@@ -5,6 +5,7 @@ import { defineKind } from './keys.ts';
 
 export const field = defineKind<FieldRegion>({
   kind: 'field',
+  idPrefix: 'F',
   table: [
     { key: 'field', shape: { type: 'vector', dim: 'field', range: LIMITS.field, plausible: 'the field' }, label: 'field' },
     { key: 'length', shape: { type: 'quantity', dim: 'length', nonNegative: true, range: LIMITS.distance, what: 'the length' }, label: 'length' },

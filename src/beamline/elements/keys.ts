@@ -12,6 +12,8 @@ import type { ElementBody, KeyRead, KeySpec, KindModule } from './kind.ts';
 /** What a kind module gives of its own; the rest comes from its table. */
 export interface KindDefinition<E extends Element> {
   readonly kind: E['kind'];
+  /** The letters a new element's id starts with in the editor (M1, M2, …). */
+  readonly idPrefix: string;
   readonly table: readonly KeySpec[];
   /**
    * The order the reader reads the keys in, where it differs from the table's (a recombiner sorts by group and
@@ -50,6 +52,7 @@ export function defineKind<E extends Element>(def: KindDefinition<E>): KindModul
   if (order.length !== table.length || new Set(order).size !== table.length) throw new Error(`${def.kind}: readOrder must name every key of its table once`);
   return {
     kind: def.kind,
+    idPrefix: def.idPrefix,
     table,
     keys: table.filter((s) => !isOutputKey(s)).map((s) => s.key),
     output: outputOfTable(table),

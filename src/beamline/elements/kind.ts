@@ -94,6 +94,8 @@ export interface KeySpec {
 
 export interface KindModule<E extends Element = Element> {
   readonly kind: E['kind'];
+  /** The letters a new element's id starts with in the editor (M1, M2, …). */
+  readonly idPrefix: string;
   /** Every key of the kind but id, kind and gap, in docs/design.md order (the output key last). */
   readonly table: readonly KeySpec[];
   /** Kind-specific keys in docs/design.md order, without id, kind, gap and the output key (from the table). */

@@ -14,6 +14,7 @@ import { SORTING_KEYS, sortedLabels } from './sorting.ts';
 
 export const magnet = defineKind<Magnet>({
   kind: 'magnet',
+  idPrefix: 'M',
   table: [
     { key: 'axis', shape: { type: 'axis' }, label: 'axis' },
     { key: 'field', shape: { type: 'quantity', dim: 'field', nonNegative: true, range: LIMITS.fieldSize, what: 'the field size', plausible: 'field' },

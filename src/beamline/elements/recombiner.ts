@@ -14,6 +14,7 @@ import { SORTING_KEYS, sortedLabels } from './sorting.ts';
 
 export const recombiner = defineKind<Recombiner>({
   kind: 'recombiner',
+  idPrefix: 'C',
   table: [
     { key: 'axis', shape: { type: 'axis' }, label: 'axis' },
     { key: 'open', shape: { type: 'labels' }, label: 'open ports', read: readOpen },

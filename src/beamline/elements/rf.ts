@@ -9,6 +9,7 @@ import { defineKind } from './keys.ts';
 
 export const rf = defineKind<RfFlipper>({
   kind: 'rf',
+  idPrefix: 'RF',
   table: [
     { key: 'static', shape: { type: 'vector', dim: 'field', range: LIMITS.field, plausible: 'the static field' }, label: 'static' },
     { key: 'amplitude', shape: { type: 'quantity', dim: 'field', nonNegative: true, range: LIMITS.fieldSize, what: 'the amplitude', plausible: 'field' }, label: 'amplitude' },

@@ -4,6 +4,7 @@ import { defineKind } from './keys.ts';
 
 export const rotator = defineKind<Rotator>({
   kind: 'rotator',
+  idPrefix: 'R',
   table: [
     { key: 'axis', shape: { type: 'axis' }, label: 'axis' },
     { key: 'angle', shape: { type: 'quantity', dim: 'angle' }, label: 'angle' },

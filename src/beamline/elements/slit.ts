@@ -5,6 +5,7 @@ import { defineKind } from './keys.ts';
 
 export const slit = defineKind<Slit>({
   kind: 'slit',
+  idPrefix: 'S',
   table: [
     { key: 'width', shape: { type: 'quantity', dim: 'length', positive: true, range: LIMITS.size, what: 'the width' }, label: 'width' },
     { key: 'height', shape: { type: 'quantity', dim: 'length', positive: true, range: LIMITS.size, what: 'the height' }, label: 'height' },

@@ -8,6 +8,7 @@ import { defineKind } from './keys.ts';
 
 export const twist = defineKind<Twist>({
   kind: 'twist',
+  idPrefix: 'T',
   table: [
     { key: 'field', shape: { type: 'quantity', dim: 'field', nonNegative: true, range: LIMITS.fieldSize, what: 'the field size', plausible: 'field' }, label: 'field size' },
     { key: 'start', shape: { type: 'axis' }, label: 'start' },
