@@ -3,7 +3,7 @@
 // into the document (all of them, one edit). Each gives the new
 // document and the label Undo shows; the document layer validates it when the editor takes it (a half-width in
 // the wrong unit is refused there, naming its path). Pure: the document given is not changed.
-import { editAt, type BeamlineDoc, type FitDoc, type FitResult, type ScanDoc, type SimulationDoc, type ToleranceDoc } from './core-adapter.ts';
+import { fittedDocument, fittedQuantity, type BeamlineDoc, type FitDoc, type FitResult, type ScanDoc, type SimulationDoc, type ToleranceDoc } from './core-adapter.ts';
 
 export type PlanEdit =
   | { kind: 'keepScan'; scan: ScanDoc }
@@ -21,35 +21,12 @@ function scanName(s: ScanDoc): string {
   return s.title || s.parameters.map((p) => p.parameter).join(' × ');
 }
 
-/** A fitted value as the document writes it: in the parameter's shown unit, 10 significant digits (a plain
- *  number where it has no unit), as the command line's fitted document writes it. */
-export function fittedQuantity(value: number, unit: string, factor: number): string | number {
-  const v = Number((value / factor).toPrecision(10));
-  return unit ? `${v} ${unit}` : v;
-}
+export { fittedQuantity };
 
-/** The document with a fit's values written in: each parameter at its path, and the oven's populations (along
- *  the oven state's axis, 8 significant digits) where the fit had them. */
+/** The document with a fit's values written in (src/engine/fitted.ts, as the command line's `fit -o` writes it):
+ *  each parameter at its path, and the oven's density matrix or populations where the fit had them. */
 export function fittedDoc(doc: BeamlineDoc, f: FitResult): { ok: true; doc: BeamlineDoc } | { ok: false; message: string } {
-  let out = doc;
-  for (const p of f.parameters) {
-    if (!Number.isFinite(p.value)) return { ok: false, message: `the fitted ${p.name} is not a number` };
-    const r = editAt(out, p.path, fittedQuantity(p.value, p.unit, p.factor));
-    if (!r.ok) return { ok: false, message: `${p.name}: ${r.message}` };
-    out = r.doc;
-  }
-  if (f.state) {
-    const st = doc.oven.state;
-    const axis = st.kind === 'unpolarized' ? { theta: '0 deg', phi: '0 deg' } : st.axis;
-    const pops: Record<string, number> = {};
-    for (let i = 0; i < f.state.labels.length; i++) {
-      const v = f.state.populations[i];
-      if (!Number.isFinite(v)) return { ok: false, message: `the fitted population ${f.state.labels[i]} is not a number` };
-      pops[f.state.labels[i]] = Number(v.toPrecision(8));
-    }
-    out = { ...out, oven: { ...out.oven, state: { kind: 'populations', axis, p: pops } } } as BeamlineDoc;
-  }
-  return { ok: true, doc: out };
+  return fittedDocument(doc, f);
 }
 
 /** What Undo calls a fit's edit. */

@@ -4,11 +4,12 @@
  * hyperfine structure, else its populations) to measured counts
  * (src/engine/fit.ts). The fitted document is written only where -o asks, never over FILE or the data.
  */
-import { serializeDoc, setAt } from '../beamline/index.ts';
+import { serializeDoc } from '../beamline/index.ts';
 import type { BeamlineDoc, FitStudy } from '../beamline/types.ts';
 import { dirname, join } from 'node:path';
 import { compile, parameter, parameterValue, RunError, type Plan } from '../engine/index.ts';
 import { fit, type FitResult, type FreeParameter } from '../engine/fit.ts';
+import { fittedDocument as writeFitted } from '../engine/fitted.ts';
 import { readMeasurements } from '../engine/measurements.ts';
 import { alignTable, formatNumber } from './format.ts';
 import { formatColumn } from '../beamline/numbers.ts';
@@ -52,27 +53,11 @@ export function parseFree(plan: Plan, text: string): { free: FreeParameter[]; st
   return { free, state };
 }
 
-/** The document with the fitted values written in (quantities in the parameter's unit, 10 significant digits). */
+/** The document with the fitted values written in (src/engine/fitted.ts, the same as the app's "apply"). */
 export function fittedDocument(doc: BeamlineDoc, f: FitResult): BeamlineDoc {
-  let out = doc;
-  for (const p of f.parameters) {
-    const v = Number((p.value / p.factor).toPrecision(10));
-    const r = setAt(out, p.path, p.unit ? `${v} ${p.unit}` : v);
-    if (r.ok) out = r.doc;
-  }
-  const st = doc.oven.state;
-  const axis = st.kind === 'unpolarized' ? { theta: '0 deg', phi: '0 deg' } : st.axis;
-  if (f.density) {
-    // the full ρ over the zero-field states along the state's axis (10 significant digits: positive to 1e-9)
-    const dm = f.density;
-    const r10 = (x: number) => (x === 0 ? 0 : Number(x.toPrecision(10)));
-    out = { ...out, oven: { ...out.oven, state: { kind: 'density', axis, basis: [...dm.basis], re: dm.re.map((r) => r.map(r10)), im: dm.im.map((r) => r.map(r10)) } } };
-  } else if (f.state) {
-    const p: Record<string, number> = {};
-    f.state.labels.forEach((l, i) => (p[l] = Number(f.state!.populations[i].toPrecision(8))));
-    out = { ...out, oven: { ...out.oven, state: { kind: 'populations', axis, p } } };
-  }
-  return out;
+  const r = writeFitted(doc, f);
+  if (!r.ok) throw new RunError(`fit: ${r.message}`);
+  return r.doc;
 }
 
 export function fitText(f: FitResult, file: string, data: string): string {

@@ -116,8 +116,9 @@ detector's dwell); every other column is a set-point that differs between readin
 parameter of the line (spinyard scan FILE --param list) with its unit in brackets.
 
   --free LIST   the set-points to fit, separated by commas, each optionally with bounds
-                NAME=LO..HI ("M2.axis.roll=0 deg..90 deg"); oven.state fits the oven's populations
-                of its zero-field states (along the state's axis, else z), kept ≥ 0 and summing to 1
+                NAME=LO..HI ("M2.axis.roll=0 deg..90 deg"); oven.state fits the oven's state over its
+                zero-field states (along the state's axis, else z): for a bare spin its density matrix,
+                kept positive (ρ = T T†/Tr); for a hyperfine species its populations, ≥ 0, summing to 1
   --json        the fit as JSON (format spinyard.fit, version 1)
   -o OUT        also write the document with the fitted values to OUT (atomically; never over
                 FILE or the data)

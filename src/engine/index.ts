@@ -11,5 +11,6 @@ export { countsIn, countSigma, signalToBackground, timeToPrecision } from './cou
 export { budget, quantile, MAX_BUDGET_DRAWS, type BudgetResult, type BudgetTolerance, type BudgetDetector, type Sensitivity, type BudgetOptions } from './budget.ts';
 export { Random } from './random.ts';
 export { fit, type FitResult, type FitOptions, type FreeParameter, type FittedParameter, type FitResidual } from './fit.ts';
+export { fittedDocument, fittedQuantity } from './fitted.ts';
 export { readMeasurements, MAX_READINGS, type Measurements, type Reading } from './measurements.ts';
 export { simulate, MAX_ATOMS, type SimulationResult, type SimulatedDetector, type SimulateOptions, type HitMap } from './simulate.ts';

@@ -293,5 +293,9 @@ describe('the density state in the document (src/beamline/oven.ts, src/engine/so
       const rate = evaluate(back, reading.setPoints).detectors.find((d) => d.id === r.detector)!.rate;
       expect(rate * reading.dwell / r.expected).toBeCloseTo(1, 8);
     }
+    // the app's "apply the fitted values" writes the same document (one function for both)
+    const { applyPlanEdit } = await import('../../src/app/plan-edit.ts');
+    const applied = applyPlanEdit(start.doc, { kind: 'applyFit', fit: f });
+    expect(applied.ok && serializeDoc(applied.doc)).toBe(text);
   });
 });
