@@ -4,6 +4,7 @@ import { alignTable, formatNumber } from './format.ts';
 import { formatColumn } from '../beamline/numbers.ts';
 import { outputProblem, problemsOut, wholeOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
+import { progressOf } from './progress.ts';
 
 export const BUDGET_OPTIONS = [
   { name: 'draws', value: true },
@@ -80,7 +81,7 @@ export function cmdBudgetWith(file: string, text: string, options: Record<string
   if (!c.ok) return problemsOut(file, c.problems);
   let b: BudgetResult;
   try {
-    b = budget(c.plan, { draws, seed });
+    b = budget(c.plan, { draws, seed, onProgress: progressOf('budget') });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);
     throw e;

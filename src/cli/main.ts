@@ -19,6 +19,10 @@ export async function cliMain(argv: readonly string[]): Promise<number> {
   });
   let out: CliOutput | undefined = quickAnswer(argv);
   if (!out) {
+    if (process.stderr.isTTY) {
+      const { setProgressSink, terminalSink } = await import('./progress.ts');
+      setProgressSink(terminalSink(process.stderr));
+    }
     const { runCli } = await import('./cli.ts');
     out = runCli(argv);
     if (out.job) out = await out.job();

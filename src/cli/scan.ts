@@ -12,6 +12,7 @@ import { availableParallelism } from 'node:os';
 import { outputProblem, problemsOut } from './common.ts';
 import { scanParallel } from './scan-parallel.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
+import { progressOf } from './progress.ts';
 
 export const SCAN_OPTIONS = [
   { name: 'param', value: true, repeat: true },
@@ -139,7 +140,7 @@ function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options
   }
   let r: ScanResult;
   try {
-    r = scan(plan, axes);
+    r = scan(plan, axes, { onProgress: progressOf('scan') });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);
     throw e;

@@ -6,6 +6,7 @@ import { alignTable, formatDuration, formatNumber } from './format.ts';
 import { formatColumn, formatCountsColumn } from '../beamline/numbers.ts';
 import { outputProblem, problemsOut, wholeOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
+import { progressOf } from './progress.ts';
 
 export const SIMULATE_OPTIONS = [
   { name: 'stored', value: true },
@@ -74,7 +75,7 @@ export function cmdSimulateWith(file: string, text: string, options: Record<stri
     const onHit = typeof hitsFile === 'string'
       ? (d: string, x: number, z: number, v: number) => void rows.push(`${d},${csvNumber(x * 1e3)},${csvNumber(z * 1e3)},${csvNumber(v)}`)
       : undefined;
-    s = simulate(c.plan, { ...settings, onHit });
+    s = simulate(c.plan, { ...settings, onHit, onProgress: progressOf('simulate') });
     if (typeof hitsFile === 'string') hitsText = `${rows.join('\r\n')}\r\n`;
     run = evaluate(c.plan, {}, { light: true });
   } catch (e) {

@@ -194,7 +194,7 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
   const line = lineAt(plan, values);
   let paths: readonly FinePath[] = [];
   let flux = 0;
-  const result = runLine(line, { ...opts, light: true, onPaths: (p, f) => ((paths = p), (flux = f)) });
+  const result = runLine(line, { ...opts, light: true, onProgress: undefined, onPaths: (p, f) => ((paths = p), (flux = f)) });
   const warnings: string[] = [];
   const rng = new Random(seed);
 
@@ -228,7 +228,10 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
   let lostSpin = 0, clipped = 0, negative = 0;
   const prepared = paths.map(prepare);
   for (let a = 0; a < atoms; a++) {
-    if ((a & 0xffff) === 0 && opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
+    if ((a & 0xffff) === 0) {
+      if (opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
+      opts.onProgress?.(a / atoms);
+    }
     const s = sysList[sysOf[a]];
     // one path by the Born rule at this atom's speed; what is left is absorbed in the spin operations
     let u = rng.uniform(), chosen = -1;
