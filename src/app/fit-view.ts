@@ -2,11 +2,14 @@
 // of every reading, grouped by detector, against the data's first set-point column (in its shown unit) or, where
 // the file has none, against the reading's line in the file; the profile interval of a fitted value, marked when
 // it is asymmetric; and a simulated detector's signal beside the engine's with the difference in σ of the sampling,
-// and its hit map as a heat map over its window (mm). A missing number is a gap or a dash, never NaN.
+// and its hit map as a heat map over its window (mm). A missing number is a gap or a dash, never NaN. The tables'
+// cells follow the one number rule per column (src/beamline/numbers.ts): one notation and one count of figures down
+// each column, a fitted value no finer than its σ, a simulated signal no finer than the σ of its sampling.
 import type { FitResult, FittedParameter, SimulationResult } from './core-adapter.ts';
 import type { EngineSignal, FitData } from './engine-protocol.ts';
-import { SCAN_COLORS, type Figure } from './plan-view.ts';
+import { SCAN_COLORS, formatByUnit, valueSigmaColumns, type Figure } from './plan-view.ts';
 import { fmt } from './format.ts';
+import { formatColumn, type NumberSpec } from '../beamline/numbers.ts';
 
 type Theme = { font: { color: string }; xaxis: Record<string, unknown>; yaxis: Record<string, unknown> } & Record<string, unknown>;
 
@@ -158,4 +161,56 @@ export function profileComparison(d: SimulationResult['detectors'][number], engi
     yaxis: { ...theme.yaxis, title: { text: 'share per mm' }, rangemode: 'tozero' },
   };
   return { data, layout };
+}
+
+const DASH = '—';
+const withUnit = (v: string, unit: string) => (v === DASH || !unit ? v : `${v} ${unit}`);
+const finite = (v: number | undefined): number | undefined => (v !== undefined && Number.isFinite(v) ? v : undefined);
+
+/** The fitted values table's cells, column by column, each value in its parameter's shown unit. */
+export interface FitValueCells {
+  value: string;
+  /** σ, "at its bound" or a dash. */
+  sigma: string;
+  /** The profile interval ("a to b unit"), undefined without one. */
+  profile?: { text: string; asymmetric: boolean };
+  start: string;
+}
+
+export function fitValueCells(f: FitResult): FitValueCells[] {
+  const ps = f.parameters;
+  const err = (q: FittedParameter): NumberSpec => ({ figures: 7, ...(finite(q.sigma) !== undefined && q.sigma! > 0 ? { error: q.sigma! / q.factor } : {}) });
+  const units = ps.map((q) => q.unit);
+  const { value, sigma } = valueSigmaColumns(ps.map((q) => finite(q.value) !== undefined ? q.value / q.factor : undefined),
+    ps.map((q) => finite(q.sigma) !== undefined ? q.sigma! / q.factor : undefined), 7, units, { blank: DASH });
+  const start = formatByUnit(ps.map((q) => finite(q.start) !== undefined ? q.start / q.factor : undefined), { figures: 6 }, units, { blank: DASH });
+  // the interval's ends, lower and upper of every parameter in one column, no finer than the parameter's σ
+  const ends = formatByUnit(ps.flatMap((q) => [q.profile?.lower, q.profile?.upper].map((v) => finite(v) !== undefined ? v! / q.factor : undefined)),
+    ps.flatMap((q) => [err(q), err(q)]), ps.flatMap((q) => [q.unit, q.unit]), { blank: '…' });
+  return ps.map((q, i) => ({
+    value: withUnit(value[i], q.unit),
+    sigma: sigma[i] !== DASH ? withUnit(sigma[i], q.unit) : q.atBound ? 'at its bound' : DASH,
+    ...(q.profile ? { profile: { text: `${ends[2 * i]} to ${ends[2 * i + 1]}${q.unit ? ` ${q.unit}` : ''}`, asymmetric: q.profile.asymmetric } } : {}),
+    start: withUnit(start[i], q.unit),
+  }));
+}
+
+/** The fitted oven state's populations (no finer than their σ) and σ, one column each. */
+export function fitStateCells(state: NonNullable<FitResult['state']>): { population: string; sigma: string }[] {
+  const sig = state.sigma.map((s) => (s === null ? undefined : finite(s)));
+  const { value: population, sigma } = valueSigmaColumns(state.populations.map(finite), sig, 5, undefined, { blank: DASH });
+  return state.populations.map((_, i) => ({ population: population[i], sigma: sigma[i] }));
+}
+
+/** The simulated run's table: signal ± σ (no finer than σ), the engine's signal, the difference in σ, the dwell. */
+export function simulatedCells(rows: ReturnType<typeof simulatedRows>): { signal: string; sigma: string; engine: string; difference: string; dwell: string }[] {
+  const { value: signal, sigma } = valueSigmaColumns(rows.map((r) => finite(r.signal)), rows.map((r) => finite(r.sigma)), 4, undefined, { blank: DASH });
+  const engine = formatColumn(rows.map((r) => finite(r.engine)), { figures: 4 }, { blank: DASH });
+  const difference = formatColumn(rows.map((r) => (finite(r.difference) !== undefined ? Math.abs(r.difference!) : undefined)), { figures: 2 }, { blank: DASH });
+  const dwell = formatColumn(rows.map((r) => finite(r.dwell)), { figures: 3 }, { blank: DASH });
+  return rows.map((r, i) => ({
+    signal: signal[i], sigma: sigma[i], engine: engine[i],
+    difference: difference[i] === DASH ? DASH : `${r.difference! >= 0 ? '+' : '−'}${difference[i]}`,
+    dwell: dwell[i],
+  }));
 }

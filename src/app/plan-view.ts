@@ -1,8 +1,11 @@
 // The scan panel's figures, as plain plotly data (pure, tested in Node): per detector a curve of its yield or its
 // counts in the dwell against the scanned parameter (1-D), or a map over the grid of two (2-D), in the units the
 // parameters are shown in, with the document's set-point marked. A point the reader refused is a gap (null, never
-// NaN or 0) and carries its reason on hover.
-import type { ScanResult } from './core-adapter.ts';
+// NaN or 0) and carries its reason on hover. Also the planning tables' cells by the one number rule per column
+// (src/beamline/numbers.ts, as the command line's budget): one notation and one count of figures down each column,
+// a value never finer than its stated error.
+import type { BudgetResult, ScanResult } from './core-adapter.ts';
+import { FIGURES, formatColumn, notationOf, roundToFigures, roundValue, writeRounded, type NumberSpec, type Rounded } from '../beamline/numbers.ts';
 import { AXIS_NUMBERS, fmt } from './format.ts';
 
 export type ScanQuantity = 'yield' | 'counts';
@@ -111,4 +114,111 @@ export function scanMaps(r: ScanResult, q: ScanQuantity, theme: Theme, dark: boo
     };
     return { id, figure: { data, layout } };
   });
+}
+
+/** The budget panel's cells, column by column (the command line's `budget` text has the same rule). */
+export interface BudgetCells {
+  detectors: { id: string; nominal: string; linear: string; linearPercent?: string; mean?: string; sigma?: string; q05?: string; q95?: string }[];
+  /** The ranked effects shown (those that move a signal), in the result's order. */
+  ranking: { detector: string; tolerance: string; derivative?: string; error?: string; per?: string; effect: string; relative: string; share: string }[];
+}
+
+/** Counts/s per shown unit of a parameter. */
+export function perUnit(unit: string): string {
+  return unit ? `/s per ${unit}` : '/s';
+}
+
+export function budgetCells(r: BudgetResult): BudgetCells {
+  const ds = r.detectors;
+  const nominal = formatColumn(ds.map((d) => d.nominal), { figures: 4 });
+  const linear = formatColumn(ds.map((d) => d.linearSigma), { figures: 3 });
+  const linearPct = formatColumn(ds.map((d) => (d.nominal > 0 ? (d.linearSigma / d.nominal) * 100 : undefined)), { figures: 2 });
+  // the Monte Carlo mean is no finer than its standard error σ/√draws
+  const mean = formatColumn(ds.map((d) => d.monteCarlo?.mean), ds.map((d) => ({ figures: 4, ...(d.monteCarlo && d.monteCarlo.draws > 0 ? { error: d.monteCarlo.sigma / Math.sqrt(d.monteCarlo.draws) } : {}) })));
+  // the spread beside the mean, in the means' notation (one cell reads "mean ± σ")
+  const meanNotation = notationOf(ds.flatMap((d) => (d.monteCarlo ? [roundValue(d.monteCarlo.mean, { figures: 4 })] : [])));
+  const sigmaRounded = ds.map((d) => (d.monteCarlo && Number.isFinite(d.monteCarlo.sigma) ? roundToFigures(d.monteCarlo.sigma, 3) : undefined));
+  const sigmaNotation = meanNotation === 'exponent' ? 'exponent' : notationOf(sigmaRounded.filter((r): r is Rounded => r !== undefined));
+  const sigma = sigmaRounded.map((r) => (r ? writeRounded(r, sigmaNotation) : ''));
+  const quantiles = formatColumn(ds.flatMap((d) => [d.monteCarlo?.q05, d.monteCarlo?.q95]), { figures: 4 });
+  const detectors = ds.map((d, i) => ({
+    id: d.id, nominal: nominal[i], linear: linear[i],
+    ...(d.nominal > 0 ? { linearPercent: linearPct[i] } : {}),
+    ...(d.monteCarlo ? { mean: mean[i], sigma: sigma[i], q05: quantiles[2 * i], q95: quantiles[2 * i + 1] } : {}),
+  }));
+  const byName = new Map(r.tolerances.map((t) => [t.name, t]));
+  const moving = r.ranking.filter((x) => x.effect > 0).map((x) => {
+    const t = byName.get(x.tolerance);
+    return { x, t, s: t?.sensitivities?.find((v) => v.detector === x.detector) };
+  });
+  // a derivative no finer than its error, the error in the derivative's notation; rows grouped by their unit
+  const { value: derivative, sigma: error } = valueSigmaColumns(moving.map(({ t, s }) => (t && s ? s.derivative * t.factor : undefined)),
+    moving.map(({ t, s }) => (t && s ? s.error * t.factor : undefined)), 4, moving.map(({ t }) => perUnit(t?.unit ?? '')));
+  const effect = formatColumn(moving.map(({ x }) => x.effect), { figures: 3 });
+  const relative = formatColumn(moving.map(({ x }) => x.relative * 100), { figures: 2 });
+  const share = formatColumn(moving.map(({ x }) => x.share * 100), { figures: 2 });
+  const ranking = moving.map(({ x, t, s }, i) => ({
+    detector: x.detector, tolerance: x.tolerance,
+    ...(t && s ? { derivative: derivative[i], error: error[i], per: perUnit(t.unit) } : {}),
+    effect: effect[i], relative: relative[i], share: share[i],
+  }));
+  return { detectors, ranking };
+}
+
+/**
+ * A column whose rows are quantities of different kinds (a table with a row per parameter: an angle in deg beside a
+ * flux in /s): the rule per column applied to the rows of each unit together, so the degrees share one notation and
+ * the fluxes theirs (never "3e1 deg" because a flux in the same column needs an exponent).
+ */
+export function formatByUnit(values: readonly (number | undefined)[], spec: NumberSpec | readonly NumberSpec[], units: readonly string[], opts: { blank?: string; minus?: string } = {}): string[] {
+  const out: string[] = new Array<string>(values.length);
+  for (const unit of new Set(units)) {
+    const rows = units.flatMap((u, i) => (u === unit ? [i] : []));
+    const cells = formatColumn(rows.map((i) => values[i]), Array.isArray(spec) ? rows.map((i) => (spec as readonly NumberSpec[])[i]) : (spec as NumberSpec), opts);
+    rows.forEach((i, k) => (out[i] = cells[k]));
+  }
+  return out;
+}
+
+/**
+ * Values with their σ or error, read as "value ± σ" in one cell: the values as one column (no finer than each
+ * one's σ), the σ to 2 figures, written with exponents where the values are (never "8.51e7 ± 420000"), plain where
+ * the values are plain and the σ fit. Rows are grouped by unit as `formatByUnit` does. `minus` as numbers.ts.
+ */
+export function valueSigmaColumns(values: readonly (number | undefined)[], sigmas: readonly (number | undefined)[], figures: number,
+  units: readonly string[] = values.map(() => ''), opts: { blank?: string; minus?: string } = {}): { value: string[]; sigma: string[] } {
+  const blank = opts.blank ?? '';
+  const value: string[] = new Array<string>(values.length);
+  const sigma: string[] = new Array<string>(values.length);
+  const good = (x: number | undefined): x is number => x !== undefined && Number.isFinite(x);
+  for (const unit of new Set(units)) {
+    const rows = units.flatMap((u, i) => (u === unit ? [i] : []));
+    const rv = rows.map((i) => (good(values[i]) ? roundValue(values[i]!, { figures, ...(good(sigmas[i]) && sigmas[i]! > 0 ? { error: sigmas[i] } : {}) }) : undefined));
+    const rs = rows.map((i) => (good(sigmas[i]) ? roundToFigures(sigmas[i]!, FIGURES.sigma) : undefined));
+    const shownValues = rv.filter((r): r is Rounded => r !== undefined);
+    const shownSigmas = rs.filter((r): r is Rounded => r !== undefined);
+    const nv = notationOf(shownValues);
+    const ns = nv === 'exponent' ? 'exponent' : notationOf(shownSigmas);
+    rows.forEach((i, k) => {
+      value[i] = rv[k] ? writeRounded(rv[k]!, nv, opts.minus) : blank;
+      sigma[i] = rs[k] ? writeRounded(rs[k]!, ns, opts.minus) : blank;
+    });
+  }
+  return { value, sigma };
+}
+
+/** Set-points in their shown units as one column (6 figures; one notation per unit); a dash for one the line lacks. */
+export function setPointColumn(values: readonly ({ value: number; factor: number; unit: string } | undefined)[]): string[] {
+  return formatByUnit(values.map((v) => (v ? v.value / v.factor : undefined)), { figures: 6 }, values.map((v) => v?.unit ?? ''), { blank: '—' });
+}
+
+/** The refused points listed under a scan (the first `limit`): each parameter's values as one column in its shown
+ *  unit ("M2.axis.roll = 45 deg, M1.field = 0.5 T"), with why the point was refused. */
+export function refusedLines(r: ScanResult, limit = 50): { text: string; reason: string }[] {
+  const shownPoints = refusedPoints(r).slice(0, limit);
+  const columns = r.parameters.map((p, k) => formatColumn(shownPoints.map((f) => f.values[k] / p.factor), { figures: 6 }, { blank: '—' }));
+  return shownPoints.map((f, i) => ({
+    text: r.parameters.map((p, k) => `${p.name} = ${columns[k][i]}${p.unit ? ` ${p.unit}` : ''}`).join(', '),
+    reason: f.reason,
+  }));
 }

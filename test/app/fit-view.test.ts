@@ -3,7 +3,7 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { hitMapFigure, profileComparison, profileText, residualAxis, residualGroups, residualsFigure, simulatedRows } from '../../src/app/fit-view.ts';
+import { fitStateCells, fitValueCells, hitMapFigure, profileComparison, profileText, residualAxis, residualGroups, residualsFigure, simulatedCells, simulatedRows } from '../../src/app/fit-view.ts';
 import { applyPlanEdit, fittedQuantity } from '../../src/app/plan-edit.ts';
 import { checkDocument, lineParameters, readDocument, type FitResult, type FittedParameter, type SimulationResult } from '../../src/app/core-adapter.ts';
 import type { FitData } from '../../src/app/engine-protocol.ts';
@@ -158,5 +158,51 @@ describe('keeping a fit or a simulated run in the document', () => {
     expect(s.label).toBe('keep simulated run of 20000 atoms, seed 3');
     const cs = checkDocument(s.doc);
     expect(cs.ok ? cs.line.simulations : cs.problems).toMatchObject([{ atoms: 20000, seed: 3 }]);
+  });
+});
+
+describe('the fit and simulated-run tables by the one number rule per column', () => {
+  it('writes a fitted value no finer than its σ (zeros to that place kept), σ to 2 figures, one notation per unit down each column', () => {
+    // per value, 31.19975123 deg would have printed to 7 figures although its σ is 0.0006 deg
+    const field: FittedParameter = {
+      name: 'oven.flux', path: 'oven.flux', dimension: 'rate', unit: '/s', factor: 1, start: 1.2e10,
+      value: 1.2345678e10, sigma: 3.1e7, profile: { lower: 1.2314e10, upper: undefined, asymmetric: false },
+    };
+    const bound: FittedParameter = { ...rollP, name: 'M1.axis.roll', value: 0, sigma: undefined, profile: undefined, atBound: true, start: 0 };
+    const c = fitValueCells(fitOf({ parameters: [rollP, field, bound] }));
+    // 31.1998 to the place of σ (1e-4); 1.235e10 to the place of σ (1e7); the rows of one unit share a notation
+    // (the fluxes need exponents, the angles not)
+    expect(c.map((x) => x.value)).toEqual(['31.1998 deg', '1.235e10 /s', '0 deg']);
+    expect(c.map((x) => x.sigma)).toEqual(['0.0006 deg', '3.1e7 /s', 'at its bound']);
+    expect(c.map((x) => x.start)).toEqual(['30 deg', '1.2e10 /s', '0 deg']);
+    expect(c[0].profile).toEqual({ text: '31.1992 to 31.2004 deg', asymmetric: true });
+    // two angles, one of them past 1e6 deg: both with exponents
+    const far = fitValueCells(fitOf({ parameters: [rollP, { ...rollP, name: 'M3.axis.roll', value: 2e6 * deg, sigma: 1e3 * deg, start: 2e6 * deg, profile: undefined }] }));
+    expect(far.map((x) => x.value)).toEqual(['3.11998e1 deg', '2.000e6 deg']);
+    expect(c[1].profile).toEqual({ text: '1.231e10 to … /s', asymmetric: false });
+    expect(c[2].profile).toBeUndefined();
+    // one parameter alone, within [1e-4, 1e6): plain numbers
+    const one = fitValueCells(fitOf())[0];
+    expect(one).toEqual({ value: '31.1998 deg', sigma: '0.0006 deg', start: '30 deg', profile: { text: '31.1992 to 31.2004 deg', asymmetric: true } });
+    for (const x of c) expect(Object.values(x).join(' ')).not.toMatch(/NaN/);
+  });
+
+  it('writes the fitted populations no finer than their σ, and a dash where a σ is missing', () => {
+    const cells = fitStateCells({ axis: 'z', labels: ['+1/2', '-1/2'], populations: [0.6123456, 0.3876544], sigma: [0.012, null] });
+    expect(cells).toEqual([{ population: '0.61', sigma: '0.012' }, { population: '0.38765', sigma: '—' }]);
+  });
+
+  it('writes a simulated signal no finer than the σ of its sampling, in one notation with the other detectors', () => {
+    const det = { id: 'DU', hits: 3, fraction: 0.3, fractionSigma: 0.1, signal: 312.345, signalSigma: 20.4, background: 0, dwell: 30, counts: 9000 };
+    const sim = { detectors: [det, { ...det, id: 'DL', signal: 2512345, signalSigma: 1600, dwell: 2.5 }, { ...det, id: 'DN', signal: 0, signalSigma: 0 }] } as unknown as SimulationResult;
+    const rows = simulatedRows(sim, [{ id: 'DU', signal: 330.2 }, { id: 'DL', signal: 2.5e6 }]);
+    const c = simulatedCells(rows);
+    expect(c.map((x) => x.signal)).toEqual(['3.1e2', '2.512e6', '0']);
+    // σ in the signals' notation: one cell reads "3.1e2 ± 2e1", never "2.512e6 ± 1600"
+    expect(c.map((x) => x.sigma)).toEqual(['2e1', '1.6e3', '0']);
+    expect(c.map((x) => x.engine)).toEqual(['3.302e2', '2.5e6', '—']);
+    // (312.345 − 330.2)/20.4 = −0.875…; (2512345 − 2.5e6)/1600 = +7.7…
+    expect(c.map((x) => x.difference)).toEqual(['−0.88', '+7.7', '—']);
+    expect(c.map((x) => x.dwell)).toEqual(['30', '2.5', '30']);
   });
 });

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { detectorValues, refusedPoints, scanCurves, scanMaps } from '../../src/app/plan-view.ts';
-import type { ScanResult } from '../../src/app/core-adapter.ts';
+import { budgetCells, detectorValues, refusedLines, refusedPoints, scanCurves, scanMaps, setPointColumn } from '../../src/app/plan-view.ts';
+import type { BudgetResult, ScanResult } from '../../src/app/core-adapter.ts';
 
 const deg = Math.PI / 180;
 const det = (y: number) => [{ id: 'D1', yield: y, rate: y * 10, signal: y * 9, counts: y * 90, sigma: Math.sqrt(y * 90) }];
@@ -71,5 +71,56 @@ describe('the scan panel axes', () => {
       expect(y.exponentformat).toBe('SI');
       expect(String((y.title as { text: string }).text)).toMatch(/\(.+\)/);
     }
+  });
+});
+
+describe('the planning tables by the one number rule per column', () => {
+  function budgetOf(): BudgetResult {
+    return {
+      format: 'spinyard.budget', version: 1, title: 't', quantity: 'signal', method: 'm', warnings: [],
+      monteCarlo: { draws: 400, seed: 1, refused: 0 },
+      tolerances: [
+        { name: 'M2.axis.roll', path: 'elements[1].axis.roll', dimension: 'angle', unit: 'deg', factor: deg, value: 30 * deg, halfWidth: 0.5 * deg, distribution: 'uniform', sigma: 0.2887 * deg,
+          method: 'central', sensitivities: [{ detector: 'D1', derivative: 1234.5678 / deg, error: 12.3 / deg }, { detector: 'D2', derivative: -4.4e6 / deg, error: 2.2e3 / deg }] },
+      ],
+      detectors: [
+        { id: 'D1', nominal: 275000, linearSigma: 356.4, monteCarlo: { mean: 275612.3, sigma: 3600, q05: 270420, q95: 281600, draws: 4 } },
+        { id: 'D2', nominal: 4.3412e7, linearSigma: 1.27e6 },
+      ],
+      ranking: [
+        { detector: 'D2', tolerance: 'M2.axis.roll', effect: 1.27e6, relative: 0.02925, share: 1 },
+        { detector: 'D1', tolerance: 'M2.axis.roll', effect: 356.4, relative: 0.001296, share: 1 },
+        { detector: 'D1', tolerance: 'M1.field', effect: 0, relative: 0, share: 0 },
+      ],
+    } as unknown as BudgetResult;
+  }
+
+  it('gives each budget column one notation (never 275000 beside 4.34e7) and a derivative no finer than its error', () => {
+    const c = budgetCells(budgetOf());
+    expect(c.detectors.map((d) => d.nominal)).toEqual(['2.75e5', '4.341e7']);
+    expect(c.detectors.map((d) => d.linear)).toEqual(['3.56e2', '1.27e6']);
+    expect(c.detectors.map((d) => d.linearPercent)).toEqual(['0.13', '2.9']);
+    // the Monte Carlo mean to the place of its standard error 3600/√4 = 1800 (4 figures alone would give 275600)
+    expect(c.detectors[0]).toMatchObject({ mean: '276000', sigma: '3600', q05: '270400', q95: '281600' });
+    expect(c.detectors[1].mean).toBeUndefined();
+    // the pair that does not move a signal is left out; the rest in the result's order
+    expect(c.ranking.map((x) => [x.detector, x.tolerance])).toEqual([['D2', 'M2.axis.roll'], ['D1', 'M2.axis.roll']]);
+    // −4.4e6 ± 2.2e3 and 1234.5678 ± 12.3 (to the tens): the derivatives one column with exponents, each error in its derivative's notation
+    expect(c.ranking.map((x) => `${x.derivative} ± ${x.error} ${x.per}`)).toEqual(['-4.4e6 ± 2.2e3 /s per deg', '1.23e3 ± 1.2e1 /s per deg']);
+    expect(c.ranking.map((x) => x.effect)).toEqual(['1.27e6', '3.56e2']);
+    expect(c.ranking.map((x) => [x.relative, x.share])).toEqual([['2.9', '100'], ['0.13', '100']]);
+  });
+
+  it('writes set-points in their shown units as one column, a dash for a parameter the line lacks', () => {
+    // an angle and a flux: each unit its own notation; two fluxes, one past 1e6: both with exponents
+    expect(setPointColumn([{ value: 30 * deg, factor: deg, unit: 'deg' }, { value: 2e9, factor: 1, unit: '/s' }, undefined])).toEqual(['30', '2e9', '—']);
+    expect(setPointColumn([{ value: 5e5, factor: 1, unit: '/s' }, { value: 2e9, factor: 1, unit: '/s' }, { value: 0.5, factor: 1, unit: 'T' }])).toEqual(['5e5', '2e9', '0.5']);
+  });
+
+  it('lists the refused points of a scan with each parameter as one column in its unit', () => {
+    const r = oneD();
+    r.points[2] = { index: [2], values: [90.123456789 * deg], error: 'no' };
+    expect(refusedLines(r)).toEqual([{ text: 'M2.axis.roll = 45 deg', reason: 'M2.axis.roll (refused here)' }, { text: 'M2.axis.roll = 90.1235 deg', reason: 'no' }]);
+    expect(refusedLines(r, 1)).toHaveLength(1);
   });
 });

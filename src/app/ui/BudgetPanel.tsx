@@ -7,6 +7,7 @@ import { displayUnit, MAX_BUDGET_DRAWS, type BeamlineDoc, type BudgetResult, typ
 import { createPlanClient, type PlanStatus } from '../plan-client.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import { fmt } from '../format.ts';
+import { budgetCells, setPointColumn } from '../plan-view.ts';
 import { QuantityInput } from './QuantityInput.tsx';
 
 export interface BudgetPanelProps {
@@ -22,14 +23,6 @@ export interface BudgetPanelProps {
   onClose(): void;
 }
 
-function pct(x: number): string {
-  return `${fmt(x * 100, 2)} %`;
-}
-
-/** A derivative's unit: counts/s per shown unit of the parameter. */
-function perUnit(unit: string): string {
-  return unit ? `/s per ${unit}` : '/s';
-}
 
 export function BudgetPanel(p: BudgetPanelProps) {
   const headId = useId();
@@ -71,7 +64,14 @@ export function BudgetPanel(p: BudgetPanelProps) {
   const r = shown?.result;
   const stale = shown !== undefined && shown.text !== p.text;
   const ranking = useMemo(() => (r ? r.ranking.filter((x) => x.effect > 0) : []), [r]);
-  const tolOf = (name: string) => r?.tolerances.find((t) => t.name === name);
+  // the tables' numbers by the one rule per column (plan-view.ts)
+  const cells = useMemo(() => (r ? budgetCells(r) : undefined), [r]);
+  const setPoints = setPointColumn(tols.map((t) => {
+    const slot = p.params.find((s) => s.name === t.parameter);
+    if (!slot) return undefined;
+    const u = displayUnit(slot.dimension);
+    return { value: slot.value, factor: u.factor, unit: u.unit };
+  }));
 
   return (
     <section className="plan-panel budget-panel" aria-labelledby={headId} hidden={p.hidden} data-panel="budget">
@@ -91,7 +91,7 @@ export function BudgetPanel(p: BudgetPanelProps) {
             return (
               <tr key={`${i}-${t.parameter}`} data-tolerance={t.parameter}>
                 <td className="mono">{t.parameter}</td>
-                <td className="num">{slot && u ? `${fmt(slot.value / u.factor, 6).replace(/\.?0+e/, 'e')}${u.unit ? ` ${u.unit}` : ''}` : '—'}</td>
+                <td className="num">{slot && u ? `${setPoints[i]}${u.unit ? ` ${u.unit}` : ''}` : '—'}</td>
                 <td>
                   <QuantityInput label={`± half-width of ${t.parameter}`} name={`tolerance-${i}-half`} value={String(t.halfWidth)}
                     error={editError?.row === i ? { text: editError.text, message: editError.message } : undefined}
@@ -170,15 +170,18 @@ export function BudgetPanel(p: BudgetPanelProps) {
                 <th scope="col">Monte Carlo mean ± σ (/s)</th><th scope="col">5 % … 95 % (/s)</th></tr>
             </thead>
             <tbody>
-              {r.detectors.map((d) => (
-                <tr key={d.id} data-detector={d.id} data-linear-sigma={d.linearSigma}>
-                  <td>{d.id}{d.nonlinear && <span className="warn-mark" title={d.nonlinear}> ⚠ not linear</span>}</td>
-                  <td className="num">{fmt(d.nominal)}</td>
-                  <td className="num">{fmt(d.linearSigma, 3)}{d.nominal > 0 ? ` (${pct(d.linearSigma / d.nominal)})` : ''}</td>
-                  <td className="num">{d.monteCarlo ? `${fmt(d.monteCarlo.mean)} ± ${fmt(d.monteCarlo.sigma, 3)}` : '—'}</td>
-                  <td className="num">{d.monteCarlo ? `${fmt(d.monteCarlo.q05)} … ${fmt(d.monteCarlo.q95)}` : '—'}</td>
-                </tr>
-              ))}
+              {r.detectors.map((d, i) => {
+                const c = cells!.detectors[i];
+                return (
+                  <tr key={d.id} data-detector={d.id} data-linear-sigma={d.linearSigma}>
+                    <td>{d.id}{d.nonlinear && <span className="warn-mark" title={d.nonlinear}> ⚠ not linear</span>}</td>
+                    <td className="num">{c.nominal}</td>
+                    <td className="num">{c.linear}{c.linearPercent !== undefined ? ` (${c.linearPercent} %)` : ''}</td>
+                    <td className="num">{c.mean !== undefined ? `${c.mean} ± ${c.sigma}` : '—'}</td>
+                    <td className="num">{c.q05 !== undefined ? `${c.q05} … ${c.q95}` : '—'}</td>
+                  </tr>
+                );
+              })}
             </tbody>
           </table>
           {r.detectors.some((d) => d.nonlinear) && (
@@ -194,13 +197,12 @@ export function BudgetPanel(p: BudgetPanelProps) {
             </thead>
             <tbody>
               {ranking.map((x, i) => {
-                const t = tolOf(x.tolerance);
-                const s = t?.sensitivities?.find((v) => v.detector === x.detector);
+                const c = cells!.ranking[i];
                 return (
                   <tr key={i} data-rank={i} data-detector={x.detector} data-tolerance={x.tolerance}>
                     <td>{x.detector}</td><td className="mono">{x.tolerance}</td>
-                    <td className="num">{t && s ? `${fmt(s.derivative * t.factor)} ± ${fmt(s.error * t.factor, 2)} ${perUnit(t.unit)}` : '—'}</td>
-                    <td className="num">{fmt(x.effect, 3)}</td><td className="num">{pct(x.relative)}</td><td className="num">{pct(x.share)}</td>
+                    <td className="num">{c.derivative !== undefined ? `${c.derivative} ± ${c.error} ${c.per}` : '—'}</td>
+                    <td className="num">{c.effect}</td><td className="num">{c.relative} %</td><td className="num">{c.share} %</td>
                   </tr>
                 );
               })}

@@ -9,7 +9,8 @@ import { checkQuantity, displayUnit, type FitDoc, type FitResult, type Parameter
 import { createPlanClient, type PlanStatus } from '../plan-client.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import type { FitData, FitParameterRequest } from '../engine-protocol.ts';
-import { profileText, residualsFigure } from '../fit-view.ts';
+import { fitStateCells, fitValueCells, residualsFigure } from '../fit-view.ts';
+import { setPointColumn } from '../plan-view.ts';
 import { fmt } from '../format.ts';
 import { Plot } from './Plot.tsx';
 import { plotTheme } from './Results.tsx';
@@ -56,10 +57,6 @@ function checkRow(row: FreeRow, slot: ParameterSlot | undefined): BoundCheck {
   return { ok: true, free: { name: slot.name, ...(lo?.ok ? { lower: lo.si } : {}), ...(hi?.ok ? { upper: hi.si } : {}) } };
 }
 
-function valueText(v: number | undefined, unit: string, factor: number, sig = 7): string {
-  if (v === undefined || !Number.isFinite(v)) return '—';
-  return `${fmt(v / factor, sig).replace(/\.?0+e/, 'e')}${unit ? ` ${unit}` : ''}`;
-}
 
 export function FitPanel(p: FitPanelProps) {
   const headId = useId();
@@ -110,6 +107,15 @@ export function FitPanel(p: FitPanelProps) {
   const figure = useMemo(() => (f && shown ? residualsFigure(f, shown.data, theme) : undefined), [f, shown, theme]);
   const stale = shown !== undefined && shown.text !== p.text;
   const base = `${p.fileBase}-fit`;
+  // the tables' numbers by the one rule per column (fit-view.ts)
+  const valueCells = useMemo(() => (f ? fitValueCells(f) : []), [f]);
+  const stateCells = useMemo(() => (f?.state ? fitStateCells(f.state) : undefined), [f]);
+  const documentValues = setPointColumn(rows.map((r) => {
+    const slot = p.params.find((s) => s.name === r.name);
+    if (!slot) return undefined;
+    const u = displayUnit(slot.dimension);
+    return { value: slot.value, factor: u.factor, unit: u.unit };
+  }));
 
   return (
     <section className="plan-panel fit-panel" aria-labelledby={headId} hidden={p.hidden} data-panel="fit">
@@ -161,7 +167,7 @@ export function FitPanel(p: FitPanelProps) {
             return (
               <tr key={r.name} data-fit-param={r.name}>
                 <td className="mono">{r.name}</td>
-                <td className="num">{slot && u ? valueText(slot.value, u.unit, u.factor, 6) : '—'}</td>
+                <td className="num">{slot && u ? `${documentValues[i]}${u.unit ? ` ${u.unit}` : ''}` : '—'}</td>
                 {(['lower', 'upper'] as const).map((k) => (
                   <td key={k}>
                     <input type="text" className="mono" name={`fit-${k}-${i}`} aria-label={`${k} bound of ${r.name}`} value={r[k]} placeholder={u?.unit ? `none (${u.unit})` : 'none'}
@@ -223,15 +229,15 @@ export function FitPanel(p: FitPanelProps) {
                 <tr><th scope="col">parameter</th><th scope="col">fitted</th><th scope="col">± σ</th><th scope="col">profile interval (ΔD = 1)</th><th scope="col">document</th></tr>
               </thead>
               <tbody>
-                {f.parameters.map((q) => {
-                  const prof = profileText(q);
+                {f.parameters.map((q, i) => {
+                  const c = valueCells[i];
                   return (
                     <tr key={q.name} data-fitted={q.name} data-value={q.value} data-sigma={q.sigma ?? ''}>
                       <td className="mono">{q.name}</td>
-                      <td className="num">{valueText(q.value, q.unit, q.factor)}</td>
-                      <td className="num">{q.sigma !== undefined ? valueText(q.sigma, q.unit, q.factor, 2) : q.atBound ? 'at its bound' : '—'}</td>
-                      <td className="num">{prof ? <>{prof.text}{prof.asymmetric && <span className="warn-mark" data-asymmetric> asymmetric</span>}</> : '—'}</td>
-                      <td className="num">{valueText(q.start, q.unit, q.factor, 6)}</td>
+                      <td className="num">{c.value}</td>
+                      <td className="num">{c.sigma}</td>
+                      <td className="num">{c.profile ? <>{c.profile.text}{c.profile.asymmetric && <span className="warn-mark" data-asymmetric> asymmetric</span>}</> : '—'}</td>
+                      <td className="num">{c.start}</td>
                     </tr>
                   );
                 })}
@@ -243,7 +249,7 @@ export function FitPanel(p: FitPanelProps) {
               <thead><tr><th scope="col">oven state (along {f.state.axis})</th><th scope="col">population</th><th scope="col">± σ</th></tr></thead>
               <tbody>
                 {f.state.labels.map((l, i) => (
-                  <tr key={l}><td className="mono">{l}</td><td className="num">{fmt(f.state!.populations[i], 5)}</td><td className="num">{f.state!.sigma[i] === null ? '—' : fmt(f.state!.sigma[i]!, 2)}</td></tr>
+                  <tr key={l}><td className="mono">{l}</td><td className="num">{stateCells![i].population}</td><td className="num">{stateCells![i].sigma}</td></tr>
                 ))}
               </tbody>
             </table>

@@ -10,7 +10,7 @@ import {
 import type { ScanAxisRequest } from '../engine-protocol.ts';
 import { createPlanClient, type PlanStatus } from '../plan-client.ts';
 import type { WorkerLike } from '../engine-client.ts';
-import { refusedPoints, scanCurves, scanMaps, type ScanQuantity } from '../plan-view.ts';
+import { refusedLines, refusedPoints, scanCurves, scanMaps, type ScanQuantity } from '../plan-view.ts';
 import { fmt } from '../format.ts';
 import { QuantityInput } from './QuantityInput.tsx';
 import { Plot } from './Plot.tsx';
@@ -286,7 +286,7 @@ export function ScanPanel(p: ScanPanelProps) {
           {refused.length > 0 && (
             <details className="refused" open={refused.length <= 4}>
               <summary>{refused.length} of {r.points.length} points not evaluated (gaps in the chart)</summary>
-              <ul>{refused.slice(0, 50).map((f, i) => <li key={i}>{f.values.map((v, k) => `${r.parameters[k].name} = ${written(v, r.parameters[k].unit, r.parameters[k].factor)}`).join(', ')}: {f.reason}</li>)}</ul>
+              <ul>{refusedLines(r, 50).map((f, i) => <li key={i}>{f.text}: {f.reason}</li>)}</ul>
               {refused.length > 50 && <p className="note">and {refused.length - 50} more (all in the CSV).</p>}
             </details>
           )}

@@ -7,7 +7,7 @@ import { MAX_ATOMS, type SimulationDoc, type SimulationResult } from '../core-ad
 import { createPlanClient, type PlanStatus } from '../plan-client.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import type { EngineSignal } from '../engine-protocol.ts';
-import { hitMapFigure, profileComparison, simulatedRows } from '../fit-view.ts';
+import { hitMapFigure, profileComparison, simulatedCells, simulatedRows } from '../fit-view.ts';
 import { fmt } from '../format.ts';
 import { Plot } from './Plot.tsx';
 import { plotTheme } from './Results.tsx';
@@ -60,6 +60,8 @@ export function SimulatePanel(p: SimulatePanelProps) {
   const theme = useMemo(() => plotTheme(p.dark), [p.dark]);
   const s = shown?.result;
   const rows = useMemo(() => (s && shown ? simulatedRows(s, shown.engine) : []), [s, shown]);
+  // the table's numbers by the one rule per column (fit-view.ts): a signal no finer than its σ
+  const cells = useMemo(() => simulatedCells(rows), [rows]);
   const maps = useMemo(() => (s && shown ? s.detectors.map((d) => ({
     id: d.id, figure: hitMapFigure(d, theme, p.dark), profile: profileComparison(d, shown.engine.find((e) => e.id === d.id), theme),
   })) : []), [s, shown, theme, p.dark]);
@@ -126,14 +128,14 @@ export function SimulatePanel(p: SimulatePanelProps) {
                 <th scope="col">difference</th><th scope="col">counts of one run</th></tr>
             </thead>
             <tbody>
-              {rows.map((r) => (
+              {rows.map((r, i) => (
                 <tr key={r.id} data-detector={r.id} data-signal={r.signal} data-sigma={r.sigma} data-engine={r.engine ?? ''}>
                   <td>{r.id}</td>
                   <td className="num">{r.hits.toLocaleString('en')}</td>
-                  <td className="num">{fmt(r.signal, 4)} ± {fmt(r.sigma, 2)}</td>
-                  <td className="num">{r.engine !== undefined ? fmt(r.engine, 4) : '—'}</td>
-                  <td className="num">{r.difference !== undefined ? <span className={Math.abs(r.difference) > 3 ? 'warn-mark' : undefined}>{r.difference >= 0 ? '+' : '−'}{fmt(Math.abs(r.difference), 2)} σ</span> : '—'}</td>
-                  <td className="num">{r.counts.toLocaleString('en')} in {fmt(r.dwell, 3)} s</td>
+                  <td className="num">{cells[i].signal} ± {cells[i].sigma}</td>
+                  <td className="num">{cells[i].engine}</td>
+                  <td className="num">{r.difference !== undefined ? <span className={Math.abs(r.difference) > 3 ? 'warn-mark' : undefined}>{cells[i].difference} σ</span> : '—'}</td>
+                  <td className="num">{r.counts.toLocaleString('en')} in {cells[i].dwell} s</td>
                 </tr>
               ))}
             </tbody>
