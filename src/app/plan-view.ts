@@ -5,7 +5,7 @@
 // (src/beamline/numbers.ts, as the command line's budget): one notation and one count of figures down each column,
 // a value never finer than its stated error.
 import type { BudgetResult, ScanResult } from './core-adapter.ts';
-import { FIGURES, formatColumn, notationOf, roundToFigures, roundValue, writeRounded, type NumberSpec, type Rounded } from '../beamline/numbers.ts';
+import { FIGURES, ROUND_OFF, formatColumn, notationOf, roundToFigures, roundValue, writeRounded, type NumberSpec, type Rounded } from '../beamline/numbers.ts';
 import { AXIS_NUMBERS, fmt } from './format.ts';
 
 export type ScanQuantity = 'yield' | 'counts';
@@ -194,7 +194,10 @@ export function valueSigmaColumns(values: readonly (number | undefined)[], sigma
   for (const unit of new Set(units)) {
     const rows = units.flatMap((u, i) => (u === unit ? [i] : []));
     const rv = rows.map((i) => (good(values[i]) ? roundValue(values[i]!, { figures, ...(good(sigmas[i]) && sigmas[i]! > 0 ? { error: sigmas[i] } : {}) }) : undefined));
-    const rs = rows.map((i) => (good(sigmas[i]) ? roundToFigures(sigmas[i]!, FIGURES.sigma) : undefined));
+    // a σ below the round-off of its value (ROUND_OFF of it: a derivative that is exact, as the signal's in the flux)
+    // is round-off itself and written 0
+    const rs = rows.map((i) => (!good(sigmas[i]) ? undefined
+      : good(values[i]) && Math.abs(sigmas[i]!) < ROUND_OFF * Math.abs(values[i]!) ? roundToFigures(0, FIGURES.sigma) : roundToFigures(sigmas[i]!, FIGURES.sigma)));
     const shownValues = rv.filter((r): r is Rounded => r !== undefined);
     const shownSigmas = rs.filter((r): r is Rounded => r !== undefined);
     const nv = notationOf(shownValues);

@@ -108,6 +108,13 @@ describe('the planning tables by the one number rule per column', () => {
     // −4.4e6 ± 2.2e3 and 1234.5678 ± 12.3 (to the tens): the derivatives one column with exponents, each error in its derivative's notation
     expect(c.ranking.map((x) => `${x.derivative} ± ${x.error} ${x.per}`)).toEqual(['-4.4e6 ± 2.2e3 /s per deg', '1.23e3 ± 1.2e1 /s per deg']);
     expect(c.ranking.map((x) => x.effect)).toEqual(['1.27e6', '3.56e2']);
+    // rows of another unit are their own column; an error below the derivative's round-off (an exact derivative) is 0
+    const b = budgetOf();
+    b.tolerances.push({ name: 'oven.flux', path: 'oven.flux', dimension: 'rate', unit: '', factor: 1, value: 2e9, halfWidth: 1e8, distribution: 'normal', sigma: 1e8,
+      method: 'central', sensitivities: [{ detector: 'D1', derivative: 0.02813, error: 2.5e-17 }] } as unknown as BudgetResult['tolerances'][number]);
+    b.ranking.unshift({ detector: 'D1', tolerance: 'oven.flux', effect: 2.8e6, relative: 0.05, share: 0.8 });
+    const withFlux = budgetCells(b).ranking;
+    expect(withFlux.map((x) => `${x.derivative} ± ${x.error} ${x.per}`)).toEqual(['0.02813 ± 0 /s', '-4.4e6 ± 2.2e3 /s per deg', '1.23e3 ± 1.2e1 /s per deg']);
     expect(c.ranking.map((x) => [x.relative, x.share])).toEqual([['2.9', '100'], ['0.13', '100']]);
   });
 
