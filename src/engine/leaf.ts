@@ -56,6 +56,7 @@ export function finishLeaf(ctx: WalkCtx, st: State, walk: Walk, target: string, 
     spec,
     moment2Cache: ctx.moment2,
     track: walk.track,
+    rank: walk.rank,
     grid,
     detector: det,
   });

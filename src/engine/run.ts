@@ -79,7 +79,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
       source: ap ? { width: ap.width, height: ap.height, x: ap.x, z: ap.z } : null,
       collimator: null, kicks: [], strips: [], components: [],
     };
-    visit(ctx, line.oven.to, st0, { path: [], y: 0, track, depth: 0 });
+    visit(ctx, line.oven.to, st0, { path: [], rank: [i], y: 0, track, depth: 0 });
     chiNodes += chi.nodes;
     if (chi.wasm) wasmUsed = true;
     chiError += 0;
@@ -93,6 +93,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     const at = [...merged.at];
     warnings.add(`${at.slice(0, 4).join(', ')}${at.length > 4 ? ` and ${at.length - 4} more` : ''}: a port carried more than ${MAX_BUNDLE} sub-beams, so ${merged.count.toLocaleString('en-US')} of them were merged with others whose mean deflections agree within ${(merged.fraction * 100).toPrecision(1)} % of their width at every aperture and detector plane (docs/design.md "Merging sub-beams"); the spin populations are exact, what the apertures clip, the captured fractions and the profiles carry an error of up to about ${(merged.fraction * 100).toPrecision(1)} % for each magnet listed`);
   }
+  leaves.sort(byRank);
   opts.onPaths?.(leaves, flux);
   const geo = evaluateGeometry(leaves, flux, opts.epsilon ?? 0.01, lost);
   for (const w of geo.warnings) warnings.add(w);
@@ -160,6 +161,14 @@ function requireFinite(line: Beamline, leaves: readonly LeafResult[], detectors:
     if (found) throw new RunError(`${where(d.id)}: ${found}; the set-points give no finite result (check its efficiency, background and dwell, and the flux)`);
   }
   if (!Number.isFinite(lost)) throw new RunError(`the lost fraction is ${lost}; the set-points give no finite result`);
+}
+
+/** Leaves in the order of their branch indices (lexicographic; no leaf's indices begin another's). */
+function byRank(a: FinePath, b: FinePath): number {
+  const ra = a.rank ?? [], rb = b.rank ?? [];
+  const n = Math.min(ra.length, rb.length);
+  for (let i = 0; i < n; i++) if (ra[i] !== rb[i]) return ra[i] - rb[i];
+  return ra.length - rb.length;
 }
 
 /** The detectors reached from the targets by the line's routing (the targets themselves included), in the line's order. */

@@ -40,6 +40,8 @@ export interface FinePath {
   readonly fraction: number;
   readonly dist: VelocityDistribution;
   readonly path: readonly string[];
+  /** The walk's branch indices (steps/step.ts Walk.rank): the leaves' order. */
+  readonly rank?: readonly number[];
   readonly target: string;
   readonly plane: number;
   /** Beam-averaged yield of this path (already weighted by the isotope fraction). */

@@ -61,11 +61,12 @@ function sortBundle(ctx: WalkCtx, e: Magnet, members: readonly Member[], exit: n
   const groups = new Map<string, { to: string; forks: Member[] }>();
   for (const m of members) {
     const walk = m.walk;
-    for (const c of sorting.components) {
+    for (const [ci, c] of sorting.components.entries()) {
       const to = routeOf(e, c);
       const kick = deflects ? [{ exitY: exit, length: e.length!, accel: (c.moment * BOHR_MAGNETON * e.gradient!) / ctx.sys.massKg, n: e.axis }] : [];
       const w = fork(walk, {
         path: [...walk.path, `${e.id}:${c.port}`],
+        rank: [...walk.rank, ci],
         y: exit,
         track: { ...walk.track, kicks: [...walk.track.kicks, ...kick], strips: [...walk.track.strips, ...strips], components: [...walk.track.components, `${e.id}:${c.lowField}`] },
       });
@@ -103,10 +104,10 @@ export const magnetStep: Step<Magnet> = {
       return undefined;
     }
     // an ideal sorter: the states of one port share one trajectory; Σ_k P_k ρ P_k over the port
-    for (const port of sorting.ports) {
+    for (const [pi, port] of sorting.ports.entries()) {
       const comps = portComponents(sorting, port);
       const to = routeOf(e, comps[0]);
-      const w = fork(walk, { path: [...walk.path, `${e.id}:${port}`], y: exit });
+      const w = fork(walk, { path: [...walk.path, `${e.id}:${port}`], rank: [...walk.rank, pi], y: exit });
       ctx.visit(ctx, to, selectStates(s, comps, to === 'stop' || ctx.byId.get(to)?.kind === 'detector'), w);
     }
     return undefined;

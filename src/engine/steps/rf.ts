@@ -32,9 +32,9 @@ export const rfStep: Step<RfFlipper> = {
     const branchYields: number[][] = [];
     try {
       ctx.fraction = whole / n;
-      for (const h of map.rotating) {
+      for (const [k, h] of map.rotating.entries()) {
         const first = ctx.leaves.length;
-        ctx.visit(ctx, e.to, applyLinear(ctx, applyLinear(ctx, s, h, e.length), map.frame, e.length), { ...walk, y: exit });
+        ctx.visit(ctx, e.to, applyLinear(ctx, applyLinear(ctx, s, h, e.length), map.frame, e.length), { ...walk, rank: [...walk.rank, k], y: exit });
         branchYields.push(ctx.leaves.slice(first).map((l) => l.yieldSpin));
       }
     } finally {

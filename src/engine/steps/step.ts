@@ -79,6 +79,12 @@ export interface WalkCtx {
 /** Where one path of the walk is: the magnets' ports passed, the distance from the orifice, its transverse track. */
 export interface Walk {
   path: string[];
+  /**
+   * The index of the branch taken at each fork (a magnet's state or port, an RF entry phase), the isotope first:
+   * the leaves are put in this order before the detector plane, the order of a walk that follows one path at a
+   * time, whichever order the bundles reached them in.
+   */
+  rank: readonly number[];
   y: number;
   track: Track;
   depth: number;
@@ -88,6 +94,7 @@ export interface Walk {
 export function fork(walk: Walk, extra: Partial<Walk>): Walk {
   return {
     path: extra.path ?? walk.path,
+    rank: extra.rank ?? walk.rank,
     y: extra.y ?? walk.y,
     track: extra.track ?? walk.track,
     depth: walk.depth + 1,
