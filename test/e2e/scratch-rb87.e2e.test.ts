@@ -259,6 +259,7 @@ describe('a Rb-87 line built from scratch (bench R, invented set-points)', () =>
     await page.locator('[data-chart^="plane-"] .main-svg').first().waitFor({ timeout: 60_000 });
     await page.locator('[data-chart^="plane-"]').first().scrollIntoViewIfNeeded();
     await shot('detector-plane');
+    await page.locator('[data-chart^="plane-"]').first().screenshot({ path: screenshotPath('scratch/detector-plane-chart') });
   });
 
   it('sent no request off 127.0.0.1 and logged no page error', async () => {
