@@ -202,6 +202,27 @@ export function fitStateCells(state: NonNullable<FitResult['state']>): { populat
   return state.populations.map((_, i) => ({ population: population[i], sigma: sigma[i] }));
 }
 
+/**
+ * A fitted density matrix as a table: row a, column b gives Re ρ_ab ± σ and, off the diagonal, Im ρ_ab ± σ, each no
+ * finer than its σ (one notation over the matrix); "—" for a σ the readings do not determine. With the purity and
+ * ⟨J⟩/j as one line.
+ */
+export function fitDensityCells(dm: NonNullable<FitResult['density']>): { cells: string[][]; summary: string } {
+  const d = dm.basis.length;
+  const flat = <T,>(m: T[][]) => m.flatMap((r) => r);
+  const re = valueSigmaColumns(flat(dm.re).map(finite), flat(dm.sigmaRe).map((s) => (s === null ? undefined : finite(s))), 4, undefined, { blank: DASH });
+  const im = valueSigmaColumns(flat(dm.im).map(finite), flat(dm.sigmaIm).map((s) => (s === null ? undefined : finite(s))), 4, undefined, { blank: DASH });
+  const cells = Array.from({ length: d }, (_, a) => Array.from({ length: d }, (_, b) => {
+    const k = a * d + b;
+    const real = `${re.value[k]} ± ${re.sigma[k]}`;
+    return a === b ? real : `${real}, i: ${im.value[k]} ± ${im.sigma[k]}`;
+  }));
+  const pol = formatColumn([dm.polarization.x, dm.polarization.y, dm.polarization.z].map(finite), { figures: 3 }, { blank: DASH });
+  const purity = formatColumn([finite(dm.purity)], { figures: 4 }, { blank: DASH })[0];
+  const summary = `purity ${purity}${dm.puritySigma === null ? '' : ` ± ${formatColumn([finite(dm.puritySigma)], { figures: 2 }, { blank: DASH })[0]}`}; ⟨J⟩/j = (${pol.join(', ')}); the readings determine ${dm.determined} of the ${dm.parameters} parameters of ρ`;
+  return { cells, summary };
+}
+
 /** The simulated run's table: signal ± σ (no finer than σ), the engine's signal, the difference in σ, the dwell. */
 export function simulatedCells(rows: ReturnType<typeof simulatedRows>): { signal: string; sigma: string; engine: string; difference: string; dwell: string }[] {
   const { value: signal, sigma } = valueSigmaColumns(rows.map((r) => finite(r.signal)), rows.map((r) => finite(r.sigma)), 4, undefined, { blank: DASH });

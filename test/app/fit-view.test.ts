@@ -3,7 +3,7 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { fitStateCells, fitValueCells, hitMapFigure, profileComparison, profileText, residualAxis, residualGroups, residualsFigure, simulatedCells, simulatedRows } from '../../src/app/fit-view.ts';
+import { fitDensityCells, fitStateCells, fitValueCells, hitMapFigure, profileComparison, profileText, residualAxis, residualGroups, residualsFigure, simulatedCells, simulatedRows } from '../../src/app/fit-view.ts';
 import { applyPlanEdit, fittedQuantity } from '../../src/app/plan-edit.ts';
 import { checkDocument, lineParameters, readDocument, type FitResult, type FittedParameter, type SimulationResult } from '../../src/app/core-adapter.ts';
 import type { FitData } from '../../src/app/engine-protocol.ts';
@@ -204,5 +204,25 @@ describe('the fit and simulated-run tables by the one number rule per column', (
     // (312.345 − 330.2)/20.4 = −0.875…; (2512345 − 2.5e6)/1600 = +7.7…
     expect(c.map((x) => x.difference)).toEqual(['−0.88', '+7.7', '—']);
     expect(c.map((x) => x.dwell)).toEqual(['30', '2.5', '30']);
+  });
+});
+
+describe('a fitted density matrix', () => {
+  it('is shown as a table of Re ± σ (and Im ± σ off the diagonal), no finer than σ, with its purity and ⟨J⟩/j', () => {
+    const dm = {
+      axis: 'z', basis: ['+1/2', '-1/2'],
+      re: [[0.7312345, 0.2012345], [0.2012345, 0.2687655]], im: [[0, -0.0512345], [0.0512345, 0]],
+      sigmaRe: [[0.0021, 0.0033], [0.0033, 0.0021]], sigmaIm: [[null, 0.0034], [0.0034, null]],
+      eigenvalues: [0.19, 0.81], purity: 0.6951234, puritySigma: 0.0042,
+      polarization: { x: 0.4024690, y: 0.102469, z: 0.462469, sigma: { x: 0.0066, y: 0.0068, z: 0.0042 } },
+      determined: 3, parameters: 3,
+    };
+    const t = fitDensityCells(dm);
+    // the value ends at the place of its σ's first figure (σ 0.0021 → 0.731), as every value ± σ of the panels
+    expect(t.cells).toEqual([
+      ['0.731 ± 0.0021', '0.201 ± 0.0033, i: -0.051 ± 0.0034'],
+      ['0.201 ± 0.0033, i: 0.051 ± 0.0034', '0.269 ± 0.0021'],
+    ]);
+    expect(t.summary).toBe('purity 0.6951 ± 0.0042; ⟨J⟩/j = (0.402, 0.102, 0.462); the readings determine 3 of the 3 parameters of ρ');
   });
 });

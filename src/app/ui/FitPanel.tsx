@@ -9,7 +9,7 @@ import { checkQuantity, displayUnit, type FitDoc, type FitResult, type Parameter
 import { createPlanClient, type PlanStatus } from '../plan-client.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import type { FitData, FitParameterRequest } from '../engine-protocol.ts';
-import { fitStateCells, fitValueCells, residualsFigure } from '../fit-view.ts';
+import { fitDensityCells, fitStateCells, fitValueCells, residualsFigure } from '../fit-view.ts';
 import { setPointColumn } from '../plan-view.ts';
 import { fmt } from '../format.ts';
 import { Plot } from './Plot.tsx';
@@ -110,6 +110,7 @@ export function FitPanel(p: FitPanelProps) {
   // the tables' numbers by the one rule per column (fit-view.ts)
   const valueCells = useMemo(() => (f ? fitValueCells(f) : []), [f]);
   const stateCells = useMemo(() => (f?.state ? fitStateCells(f.state) : undefined), [f]);
+  const densityCells = useMemo(() => (f?.density ? fitDensityCells(f.density) : undefined), [f]);
   const documentValues = setPointColumn(rows.map((r) => {
     const slot = p.params.find((s) => s.name === r.name);
     if (!slot) return undefined;
@@ -193,7 +194,7 @@ export function FitPanel(p: FitPanelProps) {
         </tfoot>
       </table>
       <div className="plan-actions">
-        <label><input type="checkbox" name="fit-state" checked={state} onChange={(e) => setState(e.target.checked)} /> oven state (the populations of the zero-field states)</label>
+        <label><input type="checkbox" name="fit-state" checked={state} onChange={(e) => setState(e.target.checked)} /> oven state (a bare spin's density matrix; a hyperfine species' populations of its zero-field states)</label>
         <button type="button" className="primary" disabled={!ready || status.running} onClick={() => {
           if (!data) return;
           sent.current = { text: p.text, file: data.name };
@@ -244,7 +245,21 @@ export function FitPanel(p: FitPanelProps) {
               </tbody>
             </table>
           )}
-          {f.state && (
+          {densityCells && f.density && (
+            <>
+              <table className="plan-table fit-density" aria-label="Fitted density matrix">
+                <caption>Oven state: ρ over the zero-field states along {f.density.axis} (kept positive: ρ = T T†/Tr)</caption>
+                <thead><tr><th scope="col">ρ</th>{f.density.basis.map((b) => <th scope="col" key={b} className="mono">{b}</th>)}</tr></thead>
+                <tbody>
+                  {f.density.basis.map((b, a) => (
+                    <tr key={b}><th scope="row" className="mono">{b}</th>{densityCells.cells[a].map((c, k) => <td key={k} className="num">{c}</td>)}</tr>
+                  ))}
+                </tbody>
+              </table>
+              <p className="note">{densityCells.summary}</p>
+            </>
+          )}
+          {f.state && !f.density && (
             <table className="plan-table fit-state" aria-label="Fitted oven state">
               <thead><tr><th scope="col">oven state (along {f.state.axis})</th><th scope="col">population</th><th scope="col">± σ</th></tr></thead>
               <tbody>
