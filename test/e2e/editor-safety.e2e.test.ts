@@ -513,25 +513,29 @@ const EFFECTS: Record<string, (keys: string) => Promise<void>> = {
     await onTree('M1');
     await app.page.keyboard.press(keys);
     await expect.poll(() => app.page.locator('[data-panel="scan"]').isVisible()).toBe(true);
-    expect(await app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('scan');
+    // the panel takes the focus once it has drawn (an effect after it shows)
+    await expect.poll(() => app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('scan');
   },
   'view.budgetPanel': async (keys) => {
     await onTree('M1');
     await app.page.keyboard.press(keys);
     await expect.poll(() => app.page.locator('[data-panel="budget"]').isVisible()).toBe(true);
-    expect(await app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('budget');
+    // the panel takes the focus once it has drawn (an effect after it shows)
+    await expect.poll(() => app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('budget');
   },
   'view.fitPanel': async (keys) => {
     await onTree('M1');
     await app.page.keyboard.press(keys);
     await expect.poll(() => app.page.locator('[data-panel="fit"]').isVisible()).toBe(true);
-    expect(await app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('fit');
+    // the panel takes the focus once it has drawn (an effect after it shows)
+    await expect.poll(() => app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('fit');
   },
   'view.simulatePanel': async (keys) => {
     await onTree('M1');
     await app.page.keyboard.press(keys);
     await expect.poll(() => app.page.locator('[data-panel="simulate"]').isVisible()).toBe(true);
-    expect(await app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('simulate');
+    // the panel takes the focus once it has drawn (an effect after it shows)
+    await expect.poll(() => app.page.evaluate(() => document.activeElement?.closest('[data-panel]')?.getAttribute('data-panel'))).toBe('simulate');
   },
   'view.toggleDark': async (keys) => {
     await onTree('M1');

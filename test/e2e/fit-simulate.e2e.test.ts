@@ -145,6 +145,29 @@ describe('the fit and simulated-run panels in Chromium', () => {
     await expect.poll(() => page.locator('.doc-file').textContent()).not.toMatch(/unsaved/);
   }, 60_000);
 
+  it('fits bench C\'s oven state with the roll and the flux: a bare spin\'s density matrix, positive, shown with σ', async () => {
+    const { page } = app;
+    const panel = page.locator('[data-panel="fit"]');
+    await panel.locator('input[name="fit-state"]').check();
+    const before = await panel.locator('[data-fit-seq]').getAttribute('data-fit-seq');
+    await panel.getByRole('button', { name: 'Run fit' }).click();
+    await expect.poll(() => panel.locator('[data-fit-seq]').getAttribute('data-fit-seq'), { timeout: 90_000 }).not.toBe(before);
+    const table = panel.locator('table[aria-label="Fitted density matrix"]');
+    await table.waitFor();
+    const cells = await table.locator('tbody td').allTextContents();
+    expect(cells).toHaveLength(4);
+    // the diagonal: two populations that sum to 1, each "value ± σ"
+    const diag = [cells[0], cells[3]].map((c) => Number(c.split(' ± ')[0]));
+    expect(diag.every((x) => x >= 0 && x <= 1)).toBe(true);
+    expect(Math.abs(diag[0] + diag[1] - 1)).toBeLessThan(0.01);
+    expect(cells[1]).toMatch(/ ± .*, i: /);
+    expect(await panel.locator('.note').allTextContents()).toEqual(expect.arrayContaining([expect.stringMatching(/^purity .*; ⟨J⟩\/j = \(.*\); the readings determine \d of the 3 parameters of ρ$/)]));
+    expect(await panel.textContent()).not.toMatch(/NaN/);
+    await table.scrollIntoViewIfNeeded();
+    await page.screenshot({ path: screenshotPath('e2e-fit-density-light') });
+    await panel.locator('input[name="fit-state"]').uncheck();
+  }, 180_000);
+
   it('cancels a running fit at once and keeps the tables of the last one that finished', async () => {
     const { page } = app;
     const panel = page.locator('[data-panel="fit"]');
