@@ -2,7 +2,8 @@
 // and removed, and a measured table imported from CSV (speed and weight columns, the unit in the header;
 // readVelocityCsv of src/beamline/velocity-csv.ts). Each change is one undoable edit; a file the reader
 // refuses leaves the document as it was and says what and where.
-import { useEffect, useId, useRef, useState } from 'react';
+import { useId, useState } from 'react';
+import { useCommitText } from './useCommitText.ts';
 import { readVelocityCsv, type QuantityDoc } from '../core-adapter.ts';
 import type { FieldSpec } from '../fields.ts';
 
@@ -27,40 +28,12 @@ const WEIGHT: FieldSpec = { type: 'quantity', key: '1', label: 'weight', dim: 'd
  */
 function Cell({ name, label, value, error, onCommit, width }: { name: string; label: string; value: string; error?: { text: string; message: string }; onCommit(t: string): void; width: string }) {
   const id = useId();
-  const [text, setText] = useState(error?.text ?? value);
-  const [focused, setFocused] = useState(false);
-  const start = useRef(text);
-  useEffect(() => {
-    if (!focused) setText(error?.text ?? value);
-  }, [value, error, focused]);
-  const commit = () => {
-    if (text === start.current) return;
-    start.current = text;
-    onCommit(text);
-  };
+  const entry = useCommitText(value, error, onCommit);
   return (
     <>
-      <input id={id} name={name} type="text" value={text} aria-label={label} spellCheck={false} autoComplete="off" style={{ width, boxSizing: 'border-box' }}
+      <input id={id} name={name} type="text" aria-label={label} spellCheck={false} autoComplete="off" style={{ width, boxSizing: 'border-box' }}
         aria-invalid={error ? true : undefined} aria-describedby={error ? `${id}-err` : undefined}
-        onChange={(e) => setText(e.target.value)}
-        onFocus={() => {
-          start.current = text;
-          setFocused(true);
-        }}
-        onBlur={() => {
-          setFocused(false);
-          commit();
-        }}
-        onKeyDown={(e) => {
-          if (e.key === 'Enter') {
-            e.preventDefault();
-            commit();
-          } else if (e.key === 'Escape' && text !== start.current) {
-            e.preventDefault();
-            e.stopPropagation();
-            setText(start.current);
-          }
-        }} />
+        {...entry} />
       {error && <span id={`${id}-err`} className="field-error" role="alert" style={{ display: 'block' }}>{error.message}</span>}
     </>
   );
