@@ -3,7 +3,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { openApp, foreignRequests, screenshotPath, tableYields, waitForFreshResults, ROOT, SAMPLES_DIR, type App } from './harness.ts';
+import { openApp, foreignRequests, screenshotPath, tableYields, waitForFreshResults, ROOT, SAMPLES_DIR, type App, runMenu as menuCommand, selectElement as selectInTree } from './harness.ts';
 import { documentText, readDocument, runEngine, type BeamlineDoc } from '../../src/app/core-adapter.ts';
 import { newDocument } from '../../src/app/default-doc.ts';
 
@@ -44,15 +44,9 @@ function sampleWithRoll(): { name: string; doc: BeamlineDoc; index: number } {
 }
 
 /** Opens a menu of the menu bar and clicks one of its commands, as a user would. */
-async function runMenu(menu: string, command: string) {
-  await app.page.locator(`[data-menu-button="${menu}"]`).click();
-  await app.page.locator(`[data-command="${command}"]`).click();
-}
+const runMenu = (menu: string, command: string) => menuCommand(app.page, menu, command);
 
-async function selectElement(id: string) {
-  await app.page.locator(`.tree [data-id="${id}"]`).first().click();
-  await app.page.waitForSelector(`.inspector .insp-id:text-is("${id}")`);
-}
+const selectElement = (id: string) => selectInTree(app.page, id);
 
 describe('the renderer in Chromium', () => {
   it('opens a sample, shows the engine yields for a changed roll angle, and undo restores them', async () => {

@@ -9,7 +9,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Page } from 'playwright-core';
-import { openApp, foreignRequests, screenshotPath, waitForFreshResults, ROOT, SAMPLES_DIR, type App } from './harness.ts';
+import { openApp, foreignRequests, screenshotPath, waitForFreshResults, ROOT, SAMPLES_DIR, type App, runMenu as menuCommand, selectElement as selectInTree } from './harness.ts';
 import { documentText, readDocument, type BeamlineDoc } from '../../src/app/core-adapter.ts';
 import { newDocument, NEW_DOCUMENT_TITLE } from '../../src/app/default-doc.ts';
 
@@ -40,15 +40,9 @@ afterAll(async () => {
 
 // ---------------------------------------------------------------------------------------------- helpers
 
-async function runMenu(menu: string, command: string) {
-  await app.page.locator(`[data-menu-button="${menu}"]`).click();
-  await app.page.locator(`[data-command="${command}"]`).click();
-}
+const runMenu = (menu: string, command: string) => menuCommand(app.page, menu, command);
 
-async function selectElement(id: string) {
-  await app.page.locator(`.tree [data-id="${id}"]`).first().click();
-  await app.page.waitForSelector(`.inspector .insp-id:text-is("${id}")`);
-}
+const selectElement = (id: string) => selectInTree(app.page, id);
 
 const docTitle = (page: Page) => page.locator('.doc-name').textContent();
 const docFile = (page: Page) => page.locator('.doc-file').textContent();

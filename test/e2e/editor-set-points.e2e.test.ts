@@ -5,7 +5,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mkdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { openApp, screenshotPath, tableYields, waitForFreshResults, RESULTS_DIR, SAMPLES_DIR, type App } from './harness.ts';
+import { openApp, screenshotPath, tableYields, waitForFreshResults, RESULTS_DIR, SAMPLES_DIR, type App, runMenu as menuCommand, selectElement as selectInTree } from './harness.ts';
 import { documentText, readDocument, runEngine, type BeamlineDoc } from '../../src/app/core-adapter.ts';
 
 let app: App;
@@ -34,14 +34,8 @@ function sampleDoc(): BeamlineDoc {
   if (!r.ok) throw new Error('bench H does not read');
   return r.doc;
 }
-async function runMenu(menu: string, command: string) {
-  await app.page.locator(`[data-menu-button="${menu}"]`).click();
-  await app.page.locator(`[data-command="${command}"]`).click();
-}
-async function selectElement(id: string) {
-  await app.page.locator(`.tree [data-id="${id}"]`).first().click();
-  await app.page.waitForSelector(`.inspector .insp-id:text-is("${id}")`);
-}
+const runMenu = (menu: string, command: string) => menuCommand(app.page, menu, command);
+const selectElement = (id: string) => selectInTree(app.page, id);
 async function selectOven() {
   await app.page.locator('.tree [data-id="oven"]').first().click();
   await app.page.waitForSelector('.inspector h2:text-is("Oven and species")');

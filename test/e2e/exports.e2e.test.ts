@@ -6,7 +6,7 @@ import { createHash } from 'node:crypto';
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { loadImage, createCanvas } from '@napi-rs/canvas';
-import { openApp, screenshotPath, waitForFreshResults, RESULTS_DIR, SAMPLES_DIR, type App } from './harness.ts';
+import { openApp, screenshotPath, waitForFreshResults, RESULTS_DIR, SAMPLES_DIR, type App, runMenu as menuCommand } from './harness.ts';
 import { documentText, readDocument, runEngine } from '../../src/app/core-adapter.ts';
 
 let app: App;
@@ -22,10 +22,7 @@ afterAll(async () => {
   await app?.close();
 });
 
-async function runMenu(menu: string, command: string) {
-  await app.page.locator(`[data-menu-button="${menu}"]`).click();
-  await app.page.locator(`[data-command="${command}"]`).click();
-}
+const runMenu = (menu: string, command: string) => menuCommand(app.page, menu, command);
 
 /** A CSV line split into fields (RFC 4180 quotes). */
 function fields(line: string): string[] {

@@ -190,6 +190,18 @@ export async function tableYields(page: Page): Promise<{ path: string; target: s
   );
 }
 
+/** Runs a menu's command by clicking the menu and then the command. */
+export async function runMenu(page: Page, menu: string, command: string): Promise<void> {
+  await page.locator(`[data-menu-button="${menu}"]`).click();
+  await page.locator(`[data-command="${command}"]`).click();
+}
+
+/** Selects an element in the tree and waits for the inspector to show it. */
+export async function selectElement(page: Page, id: string): Promise<void> {
+  await page.locator(`.tree [data-id="${id}"]`).first().click();
+  await page.waitForSelector(`.inspector .insp-id:text-is("${id}")`);
+}
+
 export function screenshotPath(name: string): string {
   mkdirSync(RESULTS_DIR, { recursive: true });
   return join(RESULTS_DIR, `${name}.png`);

@@ -11,7 +11,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mkdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { foreignRequests, openApp, screenshotPath, tableYields, waitForFreshResults, RESULTS_DIR, type App } from './harness.ts';
+import { foreignRequests, openApp, screenshotPath, tableYields, waitForFreshResults, RESULTS_DIR, type App, runMenu as menuCommand, selectElement as selectInTree } from './harness.ts';
 import { runDocumentText } from '../../src/engine/index.ts';
 import { detectorCells } from '../../src/app/results.ts';
 
@@ -26,14 +26,8 @@ afterAll(async () => {
   await app?.close();
 });
 
-async function runMenu(menu: string, command: string) {
-  await app.page.locator(`[data-menu-button="${menu}"]`).click();
-  await app.page.locator(`[data-command="${command}"]`).click();
-}
-async function selectElement(id: string) {
-  await app.page.locator(`.tree [data-id="${id}"]`).first().click();
-  await app.page.waitForSelector(`.inspector .insp-id:text-is("${id}")`);
-}
+const runMenu = (menu: string, command: string) => menuCommand(app.page, menu, command);
+const selectElement = (id: string) => selectInTree(app.page, id);
 /** One CSV line's fields (RFC 4180 quoting: a field with a comma or a quote is quoted, quotes doubled). */
 function csvFields(line: string): string[] {
   const out: string[] = [];
