@@ -13,11 +13,10 @@
  * sub-beam at a plane is its geometric width (oven orifice and collimator) plus the spread of its deflection over
  * the central 80 % of the flux's 1/v².
  */
-import { type CMat, cmatZeros } from '../physics/cmat.ts';
+import { type CMat, cmatIdentity, cmatZeros } from '../physics/cmat.ts';
 import { speedGrid, speedRange, inverseSpeedMoment, type VelocityDistribution } from '../physics/velocity.ts';
-import type { Rect } from '../beamline/types.ts';
 import { lengthOf, outputsOf } from '../beamline/elements/registry.ts';
-import type { Kick, Track } from './subbeam.ts';
+import { beamExtent, deflection, type Track } from './subbeam.ts';
 import { type SpecState, specExpand, mergeTerms, specAt } from './spectral.ts';
 import { type NodeState, type State, isNodes, averagedTrace } from './nodes.ts';
 import type { Walk, WalkCtx } from './steps/step.ts';
@@ -84,23 +83,8 @@ function speedScale(d: VelocityDistribution): SpeedScale {
 
 /** The geometric full width of the undeflected beam at plane y along one axis (orifice and collimator). */
 function geometricWidth(t: Track, axis: 'x' | 'z', y: number): number {
-  const src: Rect | null = t.source;
-  const w0 = src ? (axis === 'x' ? src.width : src.height) : 0;
-  const col = t.collimator;
-  if (!col) return w0;
-  const w1 = axis === 'x' ? col.rect.width : col.rect.height;
-  const r = y / col.y;
-  return w0 * Math.abs(1 - r) + w1 * r;
-}
-
-/** Σ over kicks before plane y of a L (L/2 + y − exit) n along an axis: the deflection at y times v². */
-function deflectionCoefficient(kicks: readonly Kick[], axis: 'x' | 'z', y: number): number {
-  let s = 0;
-  for (const k of kicks) {
-    if (y < k.exitY - 1e-12) continue;
-    s += k.accel * k.length * (k.length / 2 + (y - k.exitY)) * k.n[axis];
-  }
-  return s;
+  const e = beamExtent(t, axis, y);
+  return e.hi - e.lo;
 }
 
 /**
@@ -166,8 +150,10 @@ interface Profile {
 function profileOf(t: Track, planes: readonly number[]): Profile {
   const coef = new Float64Array(planes.length * 2), width = new Float64Array(planes.length * 2);
   planes.forEach((y, p) => {
-    coef[2 * p] = deflectionCoefficient(t.kicks, 'x', y);
-    coef[2 * p + 1] = deflectionCoefficient(t.kicks, 'z', y);
+    // the deflection at y times v²
+    const c = deflection(t.kicks, y, 1);
+    coef[2 * p] = c.x;
+    coef[2 * p + 1] = c.z;
     width[2 * p] = geometricWidth(t, 'x', y);
     width[2 * p + 1] = geometricWidth(t, 'z', y);
   });
@@ -202,21 +188,12 @@ function sameStructure(a: Track, b: Track): boolean {
  * speeds outside speedRange hold under 1e-9 of the flux.
  */
 export function blockedByApertures(t: Track, d: VelocityDistribution): boolean {
-  const col = t.collimator, src = t.source;
-  if (!col || t.kicks.length === 0) return false;
+  if (!t.collimator || t.kicks.length === 0) return false;
   const [vmin, vmax] = speedRange(d);
   for (const s of t.strips) {
     if (s.y < t.kicks[0].exitY - t.kicks[0].length) continue;
-    const w0 = src ? (s.axis === 'x' ? src.width : src.height) : 0, c0 = src ? (s.axis === 'x' ? src.x : src.z) : 0;
-    const w1 = s.axis === 'x' ? col.rect.width : col.rect.height, c1 = s.axis === 'x' ? col.rect.x : col.rect.z;
-    const r = s.y / col.y;
-    let lo = Infinity, hi = -Infinity;
-    for (const p of [c0 - w0 / 2, c0 + w0 / 2]) for (const q of [c1 - w1 / 2, c1 + w1 / 2]) {
-      const x = p + (q - p) * r;
-      lo = Math.min(lo, x);
-      hi = Math.max(hi, x);
-    }
-    const coef = deflectionCoefficient(t.kicks, s.axis, s.y);
+    const { lo, hi } = beamExtent(t, s.axis, s.y);
+    const coef = deflection(t.kicks, s.y, 1)[s.axis];
     if (coef === 0) continue;
     const fast = coef / (vmax * vmax), slow = vmin > 0 ? coef / (vmin * vmin) : coef * Infinity;
     const dlo = Math.min(fast, slow), dhi = Math.max(fast, slow);
@@ -245,10 +222,7 @@ export function addStates(a: State, b: State): State | null {
     return out;
   }
   const terms = mergeTerms([...specExpand(a as SpecState), ...specExpand(b as SpecState)]);
-  const d = (a as SpecState).W.rows;
-  const identity = cmatZeros(d, d);
-  for (let i = 0; i < d; i++) identity.re[i * d + i] = 1;
-  const out: SpecState = { W: identity, mu: null, terms, shared: {}, memo: {} };
+  const out: SpecState = { W: cmatIdentity((a as SpecState).W.rows), mu: null, terms, shared: {}, memo: {} };
   return out;
 }
 

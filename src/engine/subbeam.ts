@@ -124,6 +124,26 @@ export function deflection(kicks: readonly Kick[], y: number, v: number): { x: n
   return { x, z };
 }
 
+/**
+ * Where the undeflected beam lies at plane y along one axis: every line from the oven orifice through the collimator
+ * (the orifice carried parallel without one). Its width is w0·|1 − y/y_c| + w1·y/y_c.
+ */
+export function beamExtent(t: Track, axis: 'x' | 'z', y: number): { lo: number; hi: number } {
+  const src = t.source;
+  const w0 = src ? (axis === 'x' ? src.width : src.height) : 0, c0 = src ? (axis === 'x' ? src.x : src.z) : 0;
+  const col = t.collimator;
+  if (!col) return { lo: c0 - w0 / 2, hi: c0 + w0 / 2 };
+  const w1 = axis === 'x' ? col.rect.width : col.rect.height, c1 = axis === 'x' ? col.rect.x : col.rect.z;
+  const r = y / col.y;
+  let lo = Infinity, hi = -Infinity;
+  for (const p of [c0 - w0 / 2, c0 + w0 / 2]) for (const q of [c1 - w1 / 2, c1 + w1 / 2]) {
+    const x = p + (q - p) * r;
+    lo = Math.min(lo, x);
+    hi = Math.max(hi, x);
+  }
+  return { lo, hi };
+}
+
 export function hasGeometry(f: FinePath): boolean {
   const t = f.track;
   return t.source !== null || t.collimator !== null || t.kicks.length > 0 || t.strips.length > 0 || !!f.detector?.window;

@@ -7,6 +7,7 @@
 import { BOHR_MAGNETON } from '../../physics/constants.ts';
 import type { Magnet } from '../../beamline/types.ts';
 import type { Track } from '../detector-plane.ts';
+import { beamExtent } from '../subbeam.ts';
 import { type State, averagedTrace } from '../nodes.ts';
 import { drift } from '../propagate.ts';
 import { driftCommutesWithSort, getSorting, portComponents, routeOf, selectStates } from '../sorting.ts';
@@ -20,14 +21,9 @@ import { type Member, blockedByApertures, mergeForks } from '../merge.ts';
  */
 function apertureWarning(ctx: WalkCtx, e: Magnet, track: Track, y: number): void {
   const ap = e.aperture!;
-  const src = track.source, col = track.collimator;
   const extent = (axis: 'x' | 'z'): number => {
-    const w0 = src ? (axis === 'x' ? src.width : src.height) : 0;
-    if (!col) return w0;
-    const w1 = axis === 'x' ? col.rect.width : col.rect.height;
-    const r = y / col.y;
-    // full width of the sum of the two uniform contributions at this plane
-    return w0 * Math.abs(1 - r) + w1 * r;
+    const b = beamExtent(track, axis, y);
+    return b.hi - b.lo;
   };
   const wx = extent('x'), wz = extent('z');
   const over: string[] = [];
