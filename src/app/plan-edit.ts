@@ -3,7 +3,7 @@
 // into the document (all of them, one edit). Each gives the new
 // document and the label Undo shows; the document layer validates it when the editor takes it (a half-width in
 // the wrong unit is refused there, naming its path). Pure: the document given is not changed.
-import { fittedDocument, fittedQuantity, type BeamlineDoc, type FitDoc, type FitResult, type ScanDoc, type SimulationDoc, type ToleranceDoc } from './core-adapter.ts';
+import { fittedDocument, type BeamlineDoc, type FitDoc, type FitResult, type ScanDoc, type SimulationDoc, type ToleranceDoc } from './core-adapter.ts';
 
 export type PlanEdit =
   | { kind: 'keepScan'; scan: ScanDoc }
@@ -19,14 +19,6 @@ export type PlanEditResult = { ok: true; doc: BeamlineDoc; label: string } | { o
 
 function scanName(s: ScanDoc): string {
   return s.title || s.parameters.map((p) => p.parameter).join(' × ');
-}
-
-export { fittedQuantity };
-
-/** The document with a fit's values written in (src/engine/fitted.ts, as the command line's `fit -o` writes it):
- *  each parameter at its path, and the oven's density matrix or populations where the fit had them. */
-export function fittedDoc(doc: BeamlineDoc, f: FitResult): { ok: true; doc: BeamlineDoc } | { ok: false; message: string } {
-  return fittedDocument(doc, f);
 }
 
 /** What Undo calls a fit's edit. */
@@ -69,7 +61,7 @@ export function applyPlanEdit(doc: BeamlineDoc, e: PlanEdit): PlanEditResult {
       return { ok: true, doc: withList('simulations', [...(doc.simulations ?? []), e.simulation]), label: `keep simulated run ${e.simulation.title || `of ${e.simulation.atoms ?? 100_000} atoms, seed ${e.simulation.seed ?? 1}`}` };
     case 'applyFit': {
       if (!e.fit.parameters.length && !e.fit.state) return { ok: false, message: 'the fit has no values to apply' };
-      const r = fittedDoc(doc, e.fit);
+      const r = fittedDocument(doc, e.fit); // src/engine/fitted.ts, as the command line's fit -o writes it
       return r.ok ? { ok: true, doc: r.doc, label: fitLabel(e.fit) } : r;
     }
   }

@@ -4,8 +4,8 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { fitDensityCells, fitStateCells, fitValueCells, hitMapFigure, profileComparison, profileText, residualAxis, residualGroups, residualsFigure, simulatedCells, simulatedRows } from '../../src/app/fit-view.ts';
-import { applyPlanEdit, fittedQuantity } from '../../src/app/plan-edit.ts';
-import { checkDocument, lineParameters, readDocument, type FitResult, type FittedParameter, type SimulationResult } from '../../src/app/core-adapter.ts';
+import { applyPlanEdit } from '../../src/app/plan-edit.ts';
+import { checkDocument, fittedQuantity, lineParameters, readDocument, type FitResult, type FittedParameter, type SimulationResult } from '../../src/app/core-adapter.ts';
 import type { FitData } from '../../src/app/engine-protocol.ts';
 
 const deg = Math.PI / 180;
