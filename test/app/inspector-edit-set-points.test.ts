@@ -1,23 +1,13 @@
 // The inspector's edits of the oven's state, the velocity table and positions from the oven aperture: each an
 // undoable edit with its label, checked by the reader, a refusal kept beside its field or in a dialog.
 import { describe, expect, it } from 'vitest';
-import { checkDocument, runEngine, type Beamline, type BeamlineDoc } from '../../src/app/core-adapter.ts';
+import { runEngine } from '../../src/app/core-adapter.ts';
 import { newDocument } from '../../src/app/default-doc.ts';
-import { applyInspectorEdit, type InspectorEdit } from '../../src/app/inspector-edit.ts';
+import { apply, lineOf } from './inspector-helpers.ts';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { readDocument } from '../../src/app/core-adapter.ts';
 
-const check = (d: BeamlineDoc) => {
-  const r = checkDocument(d);
-  return r.ok ? undefined : r.problems;
-};
-const lineOf = (d: BeamlineDoc): Beamline => {
-  const r = checkDocument(d);
-  if (!r.ok) throw new Error(r.problems.map((p) => `${p.path}: ${p.message}`).join('\n'));
-  return r.line;
-};
-const apply = (d: BeamlineDoc, e: InspectorEdit) => applyInspectorEdit(d, lineOf(d), e, check);
 
 describe('the oven state from the inspector', () => {
   it('a pure +1/2 state along z sends the whole flux to M1\'s +1/2 port (the filter passes it all)', () => {

@@ -1,19 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { checkDocument, type Beamline, type BeamlineDoc } from '../../src/app/core-adapter.ts';
 import { newDocument } from '../../src/app/default-doc.ts';
-import { applyInspectorEdit, editLabel, type InspectorEdit } from '../../src/app/inspector-edit.ts';
+import { apply } from './inspector-helpers.ts';
+import { editLabel } from '../../src/app/inspector-edit.ts';
 import type { QuantityField } from '../../src/app/fields.ts';
 
-const check = (d: BeamlineDoc) => {
-  const r = checkDocument(d);
-  return r.ok ? undefined : r.problems;
-};
-const lineOf = (d: BeamlineDoc): Beamline => {
-  const r = checkDocument(d);
-  if (!r.ok) throw new Error(r.problems.map((p) => `${p.path}: ${p.message}`).join('\n'));
-  return r.line;
-};
-const apply = (d: BeamlineDoc, e: InspectorEdit) => applyInspectorEdit(d, lineOf(d), e, check);
 const angle: QuantityField = { type: 'quantity', key: 'axis.roll', label: 'axis roll', dim: 'angle' };
 
 describe('applyInspectorEdit', () => {

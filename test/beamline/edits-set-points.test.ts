@@ -1,31 +1,15 @@
 // The set-point edits of the inspector that are more than a value at a path: the oven's state by kind, the
 // velocity table's rows, an element placed at a distance from the oven aperture (the document keeps gaps).
 import { describe, expect, it } from 'vitest';
-import { checkBeamline, formatProblem } from '../../src/beamline/check.ts';
-import { editVelocityRows, ovenStateOfKind, setOvenState, setPositionFromOven, setVelocityTable, type EditResult } from '../../src/beamline/edits.ts';
+import { editVelocityRows, ovenStateOfKind, setOvenState, setPositionFromOven, setVelocityTable } from '../../src/beamline/edits.ts';
 import { portLabels } from '../../src/beamline/labels.ts';
 import type { BeamlineDoc, OvenStateDoc } from '../../src/beamline/types.ts';
 import { bareLine, completedBeamKeys } from './examples.ts';
-import { fakeSpecies, rb87 } from './fakeSpecies.ts';
+import { deepFreeze, done, valid } from './edit-helpers.ts';
+import { rb87 } from './fakeSpecies.ts';
 
-function deepFreeze<T>(o: T): T {
-  if (o && typeof o === 'object') {
-    Object.values(o).forEach(deepFreeze);
-    Object.freeze(o);
-  }
-  return o;
-}
 const rbDoc = () => deepFreeze(completedBeamKeys() as unknown as BeamlineDoc);
 const bare = () => deepFreeze(bareLine() as unknown as BeamlineDoc);
-function done(r: EditResult): BeamlineDoc {
-  if (!r.ok) throw new Error(r.message);
-  return r.doc;
-}
-function valid(doc: BeamlineDoc) {
-  const r = checkBeamline(doc, fakeSpecies);
-  if (!r.ok) throw new Error(r.problems.map(formatProblem).join('\n'));
-  return r;
-}
 
 describe('the oven state by kind', () => {
   const labels = portLabels(rb87, 'each');

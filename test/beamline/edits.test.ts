@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { checkBeamline, formatProblem } from '../../src/beamline/check.ts';
+import { checkBeamline } from '../../src/beamline/check.ts';
 import {
   addElementOnPort, changeSpecies, DEFAULT_HYPERFINE_FIELD, deleteElement, documentOutputs, duplicateElement, elementOutputs, freshId, parsePath, renameElement, reroute, setAt,
   speciesIsHyperfine, speciesPortLabels, type EditResult,
@@ -8,26 +8,11 @@ import { KIND_NAMES } from '../../src/beamline/elements/registry.ts';
 import { portLabels } from '../../src/beamline/labels.ts';
 import type { BeamlineDoc } from '../../src/beamline/types.ts';
 import { bareLine, completedBeamKeys } from './examples.ts';
+import { deepFreeze, done, valid } from './edit-helpers.ts';
 import { fakeSpecies, rb87 } from './fakeSpecies.ts';
 
-function deepFreeze<T>(o: T): T {
-  if (o && typeof o === 'object') {
-    Object.values(o).forEach(deepFreeze);
-    Object.freeze(o);
-  }
-  return o;
-}
 const v1 = () => deepFreeze(bareLine() as unknown as BeamlineDoc);
 const rbDoc = () => deepFreeze(completedBeamKeys() as unknown as BeamlineDoc);
-function done(r: EditResult): BeamlineDoc {
-  if (!r.ok) throw new Error(r.message);
-  return r.doc;
-}
-function valid(doc: BeamlineDoc) {
-  const r = checkBeamline(doc, fakeSpecies);
-  if (!r.ok) throw new Error(r.problems.map(formatProblem).join('\n'));
-  return r;
-}
 
 describe('parsePath', () => {
   it('splits the paths Problems write', () => {
