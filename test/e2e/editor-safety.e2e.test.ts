@@ -330,7 +330,10 @@ async function listedShortcuts(page: Page): Promise<{ id: string; label: string 
 /** Focus on the tree (a control that is not a text field), with `id` selected. */
 async function onTree(id: string) {
   await selectElement(id);
+  // the selection's run settles first, so that no late render moves the focus while the key is pressed
+  await waitForFreshResults(app.page);
   await app.page.locator(`.tree [data-id="${id}"]`).first().focus();
+  await expect.poll(() => app.page.evaluate(() => document.activeElement?.closest('.tree') !== null)).toBe(true);
 }
 
 const inputValue = (name: string) => app.page.locator(`.inspector input[name="${name}"]`).inputValue();
