@@ -23,9 +23,12 @@ import { FIT_OPTIONS, cmdFitWith } from './fit.ts';
 import { SIMULATE_OPTIONS, cmdSimulateWith } from './simulate.ts';
 import { type CliOutput, bad, ok, quickAnswer } from './quick.ts';
 import { COMMAND_HELP, USAGE } from './usage.ts';
+import { progressOf } from './progress.ts';
 
 const HELP: OptionSpec = { name: 'help', value: false, short: 'h' };
 const JSON_OPT: OptionSpec = { name: 'json', value: false };
+/** Run a line whose estimated cost is above the engine's ask limit (engine/cost.ts); its refusal limits still hold. */
+export const ACCEPT_COST_OPT: OptionSpec = { name: 'accept-cost', value: false };
 
 /** Read options, answer --help, and check the number of positional arguments. */
 function commandArgs(command: string, argv: readonly string[], specs: OptionSpec[], positional: { min: number; max: number; what: string }) {
@@ -55,11 +58,11 @@ function fileCommand(command: string, argv: readonly string[], specs: OptionSpec
 }
 
 function cmdRun(argv: readonly string[]): CliOutput {
-  const f = fileCommand('run', argv, [JSON_OPT]);
+  const f = fileCommand('run', argv, [JSON_OPT, ACCEPT_COST_OPT]);
   if (f.out) return f.out;
   const { file, text } = f;
-  const r = runDocumentText(text);
-  if (!r.ok) return problemsOut(file, r.problems);
+  const r = runDocumentText(text, { acceptCost: f.options['accept-cost'] === true, onProgress: progressOf('run') });
+  if (!r.ok) return problemsOut(file, r.problems, r.cost);
   if (f.options.json) return ok(`${JSON.stringify(r.result, null, 2)}\n`);
   const title = r.line.title || '(untitled)';
   const sp = r.line.species;
@@ -84,7 +87,7 @@ const PAPERS: readonly Paper[] = ['a4', 'letter'];
  * write (main.ts prints the PDF with the browser and writes atomically). `--paper a4|letter` (default A4).
  */
 function cmdSheet(argv: readonly string[]): CliOutput {
-  const f = fileCommand('sheet', argv, [OUTPUT_OPT, PAPER_OPT]);
+  const f = fileCommand('sheet', argv, [OUTPUT_OPT, PAPER_OPT, ACCEPT_COST_OPT]);
   if (f.out) return f.out;
   const { file, text } = f;
   const output = f.options.output;
@@ -98,8 +101,8 @@ function cmdSheet(argv: readonly string[]): CliOutput {
     if (!format) return bad(`spinyard sheet: -o ${output}: the output must end in .pdf or .html (the sheet is printed to PDF or written as HTML)`);
     if (isSameFile(file, output)) return bad(`spinyard sheet: -o ${output} is the input document ${file}; the sheet is never written over its document`);
   }
-  const r = runDocumentText(text);
-  if (!r.ok) return problemsOut(file, r.problems);
+  const r = runDocumentText(text, { acceptCost: f.options['accept-cost'] === true, onProgress: progressOf('sheet') });
+  if (!r.ok) return problemsOut(file, r.problems, r.cost);
   const generatedAt = `${new Date().toISOString().slice(0, 16).replace('T', ' ')} UTC from ${file}`;
   const html = withPaper(sheetHtml(buildSheet(r.doc, r.line, r.result, { generatedAt, source: { fileName: basename(file), text } })), paper);
   if (typeof output !== 'string' || !format) return ok(html);

@@ -3,8 +3,9 @@ import { isSameFile } from './output.ts';
 import { type CliOutput, bad } from './quick.ts';
 
 /** A document that does not read: every problem, one per line. */
-export function problemsOut(file: string, problems: readonly string[]): CliOutput {
+export function problemsOut(file: string, problems: readonly string[], cost?: { hard: boolean }): CliOutput {
   const n = problems.length;
+  if (cost) return bad(`${file}: not run: its estimated cost is above what the engine ${cost.hard ? 'starts' : 'starts without --accept-cost'}:`, ...problems.map((p) => `  ${p}`));
   return bad(`${file}: not a valid beamline (${n} problem${n === 1 ? '' : 's'}):`, ...problems.map((p) => `  ${p}`));
 }
 

@@ -3,7 +3,8 @@
 export const USAGE = `spinyard: plan an atomic-beam Stern–Gerlach line from a beamline file (.spinyard)
 
 Usage:
-  spinyard run FILE [--json]          yields, rates, detector plane and counts of every leaf
+  spinyard run FILE [--json] [--accept-cost]
+                                      yields, rates, detector plane and counts of every leaf
   spinyard sheet FILE [-o OUT.pdf|OUT.html] [--paper a4|letter]
                                       the setup sheet of the line: printable HTML on stdout, or a file
   spinyard scan FILE --param NAME --from A --to B --points N [--json|--csv] [-o OUT]
@@ -27,7 +28,7 @@ budget, fit, simulate), the file it is given.
 `;
 
 export const COMMAND_HELP: Readonly<Record<string, string>> = {
-  run: `Usage: spinyard run FILE [--json]
+  run: `Usage: spinyard run FILE [--json] [--accept-cost]
 
 Runs the beamline in FILE and prints
   the leaves: path (ELEMENT:PORT of every magnet passed), target, yield (fraction of the oven flux),
@@ -38,9 +39,12 @@ Runs the beamline in FILE and prints
   then crosstalk and neighbouring sub-beams on the detector plane, the lost fraction, the warnings
   and the velocity quadrature used.
 
-  --json   print the result (format spinyard.result, version 1) as JSON and nothing else
+  --json         print the result (format spinyard.result, version 1) as JSON and nothing else
+  --accept-cost  run even where the estimated time is above 10 s (without it such a run stops at once
+                 with the estimate and the element that makes it expensive); a run estimated above
+                 1 h or 4 GB is refused either way
 `,
-  sheet: `Usage: spinyard sheet FILE [-o OUT.pdf|OUT.html] [--paper a4|letter]
+  sheet: `Usage: spinyard sheet FILE [-o OUT.pdf|OUT.html] [--paper a4|letter] [--accept-cost]
 
 Runs the beamline in FILE and makes its setup sheet for the bench: species and constants with sources,
 oven, a to-scale side view, every element in beam order with its position from the oven aperture and
@@ -54,6 +58,7 @@ Without -o the sheet is one self-contained HTML document on stdout and no file i
                      packages; offline), OUT.html is the HTML. OUT is replaced atomically, never the
                      input document, and nothing is left behind when printing fails.
   --paper a4|letter  the paper size (default a4)
+  --accept-cost      run a line whose estimated time is above 10 s (as spinyard run --accept-cost)
 
 Exit 2 when no browser is found for a PDF, 1 when the browser fails to print or OUT cannot be written.
 `,

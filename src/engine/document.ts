@@ -3,10 +3,11 @@ import { parseBeamlineText, formatProblem } from '../beamline/index.ts';
 import type { Beamline, BeamlineDoc } from '../beamline/types.ts';
 import { runLine, RunError, type RunOptions } from './run.ts';
 import type { RunResult } from './result.ts';
+import { CostLimitError } from './cost.ts';
 
 export type DocumentRun =
   | { ok: true; doc: BeamlineDoc; line: Beamline; result: RunResult }
-  | { ok: false; problems: string[] };
+  | { ok: false; problems: string[]; cost?: CostLimitError };
 
 export function runDocumentText(text: string, opts: RunOptions = {}): DocumentRun {
   const parsed = parseBeamlineText(text);
@@ -16,6 +17,7 @@ export function runDocumentText(text: string, opts: RunOptions = {}): DocumentRu
     result.warnings.unshift(...parsed.warnings.map(formatProblem));
     return { ok: true, doc: parsed.doc, line: parsed.line, result };
   } catch (err) {
+    if (err instanceof CostLimitError) return { ok: false, problems: [err.message], cost: err };
     if (err instanceof RunError) return { ok: false, problems: [err.message] };
     throw err;
   }

@@ -22,6 +22,7 @@ import { RunError } from './errors.ts';
 import { distributionFor, initialSpec, resolveFlux, velocityPlot, checkTable } from './source.ts';
 import { visit, visitBundle } from './walk.ts';
 import { MAX_BUNDLE } from './merge.ts';
+import { costLimit, estimateRun, type CostEstimate } from './cost.ts';
 import type { WalkCtx } from './steps/step.ts';
 
 export { RunError, CancelledError } from './errors.ts';
@@ -41,6 +42,10 @@ export interface RunOptions {
    * MERGE_FRACTION, 0.01); 0 follows every sorted state on its own.
    */
   mergeFraction?: number;
+  /** Run even where the estimated cost is above the ask limit (cost.ts ASK_SECONDS); the refusal limits still hold. */
+  acceptCost?: boolean;
+  /** Receives the cost estimate made before the walk (cost.ts). */
+  onEstimate?: (estimate: CostEstimate) => void;
 }
 
 /** Runs the line and returns result format v1 (docs/design.md) with this engine's additions. */
@@ -52,6 +57,10 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   } catch (err) {
     throw new RunError((err as Error).message);
   }
+  const estimate = estimateRun(line, systems.map((s) => s.system.params));
+  const limit = costLimit(estimate, opts.acceptCost === true);
+  if (limit) throw limit;
+  opts.onEstimate?.(estimate);
   const byId = new Map(line.elements.map((e) => [e.id, e]));
   const flux = resolveFlux(line, warnings);
   const leaves: FinePath[] = [];
@@ -62,6 +71,9 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const merged = { count: 0, fraction: 0, at: new Set<string>() };
   const blocked = new Set<string>();
   let chiNodes = 0, chiError = 0, wasmUsed = false;
+  // the walk's share of the progress (the detector plane follows): element steps taken over those estimated
+  const counter = { steps: 0 };
+  const progress = opts.onProgress && estimate.steps > 0 ? { total: estimate.steps, share: 0.8, report: opts.onProgress } : undefined;
   const dists: VelocityDistribution[] = [];
   systems.forEach(({ system, fraction }, i) => {
     const dist = distributionFor(line, system);
@@ -69,7 +81,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     const chi = new CharCache(dist);
     const ctx: WalkCtx = {
       sys: system, fraction, dist, chi, line, byId, leaves, lost, warnings, positions, opts,
-      counter: { steps: 0 }, hermiticity, sampled, moment2: new Map(), seen: new Set(), fieldEigen: [],
+      counter, progress, hermiticity, sampled, moment2: new Map(), seen: new Set(), fieldEigen: [],
       hAmbient: system.hamiltonian(line.ambient), ambientZero: false, visit, visitBundle, merged, blocked,
     };
     ctx.ambientZero = isZeroMatrix(ctx.hAmbient);
@@ -83,8 +95,9 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     chiNodes += chi.nodes;
     if (chi.wasm) wasmUsed = true;
     chiError += 0;
-    opts.onProgress?.((i + 1) / (systems.length + 1));
+    if (!progress) opts.onProgress?.((i + 1) / (systems.length + 1));
   });
+  opts.onProgress?.(0.8);
   if (line.oven.velocity.kind === 'table' && !opts.light) checkTable(line, leaves, warnings);
   for (const [path, u] of sampled.unconverged) {
     warnings.add(`${path}: the speed-by-speed average after the field twist did not converge to 1e-9: the yields moved by up to ${u.error.toExponential(1)} between the last two grids (${u.speeds} speeds); a fast phase before, in or after the twist is not resolved, and the yields carry that error`);
@@ -119,6 +132,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
     : d0.kind === 'supersonic' ? 'each Bohr frequency averaged on its own (adaptive Gauss–Kronrod)'
       : d0.kind === 'table' ? `exact sum over the tabulated speeds${wasmUsed ? ' (WebAssembly SIMD kernel)' : ''}` : 'single speed';
   requireFinite(line, leavesOut, detectors, lostTotal);
+  opts.onProgress?.(1);
   return {
     format: 'spinyard.result',
     version: 1,

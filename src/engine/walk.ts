@@ -20,7 +20,10 @@ function elementPath(ctx: WalkCtx, id: string): string {
 }
 
 function checkCancel(ctx: WalkCtx): void {
-  if (++ctx.counter.steps % 64 === 0 && ctx.opts.isCancelled?.()) throw new CancelledError('cancelled');
+  if (++ctx.counter.steps % 64 !== 0) return;
+  if (ctx.opts.isCancelled?.()) throw new CancelledError('cancelled');
+  const p = ctx.progress;
+  if (p) p.report(p.share * Math.min(0.99, ctx.counter.steps / p.total));
 }
 
 export function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {

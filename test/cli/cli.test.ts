@@ -91,7 +91,7 @@ describe('spinyard run FILE', () => {
   it('rejects an unknown option', () => {
     const out = runCli(['run', v1, '--jsn']);
     expect(out).toMatchObject({ code: 2, stdout: '' });
-    expect(out.stderr).toMatch(/unknown option --jsn: run takes --json, --help/);
+    expect(out.stderr).toMatch(/unknown option --jsn: run takes --json, --accept-cost, --help/);
   });
 });
 

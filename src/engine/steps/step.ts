@@ -56,6 +56,8 @@ export interface WalkCtx {
   positions: Record<string, { entrance: number; exit: number }>;
   opts: RunOptions;
   counter: { steps: number };
+  /** Where the run reports its progress: the walk's element steps out of the estimate's (cost.ts), as `share` of the whole. */
+  progress?: { total: number; share: number; report: (fraction: number) => void };
   hermiticity: { max: number; positive: boolean };
   sampled: { nodes: number; error: number; unconverged: Map<string, { error: number; speeds: number }> };
   /** χ₂ values of this distribution, shared by the leaves. */
