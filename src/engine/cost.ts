@@ -48,7 +48,9 @@ export interface CostEstimate {
   readonly subBeams: number;
   /** Element steps the walk will take (the run's progress counts them). */
   readonly steps: number;
-  /** The JSON path and id of the element whose work dominates ("elements[4] (T1)"), or "the oven". */
+  /** The element's share of the work (0–1). */
+  readonly share: number;
+  /** The JSON path and id of the element with the largest share of the work ("elements[4] (T1)"); "the line" ("line") where none has a quarter of it, "the oven" ("oven") for a line without elements. */
   readonly element: string;
   readonly elementId: string;
   /** What makes that element expensive and what to change. */
@@ -125,7 +127,7 @@ export function estimateRun(line: Beamline, params: readonly HyperfineParams[]):
       if (terms === Infinity) continue;
       const per = f.nodes === 1 ? terms * d2 + d3 : f.nodes * d3;
       add(e.id, f.m * per);
-      const next = (target: string, extra: Partial<Frame> = {}) => stack.push({ target, m: f.m, p: f.p, nodes: f.nodes, terms, axis, depth: f.depth + 1, ...extra });
+      const next = (target: string, extra: Partial<Frame> = {}) => stack.push({ target, m: f.m, p: f.p, nodes: f.nodes, terms, axis, depth: f.depth, ...extra });
       switch (e.kind) {
         case 'detector':
           leaf(e.id, { ...f, terms }, d2);
@@ -143,7 +145,8 @@ export function estimateRun(line: Beamline, params: readonly HyperfineParams[]):
               leaf(e.id, { ...f, m, terms }, d2);
               continue;
             }
-            next(o.target, { m, axis: unit(e.axis) });
+            // the walk counts the magnets along a path (walk.ts refuses a path of more than 512)
+            next(o.target, { m, axis: unit(e.axis), depth: f.depth + 1 });
           }
           break;
         }
@@ -183,15 +186,20 @@ export function estimateRun(line: Beamline, params: readonly HyperfineParams[]):
   for (const [id, w] of work) if (w > topWork) [top, topWork] = [id, w];
   const i = indexOf.get(top);
   const el = i === undefined ? undefined : line.elements[i];
+  const share = total > 0 ? topWork / total : 1;
+  const reason = !el ? 'the sub-beams of the whole line'
+    : share >= 0.25 ? reasonFor(el, line)
+      : `the work is spread over the line's elements (none has more than ${Math.max(1, Math.ceil(share * 100))} % of it): ${paths.toLocaleString('en-US')} paths with ${subBeams.toLocaleString('en-US')} sub-beams, each followed to its detector plane; route the ports you do not measure to "stop", or split the line into parts`;
   return {
     seconds: total / OPS_PER_SECOND,
     bytes,
     paths,
     subBeams,
     steps,
-    element: el ? `elements[${i}] (${el.id})` : 'the oven',
-    elementId: el?.id ?? 'oven',
-    reason: el ? reasonFor(el, line) : 'the sub-beams of the whole line',
+    element: !el ? 'the oven' : share >= 0.25 ? `elements[${i}] (${el.id})` : 'the line',
+    elementId: !el ? 'oven' : share >= 0.25 ? el.id : 'line',
+    share,
+    reason,
   };
 }
 
@@ -232,7 +240,8 @@ function reasonFor(e: Element, line: Beamline): string {
 
 /** The estimate as a sentence: "about 3 min and 1.2 GB, mostly at elements[4] (T1): …". */
 export function describeCost(c: CostEstimate): string {
-  return `about ${formatSeconds(c.seconds)} and ${formatBytes(c.bytes)} (${Math.round(c.paths).toLocaleString('en-US')} path${c.paths === 1 ? '' : 's'}), mostly at ${c.element}: ${c.reason}`;
+  const where = c.share >= 0.25 ? `, mostly at ${c.element}` : '';
+  return `about ${formatSeconds(c.seconds)} and ${formatBytes(c.bytes)} (${Math.round(c.paths).toLocaleString('en-US')} path${c.paths === 1 ? '' : 's'})${where}: ${c.reason}`;
 }
 
 export function formatSeconds(s: number): string {

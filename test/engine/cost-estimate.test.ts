@@ -117,6 +117,25 @@ describe('the cost estimate before a run', () => {
     expect(Date.now() - t0).toBeLessThan(5000);
   });
 
+  it('names the line, not one element, where the work is spread over a long chain of analysers', () => {
+    const elements: object[] = [{ id: 'S1', kind: 'slit', gap: '30 cm', width: '1 mm', height: '0.05 mm', to: 'M1' }];
+    const n = 400;
+    for (let i = 1; i <= n; i++) {
+      elements.push({ id: `M${i}`, kind: 'magnet', gap: '2 cm', axis: { roll: '0 deg' }, field: '0.5 T', gradient: '200 T/m', length: '5 cm',
+        aperture: { width: '2 mm', height: '6 mm' }, group: 'mJ', ports: { 'mJ=+1/2': i === n ? 'D1' : `R${i}`, 'mJ=-1/2': `X${i}` } });
+      elements.push({ id: `X${i}`, kind: 'detector', gap: '5 cm', efficiency: 0.9, background: '1 /s', dwell: '10 s', window: { width: '2 mm', height: '20 mm' } });
+      if (i < n) elements.push({ id: `R${i}`, kind: 'rotator', gap: '2 cm', axis: { roll: '90 deg' }, angle: '40 deg', to: `M${i + 1}` });
+    }
+    elements.push({ id: 'D1', kind: 'detector', gap: '30 cm', efficiency: 0.9, background: '1 /s', dwell: '10 s', window: { width: '2 mm', height: '30 mm' } });
+    const line = lineOf(JSON.stringify({ format: 'spinyard.beamline', version: 1, title: 'analyser chain', species: 'Rb-87',
+      oven: { state: { kind: 'unpolarized' }, flux: '5e8 /s', velocity: { kind: 'effusive', temperature: '420 K' }, aperture: { width: '1 mm', height: '0.05 mm' }, to: 'S1' }, elements }));
+    const c = estimate(line);
+    expect(c.paths).toBe(n + 1);
+    expect(c.share).toBeLessThan(0.25);
+    const limit = costLimit(c, false);
+    expect(limit?.message).toMatch(/^the line: this run would take about \d+ (s|min) and \d+ MB \(401 paths\): the work is spread over the line's elements/);
+  });
+
   it('counts an RF flipper once per entry phase, and once where its phase is locked', () => {
     const base = JSON.parse(readFileSync(resolve(SAMPLES, 'bench-c-roll-calibration.spinyard'), 'utf8'));
     const m = base.elements.findIndex((e: { kind: string }) => e.kind === 'magnet');
@@ -135,7 +154,7 @@ describe('the cost estimate before a run', () => {
   });
 
   it('asks only above the ask limit, and refuses above the refusal limits whatever it is told', () => {
-    const c = (seconds: number, bytes = 1e6): CostEstimate => ({ seconds, bytes, paths: 1, subBeams: 1, steps: 1, element: 'elements[0] (M1)', elementId: 'M1', reason: 'a reason' });
+    const c = (seconds: number, bytes = 1e6): CostEstimate => ({ seconds, bytes, paths: 1, subBeams: 1, steps: 1, share: 1, element: 'elements[0] (M1)', elementId: 'M1', reason: 'a reason' });
     expect(costLimit(c(ASK_SECONDS / 2), false)).toBeNull();
     expect(costLimit(c(ASK_SECONDS * 2), false)?.hard).toBe(false);
     expect(costLimit(c(ASK_SECONDS * 2), true)).toBeNull();
