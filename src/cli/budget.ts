@@ -2,7 +2,7 @@
 import { budget, compile, RunError, type BudgetResult } from '../engine/index.ts';
 import { alignTable, formatNumber } from './format.ts';
 import { formatColumn } from '../beamline/numbers.ts';
-import { outputProblem, problemsOut, wholeOption } from './common.ts';
+import { costGate, outputProblem, problemsOut, wholeOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { progressOf } from './progress.ts';
 
@@ -11,6 +11,7 @@ export const BUDGET_OPTIONS = [
   { name: 'seed', value: true },
   { name: 'json', value: false },
   { name: 'output', value: true, short: 'o' },
+  { name: 'accept-cost', value: false },
 ] as const;
 
 const err = (m: string) => bad(`spinyard budget: ${m}`, 'Run "spinyard budget --help" for its use.');
@@ -79,9 +80,11 @@ export function cmdBudgetWith(file: string, text: string, options: Record<string
   if (outBad) return err(outBad);
   const c = compile(text);
   if (!c.ok) return problemsOut(file, c.problems);
+  const gate = costGate(file, c.plan, options['accept-cost'] === true);
+  if (gate) return gate;
   let b: BudgetResult;
   try {
-    b = budget(c.plan, { draws, seed, onProgress: progressOf('budget') });
+    b = budget(c.plan, { draws, seed, onProgress: progressOf('budget'), acceptCost: true });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);
     throw e;

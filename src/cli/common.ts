@@ -1,4 +1,5 @@
 /** What the planning commands (scan, budget, fit, simulate) share: reading their options and saying what is wrong. */
+import { costLimit, estimateLine, type Plan } from '../engine/index.ts';
 import { isSameFile } from './output.ts';
 import { type CliOutput, bad } from './quick.ts';
 
@@ -23,4 +24,14 @@ export function outputProblem(file: string, output: unknown, what: string): stri
   if (output === '') return '-o: the output file name is empty';
   if (isSameFile(file, output)) return `-o ${output} is the input document ${file}; ${what} is never written over its document`;
   return undefined;
+}
+
+/**
+ * The cost gate of a planning command (scan, budget, fit, simulate): the line as written is estimated before any
+ * point runs (engine/cost.ts); above the ask limit without --accept-cost, or above the refusal limits, the command
+ * stops with the estimate, as `spinyard run` does. Null where it may go on.
+ */
+export function costGate(file: string, plan: Plan, accept: boolean): CliOutput | null {
+  const limit = costLimit(estimateLine(plan.line), accept);
+  return limit ? problemsOut(file, [limit.message], limit) : null;
 }

@@ -13,7 +13,7 @@ import { fittedDocument as writeFitted } from '../engine/fitted.ts';
 import { readMeasurements } from '../engine/measurements.ts';
 import { alignTable, formatNumber } from './format.ts';
 import { formatColumn } from '../beamline/numbers.ts';
-import { problemsOut } from './common.ts';
+import { costGate, problemsOut } from './common.ts';
 import { isSameFile } from './output.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { readBeamlineFile } from './readFile.ts';
@@ -24,6 +24,7 @@ export const FIT_OPTIONS = [
   { name: 'free', value: true },
   { name: 'json', value: false },
   { name: 'output', value: true, short: 'o' },
+  { name: 'accept-cost', value: false },
 ] as const;
 
 const err = (m: string) => bad(`spinyard fit: ${m}`, 'Run "spinyard fit --help" for its use.');
@@ -113,6 +114,8 @@ export function fitText(f: FitResult, file: string, data: string): string {
 export function cmdFitWith(file: string, text: string, options: Record<string, unknown>): CliOutput {
   const c0 = compile(text);
   if (!c0.ok) return problemsOut(file, c0.problems);
+  const gate = costGate(file, c0.plan, options['accept-cost'] === true);
+  if (gate) return gate;
   const kept = c0.plan.line.fits ?? [];
   let stored: FitStudy | undefined;
   if (options.data === undefined && options.free === undefined && kept.length) {
@@ -140,7 +143,7 @@ export function cmdFitWith(file: string, text: string, options: Record<string, u
     const { free, state } = stored
       ? { free: stored.free.map((f) => ({ name: f.name, ...(f.lower !== undefined ? { lower: f.lower } : {}), ...(f.upper !== undefined ? { upper: f.upper } : {}) })), state: stored.state }
       : parseFree(c.plan, options.free as string);
-    f = fit(c.plan, readMeasurements(data.text, c.plan, dataFile), { free, state });
+    f = fit(c.plan, readMeasurements(data.text, c.plan, dataFile), { free, state, acceptCost: true });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);
     throw e;

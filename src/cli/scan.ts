@@ -9,7 +9,7 @@ import { DISPLAY_UNITS } from '../beamline/index.ts';
 import { FIGURES, ROUND_OFF, formatColumn, formatCountsColumn, isRoundOff } from '../beamline/numbers.ts';
 import { alignTable, formatNumber } from './format.ts';
 import { availableParallelism } from 'node:os';
-import { outputProblem, problemsOut } from './common.ts';
+import { costGate, outputProblem, problemsOut } from './common.ts';
 import { scanParallel } from './scan-parallel.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { progressOf } from './progress.ts';
@@ -25,6 +25,7 @@ export const SCAN_OPTIONS = [
   { name: 'output', value: true, short: 'o' },
   { name: 'stored', value: true },
   { name: 'workers', value: true },
+  { name: 'accept-cost', value: false },
 ] as const;
 
 /** Points from which a scan is spread over worker threads by default (below, starting them costs more than it saves). */
@@ -121,6 +122,8 @@ export function cmdScanWith(file: string, text: string, options: Record<string, 
 
 function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options: Record<string, unknown>, text?: string): CliOutput {
   if (options.json && options.csv) return err('--json and --csv: choose one');
+  const gate = costGate(file, plan, options['accept-cost'] === true);
+  if (gate) return gate;
   const total = axes.reduce((n, a) => n * a.points, 1);
   let workers = total >= PARALLEL_FROM_POINTS ? availableParallelism() : 1;
   if (options.workers !== undefined) {
@@ -140,7 +143,7 @@ function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options
   }
   let r: ScanResult;
   try {
-    r = scan(plan, axes, { onProgress: progressOf('scan') });
+    r = scan(plan, axes, { onProgress: progressOf('scan'), acceptCost: true });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);
     throw e;

@@ -4,7 +4,7 @@ import { MAX_ATOMS, simulate, type SimulationResult } from '../engine/simulate.t
 import type { RunResult } from '../engine/result.ts';
 import { alignTable, formatDuration, formatNumber } from './format.ts';
 import { formatColumn, formatCountsColumn } from '../beamline/numbers.ts';
-import { outputProblem, problemsOut, wholeOption } from './common.ts';
+import { costGate, outputProblem, problemsOut, wholeOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { progressOf } from './progress.ts';
 
@@ -15,6 +15,7 @@ export const SIMULATE_OPTIONS = [
   { name: 'json', value: false },
   { name: 'output', value: true, short: 'o' },
   { name: 'hits', value: true },
+  { name: 'accept-cost', value: false },
 ] as const;
 
 const err = (m: string) => bad(`spinyard simulate: ${m}`, 'Run "spinyard simulate --help" for its use.');
@@ -56,6 +57,8 @@ export function cmdSimulateWith(file: string, text: string, options: Record<stri
   if (hitsBad) return err(hitsBad.replace('-o', '--hits'));
   const c = compile(text);
   if (!c.ok) return problemsOut(file, c.problems);
+  const gate = costGate(file, c.plan, options['accept-cost'] === true);
+  if (gate) return gate;
   // a simulation the document keeps gives the atoms and the seed, unless they are given here
   const kept = c.plan.line.simulations ?? [];
   let settings: { atoms?: number; seed?: number } = { atoms: atoms ?? undefined, seed: seed ?? undefined };
@@ -75,9 +78,9 @@ export function cmdSimulateWith(file: string, text: string, options: Record<stri
     const onHit = typeof hitsFile === 'string'
       ? (d: string, x: number, z: number, v: number) => void rows.push(`${d},${csvNumber(x * 1e3)},${csvNumber(z * 1e3)},${csvNumber(v)}`)
       : undefined;
-    s = simulate(c.plan, { ...settings, onHit, onProgress: progressOf('simulate') });
+    s = simulate(c.plan, { ...settings, onHit, onProgress: progressOf('simulate'), acceptCost: true });
     if (typeof hitsFile === 'string') hitsText = `${rows.join('\r\n')}\r\n`;
-    run = evaluate(c.plan, {}, { light: true });
+    run = evaluate(c.plan, {}, { light: true, acceptCost: true });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);
     throw e;

@@ -86,6 +86,7 @@ or θ and φ). "spinyard scan FILE --param list" lists every set-point of FILE w
                    that keeps one scan runs it
   --workers N      evaluate the points in N worker threads (default: one per core from 200 points
                    on, else 1); the result is the same for any N
+  --accept-cost    scan a line whose run is estimated above 10 s (as spinyard run --accept-cost)
 
 A value the document's reader refuses (a bound, a first slit moved onto the oven) leaves that point
 without a result and says why; the other points are computed. The k-th --from, --to and --points
@@ -107,6 +108,7 @@ quantiles), a note where the two disagree (the signal is not linear over the tol
   --seed S    the generator's seed (default 1): the same seed gives the same figures
   --json      the budget as JSON (format spinyard.budget, version 1)
   -o OUT      write the output to OUT (atomically; never over FILE)
+  --accept-cost  run a line whose run is estimated above 10 s (as spinyard run --accept-cost)
 `,
   fit: `Usage: spinyard fit FILE --data counts.csv --free NAME[=LO..HI],…[,oven.state] [--json] [-o fitted.spinyard]
 
@@ -130,6 +132,7 @@ parameter of the line (spinyard scan FILE --param list) with its unit in bracket
   --stored N    run the N-th fit kept in the document ("fits": data file relative to the document,
                 set-points with optional bounds, state); without --data and --free a document that
                 keeps one fit runs it
+  --accept-cost fit a line whose run is estimated above 10 s (as spinyard run --accept-cost)
 
 Prints the fitted values with σ from the Fisher information, profile-likelihood intervals (where the
 deviance rises by 1; marked when asymmetric), the correlations, the deviance with its χ² p-value and
@@ -154,6 +157,7 @@ background, and the mean and rms of the hits; --json adds a hit map of each dete
   -o OUT      write the output to OUT (atomically; never over FILE)
   --hits CSV  write every hit to CSV, one row per atom that reached a detector's window:
               detector, x and z on its plane (mm), the atom's speed (m/s); the report goes to stdout
+  --accept-cost  simulate a line whose run is estimated above 10 s (as spinyard run --accept-cost)
 `,
   validate: `Usage: spinyard validate FILE
 

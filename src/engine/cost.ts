@@ -18,6 +18,7 @@ import { MAX_SPEC_TERMS } from './spectral.ts';
 import { MAX_BUNDLE, MAX_UNMERGED } from './merge.ts';
 import { RunError } from './errors.ts';
 import type { HyperfineParams } from '../physics/hyperfine.ts';
+import { speciesSystems } from './system.ts';
 
 /** Above this estimated time (s) a run asks first. */
 export const ASK_SECONDS = 10;
@@ -201,6 +202,17 @@ export function estimateRun(line: Beamline, params: readonly HyperfineParams[]):
     share,
     reason,
   };
+}
+
+/** The estimate of a line's run, its species resolved here (a RunError where the species cannot be). */
+export function estimateLine(line: Beamline): CostEstimate {
+  let params: HyperfineParams[];
+  try {
+    params = speciesSystems(line.species).map((s) => s.system.params);
+  } catch (err) {
+    throw new RunError((err as Error).message);
+  }
+  return estimateRun(line, params);
 }
 
 /**

@@ -449,7 +449,7 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
     for (const st of spanning) {
       let r;
       try {
-        r = runLine(withState(line, { kind: 'density', axis: stateAxis!, basis: labels, re: st.re, im: st.im }), { light: true, isCancelled: opts.isCancelled });
+        r = runLine(withState(line, { kind: 'density', axis: stateAxis!, basis: labels, re: st.re, im: st.im }), { light: true, isCancelled: opts.isCancelled, acceptCost: opts.acceptCost });
       } catch (e) {
         if (e instanceof RunError) return null;
         throw e;
@@ -482,7 +482,7 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
     for (const g of groupList) {
       let r;
       try {
-        r = runLine(lineFor(x, g), { light: true, isCancelled: opts.isCancelled });
+        r = runLine(lineFor(x, g), { light: true, isCancelled: opts.isCancelled, acceptCost: opts.acceptCost });
       } catch (e) {
         if (e instanceof RunError) return null;
         throw e;

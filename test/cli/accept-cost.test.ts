@@ -44,3 +44,35 @@ describe('the command line and the cost estimate', () => {
     expect(runCli(['run', '--help']).stdout).toMatch(/--accept-cost +run even where the estimated time is above 10 s/);
   });
 });
+
+describe('the planning commands and the cost estimate', () => {
+  it('scan, budget, fit and simulate stop an expensive line before their first point, and take --accept-cost', () => {
+    const file = twistFile();
+    const counts = join(mkdtempSync(join(tmpdir(), 'spinyard-cost-')), 'counts.csv');
+    writeFileSync(counts, 'detector,counts\nD1,1000\nD2,2000\n');
+    const commands = [
+      ['scan', file, '--param', 'C1.field.x', '--from', '0 uT', '--to', '1 uT', '--points', '3'],
+      ['budget', file],
+      ['fit', file, '--data', counts, '--free', 'oven.flux'],
+      ['simulate', file, '--atoms', '10'],
+    ];
+    for (const argv of commands) {
+      const out = runCli(argv);
+      expect(out.code, argv[0]).toBe(2);
+      expect(out.stderr, argv[0]).toContain(`${file}: not run: its estimated cost is above what the engine starts without --accept-cost`);
+      expect(runCli([argv[0], '--help']).stdout, argv[0]).toMatch(/--accept-cost/);
+    }
+    // on a line below the ask limit the option changes nothing
+    const c = join(SAMPLES, 'bench-c-roll-calibration.spinyard');
+    for (const argv of [
+      ['scan', c, '--param', 'M2.axis.roll', '--from', '0 deg', '--to', '90 deg', '--points', '3', '--json'],
+      ['budget', c, '--draws', '20', '--json'],
+      ['fit', c, '--data', join(SAMPLES, 'bench-c-roll-calibration.counts.csv'), '--free', 'oven.flux', '--json'],
+      ['simulate', c, '--atoms', '200', '--json'],
+    ]) {
+      const plain = runCli(argv), accepted = runCli([...argv, '--accept-cost']);
+      expect(plain.code, argv[0]).toBe(0);
+      expect(accepted.stdout, argv[0]).toBe(plain.stdout);
+    }
+  });
+});
