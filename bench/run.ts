@@ -15,6 +15,8 @@
  * `npm run bench -- planning [--quick] [--only KEY,…]` (or plan) scans, maps, budgets, fits (a spin-1 state among
  *                            them) and simulated runs on the samples; a scan in 1 and 2 worker threads; --quick leaves
  *                            out bench H's map and its budget of 10⁴ draws, --only runs the items of those keys
+ * `npm run bench -- cost [--long]` the cost estimate made before a run beside the run's measured CPU time (samples, long
+ *                            lines; --long adds bench J with a field twist over its effusive beam, minutes)
  * `npm run bench -- startup` cold starts: `spinyard --help`, `spinyard run`, the app's load to its first result
  * Figures go into docs/bench.md by hand, with the machine they were taken on.
  */
@@ -271,6 +273,11 @@ async function main(): Promise<void> {
     const { benchPlanning } = await import('./planning.ts');
     const o = args.indexOf('--only');
     console.log(benchPlanning(root, { quick: args.includes('--quick'), ...(o >= 0 ? { only: (args[o + 1] ?? '').split(',') } : {}) }));
+    return;
+  }
+  if (args[0] === 'cost') {
+    const { benchCost } = await import('./cost.ts');
+    console.log(benchCost(root, args.includes('--long')));
     return;
   }
   if (args[0] === 'ui') {
