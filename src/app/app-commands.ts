@@ -8,6 +8,8 @@ import type { Command, CommandChoice } from './commands.ts';
 import { elementFields, VELOCITY_KINDS } from './fields.ts';
 import { BARE_SPIN_CHOICE, type InspectorEdit } from './inspector-edit.ts';
 import type { PlanEdit } from './plan-edit.ts';
+import type { CostAsk } from './engine-protocol.ts';
+import type { CostWhat } from './cost-ask.ts';
 
 export interface AppCtx {
   app: AppApi;
@@ -67,7 +69,9 @@ export type DialogState =
   | { kind: 'reroute' }
   | { kind: 'recover'; drafts: AutosaveDraft[] }
   /** Unsaved work is about to be replaced (`what`: "opening bench-b.spinyard"): save it, discard it or cancel. */
-  | { kind: 'unsaved'; name: string; what: string; save(): void; discard(): void; cancel(): void };
+  | { kind: 'unsaved'; name: string; what: string; save(): void; discard(): void; cancel(): void }
+  /** The engine refused a run (or a planning tool's work) by its cost estimate: run it anyway, or not. */
+  | { kind: 'cost'; what: CostWhat; cost: CostAsk; runAnyway(): void; dontRun(): void };
 
 const STEP_M = 0.005;
 

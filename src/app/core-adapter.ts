@@ -19,8 +19,9 @@ import {
 import { speciesPortLabels as docSpeciesPortLabels } from '../beamline/edits.ts';
 export { outputsOf, lengthOf, KINDS } from '../beamline/elements/registry.ts';
 export { changeSpecies, documentOutputs, elementOutputs, speciesIsHyperfine, DEFAULT_HYPERFINE_FIELD, type DocOutput, type SpeciesChange } from '../beamline/edits.ts';
-import { runLine, compile, type RunResult, type ParameterSlot } from '../engine/index.ts';
+import { runLine, compile, CostLimitError, type RunResult, type ParameterSlot } from '../engine/index.ts';
 export { compile, scanParameters, scanIndices, scanPoint, scanResult, scanCsv, budget, csvNumber, leafName, CancelledError, RunError, MAX_SCAN_POINTS, MAX_BUDGET_DRAWS } from '../engine/index.ts';
+export { CostLimitError } from '../engine/index.ts';
 export type { Plan, ParameterSlot, ScanResult, ScanPoint, ScanParameterResult, BudgetResult, BudgetTolerance, BudgetDetector, Sensitivity } from '../engine/index.ts';
 export { fit, fittedDocument, fittedQuantity, readMeasurements, simulate, evaluate, parameter, MAX_ATOMS, MAX_READINGS } from '../engine/index.ts';
 export type { FitResult, FittedParameter, FitResidual, FreeParameter, Measurements, SimulationResult, SimulatedDetector, HitMap } from '../engine/index.ts';
@@ -145,9 +146,28 @@ export function librarySpeciesNames(): string[] {
   return [...speciesNames()];
 }
 
-/** Runs the engine (runLine of src/engine/index.ts) on a normalized line (result format v1). */
-export function runEngine(line: Beamline, opts?: { onProgress?: (f: number) => void; isCancelled?: () => boolean }): RunResult {
+/** Runs the engine (runLine of src/engine/index.ts) on a normalized line (result format v1); `acceptCost` runs it even
+ *  where the estimated work is above the engine's ask limit. */
+export function runEngine(line: Beamline, opts?: { onProgress?: (f: number) => void; isCancelled?: () => boolean; acceptCost?: boolean }): RunResult {
   return runLine(line, opts);
+}
+
+/** Stops runLine right after its cost estimate (it passed the limits): nothing of the line is walked. */
+const ESTIMATED = new Error('estimated');
+
+/**
+ * Throws the engine's CostLimitError where a run of `line` would be refused by its estimated cost (above the ask
+ * limit without `acceptCost`, above the hard limit in any case); else returns. Only the estimate is made: the run
+ * stops before its walk (runLine's onEstimate). Any other refusal is left to the run itself.
+ */
+export function checkRunCost(line: Beamline, acceptCost: boolean): void {
+  try {
+    runLine(line, { acceptCost, light: true, onEstimate: () => {
+      throw ESTIMATED;
+    } });
+  } catch (e) {
+    if (e instanceof CostLimitError) throw e;
+  }
 }
 
 /**

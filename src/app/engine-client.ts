@@ -1,11 +1,12 @@
 // The renderer's side of the engine worker: one run at a time, the latest document wins. A document goes
-// as its normalized line (EngineRequest). A new document while a run is busy waits as "pending" (older
-// pending documents are dropped); a run busy for longer
-// than `slowMs` shows progress and can be cancelled, which terminates the worker and starts a fresh one.
+// as its normalized line (EngineRequest), with acceptCost when the user said "Run anyway" to the engine's
+// estimate. A new document while a run is busy waits as "pending" (older pending documents are dropped); a run
+// busy for longer than `slowMs` shows progress and can be cancelled, which terminates the worker and starts a
+// fresh one.
 // Answers whose sequence number is not the latest requested are discarded.
 
 import type { Beamline } from './core-adapter.ts';
-import type { EngineReply, EngineRequest } from './engine-protocol.ts';
+import type { CostAsk, EngineReply, EngineRequest } from './engine-protocol.ts';
 import type { RunResultView } from './results.ts';
 
 export interface EngineStatus {
@@ -22,6 +23,8 @@ export interface EngineAnswer {
   seq: number;
   result?: RunResultView;
   error?: string;
+  /** The run was refused by the engine's cost estimate (the app asks "Run anyway" unless it is hard). */
+  cost?: CostAsk;
   ms?: number;
 }
 
@@ -46,7 +49,7 @@ export function createEngineClient(
   const status: EngineStatus = { requested: 0, running: false, slow: false, progress: 0, cancelled: false };
   const emit = () => onStatus({ ...status });
 
-  const start = (seq: number, line: Beamline) => {
+  const start = (seq: number, line: Beamline, acceptCost?: boolean) => {
     busySeq = seq;
     status.running = true;
     status.slow = false;
@@ -59,7 +62,7 @@ export function createEngineClient(
         emit();
       }
     }, slowMs);
-    const req: EngineRequest = { seq, line };
+    const req: EngineRequest = { seq, line, ...(acceptCost ? { acceptCost: true } : {}) };
     ensure().postMessage(req);
     emit();
   };
@@ -72,7 +75,7 @@ export function createEngineClient(
     if (pending) {
       const p = pending;
       pending = undefined;
-      start(p.seq, p.line);
+      start(p.seq, p.line, p.acceptCost);
     } else emit();
   };
 
@@ -88,7 +91,7 @@ export function createEngineClient(
         return;
       }
       if (m.seq === requested) {
-        onAnswer(m.type === 'result' ? { seq: m.seq, result: m.result, ms: m.ms } : { seq: m.seq, error: m.message });
+        onAnswer(m.type === 'result' ? { seq: m.seq, result: m.result, ms: m.ms } : { seq: m.seq, error: m.message, ...(m.cost ? { cost: m.cost } : {}) });
       }
       finish();
     };
@@ -109,17 +112,18 @@ export function createEngineClient(
   };
 
   return {
-    /** Ask for a run of the normalized line `line` as request `seq` (increasing). */
-    run(seq: number, line: Beamline) {
+    /** Ask for a run of the normalized line `line` as request `seq` (increasing); `acceptCost`: even where the engine's
+     *  estimate of the work is above its ask limit. */
+    run(seq: number, line: Beamline, acceptCost?: boolean) {
       requested = seq;
       status.requested = seq;
-      if (busySeq === 0) start(seq, line);
+      if (busySeq === 0) start(seq, line, acceptCost);
       else if (status.slow) {
         // a long stale run: drop it and start the latest at once
         restart();
         pending = undefined;
-        start(seq, line);
-      } else pending = { seq, line };
+        start(seq, line, acceptCost);
+      } else pending = { seq, line, ...(acceptCost ? { acceptCost: true } : {}) };
     },
     /** Stop the current run (terminates the worker); the next edit starts a fresh one. */
     cancel() {

@@ -1,19 +1,27 @@
-// The renderer's side of a planning worker (a scan or a tolerance budget; plan-serve.ts): one request at a time,
-// with progress and cancel. Cancel asks the worker to stop (a scan stops before its next point and keeps its
-// compiled document for the next request); when no answer comes within `graceMs`, or for a budget, which
-// cannot pause, the worker is terminated and a fresh one starts with the next request. A new request while one
-// runs replaces it. Answers of a request that is not the current one are discarded. A fit and a simulated run are
-// stopped as a budget is, by ending the worker.
+// The renderer's side of the planning workers (plan-serve.ts): one request at a time, with progress and cancel.
+// A scan is spread over a pool of `poolSize` workers (scan-blocks.ts): each evaluates a contiguous block of the
+// points, the blocks are merged in scan order (the result is the one worker's, bit for bit), the progress is the
+// points done over all blocks and Cancel stops every block. A budget, a fit and a simulated run go to the first
+// worker of the pool (the engine draws their random numbers in one sequence: they do not split). Cancel asks the
+// workers to stop (a scan stops before its next point and keeps its compiled document for the next request); when
+// no answer comes within `graceMs`, or for a budget, a fit or a simulated run, which cannot pause, the busy workers
+// are terminated and fresh ones start with the next request. A new request while one runs replaces it. Answers of a
+// request that is not the current one are discarded.
 
 import type { BudgetResult, FitResult, ScanResult, SimulationResult } from './core-adapter.ts';
-import type { EngineSignal, FitData, FitParameterRequest, PlanReply, PlanRequest, WorkerReply } from './engine-protocol.ts';
+import type {
+  CostAsk, EngineSignal, FitData, FitParameterRequest, PlanReply, PlanRequest, ScanBlock, WorkerReply,
+} from './engine-protocol.ts';
 import type { WorkerLike } from './engine-client.ts';
+import { mergeScanBlocks, scanBlocks } from './scan-blocks.ts';
 
-export type PlanJob =
+/** `acceptCost`: run even where the engine's estimate of the work is above its ask limit (the user said "Run anyway"). */
+export type PlanJob = (
   | { kind: 'scan'; text: string; axes: (PlanRequest & { kind: 'scan' })['axes']; title?: string }
   | { kind: 'budget'; text: string; draws: number; seed: number }
   | { kind: 'fit'; text: string; csv: string; fileName: string; free: FitParameterRequest[]; state: boolean }
-  | { kind: 'simulate'; text: string; atoms: number; seed: number; bins?: number };
+  | { kind: 'simulate'; text: string; atoms: number; seed: number; bins?: number }
+) & { acceptCost?: boolean };
 
 export type PlanKind = PlanJob['kind'];
 
@@ -24,14 +32,17 @@ export interface PlanStatus {
   progress: number;
   /** A cancel was asked for and has not been answered yet. */
   cancelling: boolean;
+  /** How many workers share the running request (a scan's blocks; 1 otherwise). */
+  workers?: number;
 }
 
 export type PlanAnswer =
-  | { seq: number; kind: 'scan'; result: ScanResult; ms: number }
+  | { seq: number; kind: 'scan'; result: ScanResult; ms: number; workers: number }
   | { seq: number; kind: 'budget'; result: BudgetResult; ms: number }
   | { seq: number; kind: 'fit'; result: FitResult; data: FitData; ms: number }
   | { seq: number; kind: 'simulate'; result: SimulationResult; engine: EngineSignal[]; ms: number }
-  | { seq: number; kind: PlanKind; error: string }
+  /** `cost`: the engine refused the work as too expensive (ask "Run anyway" unless `hard`); `job` is the request, to start again. */
+  | { seq: number; kind: PlanKind; error: string; cost?: CostAsk; job: PlanJob }
   | { seq: number; kind: PlanKind; cancelled: true };
 
 export interface PlanClient {
@@ -41,84 +52,163 @@ export interface PlanClient {
   dispose(): void;
 }
 
+/** The share of the current request one worker has: the whole request, or a block of a scan. */
+interface Part {
+  worker: number;
+  block?: ScanBlock;
+  fraction: number;
+  done: boolean;
+  cancelled?: boolean;
+  reply?: PlanReply & { type: 'scan-block' };
+}
+
 export function createPlanClient(
   makeWorker: () => WorkerLike,
   onAnswer: (a: PlanAnswer) => void,
   onStatus: (s: PlanStatus) => void,
   graceMs = 400,
+  poolSize = 1,
+  now: () => number = () => performance.now(),
 ): PlanClient {
-  let worker: WorkerLike | undefined;
+  const size = Math.max(1, Math.floor(poolSize));
+  const workers: (WorkerLike | undefined)[] = [];
   let seq = 0;
   let graceTimer: ReturnType<typeof setTimeout> | undefined;
+  let parts: Part[] = [];
+  let job: PlanJob | undefined;
+  let t0 = 0;
   const status: PlanStatus = { running: false, seq: 0, progress: 0, cancelling: false };
   const emit = () => onStatus({ ...status });
 
-  const restart = () => {
-    worker?.terminate();
-    worker = undefined;
+  const end = (i: number) => {
+    workers[i]?.terminate();
+    workers[i] = undefined;
+  };
+  /** Ends the workers still busy with the current request (fresh ones start with the next). */
+  const endBusy = () => {
+    for (const p of parts) if (!p.done) end(p.worker);
   };
 
   const done = (a: PlanAnswer) => {
     clearTimeout(graceTimer);
     status.running = false;
     status.cancelling = false;
+    parts = [];
     onAnswer(a);
     emit();
   };
 
-  const ensure = (): WorkerLike => {
-    if (worker) return worker;
+  const fail = (message: string, cost?: CostAsk) => {
+    endBusy();
+    done({ seq: status.seq, kind: status.kind!, error: message, ...(cost ? { cost } : {}), job: job! });
+  };
+
+  /** A block finished or stopped: the answer once every block has. */
+  const settle = () => {
+    if (parts.some((p) => !p.done)) return;
+    if (parts.some((p) => p.cancelled)) return done({ seq: status.seq, kind: 'scan', cancelled: true });
+    const replies = parts.map((p) => p.reply!);
+    const result = mergeScanBlocks(replies[0].head, replies.map((r) => r.points));
+    done({ seq: status.seq, kind: 'scan', result, ms: now() - t0, workers: parts.length });
+  };
+
+  const onReply = (i: number, r: PlanReply) => {
+    const part = parts.find((p) => p.worker === i && !p.done);
+    if (!part) return;
+    const kind = status.kind!;
+    switch (r.type) {
+      case 'plan-progress': {
+        part.fraction = r.fraction;
+        const total = parts.reduce((n, p) => n + (p.block ? p.block.end - p.block.start : 1), 0);
+        status.progress = parts.reduce((n, p) => n + p.fraction * (p.block ? p.block.end - p.block.start : 1), 0) / total;
+        emit();
+        return;
+      }
+      case 'scan-block':
+        part.done = true;
+        part.fraction = 1;
+        part.reply = r;
+        return settle();
+      case 'scan-result':
+        part.done = true;
+        return done({ seq: r.seq, kind: 'scan', result: r.result, ms: r.ms, workers: 1 });
+      case 'budget-result':
+        part.done = true;
+        return done({ seq: r.seq, kind: 'budget', result: r.result, ms: r.ms });
+      case 'fit-result':
+        part.done = true;
+        return done({ seq: r.seq, kind: 'fit', result: r.result, data: r.data, ms: r.ms });
+      case 'simulate-result':
+        part.done = true;
+        return done({ seq: r.seq, kind: 'simulate', result: r.result, engine: r.engine, ms: r.ms });
+      case 'plan-error':
+        // one block that fails fails the scan: the others are ended
+        part.done = true;
+        return fail(r.message, r.cost);
+      case 'plan-cancelled':
+        part.done = true;
+        part.cancelled = true;
+        if (parts.length === 1) return done({ seq: r.seq, kind, cancelled: true });
+        return settle();
+    }
+  };
+
+  const ensure = (i: number): WorkerLike => {
+    const have = workers[i];
+    if (have) return have;
     const w = makeWorker();
     w.onmessage = (ev) => {
       const m = ev.data as WorkerReply;
-      if (!('seq' in m) || m.seq !== status.seq || !status.running) return;
-      const kind = status.kind!;
-      const r = m as PlanReply;
-      switch (r.type) {
-        case 'plan-progress':
-          status.progress = r.fraction;
-          emit();
-          return;
-        case 'scan-result':
-          return done({ seq: r.seq, kind: 'scan', result: r.result, ms: r.ms });
-        case 'budget-result':
-          return done({ seq: r.seq, kind: 'budget', result: r.result, ms: r.ms });
-        case 'fit-result':
-          return done({ seq: r.seq, kind: 'fit', result: r.result, data: r.data, ms: r.ms });
-        case 'simulate-result':
-          return done({ seq: r.seq, kind: 'simulate', result: r.result, engine: r.engine, ms: r.ms });
-        case 'plan-error':
-          return done({ seq: r.seq, kind, error: r.message });
-        case 'plan-cancelled':
-          return done({ seq: r.seq, kind, cancelled: true });
-      }
+      if (workers[i] !== w || !('seq' in m) || m.seq !== status.seq || !status.running) return;
+      onReply(i, m as PlanReply);
     };
     w.onerror = (ev) => {
       ev.preventDefault?.();
-      restart();
-      if (status.running) done({ seq: status.seq, kind: status.kind!, error: `the engine stopped: ${ev.message || 'worker error'}` });
+      if (workers[i] !== w) return;
+      const busy = status.running && parts.some((p) => p.worker === i && !p.done);
+      end(i);
+      if (busy) {
+        for (const p of parts) if (p.worker === i) p.done = true;
+        fail(`the engine stopped: ${ev.message || 'worker error'}`);
+      }
     };
-    worker = w;
+    workers[i] = w;
     return w;
   };
 
   const stopNow = () => {
-    restart();
+    endBusy();
     done({ seq: status.seq, kind: status.kind!, cancelled: true });
   };
 
   return {
-    start(job) {
+    start(next) {
       if (status.running) {
         clearTimeout(graceTimer);
-        restart();
+        endBusy();
       }
       seq += 1;
-      Object.assign(status, { running: true, kind: job.kind, seq, progress: 0, cancelling: false });
-      const req: PlanRequest = job.kind === 'scan'
-        ? { kind: 'scan', seq, text: job.text, axes: job.axes, ...(job.title !== undefined ? { title: job.title } : {}) }
-        : { ...job, seq };
-      ensure().postMessage(req);
+      job = next;
+      t0 = now();
+      const accept = next.acceptCost ? { acceptCost: true } : {};
+      // a scan of two points or more on a pool of two workers or more: a block each; anything else whole on the first
+      const total = next.kind === 'scan' ? next.axes.reduce((n, a) => n * a.points, 1) : 1;
+      const blocks = size > 1 && Number.isSafeInteger(total) && total > 1 ? scanBlocks(total, size) : [];
+      parts = blocks.length > 1 ? blocks.map((block, i) => ({ worker: i, block, fraction: 0, done: false })) : [{ worker: 0, fraction: 0, done: false }];
+      Object.assign(status, { running: true, kind: next.kind, seq, progress: 0, cancelling: false, workers: parts.length });
+      for (const part of parts) {
+        let req: PlanRequest;
+        if (next.kind === 'scan') {
+          req = {
+            kind: 'scan', seq, text: next.text, axes: next.axes, ...(next.title !== undefined ? { title: next.title } : {}),
+            ...(part.block ? { block: part.block } : {}), ...accept,
+          };
+        } else {
+          const { acceptCost: _a, ...rest } = next;
+          req = { ...rest, seq, ...accept };
+        }
+        ensure(part.worker).postMessage(req);
+      }
       emit();
       return seq;
     },
@@ -128,7 +218,7 @@ export function createPlanClient(
       if (status.kind !== 'scan') return stopNow();
       status.cancelling = true;
       const req: PlanRequest = { kind: 'cancel', seq: status.seq };
-      worker?.postMessage(req);
+      for (const p of parts) if (!p.done) workers[p.worker]?.postMessage(req);
       emit();
       const s = status.seq;
       graceTimer = setTimeout(() => {
@@ -137,7 +227,7 @@ export function createPlanClient(
     },
     dispose() {
       clearTimeout(graceTimer);
-      restart();
+      for (let i = 0; i < workers.length; i++) end(i);
     },
   };
 }

@@ -1,16 +1,21 @@
 // What the engine worker does with a planning request (engine-protocol.ts, PlanRequest): compiles the document
 // text it is sent (the compiled plan is kept while the text stays the same, so a second scan of one document
 // reuses what the engine derived for the first), then runs a scan point by point or a tolerance budget,
-// posting progress at most every 50 ms. A scan gives the event loop a turn every `sliceMs` so that a cancel
-// can arrive; it then stops before its next point and answers "plan-cancelled". A budget runs in one piece
+// posting progress at most every 50 ms; a scan's `block` (its share of a scan spread over a pool of workers) runs
+// only those points and answers them with the scan's frame (scan-blocks.ts). A scan gives the event loop a turn
+// every `sliceMs` so that a cancel can arrive; it then stops before its next point and answers "plan-cancelled". A budget runs in one piece
 // (the engine's budget has no place to pause); the client terminates the worker to stop it. A fit (the
-// measurements' CSV read against the compiled document) and a simulated run likewise run in one piece. Kept apart from
-// the worker's global scope so it runs in tests as it runs in the worker.
+// measurements' CSV read against the compiled document) and a simulated run likewise run in one piece. Each tool first
+// checks the document's line by the engine's cost estimate: above the ask limit it answers with the estimate (the app
+// asks), unless the request says `acceptCost`. Kept apart from the worker's global scope so it runs in tests as it
+// runs in the worker.
 
 import {
-  compile, budget, scanIndices, scanParameters, scanPoint, scanResult, CancelledError, fit, readMeasurements, simulate, evaluate, parameter,
-  displayUnit, type Plan, type ScanPoint,
+  compile, checkRunCost, CostLimitError, budget, scanIndices, scanParameters, scanPoint, scanResult, CancelledError, fit, readMeasurements, simulate, evaluate, parameter,
+  displayUnit, type Plan, type ScanPoint, type ScanResult,
 } from './core-adapter.ts';
+import { blockPoints } from './scan-blocks.ts';
+import { costOf } from './cost-ask.ts';
 import type { FitData, PlanReply, PlanRequest } from './engine-protocol.ts';
 
 export interface PlanServerOptions {
@@ -46,6 +51,11 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     return r.plan;
   };
 
+  /** The document's line by the engine's cost estimate, before a tool evaluates it many times: a CostLimitError above
+   *  the ask limit (unless `acceptCost`) or the hard one. A scan's points each carry their own refusal otherwise. */
+  const checkCost = (plan: Plan, acceptCost: boolean | undefined) => checkRunCost(plan.line, acceptCost === true);
+  const accept = (req: { acceptCost?: boolean }) => (req.acceptCost ? { acceptCost: true } : {});
+
   const progress = (seq: number) => {
     let last = -Infinity;
     return (fraction: number) => {
@@ -61,11 +71,15 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     const t0 = now();
     const plan = planOf(req.text);
     const params = scanParameters(plan, req.axes);
-    const indices = scanIndices(params.map((p) => p.values.length));
+    checkCost(plan, req.acceptCost);
+    const all = scanIndices(params.map((p) => p.values.length));
+    // a block of a scan spread over a pool: its share of the points only
+    const indices = req.block ? all.slice(req.block.start, req.block.end) : all;
     const warnings = new Map<string, number>();
     const points: ScanPoint[] = [];
     const tell = progress(req.seq);
     const isCancelled = () => cancelled.has(req.seq);
+    const opts = { isCancelled, ...accept(req) };
     let slice = now();
     for (let k = 0; k < indices.length; k++) {
       if (now() - slice >= sliceMs) {
@@ -73,18 +87,27 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
         slice = now();
       }
       if (isCancelled()) throw new CancelledError('scan: cancelled');
-      points.push(scanPoint(plan, params, indices[k], warnings, { isCancelled }));
+      points.push(scanPoint(plan, params, indices[k], warnings, opts));
       tell((k + 1) / indices.length);
     }
-    const result = scanResult(plan, params, points, warnings);
-    if (req.title !== undefined && req.title !== '') result.title = req.title;
-    post({ type: 'scan-result', seq: req.seq, result, ms: now() - t0 });
+    const titled = (r: ScanResult) => {
+      if (req.title !== undefined && req.title !== '') r.title = req.title;
+      return r;
+    };
+    if (req.block) {
+      // the frame without points (its warnings the document's own) and the points with their warnings by text
+      const head = titled(scanResult(plan, params, [], new Map()));
+      post({ type: 'scan-block', seq: req.seq, block: req.block, head, points: blockPoints(points, [...warnings.keys()]), ms: now() - t0 });
+      return;
+    }
+    post({ type: 'scan-result', seq: req.seq, result: titled(scanResult(plan, params, points, warnings)), ms: now() - t0 });
   };
 
   const runBudget = (req: PlanRequest & { kind: 'budget' }) => {
     const t0 = now();
     const plan = planOf(req.text);
-    const result = budget(plan, { draws: req.draws, seed: req.seed, onProgress: progress(req.seq), isCancelled: () => cancelled.has(req.seq) });
+    checkCost(plan, req.acceptCost);
+    const result = budget(plan, { draws: req.draws, seed: req.seed, onProgress: progress(req.seq), isCancelled: () => cancelled.has(req.seq), ...accept(req) });
     post({ type: 'budget-result', seq: req.seq, result, ms: now() - t0 });
   };
 
@@ -92,7 +115,8 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     const t0 = now();
     const plan = planOf(req.text);
     const m = readMeasurements(req.csv, plan, req.fileName);
-    const result = fit(plan, m, { free: req.free, state: req.state, isCancelled: () => cancelled.has(req.seq) });
+    checkCost(plan, req.acceptCost);
+    const result = fit(plan, m, { free: req.free, state: req.state, isCancelled: () => cancelled.has(req.seq), ...accept(req) });
     const columns = m.columns.map((c) => {
       const slot = parameter(plan, c.name);
       const u = displayUnit(slot.dimension);
@@ -106,8 +130,9 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     const t0 = now();
     const plan = planOf(req.text);
     const isCancelled = () => cancelled.has(req.seq);
-    const result = simulate(plan, { atoms: req.atoms, seed: req.seed, ...(req.bins !== undefined ? { bins: req.bins } : {}), isCancelled });
-    const run = evaluate(plan, {}, { light: true, isCancelled });
+    checkCost(plan, req.acceptCost);
+    const result = simulate(plan, { atoms: req.atoms, seed: req.seed, ...(req.bins !== undefined ? { bins: req.bins } : {}), isCancelled, ...accept(req) });
+    const run = evaluate(plan, {}, { light: true, isCancelled, ...accept(req) });
     const engine = run.detectors.map((d) => {
       const profiles = run.leaves.filter((l) => l.target === d.id && l.profile).map((l) => l.profile!);
       return { id: d.id, signal: d.signal, ...(profiles.length ? { profiles } : {}) };
@@ -128,7 +153,11 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
         else runSimulate(req);
       } catch (e) {
         if (e instanceof CancelledError) post({ type: 'plan-cancelled', seq: req.seq });
-        else post({ type: 'plan-error', seq: req.seq, message: (e as Error).message ?? String(e) });
+        else {
+          // refused by the engine's cost estimate: the estimate goes with the message (the app asks "Run anyway")
+          const cost = e instanceof CostLimitError ? costOf(e) : undefined;
+          post({ type: 'plan-error', seq: req.seq, message: (e as Error).message ?? String(e), ...(cost ? { cost } : {}) });
+        }
       } finally {
         cancelled.delete(req.seq);
       }

@@ -20,6 +20,9 @@ import { createEngineFeed } from '../engine-feed.ts';
 import { NEW_ELEMENT_KINDS, type FieldSpec } from '../fields.ts';
 import { documentDirty, parseEps, moveGap, problemsFor, type SavedState } from '../editing.ts';
 import { applyPlanEdit, type PlanEdit } from '../plan-edit.ts';
+import { scanPoolSize } from '../scan-blocks.ts';
+import { asksFirst, costSentence, costTitle, type CostQuestion } from '../cost-ask.ts';
+import type { EngineAnswer } from '../engine-client.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import { applyInspectorEdit, type InspectorEdit } from '../inspector-edit.ts';
 import { Tree } from './Tree.tsx';
@@ -38,6 +41,8 @@ import { SimulatePanel } from './SimulatePanel.tsx';
 
 /** A worker of the engine (the same module runs the live run and the planning requests). */
 const makeEngineWorker = (): WorkerLike => new Worker(new URL('../engine.worker.ts', import.meta.url), { type: 'module' }) as never;
+/** The workers a scan is spread over: one per core but one, at most 4, at least 1 (scan-blocks.ts). */
+const SCAN_POOL = scanPoolSize(typeof navigator === 'undefined' ? undefined : navigator.hardwareConcurrency);
 
 type ReadOk = ReturnType<typeof readDocument> & { ok: true };
 
@@ -111,9 +116,13 @@ export function App({ host }: { host: Host }) {
 
   // ---------------------------------------------------------------- engine
   const [docSeq, setDocSeq] = useState(0);
-  const [answer, setAnswer] = useState<{ seq: number; result?: RunResultView; error?: string; ms?: number }>({ seq: 0 });
+  const [answer, setAnswer] = useState<EngineAnswer>({ seq: 0 });
   const [lastResult, setLastResult] = useState<{ seq: number; result: RunResultView; ms?: number } | undefined>();
   const [status, setStatus] = useState<EngineStatus>({ requested: 0, running: false, slow: false, progress: 0, cancelled: false });
+  /** The run whose refusal by the engine's cost estimate the user answered "Don't run" (or was not asked about). */
+  const [notRun, setNotRun] = useState<number | undefined>();
+  /** A refusal by the cost estimate: asks "Run anyway" (set below, once the feed exists). */
+  const onRunCost = useRef<(a: EngineAnswer) => void>(() => {});
   const client = useMemo(
     () =>
       createEngineClient(
@@ -121,6 +130,7 @@ export function App({ host }: { host: Host }) {
         (a) => {
           setAnswer(a);
           if (a.result) setLastResult({ seq: a.seq, result: a.result, ms: a.ms });
+          if (asksFirst(a.cost)) onRunCost.current(a);
         },
         setStatus,
       ),
@@ -131,6 +141,31 @@ export function App({ host }: { host: Host }) {
    *  the run starts before React renders the edit. */
   const feed = useMemo(() => createEngineFeed((seq, l) => client.run(seq, l), setDocSeq), [client]);
   const postDoc = useCallback((next: BeamlineDoc) => void feed.send(next), [feed]);
+  /** Runs the line refused by its cost estimate anyway (with the usual progress and Cancel). */
+  const runAnyway = useCallback(() => {
+    setNotRun(undefined);
+    feed.runAnyway();
+  }, [feed]);
+  /** Asks whether to run work the engine refused by its cost estimate; "Don't run" calls `dontRun`. A question that
+   *  would replace another dialog is not asked: `dontRun` at once (the refusal's message stays where it is shown). */
+  const askCost = useCallback((q: CostQuestion, dontRun?: () => void) => {
+    if (dialogRef.current) {
+      dontRun?.();
+      return;
+    }
+    setDialog({
+      kind: 'cost', what: q.what, cost: q.cost,
+      runAnyway: () => {
+        setDialog(undefined);
+        q.runAnyway();
+      },
+      dontRun: () => {
+        setDialog(undefined);
+        dontRun?.();
+      },
+    });
+  }, []);
+  onRunCost.current = (a) => askCost({ what: 'run', cost: a.cost!, runAnyway }, () => setNotRun(a.seq));
   useEffect(() => postDoc(doc), [doc, postDoc]);
   const historyRef = useRef(history);
   historyRef.current = history;
@@ -544,7 +579,7 @@ export function App({ host }: { host: Host }) {
           </section>
           {mounted.scan && (
             <ScanPanel key={`ScanPanel-${key}`} hidden={!panels.scan} doc={good.doc} line={line} text={good.text} params={params} dark={dark} fileBase={fileBase}
-              makeWorker={makeEngineWorker} onClose={() => run('view.scanPanel')}
+              makeWorker={makeEngineWorker} poolSize={SCAN_POOL} onCost={askCost} onClose={() => run('view.scanPanel')}
               onKeep={(scan) => {
                 const m = planEdit({ kind: 'keepScan', scan });
                 if (m) fail('The scan was not kept', m);
@@ -559,22 +594,23 @@ export function App({ host }: { host: Host }) {
               )} />
           )}
           {mounted.budget && (
-            <BudgetPanel key={`BudgetPanel-${key}`} hidden={!panels.budget} doc={good.doc} text={good.text} params={params} makeWorker={makeEngineWorker}
+            <BudgetPanel key={`BudgetPanel-${key}`} hidden={!panels.budget} doc={good.doc} text={good.text} params={params} makeWorker={makeEngineWorker} onCost={askCost}
               onClose={() => run('view.budgetPanel')}
               onAdd={(tolerance) => planEdit({ kind: 'addTolerance', tolerance })}
               onSet={(index, tolerance) => planEdit({ kind: 'setTolerance', index, tolerance })}
               onRemove={(index) => planEdit({ kind: 'removeTolerance', index })} />
           )}
           {mounted.fit && (
-            <FitPanel key={`FitPanel-${key}`} hidden={!panels.fit} text={good.text} params={params} kept={good.doc.fits ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
+            <FitPanel key={`FitPanel-${key}`} hidden={!panels.fit} text={good.text} params={params} kept={good.doc.fits ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker} onCost={askCost}
               onClose={() => run('view.fitPanel')} onApply={(fit) => planEdit({ kind: 'applyFit', fit })} onKeep={(fit) => planEdit({ kind: 'keepFit', fit })} />
           )}
           {mounted.simulate && (
-            <SimulatePanel key={`SimulatePanel-${key}`} hidden={!panels.simulate} text={good.text} kept={good.doc.simulations ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker}
+            <SimulatePanel key={`SimulatePanel-${key}`} hidden={!panels.simulate} text={good.text} kept={good.doc.simulations ?? []} dark={dark} fileBase={fileBase} makeWorker={makeEngineWorker} onCost={askCost}
               onClose={() => run('view.simulatePanel')} onKeep={(simulation) => planEdit({ kind: 'keepSimulation', simulation })} />
           )}
           <SkipLink label="Skip the results: go to the inspector" onActivate={() => run('view.focusInspector')} />
           <Results line={line} result={result} resultSeq={lastResult?.seq ?? 0} docSeq={docSeq} error={answer.seq === docSeq ? answer.error : undefined}
+            notRun={notRun === docSeq && answer.seq === docSeq && answer.cost ? costSentence('run', answer.cost.estimate) : undefined} onRunAnyway={runAnyway}
             ms={lastResult?.ms} status={status} epsText={epsText} eps={eps} onEps={setEpsText} onCancel={() => run('results.cancel')}
             onCsv={() => run('results.exportCsv')} dark={dark} />
         </div>
@@ -649,6 +685,16 @@ function AppDialog({ d, close, api, selected, doc, actions, onRecover, onDiscard
           <button type="button" onClick={d.discard}>Don&apos;t Save</button>
         </>}>
           <p>Changes not saved are lost when another document replaces this one.</p>
+        </Dialog>
+      );
+    case 'cost':
+      return (
+        <Dialog title={costTitle(d.what)} onClose={d.dontRun} closeLabel="Don't run" alert actions={
+          <button type="button" onClick={d.runAnyway}>Run anyway</button>}>
+          <p data-cost-sentence>{costSentence(d.what, d.cost.estimate)}</p>
+          <p className="note">{d.what === 'run'
+            ? 'Run anyway starts it with progress and Cancel; Don\'t run keeps this message in the results pane instead of results.'
+            : 'Run anyway starts it with progress and Cancel; Don\'t run keeps this message in the panel.'}</p>
         </Dialog>
       );
     case 'message':

@@ -2,9 +2,10 @@
 // normal), each change an undoable edit of the document; the budget run in a planning worker (draws, seed) with
 // progress and Cancel; per detector the signal, the first-order σ, the Monte Carlo mean ± σ and 5–95 %, the note
 // where the two disagree, and the ranked table of which tolerance moves which detector most.
-import { useEffect, useId, useMemo, useRef, useState } from 'react';
+import { useId, useMemo, useRef, useState } from 'react';
 import { displayUnit, MAX_BUDGET_DRAWS, type BeamlineDoc, type BudgetResult, type ParameterSlot, type ToleranceDoc } from '../core-adapter.ts';
-import { createPlanClient, type PlanStatus } from '../plan-client.ts';
+import { usePlanClient } from './usePlanClient.ts';
+import type { CostQuestion } from '../cost-ask.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import { fmt } from '../format.ts';
 import { budgetCells, setPointColumn } from '../plan-view.ts';
@@ -16,6 +17,8 @@ export interface BudgetPanelProps {
   text: string;
   params: readonly ParameterSlot[];
   makeWorker(): WorkerLike;
+  /** Asks whether to run work the engine refused by its cost estimate ("Run anyway" / "Don't run"). */
+  onCost?(q: CostQuestion): void;
   /** A tolerance edit; resolves to the message when the document refuses it. */
   onAdd(t: ToleranceDoc): string | undefined;
   onSet(index: number, t: ToleranceDoc): string | undefined;
@@ -34,19 +37,16 @@ export function BudgetPanel(p: BudgetPanelProps) {
   const [editError, setEditError] = useState<{ row: number | 'new'; message: string; text: string } | undefined>();
   const [draws, setDraws] = useState('1000');
   const [seed, setSeed] = useState('1');
-  const [status, setStatus] = useState<PlanStatus>({ running: false, seq: 0, progress: 0, cancelling: false });
   const [answer, setAnswer] = useState<{ error?: string; cancelled?: boolean } | undefined>();
   const [shown, setShown] = useState<{ seq: number; result: BudgetResult; ms: number; text: string } | undefined>();
   const sentText = useRef('');
-  const makeWorker = useRef(p.makeWorker);
-  const client = useMemo(() => createPlanClient(() => makeWorker.current(), (a) => {
+  const { client, status } = usePlanClient(p.makeWorker, (a) => {
     if ('result' in a && a.kind === 'budget') {
       setShown({ seq: a.seq, result: a.result, ms: a.ms, text: sentText.current });
       setAnswer(undefined);
     } else if ('error' in a) setAnswer({ error: a.error });
     else if ('cancelled' in a) setAnswer({ cancelled: true });
-  }, setStatus), []);
-  useEffect(() => () => client.dispose(), [client]);
+  }, { onCost: p.onCost });
 
   const pick = newName && free.some((s) => s.name === newName) ? newName : (free[0]?.name ?? '');
   const pickSlot = p.params.find((s) => s.name === pick);

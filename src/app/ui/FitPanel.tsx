@@ -4,9 +4,10 @@
 // planning worker with Cancel (it cannot pause: Cancel ends the worker). Shown: the fitted values ± σ, the ΔD = 1
 // profile intervals (marked where asymmetric), the correlations, the deviance with its p-value, and the Pearson
 // residual of every reading by detector. "Apply the fitted values" writes them into the document as one undoable edit.
-import { useEffect, useId, useMemo, useRef, useState } from 'react';
+import { useId, useMemo, useRef, useState } from 'react';
 import { checkQuantity, displayUnit, type FitDoc, type FitResult, type ParameterSlot } from '../core-adapter.ts';
-import { createPlanClient, type PlanStatus } from '../plan-client.ts';
+import { usePlanClient } from './usePlanClient.ts';
+import type { CostQuestion } from '../cost-ask.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import type { FitData, FitParameterRequest } from '../engine-protocol.ts';
 import { fitDensityCells, fitStateCells, fitValueCells, residualsFigure } from '../fit-view.ts';
@@ -24,6 +25,8 @@ export interface FitPanelProps {
   dark: boolean;
   fileBase: string;
   makeWorker(): WorkerLike;
+  /** Asks whether to run work the engine refused by its cost estimate ("Run anyway" / "Don't run"). */
+  onCost?(q: CostQuestion): void;
   /** Writes the fitted values into the document (one undoable edit); the message when the document refuses them. */
   onApply(f: FitResult): string | undefined;
   /** Keeps the form (the data file by its name, parameters, bounds, state) in the document's fits; the message when refused. */
@@ -67,22 +70,19 @@ export function FitPanel(p: FitPanelProps) {
   const [newName, setNewName] = useState('');
   const [state, setState] = useState(() => p.kept[0]?.state === true && rowsOf(p.kept[0], p.params) !== undefined);
   const [loaded, setLoaded] = useState<string | undefined>(() => (p.kept[0] && rowsOf(p.kept[0], p.params) ? p.kept[0].data : undefined));
-  const [status, setStatus] = useState<PlanStatus>({ running: false, seq: 0, progress: 0, cancelling: false });
   const [answer, setAnswer] = useState<{ error?: string; cancelled?: boolean } | undefined>();
   const [shown, setShown] = useState<{ seq: number; result: FitResult; data: FitData; ms: number; text: string; file: string } | undefined>();
   const [applyError, setApplyError] = useState<string | undefined>();
   const [keepError, setKeepError] = useState<string | undefined>();
   const sent = useRef({ text: '', file: '' });
-  const makeWorker = useRef(p.makeWorker);
-  const client = useMemo(() => createPlanClient(() => makeWorker.current(), (a) => {
+  const { client, status } = usePlanClient(p.makeWorker, (a) => {
     if ('result' in a && a.kind === 'fit') {
       setShown({ seq: a.seq, result: a.result, data: a.data, ms: a.ms, text: sent.current.text, file: sent.current.file });
       setAnswer(undefined);
       setApplyError(undefined);
     } else if ('error' in a) setAnswer({ error: a.error });
     else if ('cancelled' in a) setAnswer({ cancelled: true });
-  }, setStatus), []);
-  useEffect(() => () => client.dispose(), [client]);
+  }, { onCost: p.onCost });
 
   const free = p.params.filter((s) => !rows.some((r) => r.name === s.name));
   const pick = newName && free.some((s) => s.name === newName) ? newName : (free[0]?.name ?? '');

@@ -15,6 +15,10 @@ interface Props {
   resultSeq: number;
   docSeq: number;
   error?: string;
+  /** The run was refused by the engine's cost estimate and the user chose not to run it: the question, shown instead of
+   *  results, with "Run anyway". */
+  notRun?: string;
+  onRunAnyway?(): void;
   ms?: number;
   status: EngineStatus;
   epsText: string;
@@ -167,10 +171,15 @@ export function Results(p: Props) {
         </span>
         <button type="button" onClick={p.onCsv} disabled={!result}>Export table as CSV</button>
       </div>
-      {p.error && <p className="run-error" role="alert">The engine could not run this line: {p.error}</p>}
-      {stale && !p.status.running && <p className="note">The tables and plots show the last run that finished (run {seq}).</p>}
+      {p.notRun !== undefined ? (
+        <div className="run-error not-run" role="alert" data-not-run>
+          <p>Not run: {p.notRun}</p>
+          <button type="button" onClick={p.onRunAnyway}>Run anyway</button>
+        </div>
+      ) : p.error && <p className="run-error" role="alert">The engine could not run this line: {p.error}</p>}
+      {stale && !p.status.running && p.notRun === undefined && <p className="note">The tables and plots show the last run that finished (run {seq}).</p>}
       {!result && !p.error && <p className="note">Waiting for the first run…</p>}
-      {result && (
+      {result && p.notRun === undefined && (
         <>
           <table className="ports" data-seq={seq} aria-label="Ports table">
             <thead>

@@ -1,14 +1,15 @@
 // The scan panel: one set-point of the line, or a grid of two, from/to as quantities with units, a number of
-// points, linear or by equal ratios; run in a planning worker with progress and Cancel; curves per detector
-// (yield or counts) or a map per detector with the set-point marked; CSV (through the host), PNG and SVG; "Keep
-// in document" stores the scan in the document's `scans` list (an undoable edit), whose scans are offered to run
-// again.
+// points, linear or by equal ratios; run on a pool of planning workers (a block of the points each, plan-client.ts)
+// with progress and Cancel; curves per detector (yield or counts) or a map per detector with the set-point marked;
+// CSV (through the host), PNG and SVG; "Keep in document" stores the scan in the document's `scans` list (an
+// undoable edit), whose scans are offered to run again.
 import { useEffect, useId, useMemo, useRef, useState } from 'react';
 import {
   checkQuantity, displayUnit, scanCsv, type Beamline, type BeamlineDoc, type ParameterSlot, type ScanDoc, type ScanResult,
 } from '../core-adapter.ts';
 import type { ScanAxisRequest } from '../engine-protocol.ts';
-import { createPlanClient, type PlanStatus } from '../plan-client.ts';
+import { usePlanClient } from './usePlanClient.ts';
+import type { CostQuestion } from '../cost-ask.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import { refusedLines, refusedPoints, scanCurves, scanMaps, type ScanQuantity } from '../plan-view.ts';
 import { fmt } from '../format.ts';
@@ -26,6 +27,10 @@ export interface ScanPanelProps {
   dark: boolean;
   fileBase: string;
   makeWorker(): WorkerLike;
+  /** Asks whether to run work the engine refused by its cost estimate ("Run anyway" / "Don't run"). */
+  onCost?(q: CostQuestion): void;
+  /** Workers a scan is spread over (1: one worker). */
+  poolSize?: number;
   onKeep(scan: ScanDoc): void;
   onDrop(index: number): void;
   onCsv(name: string, text: string): void;
@@ -94,19 +99,16 @@ export function ScanPanel(p: ScanPanelProps) {
   });
   const [title, setTitle] = useState('');
   const [quantity, setQuantity] = useState<ScanQuantity>('yield');
-  const [status, setStatus] = useState<PlanStatus>({ running: false, seq: 0, progress: 0, cancelling: false });
   const [answer, setAnswer] = useState<{ seq: number; result?: ScanResult; ms?: number; error?: string; cancelled?: boolean; text?: string } | undefined>();
-  const [shownResult, setShownResult] = useState<{ seq: number; result: ScanResult; ms: number; text: string } | undefined>();
+  const [shownResult, setShownResult] = useState<{ seq: number; result: ScanResult; ms: number; text: string; workers: number } | undefined>();
   const sentText = useRef('');
-  const makeWorker = useRef(p.makeWorker);
-  const client = useMemo(() => createPlanClient(() => makeWorker.current(), (a) => {
+  const { client, status } = usePlanClient(p.makeWorker, (a) => {
     if ('result' in a && a.kind === 'scan') {
-      setShownResult({ seq: a.seq, result: a.result, ms: a.ms, text: sentText.current });
+      setShownResult({ seq: a.seq, result: a.result, ms: a.ms, text: sentText.current, workers: a.workers });
       setAnswer({ seq: a.seq, result: a.result, ms: a.ms });
     } else if ('error' in a) setAnswer({ seq: a.seq, error: a.error });
     else if ('cancelled' in a) setAnswer({ seq: a.seq, cancelled: true });
-  }, setStatus), []);
-  useEffect(() => () => client.dispose(), [client]);
+  }, { poolSize: p.poolSize, onCost: p.onCost });
 
   // a parameter that left the line (an element renamed or deleted) falls back to the first one
   useEffect(() => {
@@ -256,7 +258,10 @@ export function ScanPanel(p: ScanPanelProps) {
         {!status.running && answer?.cancelled && <span className="run-note" data-scan-cancelled>cancelled{shownResult ? ': the chart shows the last scan that finished' : ''}</span>}
         {!status.running && answer?.error && <span className="run-error" role="alert">The scan did not run: {answer.error}</span>}
         {shownResult && !status.running && !answer?.error && !answer?.cancelled && (
-          <span className="note" data-scan-ms={Math.round(shownResult.ms)}>{shownResult.result.points.length} points in {shownResult.ms < 1000 ? `${Math.max(1, Math.round(shownResult.ms))} ms` : `${fmt(shownResult.ms / 1000, 3)} s`}</span>
+          <span className="note" data-scan-ms={Math.round(shownResult.ms)} data-scan-workers={shownResult.workers}>
+            {shownResult.result.points.length} points in {shownResult.ms < 1000 ? `${Math.max(1, Math.round(shownResult.ms))} ms` : `${fmt(shownResult.ms / 1000, 3)} s`}
+            {shownResult.workers > 1 ? ` on ${shownResult.workers} workers` : ''}
+          </span>
         )}
       </div>
       {r && figures && (

@@ -2,9 +2,10 @@
 // "Simulated runs"), in a planning worker with Cancel (a run cannot pause: Cancel ends the worker). Per detector:
 // the atoms in its window, the sampled signal ± σ beside the engine's signal and their difference in σ, the counts
 // of one run of its dwell, and its hit map over its window. The same atoms and seed give the same numbers.
-import { useEffect, useId, useMemo, useRef, useState } from 'react';
+import { useId, useMemo, useRef, useState } from 'react';
 import { MAX_ATOMS, type SimulationDoc, type SimulationResult } from '../core-adapter.ts';
-import { createPlanClient, type PlanStatus } from '../plan-client.ts';
+import { usePlanClient } from './usePlanClient.ts';
+import type { CostQuestion } from '../cost-ask.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import type { EngineSignal } from '../engine-protocol.ts';
 import { hitMapFigure, profileComparison, simulatedCells, simulatedRows } from '../fit-view.ts';
@@ -20,6 +21,8 @@ export interface SimulatePanelProps {
   dark: boolean;
   fileBase: string;
   makeWorker(): WorkerLike;
+  /** Asks whether to run work the engine refused by its cost estimate ("Run anyway" / "Don't run"). */
+  onCost?(q: CostQuestion): void;
   /** Keeps atoms and seed in the document's simulated runs; the message when refused. */
   onKeep(k: SimulationDoc): string | undefined;
   onClose(): void;
@@ -38,19 +41,16 @@ export function SimulatePanel(p: SimulatePanelProps) {
   const [atoms, setAtoms] = useState(() => String(p.kept[0]?.atoms ?? 100_000));
   const [seed, setSeed] = useState(() => String(p.kept[0]?.seed ?? 1));
   const [keepError, setKeepError] = useState<string | undefined>();
-  const [status, setStatus] = useState<PlanStatus>({ running: false, seq: 0, progress: 0, cancelling: false });
   const [answer, setAnswer] = useState<{ error?: string; cancelled?: boolean } | undefined>();
   const [shown, setShown] = useState<{ seq: number; result: SimulationResult; engine: EngineSignal[]; ms: number; text: string } | undefined>();
   const sentText = useRef('');
-  const makeWorker = useRef(p.makeWorker);
-  const client = useMemo(() => createPlanClient(() => makeWorker.current(), (a) => {
+  const { client, status } = usePlanClient(p.makeWorker, (a) => {
     if ('result' in a && a.kind === 'simulate') {
       setShown({ seq: a.seq, result: a.result, engine: a.engine, ms: a.ms, text: sentText.current });
       setAnswer(undefined);
     } else if ('error' in a) setAnswer({ error: a.error });
     else if ('cancelled' in a) setAnswer({ cancelled: true });
-  }, setStatus), []);
-  useEffect(() => () => client.dispose(), [client]);
+  }, { onCost: p.onCost });
 
   const nAtoms = wholeNumber(atoms, MAX_ATOMS);
   const nSeed = wholeNumber(seed, 0xffffffff);
