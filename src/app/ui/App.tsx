@@ -139,7 +139,7 @@ export function App({ host }: { host: Host }) {
   useEffect(() => () => client.dispose(), [client]);
   /** Sends a document's line to the engine unless it is the one sent last; called at the edit itself so
    *  the run starts before React renders the edit. */
-  const feed = useMemo(() => createEngineFeed((seq, l) => client.run(seq, l), setDocSeq), [client]);
+  const feed = useMemo(() => createEngineFeed((seq, l, accept) => client.run(seq, l, accept), setDocSeq), [client]);
   const postDoc = useCallback((next: BeamlineDoc) => void feed.send(next), [feed]);
   /** Runs the line refused by its cost estimate anyway (with the usual progress and Cancel). */
   const runAnyway = useCallback(() => {
