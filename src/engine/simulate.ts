@@ -97,32 +97,61 @@ function tabulated(d: VelocityDistribution, n = 8192): (u: number) => number {
   };
 }
 
-/** A speed sampler of the beam: exact for a fixed speed, a table and the effusive v³ e^{−v²/a²} (v²/a² is Gamma(2, 1)). */
-function speedSampler(d: VelocityDistribution, rng: Random): () => number {
+/**
+ * A speed sampler of the beam, from two 32-bit words of `rng` (the second read by the effusive form only): exact for
+ * a fixed speed, a table (its cumulative weights searched by bisection) and the effusive v³ e^{−v²/a²} (v²/a² is
+ * Gamma(2, 1), the sum of two unit exponentials, each by the ziggurat: Random.exponentialFrom); the supersonic by its
+ * tabulated inverse CDF.
+ */
+function speedSampler(d: VelocityDistribution, rng: Random): (r1: number, r2: number) => number {
+  const uniform = (r: number) => (r + 1) * 2.3283064365386963e-10;   // in (0, 1]
   switch (d.kind) {
     case 'fixed': return () => d.speed;
-    case 'effusive': return () => {
-      let p = 0;
-      while (p === 0) p = rng.uniform() * rng.uniform();
-      return d.a * Math.sqrt(-Math.log(p));
-    };
+    case 'effusive': return (r1, r2) => d.a * Math.sqrt(rng.exponentialFrom(r1) + rng.exponentialFrom(r2));
     case 'table': {
-      const cum = new Float64Array(d.weights.length);
+      const n = d.weights.length;
+      const cum = new Float64Array(n);
       let s = 0;
       d.weights.forEach((w, i) => (cum[i] = s += w));
-      return () => {
-        const t = rng.uniform() * s;
-        let i = 0;
-        while (i < cum.length - 1 && cum[i] <= t) i++;
-        return d.speeds[i];
+      return (r1) => {
+        // the first i with cum[i] > t (the last where rounding leaves none)
+        const t = (1 - uniform(r1)) * s;
+        let lo = 0, hi = n - 1;
+        while (lo < hi) {
+          const m = (lo + hi) >> 1;
+          if (cum[m] > t) hi = m;
+          else lo = m + 1;
+        }
+        return d.speeds[lo];
       };
     }
     case 'supersonic': {
       const inv = tabulated(d);
-      return () => inv(rng.uniform());
+      return (r1) => inv(1 - uniform(r1));
     }
   }
 }
+
+/** The hits of one detector: positions on its plane (m), in arrays that grow by doubling. */
+class Hits {
+  n = 0;
+  x = new Float64Array(1024);
+  z = new Float64Array(1024);
+  push(x: number, z: number): void {
+    if (this.n === this.x.length) {
+      const nx = new Float64Array(2 * this.n), nz = new Float64Array(2 * this.n);
+      nx.set(this.x);
+      nz.set(this.z);
+      this.x = nx;
+      this.z = nz;
+    }
+    this.x[this.n] = x;
+    this.z[this.n++] = z;
+  }
+}
+
+/** Atoms drawn per block of uniforms. */
+const BLOCK = 4096;
 
 const within = (p: number, c: number, w: number) => Math.abs(p - c) <= w / 2;
 
@@ -208,121 +237,152 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
   const sysList = [...systems.values()];
   if (!sysList.length) throw new RunError('simulate: the line has no path that reaches a detector or a stop');
 
-  // every atom's isotope and speed first (the paths' probabilities are evaluated for all speeds at once)
+  // every atom's isotope and speed first (the paths' probabilities are evaluated for all speeds at once): three
+  // 32-bit words per atom, drawn a block at a time (the isotope's is not read where there is one isotope), and more
+  // from the generator where the ziggurat rejects one
   const sysOf = new Int32Array(atoms);
   const speeds = new Float64Array(atoms);
   const samplers = sysList.map((s) => speedSampler(s.dist, rng));
-  for (let a = 0; a < atoms; a++) {
-    let u = rng.uniform() * sysList.reduce((t, s) => t + s.fraction, 0), k = 0;
-    while (k < sysList.length - 1 && u >= sysList[k].fraction) u -= sysList[k++].fraction;
-    sysOf[a] = k;
-    speeds[a] = samplers[k]();
+  const cumFraction = new Float64Array(sysList.length);
+  sysList.reduce((t, s, k) => (cumFraction[k] = t + s.fraction), 0);
+  const totalFraction = cumFraction[sysList.length - 1];
+  const words = new Uint32Array(BLOCK * 3);
+  for (let a0 = 0; a0 < atoms; a0 += BLOCK) {
+    const nb = Math.min(BLOCK, atoms - a0);
+    rng.fillUint32(words, 3 * nb);
+    for (let j = 0; j < nb; j++) {
+      let k = 0;
+      if (sysList.length > 1) {
+        const u = words[3 * j] * 2.3283064365386963e-10 * totalFraction;
+        while (k < sysList.length - 1 && u >= cumFraction[k]) k++;
+      }
+      sysOf[a0 + j] = k;
+      speeds[a0 + j] = samplers[k](words[3 * j + 1], words[3 * j + 2]);
+    }
   }
+  const buf = new Float64Array(BLOCK * 5);
   if (opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
   const probs = paths.map((p) => pathProbabilities(p, speeds));
 
   // in the order of the run's result
   const detectors = result.detectors.map((d) => line.elements.find((e) => e.id === d.id)!).filter((e) => e.kind === 'detector');
-  const perDet = new Map(detectors.map((d) => [d.id, { hits: 0, xs: [] as number[], zs: [] as number[] }]));
+  const perDet = new Map(detectors.map((d) => [d.id, new Hits()]));
   const perPath = paths.map((p) => ({ path: [...p.path], target: p.target, atoms: 0, clipped: 0 }));
   let lostSpin = 0, clipped = 0, negative = 0;
   const prepared = paths.map(prepare);
-  for (let a = 0; a < atoms; a++) {
-    if ((a & 0xffff) === 0) {
-      if (opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
-      opts.onProgress?.(a / atoms);
-    }
-    const s = sysList[sysOf[a]];
-    // one path by the Born rule at this atom's speed; what is left is absorbed in the spin operations
-    let u = rng.uniform(), chosen = -1;
-    for (const i of s.paths) {
-      const p = probs[i][a];
-      if (p < 0) negative = Math.min(negative, p);
-      u -= Math.max(0, p);
-      if (u < 0) {
-        chosen = i;
-        break;
-      }
-    }
-    if (chosen < 0) {
-      lostSpin++;
-      continue;
-    }
-    const fp = paths[chosen];
-    const t = fp.track;
-    const g = prepared[chosen];
-    const inv2 = 1 / (speeds[a] * speeds[a]);
-    const src = t.source, col = t.collimator?.rect ?? null;
-    const sx = src ? src.x + src.width * (rng.uniform() - 0.5) : 0, sz = src ? src.z + src.height * (rng.uniform() - 0.5) : 0;
-    const cx = col ? col.x + col.width * (rng.uniform() - 0.5) : sx, cz = col ? col.z + col.height * (rng.uniform() - 0.5) : sz;
+  const sysPaths = sysList.map((s) => Int32Array.from(s.paths));
+  // per path what an atom's transverse draw needs, looked up once
+  const geo = paths.map((fp, i) => {
+    const t = fp.track, g = prepared[i], src = t.source, col = t.collimator?.rect ?? null;
     const slope = Number.isFinite(g.ys) && g.ys > 0 ? 1 / g.ys : 0;
-    perPath[chosen].atoms++;
-    let ok = true;
-    for (let j = 0; j < g.stripY.length; j++) {
-      const f = g.stripY[j] * slope;
-      const q = (g.stripX[j] ? sx + (cx - sx) * f : sz + (cz - sz) * f) + g.stripNum[j] * inv2;
-      if (q < g.stripLo[j] || q > g.stripHi[j]) {
-        ok = false;
-        break;
+    return { g, src, col, slope, fpl: fp.plane * slope, w: fp.detector?.window, acc: fp.detector ? perDet.get(fp.detector.id) : undefined, id: fp.detector?.id ?? '' };
+  });
+  const onHit = opts.onHit;
+  // five uniforms in [0, 1) per atom: the path, then two for the start point and two for the point in the first slit
+  for (let a0 = 0; a0 < atoms; a0 += BLOCK) {
+    if ((a0 & 0xffff) < BLOCK) {
+      if (opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
+      opts.onProgress?.(a0 / atoms);
+    }
+    const nb = Math.min(BLOCK, atoms - a0);
+    rng.fillUniform32(buf, 5 * nb);
+    for (let j = 0; j < nb; j++) {
+      const a = a0 + j, o = 5 * j;
+      // one path by the Born rule at this atom's speed; what is left is absorbed in the spin operations
+      const sp = sysPaths[sysOf[a]];
+      let u = buf[o], chosen = -1;
+      for (let q = 0; q < sp.length; q++) {
+        const i = sp[q];
+        const p = probs[i][a];
+        if (p < 0) negative = Math.min(negative, p);
+        u -= p > 0 ? p : 0;
+        if (u < 0) {
+          chosen = i;
+          break;
+        }
       }
-    }
-    const fpl = fp.plane * slope;
-    const px = sx + (cx - sx) * fpl + g.planeNumX * inv2, pz = sz + (cz - sz) * fpl + g.planeNumZ * inv2;
-    const w = fp.detector?.window;
-    if (ok && w && !(within(px, w.x, w.width) && within(pz, w.z, w.height))) ok = false;
-    if (!ok) {
-      perPath[chosen].clipped++;
-      clipped++;
-      continue;
-    }
-    const acc = fp.detector ? perDet.get(fp.detector.id) : undefined;
-    if (acc) {
-      opts.onHit?.(fp.detector!.id, px, pz, speeds[a]);
-      acc.hits++;
-      acc.xs.push(px);
-      acc.zs.push(pz);
+      if (chosen < 0) {
+        lostSpin++;
+        continue;
+      }
+      const { g, src, col, slope, fpl, w, acc } = geo[chosen];
+      const inv2 = 1 / (speeds[a] * speeds[a]);
+      const sx = src ? src.x + src.width * (buf[o + 1] - 0.5) : 0, sz = src ? src.z + src.height * (buf[o + 2] - 0.5) : 0;
+      const cx = col ? col.x + col.width * (buf[o + 3] - 0.5) : sx, cz = col ? col.z + col.height * (buf[o + 4] - 0.5) : sz;
+      perPath[chosen].atoms++;
+      let ok = true;
+      for (let k = 0; k < g.stripY.length; k++) {
+        const f = g.stripY[k] * slope;
+        const q = (g.stripX[k] ? sx + (cx - sx) * f : sz + (cz - sz) * f) + g.stripNum[k] * inv2;
+        if (q < g.stripLo[k] || q > g.stripHi[k]) {
+          ok = false;
+          break;
+        }
+      }
+      const px = sx + (cx - sx) * fpl + g.planeNumX * inv2, pz = sz + (cz - sz) * fpl + g.planeNumZ * inv2;
+      if (ok && w && !(within(px, w.x, w.width) && within(pz, w.z, w.height))) ok = false;
+      if (!ok) {
+        perPath[chosen].clipped++;
+        clipped++;
+        continue;
+      }
+      if (acc) {
+        onHit?.(geo[chosen].id, px, pz, speeds[a]);
+        acc.push(px, pz);
+      }
     }
   }
   if (negative < -1e-9) warnings.push(`a path's probability came out at ${negative.toExponential(1)} at some speed (round-off of the state); it was taken as 0`);
 
   const out: SimulatedDetector[] = detectors.map((d) => {
     const acc = perDet.get(d.id)!;
-    const f = acc.hits / atoms;
+    const n = acc.n;
+    const f = n / atoms;
     const eff = d.kind === 'detector' ? d.efficiency : 1;
     const bg = d.kind === 'detector' ? d.background : 0;
     const dwell = d.kind === 'detector' ? d.dwell : 1;
     const signal = flux * f * eff;
     const det: SimulatedDetector = {
-      id: d.id, hits: acc.hits, fraction: f, fractionSigma: Math.sqrt((f * (1 - f)) / atoms), signal,
+      id: d.id, hits: n, fraction: f, fractionSigma: Math.sqrt((f * (1 - f)) / atoms), signal,
       signalSigma: flux * eff * Math.sqrt((f * (1 - f)) / atoms), background: bg, dwell,
       counts: rng.poisson((signal + bg) * dwell),
     };
-    if (acc.hits > 0) {
-      const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
-      const mx = mean(acc.xs), mz = mean(acc.zs);
-      const rms = (xs: number[], m: number) => Math.sqrt(xs.reduce((s, x) => s + (x - m) ** 2, 0) / xs.length);
+    if (n > 0) {
+      const xs = acc.x.subarray(0, n), zs = acc.z.subarray(0, n);
+      let sx = 0, sz = 0;
+      for (let i = 0; i < n; i++) {
+        sx += xs[i];
+        sz += zs[i];
+      }
+      const mx = sx / n, mz = sz / n;
+      let qx = 0, qz = 0;
+      for (let i = 0; i < n; i++) {
+        qx += (xs[i] - mx) ** 2;
+        qz += (zs[i] - mz) ** 2;
+      }
       det.mean = { x: mx, z: mz };
-      det.rms = { x: rms(acc.xs, mx), z: rms(acc.zs, mz) };
-      det.map = hitMap(acc.xs, acc.zs, bins, d.kind === 'detector' ? d.window : undefined);
+      det.rms = { x: Math.sqrt(qx / n), z: Math.sqrt(qz / n) };
+      det.map = hitMap(xs, zs, bins, d.kind === 'detector' ? d.window : undefined);
     }
     return det;
   });
   return {
     format: 'spinyard.simulation', version: 1, title: line.title, atoms, seed, flux, detectors: out, paths: perPath,
     lost: { spin: lostSpin, clipped },
-    method: 'atoms drawn one by one: isotope by abundance, speed from the flux-weighted distribution (effusive exactly, v²/a² ~ Gamma(2, 1); supersonic by its tabulated inverse CDF; a table by its weights), start point uniform in the oven aperture and a point uniform in the path\'s first slit, one path by the Born rule at the atom\'s speed, deflection μ_eff G/M over each magnet, clipping at every later slit and pole gap and at the window; xoshiro128**, seeded',
+    method: 'atoms drawn one by one: isotope by abundance, speed from the flux-weighted distribution (effusive exactly, v²/a² ~ Gamma(2, 1), the sum of two ziggurat exponentials; supersonic by its tabulated inverse CDF; a table by its weights), start point uniform in the oven aperture and a point uniform in the path\'s first slit, one path by the Born rule at the atom\'s speed, deflection μ_eff G/M over each magnet, clipping at every later slit and pole gap and at the window; xoshiro128**, seeded, 32-bit uniforms drawn in blocks',
     warnings: [...warnings, ...result.warnings.filter((w) => /^invariant/.test(w))],
   };
 }
 
 /** A 2-D histogram of hits: over the window where the detector has one, else over the hits' range. */
-function hitMap(xs: readonly number[], zs: readonly number[], bins: number, window: Rect | undefined): HitMap {
-  const range = (vs: readonly number[], c: number | undefined, w: number | undefined): [number, number] => {
+function hitMap(xs: Float64Array, zs: Float64Array, bins: number, window: Rect | undefined): HitMap {
+  const range = (vs: Float64Array, c: number | undefined, w: number | undefined): [number, number] => {
     if (c !== undefined && w !== undefined) return [c - w / 2, c + w / 2];
     let lo = Infinity, hi = -Infinity;
-    for (const v of vs) {
-      lo = Math.min(lo, v);
-      hi = Math.max(hi, v);
+    for (let i = 0; i < vs.length; i++) {
+      const v = vs[i];
+      if (v < lo) lo = v;
+      if (v > hi) hi = v;
     }
     if (!(hi > lo)) return [lo - 5e-4, hi + 5e-4];
     const pad = (hi - lo) * 0.02;
@@ -342,5 +402,8 @@ function hitMap(xs: readonly number[], zs: readonly number[], bins: number, wind
 
 /** For the tests: the speed sampler of a distribution with its own seeded generator. */
 export const testing = {
-  speedSampler: (d: VelocityDistribution, seed: number): (() => number) => speedSampler(d, new Random(seed)),
+  speedSampler: (d: VelocityDistribution, seed: number): (() => number) => {
+    const rng = new Random(seed), f = speedSampler(d, rng);
+    return () => f(rng.nextUint32(), rng.nextUint32());
+  },
 };
