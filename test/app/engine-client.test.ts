@@ -87,3 +87,21 @@ describe('createEngineClient', () => {
     expect(made[1].posted.map((p) => p.seq)).toEqual([2]);
   });
 });
+
+describe('createEngineClient and the cost estimate', () => {
+  it('sends acceptCost with a run anyway (also one that waits), and hands on a refusal\'s estimate', () => {
+    const { made, make } = fakeWorkers();
+    const answers: EngineAnswer[] = [];
+    const c = createEngineClient(make, (a) => answers.push(a), () => {});
+    c.run(1, line('twist'));
+    expect(made[0].posted[0]).toEqual({ seq: 1, line: line('twist') });
+    const cost = { hard: false, estimate: { seconds: 220, bytes: 2.15e9, element: 'elements[5] (T1)', message: 'elements[5] (T1): this run would take about 4 min' } };
+    made[0].reply({ type: 'error', seq: 1, message: cost.estimate.message, cost });
+    expect(answers).toEqual([{ seq: 1, error: cost.estimate.message, cost }]);
+    c.run(2, line('twist'), true);
+    expect(made[0].posted[1]).toEqual({ seq: 2, line: line('twist'), acceptCost: true });
+    c.run(3, line('twist again'), true); // busy: waits, and keeps its acceptCost
+    made[0].reply({ type: 'result', seq: 2, result: result(0.1), ms: 1 });
+    expect(made[0].posted[2]).toEqual({ seq: 3, line: line('twist again'), acceptCost: true });
+  });
+});
