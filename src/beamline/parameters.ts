@@ -6,13 +6,15 @@
  * bound, default and derived value (an axis from its roll) is the reader's: a scan, a budget or a fit can never
  * build a line the reader would refuse.
  */
-import { checkBeamline, rereadBeamline } from './check.ts';
+import { checkBeamline, deepFreeze, rereadBeamline } from './check.ts';
+import { lengthOf } from './elements/registry.ts';
 import { readBeamlineText } from './text.ts';
 import { parameterName, parametersNear } from './studies.ts';
 import { type SpeciesResolver, readSpecies } from './speciesDoc.ts';
 import { beamlineMigrations } from './migrations.ts';
 import type { QuantityRead } from './read.ts';
-import type { Beamline, BeamlineDoc, Problem } from './types.ts';
+import type { Beamline, BeamlineDoc, Element, Problem } from './types.ts';
+import { CacheFamily } from '../physics/cache.ts';
 import { ATOMIC_MASS_UNIT_KG, type Dimension } from './units.ts';
 import type { LabelSpecies } from './labels.ts';
 import { quote } from './messages.ts';
@@ -97,8 +99,16 @@ export function parameterHint(p: ParameterizedLine, name: string): string {
  */
 export function lineWithValues(p: ParameterizedLine, values: ReadonlyMap<string, number> | Readonly<Record<string, number>>):
   { ok: true; line: Beamline; warnings: Problem[] } | { ok: false; problems: Problem[] } {
+  const r = valuesByPath(p, values);
+  if (!r.ok) return r;
+  if (!r.byPath.size) return { ok: true, line: p.line, warnings: [] };
+  return rereadBeamline(p.doc, p.line, p.species, r.byPath);
+}
+
+/** The values by their parameters' JSON paths, or a problem for each name that is no parameter or value that is not finite. */
+function valuesByPath(p: ParameterizedLine, values: ReadonlyMap<string, number> | Readonly<Record<string, number>>):
+  { ok: true; byPath: Map<string, number> } | { ok: false; problems: Problem[] } {
   const entries = values instanceof Map ? [...values.entries()] : Object.entries(values);
-  if (!entries.length) return { ok: true, line: p.line, warnings: [] };
   const byPath = new Map<string, number>();
   const problems: Problem[] = [];
   for (const [name, v] of entries) {
@@ -107,6 +117,93 @@ export function lineWithValues(p: ParameterizedLine, values: ReadonlyMap<string,
     else if (!Number.isFinite(v)) problems.push({ path: slot.path, message: `${slot.name} must be a finite number, got ${v}` });
     else byPath.set(slot.path, v);
   }
-  if (problems.length) return { ok: false, problems };
-  return rereadBeamline(p.doc, p.line, p.species, byPath);
+  return problems.length ? { ok: false, problems } : { ok: true, byPath };
+}
+
+/** A line read with some values (`lineWithValuesFrom`): the line and the values by JSON path. */
+export interface LineWithValues {
+  readonly line: Beamline;
+  readonly byPath: ReadonlyMap<string, number>;
+}
+
+/** The part of the line a parameter's JSON path lies in, as check.ts rereadBeamline groups them: an element's index, "oven" or "ambient". */
+function partOf(path: string): string {
+  const m = /^elements\[(\d+)\]/.exec(path);
+  return m ? m[1] : path.startsWith('oven') ? 'oven' : path.startsWith('ambient') ? 'ambient' : path;
+}
+
+/**
+ * `lineWithValues` read from an earlier result `from` of the same line: only the parts (elements, the oven, the
+ * ambient field) holding a value that differs from `from`'s are read again, every other part is `from.line`'s own
+ * object. The line equals the one `lineWithValues` reads, part for part; where nothing differs it is `from.line`
+ * itself. A scan's next point reads only what its step changed, and the engine recognises the parts it kept
+ * (engine/replay.ts).
+ */
+export function lineWithValuesFrom(p: ParameterizedLine, from: LineWithValues | undefined, values: ReadonlyMap<string, number> | Readonly<Record<string, number>>,
+  kept?: Map<string, Element>): { ok: true; value: LineWithValues } | { ok: false; problems: Problem[] } {
+  const r = valuesByPath(p, values);
+  if (!r.ok) return r;
+  const byPath = r.byPath;
+  // a value `from` had and this reading has not returns its part to the document's value: read from the line as written
+  let base = from;
+  if (base) for (const path of base.byPath.keys()) if (!byPath.has(path)) base = undefined;
+  if (!base) {
+    if (!byPath.size) return { ok: true, value: { line: p.line, byPath } };
+    const full = rereadBeamline(p.doc, p.line, p.species, byPath);
+    if (!full.ok) return full;
+    const keys = kept ? partKeys(new Set([...byPath.keys()].map(partOf)), byPath) : undefined;
+    if (keys) for (const [i, key] of keys) keptParts.put(kept!, key, full.line.elements[i]);
+    return { ok: true, value: { line: full.line, byPath } };
+  }
+  const changed = new Set<string>();
+  for (const [path, v] of byPath) if (!Object.is(base.byPath.get(path), v)) changed.add(partOf(path));
+  if (!changed.size) return { ok: true, value: { line: base.line, byPath } };
+  const subset = new Map<string, number>();
+  for (const [path, v] of byPath) if (changed.has(partOf(path))) subset.set(path, v);
+  // elements read before with the same values are taken as they were read (the same objects: what the engine
+  // derived from them, a magnet's sorting, serves again); the others are read again, and the line checked as a whole
+  const keys = kept ? partKeys(changed, subset) : undefined;
+  if (!keys) {
+    const part = rereadBeamline(p.doc, base.line, p.species, subset);
+    return part.ok ? { ok: true, value: { line: part.line, byPath } } : part;
+  }
+  const elements = base.line.elements.slice();
+  const missed = new Set<string>();
+  let samePlanes = true;
+  for (const [i, key] of keys) {
+    const el = kept!.get(key);
+    if (!el) {
+      keptParts.misses++;
+      missed.add(String(i));
+      continue;
+    }
+    keptParts.hits++;
+    const was = elements[i];
+    if (el.gap !== was.gap || lengthOf(el) !== lengthOf(was)) samePlanes = false;
+    elements[i] = el;
+  }
+  // the line's own check (check.ts checkFirstSlits) reads the gaps and lengths only: where the kept elements have
+  // those of the line they replace, which passed it, the line passes too
+  if (!missed.size && samePlanes) return { ok: true, value: { line: deepFreeze({ ...base.line, elements }), byPath } };
+  const rest = new Map<string, number>();
+  for (const [path, v] of subset) if (missed.has(partOf(path))) rest.set(path, v);
+  const read = rereadBeamline(p.doc, { ...base.line, elements }, p.species, rest);
+  if (!read.ok) return read;
+  for (const [i, key] of keys) if (missed.has(String(i))) keptParts.put(kept!, key, read.line.elements[i]);
+  return { ok: true, value: { line: read.line, byPath } };
+}
+
+/** The elements read with the same values, kept by each session (src/physics/cache.ts: bounded). */
+const keptParts = new CacheFamily('elements read with values', 256);
+
+/** For each changed part that is an element, its index and a key of its values; undefined where the oven or the ambient field changed. */
+function partKeys(changed: ReadonlySet<string>, subset: ReadonlyMap<string, number>): [number, string][] | undefined {
+  const out: [number, string][] = [];
+  for (const part of changed) {
+    if (!/^\d+$/.test(part)) return undefined;
+    let key = part;
+    for (const [path, v] of subset) if (partOf(path) === part) key += `\u0000${path}\u0000${Object.is(v, -0) ? '-0' : v}`;
+    out.push([Number(part), key]);
+  }
+  return out;
 }

@@ -14,12 +14,35 @@ import { type SpecState, type SpecTerm, type SharedAverages, addPhased, basisCol
 import { type BasisFactors, blocksGramEntries, blocksSandwich, gramOf } from './blocks.ts';
 import { workArray } from './work.ts';
 
-/** Caches χ(Φ) of one distribution (many leaves share frequencies). */
+/**
+ * What computing one average did to the run's CharCache: the table sums' speeds (and whether the WebAssembly kernel
+ * ran) and every χ looked up that keeps quadrature nodes, with its value and nodes. An average is kept with its
+ * state and may serve later runs (a scan's unchanged prefix); the first time a run uses it, the journal is applied
+ * to that run's cache as if the average were computed there, so the run reports the same nodes as one that
+ * computed everything itself.
+ */
+interface ChiJournal {
+  table: number;
+  wasm: boolean;
+  readonly phis: number[];
+  readonly values: CharValue[];
+}
+
+/** χ(φ) = re + i·im, its error and the quadrature nodes it took. */
+type CharValue = readonly [number, number, number, number];
+
+/** Caches χ(Φ) of one distribution (many leaves share frequencies); one per run and isotope. */
 export class CharCache {
-  private readonly map = new Map<number, [number, number, number]>();
+  private readonly map = new Map<number, CharValue>();
   nodes = 0;
   /** True once a table sum ran in the WebAssembly kernel (physics/kernels.ts). */
   wasm = false;
+  /** The averages this run has used (computed or kept from an earlier run). */
+  private readonly used = new WeakSet<Averaged>();
+  /** The journal of the average being computed. */
+  journal: ChiJournal | null = null;
+  /** Where a recorded walk lists the averages it uses (replay.ts), in order. */
+  trail: Averaged[] | null = null;
   constructor(readonly dist: VelocityDistribution) {}
   private readonly out = new Float64Array(3);
   /**
@@ -35,24 +58,63 @@ export class CharCache {
     o[2] = v[2];
     return o;
   }
-  get(phi: number): [number, number, number] {
-    if (phi === 0) return [1, 0, 0];
-    const hit = this.map.get(phi);
-    if (hit) return hit;
-    const c = charFunction(this.dist, phi, 0);
-    this.nodes += c.nodes;
-    const v: [number, number, number] = [c.re, c.im, c.error];
-    // a value read off the effusive panels (no quadrature nodes) is cheaper to evaluate again than to keep
-    if (c.nodes === 0) return v;
+  get(phi: number): CharValue {
+    if (phi === 0) return [1, 0, 0, 0];
+    let v = this.map.get(phi);
+    if (!v) {
+      const c = charFunction(this.dist, phi, 0);
+      this.nodes += c.nodes;
+      v = [c.re, c.im, c.error, c.nodes];
+      // a value read off the effusive panels (no quadrature nodes) is cheaper to evaluate again than to keep
+      if (c.nodes === 0) return v;
+      this.keep(phi, v);
+    }
+    if (this.journal) {
+      this.journal.phis.push(phi);
+      this.journal.values.push(v);
+    }
+    return v;
+  }
+  private keep(phi: number, v: CharValue): void {
     if (this.map.size > 200_000) this.map.clear();
     this.map.set(phi, v);
-    return v;
+  }
+  /** The table sums of one average: their speeds as nodes. */
+  tableSum(speeds: number, wasm: boolean): void {
+    this.nodes += speeds;
+    if (wasm) this.wasm = true;
+    if (this.journal) {
+      this.journal.table += speeds;
+      if (wasm) this.journal.wasm = true;
+    }
+  }
+  /**
+   * A run uses an average (`computed`: it has just computed it with this cache); the first time, what computing it
+   * did to the cache is done to this one (ChiJournal).
+   */
+  use(avg: Averaged, computed = false): void {
+    this.trail?.push(avg);
+    if (this.used.has(avg)) return;
+    this.used.add(avg);
+    if (computed) return;
+    const j = avg.journal;
+    if (!j) return;
+    this.nodes += j.table;
+    if (j.wasm) this.wasm = true;
+    for (let i = 0; i < j.phis.length; i++) {
+      const phi = j.phis[i];
+      if (this.map.has(phi)) continue;
+      this.nodes += j.values[i][3];
+      this.keep(phi, j.values[i]);
+    }
   }
 }
 
 export interface Averaged {
   /** A (r×r): the beam average of the state in its basis W. */
   readonly A: CMat;
+  /** What computing A did to the run's CharCache (CharCache.use). */
+  readonly journal?: ChiJournal;
   readonly error: number;
   readonly hermiticity: number;
   /** False when A has an eigenvalue below −(1e-12·Tr A + 1e-15) (fractions of the oven flux). */
@@ -62,7 +124,25 @@ export interface Averaged {
 /** A = Σ_t X_t ∘ χ(φ_t + Ω), computed once per state (module doc). */
 export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
   const hit = st.shared.avg;
-  if (hit) return hit;
+  if (hit) {
+    chi.use(hit);
+    return hit;
+  }
+  const journal: ChiJournal = { table: 0, wasm: false, phis: [], values: [] };
+  const outer = chi.journal;
+  chi.journal = journal;
+  try {
+    const res = averageBasis(st, chi, journal);
+    st.shared.avg = res;
+    chi.use(res, true);
+    return res;
+  } finally {
+    chi.journal = outer;
+  }
+}
+
+/** specAverageBasis's computation (chi writes what it looks up into the journal of the average). */
+function averageBasis(st: SpecState, chi: CharCache, journal: ChiJournal): Averaged {
   const r = basisCols(st);
   const A = cmatZeros(r, r);
   let error = 0;
@@ -73,8 +153,7 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
   let vmin = 0;
   if ((d.kind === 'table' || d.kind === 'fixed') && st.mu) {
     const speeds = d.kind === 'fixed' ? Float64Array.of(d.speed) : d.speeds;
-    if (separableAverage(st, speeds, d.kind === 'fixed' ? Float64Array.of(1) : d.weights, A)) chi.wasm = true;
-    chi.nodes += d.kind === 'fixed' ? 1 : d.speeds.length;
+    chi.tableSum(d.kind === 'fixed' ? 1 : d.speeds.length, separableAverage(st, speeds, d.kind === 'fixed' ? Float64Array.of(1) : d.weights, A));
     vmin = Infinity;
     for (let k = 0; k < speeds.length; k++) vmin = Math.min(vmin, speeds[k]);
   } else {
@@ -114,9 +193,7 @@ export function specAverageBasis(st: SpecState, chi: CharCache): Averaged {
   const delta = 1e-12 * Math.abs(tr) + 1e-15 + error;
   // the rounding bound is formed only where the plain test fails (it costs a pass over the terms)
   const positive = isPositive(A, delta) || (vmin > 0 && isPositive(A, delta + phaseRounding(st, r) / vmin));
-  const res = { A, error, hermiticity: herm, positive };
-  st.shared.avg = res;
-  return res;
+  return { A, error, hermiticity: herm, positive, journal };
 }
 
 /** 8 ε Σ_t Σ_ab |X_t,ab| |φ_t + Ω_ab| (rad·m/s): over the slowest speed, a bound on what rounding the phases moves A by. */

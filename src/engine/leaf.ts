@@ -15,10 +15,15 @@ import type { Walk, WalkCtx } from './steps/step.ts';
  */
 export const MAX_LEAVES = 20_000;
 
-export function finishLeaf(ctx: WalkCtx, st: State, walk: Walk, target: string, det: Detector | null): void {
+/** The run's error when one more leaf (this path, ending at `target`) would pass MAX_LEAVES. */
+export function checkLeafCount(ctx: WalkCtx, path: readonly string[], target: string): void {
   if (ctx.leaves.length >= MAX_LEAVES) {
-    throw new RunError(`the line has more than ${MAX_LEAVES.toLocaleString('en-US')} paths to follow (this one ends at ${target} after ${walk.path.length} magnet ports: ${walk.path.slice(0, 6).join(' ')}${walk.path.length > 6 ? ' …' : ''}): every magnet that deflects splits a path into its states, and every port routed onward, RF entry phase and isotope multiplies the paths behind it; route the ports you do not measure to "stop", or split the line into parts`);
+    throw new RunError(`the line has more than ${MAX_LEAVES.toLocaleString('en-US')} paths to follow (this one ends at ${target} after ${path.length} magnet ports: ${path.slice(0, 6).join(' ')}${path.length > 6 ? ' …' : ''}): every magnet that deflects splits a path into its states, and every port routed onward, RF entry phase and isotope multiplies the paths behind it; route the ports you do not measure to "stop", or split the line into parts`);
   }
+}
+
+export function finishLeaf(ctx: WalkCtx, st: State, walk: Walk, target: string, det: Detector | null): void {
+  checkLeafCount(ctx, walk.path, target);
   let yieldSpin: number;
   let yieldError = 0;
   let grid: FinePath['grid'];

@@ -12,9 +12,10 @@ import { type ParameterSlot, type ParameterizedLine, lineWithValues, parameteriz
 import { librarySpecies } from '../beamline/validate.ts';
 import { dimensionName, parseQuantity, isProblem } from '../beamline/units.ts';
 import type { SpeciesResolver } from '../beamline/speciesDoc.ts';
-import type { Beamline, BeamlineDoc } from '../beamline/types.ts';
+import type { Beamline, BeamlineDoc, Problem } from '../beamline/types.ts';
 import { runLine, RunError, type RunOptions } from './run.ts';
 import type { RunResult } from './result.ts';
+import { EvaluationSession } from './replay.ts';
 
 export type { ParameterSlot } from '../beamline/parameters.ts';
 
@@ -57,19 +58,32 @@ export function parameterValue(slot: ParameterSlot, text: string, what: string):
 /** The line of `plan` with the named parameters at these SI values; a RunError naming the parameter when the reader refuses one. */
 export function lineAt(plan: Plan, values: ReadonlyMap<string, number> | Readonly<Record<string, number>>): Beamline {
   const r = lineWithValues(plan.source, values);
-  if (!r.ok) {
-    const named = r.problems.map((p) => {
-      const slot = plan.source.byName.get(p.path);
-      return slot && slot.name !== p.path ? `${slot.name} (${formatProblem(p)})` : formatProblem(p);
-    });
-    throw new RunError(named.join('; '));
-  }
+  if (!r.ok) throw refused(plan, r.problems);
   return r.line;
 }
 
-/** Run the line of `plan` with the named parameters at these SI values (none: the line as written). */
+/** The reader's refusals as one RunError, each naming its parameter. */
+function refused(plan: Plan, problems: readonly Problem[]): RunError {
+  const named = problems.map((p) => {
+    const slot = plan.source.byName.get(p.path);
+    return slot && slot.name !== p.path ? `${slot.name} (${formatProblem(p)})` : formatProblem(p);
+  });
+  return new RunError(named.join('; '));
+}
+
+/**
+ * Run the line of `plan` with the named parameters at these SI values (none: the line as written). With an
+ * EvaluationSession in `opts.session` (replay.ts), only the parts whose values differ from the session's last line
+ * are read again, and the walk replays what a recorded run of the same objects did: the result is the same, bit for bit.
+ */
 export function evaluate(plan: Plan, values: ReadonlyMap<string, number> | Readonly<Record<string, number>> = {}, opts: RunOptions = {}): RunResult {
-  const result = runLine(lineAt(plan, values), opts);
+  let line: Beamline;
+  if (opts.session instanceof EvaluationSession) {
+    const r = opts.session.lineAt(plan.source, values);
+    if (!r.ok) throw refused(plan, r.problems);
+    line = r.line;
+  } else line = lineAt(plan, values);
+  const result = runLine(line, opts);
   if (plan.warnings.length) result.warnings.unshift(...plan.warnings);
   return result;
 }

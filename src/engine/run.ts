@@ -24,6 +24,7 @@ import { visit, visitBundle } from './walk.ts';
 import { MAX_BUNDLE } from './merge.ts';
 import { costLimit, estimateRun, type CostEstimate } from './cost.ts';
 import type { WalkCtx } from './steps/step.ts';
+import type { WalkSession } from './replay.ts';
 
 export { RunError, CancelledError } from './errors.ts';
 
@@ -42,6 +43,8 @@ export interface RunOptions {
    * MERGE_FRACTION, 0.01); 0 follows every sorted state on its own.
    */
   mergeFraction?: number;
+  /** Evaluations of one line that share the walk's unchanged part (replay.ts EvaluationSession; a scan passes one). */
+  session?: WalkSession;
   /** Run even where the estimated cost is above the ask limit (cost.ts ASK_SECONDS); the refusal limits still hold. */
   acceptCost?: boolean;
   /** Receives the cost estimate made before the walk (cost.ts). */
@@ -75,6 +78,8 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   const counter = { steps: 0 };
   const progress = opts.onProgress && estimate.steps > 0 ? { total: estimate.steps, share: 0.8, report: opts.onProgress } : undefined;
   const dists: VelocityDistribution[] = [];
+  // a session replays the part of the walk a recorded run shares with this line (replay.ts)
+  const walker = opts.session?.walker(line);
   systems.forEach(({ system, fraction }, i) => {
     const dist = distributionFor(line, system);
     dists.push(dist);
@@ -91,12 +96,15 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
       source: ap ? { width: ap.width, height: ap.height, x: ap.x, z: ap.z } : null,
       collimator: null, kicks: [], strips: [], components: [],
     };
-    visit(ctx, line.oven.to, st0, { path: [], rank: [i], y: 0, track, depth: 0 });
+    const walk0 = { path: [], rank: [i], y: 0, track, depth: 0 };
+    if (walker) walker.walk(ctx, i, st0, walk0);
+    else visit(ctx, line.oven.to, st0, walk0);
     chiNodes += chi.nodes;
     if (chi.wasm) wasmUsed = true;
     chiError += 0;
     if (!progress) opts.onProgress?.((i + 1) / (systems.length + 1));
   });
+  walker?.done();
   opts.onProgress?.(0.8);
   if (line.oven.velocity.kind === 'table' && !opts.light) checkTable(line, leaves, warnings);
   for (const [path, u] of sampled.unconverged) {

@@ -12,6 +12,7 @@ import type { Dimension } from '../beamline/units.ts';
 import { evaluate, parameter, type Plan } from './plan.ts';
 import { runLine, RunError, CancelledError, type RunOptions } from './run.ts';
 import type { RunResult } from './result.ts';
+import { EvaluationSession } from './replay.ts';
 
 /** One scanned parameter: `points` values from `from` to `to` (SI), equally spaced or spaced by equal ratios. */
 export interface ScanAxis {
@@ -105,7 +106,19 @@ export function scanParameters(plan: Plan, axes: readonly ScanAxis[]): ScanParam
   return out;
 }
 
-/** One point of a scan (a worker evaluates its share of them with this). */
+/**
+ * The evaluation session of a plan's scans (replay.ts): a point reads again only the parts its values changed, and
+ * walks only the part of the line behind the element they belong to. Kept with the plan, so a worker's share of
+ * points and the app's scans of one plan share it.
+ */
+const sessions = new WeakMap<Plan, EvaluationSession>();
+function sessionOf(plan: Plan): EvaluationSession {
+  let s = sessions.get(plan);
+  if (!s) sessions.set(plan, (s = new EvaluationSession()));
+  return s;
+}
+
+/** One point of a scan (a worker evaluates its share of them with this); the same numbers as `evaluate` at its values. */
 export function scanPoint(plan: Plan, params: readonly ScanParameterResult[], index: readonly number[], warnings: Map<string, number>, opts: RunOptions = {}): ScanPoint {
   const values = params.map((p, k) => p.values[index[k]]);
   const point: ScanPoint = { index: [...index], values };
@@ -113,7 +126,7 @@ export function scanPoint(plan: Plan, params: readonly ScanParameterResult[], in
   params.forEach((p, k) => (set[p.name] = values[k]));
   let r: RunResult;
   try {
-    r = evaluate(plan, set, { ...opts, onProgress: undefined, light: true });
+    r = evaluate(plan, set, { ...opts, onProgress: undefined, light: true, session: opts.session ?? sessionOf(plan) });
   } catch (err) {
     if (err instanceof RunError && !(err instanceof CancelledError)) {
       point.error = err.message;

@@ -26,10 +26,35 @@ function checkCancel(ctx: WalkCtx): void {
   if (p) p.report(p.share * Math.min(0.99, ctx.counter.steps / p.total));
 }
 
+/**
+ * Where a recorded walk hands over (replay.ts): on reaching element `id` in the run of `ctx`, the walk calls `reach`
+ * (or `reachBundle` for a bundle of more than one path) instead of going on, and `reach` continues from there.
+ */
+export interface WalkCut {
+  readonly ctx: WalkCtx;
+  readonly id: string;
+  reach(ctx: WalkCtx, st: State, walk: Walk): void;
+  reachBundle(ctx: WalkCtx, members: readonly Member[]): void;
+}
+
+/** The cut of the walk under way (one walk runs at a time in a thread; its ctx is checked as well). */
+let activeCut: WalkCut | null = null;
+
+/** Sets (or, with null, clears) the cut of the walk under way; returns the one it replaces. */
+export function setWalkCut(cut: WalkCut | null): WalkCut | null {
+  const before = activeCut;
+  activeCut = cut;
+  return before;
+}
+
 export function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void {
   // a loop along the single outputs (a chain of any length runs in constant stack); a step that forks (a magnet's
   // ports) or walks a subtree more than once (RF flipper, field twist) calls visit again for each branch
   for (;;) {
+    if (activeCut !== null && target === activeCut.id && activeCut.ctx === ctx) {
+      activeCut.reach(ctx, st, walk);
+      return;
+    }
     checkCancel(ctx);
     if (walk.depth > 512) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than 512 elements along one path (a cycle?)`);
     if (target === 'stop') {
@@ -69,6 +94,10 @@ export function visitBundle(ctx: WalkCtx, target: string, members: readonly Memb
   for (;;) {
     if (members.length === 1) {
       visit(ctx, target, members[0].st, members[0].walk);
+      return;
+    }
+    if (activeCut !== null && target === activeCut.id && activeCut.ctx === ctx) {
+      activeCut.reachBundle(ctx, members);
       return;
     }
     checkCancel(ctx);
