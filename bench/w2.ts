@@ -10,18 +10,20 @@ import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { loadavg } from 'node:os';
 import { compile, scan, type ScanResult } from '../src/engine/index.ts';
+import { EvaluationSession } from '../src/engine/replay.ts';
 
 export interface W2Expected { b_T: number[]; alpha_deg: number[]; result: [number, number][][] }
 
 /** W2's map by the engine: the scan result and the 100 × 100 × 2 yields of D1 and D2 (row b, column α). */
-export function w2Map(peersDir: string, expected: W2Expected): { scan: ScanResult; result: [number, number][][]; maxdiff: number } {
+export function w2Map(peersDir: string, expected: W2Expected, session = new EvaluationSession()): { scan: ScanResult; result: [number, number][][]; maxdiff: number } {
   const c = compile(readFileSync(join(peersDir, 'w1.spinyard'), 'utf8'));
   if (!c.ok) throw new Error(c.problems.join('\n'));
   const nb = expected.b_T.length, na = expected.alpha_deg.length;
+  // the scan's own session, passed to count its walks (src/engine/replay.ts)
   const s = scan(c.plan, [
     { name: 'F1.field.x', from: expected.b_T[0], to: expected.b_T[nb - 1], points: nb },
     { name: 'M2.axis.roll', from: expected.alpha_deg[0] * Math.PI / 180, to: expected.alpha_deg[na - 1] * Math.PI / 180, points: na },
-  ]);
+  ], { session });
   const result: [number, number][][] = Array.from({ length: nb }, () => []);
   let maxdiff = 0;
   for (const p of s.points) {
@@ -38,11 +40,12 @@ export function benchW2(peersDir: string, jsonOut: string | null, peers: boolean
   const expected = JSON.parse(readFileSync(join(peersDir, 'w2-expected.json'), 'utf8')) as W2Expected;
   const out: string[] = [];
   const timed = () => {
+    const session = new EvaluationSession();
     const c0 = process.cpuUsage();
     const t0 = performance.now();
-    const r = w2Map(peersDir, expected);
+    const r = w2Map(peersDir, expected, session);
     const c = process.cpuUsage(c0);
-    return { ...r, seconds: (performance.now() - t0) / 1000, cpu: (c.user + c.system) / 1e6 };
+    return { ...r, seconds: (performance.now() - t0) / 1000, cpu: (c.user + c.system) / 1e6, walks: session.stats };
   };
   out.push(`load average: ${loadavg().map((x) => x.toFixed(2)).join(', ')}`);
   const first = timed();
@@ -52,6 +55,7 @@ export function benchW2(peersDir: string, jsonOut: string | null, peers: boolean
     const r = timed();
     if (r.seconds < best.seconds) best = r;
   }
+  out.push(`walks of the points: ${best.walks.recorded} whole and recorded, ${best.walks.replayed} replayed from a record, ${best.walks.plain} whole without one (src/engine/replay.ts)`);
   out.push(`W2 on the engine's 2-D scan, one thread: best of 3 = ${best.seconds.toFixed(3)} s for ${expected.b_T.length * expected.alpha_deg.length} points (${(best.seconds * 1000 / (expected.b_T.length * expected.alpha_deg.length)).toFixed(3)} ms per point; CPU ${best.cpu.toFixed(3)} s), max |Δ| vs w2-expected.json = ${best.maxdiff.toExponential(2)} (check 1e-6: ${best.maxdiff <= 1e-6 ? 'pass' : 'FAIL'})`);
   if (peers) {
     const r = spawnSync('/usr/bin/python3', [join(peersDir, 'peer_numpy_w2.py')], { encoding: 'utf8', env: { ...process.env, OPENBLAS_NUM_THREADS: '1' }, timeout: 600_000 });
