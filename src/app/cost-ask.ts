@@ -4,7 +4,7 @@
 // scan, budget, fit or simulated run started from a panel; the second is only reported.
 import type { CostAsk, CostFigures } from './engine-protocol.ts';
 import type { PlanKind } from './plan-client.ts';
-import { fmt, fmtTime } from './format.ts';
+import { formatBytes, formatSeconds } from '../engine/index.ts';
 
 /** What was refused: the live run of the edited line, or a planning tool's request. */
 export type CostWhat = 'run' | PlanKind;
@@ -19,14 +19,6 @@ export interface CostQuestion {
 /** True for a refusal the user may overrule (above the ask limit, below the hard one). */
 export function asksFirst(cost: CostAsk | undefined): cost is CostAsk {
   return cost !== undefined && !cost.hard;
-}
-
-/** Bytes in kB, MB or GB (decimal), three figures. */
-export function fmtBytes(b: number): string {
-  if (!Number.isFinite(b) || b < 0) return '—';
-  if (b < 1e6) return `${fmt(Math.max(b, 1e3) / 1e3, 3)} kB`;
-  if (b < 1e9) return `${fmt(b / 1e6, 3)} MB`;
-  return `${fmt(b / 1e9, 3)} GB`;
 }
 
 const SUBJECT: Record<CostWhat, string> = {
@@ -53,7 +45,7 @@ export function costTitle(what: CostWhat): string {
 /** The question in words: "This run would take about 40 s and 1.2 GB of memory because of elements[13] (M14): …". */
 export function costSentence(what: CostWhat, e: CostFigures): string {
   const reason = e.reason ? `: ${e.reason}` : '';
-  return `${SUBJECT[what]} would take about ${fmtTime(e.seconds)} and ${fmtBytes(e.bytes)} of memory because of ${e.element}${reason}.`;
+  return `${SUBJECT[what]} would take about ${formatSeconds(e.seconds)} and ${formatBytes(e.bytes)} of memory because of ${e.element}${reason}.`;
 }
 
 /** The engine's refusal as the worker posts it: the estimate and whether it is hard, from the error it threw. */

@@ -2,7 +2,7 @@
 // the question's words, and the live run and the planning requests answering with the estimate (engine-serve.ts,
 // plan-serve.ts), run in Node as the worker runs them. The lines are the engine's own cost fixtures (cost-fixtures.ts).
 import { describe, expect, it } from 'vitest';
-import { asksFirst, costOf, costSentence, costTitle, fmtBytes } from '../../src/app/cost-ask.ts';
+import { asksFirst, costOf, costSentence, costTitle } from '../../src/app/cost-ask.ts';
 import { checkRunCost, CostLimitError, readDocument, RunError, type Beamline } from '../../src/app/core-adapter.ts';
 import { serveEngineRequest } from '../../src/app/engine-serve.ts';
 import { createPlanServer } from '../../src/app/plan-serve.ts';
@@ -57,13 +57,6 @@ describe('the engine\'s refusal by cost, as the app asks about it', () => {
     expect(costOf({ estimate: { seconds: 'soon' }, hard: false })).toBeUndefined();
   });
 
-  it('writes memory in kB, MB or GB', () => {
-    expect(fmtBytes(512)).toBe('1 kB');
-    expect(fmtBytes(4.2e6)).toBe('4.2 MB');
-    expect(fmtBytes(2.68e8)).toBe('268 MB');
-    expect(fmtBytes(3.5e9)).toBe('3.5 GB');
-    expect(fmtBytes(Number.NaN)).toBe('—');
-  });
 });
 
 describe('the live run refused by cost', () => {

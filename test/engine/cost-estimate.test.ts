@@ -9,7 +9,7 @@ import { resolve } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { parseBeamlineText } from '../../src/beamline/index.ts';
 import type { Beamline } from '../../src/beamline/types.ts';
-import { ASK_SECONDS, CostLimitError, REFUSE_SECONDS, costLimit, estimateRun, type CostEstimate } from '../../src/engine/cost.ts';
+import { ASK_SECONDS, CostLimitError, REFUSE_SECONDS, costLimit, estimateRun, formatBytes, formatSeconds, type CostEstimate } from '../../src/engine/cost.ts';
 import { runLine } from '../../src/engine/run.ts';
 import { speciesSystems } from '../../src/engine/system.ts';
 
@@ -161,6 +161,11 @@ describe('the cost estimate before a run', () => {
     expect(costLimit(c(REFUSE_SECONDS * 2), true)?.hard).toBe(true);
     expect(costLimit(c(1, 1e10), true)?.hard).toBe(true);
     expect(costLimit(c(ASK_SECONDS * 2), false)?.message).toMatch(/^elements\[0\] \(M1\): this run would take about 20 s and 1 MB \(1 path\), mostly at elements\[0\] \(M1\): a reason/);
+  });
+
+  it('writes its times and memory as a person reads an estimate (the app\'s question uses the same words)', () => {
+    expect([0.42, 9.5, 12.4, 219.6, 5400, 3 * 86400].map(formatSeconds)).toEqual(['0.42 s', '9.5 s', '12 s', '4 min', '1.5 h', '3 days']);
+    expect([512, 4.2e6, 2.68e8, 2.15e9].map(formatBytes)).toEqual(['1 kB', '4 MB', '268 MB', '2.1 GB']);
   });
 
   it('reports the walk\'s progress rising to 1', () => {
