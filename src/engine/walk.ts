@@ -20,10 +20,11 @@ function elementPath(ctx: WalkCtx, id: string): string {
 }
 
 function checkCancel(ctx: WalkCtx): void {
-  if (++ctx.counter.steps % 64 !== 0) return;
-  if (ctx.opts.isCancelled?.()) throw new CancelledError('cancelled');
+  const n = ++ctx.counter.steps;
   const p = ctx.progress;
-  if (p) p.report(p.share * Math.min(0.99, ctx.counter.steps / p.total));
+  // a line of few steps reports each (behind a field twist one step may take seconds)
+  if (p && (n % 64 === 0 || p.total < 1024)) p.report(p.share * Math.min(0.99, n / p.total));
+  if (n % 64 === 0 && ctx.opts.isCancelled?.()) throw new CancelledError('cancelled');
 }
 
 /**
