@@ -10,7 +10,9 @@ import { polygonCdfFlat, cdfAtFlat, planeCoefficients } from './geometry.ts';
 import type { LeafResult, DetectorResult, NeighbourVerdict, CrosstalkEntry } from './result.ts';
 import { countSigma, countsIn, signalToBackground, timeToPrecision } from './counting.ts';
 import { leafCentreLine } from './centre-line.ts';
-import { type FineGeo, type FinePath, GEOMETRY_PANELS, GEOMETRY_TOLERANCE, NO_NODES, convergedGeometry, hasGeometry, nodeFraction } from './subbeam.ts';
+import {
+  type AxisNodes, type FineGeo, type FinePath, type PlaneWindow, GEOMETRY_MAX_PANELS, GEOMETRY_TOLERANCE, NO_NODES, convergedGeometry, densityShape, hasGeometry, nodeFraction,
+} from './subbeam.ts';
 
 export type { FinePath, Track, Kick } from './subbeam.ts';
 
@@ -24,8 +26,11 @@ interface LeafAcc {
   yieldSpin: number;
 }
 
+/** How a sub-beam's geometry is averaged over the speeds: convergedGeometry, or (in the tests) a reference grid. */
+export type GeometryOf = (f: FinePath, others: readonly PlaneWindow[]) => { geo: FineGeo; change?: number };
+
 /** Builds the result's leaves and detectors from the run's paths (see module doc). */
-export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsilon: number, _lost: { spin: number }): {
+export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsilon: number, _lost: { spin: number }, geometryOf: GeometryOf = convergedGeometry): {
   leaves: LeafResult[]; detectors: DetectorResult[]; clipped: number; nodes: number; chiError: number; warnings: string[];
 } {
   const warnings: string[] = [];
@@ -33,6 +38,15 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
   const geometry = fines.some(hasGeometry);
   const accs = new Map<string, LeafAcc>();
   let clipped = 0, nodes = 0, chiError = 0;
+  // the windows of the run's detectors with their planes: a sub-beam bound for a detector is averaged for the share of it
+  // each other window on its plane catches too (its crosstalk there)
+  const windows: PlaneWindow[] = [];
+  if (geometry) {
+    for (const f of fines) {
+      const det = f.detector;
+      if (det?.window && !windows.some((w) => w.id === det.id)) windows.push({ id: det.id, window: det.window, y: f.plane });
+    }
+  }
   for (const f of fines) {
     chiError += f.yieldError ?? 0;
     const key = `${f.path.join('|')}→${f.target}`;
@@ -48,7 +62,8 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
         a.fines.push({ fine: f, yieldGeo: f.yieldSpin, captured: 1, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: NO_NODES });
         continue;
       }
-      const { geo: g, change } = convergedGeometry(f);
+      const others = f.detector ? windows.filter((w) => w.id !== f.target && Math.abs(w.y - f.plane) <= 1e-3) : [];
+      const { geo: g, change } = geometryOf(f, others);
       if (change !== undefined) unconverged.push(`${f.path.join(' ')} → ${f.target}: ${change.toExponential(1)}`);
       nodes += g.nodes.count;
       clipped += f.yieldSpin - g.yieldGeo;
@@ -124,7 +139,7 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
     warnings.push('geometry: behind a deflecting magnet the rms spread of an effusive beam is set by its slowest atoms (⟨1/v⁴⟩ diverges for a v³ flux distribution); the spreads and profiles shown leave out v < 0.05·√(2kT/M), 3e-6 of the flux, which in a real line ends on an aperture');
   }
   if (unconverged.length) {
-    warnings.push(`geometry: the detector-plane average over the speeds did not settle to ${GEOMETRY_TOLERANCE} of the sub-beam's flux on ${GEOMETRY_PANELS[GEOMETRY_PANELS.length - 1] * 8} speeds for ${unconverged.length} sub-beam${unconverged.length === 1 ? '' : 's'} (the last change: ${unconverged.slice(0, 3).join('; ')}${unconverged.length > 3 ? '; …' : ''}); their transmitted and captured fractions carry that error`);
+    warnings.push(`geometry: the detector-plane average over the speeds did not settle to ${GEOMETRY_TOLERANCE} of the sub-beam's flux on ${GEOMETRY_MAX_PANELS * 7} speeds for ${unconverged.length} sub-beam${unconverged.length === 1 ? '' : 's'} (the last change: ${unconverged.slice(0, 3).join('; ')}${unconverged.length > 3 ? '; …' : ''}); their transmitted and captured fractions carry that error`);
   }
   return { leaves, detectors, clipped, nodes, chiError, warnings };
 }
@@ -144,6 +159,12 @@ function crosstalkFor(det: Detector, plane: number, leaves: readonly LeafResult[
     let inside = 0;
     for (const g of acc.fines) {
       const ns = g.nodes;
+      // the share the sub-beam's own average took for this window, or node by node
+      const known = g.inside?.get(det.id);
+      if (known !== undefined) {
+        inside += g.fine.yieldSpin * known;
+        continue;
+      }
       let s = 0;
       if (ns.count > 0) {
         const ax = ns.x!, az = ns.z!;
@@ -179,8 +200,7 @@ let cdfT = new Float64Array(32), cdfF = new Float64Array(32), cdfG = new Float64
  * lo + i·dx, to dens (F the piecewise-quadratic CDF of cdfAtFlat with m breakpoints). Bins wholly
  * below or above the node's polygon add exactly nothing and are passed over.
  */
-function addNodeHistogram(dens: Float64Array, bins: number, lo: number, dx: number, d: number, scale: number, m: number): void {
-  const t = cdfT, f = cdfF, g = cdfG;
+function addNodeHistogram(dens: Float64Array, bins: number, lo: number, dx: number, d: number, scale: number, m: number, t: Float64Array, f: Float64Array, g: Float64Array): void {
   const t0 = t[0], tn = t[m - 1], fn = f[m - 1];
   // first bin whose upper edge can lie above t0 (two bins of margin against rounding)
   let i = Math.max(0, Math.floor((t0 + d - lo) / dx) - 2);
@@ -203,6 +223,89 @@ function addNodeHistogram(dens: Float64Array, bins: number, lo: number, dx: numb
     else if (x >= tn) return;
     prev = cur;
   }
+}
+
+/** The most speeds one node of a profile is swept over. */
+const MAX_STRETCH_SPEEDS = 256;
+// the weights and interpolation fractions of the speeds a node is swept over
+const SUB_RHO = new Float64Array(MAX_STRETCH_SPEEDS), SUB_LAM = new Float64Array(MAX_STRETCH_SPEEDS);
+
+// the profile CDFs (polygonCdfFlat) of three neighbouring nodes while a sub-beam's nodes are swept, node j in slot j mod 3
+interface NodeCdf { j: number; t: Float64Array; f: Float64Array; g: Float64Array; m: number }
+const SWEEP: readonly NodeCdf[] = [0, 1, 2].map(() => ({ j: -1, t: new Float64Array(32), f: new Float64Array(32), g: new Float64Array(32), m: 0 }));
+
+/** Node j's profile CDF along (α, β) (m = 0 when nothing passes). */
+function nodeCdf(ra: AxisNodes, j: number, al: number, be: number): NodeCdf {
+  const c = SWEEP[j % 3];
+  if (c.j === j) return c;
+  c.j = j;
+  const ir = ra.fixed ? 0 : j, n = ra.len[ir];
+  if (n < 3) { c.m = 0; return c; }
+  if (c.t.length < n) { c.t = new Float64Array(2 * n); c.f = new Float64Array(2 * n); c.g = new Float64Array(2 * n); }
+  c.m = polygonCdfFlat(ra.pool, ra.off[ir], n, ra.area0, al, be, c.t, c.f, c.g);
+  return c;
+}
+
+/**
+ * One sub-beam's profile added to dens, from its nodes (in increasing speed, each with its quadrature cell). A node whose
+ * cell deflects by less than an eighth of a bin (d ∝ 1/v² from one end of the cell to the other) is laid down at its
+ * deflection with its weight, as the average over the speeds has it. A node whose cell deflects more (the slow tail, where
+ * a grid that resolves the fractions has few speeds across many bins) is swept over its cell: at speeds an eighth of a bin
+ * of deflection apart, with the exact deflection there, the flux density of the distribution times the path's trace
+ * interpolated linearly to the next node, and the two nodes' polygons weighted linearly; the node's weight is kept.
+ */
+function addSweptProfile(dens: Float64Array, bins: number, lo: number, dx: number, g: FineGeo, ra: AxisNodes, oa: AxisNodes, dd: Float64Array, al: number, be: number): void {
+  const ns = g.nodes, v = ns.v!, cl = ns.cellLo!, ch = ns.cellHi!, n = ns.count;
+  const dist = g.fine.dist, y = g.fine.yieldSpin;
+  for (const c of SWEEP) c.j = -1;
+  // the deflection along the profile's axis is C/v² at every node of the sub-beam
+  const C = dd[0] * v[0] * v[0];
+  for (let j = 0; j < n; j++) {
+    const oj = oa.tr[oa.fixed ? 0 : j];
+    const scale = (y * ns.w[j] * oj) / dx;
+    if (scale === 0) continue;
+    const a = cl[j], b = ch[j];
+    const span = a > 0 && b > a ? Math.abs(C) * (1 / (a * a) - 1 / (b * b)) : 0;
+    const cj = nodeCdf(ra, j, al, be);
+    if (!(span > dx / 8)) {
+      if (cj.m > 0) addNodeHistogram(dens, bins, lo, dx, dd[j], scale, cj.m, cj.t, cj.f, cj.g);
+      continue;
+    }
+    const sub = Math.min(MAX_STRETCH_SPEEDS, Math.ceil(span / (dx / 8)));
+    const tj = traceFactor(ns, j, dist);
+    const tBelow = j > 0 ? traceFactor(ns, j - 1, dist) : 0, tAbove = j + 1 < n ? traceFactor(ns, j + 1, dist) : 0;
+    // the weights of the speeds, then the node's weight shared in their proportions
+    let sum = 0;
+    for (let s = 0; s < sub; s++) {
+      const vs = a + ((s + 0.5) * (b - a)) / sub;
+      const below = vs < v[j], k = below ? j - 1 : j + 1;
+      const lam = k >= 0 && k < n ? (vs - v[j]) / (v[k] - v[j]) : 0;
+      const rho = densityShape(dist, vs) * ((1 - lam) * tj + lam * (below ? tBelow : tAbove));
+      SUB_RHO[s] = rho;
+      SUB_LAM[s] = lam;
+      sum += rho;
+    }
+    if (!(sum > 0)) continue;
+    const unit = (y * ns.w[j]) / sum / dx;
+    const oBelow = j > 0 ? oa.tr[oa.fixed ? 0 : j - 1] : 0, oAbove = j + 1 < n ? oa.tr[oa.fixed ? 0 : j + 1] : 0;
+    for (let s = 0; s < sub; s++) {
+      const vs = a + ((s + 0.5) * (b - a)) / sub;
+      const share = unit * SUB_RHO[s], lam = SUB_LAM[s];
+      const d = C / (vs * vs);
+      if (cj.m > 0) addNodeHistogram(dens, bins, lo, dx, d, share * (1 - lam) * oj, cj.m, cj.t, cj.f, cj.g);
+      if (lam !== 0) {
+        const below = vs < v[j], k = below ? j - 1 : j + 1;
+        const ck = nodeCdf(ra, k, al, be);
+        if (ck.m > 0) addNodeHistogram(dens, bins, lo, dx, d, share * lam * (below ? oBelow : oAbove), ck.m, ck.t, ck.f, ck.g);
+      }
+    }
+  }
+}
+
+/** The path's trace at node j relative to the distribution's shape: its normalised weight over its cell's width and the density there. */
+function traceFactor(ns: FineGeo['nodes'], j: number, dist: FineGeo['fine']['dist']): number {
+  const w = ns.cellHi![j] - ns.cellLo![j], s = densityShape(dist, ns.v![j]);
+  return w > 0 && s > 0 ? ns.w[j] / (w * s) : 0;
 }
 
 /** Profiles on a common grid per detector plane, and the resolved/overlapping verdict of neighbours. */
@@ -241,6 +344,10 @@ function addProfiles(leaves: readonly LeafResult[], accOf: readonly LeafAcc[], v
         const ra = axis === 'x' ? ns.x! : ns.z!, oa = axis === 'x' ? ns.z! : ns.x!;
         const dd = axis === 'x' ? ns.dx : ns.dz;
         const [al, be] = planeCoefficients(ra.c, acc.plane);
+        if (ns.v && ns.cellLo && ns.cellHi) {
+          addSweptProfile(dens, bins, lo, dx, g, ra, oa, dd, al, be);
+          continue;
+        }
         let lastOff = -1, lastLen = -1, m = 0;
         for (let j = 0; j < ns.count; j++) {
           const ir = ra.fixed ? 0 : j;
@@ -254,7 +361,7 @@ function addProfiles(leaves: readonly LeafResult[], accOf: readonly LeafAcc[], v
             lastOff = ra.off[ir];
             lastLen = n;
           }
-          addNodeHistogram(dens, bins, lo, dx, dd[j], scale, m);
+          addNodeHistogram(dens, bins, lo, dx, dd[j], scale, m, cdfT, cdfF, cdfG);
         }
       }
       l.profile = { axis, positions, density: [...dens] };

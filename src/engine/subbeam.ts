@@ -3,9 +3,10 @@
  * directions of its trajectories, later slits and pole gaps clip, magnets deflect), and at each speed node of
  * the geometry's grid the transmitted polygon of each transverse axis, its mean, variance and deflection.
  *
- * Geometry is averaged over speed on a grid (physics/velocity.ts speedGrid) weighted by the path's own
- * speed-resolved yield; phase terms too fast for that grid (a step above 0.5 rad between nodes) are left out
- * of the weights: against the smooth geometric factors they average to nothing.
+ * Geometry is averaged over speed weighted by the path's own speed-resolved yield: for a sub-beam that something clips,
+ * on panels cut at the kinks of its fractions and refined until two grids agree (convergedGeometry); otherwise on one
+ * grid (physics/velocity.ts speedGrid). Phase terms too fast for the 24-panel grid (a step above 0.5 rad between its
+ * nodes) are left out of the weights: against the smooth geometric factors they average to nothing.
  */
 import { speedGrid, type VelocityDistribution } from '../physics/velocity.ts';
 import type { Vec3 } from '../physics/rotation.ts';
@@ -88,6 +89,13 @@ export interface NodeSet {
   readonly dz: Float64Array;
   readonly x: AxisNodes | null;
   readonly z: AxisNodes | null;
+  /**
+   * Each node's speed and the speeds its quadrature weight stands for (its cell: the panel cut in the proportions of the
+   * rule's weights, so the cells of a panel tile it), where the grid has panels; the profiles spread a node over its cell.
+   */
+  readonly v?: Float64Array;
+  readonly cellLo?: Float64Array;
+  readonly cellHi?: Float64Array;
 }
 
 export const NO_NODES: NodeSet = { count: 0, plane: 0, w: new Float64Array(0), dx: new Float64Array(0), dz: new Float64Array(0), x: null, z: null };
@@ -99,6 +107,8 @@ export interface FineGeo {
   mean: { x: number; z: number };
   second: { x: number; z: number };
   nodes: NodeSet;
+  /** The share of the sub-beam's flux inside each other window on its plane that it was averaged for (crosstalk), by detector. */
+  inside?: Map<string, number>;
 }
 
 function collimatorFor(t: Track, axis: 'x' | 'z'): Collimator1D {
@@ -199,41 +209,208 @@ function geometryGrid(d: VelocityDistribution, panels: number = 24): ReturnType<
   return g;
 }
 
-/**
- * The panels of 8 Gauss–Legendre speeds each that the detector plane tries, coarsest first (24 was the one grid
- * before, and stays the first one taken where 12 agrees with it): the fraction of a
- * sub-beam that passes a slit or lands in a window has kinks in v (where an edge of the beam crosses an edge of an
- * opening), which a fixed grid resolves poorly (bench H's D1 came out 3.7 % high on 24 panels).
- */
-export const GEOMETRY_PANELS = [12, 24, 48, 96, 192, 384] as const;
-/** The detector plane's tolerance: a grid is taken once the next finer one moves the sub-beam's transmitted and captured fractions by less than this, relative to each. */
+/** The detector plane's tolerance: a sub-beam's average is taken once two grids agree on its transmitted and captured fractions to this, relative to each. */
 export const GEOMETRY_TOLERANCE = 1e-4;
+/** The equal panels a clipped sub-beam's speed range is cut into before its kinks cut it further. */
+export const GEOMETRY_BASE_PANELS = 2;
+/** The most panels (of 7 speeds each) the refinement of one sub-beam goes to. */
+export const GEOMETRY_MAX_PANELS = 384;
+
+/** A window on a sub-beam's plane (within 1 mm, as crosstalk takes them) other than its own, whose share of the sub-beam is asked for. */
+export interface PlaneWindow {
+  readonly id: string;
+  readonly window: Rect;
+  /** The window's plane (m along the beam). */
+  readonly y: number;
+}
+
+// Gauss–Kronrod 3/7 on [−1, 1]: Kronrod's extension of the 3-point Gauss rule (A. S. Kronrod, Nodes and Weights of
+// Quadrature Formulas, 1965; the numbers from memory, checked by test/engine/subbeam-grid.test.ts: the 7 nodes integrate
+// x^k exactly to k = 11, the 3 Gauss nodes to k = 5). GK_X the nodes in increasing order, GK_WK their Kronrod weights,
+// GK_WG the weights of the Gauss nodes among them (0 at the others).
+export const GK_X = new Float64Array(7), GK_WK = new Float64Array(7), GK_WG = new Float64Array(7);
+{
+  /* eslint-disable no-loss-of-precision */
+  const x = [0.960491268708020283423507092629080, 0.774596669241483377035853079956480, 0.434243749346802558002071502844628, 0];
+  const wk = [0.104656226026467265193823857192073, 0.268488089868333440728569280666710, 0.401397414775962222905051818618432,
+    0.450916538658474142345110087045571];
+  const wg = [0, 0.555555555555555555555555555555556, 0, 0.888888888888888888888888888888889];
+  /* eslint-enable no-loss-of-precision */
+  for (let i = 0; i < 7; i++) {
+    const j = i < 3 ? i : 6 - i;
+    GK_X[i] = i < 3 ? -x[j] : x[j];
+    GK_WK[i] = wk[j];
+    GK_WG[i] = wg[j];
+  }
+}
+const RULE = 7;
+
+/** The speed range of the geometry's average (as speedGrid: the effusive beam's 0.05 a … 4.8 a, a supersonic beam's u ± 12 α). */
+function geometryRange(d: VelocityDistribution): [number, number] {
+  if (d.kind === 'effusive') return [0.05 * d.a, 4.8 * d.a];
+  if (d.kind === 'supersonic') return [Math.max(0, d.u - 12 * d.alpha), d.u + 12 * d.alpha];
+  return [0, 0];
+}
+
+/** The flux density at v up to a constant factor (the geometry normalises its weights): v³ e^{−v²/a²}, v³ e^{−(v−u)²/α²}. */
+export function densityShape(d: VelocityDistribution, v: number): number {
+  if (d.kind === 'effusive') {
+    const x = v / d.a;
+    return x * x * x * Math.exp(-x * x);
+  }
+  if (d.kind === 'supersonic') {
+    const x = (v - d.u) / d.alpha;
+    return v * v * v * Math.exp(-x * x);
+  }
+  return 0;
+}
 
 /**
- * A sub-beam's geometry on grids of doubling speed panels, until two in a row agree to GEOMETRY_TOLERANCE in its
- * transmitted and captured fractions (a fixed speed, a table and a speed-by-speed leaf have one grid, taken as it is).
- * Returns the finer of the first two that agree (a line whose 12- and 24-panel grids agree keeps the 24-panel
- * numbers it always had, to the last bit), or the finest tried and the change to it where none agreed.
+ * A sub-beam's geometry averaged over the speeds to GEOMETRY_TOLERANCE. The fractions it transmits and that each window on
+ * its plane catches are, at one speed, areas of polygons whose edges move linearly in 1/v²: piecewise polynomials in 1/v²,
+ * with kinks where an edge starts or stops clipping (three edges meet, or two parallel ones cross; kinkSpeeds finds them in
+ * closed form). The speed range is cut at every kink and into GEOMETRY_BASE_PANELS equal panels, so that on each panel the
+ * fractions are smooth; on each panel the 3 Gauss and the 7 Kronrod speeds (Gauss–Kronrod 3/7) are two grids, and the
+ * panels whose two grids disagree most are halved until the sums over the panels of |Kronrod − Gauss| are within the
+ * tolerance of the transmitted fraction and of each window's fraction (its own, and the share of every other window on its
+ * plane: its crosstalk), each relative to itself above a floor of 1e-9 of the sub-beam's flux. The Kronrod grid is taken.
+ * A fixed speed, a table and a speed-by-speed leaf have one grid, taken as it is, and so has a sub-beam nothing clips (its
+ * fractions do not depend on the grid). `change` is the sum left where the refinement stopped at GEOMETRY_MAX_PANELS.
  */
-export function convergedGeometry(f: FinePath): { geo: FineGeo; change?: number } {
+export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = []): { geo: FineGeo; change?: number } {
   const d = f.dist;
-  // nothing clips (no slit or pole gap after the first slit, no window): every speed passes whole, and the
-  // fractions do not depend on the grid
   const clips = f.track.strips.length > 0 || !!f.detector?.window;
-  if (f.grid || !clips || (d.kind !== 'effusive' && d.kind !== 'supersonic')) return { geo: fineGeometry(f) };
-  let prev = fineGeometry(f, GEOMETRY_PANELS[0]);
-  let change = 0;
-  for (let i = 1; i < GEOMETRY_PANELS.length; i++) {
-    const cur = fineGeometry(f, GEOMETRY_PANELS[i]);
-    // relative to each fraction itself (a window that catches 3 % of a sub-beam needs its 3 % right), above a floor
-    // of 1e-9 of the sub-beam's flux
-    const floor = 1e-9 * Math.abs(f.yieldSpin);
-    const rel = (a: number, b: number) => Math.abs(a - b) / Math.max(Math.abs(a), floor, 1e-300);
-    change = Math.max(rel(cur.yieldGeo, prev.yieldGeo), rel(cur.yieldGeo * cur.captured, prev.yieldGeo * prev.captured));
-    if (change <= GEOMETRY_TOLERANCE) return { geo: cur };
-    prev = cur;
+  if (f.grid || !f.spec || !clips || (d.kind !== 'effusive' && d.kind !== 'supersonic')) return { geo: fineGeometry(f) };
+  const spec = f.spec;
+  const [lo, hi] = geometryRange(d);
+  const e = evaluator(f, others);
+  // the phase terms kept in the weights: those the 24-panel grid resolves (the grid the plane always had)
+  const phiMax = geometryGrid(d, 24).phiMax;
+  const cuts = kinkSpeeds(e, lo, hi);
+  for (let i = 1; i < GEOMETRY_BASE_PANELS; i++) cuts.push(lo + ((hi - lo) * i) / GEOMETRY_BASE_PANELS);
+  cuts.sort((a, b) => a - b);
+  const pa: number[] = [], pb: number[] = [];
+  const minGap = 1e-9 * (hi - lo);
+  let left = lo;
+  for (const c of cuts) {
+    if (c - left > minGap && hi - c > minGap) { pa.push(left); pb.push(c); left = c; }
   }
-  return { geo: prev, change };
+  pa.push(left); pb.push(hi);
+  const nQ = 2 + e.wins.length;
+  const floor = 1e-9;
+  const minWidth = (hi - lo) / 65536;
+  // panel p: its nodes from first[p], its sums (W, T, C_w over the windows) on the Kronrod grid then the Gauss grid
+  const first: number[] = [];
+  let sums = new Float64Array(2 * nQ * 64);
+  let active: number[] = pa.map((_, i) => i);
+  let todo = active.slice();
+  let nodes = 0, change: number | undefined;
+  const err = new Float64Array(nQ), rest = new Float64Array(nQ), tot = new Float64Array(nQ);
+  for (;;) {
+    // the new panels' speeds, their traces in one call, their nodes and their sums
+    const n0 = nodes;
+    reserveNodes(e, nodes + RULE * todo.length);
+    for (const p of todo) {
+      first[p] = nodes;
+      const c = 0.5 * (pa[p] + pb[p]), h = 0.5 * (pb[p] - pa[p]);
+      for (let i = 0; i < RULE; i++) NV[nodes + i] = c + h * GK_X[i];
+      nodes += RULE;
+    }
+    const tr = specTraceAt(spec, NV.subarray(n0, nodes), phiMax);
+    for (let n = n0; n < nodes; n++) {
+      NWD[n] = Math.max(0, tr[n - n0]) * densityShape(d, NV[n]);
+      evalNode(e, n);
+    }
+    if (sums.length < 2 * nQ * pa.length) {
+      const grown = new Float64Array(4 * nQ * pa.length);
+      grown.set(sums);
+      sums = grown;
+    }
+    const nw = e.wins.length;
+    for (const p of todo) {
+      const h = 0.5 * (pb[p] - pa[p]), o = 2 * nQ * p;
+      sums.fill(0, o, o + 2 * nQ);
+      for (let i = 0; i < RULE; i++) {
+        const n = first[p] + i, wd = NWD[n];
+        if (wd === 0) continue;
+        const kw = GK_WK[i] * h * wd, gw = GK_WG[i] * h * wd;
+        const t = NT[n];
+        sums[o] += kw; sums[o + nQ] += gw;
+        sums[o + 1] += kw * t; sums[o + nQ + 1] += gw * t;
+        for (let w = 0; w < nw; w++) {
+          const cw = NCAP[n * nw + w];
+          sums[o + 2 + w] += kw * cw; sums[o + nQ + 2 + w] += gw * cw;
+        }
+      }
+    }
+    // the error of each fraction (Q/W) as the sum over the panels of the two grids' difference, relative to the fraction
+    tot.fill(0);
+    for (const p of active) for (let q = 0; q < nQ; q++) tot[q] += sums[2 * nQ * p + q];
+    const W = tot[0];
+    if (!(W > 0)) break;
+    err.fill(0);
+    for (const p of active) for (let q = 1; q < nQ; q++) err[q] += panelError(sums, 2 * nQ * p, nQ, q, tot, floor);
+    let worst = 0;
+    for (let q = 1; q < nQ; q++) worst = Math.max(worst, err[q]);
+    if (worst <= GEOMETRY_TOLERANCE) { change = undefined; break; }
+    change = worst;
+    // halve the panels that hold the most of the error until what is left is a quarter of the tolerance
+    const order = active.filter((p) => pb[p] - pa[p] > minWidth);
+    const key = new Map<number, number>();
+    for (const p of order) {
+      let k = 0;
+      for (let q = 1; q < nQ; q++) k = Math.max(k, panelError(sums, 2 * nQ * p, nQ, q, tot, floor) / Math.max(err[q], 1e-300));
+      key.set(p, k);
+    }
+    order.sort((a, b) => key.get(b)! - key.get(a)!);
+    rest.set(err);
+    const split = new Set<number>();
+    for (const p of order) {
+      let done = true;
+      for (let q = 1; q < nQ; q++) if (rest[q] > GEOMETRY_TOLERANCE / 4) done = false;
+      if (done) break;
+      if (active.length + split.size + 1 > GEOMETRY_MAX_PANELS) break;
+      split.add(p);
+      for (let q = 1; q < nQ; q++) rest[q] -= panelError(sums, 2 * nQ * p, nQ, q, tot, floor);
+    }
+    if (split.size === 0) break;
+    const next: number[] = [];
+    todo = [];
+    for (const p of active) {
+      if (!split.has(p)) { next.push(p); continue; }
+      const m = 0.5 * (pa[p] + pb[p]);
+      const a = pa.length;
+      pa.push(pa[p], m); pb.push(m, pb[p]);
+      next.push(a, a + 1);
+      todo.push(a, a + 1);
+    }
+    active = next;
+  }
+  // the Kronrod grid of the panels taken, in increasing speed
+  let total = 0, m = 0;
+  reserveKept(RULE * active.length);
+  for (const p of active) {
+    const h = 0.5 * (pb[p] - pa[p]);
+    let cell = pa[p];
+    for (let i = 0; i < RULE; i++) {
+      const n = first[p] + i;
+      const q = GK_WK[i] * h * NWD[n];
+      KIDX[m] = n; KW[m] = q;
+      KLO[m] = cell;
+      cell = i === RULE - 1 ? pb[p] : cell + GK_WK[i] * h;
+      KHI[m] = cell;
+      m++;
+      total += q;
+    }
+  }
+  const geo = assemble(e, m, total, true);
+  return change === undefined ? { geo } : { geo, change };
+}
+
+/** Panel p's share (sums from o) of the error of fraction q: (|ΔQ| + |Q/W| |ΔW|) / max(|Q|, floor W). */
+function panelError(sums: Float64Array, o: number, nQ: number, q: number, tot: Float64Array, floor: number): number {
+  const W = tot[0], Q = tot[q];
+  return (Math.abs(sums[o + q] - sums[o + nQ + q]) + Math.abs(Q / W) * Math.abs(sums[o] - sums[o + nQ])) / Math.max(Math.abs(Q), floor * W);
 }
 
 /** The kicks acting at plane y: their numerators a L (L/2 + D) (deflection = numerator/v² along n̂). */
@@ -259,13 +436,54 @@ function deflect(num: Float64Array, n: Float64Array, v: number): number {
   return x;
 }
 
+/** The numerator Σ num_k n_k of the deflection along one axis (deflection = numerator/v²). */
+function deflectNumerator(num: Float64Array, n: Float64Array): number {
+  let x = 0;
+  for (let i = 0; i < num.length; i++) x += num[i] * n[i];
+  return x;
+}
+
+/**
+ * One axis's polygons and statistics at the nodes while they are evaluated: node j's polygon is pool[2·off[j] …], len[j]
+ * vertices. Two of these (x and z) are reused from call to call and grown on demand; what a result keeps is copied out
+ * (assemble).
+ */
+class AxisStore {
+  pool = new Float64Array(8192);
+  used = 0;
+  off = new Int32Array(256);
+  len = new Int32Array(256);
+  tr = new Float64Array(256);
+  mean = new Float64Array(256);
+  variance = new Float64Array(256);
+  mn = new Float64Array(256);
+  mx = new Float64Array(256);
+
+  reserve(n: number): void {
+    if (this.off.length >= n) return;
+    const m = Math.max(n, 2 * this.off.length);
+    const gi = (a: Int32Array) => { const b = new Int32Array(m); b.set(a); return b; };
+    const gf = (a: Float64Array) => { const b = new Float64Array(m); b.set(a); return b; };
+    this.off = gi(this.off); this.len = gi(this.len);
+    this.tr = gf(this.tr); this.mean = gf(this.mean); this.variance = gf(this.variance); this.mn = gf(this.mn); this.mx = gf(this.mx);
+  }
+}
+
+const STORE_X = new AxisStore(), STORE_Z = new AxisStore();
+
 /**
  * How one axis's polygons are built at the nodes: the strips (deflection subtracted per speed) clip the
  * collimator's rectangle. The leading strips that no kick deflects along this axis clip the same at
- * every speed and are applied once (pre); when all are such the axis is fixed, one polygon for all.
+ * every speed and are applied once (pre); when all are such the axis is fixed, one polygon (node 0) for all.
  */
 interface AxisPlan {
-  readonly out: AxisNodes;
+  readonly c: Collimator1D;
+  readonly fixed: boolean;
+  readonly area0: number;
+  /** α, β at the sub-beam's plane. */
+  readonly al: number;
+  readonly be: number;
+  readonly base: Float64Array;
   readonly strips: FlatStrips;
   readonly lo0: Float64Array;
   readonly hi0: Float64Array;
@@ -274,14 +492,14 @@ interface AxisPlan {
   readonly first: number;
   readonly pre: Float64Array;
   readonly nPre: number;
-  used: number;
+  readonly s: AxisStore;
 }
 
 const NO_STRIPS: FlatStrips = { al: new Float64Array(0), be: new Float64Array(0), lo: new Float64Array(0), hi: new Float64Array(0), count: 0 };
 
-function axisPlan(c: Collimator1D, track: Track, axis: 'x' | 'z', plane: number, size: number): AxisPlan {
+function axisPlan(c: Collimator1D, track: Track, axis: 'x' | 'z', plane: number, s: AxisStore): AxisPlan {
   let k = 0;
-  for (const s of track.strips) if (s.axis === axis) k++;
+  for (const st of track.strips) if (st.axis === axis) k++;
   const num: Float64Array[] = [], dir: Float64Array[] = [];
   let strips = NO_STRIPS, lo0 = NO_STRIPS.lo, hi0 = NO_STRIPS.hi;
   if (k > 0) {
@@ -289,12 +507,12 @@ function axisPlan(c: Collimator1D, track: Track, axis: 'x' | 'z', plane: number,
     lo0 = new Float64Array(k);
     hi0 = new Float64Array(k);
     let i = 0;
-    for (const s of track.strips) {
-      if (s.axis !== axis) continue;
-      [al[i], be[i]] = planeCoefficients(c, s.y);
-      lo0[i] = s.lo;
-      hi0[i] = s.hi;
-      const ka = kicksAt(track.kicks, s.y);
+    for (const st of track.strips) {
+      if (st.axis !== axis) continue;
+      [al[i], be[i]] = planeCoefficients(c, st.y);
+      lo0[i] = st.lo;
+      hi0[i] = st.hi;
+      const ka = kicksAt(track.kicks, st.y);
       num.push(ka.num);
       dir.push(axis === 'x' ? ka.nx : ka.nz);
       i++;
@@ -313,52 +531,33 @@ function axisPlan(c: Collimator1D, track: Track, axis: 'x' | 'z', plane: number,
     pre = clipResult().slice(0, 2 * nPre);
   }
   const [pal, pbe] = planeCoefficients(c, plane);
-  const m = fixed ? 1 : size;
-  const f = new Float64Array(5 * m), ix = new Int32Array(2 * m);
-  const out: AxisNodes = {
-    c, area0, al: pal, be: pbe, fixed, pool: fixed ? pre : new Float64Array(2 * size * (4 + 2 * k)),
-    off: ix.subarray(0, m), len: ix.subarray(m, 2 * m),
-    tr: f.subarray(0, m), mean: f.subarray(m, 2 * m), variance: f.subarray(2 * m, 3 * m), mn: f.subarray(3 * m, 4 * m), mx: f.subarray(4 * m, 5 * m),
-  };
-  const pl: AxisPlan = { out, strips, lo0, hi0, num, dir, first, pre, nPre, used: 0 };
-  if (fixed) stats0(pl);
+  s.used = 0;
+  const pl: AxisPlan = { c, fixed, area0, al: pal, be: pbe, base, strips, lo0, hi0, num, dir, first, pre, nPre, s };
+  if (fixed) store(pl, 0, pre, nPre);
   return pl;
 }
 
 const stats = new Float64Array(3), span = new Float64Array(2);
 
-/** The one polygon of a fixed axis (pre, already its pool) as node 0, with its statistics. */
-function stats0(pl: AxisPlan): void {
-  const o = pl.out;
-  o.off[0] = 0;
-  o.len[0] = pl.nPre < 3 ? 0 : pl.nPre;
-  if (pl.nPre < 3) return;
-  axisStats(o.pool, 0, pl.nPre, o.area0, o.al, o.be, stats);
-  o.tr[0] = stats[0]; o.mean[0] = stats[1]; o.variance[0] = stats[2];
-  projectionRange(o.pool, 0, pl.nPre, o.al, o.be, span);
-  o.mn[0] = span[0]; o.mx[0] = span[1];
-}
-
-
 /** Keeps polygon src (n vertices; fewer than 3: nothing passes) as node j of the axis, with its statistics. */
 function store(pl: AxisPlan, j: number, src: Float64Array, n: number): void {
-  const o = pl.out;
+  const o = pl.s;
   if (n < 3) {
     o.off[j] = 0; o.len[j] = 0; o.tr[j] = 0; o.mean[j] = 0; o.variance[j] = 0; o.mn[j] = 0; o.mx[j] = 0;
     return;
   }
-  if (2 * (pl.used + n) > o.pool.length) {
-    const grown = new Float64Array(Math.max(2 * o.pool.length, 2 * (pl.used + n)));
+  if (2 * (o.used + n) > o.pool.length) {
+    const grown = new Float64Array(Math.max(2 * o.pool.length, 2 * (o.used + n)));
     grown.set(o.pool);
     o.pool = grown;
   }
-  o.pool.set(src.subarray(0, 2 * n), 2 * pl.used);
-  o.off[j] = pl.used;
+  for (let i = 0; i < 2 * n; i++) o.pool[2 * o.used + i] = src[i];
+  o.off[j] = o.used;
   o.len[j] = n;
-  pl.used += n;
-  axisStats(o.pool, o.off[j], n, o.area0, o.al, o.be, stats);
+  o.used += n;
+  axisStats(o.pool, o.off[j], n, pl.area0, pl.al, pl.be, stats);
   o.tr[j] = stats[0]; o.mean[j] = stats[1]; o.variance[j] = stats[2];
-  projectionRange(o.pool, o.off[j], n, o.al, o.be, span);
+  projectionRange(o.pool, o.off[j], n, pl.al, pl.be, span);
   o.mn[j] = span[0]; o.mx[j] = span[1];
 }
 
@@ -389,75 +588,214 @@ export function nodeFraction(a: AxisNodes, j: number, y: number, plane: number, 
   return fractionInsideFlat(a.pool, a.off[i], a.len[i], a.area0, al, be, lo, hi, NaN, NaN);
 }
 
-let wScratch = new Float64Array(256), keptScratch = new Int32Array(256);
+/** A window whose share of the sub-beam is taken at every node: its edges, its plane and α, β there for each axis. */
+interface NodeWindow {
+  readonly id: string;
+  readonly xlo: number;
+  readonly xhi: number;
+  readonly zlo: number;
+  readonly zhi: number;
+  readonly y: number;
+  readonly alx: number;
+  readonly bex: number;
+  readonly alz: number;
+  readonly bez: number;
+}
 
-export function fineGeometry(f: FinePath, panels: number = 24): FineGeo {
-  let g: { speeds: Float64Array; weights: Float64Array }, tr: Float64Array;
-  if (f.grid) {
-    const cg = coarsen(f.grid);
-    g = cg;
-    tr = cg.traces;
-  } else {
-    const gg = geometryGrid(f.dist, panels);
-    g = gg;
-    tr = f.spec ? specTraceAt(f.spec, gg.speeds, gg.phiMax) : new Float64Array(gg.speeds.length);
+/** What evaluates one sub-beam's nodes: both axes' plans, the kicks at its plane and the windows (its own first). */
+interface Evaluator {
+  readonly f: FinePath;
+  readonly px: AxisPlan;
+  readonly pz: AxisPlan;
+  readonly atPlane: { num: Float64Array; nx: Float64Array; nz: Float64Array };
+  readonly wins: readonly NodeWindow[];
+  /** wins[0] is the sub-beam's own window. */
+  readonly own: boolean;
+  /** Each window's fraction along an axis that is fixed and not deflected at the plane (the same at every node; NaN until found). */
+  readonly constX: Float64Array | null;
+  readonly constZ: Float64Array | null;
+}
+
+function nodeWindow(id: string, w: Rect, y: number, cx: Collimator1D, cz: Collimator1D): NodeWindow {
+  const [alx, bex] = planeCoefficients(cx, y), [alz, bez] = planeCoefficients(cz, y);
+  return { id, xlo: w.x - w.width / 2, xhi: w.x + w.width / 2, zlo: w.z - w.height / 2, zhi: w.z + w.height / 2, y, alx, bex, alz, bez };
+}
+
+function evaluator(f: FinePath, others: readonly PlaneWindow[]): Evaluator {
+  const cx = collimatorFor(f.track, 'x'), cz = collimatorFor(f.track, 'z');
+  const px = axisPlan(cx, f.track, 'x', f.plane, STORE_X), pz = axisPlan(cz, f.track, 'z', f.plane, STORE_Z);
+  const wins: NodeWindow[] = [];
+  const win = f.detector?.window;
+  if (win) wins.push(nodeWindow(f.detector!.id, win, f.plane, cx, cz));
+  for (const o of others) if (o.id !== f.detector?.id) wins.push(nodeWindow(o.id, o.window, o.y, cx, cz));
+  const atPlane = kicksAt(f.track.kicks, f.plane);
+  const still = (pl: AxisPlan, n: Float64Array) => pl.fixed && atPlane.num.every((x, i) => x * n[i] === 0);
+  const constX = still(px, atPlane.nx) ? new Float64Array(wins.length).fill(NaN) : null;
+  const constZ = still(pz, atPlane.nz) ? new Float64Array(wins.length).fill(NaN) : null;
+  return { f, px, pz, atPlane, wins, own: !!win, constX, constZ };
+}
+
+// the nodes being evaluated (reused from call to call, grown on demand): speed, weight (density × trace, or the
+// grid's weight × trace), t = transmitted fraction, deflection at the plane, each window's fraction (node-major)
+let NV: Float64Array = new Float64Array(512), NWD: Float64Array = new Float64Array(512), NT: Float64Array = new Float64Array(512);
+let NDX: Float64Array = new Float64Array(512), NDZ: Float64Array = new Float64Array(512), NCAP: Float64Array = new Float64Array(2048);
+// the nodes taken: their indices, weights (not yet normalised) and cells
+let KIDX = new Int32Array(512), KW = new Float64Array(512), KLO = new Float64Array(512), KHI = new Float64Array(512);
+
+function grownF(a: Float64Array, n: number): Float64Array {
+  if (a.length >= n) return a;
+  const b = new Float64Array(Math.max(n, 2 * a.length));
+  b.set(a);
+  return b;
+}
+
+function reserveNodes(e: Evaluator, n: number): void {
+  if (NV.length < n) {
+    NV = grownF(NV, n); NWD = grownF(NWD, n); NT = grownF(NT, n); NDX = grownF(NDX, n); NDZ = grownF(NDZ, n);
   }
-  const n = g.speeds.length;
-  let total = 0;
-  if (wScratch.length < n) { wScratch = new Float64Array(n); keptScratch = new Int32Array(n); }
-  const w = wScratch, keptAt = keptScratch;
-  for (let k = 0; k < n; k++) {
-    w[k] = Math.max(0, tr[k]) * g.weights[k];
-    total += w[k];
+  NCAP = grownF(NCAP, n * e.wins.length);
+  if (!e.px.fixed) e.px.s.reserve(n);
+  if (!e.pz.fixed) e.pz.s.reserve(n);
+}
+
+function reserveKept(n: number): void {
+  if (KIDX.length < n) {
+    KIDX = new Int32Array(Math.max(n, 2 * KIDX.length));
+    KW = new Float64Array(KIDX.length);
+    KLO = new Float64Array(KIDX.length);
+    KHI = new Float64Array(KIDX.length);
   }
+}
+
+/** Fraction of an axis's polygon i inside lo ≤ α p + β q ≤ hi (the projection range known at the sub-beam's plane). */
+function axisFraction(pl: AxisPlan, i: number, atPlane: boolean, al: number, be: number, lo: number, hi: number): number {
+  const s = pl.s;
+  return atPlane
+    ? fractionInsideFlat(s.pool, s.off[i], s.len[i], pl.area0, pl.al, pl.be, lo, hi, s.mn[i], s.mx[i])
+    : fractionInsideFlat(s.pool, s.off[i], s.len[i], pl.area0, al, be, lo, hi, NaN, NaN);
+}
+
+/** Node n at speed NV[n]: both axes' polygons, the deflection at the plane, the transmitted fraction, each window's fraction. */
+function evalNode(e: Evaluator, n: number): void {
+  const v = NV[n], nw = e.wins.length;
+  const px = e.px, pz = e.pz;
+  if (NWD[n] === 0) {
+    // no weight: nothing of this node is read but its zeros
+    if (!px.fixed) store(px, n, px.pre, 0);
+    if (!pz.fixed) store(pz, n, pz.pre, 0);
+    NT[n] = 0; NDX[n] = 0; NDZ[n] = 0;
+    for (let w = 0; w < nw; w++) NCAP[n * nw + w] = 0;
+    return;
+  }
+  if (!px.fixed) axisNode(px, n, v);
+  if (!pz.fixed) axisNode(pz, n, v);
+  const ix = px.fixed ? 0 : n, iz = pz.fixed ? 0 : n;
+  // deflection at the plane, kick by kick as deflection()
+  const vv = v * v, ap = e.atPlane;
+  let dx = 0, dz = 0;
+  for (let i = 0; i < ap.num.length; i++) {
+    const d = ap.num[i] / vv;
+    dx += d * ap.nx[i];
+    dz += d * ap.nz[i];
+  }
+  NDX[n] = dx; NDZ[n] = dz;
+  NT[n] = px.s.tr[ix] * pz.s.tr[iz];
+  const plane = e.f.plane;
+  for (let w = 0; w < nw; w++) {
+    const win = e.wins[w];
+    const at = win.y === plane;
+    const cx = e.constX, cz = e.constZ;
+    let fx: number;
+    if (cx) {
+      fx = cx[w];
+      if (Number.isNaN(fx)) fx = cx[w] = axisFraction(px, 0, at, win.alx, win.bex, win.xlo, win.xhi);
+    } else fx = axisFraction(px, ix, at, win.alx, win.bex, win.xlo - dx, win.xhi - dx);
+    let fz = 0;
+    if (fx !== 0) {
+      if (cz) {
+        fz = cz[w];
+        if (Number.isNaN(fz)) fz = cz[w] = axisFraction(pz, 0, at, win.alz, win.bez, win.zlo, win.zhi);
+      } else fz = axisFraction(pz, iz, at, win.alz, win.bez, win.zlo - dz, win.zhi - dz);
+    }
+    NCAP[n * nw + w] = fx * fz;
+  }
+}
+
+/** The first n of a node store's arrays, copied into arrays of the result's own (the nodes taken, in order). */
+function axisOut(pl: AxisPlan, kept: number): AxisNodes {
+  const s = pl.s;
+  if (pl.fixed) {
+    const f = new Float64Array(5), ix = new Int32Array(2);
+    f[0] = s.tr[0]; f[1] = s.mean[0]; f[2] = s.variance[0]; f[3] = s.mn[0]; f[4] = s.mx[0];
+    ix[0] = 0; ix[1] = s.len[0];
+    return {
+      c: pl.c, area0: pl.area0, al: pl.al, be: pl.be, fixed: true, pool: pl.pre,
+      off: ix.subarray(0, 1), len: ix.subarray(1, 2),
+      tr: f.subarray(0, 1), mean: f.subarray(1, 2), variance: f.subarray(2, 3), mn: f.subarray(3, 4), mx: f.subarray(4, 5),
+    };
+  }
+  let verts = 0;
+  for (let j = 0; j < kept; j++) verts += s.len[KIDX[j]];
+  const pool = new Float64Array(2 * verts);
+  const f = new Float64Array(5 * kept), ix = new Int32Array(2 * kept);
+  const out: AxisNodes = {
+    c: pl.c, area0: pl.area0, al: pl.al, be: pl.be, fixed: false, pool,
+    off: ix.subarray(0, kept), len: ix.subarray(kept, 2 * kept),
+    tr: f.subarray(0, kept), mean: f.subarray(kept, 2 * kept), variance: f.subarray(2 * kept, 3 * kept),
+    mn: f.subarray(3 * kept, 4 * kept), mx: f.subarray(4 * kept, 5 * kept),
+  };
+  let at = 0;
+  for (let j = 0; j < kept; j++) {
+    const n = KIDX[j], len = s.len[n], o = s.off[n];
+    for (let i = 0; i < 2 * len; i++) pool[2 * at + i] = s.pool[2 * o + i];
+    out.off[j] = at; out.len[j] = len;
+    out.tr[j] = s.tr[n]; out.mean[j] = s.mean[n]; out.variance[j] = s.variance[n]; out.mn[j] = s.mn[n]; out.mx[j] = s.mx[n];
+    at += len;
+  }
+  return out;
+}
+
+/**
+ * The sub-beam's geometry from the nodes taken (KIDX, weights KW, m of them; total their sum): the normalised weights,
+ * the transmitted fraction, the means and second moments, the captured fraction and each other window's share, and the
+ * node set the profiles and the centre line read.
+ */
+function assemble(e: Evaluator, m: number, total: number, cells: boolean): FineGeo {
+  const f = e.f;
   if (total <= 0) {
     return { fine: f, yieldGeo: f.yieldSpin, captured: 0, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: NO_NODES };
   }
-  // the normalised weights; the nodes kept (weight ≠ 0) are then packed to the front, in their order
-  const buf = new Float64Array(3 * n);
-  const nw = buf.subarray(0, n), ndx = buf.subarray(n, 2 * n), ndz = buf.subarray(2 * n, 3 * n);
+  // the nodes kept (weight ≠ 0), in their order
   let kept = 0;
-  for (let k = 0; k < n; k++) {
-    const wk = w[k] / total;
-    if (wk !== 0) keptAt[kept++] = k;
-    nw[k] = wk;
+  for (let j = 0; j < m; j++) {
+    const wk = KW[j] / total;
+    if (wk !== 0) { KIDX[kept] = KIDX[j]; KW[kept] = wk; KLO[kept] = KLO[j]; KHI[kept] = KHI[j]; kept++; }
   }
-  const cx = collimatorFor(f.track, 'x'), cz = collimatorFor(f.track, 'z');
-  const win = f.detector?.window;
-  const px = axisPlan(cx, f.track, 'x', f.plane, kept), pz = axisPlan(cz, f.track, 'z', f.plane, kept);
-  const ax = px.out, az = pz.out;
-  const atPlane = kicksAt(f.track.kicks, f.plane);
-  const wxlo = win ? win.x - win.width / 2 : 0, wxhi = win ? win.x + win.width / 2 : 0;
-  const wzlo = win ? win.z - win.height / 2 : 0, wzhi = win ? win.z + win.height / 2 : 0;
-  let tSum = 0, capSum = 0, mx = 0, mz = 0, sx = 0, sz = 0;
+  const ax = axisOut(e.px, kept), az = axisOut(e.pz, kept);
+  const buf = new Float64Array((cells ? 6 : 3) * kept);
+  const nw = buf.subarray(0, kept), ndx = buf.subarray(kept, 2 * kept), ndz = buf.subarray(2 * kept, 3 * kept);
+  const wn = e.wins.length;
+  const shares = new Float64Array(wn);
+  let tSum = 0, mx = 0, mz = 0, sx = 0, sz = 0;
   for (let j = 0; j < kept; j++) {
-    const k = keptAt[j], wk = nw[k];
-    const v = g.speeds[k];
-    if (!ax.fixed) axisNode(px, j, v);
-    if (!az.fixed) axisNode(pz, j, v);
+    const n = KIDX[j], wk = KW[j];
     const ix = ax.fixed ? 0 : j, iz = az.fixed ? 0 : j;
-    // deflection at the plane, kick by kick as deflection()
-    const vv = v * v;
-    let dx = 0, dz = 0;
-    for (let i = 0; i < atPlane.num.length; i++) {
-      const d = atPlane.num[i] / vv;
-      dx += d * atPlane.nx[i];
-      dz += d * atPlane.nz[i];
-    }
+    const dx = NDX[n], dz = NDZ[n];
     const t = ax.tr[ix] * az.tr[iz];
     tSum += wk * t;
     mx += wk * t * (ax.mean[ix] + dx);
     mz += wk * t * (az.mean[iz] + dz);
     sx += wk * t * (ax.variance[ix] + (ax.mean[ix] + dx) ** 2);
     sz += wk * t * (az.variance[iz] + (az.mean[iz] + dz) ** 2);
-    if (win) {
-      const fx = nodeFraction(ax, j, f.plane, f.plane, wxlo - dx, wxhi - dx);
-      const fz = nodeFraction(az, j, f.plane, f.plane, wzlo - dz, wzhi - dz);
-      capSum += wk * fx * fz;
-    }
+    for (let w = 0; w < wn; w++) shares[w] += wk * NCAP[n * wn + w];
     nw[j] = wk; ndx[j] = dx; ndz[j] = dz;
   }
-  const nodes: NodeSet = { count: kept, plane: f.plane, w: nw, dx: ndx, dz: ndz, x: ax, z: az };
+  let nodes: NodeSet = { count: kept, plane: f.plane, w: nw, dx: ndx, dz: ndz, x: ax, z: az };
+  if (cells) {
+    const v = buf.subarray(3 * kept, 4 * kept), cellLo = buf.subarray(4 * kept, 5 * kept), cellHi = buf.subarray(5 * kept, 6 * kept);
+    for (let j = 0; j < kept; j++) { v[j] = NV[KIDX[j]]; cellLo[j] = KLO[j]; cellHi[j] = KHI[j]; }
+    nodes = { ...nodes, v, cellLo, cellHi };
+  }
   const yieldGeo = f.yieldSpin * tSum;
   const safe = tSum > 0 ? tSum : 1;
   let mean = { x: mx / safe, z: mz / safe };
@@ -475,8 +813,166 @@ export function fineGeometry(f: FinePath, panels: number = 24): FineGeo {
     }
     mean = { x: geo0.x + dx * m2, z: geo0.z + dz * m2 };
   }
+  let inside: Map<string, number> | undefined;
+  for (let w = e.own ? 1 : 0; w < wn; w++) (inside ??= new Map()).set(e.wins[w].id, shares[w]);
   return {
-    fine: f, yieldGeo, captured: win ? capSum / safe : 1,
-    mean, second: { x: sx / safe, z: sz / safe }, nodes,
+    fine: f, yieldGeo, captured: e.own ? shares[0] / safe : 1,
+    mean, second: { x: sx / safe, z: sz / safe }, nodes, ...(inside ? { inside } : {}),
   };
+}
+
+/**
+ * The sub-beam's geometry on one grid of `panels` panels of 8 Gauss–Legendre speeds (geometryGrid; a speed-by-speed leaf's
+ * own grid, a fixed speed's one node, a table's speeds), every node weighted by the path's trace there.
+ */
+export function fineGeometry(f: FinePath, panels: number = 24, others: readonly PlaneWindow[] = []): FineGeo {
+  let g: { speeds: Float64Array; weights: Float64Array }, tr: Float64Array;
+  if (f.grid) {
+    const cg = coarsen(f.grid);
+    g = cg;
+    tr = cg.traces;
+  } else {
+    const gg = geometryGrid(f.dist, panels);
+    g = gg;
+    tr = f.spec ? specTraceAt(f.spec, gg.speeds, gg.phiMax) : new Float64Array(gg.speeds.length);
+  }
+  const n = g.speeds.length;
+  const e = evaluator(f, others);
+  reserveNodes(e, n);
+  reserveKept(n);
+  let total = 0, m = 0;
+  for (let k = 0; k < n; k++) {
+    const wk = Math.max(0, tr[k]) * g.weights[k];
+    total += wk;
+    NV[k] = g.speeds[k];
+    NWD[k] = wk;
+  }
+  if (!(total > 0)) return assemble(e, 0, 0, false);
+  // only the nodes with a weight are evaluated
+  for (let k = 0; k < n; k++) {
+    if (NWD[k] / total === 0) continue;
+    evalNode(e, k);
+    KIDX[m] = k; KW[m] = NWD[k];
+    m++;
+  }
+  // no cells: the profiles of a fixed grid are its nodes' (what the plane always drew on a line that nothing clips)
+  return assemble(e, m, total, false);
+}
+
+/**
+ * The speeds of a sub-beam's kinks in its range [lo, hi]: where, for either axis, three of the lines that bound its transmitted
+ * polygon or the part of it inside a window meet on that polygon, or two parallel ones cross. In (p, q) each line is
+ * a p + b q = h0 + h1 u with u = 1/v² (a strip moves with the deflection at its plane, a window with the deflection at the
+ * plane), so where three meet is one linear equation in u.
+ */
+function kinkSpeeds(e: Evaluator, lo: number, hi: number): number[] {
+  const out: number[] = [];
+  const uLo = 1 / (hi * hi), uHi = lo > 0 ? 1 / (lo * lo) : Infinity;
+  const ap = e.atPlane;
+  for (const pl of [e.px, e.pz]) {
+    const xAxis = pl === e.px;
+    const cPlane = deflectNumerator(ap.num, xAxis ? ap.nx : ap.nz);
+    const rows = axisRows(pl, e.wins, xAxis, cPlane);
+    axisKinks(rows, 4 + 2 * pl.strips.count, e.wins.length, uLo, uHi, out);
+  }
+  for (let i = 0; i < out.length; i++) out[i] = 1 / Math.sqrt(out[i]);
+  return out;
+}
+
+/** Lines a p + b q ≤ h0 + h1 u of one axis: the collimator's rectangle, each strip (two), then each window (two). */
+interface Rows { a: Float64Array; b: Float64Array; h0: Float64Array; h1: Float64Array; eps: number }
+
+function axisRows(pl: AxisPlan, wins: readonly NodeWindow[], xAxis: boolean, cPlane: number): Rows {
+  const k = pl.strips.count, m = 4 + 2 * k + 2 * wins.length;
+  const buf = new Float64Array(4 * m);
+  const r: Rows = { a: buf.subarray(0, m), b: buf.subarray(m, 2 * m), h0: buf.subarray(2 * m, 3 * m), h1: buf.subarray(3 * m, 4 * m), eps: 0 };
+  const set = (i: number, a: number, b: number, h0: number, h1: number) => { r.a[i] = a; r.b[i] = b; r.h0[i] = h0; r.h1[i] = h1; };
+  const p0 = pl.base[0], q0 = pl.base[1], p1 = pl.base[2], q1 = pl.base[5];
+  set(0, -1, 0, -p0, 0); set(1, 1, 0, p1, 0); set(2, 0, -1, -q0, 0); set(3, 0, 1, q1, 0);
+  for (let i = 0; i < k; i++) {
+    const c = deflectNumerator(pl.num[i], pl.dir[i]);
+    const al = pl.strips.al[i], be = pl.strips.be[i];
+    set(4 + 2 * i, al, be, pl.hi0[i], -c);
+    set(5 + 2 * i, -al, -be, -pl.lo0[i], c);
+  }
+  for (let w = 0; w < wins.length; w++) {
+    const win = wins[w];
+    const al = xAxis ? win.alx : win.alz, be = xAxis ? win.bex : win.bez;
+    const wlo = xAxis ? win.xlo : win.zlo, whi = xAxis ? win.xhi : win.zhi;
+    set(4 + 2 * k + 2 * w, al, be, whi, -cPlane);
+    set(5 + 2 * k + 2 * w, -al, -be, -wlo, cPlane);
+  }
+  // a point counts as on the polygon within 1e-9 of the collimator's size
+  r.eps = 1e-9 * Math.max(p1 - p0, q1 - q0, Math.abs(p0), Math.abs(p1), Math.abs(q0), Math.abs(q1));
+  return r;
+}
+
+/** Whether (p, q) keeps every line of the set (the polygon's nP lines, and window w's two when w ≥ 0) at u, within eps. */
+function keeps(r: Rows, nP: number, w: number, p: number, q: number, u: number): boolean {
+  for (let i = 0; i < nP; i++) if (r.a[i] * p + r.b[i] * q - r.h0[i] - r.h1[i] * u > r.eps * (Math.abs(r.a[i]) + Math.abs(r.b[i]) + 1)) return false;
+  if (w >= 0) {
+    for (let i = nP + 2 * w; i < nP + 2 * w + 2; i++) if (r.a[i] * p + r.b[i] * q - r.h0[i] - r.h1[i] * u > r.eps * (Math.abs(r.a[i]) + Math.abs(r.b[i]) + 1)) return false;
+  }
+  return true;
+}
+
+/** Whether line i at u has a point that keeps every other line of the set (but j), within eps. */
+function lineKept(r: Rows, nP: number, w: number, i: number, j: number, u: number): boolean {
+  const a = r.a[i], b = r.b[i], nn = a * a + b * b;
+  const h = r.h0[i] + r.h1[i] * u;
+  const x0 = (a * h) / nn, y0 = (b * h) / nn, dx = -b, dy = a;
+  let tlo = -Infinity, thi = Infinity;
+  const one = (k: number): boolean => {
+    if (k === i || k === j) return true;
+    const g0 = r.a[k] * x0 + r.b[k] * y0 - r.h0[k] - r.h1[k] * u, g1 = r.a[k] * dx + r.b[k] * dy;
+    const tol = r.eps * (Math.abs(r.a[k]) + Math.abs(r.b[k]) + 1);
+    if (Math.abs(g1) <= 1e-12 * (Math.abs(r.a[k]) + Math.abs(r.b[k])) * Math.sqrt(nn)) return g0 <= tol;
+    const t = (tol - g0) / g1;
+    if (g1 > 0) thi = Math.min(thi, t);
+    else tlo = Math.max(tlo, t);
+    return true;
+  };
+  for (let k = 0; k < nP; k++) if (!one(k)) return false;
+  if (w >= 0) for (let k = nP + 2 * w; k < nP + 2 * w + 2; k++) if (!one(k)) return false;
+  return tlo <= thi;
+}
+
+/** The u = 1/v² in (uLo, uHi) where the polygon of one axis, or its part inside one of its nW windows, changes shape. */
+function axisKinks(r: Rows, nP: number, nW: number, uLo: number, uHi: number, out: number[]): void {
+  const m = nP + 2 * nW;
+  const push = (u: number) => { if (u > uLo && u < uHi) out.push(u); };
+  for (let i = 0; i < m; i++) {
+    for (let j = i + 1; j < m; j++) {
+      // lines of two different windows never bound one polygon; nor do a window's two lines with a third
+      const wi = i < nP ? -1 : (i - nP) >> 1, wj = j < nP ? -1 : (j - nP) >> 1;
+      if (wi >= 0 && wj >= 0) continue;
+      const w = Math.max(wi, wj);
+      const det = r.a[i] * r.b[j] - r.a[j] * r.b[i];
+      const scale = (Math.abs(r.a[i]) + Math.abs(r.b[i])) * (Math.abs(r.a[j]) + Math.abs(r.b[j]));
+      if (Math.abs(det) <= 1e-12 * scale) {
+        // parallel: where they coincide, if they move against each other there
+        const nn = r.a[i] * r.a[i] + r.b[i] * r.b[i];
+        const lam = (r.a[i] * r.a[j] + r.b[i] * r.b[j]) / nn;
+        const e1 = r.h1[j] - lam * r.h1[i], e0 = r.h0[j] - lam * r.h0[i];
+        if (Math.abs(e1) <= 1e-14 * (Math.abs(r.h1[j]) + Math.abs(lam * r.h1[i]))) continue;
+        const u = -e0 / e1;
+        if (u > uLo && u < uHi && lineKept(r, nP, w, i, j, u)) out.push(u);
+        continue;
+      }
+      // where i and j meet: (p, q) = P0 + P1 u
+      const pp0 = (r.h0[i] * r.b[j] - r.h0[j] * r.b[i]) / det, pp1 = (r.h1[i] * r.b[j] - r.h1[j] * r.b[i]) / det;
+      const qq0 = (r.a[i] * r.h0[j] - r.a[j] * r.h0[i]) / det, qq1 = (r.a[i] * r.h1[j] - r.a[j] * r.h1[i]) / det;
+      for (let k = j + 1; k < m; k++) {
+        const wk = k < nP ? -1 : (k - nP) >> 1;
+        if (wk >= 0 && w >= 0) continue;
+        const ww = Math.max(w, wk);
+        if (r.h1[i] === 0 && r.h1[j] === 0 && r.h1[k] === 0) continue;
+        const g0 = r.a[k] * pp0 + r.b[k] * qq0 - r.h0[k], g1 = r.a[k] * pp1 + r.b[k] * qq1 - r.h1[k];
+        if (g1 === 0) continue;
+        const u = -g0 / g1;
+        if (!(u > uLo && u < uHi)) continue;
+        if (keeps(r, nP, ww, pp0 + pp1 * u, qq0 + qq1 * u, u)) push(u);
+      }
+    }
+  }
 }
