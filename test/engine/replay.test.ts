@@ -113,7 +113,36 @@ const SEGMENT_LINE = JSON.stringify({
   ],
 });
 
+/**
+ * A chain of four Rb-87 analysers of this project's own (0.5 T, 180 T/m, 5 cm, pole gaps 2 mm × 6 mm), each passing
+ * m_J = +1/2 through a 35° rotator to the next: more than 16 sub-beams leave M3 for R3 and are merged there.
+ */
+function analyserChain(): string {
+  const elements: unknown[] = [{ id: 'S1', kind: 'slit', gap: '25 cm', width: '0.8 mm', height: '0.05 mm', to: 'M1' }];
+  for (let i = 1; i <= 4; i++) {
+    const last = i === 4;
+    elements.push({
+      id: `M${i}`, kind: 'magnet', gap: i === 1 ? '4 cm' : '2 cm', axis: { roll: '0 deg' }, field: '0.5 T', gradient: '180 T/m', length: '5 cm',
+      aperture: { width: '2 mm', height: '6 mm' }, group: 'mJ', ports: { 'mJ=+1/2': last ? 'D1' : `R${i}`, 'mJ=-1/2': i === 1 ? 'stop' : `X${i}` },
+    });
+    if (i > 1) elements.push({ id: `X${i}`, kind: 'detector', gap: '5 cm', efficiency: 0.9, background: '1 /s', dwell: '10 s', window: { width: '2 mm', height: '20 mm' } });
+    if (!last) elements.push({ id: `R${i}`, kind: 'rotator', gap: '2 cm', axis: { roll: '90 deg' }, angle: '35 deg', to: `M${i + 1}` });
+  }
+  elements.push({ id: 'D1', kind: 'detector', gap: '30 cm', efficiency: 0.9, background: '1 /s', dwell: '10 s', window: { width: '2 mm', height: '30 mm' } });
+  return JSON.stringify({
+    format: 'spinyard.beamline', version: 1, title: 'Replay check: Rb-87 analyser chain of four', species: 'Rb-87',
+    oven: { state: { kind: 'unpolarized' }, flux: '5e8 /s', velocity: { kind: 'effusive', temperature: '420 K' }, aperture: { width: '1 mm', height: '0.05 mm' }, to: 'S1' },
+    elements,
+  });
+}
+
 describe('evaluation reuse: a replayed run equals a run of the whole line, bit for bit', () => {
+  it('sub-beams merged at a magnet before the scanned rotator: the merged counts and fraction are repeated', () => {
+    const text = analyserChain();
+    expect(agreeOnGrid(text, grid1('R3.angle', [0, 0.2, 0.5])).replayed).toBe(1);
+    expect(evaluate(planOf(text), { 'R3.angle': 0.2 }).merged?.subBeams ?? 0).toBeGreaterThan(16);
+  });
+
   it('what the walk did outside the scanned element is repeated: leaves, warnings, positions, averages and their nodes', () => {
     const stats = agreeOnGrid(SEGMENT_LINE, grid1('M3.axis.roll', [0, 10 * deg, 50 * deg, 80 * deg]));
     expect(stats.replayed).toBe(2);
