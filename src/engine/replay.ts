@@ -13,8 +13,8 @@
  * arrival. Each effect lands in the same order as in a walk of the whole line, and every number the region computes
  * starts from the same state objects, so the run is the same bit for bit as one that walked everything.
  *
- * A cut qualifies when its region is closed (no element in it is reached by a path that avoids C) and no RF flipper
- * or field twist lies outside it (those walk the subtree behind them more than once and read its leaves). Where a
+ * A cut qualifies when something stands before it, its region is closed (no element in it is reached by a path that
+ * avoids C) and no RF flipper or field twist lies outside it (those walk the subtree behind them more than once and read its leaves). Where a
  * magnet outside the region sorts into sub-beams, its merging compares them at the planes behind it, so the record
  * also needs the region's gaps and lengths unchanged. A run that finds no record that holds walks the whole line and
  * records it at the element whose set-points changed most often from one evaluation to the next (a scan's inner
@@ -209,7 +209,8 @@ export class EvaluationSession implements WalkSession {
         if (this.kinds[k] === 'rf' || this.kinds[k] === 'twist') ok = false;
       }
     }
-    r = ok ? { outside, inside } : null;
+    // nothing before the cut (it is the oven's own target): a record would save no walk
+    r = ok && outside.length > 0 ? { outside, inside } : null;
     this.regions.set(c, r);
     return r;
   }
