@@ -78,8 +78,11 @@ export class Random {
     this.d = d >>> 0;
   }
 
-  /** Fills `out[0 … n)` with the generator's next n outputs (32-bit words), as nextUint32 would give them. */
-  fillUint32(out: Uint32Array, n: number): void {
+  /**
+   * Fills `out[0 … n)` with the generator's next n outputs, the 32-bit words of nextUint32 as signed integers (x | 0:
+   * small integers to the JavaScript engine, where words above 2³¹ read from a Uint32Array would be boxed doubles).
+   */
+  fillWords(out: Int32Array, n: number): void {
     let a = this.a | 0, b = this.b | 0, c = this.c | 0, d = this.d | 0;
     for (let i = 0; i < n; i++) {
       const x = Math.imul(b, 5);
@@ -105,13 +108,14 @@ export class Random {
    * (separate bits, as J. A. Doornik, "An improved ziggurat method", 2005, advises). Exact but for that 24-bit grid.
    */
   exponentialFrom(r: number): number {
+    // r may be a signed word (fillWords) or an unsigned one (nextUint32): only its bits are read
     for (;;) {
       const iz = r & 255, j = r >>> 8;
       if (j < ZIG.k[iz]) return j * ZIG.w[iz];
       if (iz === 0) return ZIG_R - Math.log(1 - this.uniform());
       const x = j * ZIG.w[iz];
       if (ZIG.f[iz] + this.uniform() * (ZIG.f[iz - 1] - ZIG.f[iz]) < Math.exp(-x)) return x;
-      r = this.nextUint32();
+      r = this.nextUint32() | 0;
     }
   }
 

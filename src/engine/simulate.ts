@@ -104,7 +104,7 @@ function tabulated(d: VelocityDistribution, n = 8192): (u: number) => number {
  * tabulated inverse CDF.
  */
 function speedSampler(d: VelocityDistribution, rng: Random): (r1: number, r2: number) => number {
-  const uniform = (r: number) => (r + 1) * 2.3283064365386963e-10;   // in (0, 1]
+  const uniform = (r: number) => ((r >>> 0) + 1) * 2.3283064365386963e-10;   // in (0, 1], from a signed or unsigned word
   switch (d.kind) {
     case 'fixed': return () => d.speed;
     case 'effusive': return (r1, r2) => d.a * Math.sqrt(rng.exponentialFrom(r1) + rng.exponentialFrom(r2));
@@ -130,6 +130,108 @@ function speedSampler(d: VelocityDistribution, rng: Random): (r1: number, r2: nu
       return (r1) => inv(1 - uniform(r1));
     }
   }
+}
+
+/** Every atom's isotope (by the cumulative fractions) and speed: three 32-bit words an atom, a block at a time. */
+function drawSpeeds(rng: Random, samplers: readonly ((r1: number, r2: number) => number)[], cumFraction: Float64Array, totalFraction: number,
+  sysOf: Int32Array, speeds: Float64Array): void {
+  const atoms = speeds.length, nSys = samplers.length;
+  const words = new Int32Array(BLOCK * 3);
+  const one = samplers[0];
+  for (let a0 = 0; a0 < atoms; a0 += BLOCK) {
+    const nb = Math.min(BLOCK, atoms - a0);
+    rng.fillWords(words, 3 * nb);
+    if (nSys === 1) {
+      for (let j = 0; j < nb; j++) speeds[a0 + j] = one(words[3 * j + 1], words[3 * j + 2]);
+      continue;
+    }
+    for (let j = 0; j < nb; j++) {
+      const u = (words[3 * j] >>> 0) * 2.3283064365386963e-10 * totalFraction;
+      let k = 0;
+      while (k < nSys - 1 && u >= cumFraction[k]) k++;
+      sysOf[a0 + j] = k;
+      speeds[a0 + j] = samplers[k](words[3 * j + 1], words[3 * j + 2]);
+    }
+  }
+}
+
+/** What an atom on a path needs for its transverse draw and its detector, looked up once per path. */
+interface PathGeo {
+  readonly g: PreparedPath;
+  readonly src: { x: number; z: number; width: number; height: number } | null;
+  readonly col: Rect | null;
+  readonly slope: number;
+  readonly fpl: number;
+  readonly w: Rect | undefined;
+  readonly acc: Hits | undefined;
+  readonly id: string;
+}
+
+/**
+ * Every atom's path by the Born rule at its speed, its transverse draw, its clipping and its hit: five uniforms an
+ * atom (the path, two for the start point, two for the point in the first slit), a block at a time.
+ */
+function followAtoms(rng: Random, opts: SimulateOptions, sysPaths: readonly Int32Array[], sysOf: Int32Array, probs: readonly Float64Array[],
+  speeds: Float64Array, geo: readonly PathGeo[], pathAtoms: Float64Array, pathClipped: Float64Array): { lostSpin: number; clipped: number; negative: number } {
+  const atoms = speeds.length;
+  const buf = new Float64Array(BLOCK * 5);
+  const onHit = opts.onHit;
+  let lostSpin = 0, clipped = 0, negative = 0;
+  for (let a0 = 0; a0 < atoms; a0 += BLOCK) {
+    if ((a0 & 0xffff) < BLOCK) {
+      if (opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
+      opts.onProgress?.(a0 / atoms);
+    }
+    const nb = Math.min(BLOCK, atoms - a0);
+    rng.fillUniform32(buf, 5 * nb);
+    for (let j = 0; j < nb; j++) {
+      const a = a0 + j, o = 5 * j;
+      // one path by the Born rule at this atom's speed; what is left is absorbed in the spin operations
+      const sp = sysPaths[sysOf[a]];
+      let u = buf[o], chosen = -1;
+      for (let q = 0; q < sp.length; q++) {
+        const i = sp[q];
+        const p = probs[i][a];
+        if (p < 0) negative = Math.min(negative, p);
+        u -= p > 0 ? p : 0;
+        if (u < 0) {
+          chosen = i;
+          break;
+        }
+      }
+      if (chosen < 0) {
+        lostSpin++;
+        continue;
+      }
+      const pg = geo[chosen], g = pg.g, src = pg.src, col = pg.col, slope = pg.slope;
+      const inv2 = 1 / (speeds[a] * speeds[a]);
+      const sx = src ? src.x + src.width * (buf[o + 1] - 0.5) : 0, sz = src ? src.z + src.height * (buf[o + 2] - 0.5) : 0;
+      const cx = col ? col.x + col.width * (buf[o + 3] - 0.5) : sx, cz = col ? col.z + col.height * (buf[o + 4] - 0.5) : sz;
+      pathAtoms[chosen]++;
+      let ok = true;
+      for (let k = 0; k < g.stripY.length; k++) {
+        const f = g.stripY[k] * slope;
+        const q = (g.stripX[k] ? sx + (cx - sx) * f : sz + (cz - sz) * f) + g.stripNum[k] * inv2;
+        if (q < g.stripLo[k] || q > g.stripHi[k]) {
+          ok = false;
+          break;
+        }
+      }
+      const px = sx + (cx - sx) * pg.fpl + g.planeNumX * inv2, pz = sz + (cz - sz) * pg.fpl + g.planeNumZ * inv2;
+      const w = pg.w;
+      if (ok && w && !(within(px, w.x, w.width) && within(pz, w.z, w.height))) ok = false;
+      if (!ok) {
+        pathClipped[chosen]++;
+        clipped++;
+        continue;
+      }
+      if (pg.acc) {
+        if (onHit) onHit(pg.id, px, pz, speeds[a]);
+        pg.acc.push(px, pz);
+      }
+    }
+  }
+  return { lostSpin, clipped, negative };
 }
 
 /** The hits of one detector: positions on its plane (m), in arrays that grow by doubling. */
@@ -246,21 +348,7 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
   const cumFraction = new Float64Array(sysList.length);
   sysList.reduce((t, s, k) => (cumFraction[k] = t + s.fraction), 0);
   const totalFraction = cumFraction[sysList.length - 1];
-  const words = new Uint32Array(BLOCK * 3);
-  for (let a0 = 0; a0 < atoms; a0 += BLOCK) {
-    const nb = Math.min(BLOCK, atoms - a0);
-    rng.fillUint32(words, 3 * nb);
-    for (let j = 0; j < nb; j++) {
-      let k = 0;
-      if (sysList.length > 1) {
-        const u = words[3 * j] * 2.3283064365386963e-10 * totalFraction;
-        while (k < sysList.length - 1 && u >= cumFraction[k]) k++;
-      }
-      sysOf[a0 + j] = k;
-      speeds[a0 + j] = samplers[k](words[3 * j + 1], words[3 * j + 2]);
-    }
-  }
-  const buf = new Float64Array(BLOCK * 5);
+  drawSpeeds(rng, samplers, cumFraction, totalFraction, sysOf, speeds);
   if (opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
   const probs = paths.map((p) => pathProbabilities(p, speeds));
 
@@ -268,70 +356,20 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
   const detectors = result.detectors.map((d) => line.elements.find((e) => e.id === d.id)!).filter((e) => e.kind === 'detector');
   const perDet = new Map(detectors.map((d) => [d.id, new Hits()]));
   const perPath = paths.map((p) => ({ path: [...p.path], target: p.target, atoms: 0, clipped: 0 }));
-  let lostSpin = 0, clipped = 0, negative = 0;
   const prepared = paths.map(prepare);
   const sysPaths = sysList.map((s) => Int32Array.from(s.paths));
   // per path what an atom's transverse draw needs, looked up once
-  const geo = paths.map((fp, i) => {
+  const geo: PathGeo[] = paths.map((fp, i) => {
     const t = fp.track, g = prepared[i], src = t.source, col = t.collimator?.rect ?? null;
     const slope = Number.isFinite(g.ys) && g.ys > 0 ? 1 / g.ys : 0;
     return { g, src, col, slope, fpl: fp.plane * slope, w: fp.detector?.window, acc: fp.detector ? perDet.get(fp.detector.id) : undefined, id: fp.detector?.id ?? '' };
   });
-  const onHit = opts.onHit;
-  // five uniforms in [0, 1) per atom: the path, then two for the start point and two for the point in the first slit
-  for (let a0 = 0; a0 < atoms; a0 += BLOCK) {
-    if ((a0 & 0xffff) < BLOCK) {
-      if (opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
-      opts.onProgress?.(a0 / atoms);
-    }
-    const nb = Math.min(BLOCK, atoms - a0);
-    rng.fillUniform32(buf, 5 * nb);
-    for (let j = 0; j < nb; j++) {
-      const a = a0 + j, o = 5 * j;
-      // one path by the Born rule at this atom's speed; what is left is absorbed in the spin operations
-      const sp = sysPaths[sysOf[a]];
-      let u = buf[o], chosen = -1;
-      for (let q = 0; q < sp.length; q++) {
-        const i = sp[q];
-        const p = probs[i][a];
-        if (p < 0) negative = Math.min(negative, p);
-        u -= p > 0 ? p : 0;
-        if (u < 0) {
-          chosen = i;
-          break;
-        }
-      }
-      if (chosen < 0) {
-        lostSpin++;
-        continue;
-      }
-      const { g, src, col, slope, fpl, w, acc } = geo[chosen];
-      const inv2 = 1 / (speeds[a] * speeds[a]);
-      const sx = src ? src.x + src.width * (buf[o + 1] - 0.5) : 0, sz = src ? src.z + src.height * (buf[o + 2] - 0.5) : 0;
-      const cx = col ? col.x + col.width * (buf[o + 3] - 0.5) : sx, cz = col ? col.z + col.height * (buf[o + 4] - 0.5) : sz;
-      perPath[chosen].atoms++;
-      let ok = true;
-      for (let k = 0; k < g.stripY.length; k++) {
-        const f = g.stripY[k] * slope;
-        const q = (g.stripX[k] ? sx + (cx - sx) * f : sz + (cz - sz) * f) + g.stripNum[k] * inv2;
-        if (q < g.stripLo[k] || q > g.stripHi[k]) {
-          ok = false;
-          break;
-        }
-      }
-      const px = sx + (cx - sx) * fpl + g.planeNumX * inv2, pz = sz + (cz - sz) * fpl + g.planeNumZ * inv2;
-      if (ok && w && !(within(px, w.x, w.width) && within(pz, w.z, w.height))) ok = false;
-      if (!ok) {
-        perPath[chosen].clipped++;
-        clipped++;
-        continue;
-      }
-      if (acc) {
-        onHit?.(geo[chosen].id, px, pz, speeds[a]);
-        acc.push(px, pz);
-      }
-    }
-  }
+  const pathAtoms = new Float64Array(paths.length), pathClipped = new Float64Array(paths.length);
+  const { lostSpin, clipped, negative } = followAtoms(rng, opts, sysPaths, sysOf, probs, speeds, geo, pathAtoms, pathClipped);
+  perPath.forEach((p, i) => {
+    p.atoms = pathAtoms[i];
+    p.clipped = pathClipped[i];
+  });
   if (negative < -1e-9) warnings.push(`a path's probability came out at ${negative.toExponential(1)} at some speed (round-off of the state); it was taken as 0`);
 
   const out: SimulatedDetector[] = detectors.map((d) => {

@@ -24,6 +24,11 @@ describe('Random', () => {
     const many = new Float64Array(10_000);
     a.fillUniform32(many, many.length);
     for (let i = 0; i < many.length; i++) expect(many[i]).toBe(b.nextUint32() / 2 ** 32);
+    // and the words themselves, as signed integers
+    const c = new Random(5), e = new Random(5);
+    const words = new Int32Array(1000);
+    c.fillWords(words, words.length);
+    for (let i = 0; i < words.length; i++) expect(words[i] >>> 0).toBe(e.nextUint32());
   });
 
   it('draws unit exponentials by the ziggurat: mean, variance, the tail beyond its edge, and a χ² over 40 cells', () => {
