@@ -79,7 +79,8 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     const points: ScanPoint[] = [];
     const tell = progress(req.seq);
     const isCancelled = () => cancelled.has(req.seq);
-    const opts = { isCancelled, ...accept(req) };
+    // checked once above (checkCost): the points are not estimated again
+    const opts = { isCancelled, costChecked: true };
     let slice = now();
     for (let k = 0; k < indices.length; k++) {
       if (now() - slice >= sliceMs) {

@@ -20,7 +20,7 @@ parentPort!.on('message', (job: ScanWorkerJob) => {
     const params = scanParameters(c.plan, axes);
     const warnings = new Map<string, number>();
     const points = job.indices.map((idx) => {
-      const p = scanPoint(c.plan, params, idx, warnings, { acceptCost: true });
+      const p = scanPoint(c.plan, params, idx, warnings, { costChecked: true });
       const texts = [...warnings.keys()];
       const out: ScanPoint & { warningTexts?: string[] } = { ...p };
       if (p.warnings) {

@@ -13,6 +13,7 @@ import type { ToleranceStudy } from '../beamline/types.ts';
 import { evaluate, parameter, type Plan } from './plan.ts';
 import { Random } from './random.ts';
 import { CancelledError, RunError, type RunOptions } from './run.ts';
+import { checkCost } from './cost.ts';
 
 export interface Sensitivity {
   detector: string;
@@ -104,6 +105,9 @@ export function budget(plan: Plan, opts: BudgetOptions = {}, tolerances: readonl
   if (!Number.isInteger(draws) || draws < 0 || draws > MAX_BUDGET_DRAWS) throw new RunError(`budget: the number of draws must be a whole number from 0 to ${MAX_BUDGET_DRAWS}, got ${draws}`);
   if (!Number.isInteger(seed) || seed < 0 || seed > 0xffffffff) throw new RunError(`budget: the seed must be a whole number from 0 to 4294967295, got ${seed}`);
   if (!tolerances.length) throw new RunError('budget: the line has no tolerances (a "tolerances" list in the document: {"parameter": "M2.axis.roll", "halfWidth": "0.5 deg", "distribution": "uniform"})');
+  // the document's line estimated once, not at every evaluation
+  if (!opts.costChecked) checkCost(plan.line, opts);
+  opts = { ...opts, costChecked: true };
   const base = signals(plan, {}, opts);
   const ids = [...base.keys()];
   if (!ids.length) throw new RunError('budget: the line has no detector');

@@ -269,6 +269,15 @@ export function formatBytes(b: number): string {
   return `${(b / 1e9).toPrecision(2)} GB`;
 }
 
+/**
+ * The check a tool that evaluates a line many times (a scan, budget, fit) makes once before its first evaluation: the
+ * CostLimitError of the line's estimate, thrown, where it is over the limits; its evaluations then pass `costChecked`.
+ */
+export function checkCost(line: Beamline, opts: { acceptCost?: boolean }): void {
+  const limit = costLimit(estimateLine(line), opts.acceptCost === true);
+  if (limit) throw limit;
+}
+
 /** The CostLimitError for an estimate over the limits, or null: `accept` lifts the ask limit, not the refusal. */
 export function costLimit(c: CostEstimate, accept: boolean): CostLimitError | null {
   const hard = c.seconds > REFUSE_SECONDS || c.bytes > REFUSE_BYTES;

@@ -26,6 +26,7 @@ import { chiSquareSurvival } from '../physics/special.ts';
 import type { Measurements, Reading } from './measurements.ts';
 import { lineAt, parameter, type Plan } from './plan.ts';
 import { CancelledError, RunError, runLine, type RunOptions } from './run.ts';
+import { checkCost } from './cost.ts';
 
 /** A parameter to fit, with optional bounds (SI). */
 export interface FreeParameter { name: string; lower?: number; upper?: number }
@@ -342,6 +343,8 @@ function pseudoInverse(a: readonly number[][], scale: readonly number[]): { inv:
 }
 
 export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult {
+  // the document's line estimated once, not at every evaluation of the likelihood
+  if (!opts.costChecked) checkCost(plan.line, opts);
   const readings = data.readings;
   const warnings: string[] = [];
   const slots = opts.free.map((f) => {
@@ -449,7 +452,7 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
     for (const st of spanning) {
       let r;
       try {
-        r = runLine(withState(line, { kind: 'density', axis: stateAxis!, basis: labels, re: st.re, im: st.im }), { light: true, isCancelled: opts.isCancelled, acceptCost: opts.acceptCost });
+        r = runLine(withState(line, { kind: 'density', axis: stateAxis!, basis: labels, re: st.re, im: st.im }), { light: true, isCancelled: opts.isCancelled, costChecked: true });
       } catch (e) {
         if (e instanceof RunError) return null;
         throw e;
@@ -482,7 +485,7 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
     for (const g of groupList) {
       let r;
       try {
-        r = runLine(lineFor(x, g), { light: true, isCancelled: opts.isCancelled, acceptCost: opts.acceptCost });
+        r = runLine(lineFor(x, g), { light: true, isCancelled: opts.isCancelled, costChecked: true });
       } catch (e) {
         if (e instanceof RunError) return null;
         throw e;

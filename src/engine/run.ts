@@ -49,6 +49,11 @@ export interface RunOptions {
   acceptCost?: boolean;
   /** Receives the cost estimate made before the walk (cost.ts). */
   onEstimate?: (estimate: CostEstimate) => void;
+  /**
+   * The caller has checked the cost of this line already (a scan, budget or fit estimates the document's line once
+   * before its first evaluation, cost.ts checkCost): no estimate and no refusal here, unless progress asks for one.
+   */
+  costChecked?: boolean;
 }
 
 /** Runs the line and returns result format v1 (docs/design.md) with this engine's additions. */
@@ -60,10 +65,13 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   } catch (err) {
     throw new RunError((err as Error).message);
   }
-  const estimate = estimateRun(line, systems.map((s) => s.system.params));
-  const limit = costLimit(estimate, opts.acceptCost === true);
-  if (limit) throw limit;
-  opts.onEstimate?.(estimate);
+  const checked = opts.costChecked === true && !opts.onProgress && !opts.onEstimate;
+  const estimate = checked ? null : estimateRun(line, systems.map((s) => s.system.params));
+  if (estimate) {
+    const limit = opts.costChecked ? null : costLimit(estimate, opts.acceptCost === true);
+    if (limit) throw limit;
+    opts.onEstimate?.(estimate);
+  }
   const byId = new Map(line.elements.map((e) => [e.id, e]));
   const flux = resolveFlux(line, warnings);
   const leaves: FinePath[] = [];
@@ -76,7 +84,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   let chiNodes = 0, chiError = 0, wasmUsed = false;
   // the walk's share of the progress (the detector plane follows): element steps taken over those estimated
   const counter = { steps: 0 };
-  const progress = opts.onProgress && estimate.steps > 0 ? { total: estimate.steps, share: 0.8, report: opts.onProgress } : undefined;
+  const progress = opts.onProgress && estimate && estimate.steps > 0 ? { total: estimate.steps, share: 0.8, report: opts.onProgress } : undefined;
   const dists: VelocityDistribution[] = [];
   // a session replays the part of the walk a recorded run shares with this line (replay.ts)
   const walker = opts.session?.walker(line);

@@ -12,6 +12,7 @@ import type { Dimension } from '../beamline/units.ts';
 import { evaluate, parameter, type Plan } from './plan.ts';
 import { runLine, RunError, CancelledError, type RunOptions } from './run.ts';
 import type { RunResult } from './result.ts';
+import { checkCost } from './cost.ts';
 import { EvaluationSession } from './replay.ts';
 
 /** One scanned parameter: `points` values from `from` to `to` (SI), equally spaced or spaced by equal ratios. */
@@ -151,6 +152,9 @@ export function scanPoint(plan: Plan, params: readonly ScanParameterResult[], in
 /** Evaluate the plan at every point of the scan, in order (the first parameter outer). */
 export function scan(plan: Plan, axes: readonly ScanAxis[], opts: RunOptions = {}): ScanResult {
   const params = scanParameters(plan, axes);
+  // the document's line estimated once (a refusal stops the scan before its first point), not at every point
+  if (!opts.costChecked) checkCost(plan.line, opts);
+  opts = { ...opts, costChecked: true };
   const warnings = new Map<string, number>();
   const indices = scanIndices(params.map((p) => p.values.length));
   const points: ScanPoint[] = [];

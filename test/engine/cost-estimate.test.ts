@@ -11,6 +11,8 @@ import { parseBeamlineText } from '../../src/beamline/index.ts';
 import type { Beamline } from '../../src/beamline/types.ts';
 import { ASK_SECONDS, CostLimitError, REFUSE_SECONDS, costLimit, estimateRun, formatBytes, formatSeconds, type CostEstimate } from '../../src/engine/cost.ts';
 import { runLine } from '../../src/engine/run.ts';
+import { compile } from '../../src/engine/plan.ts';
+import { scan } from '../../src/engine/scan.ts';
 import { speciesSystems } from '../../src/engine/system.ts';
 
 const SAMPLES = resolve(import.meta.dirname, '..', '..', 'samples');
@@ -87,6 +89,17 @@ describe('the cost estimate before a run', () => {
     expect(limit.estimate.elementId).toBe('T1');
     // nothing of the walk ran
     expect(progress).toBe(0);
+  });
+
+  it('stops a scan of that line before its first point (the document\'s line is estimated once, not at every point)', () => {
+    const d = structuredClone(benchJ);
+    d.elements.find((e: { id: string }) => e.id === 'M2').ports['mJ=-1/2'] = 'T1';
+    d.elements.push({ id: 'T1', kind: 'twist', gap: '5 cm', field: '0.2 mT', start: { roll: '0 deg' }, end: { roll: '90 deg' }, length: '4 cm', to: 'D2' });
+    const c = compile(JSON.stringify(d));
+    if (!c.ok) throw new Error(c.problems.join('; '));
+    let points = 0;
+    expect(() => scan(c.plan, [{ name: 'C1.field.x', from: 0, to: 1e-6, points: 3 }], { onProgress: () => points++ })).toThrow(CostLimitError);
+    expect(points).toBe(0);
   });
 
   it('lets the same twist run at a single speed without asking (its subtree once, not at every speed of the beam)', () => {
