@@ -19,7 +19,7 @@ import {
 import { speciesPortLabels as docSpeciesPortLabels } from '../beamline/edits.ts';
 export { outputsOf, lengthOf, KINDS } from '../beamline/elements/registry.ts';
 export { changeSpecies, documentOutputs, elementOutputs, speciesIsHyperfine, DEFAULT_HYPERFINE_FIELD, type DocOutput, type SpeciesChange } from '../beamline/edits.ts';
-import { runLine, compile, CostLimitError, type RunResult, type ParameterSlot } from '../engine/index.ts';
+import { runLine, compile, estimateLine, CostLimitError, type RunResult, type ParameterSlot } from '../engine/index.ts';
 export { compile, scanParameters, scanIndices, scanPoint, scanResult, scanCsv, budget, csvNumber, leafName, CancelledError, RunError, MAX_SCAN_POINTS, MAX_BUDGET_DRAWS } from '../engine/index.ts';
 export { CostLimitError } from '../engine/index.ts';
 export type { Plan, ParameterSlot, ScanResult, ScanPoint, ScanParameterResult, BudgetResult, BudgetTolerance, BudgetDetector, Sensitivity } from '../engine/index.ts';
@@ -150,6 +150,15 @@ export function librarySpeciesNames(): string[] {
  *  where the estimated work is above the engine's ask limit. */
 export function runEngine(line: Beamline, opts?: { onProgress?: (f: number) => void; isCancelled?: () => boolean; acceptCost?: boolean }): RunResult {
   return runLine(line, opts);
+}
+
+/** The engine's estimate of a run of `line` in seconds (src/engine/cost.ts; microseconds to make); ∞ where it cannot be made. */
+export function estimatedSeconds(line: Beamline): number {
+  try {
+    return estimateLine(line).seconds;
+  } catch {
+    return Infinity;
+  }
 }
 
 /** Stops runLine right after its cost estimate (it passed the limits): nothing of the line is walked. */

@@ -21,13 +21,21 @@ vi.mock('../../src/beamline/check.ts', async (orig) => {
 });
 
 import { checkDocument, readDocument, type Beamline, type BeamlineDoc } from '../../src/app/core-adapter.ts';
-import { createEngineFeed } from '../../src/app/engine-feed.ts';
+import { ACCEPTED_GROWTH, createEngineFeed } from '../../src/app/engine-feed.ts';
+import { estimatedSeconds } from '../../src/app/core-adapter.ts';
+import { bothPortsText, twistText } from './cost-fixtures.ts';
 import { applyInspectorEdit } from '../../src/app/inspector-edit.ts';
 import { newDocument } from '../../src/app/default-doc.ts';
 import { serveEngineRequest } from '../../src/app/engine-serve.ts';
 import { runLine } from '../../src/engine/index.ts';
 import type { EngineReply } from '../../src/app/engine-protocol.ts';
 
+/** The normalized line of a valid document. */
+function checkLine(d: BeamlineDoc): Beamline {
+  const r = checkDocument(d);
+  if (!r.ok) throw new Error('invalid');
+  return r.line;
+}
 const reset = () => Object.assign(counts, { serialize: 0, parseJson: 0, validate: 0 });
 const check = (d: BeamlineDoc) => {
   const r = checkDocument(d);
@@ -102,6 +110,37 @@ describe('createEngineFeed', () => {
     feed.reset();
     expect(feed.send(a)).toBe(true);
     expect(runs).toHaveLength(4);
+  });
+});
+
+describe('a "Run anyway" and the edits after it', () => {
+  const docOf = (text: string): BeamlineDoc => {
+    const r = readDocument(text);
+    if (!r.ok) throw new Error(r.problems.join('; '));
+    return r.doc;
+  };
+
+  it('runs the edits of the same document unasked while the estimate stays within 4× of the accepted one; a document opened anew asks again', () => {
+    const runs: { seq: number; accept: boolean | undefined }[] = [];
+    const feed = createEngineFeed((seq, _l, accept) => runs.push({ seq, accept }), () => {});
+    const twist = docOf(twistText());
+    const edited = { ...twist, title: `${twist.title}, edited` };
+    expect(feed.send(twist)).toBe(true);
+    expect(runs.at(-1)?.accept).toBeUndefined();
+    expect(feed.runAnyway()).toBe(true);
+    expect(runs.at(-1)?.accept).toBe(true);
+    // an edit that keeps the estimate: run without asking
+    expect(feed.send(edited)).toBe(true);
+    expect(runs.at(-1)?.accept).toBe(true);
+    // a line estimated at far more than 4× the accepted one: asked again (the engine refuses it unaccepted)
+    const much = docOf(bothPortsText(15));
+    expect(estimatedSeconds(checkLine(much))).toBeGreaterThan(ACCEPTED_GROWTH * estimatedSeconds(checkLine(twist)));
+    expect(feed.send(much)).toBe(true);
+    expect(runs.at(-1)?.accept).toBeUndefined();
+    // opened anew: the acceptance is forgotten
+    feed.reset();
+    expect(feed.send(twist)).toBe(true);
+    expect(runs.at(-1)?.accept).toBeUndefined();
   });
 });
 

@@ -16,7 +16,7 @@ import { lineTree, unreached } from '../line-tree.ts';
 import { placeElements } from '../layout.ts';
 import { dwellById, portRows, portRowsCsv, warningsByElement, type RunResultView } from '../results.ts';
 import { createEngineClient, type EngineStatus } from '../engine-client.ts';
-import { createEngineFeed } from '../engine-feed.ts';
+import { ACCEPTED_GROWTH, createEngineFeed } from '../engine-feed.ts';
 import { NEW_ELEMENT_KINDS, type FieldSpec } from '../fields.ts';
 import { documentDirty, parseEps, moveGap, problemsFor, type SavedState } from '../editing.ts';
 import { applyPlanEdit, type PlanEdit } from '../plan-edit.ts';
@@ -693,7 +693,7 @@ function AppDialog({ d, close, api, selected, doc, actions, onRecover, onDiscard
           <button type="button" onClick={d.runAnyway}>Run anyway</button>}>
           <p data-cost-sentence>{costSentence(d.what, d.cost.estimate)}</p>
           <p className="note">{d.what === 'run'
-            ? 'Run anyway starts it with progress and Cancel; Don\'t run keeps this message in the results pane instead of results.'
+            ? `Run anyway starts it with progress and Cancel, and later edits of this document run without asking until the estimate grows ${ACCEPTED_GROWTH}-fold; Don't run keeps this message in the results pane instead of results.`
             : 'Run anyway starts it with progress and Cancel; Don\'t run keeps this message in the panel.'}</p>
         </Dialog>
       );
