@@ -428,12 +428,16 @@ function hitMap(xs: Float64Array, zs: Float64Array, bins: number, window: Rect |
   };
   const [x0, x1] = range(xs, window?.x, window?.width);
   const [z0, z1] = range(zs, window?.z, window?.height);
-  const counts = Array.from({ length: bins }, () => new Array<number>(bins).fill(0));
+  // counted in one flat array (a hit outside the range goes to the nearest bin), handed out as rows
+  const flat = new Float64Array(bins * bins);
+  const sx = bins / (x1 - x0), sz = bins / (z1 - z0), last = bins - 1;
   for (let i = 0; i < xs.length; i++) {
-    const a = Math.min(bins - 1, Math.max(0, Math.floor(((xs[i] - x0) / (x1 - x0)) * bins)));
-    const b = Math.min(bins - 1, Math.max(0, Math.floor(((zs[i] - z0) / (z1 - z0)) * bins)));
-    counts[a][b]++;
+    let a = Math.floor((xs[i] - x0) * sx), b = Math.floor((zs[i] - z0) * sz);
+    a = a < 0 ? 0 : a > last ? last : a;
+    b = b < 0 ? 0 : b > last ? last : b;
+    flat[a * bins + b]++;
   }
+  const counts = Array.from({ length: bins }, (_, a) => Array.from(flat.subarray(a * bins, (a + 1) * bins)));
   const edges = (lo: number, hi: number) => Array.from({ length: bins + 1 }, (_, i) => lo + ((hi - lo) * i) / bins);
   return { x: edges(x0, x1), z: edges(z0, z1), counts };
 }
