@@ -1,6 +1,6 @@
 // Asking before an expensive run: the engine's refusal by its cost estimate (CostLimitError) as the worker posts it,
 // the question's words, and the live run and the planning requests answering with the estimate (engine-serve.ts,
-// plan-serve.ts), run in Node as the worker runs them. The lines are the engine's own cost fixtures (cost-fixtures.ts).
+// plan-serve.ts), run in Node as the worker runs them. The lines are the engine's own cost fixtures (test/fixtures/cost-lines.ts).
 import { describe, expect, it } from 'vitest';
 import { asksFirst, costOf, costSentence, costTitle } from '../../src/app/cost-ask.ts';
 import { checkRunCost, CostLimitError, readDocument, RunError, type Beamline } from '../../src/app/core-adapter.ts';
@@ -8,7 +8,7 @@ import { serveEngineRequest } from '../../src/app/engine-serve.ts';
 import { createPlanServer } from '../../src/app/plan-serve.ts';
 import { createEngineFeed } from '../../src/app/engine-feed.ts';
 import type { EngineReply, PlanReply, PlanRequest } from '../../src/app/engine-protocol.ts';
-import { bothPortsText, twistText } from './cost-fixtures.ts';
+import { bothPortsText, twistText } from '../fixtures/cost-lines.ts';
 
 const lineOf = (text: string): Beamline => {
   const r = readDocument(text);

@@ -23,7 +23,7 @@ vi.mock('../../src/beamline/check.ts', async (orig) => {
 import { checkDocument, readDocument, type Beamline, type BeamlineDoc } from '../../src/app/core-adapter.ts';
 import { ACCEPTED_GROWTH, createEngineFeed } from '../../src/app/engine-feed.ts';
 import { estimatedSeconds } from '../../src/app/core-adapter.ts';
-import { bothPortsText, twistText } from './cost-fixtures.ts';
+import { bothPortsText, twistText } from '../fixtures/cost-lines.ts';
 import { applyInspectorEdit } from '../../src/app/inspector-edit.ts';
 import { newDocument } from '../../src/app/default-doc.ts';
 import { serveEngineRequest } from '../../src/app/engine-serve.ts';

@@ -1,5 +1,5 @@
 // Asking before an expensive run, in Chromium against the built app. The line is the engine's own cost fixture
-// (test/app/cost-fixtures.ts): bench J with a field twist behind a sort, whose estimate is minutes, above the ask limit.
+// (test/fixtures/cost-lines.ts): bench J with a field twist behind a sort, whose estimate is minutes, above the ask limit.
 // Opening it asks "Run this line?" with the estimate and the twist named; "Don't run" keeps the message in the results
 // pane instead of results; "Run anyway" runs it with the usual progress and Cancel. A scan of it from the panel asks
 // too, "Don't run" keeps the message in the panel. Screenshots of both dialogs (light and dark) and of the results
@@ -8,7 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { openApp, foreignRequests, runMenu, screenshotPath, RESULTS_DIR, type App } from './harness.ts';
-import { twistText } from '../app/cost-fixtures.ts';
+import { twistText } from '../fixtures/cost-lines.ts';
 
 let app: App;
 const file = join(RESULTS_DIR, 'e2e-cost-twist.spinyard');

@@ -14,9 +14,9 @@ import { runLine } from '../../src/engine/run.ts';
 import { compile } from '../../src/engine/plan.ts';
 import { scan } from '../../src/engine/scan.ts';
 import { speciesSystems } from '../../src/engine/system.ts';
+import { bothPortsText, chainText, twistText } from '../fixtures/cost-lines.ts';
 
 const SAMPLES = resolve(import.meta.dirname, '..', '..', 'samples');
-const benchJ = JSON.parse(readFileSync(resolve(SAMPLES, 'bench-j-cs-precession-coil.spinyard'), 'utf8'));
 
 function lineOf(text: string): Beamline {
   const r = parseBeamlineText(text);
@@ -31,29 +31,10 @@ function walkedPaths(line: Beamline): number {
 }
 const estimate = (line: Beamline): CostEstimate => estimateRun(line, speciesSystems(line.species).map((s) => s.system.params));
 
-/** Bench J with a field twist (0.2 mT turned by 90°) on M2's m_J = −1/2 port: speed by speed over the whole effusive beam. */
-function withTwist(velocity?: object): Beamline {
-  const d = structuredClone(benchJ);
-  if (velocity) d.oven.velocity = velocity;
-  const m2 = d.elements.findIndex((e: { id: string }) => e.id === 'M2');
-  d.elements[m2].ports['mJ=-1/2'] = 'T1';
-  d.elements.push({ id: 'T1', kind: 'twist', gap: '5 cm', field: '0.2 mT', start: { roll: '0 deg' }, end: { roll: '90 deg' }, length: '4 cm', to: 'D2' });
-  d.elements.find((e: { id: string }) => e.id === 'D2').gap = '40 cm';
-  return lineOf(JSON.stringify(d));
-}
-
-/** A Rb-87 line of n magnets in a row, each routing both m_J ports to the next (2^n paths). */
-function bothPorts(n: number): Beamline {
-  const elements: object[] = [];
-  for (let i = 1; i <= n; i++) {
-    const next = i === n ? 'D1' : `M${i + 1}`;
-    elements.push({ id: `M${i}`, kind: 'magnet', gap: '2 cm', axis: { roll: `${(i * 37) % 180} deg` }, field: '0.5 T', gradient: '100 T/m', length: '3 cm',
-      group: 'mJ', ports: { 'mJ=+1/2': next, 'mJ=-1/2': next } });
-  }
-  elements.push({ id: 'D1', kind: 'detector', gap: '20 cm', efficiency: 0.9, background: '1 /s', dwell: '10 s', window: { width: '20 mm', height: '30 mm' } });
-  return lineOf(JSON.stringify({ format: 'spinyard.beamline', version: 1, title: `both ports, ${n} magnets`, species: 'Rb-87',
-    oven: { state: { kind: 'unpolarized' }, flux: '1e9 /s', velocity: { kind: 'effusive', temperature: '420 K' }, aperture: { width: '1 mm', height: '0.1 mm' }, to: 'M1' }, elements }));
-}
+/** Bench J with a field twist on M2's m_J = −1/2 port (test/fixtures/cost-lines.ts): speed by speed over the whole effusive beam. */
+const withTwist = (velocity?: object): Beamline => lineOf(twistText(velocity));
+/** Rb-87, n magnets each routing both m_J ports to the next (2^n paths). */
+const bothPorts = (n: number): Beamline => lineOf(bothPortsText(n));
 
 describe('the cost estimate before a run', () => {
   for (const f of readdirSync(SAMPLES).filter((x) => x.endsWith('.spinyard'))) {
@@ -92,10 +73,7 @@ describe('the cost estimate before a run', () => {
   });
 
   it('stops a scan of that line before its first point (the document\'s line is estimated once, not at every point)', () => {
-    const d = structuredClone(benchJ);
-    d.elements.find((e: { id: string }) => e.id === 'M2').ports['mJ=-1/2'] = 'T1';
-    d.elements.push({ id: 'T1', kind: 'twist', gap: '5 cm', field: '0.2 mT', start: { roll: '0 deg' }, end: { roll: '90 deg' }, length: '4 cm', to: 'D2' });
-    const c = compile(JSON.stringify(d));
+    const c = compile(twistText());
     if (!c.ok) throw new Error(c.problems.join('; '));
     let points = 0;
     expect(() => scan(c.plan, [{ name: 'C1.field.x', from: 0, to: 1e-6, points: 3 }], { onProgress: () => points++ })).toThrow(CostLimitError);
@@ -131,17 +109,8 @@ describe('the cost estimate before a run', () => {
   });
 
   it('names the line, not one element, where the work is spread over a long chain of analysers', () => {
-    const elements: object[] = [{ id: 'S1', kind: 'slit', gap: '30 cm', width: '1 mm', height: '0.05 mm', to: 'M1' }];
     const n = 400;
-    for (let i = 1; i <= n; i++) {
-      elements.push({ id: `M${i}`, kind: 'magnet', gap: '2 cm', axis: { roll: '0 deg' }, field: '0.5 T', gradient: '200 T/m', length: '5 cm',
-        aperture: { width: '2 mm', height: '6 mm' }, group: 'mJ', ports: { 'mJ=+1/2': i === n ? 'D1' : `R${i}`, 'mJ=-1/2': `X${i}` } });
-      elements.push({ id: `X${i}`, kind: 'detector', gap: '5 cm', efficiency: 0.9, background: '1 /s', dwell: '10 s', window: { width: '2 mm', height: '20 mm' } });
-      if (i < n) elements.push({ id: `R${i}`, kind: 'rotator', gap: '2 cm', axis: { roll: '90 deg' }, angle: '40 deg', to: `M${i + 1}` });
-    }
-    elements.push({ id: 'D1', kind: 'detector', gap: '30 cm', efficiency: 0.9, background: '1 /s', dwell: '10 s', window: { width: '2 mm', height: '30 mm' } });
-    const line = lineOf(JSON.stringify({ format: 'spinyard.beamline', version: 1, title: 'analyser chain', species: 'Rb-87',
-      oven: { state: { kind: 'unpolarized' }, flux: '5e8 /s', velocity: { kind: 'effusive', temperature: '420 K' }, aperture: { width: '1 mm', height: '0.05 mm' }, to: 'S1' }, elements }));
+    const line = lineOf(chainText(n));
     const c = estimate(line);
     expect(c.paths).toBe(n + 1);
     expect(c.share).toBeLessThan(0.25);
