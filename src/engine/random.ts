@@ -12,6 +12,8 @@ export class Random {
   private c: number;
   private d: number;
   private spare: number | null = null;
+  /** Scratch words of fillUniform32. */
+  private words = new Int32Array(0);
 
   constructor(seed: number) {
     let s = seed >>> 0;
@@ -54,28 +56,15 @@ export class Random {
 
   /**
    * Fills `out[0 … n)` with uniforms of 32 random bits each, the next n outputs x of the generator as x·2⁻³², in
-   * [0, 1) — or (x + 1)·2⁻³², in (0, 1], where `open0` asks for no 0 (a logarithm's argument). The generator's steps
-   * are those of nextUint32, done in one loop on local words (a simulated run draws millions).
+   * [0, 1) — or (x + 1)·2⁻³², in (0, 1], where `open0` asks for no 0 (a logarithm's argument): the words of
+   * fillWords, scaled.
    */
   fillUniform32(out: Float64Array, n: number, open0 = false): void {
-    let a = this.a | 0, b = this.b | 0, c = this.c | 0, d = this.d | 0;
+    if (this.words.length < n) this.words = new Int32Array(Math.max(n, 2 * this.words.length));
+    const w = this.words;
+    this.fillWords(w, n);
     const shift = open0 ? 1 : 0;
-    for (let i = 0; i < n; i++) {
-      const x = Math.imul(b, 5);
-      const r = Math.imul((x << 7) | (x >>> 25), 9);
-      const t = b << 9;
-      c ^= a;
-      d ^= b;
-      b ^= c;
-      a ^= d;
-      c ^= t;
-      d = (d << 11) | (d >>> 21);
-      out[i] = ((r >>> 0) + shift) * 2.3283064365386963e-10;
-    }
-    this.a = a >>> 0;
-    this.b = b >>> 0;
-    this.c = c >>> 0;
-    this.d = d >>> 0;
+    for (let i = 0; i < n; i++) out[i] = ((w[i] >>> 0) + shift) * 2.3283064365386963e-10;
   }
 
   /**
