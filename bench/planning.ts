@@ -1,14 +1,15 @@
 /**
  * `npm run bench -- planning`: the planning tools on the samples, in one thread (best of 3 after a warm-up run),
  * and a scan through the built command line in 1 and 2 worker threads (start-up included). Figures go into
- * docs/bench.md by hand. The long items (bench H's 100 × 100 map, its budget of 10 tolerances with 10⁴ draws)
- * are timed once after a warm-up on a smaller case; `--quick` leaves them out.
+ * docs/bench.md by hand. The long items (bench H's 100 × 100 map, its budget of 10 tolerances with 10⁴ draws, the
+ * 1000-point scans of every sample, 10⁶ simulated atoms) are timed once after a warm-up on a smaller case; `--quick`
+ * leaves out the map and the budget.
  */
-import { readFileSync } from 'node:fs';
+import { readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { loadavg } from 'node:os';
-import { budget, compile, evaluate, parameter, scan, type Plan } from '../src/engine/index.ts';
+import { budget, compile, evaluate, parameter, scan, type Plan, type ScanAxis } from '../src/engine/index.ts';
 import { fit } from '../src/engine/fit.ts';
 import { readMeasurements } from '../src/engine/measurements.ts';
 import { Random } from '../src/engine/random.ts';
@@ -122,6 +123,24 @@ export function benchPlanning(root: string, opts: { quick?: boolean; only?: read
     item('budget-h', 'budget, bench H, 10 tolerances, 10⁴ Monte Carlo draws', () => once(() => budget(H, { draws: 20 }, tol), () => budget(H, { draws: 10_000 }, tol)));
     item('budget-h-500', 'budget, bench H, 10 tolerances, 500 Monte Carlo draws', () => once(() => budget(H, { draws: 20 }, tol), () => budget(H, { draws: 500 }, tol)));
   }
+  // the issue's scans: every sample over its last magnet's roll (θ where its axis is written by θ) and over its first
+  // field set-point (½× to 1.5× its value), 1000 points each, one run after a 10-point warm-up
+  for (const f of readdirSync(join(root, 'samples')).filter((x) => x.endsWith('.spinyard')).sort()) {
+    const name = f.replace('.spinyard', '');
+    const P = plan(name);
+    const magnets = P.line.elements.filter((e) => e.kind === 'magnet');
+    const last = magnets[magnets.length - 1];
+    const roll = last && (P.parameters.find((q) => q.name === `${last.id}.axis.roll`) ?? P.parameters.find((q) => q.name === `${last.id}.axis.theta`));
+    const field = P.parameters.find((q) => q.dimension === 'field');
+    const axes: [string, ScanAxis][] = [];
+    if (roll) axes.push([roll.name, { name: roll.name, from: 0, to: Math.PI, points: 1000 }]);
+    if (field) axes.push([field.name, { name: field.name, from: field.value > 0 ? field.value / 2 : 0, to: field.value > 0 ? 1.5 * field.value : 1e-4, points: 1000 }]);
+    for (const [what, a] of axes) {
+      item('scan-samples', `scan, ${name.slice(0, 7)}, ${what}, 1000 points`, () => once(() => scan(P, [{ ...a, points: 10 }]), () => scan(P, [a])));
+    }
+  }
+  item('simulate-1e6', 'simulate, bench G, 10⁶ atoms', () => once(() => simulate(G, { atoms: 10_000 }), () => simulate(G, { atoms: 1_000_000 })));
+  item('simulate-1e6', 'simulate, bench H, 10⁶ atoms', () => once(() => simulate(H, { atoms: 10_000 }), () => simulate(H, { atoms: 1_000_000 })));
   item('simulate', 'simulate, bench C, 100000 atoms', () => best(() => simulate(C, { atoms: 100_000 })));
   item('simulate', 'simulate, bench G, 100000 atoms', () => best(() => simulate(G, { atoms: 100_000 })));
   item('simulate', 'simulate, bench H, 100000 atoms', () => best(() => simulate(H, { atoms: 100_000 })));
