@@ -5,7 +5,7 @@
 // (src/beamline/numbers.ts, as the command line's budget): one notation and one count of figures down each column,
 // a value never finer than its stated error.
 import type { BudgetResult, ScanResult } from './core-adapter.ts';
-import { FIGURES, ROUND_OFF, formatColumn, notationOf, roundToFigures, roundValue, writeRounded, type NumberSpec, type Rounded } from '../beamline/numbers.ts';
+import { derivativeUnit, FIGURES, ROUND_OFF, formatColumn, notationOf, roundToFigures, roundValue, writeRounded, type NumberSpec, type Rounded } from '../beamline/numbers.ts';
 import { AXIS_NUMBERS, fmt } from './format.ts';
 
 export type ScanQuantity = 'yield' | 'counts';
@@ -123,10 +123,8 @@ export interface BudgetCells {
   ranking: { detector: string; tolerance: string; derivative?: string; error?: string; per?: string; effect: string; relative: string; share: string }[];
 }
 
-/** Counts/s per shown unit of a parameter. */
-export function perUnit(unit: string): string {
-  return unit ? `/s per ${unit}` : '/s';
-}
+/** The unit of ∂S/∂p by the parameter's shown unit (src/beamline/numbers.ts, shared with the command line). */
+export const perUnit = derivativeUnit;
 
 export function budgetCells(r: BudgetResult): BudgetCells {
   const ds = r.detectors;

@@ -233,3 +233,13 @@ export function csvValue(x: number | undefined, floor?: number): string {
   if (!Number.isFinite(x)) return x > 0 ? 'inf' : x < 0 ? '-inf' : 'nan';
   return String(Number(formatValue(x, { figures: CLEAN, floor })));
 }
+
+/**
+ * The unit of a budget's ∂S/∂p, S a signal in counts/s, by the parameter's shown unit (parameters.ts DISPLAY_UNITS):
+ * counts/s per that unit; none for a rate (counts/s per atom/s of the oven's flux is counts per atom, a plain number);
+ * counts/s for a plain-number parameter (an efficiency).
+ */
+export function derivativeUnit(unit: string): string {
+  if (unit === '/s') return '';
+  return unit ? `/s per ${unit}` : '/s';
+}

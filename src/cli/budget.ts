@@ -1,7 +1,7 @@
 /** `spinyard budget FILE [--draws N] [--seed S] [--json] [-o OUT]`: the tolerance budget of a line (src/engine/budget.ts). */
 import { budget, compile, RunError, type BudgetResult } from '../engine/index.ts';
 import { alignTable, formatNumber } from './format.ts';
-import { formatColumn } from '../beamline/numbers.ts';
+import { derivativeUnit, formatColumn } from '../beamline/numbers.ts';
 import { costGate, outputProblem, problemsOut, wholeOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { progressOf } from './progress.ts';
@@ -59,7 +59,8 @@ export function budgetText(b: BudgetResult, file: string): string {
   const relative = formatColumn(shownRanks.map((x) => x.r.relative * 100), { figures: 2 });
   const share = formatColumn(shownRanks.map((x) => x.r.share * 100), { figures: 2 });
   shownRanks.forEach(({ r, t }, i) => {
-    const per = t.unit ? ` /s per ${t.unit}` : ' /s';
+    const unit = derivativeUnit(t.unit);
+    const per = unit ? ` ${unit}` : '';
     rrows.push([r.detector, r.tolerance, `${derivative[i]} ± ${derivativeError[i]}${per}`, effect[i], `${relative[i]} %`, `${share[i]} %`]);
   });
   out.push(alignTable(rrows, [false, false, true, true, true, true]).split('\n').map((l) => `  ${l}`).join('\n'));

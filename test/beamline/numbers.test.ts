@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { FIGURES, ROUND_OFF, formatColumn, formatCountsColumn, formatValue, isRoundOff, roundToPlace, writeRounded } from '../../src/beamline/numbers.ts';
+import { derivativeUnit, FIGURES, ROUND_OFF, formatColumn, formatCountsColumn, formatValue, isRoundOff, roundToPlace, writeRounded } from '../../src/beamline/numbers.ts';
 
 const yieldSpec = { figures: FIGURES.yield, floor: ROUND_OFF };
 
@@ -91,5 +91,14 @@ describe('the number rule: σ and stated errors', () => {
     expect(writeRounded(roundToPlace(9.604, 0), 'plain')).toBe('10');
     expect(writeRounded(roundToPlace(9.604, 0), 'exponent')).toBe('1.0e1');
     expect(writeRounded(roundToPlace(0.996, -2), 'plain')).toBe('1.00');
+  });
+});
+
+describe('derivativeUnit', () => {
+  it('writes ∂S/∂p (S in counts/s) per the parameter\'s unit, as a plain number for the flux (counts per atom), in /s for a plain number', () => {
+    expect(derivativeUnit('deg')).toBe('/s per deg');
+    expect(derivativeUnit('T')).toBe('/s per T');
+    expect(derivativeUnit('/s')).toBe('');
+    expect(derivativeUnit('')).toBe('/s');
   });
 });
