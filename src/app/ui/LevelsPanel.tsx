@@ -85,7 +85,9 @@ export function LevelsPanel({ line, only, dark, seq }: Props) {
         const energies = formatColumn(m.rows.map((r) => r.energy / 1e6), { figures: 9 });
         const moments = formatColumn(m.rows.map((r) => r.moment), { figures: 6 });
         return (
-          <table key={m.id} className="levels" aria-label={`Levels in ${m.id}`} data-magnet={m.id} style={{ fontSize: 11, borderCollapse: 'collapse', width: '100%', margin: '6px 0' }}>
+          // a narrow pane scrolls the table sideways instead of cutting off its last column
+          <div key={m.id} className="levels-scroll" tabIndex={0} role="group" aria-label={`Levels in ${m.id} (scrolls sideways in a narrow pane)`} style={{ overflowX: 'auto' }}>
+          <table className="levels" aria-label={`Levels in ${m.id}`} data-magnet={m.id} style={{ fontSize: 11, borderCollapse: 'collapse', width: '100%', margin: '6px 0' }}>
             <caption style={{ textAlign: 'left', fontWeight: 600 }}>{m.id} at {formatColumn([m.field], { figures: 6 })[0]} T, sorted by {m.group === 'mJ' ? 'm_J' : 'eigenstate'}</caption>
             <thead><tr><th scope="col">level</th><th scope="col">E/h (MHz)</th><th scope="col">μ_eff (μB)</th><th scope="col">{m.group === 'mJ' ? 'port → ' : ''}target</th></tr></thead>
             <tbody>
@@ -102,6 +104,7 @@ export function LevelsPanel({ line, only, dark, seq }: Props) {
               ))}
             </tbody>
           </table>
+          </div>
         );
       })}
       {view.noField.length > 0 && <p className="note">No levels for {view.noField.join(', ')}: no field size given.</p>}
