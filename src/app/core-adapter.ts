@@ -19,7 +19,7 @@ import {
 import { speciesPortLabels as docSpeciesPortLabels } from '../beamline/edits.ts';
 export { outputsOf, lengthOf, KINDS } from '../beamline/elements/registry.ts';
 export { changeSpecies, documentOutputs, elementOutputs, speciesIsHyperfine, DEFAULT_HYPERFINE_FIELD, type DocOutput, type SpeciesChange } from '../beamline/edits.ts';
-import { runLine, compile, estimateLine, CostLimitError, type RunResult, type ParameterSlot } from '../engine/index.ts';
+import { runLine, compile, estimateLine, checkCost, type RunResult, type ParameterSlot } from '../engine/index.ts';
 export { compile, scanParameters, scanIndices, scanPoint, scanResult, scanCsv, budget, csvNumber, leafName, CancelledError, RunError, MAX_SCAN_POINTS, MAX_BUDGET_DRAWS } from '../engine/index.ts';
 export { CostLimitError } from '../engine/index.ts';
 export type { Plan, ParameterSlot, ScanResult, ScanPoint, ScanParameterResult, BudgetResult, BudgetTolerance, BudgetDetector, Sensitivity } from '../engine/index.ts';
@@ -161,22 +161,12 @@ export function estimatedSeconds(line: Beamline): number {
   }
 }
 
-/** Stops runLine right after its cost estimate (it passed the limits): nothing of the line is walked. */
-const ESTIMATED = new Error('estimated');
-
 /**
  * Throws the engine's CostLimitError where a run of `line` would be refused by its estimated cost (above the ask
- * limit without `acceptCost`, above the hard limit in any case); else returns. Only the estimate is made: the run
- * stops before its walk (runLine's onEstimate). Any other refusal is left to the run itself.
+ * limit without `acceptCost`, above the hard limit in any case); else returns. Only the estimate is made.
  */
 export function checkRunCost(line: Beamline, acceptCost: boolean): void {
-  try {
-    runLine(line, { acceptCost, light: true, onEstimate: () => {
-      throw ESTIMATED;
-    } });
-  } catch (e) {
-    if (e instanceof CostLimitError) throw e;
-  }
+  checkCost(line, { acceptCost });
 }
 
 /**

@@ -51,8 +51,9 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     return r.plan;
   };
 
-  /** The document's line by the engine's cost estimate, before a tool evaluates it many times: a CostLimitError above
-   *  the ask limit (unless `acceptCost`) or the hard one. A scan's points each carry their own refusal otherwise. */
+  /** The document's line by the engine's cost estimate, before a scan's points (each then skips its own): a
+   *  CostLimitError above the ask limit (unless `acceptCost`) or the hard one. A budget, fit or simulated run checks
+   *  its line in the engine. */
   const checkCost = (plan: Plan, acceptCost: boolean | undefined) => checkRunCost(plan.line, acceptCost === true);
   const accept = (req: { acceptCost?: boolean }) => (req.acceptCost ? { acceptCost: true } : {});
 
@@ -107,7 +108,6 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
   const runBudget = (req: PlanRequest & { kind: 'budget' }) => {
     const t0 = now();
     const plan = planOf(req.text);
-    checkCost(plan, req.acceptCost);
     const result = budget(plan, { draws: req.draws, seed: req.seed, onProgress: progress(req.seq), isCancelled: () => cancelled.has(req.seq), ...accept(req) });
     post({ type: 'budget-result', seq: req.seq, result, ms: now() - t0 });
   };
@@ -116,7 +116,6 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     const t0 = now();
     const plan = planOf(req.text);
     const m = readMeasurements(req.csv, plan, req.fileName);
-    checkCost(plan, req.acceptCost);
     const result = fit(plan, m, { free: req.free, state: req.state, isCancelled: () => cancelled.has(req.seq), ...accept(req) });
     const columns = m.columns.map((c) => {
       const slot = parameter(plan, c.name);
@@ -131,7 +130,6 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     const t0 = now();
     const plan = planOf(req.text);
     const isCancelled = () => cancelled.has(req.seq);
-    checkCost(plan, req.acceptCost);
     const result = simulate(plan, { atoms: req.atoms, seed: req.seed, ...(req.bins !== undefined ? { bins: req.bins } : {}), isCancelled, ...accept(req) });
     const run = evaluate(plan, {}, { light: true, isCancelled, ...accept(req) });
     const engine = run.detectors.map((d) => {

@@ -19,6 +19,8 @@ import { MAX_BUNDLE, MAX_UNMERGED } from './merge.ts';
 import { RunError } from './errors.ts';
 import type { HyperfineParams } from '../physics/hyperfine.ts';
 import { speciesSystems } from './system.ts';
+import { vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotation.ts';
+import { MAX_DEPTH } from './walk.ts';
 
 /** Above this estimated time (s) a run asks first. */
 export const ASK_SECONDS = 10;
@@ -76,7 +78,7 @@ interface Frame {
   /** Frequency terms of a spectral state. */
   terms: number;
   /** Unit vector of the last field the state crossed (a field along it adds no terms), or null. */
-  axis: { x: number; y: number; z: number } | null;
+  axis: Vec3 | null;
   depth: number;
 }
 
@@ -120,7 +122,7 @@ export function estimateRun(line: Beamline, params: readonly HyperfineParams[]):
         continue;
       }
       const e = byId.get(f.target);
-      if (!e || f.depth > 512) continue;
+      if (!e || f.depth > MAX_DEPTH) continue;
       steps += f.nodes > 1 ? 5 : 1;
       // the drift over the gap in an ambient field
       let terms = f.terms, axis = f.axis;
@@ -139,14 +141,15 @@ export function estimateRun(line: Beamline, params: readonly HyperfineParams[]):
           // a port the document does not route ends its path there (a leaf to "stop")
           const listed = outputsOf(e);
           const unlisted = Math.max(0, (byMj ? s.mjPorts : s.d) - listed.length);
-          if (unlisted > 0) leaf(e.id, { ...f, p: f.p * unlisted, m: Math.min(f.m * k, Math.max(bundle, f.m)) * unlisted, terms }, d2);
+          // the sub-beams each port passes on
+          const m = Math.min(f.m * k, Math.max(bundle, f.m));
+          if (unlisted > 0) leaf(e.id, { ...f, p: f.p * unlisted, m: m * unlisted, terms }, d2);
           for (const o of listed) {
-            const m = Math.min(f.m * k, Math.max(bundle, f.m));
             if (o.target === 'stop') {
               leaf(e.id, { ...f, m, terms }, d2);
               continue;
             }
-            // the walk counts the magnets along a path (walk.ts refuses a path of more than 512)
+            // the walk counts the magnets along a path (walk.ts refuses one of more than MAX_DEPTH)
             next(o.target, { m, axis: unit(e.axis), depth: f.depth + 1 });
           }
           break;
@@ -221,14 +224,14 @@ export function estimateLine(line: Beamline): CostEstimate {
  * count, spectral.ts), so its work is not counted here and does not make the run ask first.
  */
 function crossField(terms: number, axis: Frame['axis'], b: Frame['axis'], d2: number): { terms: number; axis: Frame['axis'] } {
-  if (b && axis && Math.abs(Math.abs(b.x * axis.x + b.y * axis.y + b.z * axis.z) - 1) < 1e-9) return { terms, axis };
+  if (b && axis && Math.abs(Math.abs(vecDot(b, axis)) - 1) < 1e-9) return { terms, axis };
   // past the bound the walk refuses the path on its own, within seconds, with the exact count (spectral.ts)
   return { terms: terms * d2 > MAX_SPEC_TERMS ? Infinity : terms * d2, axis: b };
 }
 
-function unit(v: { x: number; y: number; z: number }): Frame['axis'] {
-  const n = Math.hypot(v.x, v.y, v.z);
-  return n > 0 ? { x: v.x / n, y: v.y / n, z: v.z / n } : null;
+/** The direction of a field, or null for none. */
+function unit(v: Vec3): Vec3 | null {
+  return vecNorm(v) > 0 ? vecUnit(v) : null;
 }
 
 function reasonFor(e: Element, line: Beamline): string {

@@ -14,4 +14,4 @@ export { fit, type FitResult, type FitOptions, type FreeParameter, type FittedPa
 export { fittedDocument, fittedQuantity } from './fitted.ts';
 export { readMeasurements, MAX_READINGS, type Measurements, type Reading } from './measurements.ts';
 export { simulate, MAX_ATOMS, type SimulationResult, type SimulatedDetector, type SimulateOptions, type HitMap } from './simulate.ts';
-export { estimateRun, estimateLine, describeCost, costLimit, formatSeconds, formatBytes, CostLimitError, ASK_SECONDS, REFUSE_SECONDS, REFUSE_BYTES, type CostEstimate } from './cost.ts';
+export { estimateRun, estimateLine, describeCost, costLimit, checkCost, formatSeconds, formatBytes, CostLimitError, ASK_SECONDS, REFUSE_SECONDS, REFUSE_BYTES, type CostEstimate } from './cost.ts';

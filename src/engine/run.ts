@@ -22,7 +22,7 @@ import { RunError } from './errors.ts';
 import { distributionFor, initialSpec, resolveFlux, velocityPlot, checkTable } from './source.ts';
 import { visit, visitBundle } from './walk.ts';
 import { MAX_BUNDLE } from './merge.ts';
-import { costLimit, estimateRun, type CostEstimate } from './cost.ts';
+import { costLimit, estimateRun } from './cost.ts';
 import type { WalkCtx } from './steps/step.ts';
 import type { WalkSession } from './replay.ts';
 
@@ -47,11 +47,9 @@ export interface RunOptions {
   session?: WalkSession;
   /** Run even where the estimated cost is above the ask limit (cost.ts ASK_SECONDS); the refusal limits still hold. */
   acceptCost?: boolean;
-  /** Receives the cost estimate made before the walk (cost.ts). */
-  onEstimate?: (estimate: CostEstimate) => void;
   /**
    * The caller has checked the cost of this line already (a scan, budget or fit estimates the document's line once
-   * before its first evaluation, cost.ts checkCost): no estimate and no refusal here, unless progress asks for one.
+   * before its first evaluation, cost.ts checkCost): no refusal here, and no estimate unless progress needs one.
    */
   costChecked?: boolean;
 }
@@ -65,12 +63,11 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   } catch (err) {
     throw new RunError((err as Error).message);
   }
-  const checked = opts.costChecked === true && !opts.onProgress && !opts.onEstimate;
-  const estimate = checked ? null : estimateRun(line, systems.map((s) => s.system.params));
-  if (estimate) {
-    const limit = opts.costChecked ? null : costLimit(estimate, opts.acceptCost === true);
+  // checked by the caller: estimated here only for the progress's denominator
+  const estimate = opts.costChecked && !opts.onProgress ? null : estimateRun(line, systems.map((s) => s.system.params));
+  if (estimate && !opts.costChecked) {
+    const limit = costLimit(estimate, opts.acceptCost === true);
     if (limit) throw limit;
-    opts.onEstimate?.(estimate);
   }
   const byId = new Map(line.elements.map((e) => [e.id, e]));
   const flux = resolveFlux(line, warnings);

@@ -19,6 +19,9 @@ function elementPath(ctx: WalkCtx, id: string): string {
   return ctx.byId.get(id)?.path ?? id;
 }
 
+/** The most forks (magnets' ports, RF phases) along one path: deeper means a cycle or a line out of proportion. */
+export const MAX_DEPTH = 512;
+
 function checkCancel(ctx: WalkCtx): void {
   const n = ++ctx.counter.steps;
   const p = ctx.progress;
@@ -57,7 +60,7 @@ export function visit(ctx: WalkCtx, target: string, st: State, walk: Walk): void
       return;
     }
     checkCancel(ctx);
-    if (walk.depth > 512) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than 512 elements along one path (a cycle?)`);
+    if (walk.depth > MAX_DEPTH) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than ${MAX_DEPTH} elements along one path (a cycle?)`);
     if (target === 'stop') {
       finishLeaf(ctx, st, walk, 'stop', null);
       return;
@@ -103,7 +106,7 @@ export function visitBundle(ctx: WalkCtx, target: string, members: readonly Memb
     }
     checkCancel(ctx);
     const walk0 = members[0].walk;
-    if (walk0.depth > 512) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than 512 elements along one path (a cycle?)`);
+    if (walk0.depth > MAX_DEPTH) throw new RunError(`${elementPath(ctx, target)}: the line is deeper than ${MAX_DEPTH} elements along one path (a cycle?)`);
     if (target === 'stop') {
       for (const m of members) finishLeaf(ctx, m.st, m.walk, 'stop', null);
       return;
