@@ -23,7 +23,7 @@ import { runLine, compile, estimateLine, checkCost, type RunResult, type Paramet
 export { compile, scanParameters, scanIndices, scanPoint, scanResult, scanCsv, budget, csvNumber, leafName, CancelledError, RunError, MAX_SCAN_POINTS, MAX_BUDGET_DRAWS } from '../engine/index.ts';
 export { CostLimitError } from '../engine/index.ts';
 export type { Plan, ParameterSlot, ScanResult, ScanPoint, ScanParameterResult, BudgetResult, BudgetTolerance, BudgetDetector, Sensitivity } from '../engine/index.ts';
-export { fit, fittedDocument, fittedQuantity, readMeasurements, simulate, evaluate, parameter, MAX_ATOMS, MAX_READINGS } from '../engine/index.ts';
+export { fit, fittedDocument, fittedQuantity, readMeasurements, simulate, parameter, MAX_ATOMS, MAX_READINGS } from '../engine/index.ts';
 export type { FitResult, FittedParameter, FitResidual, FreeParameter, Measurements, SimulationResult, SimulatedDetector, HitMap } from '../engine/index.ts';
 export type { ScanDoc, ToleranceDoc, FitDoc, SimulationDoc } from '../beamline/types.ts';
 import { buildSheet, sheetHtml } from '../sheet/index.ts';

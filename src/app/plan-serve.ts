@@ -11,8 +11,8 @@
 // runs in the worker.
 
 import {
-  compile, checkRunCost, CostLimitError, budget, scanIndices, scanParameters, scanPoint, scanResult, CancelledError, fit, readMeasurements, simulate, evaluate, parameter,
-  displayUnit, type Plan, type ScanPoint, type ScanResult,
+  compile, checkRunCost, CostLimitError, budget, scanIndices, scanParameters, scanPoint, scanResult, CancelledError, fit, readMeasurements, simulate, parameter,
+  displayUnit, type Plan, type RunResult, type ScanPoint, type ScanResult,
 } from './core-adapter.ts';
 import { blockPoints } from './scan-blocks.ts';
 import { costOf } from './cost-ask.ts';
@@ -130,10 +130,11 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     const t0 = now();
     const plan = planOf(req.text);
     const isCancelled = () => cancelled.has(req.seq);
-    const result = simulate(plan, { atoms: req.atoms, seed: req.seed, ...(req.bins !== undefined ? { bins: req.bins } : {}), isCancelled, ...accept(req) });
-    const run = evaluate(plan, {}, { light: true, isCancelled, ...accept(req) });
-    const engine = run.detectors.map((d) => {
-      const profiles = run.leaves.filter((l) => l.target === d.id && l.profile).map((l) => l.profile!);
+    // the engine's numbers beside the simulated ones: the run the atoms were drawn along
+    let run: RunResult | undefined;
+    const result = simulate(plan, { atoms: req.atoms, seed: req.seed, ...(req.bins !== undefined ? { bins: req.bins } : {}), isCancelled, ...accept(req), onRun: (r) => (run = r) });
+    const engine = run!.detectors.map((d) => {
+      const profiles = run!.leaves.filter((l) => l.target === d.id && l.profile).map((l) => l.profile!);
       return { id: d.id, signal: d.signal, ...(profiles.length ? { profiles } : {}) };
     });
     post({ type: 'simulate-result', seq: req.seq, result, engine, ms: now() - t0 });

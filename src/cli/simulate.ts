@@ -1,5 +1,5 @@
 /** `spinyard simulate FILE [--atoms N] [--seed S] [--json] [-o OUT]`: a simulated run of the line (src/engine/simulate.ts). */
-import { compile, csvNumber, evaluate, RunError } from '../engine/index.ts';
+import { compile, csvNumber, RunError } from '../engine/index.ts';
 import { MAX_ATOMS, simulate, type SimulationResult } from '../engine/simulate.ts';
 import type { RunResult } from '../engine/result.ts';
 import { alignTable, formatDuration, formatNumber } from './format.ts';
@@ -70,7 +70,7 @@ export function cmdSimulateWith(file: string, text: string, options: Record<stri
     settings = { atoms: atoms ?? kept[k - 1].atoms, seed: seed ?? kept[k - 1].seed };
   }
   let s: SimulationResult;
-  let run: RunResult;
+  let run: RunResult | undefined;
   let hitsText = '';
   try {
     // every hit as a CSV row (mm on the detector's plane, the atom's speed), where --hits asks for them
@@ -78,14 +78,14 @@ export function cmdSimulateWith(file: string, text: string, options: Record<stri
     const onHit = typeof hitsFile === 'string'
       ? (d: string, x: number, z: number, v: number) => void rows.push(`${d},${csvNumber(x * 1e3)},${csvNumber(z * 1e3)},${csvNumber(v)}`)
       : undefined;
-    s = simulate(c.plan, { ...settings, onHit, onProgress: progressOf('simulate'), acceptCost: true });
+    // the engine's numbers beside the simulated ones: the run the atoms were drawn along
+    s = simulate(c.plan, { ...settings, onHit, onProgress: progressOf('simulate'), acceptCost: true, onRun: (r) => (run = r) });
     if (typeof hitsFile === 'string') hitsText = `${rows.join('\r\n')}\r\n`;
-    run = evaluate(c.plan, {}, { light: true, acceptCost: true });
   } catch (e) {
     if (e instanceof RunError) return err(e.message);
     throw e;
   }
-  const body = options.json ? `${JSON.stringify(s, null, 2)}\n` : simulateText(s, run, file);
+  const body = options.json ? `${JSON.stringify(s, null, 2)}\n` : simulateText(s, run!, file);
   if (typeof output === 'string') return { code: 0, stdout: '', stderr: '', file: { path: output, format: 'text', html: body, input: file, what: `simulated run (${options.json ? 'JSON' : 'text'})`, command: 'simulate' } };
   if (typeof hitsFile === 'string') return { code: 0, stdout: body, stderr: '', file: { path: hitsFile, format: 'text', html: hitsText, input: file, what: `hits of the simulated run (CSV, ${s.detectors.reduce((n, d) => n + d.hits, 0)} rows)`, command: 'simulate' } };
   return ok(body);

@@ -18,6 +18,7 @@ import { deflection, type FinePath } from './subbeam.ts';
 import { lineAt, type Plan } from './plan.ts';
 import { Random } from './random.ts';
 import { CancelledError, RunError, runLine, type RunOptions } from './run.ts';
+import type { RunResult } from './result.ts';
 import { specTraceAt } from './average.ts';
 import { specIsStatic } from './spectral.ts';
 
@@ -29,6 +30,8 @@ export interface SimulateOptions extends RunOptions {
   bins?: number;
   /** Receives every atom that reaches a detector inside its window: the detector, x and z on its plane (m) and its speed. */
   onHit?: (detector: string, x: number, z: number, speed: number) => void;
+  /** Receives the engine's run of the line the atoms follow (a light run, as evaluate makes it): its signals and profiles to set beside the simulated ones. */
+  onRun?: (run: RunResult) => void;
 }
 
 export const MAX_ATOMS = 50_000_000;
@@ -326,6 +329,7 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
   let paths: readonly FinePath[] = [];
   let flux = 0;
   const result = runLine(line, { ...opts, light: true, onProgress: undefined, onPaths: (p, f) => ((paths = p), (flux = f)) });
+  opts.onRun?.(result);
   const warnings: string[] = [];
   const rng = new Random(seed);
 
