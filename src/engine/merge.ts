@@ -202,6 +202,63 @@ export function blockedByApertures(t: Track, d: VelocityDistribution): boolean {
   return false;
 }
 
+/**
+ * The sum of the spin states of a cluster of merged sub-beams. States that went through the same propagators (equal
+ * μ, as the members of one bundle do) add without leaving their bases: W = [W_1 | W_2 | …], every term block-diagonal
+ * (Σ_i W_i X_i W_i† = W X W†), exact and cheap where the lab-frame sum would expand each member into one dense term
+ * per Bohr frequency (241 of 16 × 16 for a Cs-133 state behind a transverse field). Otherwise, or where the joined
+ * basis would cost more to average than the lab-frame terms, the states add pairwise (addStates).
+ */
+export function mergeStates(states: readonly State[]): State | null {
+  const joined = states.every((s) => !isNodes(s)) ? joinBases(states as readonly SpecState[]) : null;
+  if (joined) return joined;
+  let st: State | null = states[0];
+  for (let k = 1; k < states.length && st; k++) st = addStates(st, states[k]);
+  return st;
+}
+
+function joinBases(sts: readonly SpecState[]): SpecState | null {
+  const mu0 = sts[0].mu;
+  for (const s of sts) {
+    if ((s.mu === null) !== (mu0 === null)) return null;
+    if (s.mu && mu0 && (s.mu.length !== mu0.length || s.mu.some((m, i) => m !== mu0[i]))) return null;
+  }
+  const d = sts[0].W.rows;
+  const phis = new Map<number, number>();
+  let cols = 0, labTerms = 0;
+  const diffs = new Set<number>();
+  if (mu0) for (const a of mu0) for (const b of mu0) diffs.add(a - b);
+  for (const s of sts) {
+    cols += s.W.cols;
+    labTerms += s.terms.length * Math.max(1, diffs.size);
+    for (const t of s.terms) if (!phis.has(t.phi)) phis.set(t.phi, phis.size);
+  }
+  // averaging costs about (terms × entries): the joined basis's against the lab frame's
+  if (phis.size * cols * cols > labTerms * d * d) return null;
+  const W = cmatZeros(d, cols);
+  const xs = Array.from(phis.keys(), () => cmatZeros(cols, cols));
+  const mu = mu0 ? new Float64Array(cols) : null;
+  let off = 0;
+  for (const s of sts) {
+    const w = s.W, r = w.cols;
+    for (let i = 0; i < d; i++) for (let j = 0; j < r; j++) {
+      W.re[i * cols + off + j] = w.re[i * r + j];
+      W.im[i * cols + off + j] = w.im[i * r + j];
+    }
+    if (mu && s.mu) for (let j = 0; j < r; j++) mu[off + j] = s.mu[j];
+    for (const t of s.terms) {
+      const x = xs[phis.get(t.phi)!];
+      for (let a = 0; a < r; a++) for (let b = 0; b < r; b++) {
+        x.re[(off + a) * cols + off + b] += t.X.re[a * r + b];
+        x.im[(off + a) * cols + off + b] += t.X.im[a * r + b];
+      }
+    }
+    off += r;
+  }
+  const terms = Array.from(phis.keys(), (phi, i) => ({ phi, X: xs[i] }));
+  return { W, mu, terms, shared: {}, memo: {} };
+}
+
 /** ρ_a + ρ_b: lab-frame terms merged by phase-length, or node by node on one speed grid. */
 export function addStates(a: State, b: State): State | null {
   if (isNodes(a) || isNodes(b)) {
@@ -278,8 +335,7 @@ export function mergeForks(ctx: WalkCtx, at: string, target: string, forks: read
       out.push(forks[idx[0]]);
       continue;
     }
-    let st: State | null = forks[idx[0]].st;
-    for (let k = 1; k < idx.length && st; k++) st = addStates(st, forks[idx[k]].st);
+    const st = mergeStates(idx.map((i) => forks[i].st));
     if (!st) {
       for (const i of idx) out.push(forks[i]);
       continue;

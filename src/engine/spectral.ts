@@ -123,11 +123,13 @@ export function significance(t: SpecTerm): number {
 /** Lab-frame terms Σ_t M_t e^{−iφ_t s}, merged by phase-length. */
 export function specExpand(st: SpecState): SpecTerm[] {
   const out: SpecTerm[] = [];
-  const Wd = cmatDagger(st.W);
-  const r = st.W.cols;
+  const W = st.W;
+  const r = W.cols;
+  let Wd: CMat | null = null;
   for (const t of st.terms) {
     if (!st.mu) {
-      out.push({ phi: t.phi, X: cmatMul(cmatMul(st.W, t.X), Wd) });
+      if (isIdentity(W)) out.push({ phi: t.phi, X: { rows: r, cols: r, re: copyF64(t.X.re), im: copyF64(t.X.im) } });
+      else out.push({ phi: t.phi, X: cmatMul(cmatMul(W, t.X), (Wd ??= cmatDagger(W))) });
       continue;
     }
     const cut = 1e-18 * significance(t);
@@ -140,16 +142,59 @@ export function specExpand(st: SpecState): SpecTerm[] {
       if (g) g.push(i);
       else groups.set(f, [i]);
     }
-    for (const [f, idx] of groups) {
-      const x = cmatZeros(r, r);
-      for (const i of idx) {
-        x.re[i] = t.X.re[i];
-        x.im[i] = t.X.im[i];
-      }
-      out.push({ phi: t.phi + f, X: cmatMul(cmatMul(st.W, x), Wd) });
-    }
+    for (const [f, idx] of groups) out.push({ phi: t.phi + f, X: sparseSandwich(W, t.X, idx) });
   }
   return mergeTerms(out);
+}
+
+/** An identity matrix (the basis of a lab-frame state made by merging). */
+function isIdentity(w: CMat): boolean {
+  const n = w.rows;
+  if (w.cols !== n) return false;
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+    if (w.re[i * n + j] !== (i === j ? 1 : 0) || w.im[i * n + j] !== 0) return false;
+  }
+  return true;
+}
+
+/**
+ * W x W† for the x that holds X's entries at idx (ascending row-major indices) and zero elsewhere: W·x over x's
+ * non-zero entries only, then (W·x)·W† over W·x's non-zero columns. The products are summed in the order of a dense
+ * product (cmatMul skips the same zeros), so the result is the dense one number for number, in a small fraction of
+ * its work: a frequency group of a 16-state basis holds one or a few entries.
+ */
+function sparseSandwich(W: CMat, X: CMat, idx: readonly number[]): CMat {
+  const d = W.rows, r = W.cols;
+  const wr = W.re, wi = W.im;
+  const pr = zeroedF64(d * r), pi = zeroedF64(d * r);
+  const used = new Uint8Array(r);
+  // P = W·x: column j of P gathers W's column p times x_pj, p ascending (idx is in row-major order)
+  for (const k of idx) {
+    const p = (k / r) | 0, j = k - p * r;
+    const yr = X.re[k], yi = X.im[k];
+    used[j] = 1;
+    for (let i = 0; i < d; i++) {
+      const xr = wr[i * r + p], xi = wi[i * r + p];
+      pr[i * r + j] += xr * yr - xi * yi;
+      pi[i * r + j] += xr * yi + xi * yr;
+    }
+  }
+  // out = P·W†: (W†)_lj = conj(W_jl); for each row i and each used column l, row i of out gains P_il · conj(W_·l)
+  const out = cmatZeros(d, d);
+  const or = out.re, oi = out.im;
+  for (let i = 0; i < d; i++) {
+    for (let l = 0; l < r; l++) {
+      if (!used[l]) continue;
+      const xr = pr[i * r + l], xi = pi[i * r + l];
+      if (xr === 0 && xi === 0) continue;
+      for (let j = 0; j < d; j++) {
+        const yr = wr[j * r + l], yi = -wi[j * r + l];
+        or[i * d + j] += xr * yr - xi * yi;
+        oi[i * d + j] += xr * yi + xi * yr;
+      }
+    }
+  }
+  return out;
 }
 
 /**

@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { specInitial, specKraus, specPropagate, specAt, specIsStatic, type SpecState } from '../../src/engine/spectral.ts';
+import { specInitial, specKraus, specPropagate, specAt, specIsStatic, specExpand, type SpecState } from '../../src/engine/spectral.ts';
 import { specAverageTrace, specAverageBasis, CharCache } from '../../src/engine/average.ts';
 import { zeemanEigen, hyperfineHamiltonianHz, type HyperfineParams } from '../../src/physics/hyperfine.ts';
 import { tableDistribution } from '../../src/physics/velocity.ts';
@@ -80,5 +80,43 @@ describe('specIsStatic: a state whose ρ(v) does not depend on the speed', () =>
     expect(specIsStatic(moved)).toBe(false);
     // and ρ(v) does change with v there
     expect(maxDiff(specAt(moved, 100), specAt(moved, 900))).toBeGreaterThan(1e-6);
+  });
+});
+
+describe('lab-frame expansion (specExpand)', () => {
+  it('each Bohr frequency term is W x W† with x the entries of that frequency, number for number as the dense product', () => {
+    // Cs-133 unpolarised, sorted to F = 4, m_F ≥ −3 along z, then a transverse field: 16 μ's, up to 241 differences
+    const z = zeemanEigen(cs, 5e-7, { x: 1, y: 0, z: 0 });
+    const d = 16;
+    const lambda = Float64Array.from(z.values, (x) => 2 * Math.PI * x);
+    const rho = diag(d, (i) => (i >= 9 ? 1 / 16 : 0));
+    const st = specPropagate(specInitial(rho), () => z.vectors, lambda, 0.1);
+    expect(st.mu).not.toBeNull();
+    const terms = specExpand(st);
+    expect(terms.length).toBeGreaterThan(100);
+    // the reference: group X's entries by μ_a − μ_b, and form W x W† with two dense products
+    const W = st.W, Wd = cmatDagger(W), X = st.terms[0].X, mu = st.mu!;
+    const byPhi = new Map<number, CMat>();
+    for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) {
+      const i = a * d + b;
+      if (X.re[i] === 0 && X.im[i] === 0) continue;
+      const f = st.terms[0].phi + mu[a] - mu[b];
+      const x = byPhi.get(f) ?? cmatZeros(d, d);
+      x.re[i] = X.re[i];
+      x.im[i] = X.im[i];
+      byPhi.set(f, x);
+    }
+    let checked = 0;
+    for (const t of terms) {
+      const x = byPhi.get(t.phi);
+      if (!x) continue; // a group merged with a neighbour within 1e-13 of the largest phase-length
+      const ref = cmatMul(cmatMul(W, x), Wd);
+      for (let i = 0; i < d * d; i++) {
+        expect(t.X.re[i] + 0).toBe(ref.re[i] + 0);
+        expect(t.X.im[i] + 0).toBe(ref.im[i] + 0);
+      }
+      checked++;
+    }
+    expect(checked).toBeGreaterThan(100);
   });
 });
