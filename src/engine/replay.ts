@@ -14,7 +14,11 @@
  * starts from the same state objects, so the run is the same bit for bit as one that walked everything.
  *
  * A cut qualifies when something stands before it, its region is closed (no element in it is reached by a path that
- * avoids C) and no RF flipper or field twist lies outside it (those walk the subtree behind them more than once and read its leaves). Where a
+ * avoids C), no RF flipper lies outside it and no field twist outside it has C behind it (those walk the subtree behind
+ * them more than once and read its leaves; a twist whose subtree does not hold C is walked whole within one segment,
+ * and only its last grid's leaves, warnings, lost flux and sampled error reach the record). Where the changed element's
+ * own region does not qualify (a twist before it), the smallest qualifying region that holds it is recorded (the
+ * twist's). Where a
  * magnet outside the region sorts into sub-beams, its merging compares them at the planes behind it, so the record
  * also needs the region's gaps and lengths unchanged. A run that finds no record that holds walks the whole line and
  * records it at the element whose set-points changed most often from one evaluation to the next (a scan's inner
@@ -60,6 +64,9 @@ interface Segment {
   mergedAt: string[];
   blocked: string[];
   sampledNodes: number;
+  /** What field twists in the segment added to the sampled error, each on its own, and the grids they left unconverged. */
+  sampledErrors: number[];
+  unconverged: [string, { error: number; speeds: number }][];
   /** The averages used, in order (their quadrature nodes count once per run, average.ts CharCache.use). */
   averages: Averaged[];
 }
@@ -150,8 +157,27 @@ export class EvaluationSession implements WalkSession {
   /** The element changed most often between evaluations (later in the line on a tie) whose region qualifies. */
   private cutToRecord(): number | undefined {
     const order = [...this.changes.keys()].filter((k) => this.changes[k] > 0).sort((a, b) => this.changes[b] - this.changes[a] || b - a);
-    for (const k of order) if (this.region(k)) return k;
+    for (const k of order) {
+      if (this.region(k)) return k;
+      // behind a field twist the element's own region does not qualify: the smallest region that holds it and does
+      const around = this.enclosing(k);
+      if (around !== undefined) return around;
+    }
     return undefined;
+  }
+
+  /** The element other than k with the smallest qualifying region that holds k (a twist before k), if any. */
+  private enclosing(k: number): number | undefined {
+    let best: number | undefined, size = Infinity;
+    for (let c = 0; c < this.outs.length; c++) {
+      if (c === k || !this.reaches(c, k)) continue;
+      const r = this.region(c);
+      if (r && r.inside.length < size && r.inside.includes(k)) {
+        best = c;
+        size = r.inside.length;
+      }
+    }
+    return best;
   }
 
   /** True when the line has this session's elements in this order (the first line sets them). */
@@ -169,6 +195,20 @@ export class EvaluationSession implements WalkSession {
     if (els.length !== this.ids.length) return false;
     for (let k = 0; k < els.length; k++) if (els[k].id !== this.ids[k]) return false;
     return true;
+  }
+
+  /** True when element `to` lies behind element `from` (on some path from it). */
+  private reaches(from: number, to: number): boolean {
+    const seen = new Uint8Array(this.outs.length);
+    const stack = [...this.outs[from]];
+    while (stack.length) {
+      const k = stack.pop()!;
+      if (k === to) return true;
+      if (seen[k]) continue;
+      seen[k] = 1;
+      stack.push(...this.outs[k]);
+    }
+    return false;
   }
 
   /** The region of cut `c`, or null where it does not qualify (module doc). */
@@ -206,7 +246,9 @@ export class EvaluationSession implements WalkSession {
       if (!out[k]) inside.push(k);
       else {
         outside.push(k);
-        if (this.kinds[k] === 'rf' || this.kinds[k] === 'twist') ok = false;
+        // an RF flipper walks what follows it once per entry phase; a twist walks it on each of its grids and keeps
+        // the last: a record cannot cut into either, but a twist whose subtree does not hold the cut is one segment
+        if (this.kinds[k] === 'rf' || (this.kinds[k] === 'twist' && this.reaches(k, c))) ok = false;
       }
     }
     // nothing before the cut (it is the oven's own target): a record would save no walk
@@ -244,7 +286,7 @@ function sortsSubBeams(e: Element): boolean {
 function emptySegment(): Segment {
   return {
     leaves: [], warnings: [], positions: [], lost: [], hermiticity: 0, positive: true,
-    mergedCount: 0, mergedFraction: 0, mergedAt: [], blocked: [], sampledNodes: 0, averages: [],
+    mergedCount: 0, mergedFraction: 0, mergedAt: [], blocked: [], sampledNodes: 0, sampledErrors: [], unconverged: [], averages: [],
   };
 }
 
@@ -314,7 +356,7 @@ class Recorder implements Walker, WalkCut {
     ctx.hermiticity.positive = true;
     const count0 = ctx.merged.count, fraction0 = ctx.merged.fraction;
     ctx.merged.fraction = 0;
-    const nodes0 = ctx.sampled.nodes, error0 = ctx.sampled.error, unconverged0 = ctx.sampled.unconverged.size;
+    const nodes0 = ctx.sampled.nodes;
     const warnings = ctx.warnings, at = ctx.merged.at, blocked = ctx.blocked;
     warnings.add = logged(warnings, seg.warnings);
     at.add = logged(at, seg.mergedAt);
@@ -330,15 +372,33 @@ class Recorder implements Walker, WalkCut {
         value += x;
       },
     });
+    // the same for a twist's sampled error, and its unconverged grids as they are set
+    const sampled = ctx.sampled;
+    let error = sampled.error;
+    Object.defineProperty(sampled, 'error', {
+      configurable: true, enumerable: true,
+      get: () => 0,
+      set: (x: number) => {
+        seg.sampledErrors.push(x);
+        error += x;
+      },
+    });
+    const unconverged = sampled.unconverged;
+    unconverged.set = (k, v) => {
+      seg.unconverged.push([k, v]);
+      return Map.prototype.set.call(unconverged, k, v) as typeof unconverged;
+    };
     ctx.chi.trail = seg.averages;
     this.close = () => {
       this.close = null;
       ctx.chi.trail = null;
       Object.defineProperty(lost, 'spin', { configurable: true, enumerable: true, writable: true, value });
+      Object.defineProperty(sampled, 'error', { configurable: true, enumerable: true, writable: true, value: error });
+      delete (unconverged as { set?: unknown }).set;
       delete (warnings as { add?: unknown }).add;
       delete (at as { add?: unknown }).add;
       delete (blocked as { add?: unknown }).add;
-      if (ctx.leaves.length < leaves0 || ctx.sampled.error !== error0 || ctx.sampled.unconverged.size !== unconverged0) this.usable = false;
+      if (ctx.leaves.length < leaves0) this.usable = false;
       seg.leaves = ctx.leaves.slice(leaves0);
       for (const k of Object.keys(ctx.positions)) if (!keys0.has(k)) seg.positions.push([k, ctx.positions[k]]);
       seg.hermiticity = ctx.hermiticity.max;
@@ -395,5 +455,7 @@ function apply(ctx: WalkCtx, s: Segment): void {
   for (const a of s.mergedAt) ctx.merged.at.add(a);
   for (const b of s.blocked) ctx.blocked.add(b);
   ctx.sampled.nodes += s.sampledNodes;
+  for (const x of s.sampledErrors) ctx.sampled.error += x;
+  for (const [k, v] of s.unconverged) ctx.sampled.unconverged.set(k, v);
   for (const a of s.averages) ctx.chi.use(a);
 }

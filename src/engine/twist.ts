@@ -182,8 +182,13 @@ export function runSampledSubtree(ctx: WalkCtx, e: Element, st: SpecState, twist
   const exact = d.kind === 'fixed' || d.kind === 'table';
   const to = (e as { to: string }).to;
   let prev: Map<string, number> | null = null;
-  const lostMark = ctx.lost.spin;
-  const warnMark = new Set(ctx.warnings);
+  // each grid walks the subtree with warnings and lost flux of its own; only the last grid's reach the run, as
+  // additions in their order (so that a recorded walk, replay.ts, sees nothing a later grid took back)
+  let grid = { warnings: new Set<string>(), lost: [] as number[] };
+  const settle = () => {
+    for (const w of grid.warnings) ctx.warnings.add(w);
+    for (const x of grid.lost) ctx.lost.spin += x;
+  };
   for (let panels = firstPanels(d, st, twist); ; panels *= 2) {
     const g = oscillationGrid(d, panels, 8);
     const total = g.weights.reduce((a, b) => a + b, 0);
@@ -198,11 +203,17 @@ export function runSampledSubtree(ctx: WalkCtx, e: Element, st: SpecState, twist
       nodes = applyTwist({ nodes: true, speeds: g.speeds, weights, rhos }, twist);
     }
     const mark = ctx.leaves.length;
-    ctx.lost.spin = lostMark;
-    for (const w of [...ctx.warnings]) if (!warnMark.has(w)) ctx.warnings.delete(w);
-    ctx.visit(ctx, to, nodes, walk);
+    grid = { warnings: new Set(ctx.warnings), lost: [] };
+    const known = new Set(ctx.warnings);
+    const lost = grid.lost;
+    const sub: WalkCtx = { ...ctx, warnings: grid.warnings, lost: { get spin() { return 0; }, set spin(x: number) { lost.push(x); } } };
+    ctx.visit(sub, to, nodes, walk);
+    for (const w of known) grid.warnings.delete(w);
     ctx.sampled.nodes += g.speeds.length;
-    if (exact) return;
+    if (exact) {
+      settle();
+      return;
+    }
     const fresh = ctx.leaves.slice(mark);
     const now = new Map(fresh.map((l, i) => [`${i}|${l.path.join(' ')}|${l.target}`, l.yieldSpin]));
     if (prev) {
@@ -213,6 +224,7 @@ export function runSampledSubtree(ctx: WalkCtx, e: Element, st: SpecState, twist
         sum += dy;
       }
       if (err < 1e-11 || panels >= 128) {
+        settle();
         ctx.sampled.error += sum;
         if (err >= 1e-9) {
           const u = ctx.sampled.unconverged.get(e.path);
