@@ -171,6 +171,14 @@ function coincide(a: Profile, b: Profile, sc: SpeedScale, f: number): boolean {
   return true;
 }
 
+/** True when some two of the profiles coincide within the fraction f (either as the seed: the width is the seed's). */
+function anyCoincide(profiles: readonly Profile[], sc: SpeedScale, f: number): boolean {
+  for (let i = 1; i < profiles.length; i++) {
+    for (let j = 0; j < i; j++) if (coincide(profiles[j], profiles[i], sc, f) || coincide(profiles[i], profiles[j], sc, f)) return true;
+  }
+  return false;
+}
+
 /** Forks of one bundle have passed the same elements: the same kicks but for their sizes. */
 function sameStructure(a: Track, b: Track): boolean {
   if (a.kicks.length !== b.kicks.length || a.strips.length !== b.strips.length) return false;
@@ -297,6 +305,8 @@ export function mergeForks(ctx: WalkCtx, at: string, target: string, forks: read
   const t0 = forks[0].walk.track;
   if (!forks.every((m) => sameStructure(t0, m.walk.track))) return [...forks];
   const profiles = forks.map((m) => profileOf(m.walk.track, planes));
+  // coinciding grows with the fraction: where no two forks coincide at the largest, none merge at all
+  if (!anyCoincide(profiles, sc, fmax)) return [...forks];
   const weights = forks.map((m) => Math.max(0, averagedTrace(ctx, m.st)));
   const order = forks.map((_, i) => i).sort((i, j) => weights[j] - weights[i] || i - j);
   const ladder = [...MERGE_FRACTIONS.filter((f) => f < fmax), fmax];
