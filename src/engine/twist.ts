@@ -106,6 +106,7 @@ export function applyTwist(st: NodeState, op: TwistOp): NodeState {
  * U (3d²r products per speed instead of 5d³; r = 1 behind a port that keeps one state).
  */
 export function applyTwistStatic(speeds: Float64Array, weights: Float64Array, w: CMat, x: CMat, op: TwistOp, tr: TwistRotation): NodeState {
+  if (w.cols === 1) return applyTwistPure(speeds, weights, w, x, op, tr);
   const d = w.rows, r = w.cols, n = d * r;
   const y0 = cmatMul(tr.vqd, w), ad = cmatDagger(tr.a);
   const er = new Float64Array(d), ei = new Float64Array(d), qr = new Float64Array(d), qi = new Float64Array(d);
@@ -124,6 +125,75 @@ export function applyTwistStatic(speeds: Float64Array, weights: Float64Array, w:
     rhos[k] = cmatSandwichParts(ur, ui, d, r, x);
   }
   return { nodes: true, speeds, weights, rhos };
+}
+
+/**
+ * applyTwistStatic for a basis of one column (a port that keeps one state): Y = U w a vector, ρ' = x · y y†. The
+ * same products in the same order as the general form (its matrix products skip A's zero entries as cmatMulInto
+ * does), in one loop over the speeds with no call per product.
+ */
+function applyTwistPure(speeds: Float64Array, weights: Float64Array, w: CMat, x: CMat, op: TwistOp, tr: TwistRotation): NodeState {
+  const d = w.rows;
+  const y0 = cmatMul(tr.vqd, w), ad = cmatDagger(tr.a);
+  const y0r = y0.re, y0i = y0.im, adr = ad.re, adi = ad.im, a_r = tr.a.re, a_i = tr.a.im, br = tr.b.re, bi = tr.b.im;
+  const er = new Float64Array(d), ei = new Float64Array(d), qr = new Float64Array(d), qi = new Float64Array(d);
+  const ur = new Float64Array(d), ui = new Float64Array(d), vr = new Float64Array(d), vi = new Float64Array(d);
+  const xr = x.re[0], xi = x.im[0];
+  const rhos = new Array<CMat>(speeds.length);
+  for (let k = 0; k < speeds.length; k++) {
+    twistPhases(op, tr, speeds[k], er, ei, qr, qi);
+    // v = conj(q) ∘ y0
+    for (let i = 0; i < d; i++) {
+      const cr = qr[i], ci = -qi[i], mr = y0r[i], mi = y0i[i];
+      vr[i] = cr * mr - ci * mi;
+      vi[i] = cr * mi + ci * mr;
+    }
+    // u = A† v, then e ∘ u
+    matVec(adr, adi, vr, vi, d, ur, ui);
+    for (let i = 0; i < d; i++) {
+      const cr = er[i], ci = ei[i], mr = ur[i], mi = ui[i];
+      ur[i] = cr * mr - ci * mi;
+      ui[i] = cr * mi + ci * mr;
+    }
+    // v = A u, then q ∘ v
+    matVec(a_r, a_i, ur, ui, d, vr, vi);
+    for (let i = 0; i < d; i++) {
+      const cr = qr[i], ci = qi[i], mr = vr[i], mi = vi[i];
+      vr[i] = cr * mr - ci * mi;
+      vi[i] = cr * mi + ci * mr;
+    }
+    // y = B v; ρ' = y x y† as cmatSandwichParts forms it: t = y x, then t_i conj(y_j)
+    matVec(br, bi, vr, vi, d, ur, ui);
+    const rho = cmatZeros(d, d);
+    const or = rho.re, oi = rho.im;
+    for (let i = 0; i < d; i++) {
+      const pr = ur[i], pi = ui[i];
+      const tr_ = 0 + (pr * xr - pi * xi), ti = 0 + (pr * xi + pi * xr);
+      for (let j = 0; j < d; j++) {
+        const yr = ur[j], yi = -ui[j];
+        or[i * d + j] = 0 + (tr_ * yr - ti * yi);
+        oi[i * d + j] = 0 + (tr_ * yi + ti * yr);
+      }
+    }
+    rhos[k] = rho;
+  }
+  return { nodes: true, speeds, weights, rhos };
+}
+
+/** (or, oi) = A·v for A d×d and v of length d, summed as cmatMulInto does (over A's columns, skipping its zero entries). */
+function matVec(ar: Float64Array, ai: Float64Array, vr: Float64Array, vi: Float64Array, d: number, or: Float64Array, oi: Float64Array): void {
+  for (let i = 0; i < d; i++) {
+    let sr = 0, si = 0;
+    for (let p = 0; p < d; p++) {
+      const xr = ar[i * d + p], xi = ai[i * d + p];
+      if (xr === 0 && xi === 0) continue;
+      const yr = vr[p], yi = vi[p];
+      sr += xr * yr - xi * yi;
+      si += xr * yi + xi * yr;
+    }
+    or[i] = sr;
+    oi[i] = si;
+  }
 }
 
 /** e_l = e^{−iα m₁,l} and q_l = e^{−iβ m_q,l} of the twist's closed form at one speed (t = ℓ/v). */
