@@ -47,6 +47,21 @@ function tomographyData(): { plan: Plan; text: string } {
   return { plan: start.plan, text: rows.join('\n') };
 }
 
+/**
+ * The issue's fit: bench C's readings at 20 set-ups (the reference analyser M3 rolled in 18° steps), Poisson counts of
+ * 1 s drawn from bench C with M1 at 1.5°, M2 at 31.2° and 1.93e9 /s (demonstration values of this bench), to be fitted
+ * in M1.axis.roll, M2.axis.roll and oven.flux.
+ */
+function benchCSetups(C: Plan): string {
+  const rng = new Random(20);
+  const rows = ['detector,counts,dwell [s],M3.axis.roll [deg]'];
+  for (let k = 0; k < 20; k++) {
+    const r = evaluate(C, { 'M1.axis.roll': 1.5 * deg, 'M2.axis.roll': 31.2 * deg, 'oven.flux': 1.93e9, 'M3.axis.roll': 18 * k * deg });
+    for (const d of r.detectors) rows.push(`${d.id},${rng.poisson(d.rate)},1,${18 * k}`);
+  }
+  return rows.join('\n');
+}
+
 /** Ten tolerances on bench H: both magnets' rolls, fields and gradients, the slit, a gap, the oven, a window. */
 function benchHTolerances(H: Plan): ToleranceStudy[] {
   const t = (name: string, halfWidth: number, distribution: 'uniform' | 'normal' = 'normal'): ToleranceStudy => ({ name, path: parameter(H, name).path, halfWidth, distribution });
@@ -108,6 +123,10 @@ export function benchPlanning(root: string, opts: { quick?: boolean; only?: read
   item('fit-c', 'fit, bench C, M2.axis.roll and oven.flux to 30 readings', () => {
     const data = readMeasurements(readFileSync(join(root, 'samples', 'bench-c-roll-calibration.counts.csv'), 'utf8'), C);
     return best(() => fit(C, data, { free: [{ name: 'M2.axis.roll' }, { name: 'oven.flux' }] }));
+  });
+  item('fit-c3', 'fit, bench C, M1.axis.roll, M2.axis.roll and oven.flux to 20 set-ups × 3 detectors', () => {
+    const data = readMeasurements(benchCSetups(C), C);
+    return best(() => fit(C, data, { free: [{ name: 'M1.axis.roll' }, { name: 'M2.axis.roll' }, { name: 'oven.flux' }] }));
   });
   item('fit-state', 'fit, spin-1 state (ρ, 8 parameters), 5 axes × 3 detectors, 10⁶ counts', () => {
     const tomo = tomographyData();

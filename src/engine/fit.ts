@@ -27,6 +27,7 @@ import type { Measurements, Reading } from './measurements.ts';
 import { lineAt, parameter, type Plan } from './plan.ts';
 import { CancelledError, RunError, runLine, type RunOptions } from './run.ts';
 import { checkCost } from './cost.ts';
+import { EvaluationSession } from './replay.ts';
 
 /** A parameter to fit, with optional bounds (SI). */
 export interface FreeParameter { name: string; lower?: number; upper?: number }
@@ -428,10 +429,15 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
     return [...p, last];
   };
   const withState = (line: Beamline, state: OvenState): Beamline => Object.freeze({ ...line, oven: Object.freeze({ ...line.oven, state } as Oven) });
+  // the fit's lines differ in a few set-points: a session reads only those again, and replays the walk up to the
+  // element of a set-up's set-point while the fitted ones stay (replay.ts; the same numbers bit for bit)
+  const session = new EvaluationSession();
   const lineFor = (x: readonly number[], g: { setPoints: Record<string, number> }): Beamline => {
     const values: Record<string, number> = { ...g.setPoints };
     slots.forEach((s, i) => (values[s.slot.name] = x[i]));
-    const line = lineAt(plan, values);
+    const read = session.lineAt(plan.source, values);
+    // a refused value: the plain reader's message, naming the parameter
+    const line = read.ok ? read.line : lineAt(plan, values);
     if (model !== 'populations') return line;
     const pops = populations(x);
     const p: Record<string, number> = {};
@@ -485,7 +491,7 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
     for (const g of groupList) {
       let r;
       try {
-        r = runLine(lineFor(x, g), { light: true, isCancelled: opts.isCancelled, costChecked: true });
+        r = runLine(lineFor(x, g), { light: true, isCancelled: opts.isCancelled, costChecked: true, session });
       } catch (e) {
         if (e instanceof RunError) return null;
         throw e;
@@ -657,32 +663,75 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
     return c !== null && c > 0 ? Math.sqrt(c) : undefined;
   };
 
-  // profile likelihood: where D rises by 1 with the other coordinates re-fitted
+  // profile likelihood: where D rises by 1 with the other coordinates re-fitted. The profile is nearly a parabola in
+  // the parameter (exactly one where the response is linear): its first guess is the parabola through the minimum and
+  // the deviance one σ out, then the root of ΔD − 1 by regula falsi (Illinois) inside the bracket, each re-fit starting
+  // from the other coordinates of the last one; to 10⁻⁴ σ of the parameter or 10⁻⁴ of the deviance
   const profileSide = (j: number, dir: 1 | -1): number | undefined => {
     const s = sigma(j) ?? 0.1 * coords[j].scale;
+    let warm: readonly number[] = best.x;
     const prof = (v: number) => {
-      const start = [...best.x];
+      const start = [...warm];
       start[j] = v;
       if (!feasible(start)) return Infinity;
       try {
-        return minimise(start, new Set([j]), 30).D - best.D;
+        const m = minimise(start, new Set([j]), 30);
+        warm = m.x;
+        return m.D - best.D;
       } catch (e) {
         if (e instanceof RunError) return Infinity;
         throw e;
       }
     };
-    let near = best.x[j], far = best.x[j] + dir * s;
+    const x0 = best.x[j];
+    let near = x0, fNear = 0, far = x0 + dir * s;
     let f = prof(far);
     for (let e = 0; e < 8 && f < 1; e++) {
       near = far;
-      far = best.x[j] + dir * s * 2 ** (e + 1);
+      fNear = f;
+      far = x0 + dir * s * 2 ** (e + 1);
       f = prof(far);
     }
     if (!(f >= 1) || f === Infinity && !Number.isFinite(prof(near))) return undefined;
-    for (let b = 0; b < 12; b++) {
-      const mid = (near + far) / 2;
-      if (prof(mid) < 1) near = mid;
-      else far = mid;
+    let fFar = f;
+    if (!Number.isFinite(fFar)) {
+      // beyond a bound or where the line cannot be run: halve back into the region where the profile is defined
+      for (let b = 0; b < 30 && !Number.isFinite(fFar); b++) {
+        const mid = (near + far) / 2;
+        const fm = prof(mid);
+        if (fm < 1) {
+          near = mid;
+          fNear = fm;
+        } else {
+          far = mid;
+          fFar = fm;
+        }
+      }
+      if (!Number.isFinite(fFar)) return (near + far) / 2;
+    }
+    // the parabola through the minimum and the nearest point at or above 1, kept inside the bracket
+    const tol = 1e-4 * s;
+    let v = x0 + (far - x0) / Math.sqrt(fFar);
+    if (!((v - near) * (far - v) > 0)) v = (near + far) / 2;
+    let side = 0;
+    for (let it = 0; it < 20; it++) {
+      const fv = prof(v);
+      if (Number.isFinite(fv) && Math.abs(fv - 1) < 1e-4) return v;
+      if (fv < 1) {
+        near = v;
+        fNear = fv;
+        if (side === -1) fFar = 1 + (fFar - 1) / 2;
+        side = -1;
+      } else {
+        far = v;
+        fFar = Number.isFinite(fv) ? fv : fFar;
+        if (side === 1) fNear = 1 - (1 - fNear) / 2;
+        side = 1;
+      }
+      if (Math.abs(far - near) < tol) break;
+      // regula falsi on ΔD − 1 between the bracket's ends (the Illinois halving of a stale end's value)
+      v = near + ((1 - fNear) / (fFar - fNear)) * (far - near);
+      if (!((v - near) * (far - v) > 0)) v = (near + far) / 2;
     }
     return (near + far) / 2;
   };
