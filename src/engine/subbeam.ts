@@ -304,7 +304,7 @@ export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = 
   const minWidth = (hi - lo) / 65536;
   // panel p: its nodes from first[p], its sums (W, T, C_w over the windows) on the Kronrod grid then the Gauss grid
   const first: number[] = [];
-  let sums = new Float64Array(2 * nQ * 64);
+  let sums = SUMS.length >= 2 * nQ * 64 ? SUMS : (SUMS = new Float64Array(2 * nQ * 64));
   let active: number[] = pa.map((_, i) => i);
   let todo = active.slice();
   let nodes = 0, change: number | undefined;
@@ -327,7 +327,7 @@ export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = 
     if (sums.length < 2 * nQ * pa.length) {
       const grown = new Float64Array(4 * nQ * pa.length);
       grown.set(sums);
-      sums = grown;
+      sums = SUMS = grown;
     }
     const nw = e.wins.length;
     for (const p of todo) {
@@ -409,6 +409,9 @@ export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = 
   const geo = assemble(e, m, total, true, keep);
   return change === undefined ? { geo } : { geo, change };
 }
+
+// the panels' sums of convergedGeometry (reused from call to call, grown on demand; every panel's are set before they are read)
+let SUMS = new Float64Array(1024);
 
 /** Panel p's share (sums from o) of the error of fraction q: (|ΔQ| + |Q/W| |ΔW|) / max(|Q|, floor W). */
 function panelError(sums: Float64Array, o: number, nQ: number, q: number, tot: Float64Array, floor: number): number {
@@ -495,6 +498,11 @@ interface AxisPlan {
   readonly first: number;
   readonly pre: Float64Array;
   readonly nPre: number;
+  /** The range of α_i p + β_i q over pre on each strip i from `first` (a strip within which pre lies clips nothing). */
+  readonly preMn: Float64Array;
+  readonly preMx: Float64Array;
+  /** The node that holds pre as it is, with its statistics (−1 until one does). */
+  preAt: number;
   readonly s: AxisStore;
 }
 
@@ -535,7 +543,12 @@ function axisPlan(c: Collimator1D, track: Track, axis: 'x' | 'z', plane: number,
   }
   const [pal, pbe] = planeCoefficients(c, plane);
   s.used = 0;
-  const pl: AxisPlan = { c, fixed, area0, al: pal, be: pbe, base, strips, lo0, hi0, num, dir, first, pre, nPre, s };
+  const preMn = new Float64Array(k), preMx = new Float64Array(k);
+  for (let i = first; i < k; i++) {
+    projectionRange(pre, 0, nPre, strips.al[i], strips.be[i], span);
+    preMn[i] = span[0]; preMx[i] = span[1];
+  }
+  const pl: AxisPlan = { c, fixed, area0, al: pal, be: pbe, base, strips, lo0, hi0, num, dir, first, pre, nPre, preMn, preMx, preAt: -1, s };
   if (fixed) store(pl, 0, pre, nPre);
   return pl;
 }
@@ -571,10 +584,24 @@ function axisNode(pl: AxisPlan, j: number, v: number): void {
     return;
   }
   const s = pl.strips;
+  let held = true;
   for (let i = pl.first; i < s.count; i++) {
     const d = deflect(pl.num[i], pl.dir[i], v);
     s.lo[i] = pl.lo0[i] - d;
     s.hi[i] = pl.hi0[i] - d;
+    if (held && !(pl.preMn[i] >= s.lo[i] && pl.preMx[i] <= s.hi[i])) held = false;
+  }
+  if (held) {
+    // no strip clips at this speed (clipStrips would pass pre through as it is): the node shares pre's copy and statistics
+    const k = pl.preAt, o = pl.s;
+    if (k < 0) {
+      store(pl, j, pl.pre, pl.nPre);
+      pl.preAt = j;
+    } else {
+      o.off[j] = o.off[k]; o.len[j] = o.len[k]; o.tr[j] = o.tr[k]; o.mean[j] = o.mean[k]; o.variance[j] = o.variance[k];
+      o.mn[j] = o.mn[k]; o.mx[j] = o.mx[k];
+    }
+    return;
   }
   const n = clipStrips(pl.pre, 0, pl.nPre, s, pl.first, s.count);
   store(pl, j, clipResult(), n);
@@ -920,9 +947,13 @@ function kinkSpeeds(e: Evaluator, lo: number, hi: number): number[] {
 /** Lines a p + b q ≤ h0 + h1 u of one axis: the collimator's rectangle, each strip (two), then each window (two). */
 interface Rows { a: Float64Array; b: Float64Array; h0: Float64Array; h1: Float64Array; eps: number }
 
+// the rows of axisRows (reused: a sub-beam's kinks are found one axis at a time)
+let ROWS = new Float64Array(128);
+
 function axisRows(pl: AxisPlan, wins: readonly NodeWindow[], xAxis: boolean, cPlane: number): Rows {
   const k = pl.strips.count, m = 4 + 2 * k + 2 * wins.length;
-  const buf = new Float64Array(4 * m);
+  if (ROWS.length < 4 * m) ROWS = new Float64Array(8 * m);
+  const buf = ROWS;
   const r: Rows = { a: buf.subarray(0, m), b: buf.subarray(m, 2 * m), h0: buf.subarray(2 * m, 3 * m), h1: buf.subarray(3 * m, 4 * m), eps: 0 };
   const set = (i: number, a: number, b: number, h0: number, h1: number) => { r.a[i] = a; r.b[i] = b; r.h0[i] = h0; r.h1[i] = h1; };
   const p0 = pl.base[0], q0 = pl.base[1], p1 = pl.base[2], q1 = pl.base[5];
