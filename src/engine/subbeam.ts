@@ -720,9 +720,15 @@ function reserveKept(n: number): void {
 /** Fraction of an axis's polygon i inside lo ≤ α p + β q ≤ hi (the projection range known at the sub-beam's plane). */
 function axisFraction(pl: AxisPlan, i: number, atPlane: boolean, al: number, be: number, lo: number, hi: number): number {
   const s = pl.s;
-  return atPlane
-    ? fractionInsideFlat(s.pool, s.off[i], s.len[i], pl.area0, pl.al, pl.be, lo, hi, s.mn[i], s.mx[i])
-    : fractionInsideFlat(s.pool, s.off[i], s.len[i], pl.area0, al, be, lo, hi, NaN, NaN);
+  if (!atPlane) return fractionInsideFlat(s.pool, s.off[i], s.len[i], pl.area0, al, be, lo, hi, NaN, NaN);
+  // a window that holds the whole polygon keeps its transmitted fraction (the same shoelace sum over area0), one that
+  // misses it nothing: as fractionInsideFlat, without its call
+  const mn = s.mn[i], mx = s.mx[i];
+  if (s.len[i] >= 3 && lo <= hi) {
+    if (mn >= lo && mx <= hi) return s.tr[i];
+    if (mn > hi || mx < lo) return 0;
+  }
+  return fractionInsideFlat(s.pool, s.off[i], s.len[i], pl.area0, pl.al, pl.be, lo, hi, mn, mx);
 }
 
 /** Node n at speed NV[n]: both axes' polygons, the deflection at the plane, the transmitted fraction, each window's fraction. */
