@@ -84,7 +84,7 @@ export interface BudgetOptions extends RunOptions {
 export const MAX_BUDGET_DRAWS = 1_000_000;
 
 function signals(plan: Plan, values: Record<string, number>, opts: RunOptions): Map<string, number> {
-  const r = evaluate(plan, values, { ...opts, light: true, onProgress: undefined });
+  const r = evaluate(plan, values, { ...opts, light: true, noProfiles: true, onProgress: undefined });
   return new Map(r.detectors.map((d) => [d.id, d.signal]));
 }
 

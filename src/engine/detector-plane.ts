@@ -26,11 +26,18 @@ interface LeafAcc {
   yieldSpin: number;
 }
 
-/** How a sub-beam's geometry is averaged over the speeds: convergedGeometry, or (in the tests) a reference grid. */
-export type GeometryOf = (f: FinePath, others: readonly PlaneWindow[]) => { geo: FineGeo; change?: number };
+/**
+ * How a sub-beam's geometry is averaged over the speeds: convergedGeometry, or (in the tests) a reference grid; `keep` false
+ * when nothing will read its speed nodes (no profiles, crosstalk or centre line are made).
+ */
+export type GeometryOf = (f: FinePath, others: readonly PlaneWindow[], keep: boolean) => { geo: FineGeo; change?: number };
 
-/** Builds the result's leaves and detectors from the run's paths (see module doc). */
-export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsilon: number, _lost: { spin: number }, geometryOf: GeometryOf = convergedGeometry): {
+/**
+ * Builds the result's leaves and detectors from the run's paths (see module doc). With `profiles` false (RunOptions.noProfiles:
+ * the planning tools) the leaves get no profile and no centre line and the detectors no crosstalk and no neighbours; every
+ * other number is the same, bit for bit.
+ */
+export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsilon: number, _lost: { spin: number }, geometryOf: GeometryOf = convergedGeometry, profiles = true): {
   leaves: LeafResult[]; detectors: DetectorResult[]; clipped: number; nodes: number; chiError: number; warnings: string[];
 } {
   const warnings: string[] = [];
@@ -63,7 +70,7 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
         continue;
       }
       const others = f.detector ? windows.filter((w) => w.id !== f.target && Math.abs(w.y - f.plane) <= 1e-3) : [];
-      const { geo: g, change } = geometryOf(f, others);
+      const { geo: g, change } = geometryOf(f, others, profiles);
       if (change !== undefined) unconverged.push(`${f.path.join(' ')} → ${f.target}: ${change.toExponential(1)}`);
       nodes += g.nodes.count;
       clipped += f.yieldSpin - g.yieldGeo;
@@ -95,11 +102,11 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
       spread: { x: Math.sqrt(Math.max(0, second.x - mean.x ** 2)), z: Math.sqrt(Math.max(0, second.z - mean.z ** 2)) },
       ...(captured !== undefined ? { captured } : {}),
       plane: a.plane,
-      centreLine: leafCentreLine(a.fines, a.plane, w),
+      ...(profiles ? { centreLine: leafCentreLine(a.fines, a.plane, w) } : {}),
     });
   }
   const verdicts = new Map<string, NeighbourVerdict[]>();
-  if (geometry) addProfiles(leaves, accOf, verdicts);
+  if (geometry && profiles) addProfiles(leaves, accOf, verdicts);
   // detectors
   const detectors: DetectorResult[] = [];
   const seen = new Map<string, DetectorResult>();
@@ -128,7 +135,7 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
     else delete d.signalToBackground;
     const t = timeToPrecision(d.signal, d.background, epsilon);
     d.timeToPrecision = Number.isFinite(t) ? { epsilon, seconds: t } : { epsilon };
-    if (geometry) {
+    if (geometry && profiles) {
       const det = accOf.find((a) => a.detector?.id === d.id)!.detector!;
       if (det.window) d.crosstalk = crosstalkFor(det, d.plane ?? 0, leaves, accOf, flux);
       const v = verdicts.get(planeKey(d.plane ?? 0));

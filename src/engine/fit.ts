@@ -458,7 +458,7 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
     for (const st of spanning) {
       let r;
       try {
-        r = runLine(withState(line, { kind: 'density', axis: stateAxis!, basis: labels, re: st.re, im: st.im }), { light: true, isCancelled: opts.isCancelled, costChecked: true });
+        r = runLine(withState(line, { kind: 'density', axis: stateAxis!, basis: labels, re: st.re, im: st.im }), { light: true, noProfiles: true, isCancelled: opts.isCancelled, costChecked: true });
       } catch (e) {
         if (e instanceof RunError) return null;
         throw e;
@@ -491,7 +491,7 @@ export function fit(plan: Plan, data: Measurements, opts: FitOptions): FitResult
     for (const g of groupList) {
       let r;
       try {
-        r = runLine(lineFor(x, g), { light: true, isCancelled: opts.isCancelled, costChecked: true, session });
+        r = runLine(lineFor(x, g), { light: true, noProfiles: true, isCancelled: opts.isCancelled, costChecked: true, session });
       } catch (e) {
         if (e instanceof RunError) return null;
         throw e;

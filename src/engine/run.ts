@@ -52,6 +52,11 @@ export interface RunOptions {
    * before its first evaluation, cost.ts checkCost): no refusal here, and no estimate unless progress needs one.
    */
   costChecked?: boolean;
+  /**
+   * Leave out what the planning tools' results do not hold (scan, budget and fit set it): the leaves' profiles and centre
+   * lines and the detectors' crosstalk and neighbours. Every other number of the result is the same, bit for bit.
+   */
+  noProfiles?: boolean;
 }
 
 /** Runs the line and returns result format v1 (docs/design.md) with this engine's additions. */
@@ -121,7 +126,7 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
   }
   leaves.sort(byRank);
   opts.onPaths?.(leaves, flux);
-  const geo = evaluateGeometry(leaves, flux, opts.epsilon ?? 0.01, lost);
+  const geo = evaluateGeometry(leaves, flux, opts.epsilon ?? 0.01, lost, undefined, !opts.noProfiles);
   for (const w of geo.warnings) warnings.add(w);
   chiError = geo.chiError;
   const totalYield = geo.leaves.reduce((s, l) => s + l.yield, 0);

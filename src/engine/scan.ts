@@ -127,7 +127,7 @@ export function scanPoint(plan: Plan, params: readonly ScanParameterResult[], in
   params.forEach((p, k) => (set[p.name] = values[k]));
   let r: RunResult;
   try {
-    r = evaluate(plan, set, { ...opts, onProgress: undefined, light: true, session: opts.session ?? sessionOf(plan) });
+    r = evaluate(plan, set, { ...opts, onProgress: undefined, light: true, noProfiles: true, session: opts.session ?? sessionOf(plan) });
   } catch (err) {
     if (err instanceof RunError && !(err instanceof CancelledError)) {
       point.error = err.message;

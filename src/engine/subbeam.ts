@@ -99,6 +99,8 @@ export interface NodeSet {
 }
 
 export const NO_NODES: NodeSet = { count: 0, plane: 0, w: new Float64Array(0), dx: new Float64Array(0), dz: new Float64Array(0), x: null, z: null };
+/** The nodes of a sub-beam averaged without keeping them (no profile, crosstalk or centre line reads them): their count alone. */
+const UNKEPT: NodeSet = { ...NO_NODES };
 
 export interface FineGeo {
   fine: FinePath;
@@ -275,12 +277,13 @@ export function densityShape(d: VelocityDistribution, v: number): number {
  * tolerance of the transmitted fraction and of each window's fraction (its own, and the share of every other window on its
  * plane: its crosstalk), each relative to itself above a floor of 1e-9 of the sub-beam's flux. The Kronrod grid is taken.
  * A fixed speed, a table and a speed-by-speed leaf have one grid, taken as it is, and so has a sub-beam nothing clips (its
- * fractions do not depend on the grid). `change` is the sum left where the refinement stopped at GEOMETRY_MAX_PANELS.
+ * fractions do not depend on the grid). `change` is the sum left where the refinement stopped at GEOMETRY_MAX_PANELS. With `keep`
+ * false the speed nodes are counted but not copied out (nothing reads them: no profile, crosstalk or centre line is made).
  */
-export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = []): { geo: FineGeo; change?: number } {
+export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = [], keep = true): { geo: FineGeo; change?: number } {
   const d = f.dist;
   const clips = f.track.strips.length > 0 || !!f.detector?.window;
-  if (f.grid || !f.spec || !clips || (d.kind !== 'effusive' && d.kind !== 'supersonic')) return { geo: fineGeometry(f) };
+  if (f.grid || !f.spec || !clips || (d.kind !== 'effusive' && d.kind !== 'supersonic')) return { geo: fineGeometry(f, 24, [], keep) };
   const spec = f.spec;
   const [lo, hi] = geometryRange(d);
   const e = evaluator(f, others);
@@ -301,7 +304,7 @@ export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = 
   const minWidth = (hi - lo) / 65536;
   // panel p: its nodes from first[p], its sums (W, T, C_w over the windows) on the Kronrod grid then the Gauss grid
   const first: number[] = [];
-  let sums = new Float64Array(2 * nQ * 64);
+  let sums = SUMS.length >= 2 * nQ * 64 ? SUMS : (SUMS = new Float64Array(2 * nQ * 64));
   let active: number[] = pa.map((_, i) => i);
   let todo = active.slice();
   let nodes = 0, change: number | undefined;
@@ -324,7 +327,7 @@ export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = 
     if (sums.length < 2 * nQ * pa.length) {
       const grown = new Float64Array(4 * nQ * pa.length);
       grown.set(sums);
-      sums = grown;
+      sums = SUMS = grown;
     }
     const nw = e.wins.length;
     for (const p of todo) {
@@ -403,9 +406,12 @@ export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = 
       total += q;
     }
   }
-  const geo = assemble(e, m, total, true);
+  const geo = assemble(e, m, total, true, keep);
   return change === undefined ? { geo } : { geo, change };
 }
+
+// the panels' sums of convergedGeometry (reused from call to call, grown on demand; every panel's are set before they are read)
+let SUMS = new Float64Array(1024);
 
 /** Panel p's share (sums from o) of the error of fraction q: (|ΔQ| + |Q/W| |ΔW|) / max(|Q|, floor W). */
 function panelError(sums: Float64Array, o: number, nQ: number, q: number, tot: Float64Array, floor: number): number {
@@ -492,6 +498,11 @@ interface AxisPlan {
   readonly first: number;
   readonly pre: Float64Array;
   readonly nPre: number;
+  /** The range of α_i p + β_i q over pre on each strip i from `first` (a strip within which pre lies clips nothing). */
+  readonly preMn: Float64Array;
+  readonly preMx: Float64Array;
+  /** The node that holds pre as it is, with its statistics (−1 until one does). */
+  preAt: number;
   readonly s: AxisStore;
 }
 
@@ -532,7 +543,12 @@ function axisPlan(c: Collimator1D, track: Track, axis: 'x' | 'z', plane: number,
   }
   const [pal, pbe] = planeCoefficients(c, plane);
   s.used = 0;
-  const pl: AxisPlan = { c, fixed, area0, al: pal, be: pbe, base, strips, lo0, hi0, num, dir, first, pre, nPre, s };
+  const preMn = new Float64Array(k), preMx = new Float64Array(k);
+  for (let i = first; i < k; i++) {
+    projectionRange(pre, 0, nPre, strips.al[i], strips.be[i], span);
+    preMn[i] = span[0]; preMx[i] = span[1];
+  }
+  const pl: AxisPlan = { c, fixed, area0, al: pal, be: pbe, base, strips, lo0, hi0, num, dir, first, pre, nPre, preMn, preMx, preAt: -1, s };
   if (fixed) store(pl, 0, pre, nPre);
   return pl;
 }
@@ -568,10 +584,24 @@ function axisNode(pl: AxisPlan, j: number, v: number): void {
     return;
   }
   const s = pl.strips;
+  let held = true;
   for (let i = pl.first; i < s.count; i++) {
     const d = deflect(pl.num[i], pl.dir[i], v);
     s.lo[i] = pl.lo0[i] - d;
     s.hi[i] = pl.hi0[i] - d;
+    if (held && !(pl.preMn[i] >= s.lo[i] && pl.preMx[i] <= s.hi[i])) held = false;
+  }
+  if (held) {
+    // no strip clips at this speed (clipStrips would pass pre through as it is): the node shares pre's copy and statistics
+    const k = pl.preAt, o = pl.s;
+    if (k < 0) {
+      store(pl, j, pl.pre, pl.nPre);
+      pl.preAt = j;
+    } else {
+      o.off[j] = o.off[k]; o.len[j] = o.len[k]; o.tr[j] = o.tr[k]; o.mean[j] = o.mean[k]; o.variance[j] = o.variance[k];
+      o.mn[j] = o.mn[k]; o.mx[j] = o.mx[k];
+    }
+    return;
   }
   const n = clipStrips(pl.pre, 0, pl.nPre, s, pl.first, s.count);
   store(pl, j, clipResult(), n);
@@ -614,6 +644,12 @@ interface Evaluator {
   /** Each window's fraction along an axis that is fixed and not deflected at the plane (the same at every node; NaN until found). */
   readonly constX: Float64Array | null;
   readonly constZ: Float64Array | null;
+  /**
+   * For each window, the earlier window with the same edges and plane along x (along z), or −1: its fraction along that axis
+   * is the same at every node (a row of collectors side by side shares its edges across the row), taken rather than clipped again.
+   */
+  readonly sameX: Int32Array;
+  readonly sameZ: Int32Array;
 }
 
 function nodeWindow(id: string, w: Rect, y: number, cx: Collimator1D, cz: Collimator1D): NodeWindow {
@@ -632,8 +668,22 @@ function evaluator(f: FinePath, others: readonly PlaneWindow[]): Evaluator {
   const still = (pl: AxisPlan, n: Float64Array) => pl.fixed && atPlane.num.every((x, i) => x * n[i] === 0);
   const constX = still(px, atPlane.nx) ? new Float64Array(wins.length).fill(NaN) : null;
   const constZ = still(pz, atPlane.nz) ? new Float64Array(wins.length).fill(NaN) : null;
-  return { f, px, pz, atPlane, wins, own: !!win, constX, constZ };
+  const sameX = new Int32Array(wins.length).fill(-1), sameZ = new Int32Array(wins.length).fill(-1);
+  for (let w = 1; w < wins.length; w++) {
+    const a = wins[w];
+    for (let k = 0; k < w; k++) {
+      const b = wins[k];
+      if (b.y !== a.y) continue;
+      if (sameX[w] < 0 && b.xlo === a.xlo && b.xhi === a.xhi && b.alx === a.alx && b.bex === a.bex) sameX[w] = k;
+      if (sameZ[w] < 0 && b.zlo === a.zlo && b.zhi === a.zhi && b.alz === a.alz && b.bez === a.bez) sameZ[w] = k;
+    }
+  }
+  if (WFX.length < wins.length) { WFX = new Float64Array(2 * wins.length); WFZ = new Float64Array(2 * wins.length); }
+  return { f, px, pz, atPlane, wins, own: !!win, constX, constZ, sameX, sameZ };
 }
+
+// each window's fraction along x and along z at the node being evaluated (NaN: not taken at this node)
+let WFX = new Float64Array(8), WFZ = new Float64Array(8);
 
 // the nodes being evaluated (reused from call to call, grown on demand): speed, weight (density × trace, or the
 // grid's weight × trace), t = transmitted fraction, deflection at the plane, each window's fraction (node-major)
@@ -670,9 +720,15 @@ function reserveKept(n: number): void {
 /** Fraction of an axis's polygon i inside lo ≤ α p + β q ≤ hi (the projection range known at the sub-beam's plane). */
 function axisFraction(pl: AxisPlan, i: number, atPlane: boolean, al: number, be: number, lo: number, hi: number): number {
   const s = pl.s;
-  return atPlane
-    ? fractionInsideFlat(s.pool, s.off[i], s.len[i], pl.area0, pl.al, pl.be, lo, hi, s.mn[i], s.mx[i])
-    : fractionInsideFlat(s.pool, s.off[i], s.len[i], pl.area0, al, be, lo, hi, NaN, NaN);
+  if (!atPlane) return fractionInsideFlat(s.pool, s.off[i], s.len[i], pl.area0, al, be, lo, hi, NaN, NaN);
+  // a window that holds the whole polygon keeps its transmitted fraction (the same shoelace sum over area0), one that
+  // misses it nothing: as fractionInsideFlat, without its call
+  const mn = s.mn[i], mx = s.mx[i];
+  if (s.len[i] >= 3 && lo <= hi) {
+    if (mn >= lo && mx <= hi) return s.tr[i];
+    if (mn > hi || mx < lo) return 0;
+  }
+  return fractionInsideFlat(s.pool, s.off[i], s.len[i], pl.area0, pl.al, pl.be, lo, hi, mn, mx);
 }
 
 /** Node n at speed NV[n]: both axes' polygons, the deflection at the plane, the transmitted fraction, each window's fraction. */
@@ -701,21 +757,28 @@ function evalNode(e: Evaluator, n: number): void {
   NDX[n] = dx; NDZ[n] = dz;
   NT[n] = px.s.tr[ix] * pz.s.tr[iz];
   const plane = e.f.plane;
+  const sameX = e.sameX, sameZ = e.sameZ;
   for (let w = 0; w < nw; w++) {
     const win = e.wins[w];
     const at = win.y === plane;
     const cx = e.constX, cz = e.constZ;
     let fx: number;
-    if (cx) {
+    if (sameX[w] >= 0) fx = WFX[sameX[w]];
+    else if (cx) {
       fx = cx[w];
       if (Number.isNaN(fx)) fx = cx[w] = axisFraction(px, 0, at, win.alx, win.bex, win.xlo, win.xhi);
     } else fx = axisFraction(px, ix, at, win.alx, win.bex, win.xlo - dx, win.xhi - dx);
+    WFX[w] = fx;
     let fz = 0;
+    WFZ[w] = NaN;
     if (fx !== 0) {
-      if (cz) {
+      const k = sameZ[w];
+      if (k >= 0 && !Number.isNaN(WFZ[k])) fz = WFZ[k];
+      else if (cz) {
         fz = cz[w];
         if (Number.isNaN(fz)) fz = cz[w] = axisFraction(pz, 0, at, win.alz, win.bez, win.zlo, win.zhi);
       } else fz = axisFraction(pz, iz, at, win.alz, win.bez, win.zlo - dz, win.zhi - dz);
+      WFZ[w] = fz;
     }
     NCAP[n * nw + w] = fx * fz;
   }
@@ -760,7 +823,7 @@ function axisOut(pl: AxisPlan, kept: number): AxisNodes {
  * the transmitted fraction, the means and second moments, the captured fraction and each other window's share, and the
  * node set the profiles and the centre line read.
  */
-function assemble(e: Evaluator, m: number, total: number, cells: boolean): FineGeo {
+function assemble(e: Evaluator, m: number, total: number, cells: boolean, keep: boolean): FineGeo {
   const f = e.f;
   if (total <= 0) {
     return { fine: f, yieldGeo: f.yieldSpin, captured: 0, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: NO_NODES };
@@ -771,31 +834,36 @@ function assemble(e: Evaluator, m: number, total: number, cells: boolean): FineG
     const wk = KW[j] / total;
     if (wk !== 0) { KIDX[kept] = KIDX[j]; KW[kept] = wk; KLO[kept] = KLO[j]; KHI[kept] = KHI[j]; kept++; }
   }
-  const ax = axisOut(e.px, kept), az = axisOut(e.pz, kept);
-  const buf = new Float64Array((cells ? 6 : 3) * kept);
-  const nw = buf.subarray(0, kept), ndx = buf.subarray(kept, 2 * kept), ndz = buf.subarray(2 * kept, 3 * kept);
+  const sx0 = e.px.s, sz0 = e.pz.s, fx0 = e.px.fixed, fz0 = e.pz.fixed;
   const wn = e.wins.length;
   const shares = new Float64Array(wn);
   let tSum = 0, mx = 0, mz = 0, sx = 0, sz = 0;
   for (let j = 0; j < kept; j++) {
     const n = KIDX[j], wk = KW[j];
-    const ix = ax.fixed ? 0 : j, iz = az.fixed ? 0 : j;
+    const ix = fx0 ? 0 : n, iz = fz0 ? 0 : n;
     const dx = NDX[n], dz = NDZ[n];
-    const t = ax.tr[ix] * az.tr[iz];
+    const t = sx0.tr[ix] * sz0.tr[iz];
     tSum += wk * t;
-    mx += wk * t * (ax.mean[ix] + dx);
-    mz += wk * t * (az.mean[iz] + dz);
-    sx += wk * t * (ax.variance[ix] + (ax.mean[ix] + dx) ** 2);
-    sz += wk * t * (az.variance[iz] + (az.mean[iz] + dz) ** 2);
+    mx += wk * t * (sx0.mean[ix] + dx);
+    mz += wk * t * (sz0.mean[iz] + dz);
+    sx += wk * t * (sx0.variance[ix] + (sx0.mean[ix] + dx) ** 2);
+    sz += wk * t * (sz0.variance[iz] + (sz0.mean[iz] + dz) ** 2);
     for (let w = 0; w < wn; w++) shares[w] += wk * NCAP[n * wn + w];
-    nw[j] = wk; ndx[j] = dx; ndz[j] = dz;
   }
-  let nodes: NodeSet = { count: kept, plane: f.plane, w: nw, dx: ndx, dz: ndz, x: ax, z: az };
-  if (cells) {
-    const v = buf.subarray(3 * kept, 4 * kept), cellLo = buf.subarray(4 * kept, 5 * kept), cellHi = buf.subarray(5 * kept, 6 * kept);
-    for (let j = 0; j < kept; j++) { v[j] = NV[KIDX[j]]; cellLo[j] = KLO[j]; cellHi[j] = KHI[j]; }
-    nodes = { ...nodes, v, cellLo, cellHi };
-  }
+  // the node set the profiles, the crosstalk and the centre line read, copied out of the stores (or only counted)
+  let nodes: NodeSet;
+  if (keep) {
+    const ax = axisOut(e.px, kept), az = axisOut(e.pz, kept);
+    const buf = new Float64Array((cells ? 6 : 3) * kept);
+    const nw = buf.subarray(0, kept), ndx = buf.subarray(kept, 2 * kept), ndz = buf.subarray(2 * kept, 3 * kept);
+    for (let j = 0; j < kept; j++) { nw[j] = KW[j]; ndx[j] = NDX[KIDX[j]]; ndz[j] = NDZ[KIDX[j]]; }
+    nodes = { count: kept, plane: f.plane, w: nw, dx: ndx, dz: ndz, x: ax, z: az };
+    if (cells) {
+      const v = buf.subarray(3 * kept, 4 * kept), cellLo = buf.subarray(4 * kept, 5 * kept), cellHi = buf.subarray(5 * kept, 6 * kept);
+      for (let j = 0; j < kept; j++) { v[j] = NV[KIDX[j]]; cellLo[j] = KLO[j]; cellHi[j] = KHI[j]; }
+      nodes = { ...nodes, v, cellLo, cellHi };
+    }
+  } else nodes = { ...UNKEPT, count: kept, plane: f.plane };
   const yieldGeo = f.yieldSpin * tSum;
   const safe = tSum > 0 ? tSum : 1;
   let mean = { x: mx / safe, z: mz / safe };
@@ -803,7 +871,7 @@ function assemble(e: Evaluator, m: number, total: number, cells: boolean): FineG
     // nothing clips: the mean deflection is Σ_k a_k L_k (L_k/2 + D_k)·⟨y s²⟩/⟨y⟩, exact over the whole
     // distribution (the grid leaves out the slowest atoms, which carry ~0.25 % of an effusive ⟨1/v²⟩)
     const m2 = specTraceMoment(f.spec, f.dist, 2, f.moment2Cache) / (f.yieldSpin / f.fraction);
-    const geo0 = kept > 0 ? { x: ax.mean[0], z: az.mean[0] } : { x: 0, z: 0 };
+    const geo0 = kept > 0 ? { x: sx0.mean[fx0 ? 0 : KIDX[0]], z: sz0.mean[fz0 ? 0 : KIDX[0]] } : { x: 0, z: 0 };
     let dx = 0, dz = 0;
     for (const k of f.track.kicks) {
       if (f.plane < k.exitY - 1e-12) continue;
@@ -825,7 +893,7 @@ function assemble(e: Evaluator, m: number, total: number, cells: boolean): FineG
  * The sub-beam's geometry on one grid of `panels` panels of 8 Gauss–Legendre speeds (geometryGrid; a speed-by-speed leaf's
  * own grid, a fixed speed's one node, a table's speeds), every node weighted by the path's trace there.
  */
-export function fineGeometry(f: FinePath, panels: number = 24, others: readonly PlaneWindow[] = []): FineGeo {
+export function fineGeometry(f: FinePath, panels: number = 24, others: readonly PlaneWindow[] = [], keep = true): FineGeo {
   let g: { speeds: Float64Array; weights: Float64Array }, tr: Float64Array;
   if (f.grid) {
     const cg = coarsen(f.grid);
@@ -847,7 +915,7 @@ export function fineGeometry(f: FinePath, panels: number = 24, others: readonly 
     NV[k] = g.speeds[k];
     NWD[k] = wk;
   }
-  if (!(total > 0)) return assemble(e, 0, 0, false);
+  if (!(total > 0)) return assemble(e, 0, 0, false, keep);
   // only the nodes with a weight are evaluated
   for (let k = 0; k < n; k++) {
     if (NWD[k] / total === 0) continue;
@@ -856,7 +924,7 @@ export function fineGeometry(f: FinePath, panels: number = 24, others: readonly 
     m++;
   }
   // no cells: the profiles of a fixed grid are its nodes' (what the plane always drew on a line that nothing clips)
-  return assemble(e, m, total, false);
+  return assemble(e, m, total, false, keep);
 }
 
 /**
@@ -872,8 +940,11 @@ function kinkSpeeds(e: Evaluator, lo: number, hi: number): number[] {
   for (const pl of [e.px, e.pz]) {
     const xAxis = pl === e.px;
     const cPlane = deflectNumerator(ap.num, xAxis ? ap.nx : ap.nz);
-    const rows = axisRows(pl, e.wins, xAxis, cPlane);
-    axisKinks(rows, 4 + 2 * pl.strips.count, e.wins.length, uLo, uHi, out);
+    // a window whose edges along this axis repeat an earlier one's has the same kinks there
+    const same = xAxis ? e.sameX : e.sameZ;
+    const wins = e.wins.filter((_, w) => same[w] < 0);
+    const rows = axisRows(pl, wins, xAxis, cPlane);
+    axisKinks(rows, 4 + 2 * pl.strips.count, wins.length, uLo, uHi, out);
   }
   for (let i = 0; i < out.length; i++) out[i] = 1 / Math.sqrt(out[i]);
   return out;
@@ -882,9 +953,13 @@ function kinkSpeeds(e: Evaluator, lo: number, hi: number): number[] {
 /** Lines a p + b q ≤ h0 + h1 u of one axis: the collimator's rectangle, each strip (two), then each window (two). */
 interface Rows { a: Float64Array; b: Float64Array; h0: Float64Array; h1: Float64Array; eps: number }
 
+// the rows of axisRows (reused: a sub-beam's kinks are found one axis at a time)
+let ROWS = new Float64Array(128);
+
 function axisRows(pl: AxisPlan, wins: readonly NodeWindow[], xAxis: boolean, cPlane: number): Rows {
   const k = pl.strips.count, m = 4 + 2 * k + 2 * wins.length;
-  const buf = new Float64Array(4 * m);
+  if (ROWS.length < 4 * m) ROWS = new Float64Array(8 * m);
+  const buf = ROWS;
   const r: Rows = { a: buf.subarray(0, m), b: buf.subarray(m, 2 * m), h0: buf.subarray(2 * m, 3 * m), h1: buf.subarray(3 * m, 4 * m), eps: 0 };
   const set = (i: number, a: number, b: number, h0: number, h1: number) => { r.a[i] = a; r.b[i] = b; r.h0[i] = h0; r.h1[i] = h1; };
   const p0 = pl.base[0], q0 = pl.base[1], p1 = pl.base[2], q1 = pl.base[5];

@@ -1,0 +1,50 @@
+/**
+ * The planning tools (scan, budget, fit) run the line with RunOptions.noProfiles: their results hold yields, rates,
+ * counts ± σ, signals and captured fractions, never a profile, so the detector plane leaves out the leaves' profiles and
+ * centre lines and the detectors' crosstalk and neighbours. Every other number must be the one of a plain run, bit for
+ * bit (a scan point equals a plain run of the line at that set-point).
+ */
+import { readFileSync } from 'node:fs';
+import { describe, expect, it } from 'vitest';
+import { compile, evaluate, type Plan } from '../../src/engine/plan.ts';
+import type { RunResult } from '../../src/engine/result.ts';
+
+function planOf(sample: string): Plan {
+  const c = compile(readFileSync(new URL(`../../samples/${sample}.spinyard`, import.meta.url), 'utf8'));
+  if (!c.ok) throw new Error(c.problems.join('\n'));
+  return c.plan;
+}
+
+/** A plain run's result without what noProfiles leaves out. */
+function withoutProfiles(r: RunResult): RunResult {
+  return {
+    ...r,
+    leaves: r.leaves.map(({ profile: _p, centreLine: _c, ...l }) => l),
+    detectors: r.detectors.map(({ crosstalk: _x, neighbours: _n, ...d }) => d),
+  };
+}
+
+describe('the detector plane without profiles', () => {
+  const cases: [string, Record<string, number>][] = [
+    ['bench-h-rb87-mj-then-eigenstate', {}],
+    ['bench-h-rb87-mj-then-eigenstate', { 'M2.axis.roll': 0.6, 'M2.field': 0.012 }],
+    ['bench-g-silver-split', { 'M1.axis.roll': 0.3 }],
+    ['bench-f-mixed-detectors', {}],
+  ];
+  for (const [sample, values] of cases) {
+    it(`gives ${sample.slice(0, 7)} ${JSON.stringify(values)} every number of a plain run, bit for bit`, () => {
+      const plan = planOf(sample);
+      const full = evaluate(plan, values, { light: true });
+      const lean = evaluate(plan, values, { light: true, noProfiles: true });
+      expect(lean).toEqual(withoutProfiles(full));
+      expect(lean.leaves.some((l) => l.profile || l.centreLine)).toBe(false);
+      expect(lean.detectors.some((d) => d.crosstalk || d.neighbours)).toBe(false);
+    });
+  }
+
+  it('is a plain run\'s profiles and crosstalk where the line has them (the test above compares something)', () => {
+    const full = evaluate(planOf('bench-h-rb87-mj-then-eigenstate'), {}, { light: true });
+    expect(full.leaves.filter((l) => l.profile && l.centreLine).length).toBe(4);
+    expect(full.detectors.every((d) => d.crosstalk && d.crosstalk.length === 3 && d.neighbours)).toBe(true);
+  });
+});
