@@ -30,7 +30,7 @@ interface LeafAcc {
  * How a sub-beam's geometry is averaged over the speeds: convergedGeometry, or (in the tests) a reference grid; `keep` false
  * when nothing will read its speed nodes (no profiles, crosstalk or centre line are made).
  */
-export type GeometryOf = (f: FinePath, others: readonly PlaneWindow[], keep: boolean) => { geo: FineGeo; change?: number };
+export type GeometryOf = (f: FinePath, others: readonly PlaneWindow[], keep: boolean) => { geo: FineGeo; change?: number; extraNodes?: number };
 
 /**
  * Builds the result's leaves and detectors from the run's paths (see module doc). With `profiles` false (RunOptions.noProfiles:
@@ -69,10 +69,11 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
         a.fines.push({ fine: f, yieldGeo: f.yieldSpin, captured: 1, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: NO_NODES });
         continue;
       }
-      const others = f.detector ? windows.filter((w) => w.id !== f.target && Math.abs(w.y - f.plane) <= 1e-3) : [];
-      const { geo: g, change } = geometryOf(f, others, profiles);
+      // the other windows on its plane only where crosstalk is reported (its own numbers do not depend on them)
+      const others = f.detector && profiles ? windows.filter((w) => w.id !== f.target && Math.abs(w.y - f.plane) <= 1e-3) : [];
+      const { geo: g, change, extraNodes } = geometryOf(f, others, profiles);
       if (change !== undefined) unconverged.push(`${f.path.join(' ')} → ${f.target}: ${change.toExponential(1)}`);
-      nodes += g.nodes.count;
+      nodes += g.nodes.count + (extraNodes ?? 0);
       clipped += f.yieldSpin - g.yieldGeo;
       a.fines.push(g);
     }

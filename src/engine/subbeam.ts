@@ -280,11 +280,27 @@ export function densityShape(d: VelocityDistribution, v: number): number {
  * fractions do not depend on the grid). `change` is the sum left where the refinement stopped at GEOMETRY_MAX_PANELS. With `keep`
  * false the speed nodes are counted but not copied out (nothing reads them: no profile, crosstalk or centre line is made).
  */
-export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = [], keep = true): { geo: FineGeo; change?: number } {
-  const d = f.dist;
+export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = [], keep = true): { geo: FineGeo; change?: number; extraNodes?: number } {
   const clips = f.track.strips.length > 0 || !!f.detector?.window;
-  if (f.grid || !f.spec || !clips || (d.kind !== 'effusive' && d.kind !== 'supersonic')) return { geo: fineGeometry(f, 24, [], keep) };
-  const spec = f.spec;
+  if (f.grid || !f.spec || !clips || (f.dist.kind !== 'effusive' && f.dist.kind !== 'supersonic')) return { geo: fineGeometry(f, 24, [], keep) };
+  const crosstalk = others.some((o) => o.id !== f.detector?.id);
+  const own = convergedPass(f, [], keep && !crosstalk);
+  if (!crosstalk || own.geo.nodes === NO_NODES) return own;
+  // the other windows' shares (crosstalk) and the nodes the profiles read, on a grid of their own cut at the other
+  // windows' kinks as well: the sub-beam's own numbers (transmitted, captured, moments) come from its own grid and do
+  // not depend on which other windows stand on its plane, so a run that reports no crosstalk (the planning tools) gives
+  // them bit for bit
+  const cross = convergedPass(f, others, keep);
+  const change = own.change === undefined ? cross.change : cross.change === undefined ? own.change : Math.max(own.change, cross.change);
+  const geo: FineGeo = { ...own.geo, nodes: cross.geo.nodes, ...(cross.geo.inside ? { inside: cross.geo.inside } : {}) };
+  // both grids' speeds were evaluated: the run counts them all
+  return { geo, ...(change === undefined ? {} : { change }), extraNodes: own.geo.nodes.count };
+}
+
+/** convergedGeometry for the sub-beam's own window and the windows in `others` together, on one grid cut at all their kinks. */
+function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolean): { geo: FineGeo; change?: number } {
+  const d = f.dist;
+  const spec = f.spec!;
   const [lo, hi] = geometryRange(d);
   const e = evaluator(f, others);
   // the phase terms kept in the weights: those the 24-panel grid resolves (the grid the plane always had)
