@@ -159,6 +159,8 @@ function speedOf(s: SpeedSampler, rng: Random, r1: number, r2: number): number {
 const BLOCK = 16_384;
 /** Words drawn per atom for its path and its two transverse points. */
 const ATOM_WORDS = 5;
+/** Atoms whose path and transverse words are drawn and followed at a time (their words stay in the nearest caches). */
+const SUB = 2048;
 
 /**
  * Everything the atoms of a simulated run need, prepared once from the line's paths (and again, identically, by each
@@ -330,7 +332,9 @@ export interface SimulationTally {
 
 /** The work arrays of one block, reused from block to block. */
 class BlockWork {
-  readonly words = new Int32Array(ATOM_WORDS * BLOCK);
+  /** The block's isotope and speed words, then a sub-block's path and transverse words. */
+  readonly words = new Int32Array(2 * BLOCK);
+  readonly atomWords = new Int32Array(ATOM_WORDS * SUB);
   readonly sysOf = new Int32Array(BLOCK);
   readonly speeds = new Float64Array(BLOCK);
   readonly invV2 = new Float64Array(BLOCK);
@@ -367,25 +371,13 @@ function drawSpeeds(pr: Prepared, rng: Random, wk: BlockWork, nb: number): void 
   const s0 = pr.samplers[0];
   if (nSys === 1 && s0.kind === EFFUSIVE) {
     // the common case in a loop of its own: v = a √(E₁ + E₂), 1/v² = 1/(a² (E₁ + E₂))
-    // the ziggurat's common case, both words inside their layers' rectangles (random.ts exponentialOf), tested here;
-    // the atoms with a word outside are done after the loop, in their order (a call's result in the loop would have
-    // every exponential boxed)
-    const a = s0.value, a2 = a * a, rejected = wk.chosen;
-    let nr = 0;
-    for (let j = 0; j < nb; j++) {
-      const r1 = words[2 * j], r2 = words[2 * j + 1];
-      const i1 = r1 & 255, k1 = r1 >>> 8, i2 = r2 & 255, k2 = r2 >>> 8;
-      if (k1 < ZIG_K[i1] && k2 < ZIG_K[i2]) {
-        const g = k1 * ZIG_W[i1] + k2 * ZIG_W[i2];
-        speeds[j] = a * Math.sqrt(g);
-        invV2[j] = 1 / (a2 * g);
-      } else rejected[nr++] = j;
-    }
+    const a = s0.value, rejected = wk.chosen;
+    const nr = effusiveSpeeds(words, speeds, invV2, rejected, nb, a);
     for (let t = 0; t < nr; t++) {
       const j = rejected[t];
       const g = exponentialOf(rng, words[2 * j]) + exponentialOf(rng, words[2 * j + 1]);
       speeds[j] = a * Math.sqrt(g);
-      invV2[j] = 1 / (a2 * g);
+      invV2[j] = 1 / (a * a * g);
     }
     return;
   }
@@ -395,6 +387,28 @@ function drawSpeeds(pr: Prepared, rng: Random, wk: BlockWork, nb: number): void 
     speeds[j] = v;
     invV2[j] = 1 / (v * v);
   }
+}
+
+/**
+ * Effusive speeds v = a √(E₁ + E₂) and 1/v² from two words an atom where both fall in the ziggurat's common case
+ * (inside their layers' rectangles: random.ts exponentialOf), tested here; returns how many atoms have a word outside
+ * and lists them in `rejected`, for the caller to draw in their order (a call's result in this loop would have every
+ * exponential boxed). Nothing follows the loop but the return: a loop compiled while it runs (on stack) without having
+ * seen the code after it gives up there at every later call.
+ */
+function effusiveSpeeds(words: Int32Array, speeds: Float64Array, invV2: Float64Array, rejected: Int32Array, nb: number, a: number): number {
+  const a2 = a * a;
+  let nr = 0;
+  for (let j = 0; j < nb; j++) {
+    const r1 = words[2 * j], r2 = words[2 * j + 1];
+    const i1 = r1 & 255, k1 = r1 >>> 8, i2 = r2 & 255, k2 = r2 >>> 8;
+    if (k1 < ZIG_K[i1] && k2 < ZIG_K[i2]) {
+      const g = k1 * ZIG_W[i1] + k2 * ZIG_W[i2];
+      speeds[j] = a * Math.sqrt(g);
+      invV2[j] = 1 / (a2 * g);
+    } else rejected[nr++] = j;
+  }
+  return nr;
 }
 
 /** Each path's probability at the block's speeds, for the systems whose paths are not all constant. */
@@ -433,15 +447,15 @@ function pathProbabilities(pr: Prepared, wk: BlockWork, nb: number): void {
 /**
  * Each atom's path by the Born rule at its speed from its first word (−1: absorbed in the spin operations); returns
  * the number absorbed. (The hot functions of the block return their counts rather than write them to an object
- * after their loops: code the loop was compiled for before it ever ran that far deoptimised at every call.)
+ * after their loops: see effusiveSpeeds.)
  */
-function choosePaths(pr: Prepared, wk: BlockWork, nb: number): number {
-  const words = wk.words, chosen = wk.chosen, sysOf = wk.sysOf, probs = wk.probs, negative = wk.negative;
+function choosePaths(pr: Prepared, wk: BlockWork, j0: number, j1: number): number {
+  const words = wk.atomWords, chosen = wk.chosen, sysOf = wk.sysOf, probs = wk.probs, negative = wk.negative;
   const sysStart = pr.sysStart, sysPaths = pr.sysPaths, sysStatic = pr.sysStatic, cum = pr.cum;
   let lost = 0;
-  for (let j = 0; j < nb; j++) {
+  for (let j = j0; j < j1; j++) {
     const k = sysOf[j], q0 = sysStart[k], q1 = sysStart[k + 1];
-    const u = (words[ATOM_WORDS * j] >>> 0) * U32;
+    const u = (words[ATOM_WORDS * (j - j0)] >>> 0) * U32;
     let c = -1;
     if (sysStatic[k]) {
       let q = q0;
@@ -469,20 +483,20 @@ function choosePaths(pr: Prepared, wk: BlockWork, nb: number): number {
  * Each atom's straight line from its start point to its point in the path's first slit, deflected by num/v² at each
  * plane: clipped at the path's strips and its window, or a hit on its detector's plane (hitDet, hitX, hitZ).
  */
-function followAtoms(pr: Prepared, wk: BlockWork, nb: number, pathAtoms: Float64Array, pathClipped: Float64Array): number {
-  const words = wk.words, chosen = wk.chosen, invV2 = wk.invV2, hitDet = wk.hitDet, hitX = wk.hitX, hitZ = wk.hitZ;
+function followAtoms(pr: Prepared, wk: BlockWork, j0: number, j1: number, pathAtoms: Float64Array, pathClipped: Float64Array): number {
+  const words = wk.atomWords, chosen = wk.chosen, invV2 = wk.invV2, hitDet = wk.hitDet, hitX = wk.hitX, hitZ = wk.hitZ;
   const srcX0 = pr.srcX0, srcZ0 = pr.srcZ0, srcW = pr.srcW, srcH = pr.srcH;
   const hasCol = pr.hasCol, colX0 = pr.colX0, colZ0 = pr.colZ0, colW = pr.colW, colH = pr.colH;
   const stripStart = pr.stripStart, stripF = pr.stripF, stripLo = pr.stripLo, stripHi = pr.stripHi, stripX = pr.stripX, stripNum = pr.stripNum;
   const fpl = pr.fpl, planeNumX = pr.planeNumX, planeNumZ = pr.planeNumZ;
   const hasWin = pr.hasWin, winX = pr.winX, winZ = pr.winZ, winHW = pr.winHW, winHH = pr.winHH, detOf = pr.detOf;
   let clipped = 0;
-  for (let j = 0; j < nb; j++) {
+  for (let j = j0; j < j1; j++) {
     hitDet[j] = -1;
     const p = chosen[j];
     if (p < 0) continue;
     pathAtoms[p]++;
-    const o = ATOM_WORDS * j;
+    const o = ATOM_WORDS * (j - j0);
     const sx = srcX0[p] + srcW[p] * ((words[o + 1] >>> 0) * U32), sz = srcZ0[p] + srcH[p] * ((words[o + 2] >>> 0) * U32);
     let dx = 0, dz = 0;
     if (hasCol[p] === 1) {
@@ -517,9 +531,9 @@ function followAtoms(pr: Prepared, wk: BlockWork, nb: number, pathAtoms: Float64
 }
 
 /** The block's hits into their detectors' stores, and to `onHit` in the atoms' order. */
-function keepHits(wk: BlockWork, nb: number, stores: readonly HitStore[], ids: readonly string[], onHit: SimulateOptions['onHit']): void {
+function keepHits(wk: BlockWork, j0: number, j1: number, stores: readonly HitStore[], ids: readonly string[], onHit: SimulateOptions['onHit']): void {
   const hitDet = wk.hitDet, hitX = wk.hitX, hitZ = wk.hitZ;
-  for (let j = 0; j < nb; j++) {
+  for (let j = j0; j < j1; j++) {
     const d = hitDet[j];
     if (d < 0) continue;
     const h = stores[d];
@@ -589,10 +603,13 @@ export function simulation(plan: Plan, opts: SimulateOptions = {}, values: Reado
       // point, the point in the first slit
       drawSpeeds(pr, rng, wk, nb);
       if (dynamic) pathProbabilities(pr, wk, nb);
-      rng.fillWords(wk.words, ATOM_WORDS * nb);
-      wk.lostSpin += choosePaths(pr, wk, nb);
-      wk.clipped += followAtoms(pr, wk, nb, pathAtoms, pathClipped);
-      keepHits(wk, nb, stores, ids, opts.onHit);
+      for (let j0 = 0; j0 < nb; j0 += SUB) {
+        const j1 = Math.min(nb, j0 + SUB);
+        rng.fillWords(wk.atomWords, ATOM_WORDS * (j1 - j0));
+        wk.lostSpin += choosePaths(pr, wk, j0, j1);
+        wk.clipped += followAtoms(pr, wk, j0, j1, pathAtoms, pathClipped);
+        keepHits(wk, j0, j1, stores, ids, opts.onHit);
+      }
     }
     return { first, end, lostSpin: wk.lostSpin, clipped: wk.clipped, negative: Math.min(wk.negative[0], pr.staticNegative), pathAtoms, pathClipped, hits: stores.map((h) => h.done()) };
   };
@@ -658,30 +675,39 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
 
 /** The hits' means and rms (two passes over them, in the atoms' order) and their range. */
 function moments(xs: readonly Float64Array[], zs: readonly Float64Array[], n: number): { mx: number; mz: number; rx: number; rz: number; x0: number; x1: number; z0: number; z1: number } {
-  let sx = 0, sz = 0, x0 = Infinity, x1 = -Infinity, z0 = Infinity, z1 = -Infinity;
-  for (let c = 0; c < xs.length; c++) {
-    const cx = xs[c], cz = zs[c];
-    for (let i = 0; i < cx.length; i++) {
-      const x = cx[i], z = cz[i];
-      sx += x;
-      sz += z;
-      if (x < x0) x0 = x;
-      if (x > x1) x1 = x;
-      if (z < z0) z0 = z;
-      if (z > z1) z1 = z;
-    }
+  // [Σx, Σz, min x, max x, min z, max z], then [Σ(x − x̄)², Σ(z − z̄)²]; chunk by chunk (the first chunk is short, so
+  // each function has run to its end before its loop is compiled: see effusiveSpeeds)
+  const acc = new Float64Array([0, 0, Infinity, -Infinity, Infinity, -Infinity]);
+  for (let c = 0; c < xs.length; c++) chunkSums(xs[c], zs[c], acc);
+  const mx = acc[0] / n, mz = acc[1] / n;
+  const q = new Float64Array(2);
+  for (let c = 0; c < xs.length; c++) chunkSquares(xs[c], zs[c], mx, mz, q);
+  return { mx, mz, rx: Math.sqrt(q[0] / n), rz: Math.sqrt(q[1] / n), x0: acc[2], x1: acc[3], z0: acc[4], z1: acc[5] };
+}
+
+function chunkSums(cx: Float64Array, cz: Float64Array, acc: Float64Array): void {
+  let sx = acc[0], sz = acc[1], x0 = acc[2], x1 = acc[3], z0 = acc[4], z1 = acc[5];
+  for (let i = 0; i < cx.length; i++) {
+    const x = cx[i], z = cz[i];
+    sx += x;
+    sz += z;
+    if (x < x0) x0 = x;
+    if (x > x1) x1 = x;
+    if (z < z0) z0 = z;
+    if (z > z1) z1 = z;
   }
-  const mx = sx / n, mz = sz / n;
-  let qx = 0, qz = 0;
-  for (let c = 0; c < xs.length; c++) {
-    const cx = xs[c], cz = zs[c];
-    for (let i = 0; i < cx.length; i++) {
-      const dx = cx[i] - mx, dz = cz[i] - mz;
-      qx += dx * dx;
-      qz += dz * dz;
-    }
+  acc[0] = sx; acc[1] = sz; acc[2] = x0; acc[3] = x1; acc[4] = z0; acc[5] = z1;
+}
+
+function chunkSquares(cx: Float64Array, cz: Float64Array, mx: number, mz: number, q: Float64Array): void {
+  let qx = q[0], qz = q[1];
+  for (let i = 0; i < cx.length; i++) {
+    const dx = cx[i] - mx, dz = cz[i] - mz;
+    qx += dx * dx;
+    qz += dz * dz;
   }
-  return { mx, mz, rx: Math.sqrt(qx / n), rz: Math.sqrt(qz / n), x0, x1, z0, z1 };
+  q[0] = qx;
+  q[1] = qz;
 }
 
 /** A 2-D histogram of hits: over the window where the detector has one, else over the hits' range (2 % wider). */
@@ -694,22 +720,23 @@ function hitMap(xs: readonly Float64Array[], zs: readonly Float64Array[], m: { x
   };
   const [x0, x1] = range(m.x0, m.x1, window?.x, window?.width);
   const [z0, z1] = range(m.z0, m.z1, window?.z, window?.height);
-  // counted in one flat array (a hit outside the range goes to the nearest bin), handed out as rows; a bin's index is
-  // ⌊t⌋ of t = (x − x₀)·bins/(x₁ − x₀), clamped to 0 … bins − 1 (t | 0 is ⌊t⌋ for 1 ≤ t < bins − 1)
+  // counted in one flat array (a hit outside the range goes to the nearest bin), handed out as rows
   const flat = new Float64Array(bins * bins);
-  const sx = bins / (x1 - x0), sz = bins / (z1 - z0), last = bins - 1;
-  for (let c = 0; c < xs.length; c++) {
-    const cx = xs[c], cz = zs[c];
-    for (let i = 0; i < cx.length; i++) {
-      const ta = (cx[i] - x0) * sx, tb = (cz[i] - z0) * sz;
-      const a = ta < 1 ? 0 : ta >= last ? last : ta | 0;
-      const b = tb < 1 ? 0 : tb >= last ? last : tb | 0;
-      flat[a * bins + b]++;
-    }
-  }
+  for (let c = 0; c < xs.length; c++) chunkBins(xs[c], zs[c], flat, bins, x0, bins / (x1 - x0), z0, bins / (z1 - z0));
   const counts = Array.from({ length: bins }, (_, a) => Array.from(flat.subarray(a * bins, (a + 1) * bins)));
   const edges = (lo: number, hi: number) => Array.from({ length: bins + 1 }, (_, i) => lo + ((hi - lo) * i) / bins);
   return { x: edges(x0, x1), z: edges(z0, z1), counts };
+}
+
+/** A bin's index is ⌊t⌋ of t = (x − x₀)·bins/(x₁ − x₀), clamped to 0 … bins − 1 (t | 0 is ⌊t⌋ for 1 ≤ t < bins − 1). */
+function chunkBins(cx: Float64Array, cz: Float64Array, flat: Float64Array, bins: number, x0: number, sx: number, z0: number, sz: number): void {
+  const last = bins - 1;
+  for (let i = 0; i < cx.length; i++) {
+    const ta = (cx[i] - x0) * sx, tb = (cz[i] - z0) * sz;
+    const a = ta < 1 ? 0 : ta >= last ? last : ta | 0;
+    const b = tb < 1 ? 0 : tb >= last ? last : tb | 0;
+    flat[a * bins + b]++;
+  }
 }
 
 /** For the tests: the speed sampler of a distribution with its own seeded generator. */
