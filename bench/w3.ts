@@ -61,11 +61,21 @@ export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean
     const cell = z < lo ? 0 : z >= hi ? nb + 1 : 1 + Math.min(nb - 1, Math.floor(((z - lo) / (hi - lo)) * nb));
     hist[p][cell]++;
   };
+  // from the tallies: each chunk of hits in a loop of its own (the same cells and sums, in the same order, as add)
+  const acc = new Float64Array(3);
   const addTallies = (ids: string[], tallies: SimulationTally[]) => {
     for (const t of [...tallies].sort((a, b) => a.first - b.first)) {
       t.hits.forEach((h, d) => {
         const p = port(ids[d]);
-        for (const chunk of h.z) for (let i = 0; i < chunk.length; i++) add(p, chunk[i]);
+        const cells = new Float64Array(nb + 2);
+        acc[0] = sum[p];
+        acc[1] = sum2[p];
+        acc[2] = count[p];
+        for (const chunk of h.z) histogramChunk(chunk, cells, acc, lo, hi, nb);
+        sum[p] = acc[0];
+        sum2[p] = acc[1];
+        count[p] = acc[2];
+        cells.forEach((c, k) => (hist[p][k] += c));
       });
     }
   };
@@ -177,4 +187,18 @@ function startWorker(data: { doc: unknown; atoms: number; seed: number }): { por
   } catch {
     return null;
   }
+}
+
+/** W3's cells (underflow, nb bins on [lo, hi), overflow) and the sums Σz, Σz², n of one chunk of hits, as the hit callback counts them. */
+function histogramChunk(z: Float64Array, cells: Float64Array, acc: Float64Array, lo: number, hi: number, nb: number): void {
+  let s = acc[0], s2 = acc[1];
+  for (let i = 0; i < z.length; i++) {
+    const v = z[i];
+    s += v;
+    s2 += v * v;
+    cells[v < lo ? 0 : v >= hi ? nb + 1 : 1 + Math.min(nb - 1, Math.floor(((v - lo) / (hi - lo)) * nb))]++;
+  }
+  acc[0] = s;
+  acc[1] = s2;
+  acc[2] += z.length;
 }

@@ -175,9 +175,12 @@ class Prepared {
   /** The paths of system k: sysPaths[sysStart[k] … sysStart[k + 1]). */
   readonly sysStart: Int32Array;
   readonly sysPaths: Int32Array;
-  /** Whether every path of system k has a constant probability; then cum holds their running sums (negatives as 0). */
+  /**
+   * Whether every path of system k has a constant probability; then cum31 holds their running sums (negatives as 0)
+   * in units of 2⁻³¹, rounded, for a choice without a branch on the word.
+   */
   readonly sysStatic: Uint8Array;
-  readonly cum: Float64Array;
+  readonly cum31: Int32Array;
   /** The most negative probability met (a path's state's round-off); 0 where none. */
   staticNegative = 0;
   readonly pathConst: Float64Array;
@@ -196,6 +199,19 @@ class Prepared {
   readonly winX: Float64Array; readonly winZ: Float64Array; readonly winHW: Float64Array; readonly winHH: Float64Array;
   /** The path's detector's index in `detectors`, −1 for a stop. */
   readonly detOf: Int32Array;
+  /**
+   * The point on the detector's plane, linear in the two words w₁ (start point) and w₃ (point in the slit) read as
+   * unsigned integers, and in 1/v²: x = ax + bx·w₁ + cx·w₃ + planeNumX/v², likewise z with w₂ and w₄.
+   */
+  readonly ax: Float64Array; readonly bx: Float64Array; readonly cx: Float64Array;
+  readonly az: Float64Array; readonly bz: Float64Array; readonly cz: Float64Array;
+  /**
+   * The same packed for the atoms' loop, 8 numbers a path (ax, bx, cx, planeNumX, az, bz, cz, planeNumZ), and 2
+   * integers a path (its detector's index or −1; 1 where it has strips or a window to test): a loop reads fewer
+   * arrays (each array read costs its own loads of where its data lie).
+   */
+  readonly geo: Float64Array;
+  readonly flags: Int32Array;
 
   constructor(readonly paths: readonly FinePath[], sysList: readonly { fraction: number; dist: VelocityDistribution; paths: number[] }[],
     readonly detectorIds: readonly string[]) {
@@ -206,7 +222,7 @@ class Prepared {
     this.sysStart = new Int32Array(nSys + 1);
     this.sysPaths = new Int32Array(n);
     this.sysStatic = new Uint8Array(nSys);
-    this.cum = new Float64Array(n);
+    this.cum31 = new Int32Array(n);
     this.pathConst = new Float64Array(n).fill(NaN);
     paths.forEach((p, i) => {
       // the same state at every speed (no phase term): one trace for all, taken at any speed
@@ -223,7 +239,7 @@ class Prepared {
         else {
           if (c < 0) this.staticNegative = Math.min(this.staticNegative, c);
           run += c > 0 ? c : 0;
-          this.cum[o] = run;
+          this.cum31[o] = Math.round(Math.min(run, 1) * 2 ** 31);
         }
         o++;
       }
@@ -239,6 +255,9 @@ class Prepared {
     this.hasWin = new Uint8Array(n);
     this.winX = f64(); this.winZ = f64(); this.winHW = f64(); this.winHH = f64();
     this.detOf = new Int32Array(n).fill(-1);
+    this.ax = f64(); this.bx = f64(); this.cx = f64(); this.az = f64(); this.bz = f64(); this.cz = f64();
+    this.geo = new Float64Array(8 * n);
+    this.flags = new Int32Array(2 * n);
     this.stripStart = new Int32Array(n + 1);
     const nStrips = paths.reduce((t, p) => t + p.track.strips.length, 0);
     this.stripF = new Float64Array(nStrips); this.stripLo = new Float64Array(nStrips); this.stripHi = new Float64Array(nStrips);
@@ -279,6 +298,24 @@ class Prepared {
         this.winX[i] = w.x; this.winZ[i] = w.z; this.winHW[i] = w.width / 2; this.winHH[i] = w.height / 2;
       }
       if (p.detector) this.detOf[i] = detectorIds.indexOf(p.detector.id);
+      // s + (c − s)·f = s (1 − f) + c f, s = s₀ + W u₁, c = c₀ + C u₃ (c = s without a slit)
+      const f = this.fpl[i];
+      if (col) {
+        this.ax[i] = this.srcX0[i] * (1 - f) + this.colX0[i] * f;
+        this.bx[i] = this.srcW[i] * (1 - f) * U32;
+        this.cx[i] = this.colW[i] * f * U32;
+        this.az[i] = this.srcZ0[i] * (1 - f) + this.colZ0[i] * f;
+        this.bz[i] = this.srcH[i] * (1 - f) * U32;
+        this.cz[i] = this.colH[i] * f * U32;
+      } else {
+        this.ax[i] = this.srcX0[i];
+        this.bx[i] = this.srcW[i] * U32;
+        this.az[i] = this.srcZ0[i];
+        this.bz[i] = this.srcH[i] * U32;
+      }
+      this.geo.set([this.ax[i], this.bx[i], this.cx[i], this.planeNumX[i], this.az[i], this.bz[i], this.cz[i], this.planeNumZ[i]], 8 * i);
+      this.flags[2 * i] = this.detOf[i];
+      this.flags[2 * i + 1] = t.strips.length > 0 || this.hasWin[i] === 1 ? 1 : 0;
     });
     this.stripStart[n] = k;
   }
@@ -295,6 +332,9 @@ class HitStore {
   cz = new Float64Array(1024);
   readonly xs: Float64Array[] = [this.cx];
   readonly zs: Float64Array[] = [this.cz];
+  /** Per sub-block with hits: STATS numbers (subStats), in the atoms' order. */
+  stats = new Float64Array(16 * STATS);
+  nStats = 0;
   grow(): void {
     const size = Math.min(2 * this.cx.length, 65_536);
     this.xs[this.xs.length - 1] = this.cx.subarray(0, this.fill);
@@ -305,11 +345,33 @@ class HitStore {
     this.zs.push(this.cz);
     this.fill = 0;
   }
+  /** Appends x[from … from + n), z likewise. */
+  append(x: Float64Array, z: Float64Array, from: number, n: number): void {
+    while (n > 0) {
+      if (this.fill === this.cx.length) this.grow();
+      const k = Math.min(n, this.cx.length - this.fill);
+      this.cx.set(x.subarray(from, from + k), this.fill);
+      this.cz.set(z.subarray(from, from + k), this.fill);
+      this.fill += k;
+      this.n += k;
+      from += k;
+      n -= k;
+    }
+  }
+  /** Appends the statistics of x[from … from + n), z likewise (n > 0). */
+  addStats(x: Float64Array, z: Float64Array, from: number, n: number): void {
+    if ((this.nStats + 1) * STATS > this.stats.length) {
+      const more = new Float64Array(2 * this.stats.length);
+      more.set(this.stats);
+      this.stats = more;
+    }
+    subStats(x, z, from, n, this.stats, this.nStats++ * STATS);
+  }
   /** The chunks, the last cut to its hits. */
-  done(): { n: number; x: Float64Array[]; z: Float64Array[] } {
+  done(): { n: number; x: Float64Array[]; z: Float64Array[]; stats: Float64Array } {
     this.xs[this.xs.length - 1] = this.cx.subarray(0, this.fill);
     this.zs[this.zs.length - 1] = this.cz.subarray(0, this.fill);
-    return { n: this.n, x: this.xs, z: this.zs };
+    return { n: this.n, x: this.xs, z: this.zs, stats: this.stats.slice(0, this.nStats * STATS) };
   }
 }
 
@@ -327,7 +389,11 @@ export interface SimulationTally {
   readonly pathAtoms: Float64Array;
   readonly pathClipped: Float64Array;
   /** Per detector (in the result's order) its hits' x and z (m) on its plane, in chunks. */
-  readonly hits: readonly { readonly n: number; readonly x: readonly Float64Array[]; readonly z: readonly Float64Array[] }[];
+  readonly hits: readonly {
+    readonly n: number; readonly x: readonly Float64Array[]; readonly z: readonly Float64Array[];
+    /** Per sub-block with hits, in order: n, mean x, mean z, Σ(x − x̄)², Σ(z − z̄)², min x, max x, min z, max z. */
+    readonly stats: Float64Array;
+  }[];
 }
 
 /** The work arrays of one block, reused from block to block. */
@@ -339,22 +405,27 @@ class BlockWork {
   readonly speeds = new Float64Array(BLOCK);
   readonly invV2 = new Float64Array(BLOCK);
   readonly chosen = new Int32Array(BLOCK);
-  readonly hitDet = new Int32Array(BLOCK);
-  readonly hitX = new Float64Array(BLOCK);
-  readonly hitZ = new Float64Array(BLOCK);
+  /** Each atom's detector (−1: none) in the sub-block; the hits of detector d at d·SUB + 0 … hitN[d] − 1 of hitX, hitZ. */
+  readonly hitDet = new Int32Array(SUB);
+  readonly hitN: Int32Array;
+  readonly hitX: Float64Array;
+  readonly hitZ: Float64Array;
   /** Per path its probability at each atom's speed, for systems with a path whose probability depends on the speed. */
   readonly probs: Float64Array[];
   lostSpin = 0;
   clipped = 0;
   /** The most negative path probability met, in [0] (a field written only where one is met). */
   readonly negative = new Float64Array(1);
-  constructor(nPaths: number, dynamic: boolean) {
+  constructor(nPaths: number, dynamic: boolean, nDet: number) {
+    this.hitN = new Int32Array(nDet);
+    this.hitX = new Float64Array(nDet * SUB);
+    this.hitZ = new Float64Array(nDet * SUB);
     this.probs = Array.from({ length: dynamic ? nPaths : 0 }, () => new Float64Array(BLOCK));
   }
 }
 
 /** The block's isotopes (one word an atom, where the line has more than one) and speeds (two words an atom). */
-function drawSpeeds(pr: Prepared, rng: Random, wk: BlockWork, nb: number): void {
+function drawSpeeds(pr: Prepared, rng: Random, wk: BlockWork, nb: number, withSpeeds: boolean): void {
   const words = wk.words, sysOf = wk.sysOf, speeds = wk.speeds, invV2 = wk.invV2;
   const nSys = pr.nSys;
   if (nSys > 1) {
@@ -372,7 +443,7 @@ function drawSpeeds(pr: Prepared, rng: Random, wk: BlockWork, nb: number): void 
   if (nSys === 1 && s0.kind === EFFUSIVE) {
     // the common case in a loop of its own: v = a √(E₁ + E₂), 1/v² = 1/(a² (E₁ + E₂))
     const a = s0.value, rejected = wk.chosen;
-    const nr = effusiveSpeeds(words, speeds, invV2, rejected, nb, a);
+    const nr = effusiveSpeeds(words, speeds, invV2, rejected, nb, a, withSpeeds);
     for (let t = 0; t < nr; t++) {
       const j = rejected[t];
       const g = exponentialOf(rng, words[2 * j]) + exponentialOf(rng, words[2 * j + 1]);
@@ -396,7 +467,7 @@ function drawSpeeds(pr: Prepared, rng: Random, wk: BlockWork, nb: number): void 
  * exponential boxed). Nothing follows the loop but the return: a loop compiled while it runs (on stack) without having
  * seen the code after it gives up there at every later call.
  */
-function effusiveSpeeds(words: Int32Array, speeds: Float64Array, invV2: Float64Array, rejected: Int32Array, nb: number, a: number): number {
+function effusiveSpeeds(words: Int32Array, speeds: Float64Array, invV2: Float64Array, rejected: Int32Array, nb: number, a: number, withSpeeds: boolean): number {
   const a2 = a * a;
   let nr = 0;
   for (let j = 0; j < nb; j++) {
@@ -404,7 +475,7 @@ function effusiveSpeeds(words: Int32Array, speeds: Float64Array, invV2: Float64A
     const i1 = r1 & 255, k1 = r1 >>> 8, i2 = r2 & 255, k2 = r2 >>> 8;
     if (k1 < ZIG_K[i1] && k2 < ZIG_K[i2]) {
       const g = k1 * ZIG_W[i1] + k2 * ZIG_W[i2];
-      speeds[j] = a * Math.sqrt(g);
+      if (withSpeeds) speeds[j] = a * Math.sqrt(g);
       invV2[j] = 1 / (a2 * g);
     } else rejected[nr++] = j;
   }
@@ -445,103 +516,104 @@ function pathProbabilities(pr: Prepared, wk: BlockWork, nb: number): void {
 }
 
 /**
- * Each atom's path by the Born rule at its speed from its first word (−1: absorbed in the spin operations); returns
- * the number absorbed. (The hot functions of the block return their counts rather than write them to an object
- * after their loops: see effusiveSpeeds.)
+ * Each atom of the sub-block j0 … j1 − 1: its path by the Born rule at its speed from its first word (none: absorbed
+ * in the spin operations), then its straight line from its start point (words 2 and 3) to its point in the path's
+ * first slit (words 4 and 5), deflected by num/v² at each plane: clipped at the path's strips and its window, or a
+ * hit on its detector's plane (hitDet; the hit's x and z in its detector's part of hitX, hitZ). Returns the atoms absorbed; the clipped are
+ * counted in wk.clipped. (The hot functions return their counts rather than write them to an object after their
+ * loops: see effusiveSpeeds.)
  */
-function choosePaths(pr: Prepared, wk: BlockWork, j0: number, j1: number): number {
-  const words = wk.atomWords, chosen = wk.chosen, sysOf = wk.sysOf, probs = wk.probs, negative = wk.negative;
-  const sysStart = pr.sysStart, sysPaths = pr.sysPaths, sysStatic = pr.sysStatic, cum = pr.cum;
+function followAtoms(pr: Prepared, wk: BlockWork, j0: number, j1: number, pathAtoms: Float64Array, pathClipped: Float64Array): number {
+  const words = wk.atomWords, sysOf = wk.sysOf, probs = wk.probs, negative = wk.negative;
+  const invV2 = wk.invV2, hitDet = wk.hitDet, hitN = wk.hitN, hitX = wk.hitX, hitZ = wk.hitZ;
+  hitN.fill(0);
+  const sysStart = pr.sysStart, sysPaths = pr.sysPaths, sysStatic = pr.sysStatic, cum31 = pr.cum31;
+  const geo = pr.geo, flags = pr.flags;
   let lost = 0;
   for (let j = j0; j < j1; j++) {
+    hitDet[j - j0] = -1;
+    const o = ATOM_WORDS * (j - j0);
     const k = sysOf[j], q0 = sysStart[k], q1 = sysStart[k + 1];
-    const u = (words[ATOM_WORDS * (j - j0)] >>> 0) * U32;
-    let c = -1;
-    if (sysStatic[k]) {
+    let p = -1;
+    if (sysStatic[k] === 1) {
+      // the top 31 bits w of the word against the running sums T: the number of T ≤ w, counted from the sign of
+      // T − 1 − w (no branch on the word, which would be mispredicted about as often as the paths are near equal)
+      const w = words[o] >>> 1;
       let q = q0;
-      while (q < q1 && u >= cum[q]) q++;
-      if (q < q1) c = sysPaths[q];
+      for (let t = q0; t < q1; t++) q += (cum31[t] - 1 - w) >>> 31;
+      if (q < q1) p = sysPaths[q];
     } else {
-      let left = u;
+      let left = (words[o] >>> 0) * U32;
       for (let q = q0; q < q1; q++) {
-        const i = sysPaths[q], p = probs[i][j];
-        if (p < 0 && p < negative[0]) negative[0] = p;
-        left -= p > 0 ? p : 0;
+        const i = sysPaths[q], pq = probs[i][j];
+        if (pq < 0 && pq < negative[0]) negative[0] = pq;
+        left -= pq > 0 ? pq : 0;
         if (left < 0) {
-          c = i;
+          p = i;
           break;
         }
       }
     }
-    if (c < 0) lost++;
-    chosen[j] = c;
+    if (p < 0) {
+      lost++;
+      continue;
+    }
+    pathAtoms[p]++;
+    const w1 = words[o + 1] >>> 0, w2 = words[o + 2] >>> 0, w3 = words[o + 3] >>> 0, w4 = words[o + 4] >>> 0;
+    const i2 = invV2[j];
+    const g = 8 * p;
+    const px = geo[g] + geo[g + 1] * w1 + geo[g + 2] * w3 + geo[g + 3] * i2, pz = geo[g + 4] + geo[g + 5] * w2 + geo[g + 6] * w4 + geo[g + 7] * i2;
+    if (flags[2 * p + 1] === 1 && clipped(pr, p, w1, w2, w3, w4, i2, px, pz)) {
+      pathClipped[p]++;
+      wk.clipped++;
+      continue;
+    }
+    const d = flags[2 * p];
+    if (d >= 0) {
+      hitDet[j - j0] = d;
+      const at = d * SUB + hitN[d]++;
+      hitX[at] = px;
+      hitZ[at] = pz;
+    }
   }
   return lost;
 }
 
 /**
- * Each atom's straight line from its start point to its point in the path's first slit, deflected by num/v² at each
- * plane: clipped at the path's strips and its window, or a hit on its detector's plane (hitDet, hitX, hitZ).
+ * Whether the atom of path p with words w₁ … w₄ and 1/v² = i2 is stopped at one of the path's strips, or lands at
+ * (px, pz) outside its detector's window.
  */
-function followAtoms(pr: Prepared, wk: BlockWork, j0: number, j1: number, pathAtoms: Float64Array, pathClipped: Float64Array): number {
-  const words = wk.atomWords, chosen = wk.chosen, invV2 = wk.invV2, hitDet = wk.hitDet, hitX = wk.hitX, hitZ = wk.hitZ;
-  const srcX0 = pr.srcX0, srcZ0 = pr.srcZ0, srcW = pr.srcW, srcH = pr.srcH;
-  const hasCol = pr.hasCol, colX0 = pr.colX0, colZ0 = pr.colZ0, colW = pr.colW, colH = pr.colH;
-  const stripStart = pr.stripStart, stripF = pr.stripF, stripLo = pr.stripLo, stripHi = pr.stripHi, stripX = pr.stripX, stripNum = pr.stripNum;
-  const fpl = pr.fpl, planeNumX = pr.planeNumX, planeNumZ = pr.planeNumZ;
-  const hasWin = pr.hasWin, winX = pr.winX, winZ = pr.winZ, winHW = pr.winHW, winHH = pr.winHH, detOf = pr.detOf;
-  let clipped = 0;
-  for (let j = j0; j < j1; j++) {
-    hitDet[j] = -1;
-    const p = chosen[j];
-    if (p < 0) continue;
-    pathAtoms[p]++;
-    const o = ATOM_WORDS * (j - j0);
-    const sx = srcX0[p] + srcW[p] * ((words[o + 1] >>> 0) * U32), sz = srcZ0[p] + srcH[p] * ((words[o + 2] >>> 0) * U32);
-    let dx = 0, dz = 0;
-    if (hasCol[p] === 1) {
-      dx = colX0[p] + colW[p] * ((words[o + 3] >>> 0) * U32) - sx;
-      dz = colZ0[p] + colH[p] * ((words[o + 4] >>> 0) * U32) - sz;
-    }
-    const i2 = invV2[j];
-    let ok = true;
-    for (let k = stripStart[p], e = stripStart[p + 1]; k < e; k++) {
-      const q = (stripX[k] === 1 ? sx + dx * stripF[k] : sz + dz * stripF[k]) + stripNum[k] * i2;
-      if (q < stripLo[k] || q > stripHi[k]) {
-        ok = false;
-        break;
-      }
-    }
-    const f = fpl[p];
-    const px = sx + dx * f + planeNumX[p] * i2, pz = sz + dz * f + planeNumZ[p] * i2;
-    if (ok && hasWin[p] === 1 && !(Math.abs(px - winX[p]) <= winHW[p] && Math.abs(pz - winZ[p]) <= winHH[p])) ok = false;
-    if (!ok) {
-      pathClipped[p]++;
-      clipped++;
-      continue;
-    }
-    const d = detOf[p];
-    if (d >= 0) {
-      hitDet[j] = d;
-      hitX[j] = px;
-      hitZ[j] = pz;
-    }
+function clipped(pr: Prepared, p: number, w1: number, w2: number, w3: number, w4: number, i2: number, px: number, pz: number): boolean {
+  if (pr.hasWin[p] === 1 && !(Math.abs(px - pr.winX[p]) <= pr.winHW[p] && Math.abs(pz - pr.winZ[p]) <= pr.winHH[p])) return true;
+  const sx = pr.srcX0[p] + pr.srcW[p] * U32 * w1, sz = pr.srcZ0[p] + pr.srcH[p] * U32 * w2;
+  let dx = 0, dz = 0;
+  if (pr.hasCol[p] === 1) {
+    dx = pr.colX0[p] + pr.colW[p] * U32 * w3 - sx;
+    dz = pr.colZ0[p] + pr.colH[p] * U32 * w4 - sz;
   }
-  return clipped;
+  const stripF = pr.stripF, stripLo = pr.stripLo, stripHi = pr.stripHi, stripX = pr.stripX, stripNum = pr.stripNum;
+  for (let k = pr.stripStart[p], e = pr.stripStart[p + 1]; k < e; k++) {
+    const q = (stripX[k] === 1 ? sx + dx * stripF[k] : sz + dz * stripF[k]) + stripNum[k] * i2;
+    if (q < stripLo[k] || q > stripHi[k]) return true;
+  }
+  return false;
 }
 
-/** The block's hits into their detectors' stores, and to `onHit` in the atoms' order. */
+/** The sub-block's hits into their detectors' stores, and to `onHit` in the atoms' order. */
 function keepHits(wk: BlockWork, j0: number, j1: number, stores: readonly HitStore[], ids: readonly string[], onHit: SimulateOptions['onHit']): void {
-  const hitDet = wk.hitDet, hitX = wk.hitX, hitZ = wk.hitZ;
+  const hitN = wk.hitN, hitX = wk.hitX, hitZ = wk.hitZ;
+  for (let d = 0; d < stores.length; d++) {
+    if (hitN[d] === 0) continue;
+    stores[d].append(hitX, hitZ, d * SUB, hitN[d]);
+    stores[d].addStats(hitX, hitZ, d * SUB, hitN[d]);
+  }
+  if (!onHit) return;
+  const hitDet = wk.hitDet, next = new Int32Array(stores.length);
   for (let j = j0; j < j1; j++) {
-    const d = hitDet[j];
+    const d = hitDet[j - j0];
     if (d < 0) continue;
-    const h = stores[d];
-    if (h.fill === h.cx.length) h.grow();
-    h.cx[h.fill] = hitX[j];
-    h.cz[h.fill++] = hitZ[j];
-    h.n++;
-    if (onHit) onHit(ids[d], hitX[j], hitZ[j], wk.speeds[j]);
+    const at = d * SUB + next[d]++;
+    onHit(ids[d], hitX[at], hitZ[at], wk.speeds[j]);
   }
 }
 
@@ -584,13 +656,15 @@ export function simulation(plan: Plan, opts: SimulateOptions = {}, values: Reado
   const pr = new Prepared(paths, sysList, ids);
   const dynamic = !pr.sysStatic.every((s) => s === 1);
   const blocks = Math.ceil(atoms / BLOCK);
+  // the speeds themselves (beside 1/v²) for the paths' probabilities and the hits handed out
+  const withSpeeds = dynamic || opts.onHit !== undefined;
 
   const run = (first: number, end: number): SimulationTally => {
     // block b draws from the seed's generator jumped b + 1 times (2⁶⁴ steps each); the seed's own stream is left
     // for the detectors' counts
     const stream = new Random(seed);
     for (let b = 0; b <= first; b++) stream.jump();
-    const wk = new BlockWork(paths.length, dynamic);
+    const wk = new BlockWork(paths.length, dynamic, ids.length);
     const stores = ids.map(() => new HitStore());
     const pathAtoms = new Float64Array(paths.length), pathClipped = new Float64Array(paths.length);
     for (let b = first; b < end; b++) {
@@ -601,13 +675,12 @@ export function simulation(plan: Plan, opts: SimulateOptions = {}, values: Reado
       const nb = Math.min(BLOCK, atoms - b * BLOCK);
       // speeds first (more words where the ziggurat rejects one), then five words an atom: the path, the start
       // point, the point in the first slit
-      drawSpeeds(pr, rng, wk, nb);
+      drawSpeeds(pr, rng, wk, nb, withSpeeds);
       if (dynamic) pathProbabilities(pr, wk, nb);
       for (let j0 = 0; j0 < nb; j0 += SUB) {
         const j1 = Math.min(nb, j0 + SUB);
         rng.fillWords(wk.atomWords, ATOM_WORDS * (j1 - j0));
-        wk.lostSpin += choosePaths(pr, wk, j0, j1);
-        wk.clipped += followAtoms(pr, wk, j0, j1, pathAtoms, pathClipped);
+        wk.lostSpin += followAtoms(pr, wk, j0, j1, pathAtoms, pathClipped);
         keepHits(wk, j0, j1, stores, ids, opts.onHit);
       }
     }
@@ -651,7 +724,7 @@ export function simulation(plan: Plan, opts: SimulateOptions = {}, values: Reado
         counts: rng.poisson((signal + bg) * dwell),
       };
       if (n > 0) {
-        const m = moments(xs, zs, n);
+        const m = moments(parts.map((t) => t.hits[di].stats), n);
         det.mean = { x: m.mx, z: m.mz };
         det.rms = { x: m.rx, z: m.rz };
         det.map = hitMap(xs, zs, m, bins, d.kind === 'detector' ? d.window : undefined);
@@ -673,41 +746,54 @@ export function simulate(plan: Plan, opts: SimulateOptions = {}, values: Readonl
   return s.finish([s.run(0, s.blocks)]);
 }
 
-/** The hits' means and rms (two passes over them, in the atoms' order) and their range. */
-function moments(xs: readonly Float64Array[], zs: readonly Float64Array[], n: number): { mx: number; mz: number; rx: number; rz: number; x0: number; x1: number; z0: number; z1: number } {
-  // [Σx, Σz, min x, max x, min z, max z], then [Σ(x − x̄)², Σ(z − z̄)²]; chunk by chunk (the first chunk is short, so
-  // each function has run to its end before its loop is compiled: see effusiveSpeeds)
-  const acc = new Float64Array([0, 0, Infinity, -Infinity, Infinity, -Infinity]);
-  for (let c = 0; c < xs.length; c++) chunkSums(xs[c], zs[c], acc);
-  const mx = acc[0] / n, mz = acc[1] / n;
-  const q = new Float64Array(2);
-  for (let c = 0; c < xs.length; c++) chunkSquares(xs[c], zs[c], mx, mz, q);
-  return { mx, mz, rx: Math.sqrt(q[0] / n), rz: Math.sqrt(q[1] / n), x0: acc[2], x1: acc[3], z0: acc[4], z1: acc[5] };
+/** Numbers kept per sub-block and detector: see SimulationTally's hits. */
+const STATS = 9;
+
+/** The statistics of one sub-block's hits x[from … from + n), z likewise, into out[o … o + STATS): two passes, in the nearest caches. */
+function subStats(x: Float64Array, z: Float64Array, from: number, n: number, out: Float64Array, o: number): void {
+  let sx = 0, sz = 0, x0 = Infinity, x1 = -Infinity, z0 = Infinity, z1 = -Infinity;
+  for (let i = from; i < from + n; i++) {
+    const a = x[i], b = z[i];
+    sx += a;
+    sz += b;
+    if (a < x0) x0 = a;
+    if (a > x1) x1 = a;
+    if (b < z0) z0 = b;
+    if (b > z1) z1 = b;
+  }
+  const mx = sx / n, mz = sz / n;
+  let qx = 0, qz = 0;
+  for (let i = from; i < from + n; i++) {
+    const a = x[i] - mx, b = z[i] - mz;
+    qx += a * a;
+    qz += b * b;
+  }
+  out[o] = n; out[o + 1] = mx; out[o + 2] = mz; out[o + 3] = qx; out[o + 4] = qz;
+  out[o + 5] = x0; out[o + 6] = x1; out[o + 7] = z0; out[o + 8] = z1;
 }
 
-function chunkSums(cx: Float64Array, cz: Float64Array, acc: Float64Array): void {
-  let sx = acc[0], sz = acc[1], x0 = acc[2], x1 = acc[3], z0 = acc[4], z1 = acc[5];
-  for (let i = 0; i < cx.length; i++) {
-    const x = cx[i], z = cz[i];
-    sx += x;
-    sz += z;
-    if (x < x0) x0 = x;
-    if (x > x1) x1 = x;
-    if (z < z0) z0 = z;
-    if (z > z1) z1 = z;
+/**
+ * The hits' means and rms and their range, from the sub-blocks' statistics combined in the atoms' order (the
+ * pairwise update of T. F. Chan, G. H. Golub and R. J. LeVeque, "Updating formulae and a pairwise algorithm for
+ * computing sample variances", 1979): a function of the sub-blocks alone, so the same for any split over threads.
+ */
+function moments(stats: readonly Float64Array[], total: number): { mx: number; mz: number; rx: number; rz: number; x0: number; x1: number; z0: number; z1: number } {
+  let n = 0, mx = 0, mz = 0, qx = 0, qz = 0, x0 = Infinity, x1 = -Infinity, z0 = Infinity, z1 = -Infinity;
+  for (const st of stats) {
+    for (let o = 0; o < st.length; o += STATS) {
+      const nb = st[o], m = n + nb;
+      const dx = st[o + 1] - mx, dz = st[o + 2] - mz;
+      mx += (dx * nb) / m;
+      mz += (dz * nb) / m;
+      qx += st[o + 3] + (dx * dx * n * nb) / m;
+      qz += st[o + 4] + (dz * dz * n * nb) / m;
+      n = m;
+      x0 = Math.min(x0, st[o + 5]); x1 = Math.max(x1, st[o + 6]);
+      z0 = Math.min(z0, st[o + 7]); z1 = Math.max(z1, st[o + 8]);
+    }
   }
-  acc[0] = sx; acc[1] = sz; acc[2] = x0; acc[3] = x1; acc[4] = z0; acc[5] = z1;
-}
-
-function chunkSquares(cx: Float64Array, cz: Float64Array, mx: number, mz: number, q: Float64Array): void {
-  let qx = q[0], qz = q[1];
-  for (let i = 0; i < cx.length; i++) {
-    const dx = cx[i] - mx, dz = cz[i] - mz;
-    qx += dx * dx;
-    qz += dz * dz;
-  }
-  q[0] = qx;
-  q[1] = qz;
+  if (n !== total) throw new RunError(`simulate: the hits' statistics count ${n} hits, the stores ${total}`);
+  return { mx, mz, rx: Math.sqrt(qx / n), rz: Math.sqrt(qz / n), x0, x1, z0, z1 };
 }
 
 /** A 2-D histogram of hits: over the window where the detector has one, else over the hits' range (2 % wider). */
