@@ -58,8 +58,7 @@ export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean
     sum[p] += z;
     sum2[p] += z * z;
     count[p]++;
-    const cell = z < lo ? 0 : z >= hi ? nb + 1 : 1 + Math.min(nb - 1, Math.floor(((z - lo) / (hi - lo)) * nb));
-    hist[p][cell]++;
+    hist[p][cellOf(z, lo, hi, nb)]++;
   };
   // from the tallies: each chunk of hits in a loop of its own (the same cells and sums, in the same order, as add)
   const acc = new Float64Array(3);
@@ -189,6 +188,14 @@ function startWorker(data: { doc: unknown; atoms: number; seed: number }): { por
   }
 }
 
+/** The cell of z: 0 below lo, nb + 1 at or above hi, else 1 + ⌊(z − lo)·nb/(hi − lo)⌋ (at most nb). */
+function cellOf(z: number, lo: number, hi: number, nb: number): number {
+  if (z < lo) return 0;
+  if (z >= hi) return nb + 1;
+  const k = ((z - lo) * (nb / (hi - lo))) | 0;
+  return 1 + (k < nb - 1 ? k : nb - 1);
+}
+
 /** W3's cells (underflow, nb bins on [lo, hi), overflow) and the sums Σz, Σz², n of one chunk of hits, as the hit callback counts them. */
 function histogramChunk(z: Float64Array, cells: Float64Array, acc: Float64Array, lo: number, hi: number, nb: number): void {
   let s = acc[0], s2 = acc[1];
@@ -196,7 +203,7 @@ function histogramChunk(z: Float64Array, cells: Float64Array, acc: Float64Array,
     const v = z[i];
     s += v;
     s2 += v * v;
-    cells[v < lo ? 0 : v >= hi ? nb + 1 : 1 + Math.min(nb - 1, Math.floor(((v - lo) / (hi - lo)) * nb))]++;
+    cells[cellOf(v, lo, hi, nb)]++;
   }
   acc[0] = s;
   acc[1] = s2;
