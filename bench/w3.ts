@@ -1,15 +1,25 @@
 /**
  * `npm run bench -- w3 [--json OUT] [--no-peers]`: workload W3 of ../shared/peers (10⁶ silver atoms through a
- * collimator and one magnet to a detector plane), simulated by `simulate` (src/engine/simulate.ts), beside the
+ * collimator and one magnet to a detector plane), simulated by the engine (src/engine/simulate.ts), beside the
  * NumPy peer in the same run. Prints `W3 spinyard points=1000000 seconds=<best of 3> maxdiff_vs_expected=<x>`, x
  * the largest |mean z − analytic|/SE over the two ports as the peer defines it, and the χ² of the 2 × 202
  * (port, cell) counts against w3-expected.json (cells expecting ≥ 5 counts, the rest pooled).
+ *
+ * Three ways, each timed as the best of 3 (wall and the process's CPU time, all threads) and each including the
+ * harness's own histogram and sums, as the peer's time includes its own: `simulate` with a callback per hit (as
+ * `spinyard simulate --hits` takes them); `simulation` in one thread, the histogram from the tally's hits; and the
+ * same with the blocks split between this thread and a worker thread (bench/w3-worker.ts), each making its own
+ * simulation of the line. The three must give the same histogram to the count; the seconds printed last are the
+ * one-thread `simulation`'s.
  */
 import { readFileSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { createRequire } from 'node:module';
+import { dirname, join } from 'node:path';
+import { pathToFileURL } from 'node:url';
 import { spawnSync } from 'node:child_process';
+import { MessageChannel, Worker, receiveMessageOnPort } from 'node:worker_threads';
 import { compile } from '../src/engine/index.ts';
-import { simulate } from '../src/engine/simulate.ts';
+import { simulate, simulation, type SimulationTally } from '../src/engine/simulate.ts';
 import { chiSquareSurvival } from '../src/physics/special.ts';
 
 /** W3's line as a document (the peer's constants; ../shared/peers/README.md, "W3"). */
@@ -38,29 +48,84 @@ export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean
   const port = (d: string) => (d === 'DP' ? 0 : 1);
   let hist: number[][] = [];
   let sum = [0, 0], sum2 = [0, 0], count = [0, 0];
-  const run = () => {
+  const reset = () => {
     hist = [new Array(nb + 2).fill(0), new Array(nb + 2).fill(0)];
     sum = [0, 0];
     sum2 = [0, 0];
     count = [0, 0];
-    simulate(c.plan, {
-      atoms, seed: 7, onHit: (d, _x, z) => {
-        const p = port(d);
-        sum[p] += z;
-        sum2[p] += z * z;
-        count[p]++;
-        const cell = z < lo ? 0 : z >= hi ? nb + 1 : 1 + Math.min(nb - 1, Math.floor(((z - lo) / (hi - lo)) * nb));
-        hist[p][cell]++;
-      },
-    });
   };
-  run();
-  let best = Infinity;
-  for (let i = 0; i < 3; i++) {
-    const t0 = performance.now();
-    run();
-    best = Math.min(best, (performance.now() - t0) / 1000);
+  const add = (p: number, z: number) => {
+    sum[p] += z;
+    sum2[p] += z * z;
+    count[p]++;
+    hist[p][cellOf(z, lo, hi, nb)]++;
+  };
+  // from the tallies: each chunk of hits in a loop of its own (the same cells and sums, in the same order, as add)
+  const acc = new Float64Array(3);
+  const addTallies = (ids: string[], tallies: SimulationTally[]) => {
+    for (const t of [...tallies].sort((a, b) => a.first - b.first)) {
+      t.hits.forEach((h, d) => {
+        const p = port(ids[d]);
+        const cells = new Float64Array(nb + 2);
+        acc[0] = sum[p];
+        acc[1] = sum2[p];
+        acc[2] = count[p];
+        for (const chunk of h.z) histogramChunk(chunk, cells, acc, lo, hi, nb);
+        sum[p] = acc[0];
+        sum2[p] = acc[1];
+        count[p] = acc[2];
+        cells.forEach((c, k) => (hist[p][k] += c));
+      });
+    }
+  };
+  const ways: Record<string, () => void> = {
+    'simulate, a callback per hit': () => {
+      reset();
+      simulate(c.plan, { atoms, seed: 7, onHit: (d, _x, z) => add(port(d), z) });
+    },
+    'simulation, one thread': () => {
+      reset();
+      const s = simulation(c.plan, { atoms, seed: 7 });
+      const t = s.run(0, s.blocks);
+      const r = s.finish([t]);
+      addTallies(r.detectors.map((d) => d.id), [t]);
+    },
+  };
+  // the second thread: started once (as a host keeps its pool), waited for through a shared flag
+  const worker = startWorker({ doc: W3_DOC, atoms, seed: 7 });
+  if (worker) {
+    ways['simulation, two threads'] = () => {
+      reset();
+      const s = simulation(c.plan, { atoms, seed: 7 });
+      const half = Math.ceil(s.blocks / 2);
+      const seen = Atomics.load(worker.flag, 0);
+      worker.port.postMessage({ first: half, end: s.blocks });
+      const mine = s.run(0, half);
+      Atomics.wait(worker.flag, 0, seen);
+      const theirs = receiveMessageOnPort(worker.port)!.message as SimulationTally;
+      const r = s.finish([mine, theirs]);
+      addTallies(r.detectors.map((d) => d.id), [mine, theirs]);
+    };
   }
+  const timings: string[] = [];
+  const hists: string[] = [];
+  let best = Infinity;
+  for (const [name, run] of Object.entries(ways)) {
+    run();
+    let wall = Infinity, cpu = Infinity;
+    for (let i = 0; i < 3; i++) {
+      const c0 = process.cpuUsage(), t0 = performance.now();
+      run();
+      const d = process.cpuUsage(c0);
+      wall = Math.min(wall, (performance.now() - t0) / 1000);
+      cpu = Math.min(cpu, (d.user + d.system) / 1e6);
+    }
+    hists.push(JSON.stringify(hist));
+    timings.push(`W3 ${name}: ${wall.toFixed(4)} s (CPU ${cpu.toFixed(4)} s), best of 3`);
+    if (name === 'simulation, one thread') best = wall;
+  }
+  worker?.stop();
+  if (hists.some((h) => h !== hists[0])) throw new Error('W3: the ways of running gave different histograms');
   const mean = sum.map((s, p) => s / count[p]);
   const se = sum2.map((s2, p) => Math.sqrt((s2 / count[p] - mean[p] ** 2) / count[p]));
   const portIndex = (name: string) => expected.ports.indexOf(name);
@@ -85,6 +150,8 @@ export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean
   const pValue = chiSquareSurvival(chi2, dof);
   if (jsonOut) writeFileSync(jsonOut, `${JSON.stringify({ counts: count, histogram: hist, mean_z_m: mean, se_mean_z_m: se, seconds: best }, null, 2)}\n`);
   const out = [
+    ...timings,
+    `W3: the ${hists.length} ways give the same histogram, count for count`,
     `W3: mean z per port ${mean.map((m) => `${(m * 1e3).toFixed(5)} mm`).join(', ')} (analytic ${order.map((i) => `${(expected.mean_z_m[i] * 1e3).toFixed(5)} mm`).join(', ')}); χ² ${chi2.toFixed(1)} on ${dof} dof, p = ${pValue.toPrecision(2)}`,
   ];
   if (peers) {
@@ -92,8 +159,53 @@ export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean
     const line = (r.stdout ?? '').trim().split('\n').pop() ?? '';
     out.push(r.status === 0 ? line : `W3 numpy peer did not run: ${(r.stderr ?? '').trim().split('\n').pop()}`);
     const m = /seconds=([\d.]+)/.exec(line);
-    if (m) out.push(`W3 ratio numpy/spinyard = ${(Number(m[1]) / best).toFixed(2)}`);
+    if (m) out.push(`W3 ratio numpy/spinyard = ${(Number(m[1]) / best).toFixed(2)} (one thread)`);
   }
   out.push(`W3 spinyard points=${atoms} seconds=${best.toFixed(4)} maxdiff_vs_expected=${x.toFixed(3)}`);
   return out.join('\n');
+}
+
+/**
+ * bench/w3-worker.ts in a worker thread (tsx's loader registered in it, as src/cli/scan-parallel.ts does), with a
+ * port and a shared flag for waiting without an event loop; null where it cannot start.
+ */
+function startWorker(data: { doc: unknown; atoms: number; seed: number }): { port: import('node:worker_threads').MessagePort; flag: Int32Array; stop: () => void } | null {
+  try {
+    const here = import.meta.url;
+    const pkg = createRequire(here).resolve('tsx/package.json');
+    const api = pathToFileURL(join(dirname(pkg), 'dist', 'esm', 'api', 'index.mjs')).href;
+    const source = new URL('./w3-worker.ts', here).href;
+    const boot = `import(${JSON.stringify(api)}).then((m) => { m.register(); return import(${JSON.stringify(source)}); });`;
+    const { port1, port2 } = new MessageChannel();
+    const flag = new Int32Array(new SharedArrayBuffer(4));
+    const w = new Worker(boot, { eval: true, workerData: { ...data, port: port2, flag }, transferList: [port2] });
+    w.unref();
+    // ready: the worker raises the flag once it has compiled the line
+    if (Atomics.wait(flag, 0, 0, 60_000) === 'timed-out') return null;
+    return { port: port1, flag, stop: () => void w.terminate() };
+  } catch {
+    return null;
+  }
+}
+
+/** The cell of z: 0 below lo, nb + 1 at or above hi, else 1 + ⌊(z − lo)·nb/(hi − lo)⌋ (at most nb). */
+function cellOf(z: number, lo: number, hi: number, nb: number): number {
+  if (z < lo) return 0;
+  if (z >= hi) return nb + 1;
+  const k = ((z - lo) * (nb / (hi - lo))) | 0;
+  return 1 + (k < nb - 1 ? k : nb - 1);
+}
+
+/** W3's cells (underflow, nb bins on [lo, hi), overflow) and the sums Σz, Σz², n of one chunk of hits, as the hit callback counts them. */
+function histogramChunk(z: Float64Array, cells: Float64Array, acc: Float64Array, lo: number, hi: number, nb: number): void {
+  let s = acc[0], s2 = acc[1];
+  for (let i = 0; i < z.length; i++) {
+    const v = z[i];
+    s += v;
+    s2 += v * v;
+    cells[cellOf(v, lo, hi, nb)]++;
+  }
+  acc[0] = s;
+  acc[1] = s2;
+  acc[2] += z.length;
 }

@@ -7,10 +7,8 @@
 import { lnGamma } from '../physics/special.ts';
 
 export class Random {
-  private a: number;
-  private b: number;
-  private c: number;
-  private d: number;
+  /** The state, four 32-bit words (as signed integers: a field holding words above 2³¹ changes its representation in V8). */
+  private readonly s = new Int32Array(4);
   private spare: number | null = null;
   /** Scratch words of fillUniform32. */
   private words = new Int32Array(0);
@@ -24,33 +22,70 @@ export class Random {
       z = Math.imul(z ^ (z >>> 13), 0xc2b2ae35) >>> 0;
       return (z ^ (z >>> 16)) >>> 0;
     };
-    this.a = next();
-    this.b = next();
-    this.c = next();
-    this.d = next();
-    if ((this.a | this.b | this.c | this.d) === 0) this.d = 1;
+    const st = this.s;
+    for (let i = 0; i < 4; i++) st[i] = next();
+    if ((st[0] | st[1] | st[2] | st[3]) === 0) st[3] = 1;
   }
 
   /** A generator in the given state (four 32-bit words, not all 0): for checks against the reference code. */
   static fromState(a: number, b: number, c: number, d: number): Random {
     const r = new Random(0);
-    r.a = a >>> 0;
-    r.b = b >>> 0;
-    r.c = c >>> 0;
-    r.d = d >>> 0;
+    r.s[0] = a;
+    r.s[1] = b;
+    r.s[2] = c;
+    r.s[3] = d;
     return r;
+  }
+
+  /**
+   * Moves the generator 2⁶⁴ steps on (the authors' jump function, their polynomial JUMP): the streams of successive
+   * jumps never overlap within 2⁶⁴ draws, so each may be drawn independently of the others (a simulated run's blocks).
+   */
+  jump(): void {
+    const st = this.s;
+    let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+    for (let i = 0; i < 4; i++) {
+      const m = JUMP[i];
+      for (let b = 0; b < 32; b++) {
+        if ((m >>> b) & 1) {
+          s0 ^= st[0];
+          s1 ^= st[1];
+          s2 ^= st[2];
+          s3 ^= st[3];
+        }
+        this.nextUint32();
+      }
+    }
+    st[0] = s0;
+    st[1] = s1;
+    st[2] = s2;
+    st[3] = s3;
+  }
+
+  /** The state, four unsigned 32-bit words (as fromState takes them). */
+  state(): [number, number, number, number] {
+    const st = this.s;
+    return [st[0] >>> 0, st[1] >>> 0, st[2] >>> 0, st[3] >>> 0];
+  }
+
+  /** A copy in the same state (its spare normal not kept). */
+  clone(): Random {
+    const st = this.s;
+    return Random.fromState(st[0], st[1], st[2], st[3]);
   }
 
   /** The next 32 random bits. */
   nextUint32(): number {
-    const r = Math.imul(rotl(Math.imul(this.b, 5) >>> 0, 7), 9) >>> 0;
-    const t = (this.b << 9) >>> 0;
-    this.c = (this.c ^ this.a) >>> 0;
-    this.d = (this.d ^ this.b) >>> 0;
-    this.b = (this.b ^ this.c) >>> 0;
-    this.a = (this.a ^ this.d) >>> 0;
-    this.c = (this.c ^ t) >>> 0;
-    this.d = rotl(this.d, 11);
+    const st = this.s;
+    const x = Math.imul(st[1], 5);
+    const r = Math.imul((x << 7) | (x >>> 25), 9) >>> 0;
+    const t = st[1] << 9;
+    st[2] ^= st[0];
+    st[3] ^= st[1];
+    st[1] ^= st[2];
+    st[0] ^= st[3];
+    st[2] ^= t;
+    st[3] = (st[3] << 11) | (st[3] >>> 21);
     return r;
   }
 
@@ -72,22 +107,28 @@ export class Random {
    * small integers to the JavaScript engine, where words above 2³¹ read from a Uint32Array would be boxed doubles).
    */
   fillWords(out: Int32Array, n: number): void {
-    let a = this.a | 0, b = this.b | 0, c = this.c | 0, d = this.d | 0;
-    for (let i = 0; i < n; i++) {
-      const x = Math.imul(b, 5);
-      out[i] = Math.imul((x << 7) | (x >>> 25), 9);
-      const t = b << 9;
-      c ^= a;
-      d ^= b;
-      b ^= c;
-      a ^= d;
-      c ^= t;
-      d = (d << 11) | (d >>> 21);
+    // the state is written back every 256 words: the stores then run (and the compiler learns them) long before a
+    // long first fill has the loop compiled on its own, which would otherwise give up at its end at every later call
+    const st = this.s;
+    let a = st[0], b = st[1], c = st[2], d = st[3];
+    for (let i0 = 0; i0 < n; i0 += 256) {
+      const i1 = Math.min(n, i0 + 256);
+      for (let i = i0; i < i1; i++) {
+        const x = Math.imul(b, 5);
+        out[i] = Math.imul((x << 7) | (x >>> 25), 9);
+        const t = b << 9;
+        c ^= a;
+        d ^= b;
+        b ^= c;
+        a ^= d;
+        c ^= t;
+        d = (d << 11) | (d >>> 21);
+      }
+      st[0] = a;
+      st[1] = b;
+      st[2] = c;
+      st[3] = d;
     }
-    this.a = a >>> 0;
-    this.b = b >>> 0;
-    this.c = c >>> 0;
-    this.d = d >>> 0;
   }
 
   /**
@@ -159,6 +200,19 @@ export class Random {
   }
 }
 
+/**
+ * A unit exponential from the 32-bit word `r`, as `rng.exponentialFrom(r)` gives it (the same number, the same
+ * further words where the word is rejected): the ziggurat's common case, a word inside its layer's rectangle, is
+ * answered here without a call, for loops that draw many.
+ */
+export function exponentialOf(rng: Random, r: number): number {
+  const iz = r & 255, j = r >>> 8;
+  return j < ZIG_K[iz] ? j * ZIG_W[iz] : rng.exponentialFrom(r);
+}
+
+/** xoshiro128**'s jump polynomial for 2⁶⁴ steps (Blackman and Vigna, the reference code's JUMP). */
+const JUMP = [0x8764000b, 0xf542d2d3, 0x6fa035c3, 0x77f2db5b];
+
 /** The ziggurat's right edge r and the area v of each of its 256 layers (Marsaglia and Tsang 2000, the exponential). */
 const ZIG_R = 7.697117470131487;
 const ZIG_V = 3.949659822581572e-3;
@@ -184,7 +238,5 @@ const ZIG = (() => {
   }
   return { k, w, f };
 })();
-
-function rotl(x: number, k: number): number {
-  return ((x << k) | (x >>> (32 - k))) >>> 0;
-}
+/** The ziggurat's acceptance bounds and widths, for loops that test a word's common case themselves (as exponentialOf). */
+export const ZIG_K = ZIG.k, ZIG_W = ZIG.w;

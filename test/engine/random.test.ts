@@ -1,6 +1,6 @@
 /** The seeded generator (src/engine/random.ts). */
 import { describe, expect, it } from 'vitest';
-import { Random } from '../../src/engine/random.ts';
+import { Random, exponentialOf } from '../../src/engine/random.ts';
 
 describe('Random', () => {
   it('is xoshiro128**: from the state (1, 2, 3, 4) the reference C code (Blackman and Vigna) gives 11520, 0, 5927040, 70819200, 2031721883', () => {
@@ -89,5 +89,61 @@ describe('Random', () => {
     expect(Math.abs(su / n - 0.5)).toBeLessThan(4 * 6.5e-4);
     expect(Math.abs(sn / n)).toBeLessThan(4 * 2.3e-3);
     expect(Math.abs(sn2 / n - 1)).toBeLessThan(4 * 3.2e-3);
+  });
+});
+
+describe('Random.jump', () => {
+  // xoshiro128** is linear over GF(2): one step is a 128 × 128 bit matrix T, read off the steps of the 128 unit states;
+  // 2⁶⁴ steps are T^(2^64), 64 squarings. The jump must give that matrix's image of any state (Blackman and Vigna:
+  // "equivalent to 2^64 calls to next()").
+  type Vec = Uint32Array;   // 4 words, bit k of word i is state bit 32 i + k
+  const step = (v: Vec): Vec => {
+    const r = Random.fromState(v[0], v[1], v[2], v[3]);
+    r.nextUint32();
+    return Uint32Array.from(r.state());
+  };
+  /** A matrix as its 128 columns: M·e_j. */
+  const apply = (m: Vec[], v: Vec): Vec => {
+    const out = new Uint32Array(4);
+    for (let j = 0; j < 128; j++) {
+      if ((v[j >>> 5] >>> (j & 31)) & 1) for (let i = 0; i < 4; i++) out[i] ^= m[j][i];
+    }
+    return out;
+  };
+
+  it('moves the state 2⁶⁴ steps on: the image of the state under T^(2^64)', () => {
+    let m: Vec[] = Array.from({ length: 128 }, (_, j) => {
+      const e = new Uint32Array(4);
+      e[j >>> 5] = 1 << (j & 31);
+      return step(e);
+    });
+    for (let k = 0; k < 64; k++) m = m.map((col) => apply(m, col));   // M ← M·M, column by column
+    for (const s of [[1, 2, 3, 4], [0x9e3779b9, 0x7f4a7c15, 0xdeadbeef, 0x12345678]]) {
+      const r = Random.fromState(s[0], s[1], s[2], s[3]);
+      r.jump();
+      expect(r.state()).toEqual(Array.from(apply(m, Uint32Array.from(s))));
+    }
+  });
+
+  it('leaves a clone where it was, and two jumps differ from one', () => {
+    const a = new Random(3), b = a.clone();
+    a.jump();
+    expect(b.state()).toEqual(new Random(3).state());
+    const c = a.clone();
+    c.jump();
+    expect(c.state()).not.toEqual(a.state());
+    expect(a.state()).not.toEqual(b.state());
+  });
+});
+
+describe('exponentialOf', () => {
+  it('gives exponentialFrom\'s numbers and leaves the generator where exponentialFrom does', () => {
+    const a = new Random(77), b = new Random(77);
+    const words = new Int32Array(20_000);
+    new Random(5).fillWords(words, words.length);
+    for (const w of words) expect(exponentialOf(a, w)).toBe(b.exponentialFrom(w));
+    expect(a.state()).toEqual(b.state());
+    // some of these words were rejected (the generator moved on), most not
+    expect(a.state()).not.toEqual(new Random(77).state());
   });
 });
