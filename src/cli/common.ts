@@ -10,12 +10,15 @@ export function problemsOut(file: string, problems: readonly string[], cost?: { 
   return bad(`${file}: not a valid beamline (${n} problem${n === 1 ? '' : 's'}):`, ...problems.map((p) => `  ${p}`));
 }
 
-/** A whole-number option from 0 to `max`: the number, undefined when absent, or the message naming it. */
+/**
+ * A whole-number option from 0 to `max`: the number, undefined when absent, or the message naming it. Digits, or a
+ * whole number in exponent form as a lab writes a count of atoms or draws (`1e6`, `2.5e5`).
+ */
 export function wholeOption(text: unknown, name: string, max: number): number | undefined | string {
   if (text === undefined) return undefined;
   const s = String(text);
   const n = Number(s);
-  return /^\s*\d+\s*$/.test(s) && Number.isSafeInteger(n) && n <= max ? n : `--${name}: a whole number from 0 to ${max}, got "${s}"`;
+  return /^\s*(\d+|\d+(\.\d+)?[eE]\+?\d+)\s*$/.test(s) && Number.isSafeInteger(n) && n <= max ? n : `--${name}: a whole number from 0 to ${max}, got "${s}"`;
 }
 
 /** Why `-o OUT` cannot be written for this input (empty, or the input document itself), or undefined. */

@@ -21,6 +21,14 @@ describe('spinyard simulate FILE', () => {
     expect(runCli(['simulate', G, '--atoms', '5000', '--json']).stdout).toBe(a.stdout);
   });
 
+  it('takes a count of atoms in exponent form, as the issue writes it (--atoms 1e6)', () => {
+    const j = JSON.parse(runCli(['simulate', G, '--atoms', '4e3', '--seed', '7', '--json']).stdout);
+    expect(j.atoms).toBe(4000);
+    expect(JSON.parse(runCli(['simulate', G, '--atoms', '2.5e3', '--json']).stdout).atoms).toBe(2500);
+    expect(runCli(['simulate', G, '--atoms', '2.5e0']).stderr).toMatch(/--atoms: a whole number/);
+    expect(runCli(['simulate', G, '--atoms', '1e-3']).stderr).toMatch(/--atoms: a whole number/);
+  });
+
   it('names what is wrong', () => {
     expect(runCli(['simulate', G, '--atoms', 'lots']).stderr).toMatch(/--atoms: a whole number/);
     expect(runCli(['simulate', G, '--seed', '1.5']).stderr).toMatch(/--seed: a whole number/);
