@@ -52,6 +52,11 @@ export interface RunOptions {
    * before its first evaluation, cost.ts checkCost): no refusal here, and no estimate unless progress needs one.
    */
   costChecked?: boolean;
+  /**
+   * A scan forms the points of a row after its first run as a batch where the inner parameter belongs to a last
+   * analysing magnet (batch.ts; equal to a run to 1e-14 of the flux); false runs every point (default true).
+   */
+  batchRows?: boolean;
 }
 
 /** Runs the line and returns result format v1 (docs/design.md) with this engine's additions. */
