@@ -55,6 +55,9 @@ interface PortAt {
 interface ValueAt {
   readonly element: Magnet | null;
   readonly ports: Map<string, readonly PortAt[] | null>;
+  /** The last isotope's key looked up and its ports (most lines have one isotope). */
+  lastKey: string;
+  lastPorts: readonly PortAt[] | null;
 }
 
 /** A contribution to a result leaf's yield, in the detector plane's order: a fixed number, or arrival `a`'s port `p`. */
@@ -172,7 +175,7 @@ export class RowBatch {
       const e = read?.elements[this.c];
       const e0 = line.elements[this.c];
       const ok = e !== undefined && e.kind === 'magnet' && e.id === e0.id && idealSorter(e) && e.gap === e0.gap && lengthOf(e) === lengthOf(e0);
-      v = { element: ok ? e : null, ports: new Map() };
+      v = { element: ok ? e : null, ports: new Map(), lastKey: '', lastPorts: null };
       this.values[j] = v;
     }
     return v;
@@ -201,7 +204,9 @@ export class RowBatch {
     }
     // the detector plane without geometry (detector-plane.ts evaluateGeometry), in its order of sums
     const leaves: ScanLeaf[] = new Array(t.leaves.length);
-    const dets: ScanDetector[] = t.detectors.map((d) => ({ id: d.id, yield: 0, rate: 0, signal: 0, counts: 0, sigma: 0 }));
+    const nd = t.detectors.length;
+    const dets: ScanDetector[] = new Array(nd);
+    for (let k = 0; k < nd; k++) dets[k] = { id: t.detectors[k].id, yield: 0, rate: 0, signal: 0, counts: 0, sigma: 0 };
     let total = 0;
     for (let i = 0; i < t.leaves.length; i++) {
       const l = t.leaves[i];
@@ -217,7 +222,7 @@ export class RowBatch {
       }
       total += y;
     }
-    for (let k = 0; k < dets.length; k++) {
+    for (let k = 0; k < nd; k++) {
       const d = dets[k], det = t.detectors[k];
       d.rate = d.signal + det.background;
       d.counts = countsIn(d.rate, det.dwell);
@@ -252,8 +257,13 @@ function idealSorter(e: Magnet): boolean {
  */
 function portsAt(v: ValueAt, ctx: WalkCtx, e: Magnet): readonly PortAt[] | null {
   const key = ctx.sys.key;
+  if (key === v.lastKey) return v.lastPorts;
   let ports = v.ports.get(key);
-  if (ports !== undefined) return ports;
+  if (ports !== undefined) {
+    v.lastKey = key;
+    v.lastPorts = ports;
+    return ports;
+  }
   ports = null;
   // the sorting's and the axis's warnings land in a set of their own: a value that warns is run on its own
   const probe = { ...ctx, seen: new Set<object>(), warnings: new Set<string>() } as WalkCtx;
@@ -280,6 +290,8 @@ function portsAt(v: ValueAt, ctx: WalkCtx, e: Magnet): readonly PortAt[] | null 
     ports = null;
   }
   v.ports.set(key, ports);
+  v.lastKey = key;
+  v.lastPorts = ports;
   return ports;
 }
 
