@@ -20,7 +20,7 @@
  */
 import type { Beamline, Detector, Magnet } from '../beamline/types.ts';
 import { lengthOf } from '../beamline/elements/registry.ts';
-import { type CMat, cmatDagger, cmatMul } from '../physics/cmat.ts';
+import type { CMat } from '../physics/cmat.ts';
 import { countSigma, countsIn } from './counting.ts';
 import { roundOffFloor } from './detector-plane.ts';
 import { blocksSandwich } from './blocks.ts';
@@ -318,18 +318,6 @@ function pack(vecs: readonly CMat[]): Float64Array {
   return out;
 }
 
-/**
- * ρ̄ Hermitian to 1e-13: a state selected by a single state from it (a lab-basis state, specProjectDiag) has an average
- * of its own, whose departure from Hermiticity the run reports above 1e-12; the row is batched only far below that.
- */
-function hermitian(q: CMat): boolean {
-  const d = q.rows;
-  for (let i = 0; i < d; i++) for (let j = i; j < d; j++) {
-    if (!(Math.abs(q.re[i * d + j] - q.re[j * d + i]) <= 1e-13 && Math.abs(q.im[i * d + j] + q.im[j * d + i]) <= 1e-13)) return false;
-  }
-  return true;
-}
-
 /** Q packed as P is (pack): Q_ii, then Re Q_ij and Im Q_ij for i < j. */
 function packHermitian(q: CMat): Float64Array {
   const d = q.rows;
@@ -383,22 +371,24 @@ function complete(packs: readonly Float64Array[]): boolean {
 }
 
 /**
- * ρ̄ = W Ā W† of an arriving spectral state, or null. Ā is the average the state keeps (average.ts); a state in the lab
- * basis whose run selected it only by single states (spectral.ts specProjectDiag) kept none: its average is formed
- * here, on a copy with averages of its own and a cache of its own, so that nothing of the runs changes.
+ * ρ̄ = W Ā W† of an arriving spectral state, packed (packHermitian), or null. Ā is the average the state keeps
+ * (average.ts); a state in the lab basis whose run selected it only by single states (spectral.ts specProjectDiag)
+ * kept none: its average is formed here, on a copy with averages of its own and a cache of its own, so that nothing
+ * of the runs changes.
  */
-function averagedState(st: State, ctx: WalkCtx): { q: CMat; lab: boolean } | null {
+function averagedState(st: State, ctx: WalkCtx): { q: Float64Array; lab: boolean; hermiticity: number } | null {
   if (isNodes(st)) return null;
   const s = st as SpecState;
   let avg = s.shared.avg;
   if (!avg && !s.fac && s.mu === null) avg = specAverageBasis({ W: s.W, mu: null, terms: s.terms, shared: {}, memo: {} }, new CharCache(ctx.dist));
   if (!avg) return null;
   const A = avg.A;
+  const lab = s.mu === null, hermiticity = avg.hermiticity;
   if (s.fac) {
     // N = B Ā B† (its Hermitian part, as average.ts traceFactored forms it), then L N L†
     const n = s.shared.lab ?? blocksSandwich(s.fac, A);
     const l = s.fac.left;
-    return { q: l ? cmatMul(cmatMul(l, n), cmatDagger(l)) : n, lab: s.mu === null };
+    return { q: l ? sandwichPacked(l, n) : packHermitian(n), lab, hermiticity };
   }
   const r = A.rows;
   const h: CMat = { rows: r, cols: r, re: new Float64Array(r * r), im: new Float64Array(r * r) };
@@ -406,7 +396,42 @@ function averagedState(st: State, ctx: WalkCtx): { q: CMat; lab: boolean } | nul
     h.re[a * r + b] = 0.5 * (A.re[a * r + b] + A.re[b * r + a]);
     h.im[a * r + b] = 0.5 * (A.im[a * r + b] - A.im[b * r + a]);
   }
-  return { q: cmatMul(cmatMul(s.W, h), cmatDagger(s.W)), lab: s.mu === null };
+  return { q: sandwichPacked(s.W, h), lab, hermiticity };
+}
+
+/** L H L† (L d×m, H m×m Hermitian) packed as packHermitian packs it: T = L H once, then the entries i ≤ j of T L†. */
+function sandwichPacked(l: CMat, h: CMat): Float64Array {
+  const d = l.rows, m = l.cols;
+  const tr = new Float64Array(d * m), ti = new Float64Array(d * m);
+  const lr = l.re, li = l.im, hr = h.re, hi = h.im;
+  for (let i = 0; i < d; i++) for (let c = 0; c < m; c++) {
+    const xr = lr[i * m + c], xi = li[i * m + c];
+    if (xr === 0 && xi === 0) continue;
+    for (let b = 0; b < m; b++) {
+      const yr = hr[c * m + b], yi = hi[c * m + b];
+      tr[i * m + b] += xr * yr - xi * yi;
+      ti[i * m + b] += xr * yi + xi * yr;
+    }
+  }
+  // Q_ij = Σ_b T_ib conj(L_jb)
+  const out = new Float64Array(d * d);
+  let o = d;
+  for (let i = 0; i < d; i++) {
+    for (let j = i; j < d; j++) {
+      let sr = 0, si = 0;
+      for (let b = 0; b < m; b++) {
+        const ar = tr[i * m + b], ai = ti[i * m + b], br = lr[j * m + b], bi = -li[j * m + b];
+        sr += ar * br - ai * bi;
+        si += ar * bi + ai * br;
+      }
+      if (i === j) out[i] = sr;
+      else {
+        out[o++] = sr;
+        out[o++] = si;
+      }
+    }
+  }
+  return out;
 }
 
 /** The template of a row from its first run (learn), or null where the row is not batched. */
@@ -422,7 +447,9 @@ function buildTemplate(probe: RegionProbe, row: number, line: Beamline, value: V
     const ps = portsAt(value, ctx, e);
     if (!ps || leaves.length !== ps.length) return null;
     const avg = averagedState(st, ctx);
-    if (!avg || !hermitian(avg.q)) return null;
+    // a state selected by a single state from a lab-basis one (specProjectDiag) has an average of its own, whose
+    // departure from Hermiticity the run reports above 1e-12: such a row is batched only where Ā is Hermitian to 1e-13
+    if (!avg || (avg.lab && !(avg.hermiticity <= 1e-13))) return null;
     for (let p = 0; p < ps.length; p++) {
       const f = leaves[p];
       if (f.target !== ps[p].to || f.path[f.path.length - 1] !== `${e.id}:${ps[p].label}`) return null;
@@ -430,7 +457,7 @@ function buildTemplate(probe: RegionProbe, row: number, line: Beamline, value: V
     }
     ports.set(ctx.sys.key, ps);
     stride = Math.max(stride, ps.length);
-    const q = packHermitian(avg.q);
+    const q = avg.q;
     arrivals.push({ ctx, q, trace: packedTraceOf(q), fraction: ctx.fraction, lab: avg.lab });
   }
   // the result's leaves by path and target, their contributions in the order of the sorted paths
