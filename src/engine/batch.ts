@@ -37,6 +37,10 @@ import type { ScanDetector, ScanLeaf, ScanPoint } from './scan.ts';
 /** How far a batched number may be from the run's (in units of its scale: 1 for a yield, flux × efficiency for a rate). */
 export const BATCH_TOLERANCE = 1e-14;
 
+// the helpers called per point, bound once (an imported binding is read through a getter per call where the module
+// system wraps imports, as tsx does)
+const floorOf = roundOffFloor, countsOf = countsIn, sigmaOf = countSigma;
+
 /** Runs of a row tried as its template: the first walks and records, the next replays (replay.ts). */
 const MAX_TRIES = 3;
 
@@ -212,7 +216,7 @@ export class RowBatch {
       const l = t.leaves[i];
       let y = 0;
       for (const part of l.parts) y += part.a < 0 ? part.c : vars[part.a * stride + part.p];
-      y = roundOffFloor(y);
+      y = floorOf(y);
       const rate = t.flux * y * l.eff;
       leaves[i] = { path: l.path, target: l.target, yield: y, rate };
       if (l.det >= 0) {
@@ -225,8 +229,8 @@ export class RowBatch {
     for (let k = 0; k < nd; k++) {
       const d = dets[k], det = t.detectors[k];
       d.rate = d.signal + det.background;
-      d.counts = countsIn(d.rate, det.dwell);
-      d.sigma = countSigma(d.counts);
+      d.counts = countsOf(d.rate, det.dwell);
+      d.sigma = sigmaOf(d.counts);
       if (!Number.isFinite(d.yield) || !Number.isFinite(d.rate) || !Number.isFinite(d.counts) || !Number.isFinite(d.sigma)) return null;
     }
     // runLine's balance invariant: a point that fails it warns, and is run on its own
