@@ -43,6 +43,8 @@ const floorOf = roundOffFloor, countsOf = countsIn, sigmaOf = countSigma;
 
 /** Runs of a row tried as its template: the first walks and records, the next replays (replay.ts). */
 const MAX_TRIES = 3;
+/** Points handed back to be run, beyond which (and four times those formed) a scan stops batching. */
+const MAX_MISSES = 8;
 
 /** One port of C at one value: its label, where it ends, and its projector packed for Tr(P ρ̄) (pack below). */
 interface PortAt {
@@ -120,6 +122,10 @@ export class RowBatch {
   }
 
   private tries = { row: -1, count: 0 };
+  /** Points formed and points handed back to be run; `off` once the values mostly need runs of their own. */
+  private formed = 0;
+  private missed = 0;
+  private off = false;
 
   /** True when the row's later points can be formed from a run of this row. */
   ready(row: number): boolean {
@@ -129,7 +135,7 @@ export class RowBatch {
   /** True while a run of this row may still serve its later points (a few runs of a row are tried, not every one). */
   trying(row: number): boolean {
     if (this.tries.row !== row) this.tries = { row, count: 0 };
-    return this.template?.row !== row && this.tries.count < MAX_TRIES;
+    return !this.off && this.template?.row !== row && this.tries.count < MAX_TRIES;
   }
 
   /** Arms the session to list what the next run walks in its cut's region. */
@@ -163,11 +169,16 @@ export class RowBatch {
   /** Point (row, j) formed from the row's first run, or null where it must be run on its own. */
   point(row: number, j: number, outer: number | undefined, index: number[], values: number[]): ScanPoint | null {
     const t = this.template;
-    if (!t || t.row !== row) return null;
+    if (!t || t.row !== row || this.off) return null;
     const v = this.valueAt(j, outer, t.line);
-    if (!v?.element) return null;
-    const p = this.form(t, v, index, values);
-    if (p) this.session.noteBatched(this.cut, 1);
+    const p = v?.element ? this.form(t, v, index, values) : null;
+    if (p) {
+      this.formed++;
+      this.session.noteBatched(this.cut, 1);
+    } else if (++this.missed >= MAX_MISSES && this.missed > 4 * this.formed) {
+      // most values need a run of their own (C warns or sorts otherwise there): the scan stops reading them twice
+      this.off = true;
+    }
     return p;
   }
 
