@@ -190,7 +190,8 @@ export function scan(plan: Plan, axes: readonly ScanAxis[], opts: RunOptions = {
   const session = runOpts.session instanceof EvaluationSession ? runOpts.session : null;
   const two = params.length === 2;
   const inner = params[params.length - 1], outer = two ? params[0] : undefined;
-  const batch = session && opts.batchRows !== false
+  // a caller that reads every run's paths (RunOptions.onPaths) gets a run per point
+  const batch = session && opts.batchRows !== false && !opts.onPaths
     ? RowBatch.of(session, plan.line, inner.path, outer?.path, (j, o) => {
       const r = session.lineAt(plan.source, outer ? { [outer.name]: o!, [inner.name]: inner.values[j] } : { [inner.name]: inner.values[j] });
       return r.ok ? r.line : null;
