@@ -55,7 +55,7 @@ export function benchW2(peersDir: string, jsonOut: string | null, peers: boolean
     const r = timed();
     if (r.seconds < best.seconds) best = r;
   }
-  out.push(`walks of the points: ${best.walks.recorded} whole and recorded, ${best.walks.replayed} replayed from a record, ${best.walks.plain} whole without one (src/engine/replay.ts)`);
+  out.push(`walks of the points: ${best.walks.recorded} whole and recorded, ${best.walks.replayed} replayed from a record, ${best.walks.plain} whole without one (src/engine/replay.ts); ${best.walks.batched} formed from their row's first run without a walk (src/engine/batch.ts)`);
   out.push(`W2 on the engine's 2-D scan, one thread: best of 3 = ${best.seconds.toFixed(3)} s for ${expected.b_T.length * expected.alpha_deg.length} points (${(best.seconds * 1000 / (expected.b_T.length * expected.alpha_deg.length)).toFixed(3)} ms per point; CPU ${best.cpu.toFixed(3)} s), max |Δ| vs w2-expected.json = ${best.maxdiff.toExponential(2)} (check 1e-6: ${best.maxdiff <= 1e-6 ? 'pass' : 'FAIL'})`);
   if (peers) {
     const r = spawnSync('/usr/bin/python3', [join(peersDir, 'peer_numpy_w2.py')], { encoding: 'utf8', env: { ...process.env, OPENBLAS_NUM_THREADS: '1' }, timeout: 600_000 });

@@ -36,6 +36,18 @@ import type { State } from './nodes.ts';
 import type { Walk, WalkCtx } from './steps/step.ts';
 import { type WalkCut, setWalkCut, visit, visitBundle } from './walk.ts';
 
+/**
+ * What one run walked in its cut's region (`EvaluationSession.probe`, set by the caller before the run): the cut and,
+ * for each arrival in the walk's order, its isotope's context, the arriving state and walk, and the paths the region's
+ * walk from it ended (scan.ts forms the other points of a row from these: batch.ts).
+ */
+export interface RegionProbe {
+  cut: string | null;
+  /** False where a bundle of sub-beams arrived: its members are not listed. */
+  plain: boolean;
+  arrivals: { ctx: WalkCtx; st: State; walk: Walk; leaves: FinePath[] }[];
+}
+
 /** What runLine asks of RunOptions.session: a walker for the line, or undefined to walk it plainly. */
 export interface WalkSession {
   walker(line: Beamline): Walker | undefined;
@@ -110,8 +122,10 @@ export class EvaluationSession implements WalkSession {
   private changes = new Int32Array(0);
   private records: Recording[] = [];
   private read: { source: ParameterizedLine; last: LineWithValues | undefined; kept: Map<string, Element> } | null = null;
-  /** How many runs replayed a record and how many recorded one (for tests and the benchmark). */
-  readonly stats = { replayed: 0, recorded: 0, plain: 0 };
+  /** How many runs replayed a record and how many recorded one (for tests and the benchmark); `batched`: points a scan formed without a run (batch.ts). */
+  readonly stats = { replayed: 0, recorded: 0, plain: 0, batched: 0 };
+  /** Where set, the next run lists what it walked in its cut's region here (RegionProbe). */
+  probe: RegionProbe | null = null;
 
   /** The line of `source` at these values, read again only where they differ from the last line this session read. */
   lineAt(source: ParameterizedLine, values: ReadonlyMap<string, number> | Readonly<Record<string, number>>):
@@ -135,13 +149,23 @@ export class EvaluationSession implements WalkSession {
     if (best) {
       this.records = [best, ...this.records.filter((r) => r !== best)];
       this.stats.replayed++;
-      return new Replayer(best);
+      return new Replayer(best, this.probe);
     }
     const cut = this.cutToRecord();
     if (cut === undefined) return this.plain();
     const region = this.regions.get(cut)!;
     this.stats.recorded++;
-    return new Recorder(this, line, this.ids![cut], region);
+    return new Recorder(this, line, this.ids![cut], region, this.probe);
+  }
+
+  /**
+   * `points` evaluations of lines that differ from the last one walked in the cut's element only, formed without a run
+   * (batch.ts): counted as changes of that element, as their runs would have been, so the next record is made there.
+   */
+  noteBatched(cut: string, points: number): void {
+    const k = this.ids?.indexOf(cut) ?? -1;
+    if (k >= 0) this.changes[k] += points;
+    this.stats.batched += points;
   }
 
   /** A finished recording: kept first, the oldest beyond MAX_RECORDS dropped. */
@@ -298,7 +322,10 @@ class Recorder implements Walker, WalkCut {
   private usable = true;
   private close: (() => void) | null = null;
 
-  constructor(private readonly session: EvaluationSession, private readonly line: Beamline, readonly id: string, private readonly region: Region) {}
+  constructor(private readonly session: EvaluationSession, private readonly line: Beamline, readonly id: string, private readonly region: Region,
+    private readonly probe: RegionProbe | null) {
+    if (probe) probe.cut = id;
+  }
 
   walk(ctx: WalkCtx, isotope: number, st0: State, walk0: Walk): void {
     this.ctx = ctx;
@@ -324,17 +351,20 @@ class Recorder implements Walker, WalkCut {
     this.close?.();
     this.log.arrivals.push({ st, walk });
     const before = setWalkCut(null);
+    const n0 = ctx.leaves.length;
     try {
       visit(ctx, this.id, st, walk);
     } finally {
       setWalkCut(before);
     }
+    this.probe?.arrivals.push({ ctx, st, walk, leaves: ctx.leaves.slice(n0) });
     this.open();
   }
 
   reachBundle(ctx: WalkCtx, members: readonly Member[]): void {
     this.close?.();
     this.log.arrivals.push({ members });
+    if (this.probe) this.probe.plain = false;
     const before = setWalkCut(null);
     try {
       visitBundle(ctx, this.id, members);
@@ -423,16 +453,25 @@ function logged<T>(set: Set<T>, log: T[]): (v: T) => Set<T> {
 
 /** Replays a record: its segments applied, the cut's region walked from each recorded arrival. */
 class Replayer implements Walker {
-  constructor(private readonly r: Recording) {}
+  constructor(private readonly r: Recording, private readonly probe: RegionProbe | null) {
+    if (probe) probe.cut = r.cut;
+  }
 
   walk(ctx: WalkCtx, isotope: number): void {
     const log = this.r.isotopes[isotope];
+    const probe = this.probe;
     for (let k = 0; k < log.segments.length; k++) {
       apply(ctx, log.segments[k]);
       const a = log.arrivals[k];
       if (!a) continue;
-      if (a.members) visitBundle(ctx, this.r.cut, a.members);
-      else visit(ctx, this.r.cut, a.st, a.walk);
+      if (a.members) {
+        if (probe) probe.plain = false;
+        visitBundle(ctx, this.r.cut, a.members);
+      } else {
+        const n0 = ctx.leaves.length;
+        visit(ctx, this.r.cut, a.st, a.walk);
+        probe?.arrivals.push({ ctx, st: a.st, walk: a.walk, leaves: ctx.leaves.slice(n0) });
+      }
     }
   }
 

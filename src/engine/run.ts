@@ -57,6 +57,11 @@ export interface RunOptions {
    * lines and the detectors' crosstalk and neighbours. Every other number of the result is the same, bit for bit.
    */
   noProfiles?: boolean;
+  /**
+   * A scan forms the points of a row after its first run as a batch where the inner parameter belongs to a last
+   * analysing magnet (batch.ts; equal to a run to 1e-14 of the flux); false runs every point (default true).
+   */
+  batchRows?: boolean;
 }
 
 /** Runs the line and returns result format v1 (docs/design.md) with this engine's additions. */

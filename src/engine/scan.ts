@@ -14,6 +14,8 @@ import { runLine, RunError, CancelledError, type RunOptions } from './run.ts';
 import type { RunResult } from './result.ts';
 import { checkCost } from './cost.ts';
 import { EvaluationSession } from './replay.ts';
+import { RowBatch } from './batch.ts';
+import type { FinePath } from './detector-plane.ts';
 
 /** One scanned parameter: `points` values from `from` to `to` (SI), equally spaced or spaced by equal ratios. */
 export interface ScanAxis {
@@ -121,35 +123,61 @@ function sessionOf(plan: Plan): EvaluationSession {
 
 /** One point of a scan (a worker evaluates its share of them with this); the same numbers as `evaluate` at its values. */
 export function scanPoint(plan: Plan, params: readonly ScanParameterResult[], index: readonly number[], warnings: Map<string, number>, opts: RunOptions = {}): ScanPoint {
+  return pointRun(plan, params, index, warnings, pointOptions(plan, opts)).point;
+}
+
+/** The options of a scan's runs: no progress of their own, light, no profiles, the plan's session unless one is given. */
+function pointOptions(plan: Plan, opts: RunOptions): RunOptions {
+  return { ...opts, onProgress: undefined, light: true, noProfiles: true, session: opts.session ?? sessionOf(plan) };
+}
+
+/** A point's run (null where the reader or the engine refused it) and the point made of it. */
+function pointRun(plan: Plan, params: readonly ScanParameterResult[], index: readonly number[], warnings: Map<string, number>, opts: RunOptions): { point: ScanPoint; r: RunResult | null } {
   const values = params.map((p, k) => p.values[index[k]]);
   const point: ScanPoint = { index: [...index], values };
   const set: Record<string, number> = {};
-  params.forEach((p, k) => (set[p.name] = values[k]));
+  for (let k = 0; k < params.length; k++) set[params[k].name] = values[k];
   let r: RunResult;
   try {
-    r = evaluate(plan, set, { ...opts, onProgress: undefined, light: true, noProfiles: true, session: opts.session ?? sessionOf(plan) });
+    r = evaluate(plan, set, opts);
   } catch (err) {
     if (err instanceof RunError && !(err instanceof CancelledError)) {
       point.error = err.message;
-      return point;
+      return { point, r: null };
     }
     throw err;
   }
-  point.detectors = r.detectors.map((d) => ({ id: d.id, yield: d.yield, rate: d.rate, signal: d.signal, counts: d.counts, sigma: d.sigma }));
-  point.leaves = r.leaves.map((l) => ({ path: l.path, target: l.target, yield: l.yield, rate: l.rate, ...(l.captured === undefined ? {} : { captured: l.captured }) }));
+  const dets = r.detectors, ls = r.leaves;
+  const detectors: ScanDetector[] = new Array(dets.length);
+  for (let i = 0; i < dets.length; i++) {
+    const d = dets[i];
+    detectors[i] = { id: d.id, yield: d.yield, rate: d.rate, signal: d.signal, counts: d.counts, sigma: d.sigma };
+  }
+  const leaves: ScanLeaf[] = new Array(ls.length);
+  for (let i = 0; i < ls.length; i++) {
+    const l = ls[i];
+    leaves[i] = l.captured === undefined ? { path: l.path, target: l.target, yield: l.yield, rate: l.rate } : { path: l.path, target: l.target, yield: l.yield, rate: l.rate, captured: l.captured };
+  }
+  point.detectors = detectors;
+  point.leaves = leaves;
   point.lost = r.lost;
-  const w = new Set<number>();
+  let w: number[] | undefined;
   for (const text of r.warnings) {
     if (plan.warnings.includes(text)) continue;
     let i = warnings.get(text);
     if (i === undefined) warnings.set(text, (i = warnings.size));
-    w.add(i);
+    if (!w) w = [i];
+    else if (!w.includes(i)) w.push(i);
   }
-  if (w.size) point.warnings = [...w].sort((a, b) => a - b);
-  return point;
+  if (w) point.warnings = w.sort((a, b) => a - b);
+  return { point, r };
 }
 
-/** Evaluate the plan at every point of the scan, in order (the first parameter outer). */
+/**
+ * Evaluate the plan at every point of the scan, in order (the first parameter outer). Where the inner parameter is
+ * a set-point of a last analysing magnet, the points of a row after its first run are formed from that run as a batch
+ * (batch.ts; to 1e-14 of the flux); `opts.batchRows: false` runs every point.
+ */
 export function scan(plan: Plan, axes: readonly ScanAxis[], opts: RunOptions = {}): ScanResult {
   const params = scanParameters(plan, axes);
   // the document's line estimated once (a refusal stops the scan before its first point), not at every point
@@ -158,9 +186,39 @@ export function scan(plan: Plan, axes: readonly ScanAxis[], opts: RunOptions = {
   const warnings = new Map<string, number>();
   const indices = scanIndices(params.map((p) => p.values.length));
   const points: ScanPoint[] = [];
+  const runOpts = pointOptions(plan, opts);
+  const session = runOpts.session instanceof EvaluationSession ? runOpts.session : null;
+  const two = params.length === 2;
+  const inner = params[params.length - 1], outer = two ? params[0] : undefined;
+  // a caller that reads every run's paths (RunOptions.onPaths) gets a run per point
+  const batch = session && opts.batchRows !== false && !opts.onPaths
+    ? RowBatch.of(session, plan.line, inner.path, outer?.path, (j, o) => {
+      const r = session.lineAt(plan.source, outer ? { [outer.name]: o!, [inner.name]: inner.values[j] } : { [inner.name]: inner.values[j] });
+      return r.ok ? r.line : null;
+    })
+    : null;
+  // the paths and flux of a run that may serve its row (RunOptions.onPaths)
+  const seen: { fines: readonly FinePath[] | null; flux: number } = { fines: null, flux: 0 };
+  const probeOpts: RunOptions = batch ? { ...runOpts, onPaths: (fines, flux) => { seen.fines = fines; seen.flux = flux; runOpts.onPaths?.(fines, flux); } } : runOpts;
   for (let k = 0; k < indices.length; k++) {
     if (opts.isCancelled?.()) throw new CancelledError('scan: cancelled');
-    points.push(scanPoint(plan, params, indices[k], warnings, opts));
+    const idx = indices[k];
+    const row = two ? idx[0] : 0, j = idx[params.length - 1], o = two ? outer!.values[row] : undefined;
+    let p = batch ? batch.point(row, j, o, idx, params.map((q, m) => q.values[idx[m]])) : null;
+    if (!p) {
+      if (batch?.trying(row)) {
+        const probe = batch.arm();
+        seen.fines = null;
+        try {
+          const { point, r } = pointRun(plan, params, idx, warnings, probeOpts);
+          batch.learn(probe, row, j, o, r, seen.fines, seen.flux, point);
+          p = point;
+        } finally {
+          session!.probe = null;
+        }
+      } else p = pointRun(plan, params, idx, warnings, runOpts).point;
+    }
+    points.push(p);
     opts.onProgress?.((k + 1) / indices.length);
   }
   return scanResult(plan, params, points, warnings);
