@@ -41,7 +41,7 @@ describe('the detector plane without profiles', () => {
       // the lean run evaluates fewer speeds (its sub-beams' own windows only, not the other windows' shares): its
       // quadrature counts them; every number the planning tools report is the plain run's
       expect({ ...lean, quadrature: { ...lean.quadrature, nodes: 0, method: '' } }).toEqual({ ...withoutProfiles(full), quadrature: { ...full.quadrature, nodes: 0, method: '' } });
-      expect(lean.quadrature.nodes).toBeLessThanOrEqual(full.quadrature.nodes);
+      expect(lean.quadrature!.nodes).toBeLessThanOrEqual(full.quadrature!.nodes);
       expect(lean.leaves.some((l) => l.profile || l.centreLine)).toBe(false);
       expect(lean.detectors.some((d) => d.crosstalk || d.neighbours)).toBe(false);
     });
