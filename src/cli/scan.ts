@@ -3,7 +3,7 @@
  * the line evaluated over one parameter or the grid of two (src/engine/scan.ts). The k-th --from, --to, --points
  * and --log belong to the k-th --param.
  */
-import { compile, parameter, parameterValue, scan, scanCsv, type Plan, type ScanAxis, type ScanResult } from '../engine/index.ts';
+import { compile, parameter, parameterValue, scan, scanBatches, scanCsv, type Plan, type ScanAxis, type ScanResult } from '../engine/index.ts';
 import { RunError } from '../engine/index.ts';
 import { DISPLAY_UNITS } from '../beamline/index.ts';
 import { FIGURES, ROUND_OFF, formatColumn, formatCountsColumn, isRoundOff } from '../beamline/numbers.ts';
@@ -131,7 +131,9 @@ function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options
     if (!/^\s*\d+\s*$/.test(w) || Number(w) < 1 || Number(w) > 256) return err(`--workers: a whole number from 1 to 256, got "${w}"`);
     workers = Number(w);
   }
-  if (workers > 1 && text !== undefined) {
+  // a scan whose rows are formed as a batch runs whole in one thread: its points do not come out of a run each, so
+  // dealt out one by one to workers they would differ in the last digits from the scan's own (engine/batch.ts)
+  if (workers > 1 && text !== undefined && !scanBatches(plan, axes)) {
     return { code: 0, stdout: '', stderr: '', job: async () => {
       try {
         return deliverScan(await scanParallel(text, axes, workers), file, options);

@@ -114,11 +114,17 @@ export class RowBatch {
   /** A batch for a scan whose inner parameter lies in element `c` (a magnet), the outer one elsewhere; else null. */
   static of(session: EvaluationSession, line: Beamline, innerPath: string, outerPath: string | undefined,
     read: (j: number, outer: number | undefined) => Beamline | null): RowBatch | null {
+    if (!RowBatch.applies(line, innerPath, outerPath)) return null;
     const c = elementIndex(innerPath);
-    if (c < 0 || line.elements[c]?.kind !== 'magnet') return null;
-    // C's ports at each value are kept across rows: the outer parameter may not move C, or the drift before it
-    if (outerPath !== undefined && (elementIndex(outerPath) === c || outerPath.startsWith('ambient'))) return null;
     return new RowBatch(session, c, line.elements[c].id, read);
+  }
+
+  /** True when a scan with these parameters may form points as a batch (a host that splits a scan's points checks it). */
+  static applies(line: Beamline, innerPath: string, outerPath: string | undefined): boolean {
+    const c = elementIndex(innerPath);
+    if (c < 0 || line.elements[c]?.kind !== 'magnet') return false;
+    // C's ports at each value are kept across rows: the outer parameter may not move C, or the drift before it
+    return !(outerPath !== undefined && (elementIndex(outerPath) === c || outerPath.startsWith('ambient')));
   }
 
   private tries = { row: -1, count: 0 };

@@ -3,7 +3,7 @@ export { runLine, RunError, CancelledError, type RunOptions } from './run.ts';
 export type * from './result.ts';
 export { levelsListing, formatLevelsTable } from './levels.ts';
 export { runDocumentText, type DocumentRun } from './document.ts';
-export { runScan, withParameter, type ScanSpec, scan, scanPoint, scanParameters, scanIndices, scanResult, scanCsv, axisValues, leafName, csvNumber, MAX_SCAN_POINTS,
+export { runScan, withParameter, type ScanSpec, scan, scanPoint, scanBatches, scanParameters, scanIndices, scanResult, scanCsv, axisValues, leafName, csvNumber, MAX_SCAN_POINTS,
   type ScanAxis, type ScanResult, type ScanPoint, type ScanParameterResult, type ScanDetector, type ScanLeaf } from './scan.ts';
 export { compile, evaluate, lineAt, parameter, parameterValue, type Plan, type CompileResult, type ParameterSlot } from './plan.ts';
 export { engineCacheStats, clearEngineCaches, type CacheStats } from './session.ts';

@@ -174,6 +174,16 @@ function pointRun(plan: Plan, params: readonly ScanParameterResult[], index: rea
 }
 
 /**
+ * True when `scan` may form some of these axes' points as a batch (batch.ts): its numbers then agree with a run per
+ * point to 1e-14 of the flux, not bit for bit, so a host that would deal the points out to workers one by one
+ * (scanPoint) runs the scan whole in one thread instead, and gets the same numbers whatever its number of workers.
+ */
+export function scanBatches(plan: Plan, axes: readonly ScanAxis[]): boolean {
+  const params = scanParameters(plan, axes);
+  return RowBatch.applies(plan.line, params[params.length - 1].path, params.length === 2 ? params[0].path : undefined);
+}
+
+/**
  * Evaluate the plan at every point of the scan, in order (the first parameter outer). Where the inner parameter is
  * a set-point of a last analysing magnet, the points of a row after its first run are formed from that run as a batch
  * (batch.ts; to 1e-14 of the flux); `opts.batchRows: false` runs every point.
