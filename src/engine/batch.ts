@@ -97,8 +97,9 @@ interface Template {
 }
 
 /**
- * The batch of one scan: built when the scan's inner parameter belongs to a magnet and the outer one (if any) to
- * another part of the line; null otherwise.
+ * The batch of one scan: built when the scan's inner parameter belongs to an ideal sorter whose ports end in detectors
+ * or stops, the outer one (if any) to another part of the line, and the line has no detector-plane geometry; null
+ * otherwise (RowBatch.applies: a host that deals a scan's points out to workers checks it first).
  */
 export class RowBatch {
   private template: Template | null = null;
@@ -122,9 +123,16 @@ export class RowBatch {
   /** True when a scan with these parameters may form points as a batch (a host that splits a scan's points checks it). */
   static applies(line: Beamline, innerPath: string, outerPath: string | undefined): boolean {
     const c = elementIndex(innerPath);
-    if (c < 0 || line.elements[c]?.kind !== 'magnet') return false;
+    const e = line.elements[c];
+    if (c < 0 || e?.kind !== 'magnet' || !idealSorter(e)) return false;
     // C's ports at each value are kept across rows: the outer parameter may not move C, or the drift before it
-    return !(outerPath !== undefined && (elementIndex(outerPath) === c || outerPath.startsWith('ambient')));
+    if (outerPath !== undefined && (elementIndex(outerPath) === c || outerPath.startsWith('ambient'))) return false;
+    // every port of C ends in a detector or a stop as written (a value that routes otherwise is run on its own)
+    const kinds = new Map(line.elements.map((x) => [x.id, x.kind]));
+    if (Object.values(e.ports).some((to) => to !== 'stop' && kinds.get(to) !== 'detector')) return false;
+    // no detector-plane geometry anywhere in the line (an orifice, a slit, a deflecting magnet or a pole gap, a window)
+    if (line.oven.aperture) return false;
+    return line.elements.every((x) => x.kind !== 'slit' && (x.kind !== 'magnet' || idealSorter(x)) && (x.kind !== 'detector' || !x.window));
   }
 
   private tries = { row: -1, count: 0 };
