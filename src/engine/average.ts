@@ -510,13 +510,16 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
         cSlot.push(slot); cRe.push(xr); cIm.push(xi); cF.push(f);
       }
     }
-    const np = pairs.length, ns = speeds.length;
+    const np = pairs.length;
+    // a state without phases (every contribution's phase-length 0) is the same at every speed: one row serves all
+    const still = cF.every((f) => f === 0);
+    const ns = still ? Math.min(1, speeds.length) : speeds.length;
     const mre = new Float64Array(ns * np), mim = new Float64Array(ns * np);
     for (let k = 0; k < ns; k++) {
       const v = speeds[k], o = k * np;
       for (let c = 0; c < cSlot.length; c++) addPhased(mre, mim, o + cSlot[c], cRe[c], cIm[c], cF[c] / v);
     }
-    hit = { speeds, phiMax, pairs: Int32Array.from(pairs), mre, mim };
+    hit = { speeds, phiMax, pairs: Int32Array.from(pairs), mre, mim, still };
     if (ns <= KEPT_SPEEDS_MAX) {
       kept.push(hit);
       if (kept.length > KEPT_SPEED_SETS) kept.shift();
@@ -544,17 +547,18 @@ export function specTraceAt(st: SpecState, speeds: ArrayLike<number>, phiMax: nu
     }
   }
   const out = new Float64Array(speeds.length);
+  const rows = hit.still ? Math.min(1, out.length) : out.length;
   const dense = denseKernels();
-  if (dense) {
-    dense.rowDots(mre, mim, gre, gim, out.length, np, out);
-    return out;
+  if (dense) dense.rowDots(mre, mim, gre, gim, rows, np, out);
+  else {
+    for (let k = 0; k < rows; k++) {
+      const o = k * np;
+      let tr = 0;
+      for (let p = 0; p < np; p++) tr += mre[o + p] * gre[p] - mim[o + p] * gim[p];
+      out[k] = tr;
+    }
   }
-  for (let k = 0; k < out.length; k++) {
-    const o = k * np;
-    let tr = 0;
-    for (let p = 0; p < np; p++) tr += mre[o + p] * gre[p] - mim[o + p] * gim[p];
-    out[k] = tr;
-  }
+  if (rows < out.length) out.fill(out[0], rows);
   return out;
 }
 

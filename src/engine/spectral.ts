@@ -72,7 +72,8 @@ export interface SharedAverages {
   /** The same for the second moment m2. */
   lab2?: CMat;
   m2?: CMat;
-  nodesBy?: { speeds: ArrayLike<number>; phiMax: number; pairs: Int32Array; mre: Float64Array; mim: Float64Array }[];
+  /** specTraceAt's phased entries per speed set (one row where the state has no phase: `still`). */
+  nodesBy?: { speeds: ArrayLike<number>; phiMax: number; pairs: Int32Array; mre: Float64Array; mim: Float64Array; still: boolean }[];
 }
 
 /** The phase-length φ_t + Ω_ab (rad·m/s) of entry (a, b) of term t: its phase at speed v is that over v. */
