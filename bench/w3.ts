@@ -21,20 +21,8 @@ import { MessageChannel, Worker, receiveMessageOnPort } from 'node:worker_thread
 import { compile } from '../src/engine/index.ts';
 import { simulate, simulation, type SimulationTally } from '../src/engine/simulate.ts';
 import { chiSquareSurvival } from '../src/physics/special.ts';
+import { W3_DOC } from '../test/fixtures/w3-line.ts';
 
-/** W3's line as a document (the peer's constants; ../shared/peers/README.md, "W3"). */
-const W3_DOC = {
-  format: 'spinyard.beamline', version: 1, title: 'W3: silver through a collimator and one magnet (performance peer workload)',
-  species: { spin: '1/2', g: 2.00231930436, mass: '106.905 u' },
-  oven: { state: { kind: 'unpolarized' }, flux: '1e9 /s', velocity: { kind: 'effusive', temperature: '1300 K' },
-    aperture: { width: '0.2 mm', height: '2 mm' }, to: 'S1' },
-  elements: [
-    { id: 'S1', kind: 'slit', gap: '30 cm', width: '0.1 mm', height: '1 mm', to: 'M1' },
-    { id: 'M1', kind: 'magnet', gap: '10 cm', axis: { roll: '0 deg' }, gradient: '1000 T/m', length: '3.5 cm', ports: { '+1/2': 'DP', '-1/2': 'DM' } },
-    { id: 'DP', kind: 'detector', gap: '40 cm' },
-    { id: 'DM', kind: 'detector', gap: '40 cm' },
-  ],
-};
 
 export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean): string {
   const expected = JSON.parse(readFileSync(join(peersDir, 'w3-expected.json'), 'utf8')) as {

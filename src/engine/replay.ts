@@ -391,29 +391,11 @@ class Recorder implements Walker, WalkCut {
     warnings.add = logged(warnings, seg.warnings);
     at.add = logged(at, seg.mergedAt);
     blocked.add = logged(blocked, seg.blocked);
-    // each addition to the lost flux on its own: inside the segment the walk reads 0, so it writes the addition
-    const lost = ctx.lost;
-    let value = lost.spin;
-    Object.defineProperty(lost, 'spin', {
-      configurable: true, enumerable: true,
-      get: () => 0,
-      set: (x: number) => {
-        seg.lost.push(x);
-        value += x;
-      },
-    });
-    // the same for a twist's sampled error, and its unconverged grids as they are set
-    const sampled = ctx.sampled;
-    let error = sampled.error;
-    Object.defineProperty(sampled, 'error', {
-      configurable: true, enumerable: true,
-      get: () => 0,
-      set: (x: number) => {
-        seg.sampledErrors.push(x);
-        error += x;
-      },
-    });
-    const unconverged = sampled.unconverged;
+    // each addition to the lost flux on its own (and to a twist's sampled error), and a twist's unconverged grids as
+    // they are set
+    const restoreLost = loggedSum(ctx.lost, 'spin', seg.lost);
+    const restoreError = loggedSum(ctx.sampled, 'error', seg.sampledErrors);
+    const unconverged = ctx.sampled.unconverged;
     unconverged.set = (k, v) => {
       seg.unconverged.push([k, v]);
       return Map.prototype.set.call(unconverged, k, v) as typeof unconverged;
@@ -422,8 +404,8 @@ class Recorder implements Walker, WalkCut {
     this.close = () => {
       this.close = null;
       ctx.chi.trail = null;
-      Object.defineProperty(lost, 'spin', { configurable: true, enumerable: true, writable: true, value });
-      Object.defineProperty(sampled, 'error', { configurable: true, enumerable: true, writable: true, value: error });
+      restoreLost();
+      restoreError();
       delete (unconverged as { set?: unknown }).set;
       delete (warnings as { add?: unknown }).add;
       delete (at as { add?: unknown }).add;
@@ -441,6 +423,24 @@ class Recorder implements Walker, WalkCut {
       seg.sampledNodes = ctx.sampled.nodes - nodes0;
     };
   }
+}
+
+/**
+ * A number that the walk only adds to (`obj[key] += x`), made to log each addition: inside the segment the walk reads
+ * 0, so it writes the addition itself, which is kept in `log` and added to the value. Returns what puts the plain
+ * property back, with the sum of the additions in their order.
+ */
+function loggedSum<K extends string>(obj: Record<K, number>, key: K, log: number[]): () => void {
+  let value = obj[key];
+  Object.defineProperty(obj, key, {
+    configurable: true, enumerable: true,
+    get: () => 0,
+    set: (x: number) => {
+      log.push(x);
+      value += x;
+    },
+  });
+  return () => Object.defineProperty(obj, key, { configurable: true, enumerable: true, writable: true, value });
 }
 
 /** A set's `add` that also writes each value added into `log` (an own property over Set.prototype.add, removed after). */

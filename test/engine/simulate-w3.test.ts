@@ -9,6 +9,7 @@ import { describe, expect, it } from 'vitest';
 import { compile, type Plan } from '../../src/engine/index.ts';
 import { simulate, simulation, testing, type SimulationResult } from '../../src/engine/simulate.ts';
 import { chiSquareSurvival } from '../../src/physics/special.ts';
+import { W3_DOC } from '../fixtures/w3-line.ts';
 
 // CODATA 2018 (NIST): the Bohr magneton, the atomic mass constant, the Boltzmann constant
 const MU_B = 9.2740100783e-24, U = 1.6605390666e-27, K_B = 1.380649e-23;
@@ -16,18 +17,7 @@ const G_S = 2.00231930436, M = 106.905 * U, T = 1300;
 const L = 0.035, D = 0.4, GRAD = 1000, Y_SLIT = 0.3, Y_DET = 0.835;
 const ALPHA2 = (2 * K_B * T) / M;   // v² ~ Gamma(2, α²) for the flux-weighted v³ e^{−v²/α²}
 
-const W3 = {
-  format: 'spinyard.beamline', version: 1, title: 'W3',
-  species: { spin: '1/2', g: G_S, mass: '106.905 u' },
-  oven: { state: { kind: 'unpolarized' }, flux: '1e9 /s', velocity: { kind: 'effusive', temperature: '1300 K' },
-    aperture: { width: '0.2 mm', height: '2 mm' }, to: 'S1' },
-  elements: [
-    { id: 'S1', kind: 'slit', gap: '30 cm', width: '0.1 mm', height: '1 mm', to: 'M1' },
-    { id: 'M1', kind: 'magnet', gap: '10 cm', axis: { roll: '0 deg' }, gradient: '1000 T/m', length: '3.5 cm', ports: { '+1/2': 'DP', '-1/2': 'DM' } },
-    { id: 'DP', kind: 'detector', gap: '40 cm' },
-    { id: 'DM', kind: 'detector', gap: '40 cm' },
-  ],
-};
+const W3 = W3_DOC;
 
 function plan(doc: unknown): Plan {
   const c = compile(doc as Parameters<typeof compile>[0]);
