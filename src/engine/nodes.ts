@@ -2,7 +2,7 @@
  * A path's state evaluated speed by speed (from a field twist on): one density matrix per grid speed with
  * the grid's flux weights, or the spectral state of spectral.ts before that. `State` is either.
  */
-import { type CMat, cmatSandwichParts, cmatScale } from '../physics/cmat.ts';
+import { type CMat, cmatSandwichParts, cmatScale, cmatZeros } from '../physics/cmat.ts';
 import type { SpecState } from './spectral.ts';
 import { specAverageTrace } from './average.ts';
 import type { WalkCtx } from './steps/step.ts';
@@ -34,6 +34,38 @@ export class ScaledNodes implements NodeState {
   get rhos(): readonly CMat[] {
     return (this.formed ??= Array.from(this.scales, (s) => cmatScale(this.common, s)));
   }
+}
+
+/**
+ * Nodes whose every ρ_k is the pure state x · y_k y_k† (a field twist's closed form applied to a port that keeps one
+ * state): the vectors y_k (d complex numbers a speed, node-major) and x. ρ_k is formed entry by entry as
+ * cmatSandwichParts forms it (t_i = y_i x, then t_i conj(y_j)), where something reads the matrices; a sort into one
+ * state reads the entries without forming them (sorting.ts), with the same numbers.
+ */
+export class PureNodes implements NodeState {
+  readonly nodes = true as const;
+  private formed: CMat[] | undefined = undefined;
+  constructor(readonly speeds: Float64Array, readonly weights: Float64Array, readonly d: number, readonly yr: Float64Array, readonly yi: Float64Array,
+    readonly xr: number, readonly xi: number) {}
+  get rhos(): readonly CMat[] {
+    return (this.formed ??= Array.from(this.speeds, (_, k) => pureRho(this, k)));
+  }
+}
+
+function pureRho(st: PureNodes, k: number): CMat {
+  const d = st.d, o = k * d, yr = st.yr, yi = st.yi, xr = st.xr, xi = st.xi;
+  const rho = cmatZeros(d, d);
+  const or = rho.re, oi = rho.im;
+  for (let i = 0; i < d; i++) {
+    const pr = yr[o + i], pi = yi[o + i];
+    const tr = 0 + (pr * xr - pi * xi), ti = 0 + (pr * xi + pi * xr);
+    for (let j = 0; j < d; j++) {
+      const cr = yr[o + j], ci = -yi[o + j];
+      or[i * d + j] = 0 + (tr * cr - ti * ci);
+      oi[i * d + j] = 0 + (tr * ci + ti * cr);
+    }
+  }
+  return rho;
 }
 
 export function realTrace(m: CMat): number {

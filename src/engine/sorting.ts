@@ -9,7 +9,7 @@ import { vecCross, vecDot, vecNorm, vecUnit, type Vec3 } from '../physics/rotati
 import type { Magnet, Recombiner } from '../beamline/types.ts';
 import { sortStates, projectorOf, SpeciesError, type Sorting, type Component } from './system.ts';
 import { specKraus, specProjectDiag, type SpecState } from './spectral.ts';
-import { type NodeState, type State, ScaledNodes, isNodes, mapNodes, conj } from './nodes.ts';
+import { type NodeState, type State, PureNodes, ScaledNodes, isNodes, mapNodes, conj } from './nodes.ts';
 import { RunError } from './errors.ts';
 import type { WalkCtx } from './steps/step.ts';
 
@@ -85,10 +85,38 @@ export function selectStates(st: State, comps: readonly Component[], leafNext = 
   return out;
 }
 
+/**
+ * ⟨k|ρ_s|k⟩ at every node of pure nodes, ρ_s's entries formed one by one as PureNodes forms them and summed in the
+ * order of the general loop below: the same numbers without a matrix per node.
+ */
+function pureScales(st: PureNodes, v: CMat): Float64Array {
+  const d = st.d, vr = v.re, vi = v.im, yr = st.yr, yi = st.yi, xr = st.xr, xi = st.xi;
+  const scales = new Float64Array(st.speeds.length);
+  for (let k = 0; k < scales.length; k++) {
+    const o = k * d;
+    let sr = 0;
+    for (let i = 0; i < d; i++) {
+      const pr = yr[o + i], pi = yi[o + i];
+      const qr = 0 + (pr * xr - pi * xi), qi = 0 + (pr * xi + pi * xr);
+      let tr = 0, ti = 0;
+      for (let j = 0; j < d; j++) {
+        const cr = yr[o + j], ci = -yi[o + j];
+        const rr = 0 + (qr * cr - qi * ci), ri = 0 + (qr * ci + qi * cr);
+        tr += rr * vr[j] - ri * vi[j];
+        ti += rr * vi[j] + ri * vr[j];
+      }
+      sr += vr[i] * tr + vi[i] * ti;
+    }
+    scales[k] = sr;
+  }
+  return scales;
+}
+
 function selectNodes(st: NodeState, comps: readonly Component[], leafNext: boolean): NodeState {
   if (comps.length === 1) {
     // |k⟩⟨k| ρ |k⟩⟨k| = ⟨k|ρ|k⟩ |k⟩⟨k|
     const v = comps[0].vector, p = rank1Cached(comps[0]);
+    if (st instanceof PureNodes) return new ScaledNodes(st.speeds, st.weights, p, pureScales(st, v));
     const d = v.rows, vr = v.re, vi = v.im;
     const rhos = st.rhos, scales = new Float64Array(rhos.length);
     for (let k = 0; k < rhos.length; k++) {

@@ -11,7 +11,7 @@ import { oscillationGrid, type VelocityDistribution } from '../physics/velocity.
 import type { Element } from '../beamline/types.ts';
 import type { SpinSystem } from './system.ts';
 import { specAt, specIsStatic, specPhaseWeights, type SpecState } from './spectral.ts';
-import { type NodeState, mapNodes, conj } from './nodes.ts';
+import { type NodeState, PureNodes, mapNodes, conj } from './nodes.ts';
 import type { Walk, WalkCtx } from './steps/step.ts';
 
 export interface TwistOp {
@@ -139,7 +139,7 @@ function applyTwistPure(speeds: Float64Array, weights: Float64Array, w: CMat, x:
   const er = new Float64Array(d), ei = new Float64Array(d), qr = new Float64Array(d), qi = new Float64Array(d);
   const ur = new Float64Array(d), ui = new Float64Array(d), vr = new Float64Array(d), vi = new Float64Array(d);
   const xr = x.re[0], xi = x.im[0];
-  const rhos = new Array<CMat>(speeds.length);
+  const yr = new Float64Array(speeds.length * d), yi = new Float64Array(speeds.length * d);
   for (let k = 0; k < speeds.length; k++) {
     twistPhases(op, tr, speeds[k], er, ei, qr, qi);
     // v = conj(q) ∘ y0
@@ -162,22 +162,12 @@ function applyTwistPure(speeds: Float64Array, weights: Float64Array, w: CMat, x:
       vr[i] = cr * mr - ci * mi;
       vi[i] = cr * mi + ci * mr;
     }
-    // y = B v; ρ' = y x y† as cmatSandwichParts forms it: t = y x, then t_i conj(y_j)
+    // y = B v, kept as the node's vector: ρ' = y x y† is formed where something reads it (nodes.ts PureNodes)
     matVec(br, bi, vr, vi, d, ur, ui);
-    const rho = cmatZeros(d, d);
-    const or = rho.re, oi = rho.im;
-    for (let i = 0; i < d; i++) {
-      const pr = ur[i], pi = ui[i];
-      const tr_ = 0 + (pr * xr - pi * xi), ti = 0 + (pr * xi + pi * xr);
-      for (let j = 0; j < d; j++) {
-        const yr = ur[j], yi = -ui[j];
-        or[i * d + j] = 0 + (tr_ * yr - ti * yi);
-        oi[i * d + j] = 0 + (tr_ * yi + ti * yr);
-      }
-    }
-    rhos[k] = rho;
+    yr.set(ur, k * d);
+    yi.set(ui, k * d);
   }
-  return { nodes: true, speeds, weights, rhos };
+  return new PureNodes(speeds, weights, d, yr, yi, xr, xi);
 }
 
 /** (or, oi) = A·v for A d×d and v of length d, summed as cmatMulInto does (over A's columns, skipping its zero entries). */
