@@ -34,8 +34,8 @@ export type GeometryOf = (f: FinePath, others: readonly PlaneWindow[], keep: boo
 
 /**
  * Builds the result's leaves and detectors from the run's paths (see module doc). With `profiles` false (RunOptions.noProfiles:
- * the planning tools) the leaves get no profile and no centre line and the detectors no crosstalk and no neighbours; every
- * other number is the same, bit for bit.
+ * the planning tools) the leaves get no profile, centre line, displacement or spread and the detectors no crosstalk and no
+ * neighbours; every other number is the same, bit for bit.
  */
 export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsilon: number, _lost: { spin: number }, geometryOf: GeometryOf = convergedGeometry, profiles = true): {
   leaves: LeafResult[]; detectors: DetectorResult[]; clipped: number; nodes: number; chiError: number; warnings: string[];
@@ -99,8 +99,11 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
     leaves.push({
       path: a.path, target: a.target, yield: y,
       rate: flux * y * eff * (captured ?? 1),
-      displacement: mean,
-      spread: { x: Math.sqrt(Math.max(0, second.x - mean.x ** 2)), z: Math.sqrt(Math.max(0, second.z - mean.z ** 2)) },
+      // where and how wide the sub-beams land: for the plane's reports (the planning tools hold neither)
+      ...(profiles ? {
+        displacement: mean,
+        spread: { x: Math.sqrt(Math.max(0, second.x - mean.x ** 2)), z: Math.sqrt(Math.max(0, second.z - mean.z ** 2)) },
+      } : {}),
       ...(captured !== undefined ? { captured } : {}),
       plane: a.plane,
       ...(profiles ? { centreLine: leafCentreLine(a.fines, a.plane, w) } : {}),
