@@ -284,7 +284,8 @@ export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = 
   const clips = f.track.strips.length > 0 || !!f.detector?.window;
   if (f.grid || !f.spec || !clips || (f.dist.kind !== 'effusive' && f.dist.kind !== 'supersonic')) return { geo: fineGeometry(f, 24, [], keep) };
   const crosstalk = others.some((o) => o.id !== f.detector?.id);
-  const own = convergedPass(f, [], keep && !crosstalk);
+  // (its nodes are kept only where no second grid takes their place; its exact mean wherever the plane reports one)
+  const own = convergedPass(f, [], keep && !crosstalk, keep);
   if (!crosstalk || own.geo.nodes === NO_NODES) return own;
   // the other windows' shares (crosstalk) and the nodes the profiles read, on a grid of their own cut at the other
   // windows' kinks as well: the sub-beam's own numbers (transmitted, captured, moments) come from its own grid and do
@@ -298,7 +299,7 @@ export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = 
 }
 
 /** convergedGeometry for the sub-beam's own window and the windows in `others` together, on one grid cut at all their kinks. */
-function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolean): { geo: FineGeo; change?: number } {
+function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolean, exactMean = keep): { geo: FineGeo; change?: number } {
   const d = f.dist;
   const spec = f.spec!;
   const [lo, hi] = geometryRange(d);
@@ -422,7 +423,7 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
       total += q;
     }
   }
-  const geo = assemble(e, m, total, true, keep);
+  const geo = assemble(e, m, total, true, keep, exactMean);
   return change === undefined ? { geo } : { geo, change };
 }
 
@@ -839,7 +840,7 @@ function axisOut(pl: AxisPlan, kept: number): AxisNodes {
  * the transmitted fraction, the means and second moments, the captured fraction and each other window's share, and the
  * node set the profiles and the centre line read.
  */
-function assemble(e: Evaluator, m: number, total: number, cells: boolean, keep: boolean): FineGeo {
+function assemble(e: Evaluator, m: number, total: number, cells: boolean, keep: boolean, exactMean = keep): FineGeo {
   const f = e.f;
   if (total <= 0) {
     return { fine: f, yieldGeo: f.yieldSpin, captured: 0, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: NO_NODES };
@@ -884,7 +885,7 @@ function assemble(e: Evaluator, m: number, total: number, cells: boolean, keep: 
   const safe = tSum > 0 ? tSum : 1;
   let mean = { x: mx / safe, z: mz / safe };
   // (only where the mean is reported: a run without profiles reports no displacement)
-  if (keep && f.track.strips.length === 0 && f.track.kicks.length > 0 && f.spec && f.moment2Cache && f.fraction > 0 && f.yieldSpin > 0) {
+  if (exactMean && f.track.strips.length === 0 && f.track.kicks.length > 0 && f.spec && f.moment2Cache && f.fraction > 0 && f.yieldSpin > 0) {
     // nothing clips: the mean deflection is Σ_k a_k L_k (L_k/2 + D_k)·⟨y s²⟩/⟨y⟩, exact over the whole
     // distribution (the grid leaves out the slowest atoms, which carry ~0.25 % of an effusive ⟨1/v²⟩)
     const m2 = specTraceMoment(f.spec, f.dist, 2, f.moment2Cache) / (f.yieldSpin / f.fraction);
