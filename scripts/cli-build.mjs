@@ -53,7 +53,7 @@ export async function buildCli(stamp = cliStamp(), { force = false } = {}) {
   try {
     await build({
       absWorkingDir: ROOT,
-      entryPoints: { main: 'src/cli/main.ts', 'scan-worker': 'src/cli/scan-worker.ts' },
+      entryPoints: { main: 'src/cli/main.ts', 'scan-worker': 'src/cli/scan-worker.ts', 'budget-worker': 'src/cli/budget-worker.ts' },
       bundle: true,
       splitting: true,
       platform: 'node',

@@ -1,10 +1,13 @@
 /** `spinyard budget FILE [--draws N] [--seed S] [--json] [-o OUT]`: the tolerance budget of a line (src/engine/budget.ts). */
-import { budget, compile, RunError, type BudgetResult } from '../engine/index.ts';
+import { budgetOf, budgetSetup, compile, RunError, type BudgetResult, type BudgetSetup } from '../engine/index.ts';
 import { alignTable, formatNumber } from './format.ts';
 import { derivativeUnit, formatColumn } from '../beamline/numbers.ts';
 import { costGate, outputProblem, problemsOut, wholeOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { progressOf } from './progress.ts';
+import { availableParallelism } from 'node:os';
+import { budgetParallel } from './budget-parallel.ts';
+import { PARALLEL_FROM_POINTS } from './scan.ts';
 
 export const BUDGET_OPTIONS = [
   { name: 'draws', value: true },
@@ -12,6 +15,7 @@ export const BUDGET_OPTIONS = [
   { name: 'json', value: false },
   { name: 'output', value: true, short: 'o' },
   { name: 'accept-cost', value: false },
+  { name: 'workers', value: true },
 ] as const;
 
 const err = (m: string) => bad(`spinyard budget: ${m}`, 'Run "spinyard budget --help" for its use.');
@@ -83,13 +87,44 @@ export function cmdBudgetWith(file: string, text: string, options: Record<string
   if (!c.ok) return problemsOut(file, c.problems);
   const gate = costGate(file, c.plan, options['accept-cost'] === true);
   if (gate) return gate;
-  let b: BudgetResult;
+  let workers: number | undefined;
+  if (options.workers !== undefined) {
+    const w = String(options.workers);
+    if (!/^\s*\d+\s*$/.test(w) || Number(w) < 1 || Number(w) > 256) return err(`--workers: a whole number from 1 to 256, got "${w}"`);
+    workers = Number(w);
+  }
+  const opts = { draws, seed, onProgress: progressOf('budget'), acceptCost: true };
+  let setup: BudgetSetup;
   try {
-    b = budget(c.plan, { draws, seed, onProgress: progressOf('budget'), acceptCost: true });
+    setup = budgetSetup(c.plan, opts);
   } catch (e) {
     if (e instanceof RunError) return err(e.message);
     throw e;
   }
+  // the evaluations (4 per tolerance, and the draws) dealt out to threads from PARALLEL_FROM_POINTS of them on
+  workers ??= setup.sets.length >= PARALLEL_FROM_POINTS ? availableParallelism() : 1;
+  if (workers > 1) {
+    return { code: 0, stdout: '', stderr: '', job: async () => {
+      try {
+        return deliverBudget(await budgetParallel(text, c.plan, setup, opts, workers), file, options);
+      } catch (e) {
+        if (e instanceof RunError) return err(e.message);
+        throw e;
+      }
+    } };
+  }
+  let b: BudgetResult;
+  try {
+    b = budgetOf(c.plan, setup, opts);
+  } catch (e) {
+    if (e instanceof RunError) return err(e.message);
+    throw e;
+  }
+  return deliverBudget(b, file, options);
+}
+
+function deliverBudget(b: BudgetResult, file: string, options: Record<string, unknown>): CliOutput {
+  const output = options.output;
   const body = options.json ? `${JSON.stringify(b, null, 2)}\n` : budgetText(b, file);
   if (typeof output === 'string') return { code: 0, stdout: '', stderr: '', file: { path: output, format: 'text', html: body, input: file, what: `tolerance budget (${options.json ? 'JSON' : 'text'})`, command: 'budget' } };
   return ok(body);

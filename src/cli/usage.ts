@@ -9,7 +9,7 @@ Usage:
                                       the setup sheet of the line: printable HTML on stdout, or a file
   spinyard scan FILE --param NAME --from A --to B --points N [--json|--csv] [-o OUT]
                                       the line over one set-point (or a grid of two): yields, counts
-  spinyard budget FILE [--draws N] [--seed S] [--json] [-o OUT]
+  spinyard budget FILE [--draws N] [--seed S] [--workers N] [--json] [-o OUT]
                                       tolerance budget: which set-point's tolerance moves which detector
   spinyard fit FILE --data counts.csv --free NAME,… [--json] [-o fitted.spinyard]
                                       fit set-points (and the oven state) to measured counts
@@ -93,7 +93,7 @@ A value the document's reader refuses (a bound, a first slit moved onto the oven
 without a result and says why; the other points are computed. The k-th --from, --to and --points
 belong to the k-th --param.
 `,
-  budget: `Usage: spinyard budget FILE [--draws N] [--seed S] [--json] [-o OUT]
+  budget: `Usage: spinyard budget FILE [--draws N] [--seed S] [--workers N] [--json] [-o OUT]
 
 The tolerance budget of the line in FILE, from the tolerances the document keeps:
   "tolerances": [ {"parameter": "M2.axis.roll", "halfWidth": "0.5 deg", "distribution": "uniform"}, … ]
@@ -108,6 +108,8 @@ quantiles), a note where the two disagree (the signal is not linear over the tol
   --draws N   Monte Carlo draws (default 1000; 0 for the first-order budget only)
   --seed S    the generator's seed (default 1): the same seed gives the same figures
   --json      the budget as JSON (format spinyard.budget, version 1)
+  --workers N evaluate in N threads (default: one per core from 200 evaluations on, else 1); the
+              budget is the same for any N
   -o OUT      write the output to OUT (atomically; never over FILE)
   --accept-cost  run a line whose run is estimated above 10 s (as spinyard run --accept-cost)
 `,

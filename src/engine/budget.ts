@@ -88,18 +88,30 @@ function signals(plan: Plan, values: Record<string, number>, opts: RunOptions): 
   return new Map(r.detectors.map((d) => [d.id, d.signal]));
 }
 
-/** Signals with one parameter moved, or the reader's refusal. */
-function moved(plan: Plan, name: string, v: number, opts: RunOptions): Map<string, number> | string {
-  try {
-    return signals(plan, { [name]: v }, opts);
-  } catch (e) {
-    if (e instanceof RunError) return e.message;
-    throw e;
-  }
+/**
+ * What a budget evaluates, found before any of it runs: the tolerances (without their sensitivities yet), the
+ * detectors and their signals at the set-points, and the parameter values of every other evaluation in order: four
+ * per tolerance (+σ, +σ/2, −σ, −σ/2), then the Monte Carlo draws, every tolerance drawn at once in the order of the
+ * list from one seeded generator. Each evaluation is a function of the document and its values alone, so they can be
+ * dealt out to worker threads (`spinyard budget --workers N`) and the budget made from their outcomes is the same,
+ * bit for bit, as one made in one thread.
+ */
+export interface BudgetSetup {
+  tolerances: BudgetTolerance[];
+  /** The detectors, in the order of the run's result. */
+  ids: string[];
+  /** Their signals at the set-points. */
+  base: number[];
+  /** The values of every other evaluation: 4 per tolerance, then the draws. */
+  sets: Record<string, number>[];
+  draws: number;
+  seed: number;
 }
 
-/** The first-order and Monte Carlo budget of the plan's tolerances (or the ones given). */
-export function budget(plan: Plan, opts: BudgetOptions = {}, tolerances: readonly ToleranceStudy[] = plan.line.tolerances ?? []): BudgetResult {
+/** An evaluation's outcome: the detectors' signals in the setup's order, or the reader's refusal of a set-point. */
+export type BudgetOutcome = number[] | string;
+
+export function budgetSetup(plan: Plan, opts: BudgetOptions = {}, tolerances: readonly ToleranceStudy[] = plan.line.tolerances ?? []): BudgetSetup {
   const draws = opts.draws ?? 1000;
   const seed = opts.seed ?? 1;
   if (!Number.isInteger(draws) || draws < 0 || draws > MAX_BUDGET_DRAWS) throw new RunError(`budget: the number of draws must be a whole number from 0 to ${MAX_BUDGET_DRAWS}, got ${draws}`);
@@ -107,28 +119,73 @@ export function budget(plan: Plan, opts: BudgetOptions = {}, tolerances: readonl
   if (!tolerances.length) throw new RunError('budget: the line has no tolerances (a "tolerances" list in the document: {"parameter": "M2.axis.roll", "halfWidth": "0.5 deg", "distribution": "uniform"})');
   // the document's line estimated once, not at every evaluation
   if (!opts.costChecked) checkCost(plan.line, opts);
-  opts = { ...opts, costChecked: true };
-  const base = signals(plan, {}, opts);
+  const base = signals(plan, {}, { ...opts, costChecked: true });
   const ids = [...base.keys()];
   if (!ids.length) throw new RunError('budget: the line has no detector');
-  const steps = tolerances.length * 4 + draws;
-  let done = 0;
-  const tick = () => {
-    if (opts.isCancelled?.()) throw new CancelledError('budget: cancelled');
-    opts.onProgress?.(++done / steps);
-  };
-
+  const sets: Record<string, number>[] = [];
   const tols: BudgetTolerance[] = tolerances.map((t) => {
     const slot = parameter(plan, t.path);
     const sigma = t.distribution === 'normal' ? t.halfWidth : t.halfWidth / Math.sqrt(3);
     const shown = DISPLAY_UNITS[slot.dimension];
-    const entry: BudgetTolerance = { name: t.name, path: t.path, dimension: slot.dimension, unit: shown.unit, factor: shown.factor,
-      distribution: t.distribution, halfWidth: t.halfWidth, sigma, value: slot.value };
     const p0 = slot.value;
-    const up = [moved(plan, t.name, p0 + sigma, opts), moved(plan, t.name, p0 + sigma / 2, opts)];
-    tick(); tick();
-    const down = [moved(plan, t.name, p0 - sigma, opts), moved(plan, t.name, p0 - sigma / 2, opts)];
-    tick(); tick();
+    for (const v of [p0 + sigma, p0 + sigma / 2, p0 - sigma, p0 - sigma / 2]) sets.push({ [t.name]: v });
+    return { name: t.name, path: t.path, dimension: slot.dimension, unit: shown.unit, factor: shown.factor,
+      distribution: t.distribution, halfWidth: t.halfWidth, sigma, value: slot.value };
+  });
+  const rng = new Random(seed);
+  for (let k = 0; k < draws; k++) {
+    const values: Record<string, number> = {};
+    for (const t of tols) values[t.name] = t.value + (t.distribution === 'normal' ? t.halfWidth * rng.normal() : t.halfWidth * (2 * rng.uniform() - 1));
+    sets.push(values);
+  }
+  return { tolerances: tols, ids, base: ids.map((id) => base.get(id)!), sets, draws, seed };
+}
+
+/**
+ * The outcomes of evaluations `sets` (a budget's, or a block of them), in order; `tick` after each (it may throw to
+ * cancel).
+ */
+export function budgetOutcomes(plan: Plan, ids: readonly string[], sets: readonly Record<string, number>[], opts: RunOptions = {}, tick?: () => void): BudgetOutcome[] {
+  const o = { ...opts, costChecked: true };
+  return sets.map((values) => {
+    let out: BudgetOutcome;
+    try {
+      const s = signals(plan, values, o);
+      out = ids.map((id) => s.get(id)!);
+    } catch (e) {
+      if (!(e instanceof RunError)) throw e;
+      out = e.message;
+    }
+    tick?.();
+    return out;
+  });
+}
+
+/** The first-order and Monte Carlo budget of the plan's tolerances (or the ones given). */
+export function budget(plan: Plan, opts: BudgetOptions = {}, tolerances: readonly ToleranceStudy[] = plan.line.tolerances ?? []): BudgetResult {
+  return budgetOf(plan, budgetSetup(plan, opts, tolerances), opts);
+}
+
+/** The budget of a setup, its evaluations made in this thread (with progress and cancel). */
+export function budgetOf(plan: Plan, setup: BudgetSetup, opts: RunOptions = {}): BudgetResult {
+  let done = 0;
+  const tick = () => {
+    if (opts.isCancelled?.()) throw new CancelledError('budget: cancelled');
+    opts.onProgress?.(++done / setup.sets.length);
+  };
+  return budgetResult(plan, setup, budgetOutcomes(plan, setup.ids, setup.sets, opts, tick));
+}
+
+/** The budget from its setup and the outcomes of its evaluations (budgetOutcomes over setup.sets, in order). */
+export function budgetResult(plan: Plan, setup: BudgetSetup, outcomes: readonly BudgetOutcome[]): BudgetResult {
+  const { ids, draws, seed } = setup;
+  if (outcomes.length !== setup.sets.length) throw new Error(`budget: ${outcomes.length} outcomes for ${setup.sets.length} evaluations`);
+  const base = new Map(ids.map((id, i) => [id, setup.base[i]]));
+  const tols: BudgetTolerance[] = setup.tolerances.map((t, k) => {
+    const entry: BudgetTolerance = { ...t };
+    const sigma = t.sigma;
+    const up = [outcomes[4 * k], outcomes[4 * k + 1]];
+    const down = [outcomes[4 * k + 2], outcomes[4 * k + 3]];
     const upOk = typeof up[0] !== 'string' && typeof up[1] !== 'string';
     const downOk = typeof down[0] !== 'string' && typeof down[1] !== 'string';
     if (!upOk && !downOk) {
@@ -136,9 +193,9 @@ export function budget(plan: Plan, opts: BudgetOptions = {}, tolerances: readonl
       return entry;
     }
     entry.method = upOk && downOk ? 'central' : upOk ? 'forward' : 'backward';
-    entry.sensitivities = ids.map((id) => {
+    entry.sensitivities = ids.map((id, i) => {
       const s0 = base.get(id)!;
-      const at = (m: Map<string, number> | string) => (m as Map<string, number>).get(id)!;
+      const at = (m: BudgetOutcome) => (m as number[])[i];
       let d1: number, d2: number, d: number;
       if (entry.method === 'central') {
         d1 = (at(up[0]) - at(down[0])) / (2 * sigma);
@@ -164,26 +221,18 @@ export function budget(plan: Plan, opts: BudgetOptions = {}, tolerances: readonl
     return { id, nominal: base.get(id)!, linearSigma: Math.sqrt(v) };
   });
 
-  // Monte Carlo: every tolerance drawn at once, in the order of the list, from one seeded generator
-  const rng = new Random(seed);
+  // Monte Carlo: the draws' outcomes, in the order they were drawn
   const samples = ids.map(() => [] as number[]);
   let refused = 0;
   let refusedReason: string | undefined;
-  for (let k = 0; k < draws; k++) {
-    const values: Record<string, number> = {};
-    for (const t of tols) values[t.name] = t.value + (t.distribution === 'normal' ? t.halfWidth * rng.normal() : t.halfWidth * (2 * rng.uniform() - 1));
-    let s: Map<string, number>;
-    try {
-      s = signals(plan, values, opts);
-    } catch (e) {
-      if (!(e instanceof RunError)) throw e;
+  for (let k = 4 * tols.length; k < outcomes.length; k++) {
+    const s = outcomes[k];
+    if (typeof s === 'string') {
       refused++;
-      refusedReason ??= e.message;
-      tick();
+      refusedReason ??= s;
       continue;
     }
-    ids.forEach((id, i) => samples[i].push(s.get(id)!));
-    tick();
+    ids.forEach((_, i) => samples[i].push(s[i]));
   }
   const warnings: string[] = [];
   const n = draws - refused;

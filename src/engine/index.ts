@@ -8,7 +8,7 @@ export { runScan, withParameter, type ScanSpec, scan, scanPoint, scanBatches, sc
 export { compile, evaluate, lineAt, parameter, parameterValue, type Plan, type CompileResult, type ParameterSlot } from './plan.ts';
 export { engineCacheStats, clearEngineCaches, type CacheStats } from './session.ts';
 export { countsIn, countSigma, signalToBackground, timeToPrecision } from './counting.ts';
-export { budget, quantile, MAX_BUDGET_DRAWS, type BudgetResult, type BudgetTolerance, type BudgetDetector, type Sensitivity, type BudgetOptions } from './budget.ts';
+export { budget, budgetOf, budgetSetup, budgetOutcomes, budgetResult, quantile, MAX_BUDGET_DRAWS, type BudgetSetup, type BudgetOutcome, type BudgetResult, type BudgetTolerance, type BudgetDetector, type Sensitivity, type BudgetOptions } from './budget.ts';
 export { Random } from './random.ts';
 export { fit, type FitResult, type FitOptions, type FreeParameter, type FittedParameter, type FitResidual } from './fit.ts';
 export { fittedDocument, fittedQuantity } from './fitted.ts';

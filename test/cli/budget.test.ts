@@ -1,5 +1,6 @@
 /** `spinyard budget`: the text, JSON, messages and -o. */
 import { describe, expect, it } from 'vitest';
+import { spawnSync } from 'node:child_process';
 import { runCli } from '../../src/cli/cli.ts';
 
 const C = new URL('../../samples/bench-c-roll-calibration.spinyard', import.meta.url).pathname;
@@ -7,7 +8,7 @@ const A = new URL('../../samples/bench-a-spin32-rotator.spinyard', import.meta.u
 
 describe('spinyard budget FILE', () => {
   it('prints the tolerances, each detector\'s first-order and Monte Carlo spread, and the ranked effects', () => {
-    const out = runCli(['budget', C, '--draws', '200']);
+    const out = runCli(['budget', C, '--draws', '200', '--workers', '1']);
     expect(out.stderr).toBe('');
     expect(out.code).toBe(0);
     expect(out.stdout).toMatch(/M2\.axis\.roll\s+30 deg\s+±0\.5 deg uniform\s+0\.289 deg\s+central/);
@@ -30,10 +31,39 @@ describe('spinyard budget FILE', () => {
       [['budget', C, '--draws', 'many'], /--draws: a whole number/],
       [['budget', C, '--seed', '-1'], /--seed: a whole number/],
       [['budget', C, '-o', C], /never written over its document/],
+      [['budget', C, '--workers', '0'], /--workers: a whole number from 1 to 256, got "0"/],
     ] as [string[], RegExp][]) {
       const out = runCli(argv);
       expect(out.code, argv.join(' ')).toBe(2);
       expect(out.stderr).toMatch(msg);
     }
   });
+});
+
+describe('spinyard budget --workers N', () => {
+  it('gives the same budget, byte for byte, in 1, 2 and 3 threads', async () => {
+    // 5 tolerances × 4 steps and 40 draws, with a draw refused or not: the outcomes come back in their order
+    const argv = ['budget', C, '--draws', '40', '--seed', '3', '--json'];
+    const one = runCli([...argv, '--workers', '1']);
+    expect(one.job).toBeUndefined();
+    expect(one.code).toBe(0);
+    for (const w of ['2', '3']) {
+      const out = runCli([...argv, '--workers', w]);
+      expect(out.job).toBeDefined();
+      const done = await out.job!();
+      expect(done.stderr).toBe('');
+      expect(done.stdout).toBe(one.stdout);
+    }
+  }, 240_000);
+
+  it('does the same through the built command line (its worker module is built beside it)', () => {
+    const bin = new URL('../../bin/spinyard.js', import.meta.url).pathname;
+    const args = ['budget', C, '--draws', '30', '--json'];
+    const one = spawnSync(process.execPath, [bin, ...args, '--workers', '1'], { encoding: 'utf8' });
+    const two = spawnSync(process.execPath, [bin, ...args, '--workers', '2'], { encoding: 'utf8' });
+    expect(one.status, one.stderr).toBe(0);
+    expect(two.status, two.stderr).toBe(0);
+    expect(two.stdout).toBe(one.stdout);
+    expect(JSON.parse(two.stdout).monteCarlo.draws).toBe(30);
+  }, 240_000);
 });
