@@ -316,6 +316,11 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
     if (c - left > minGap && hi - c > minGap) { pa.push(left); pb.push(c); left = c; }
   }
   pa.push(left); pb.push(hi);
+  // each cut interval's quadratics in u (see intervalQuadratics); panel p lies in interval ivOf[p]
+  const polys = intervalQuadratics(e, pa, pb);
+  const ivOf: number[] = pa.map((_, i) => i);
+  // the nodes' polygons are made only where something reads them: the kept nodes, the moments of the displacement
+  const full = keep || exactMean;
   const nQ = 2 + e.wins.length;
   const floor = 1e-9;
   const minWidth = (hi - lo) / 65536;
@@ -337,9 +342,13 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
       nodes += RULE;
     }
     const tr = specTraceAt(spec, NV.subarray(n0, nodes), phiMax);
-    for (let n = n0; n < nodes; n++) {
-      NWD[n] = Math.max(0, tr[n - n0]) * densityShape(d, NV[n]);
-      evalNode(e, n);
+    for (let n = n0; n < nodes; n++) NWD[n] = Math.max(0, tr[n - n0]) * densityShape(d, NV[n]);
+    for (const p of todo) {
+      const k = ivOf[p], direct = polys.direct[k] === 1;
+      for (let n = first[p]; n < first[p] + RULE; n++) {
+        if (full || direct) evalNode(e, n);
+        if (!direct) quadraticNode(e, n, polys, k);
+      }
     }
     if (sums.length < 2 * nQ * pa.length) {
       const grown = new Float64Array(4 * nQ * pa.length);
@@ -401,6 +410,7 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
       const m = 0.5 * (pa[p] + pb[p]);
       const a = pa.length;
       pa.push(pa[p], m); pb.push(m, pb[p]);
+      ivOf.push(ivOf[p], ivOf[p]);
       next.push(a, a + 1);
       todo.push(a, a + 1);
     }
@@ -423,8 +433,132 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
       total += q;
     }
   }
-  const geo = assemble(e, m, total, true, keep, exactMean);
+  const geo = assemble(e, m, total, true, keep, exactMean, full);
   return change === undefined ? { geo } : { geo, change };
+}
+
+/**
+ * A sub-beam's cut intervals (pa[k] … pb[k] in speed) with each axis's transmitted fraction and each window's fraction
+ * along it as a quadratic in u = 1/v². Within an interval no edge starts or stops bounding a polygon (its ends are the
+ * kinks, kinkSpeeds), and every edge moves linearly in u (a strip with the deflection at its plane, a window with the
+ * deflection at the sub-beam's plane), so every vertex moves linearly in u and every area is a quadratic in u: read
+ * exactly (to rounding) from the axis at the interval's two ends and its middle in u, shared ends read once. A fourth
+ * reading at three quarters checks it; where it differs by more than rounding (an edge the kinks' closed form missed,
+ * or an interval reaching v = 0), the interval's nodes are evaluated one by one instead (`direct`). For interval k:
+ * c[k·len] = u at its middle, c[k·len + 1] = the half-width h in u, then for each quantity i of `q` (x: transmitted,
+ * each window; z: the same) its coefficients c0, c1, c2 in s = (u − u_mid)/h.
+ */
+interface IntervalQuadratics { c: Float64Array; len: number; q: number; direct: Uint8Array }
+
+function intervalQuadratics(e: Evaluator, pa: readonly number[], pb: readonly number[]): IntervalQuadratics {
+  const nw = e.wins.length, q = 2 * (1 + nw), len = 2 + 3 * q, nIv = pa.length;
+  if (IQ_C.length < nIv * len) IQ_C = new Float64Array(2 * nIv * len);
+  if (IQ_DIRECT.length < nIv) IQ_DIRECT = new Uint8Array(2 * nIv);
+  if (IQ_ENDS.length < (nIv + 3) * q) IQ_ENDS = new Float64Array(2 * (nIv + 3) * q);
+  const c = IQ_C, direct = IQ_DIRECT.fill(0, 0, nIv), ends = IQ_ENDS;
+  // the middle's and the check's readings after the ends'
+  const mid = ends.subarray((nIv + 1) * q, (nIv + 2) * q), chk = ends.subarray((nIv + 2) * q, (nIv + 3) * q);
+  // (a reading to copy the axes that do not change from: the fastest end's, always read)
+  axisSamples(e, pb[nIv - 1], ends, nIv * q, -1);
+  for (let j = 0; j < nIv; j++) if (pa[j] > 0) axisSamples(e, pa[j], ends, j * q, nIv * q);
+  for (let k = 0; k < nIv; k++) {
+    const uA = 1 / (pa[k] * pa[k]), uB = 1 / (pb[k] * pb[k]);
+    if (!(pa[k] > 0) || !Number.isFinite(uA)) { direct[k] = 1; continue; }
+    const uM = 0.5 * (uA + uB), h = 0.5 * (uA - uB);
+    axisSamples(e, 1 / Math.sqrt(uM), ends, (nIv + 1) * q, nIv * q);
+    axisSamples(e, 1 / Math.sqrt(uM + 0.5 * h), ends, (nIv + 2) * q, nIv * q);
+    const o = k * len;
+    c[o] = uM; c[o + 1] = h;
+    for (let i = 0; i < q; i++) {
+      // s = +1 at the slow end (u = uA), −1 at the fast end
+      const fA = ends[k * q + i], fB = ends[(k + 1) * q + i], f1 = mid[i];
+      const c1 = 0.5 * (fA - fB), c2 = 0.5 * (fA + fB) - f1;
+      c[o + 2 + 3 * i] = f1; c[o + 3 + 3 * i] = c1; c[o + 4 + 3 * i] = c2;
+      const size = Math.max(Math.abs(fA), Math.abs(fB), Math.abs(f1), Math.abs(chk[i]));
+      if (!(Math.abs(f1 + 0.5 * c1 + 0.25 * c2 - chk[i]) <= 1e-13 + 1e-10 * size)) direct[k] = 1;
+    }
+  }
+  return { c, len, q, direct };
+}
+
+// the polygon of one axis at a reading, and the intervals' quadratics and readings (reused from call to call, grown on
+// demand; every entry read is set first in the same call)
+let SAMPLE = new Float64Array(64);
+let IQ_C = new Float64Array(1024), IQ_DIRECT = new Uint8Array(64), IQ_ENDS = new Float64Array(256);
+
+/**
+ * Each axis's transmitted fraction and each window's fraction along it at speed v, into out[o …] (x, then z); an axis
+ * that is the same at every speed (fixed, and not deflected at the plane) is copied from the reading at out[from …]
+ * when from ≥ 0.
+ */
+function axisSamples(e: Evaluator, v: number, out: Float64Array, o: number, from: number): void {
+  const vv = v * v, ap = e.atPlane;
+  let dx = 0, dz = 0;
+  for (let i = 0; i < ap.num.length; i++) {
+    const d = ap.num[i] / vv;
+    dx += d * ap.nx[i];
+    dz += d * ap.nz[i];
+  }
+  const m = 1 + e.wins.length;
+  if (from >= 0 && e.constX) out.copyWithin(o, from, from + m);
+  else axisSample(e.px, v, dx, e.wins, true, out, o);
+  if (from >= 0 && e.constZ) out.copyWithin(o + m, from + m, from + 2 * m);
+  else axisSample(e.pz, v, dz, e.wins, false, out, o + m);
+}
+
+function axisSample(pl: AxisPlan, v: number, d: number, wins: readonly NodeWindow[], xAxis: boolean, out: Float64Array, o: number): void {
+  let buf = pl.pre, n = pl.nPre;
+  if (n >= 3 && !pl.fixed) {
+    const s = pl.strips;
+    for (let i = pl.first; i < s.count; i++) {
+      const dd = deflect(pl.num[i], pl.dir[i], v);
+      s.lo[i] = pl.lo0[i] - dd;
+      s.hi[i] = pl.hi0[i] - dd;
+    }
+    n = clipStrips(pl.pre, 0, pl.nPre, s, pl.first, s.count);
+    if (SAMPLE.length < 2 * n) SAMPLE = new Float64Array(4 * n);
+    const r = clipResult();
+    for (let i = 0; i < 2 * n; i++) SAMPLE[i] = r[i];
+    buf = SAMPLE;
+  }
+  if (n < 3) {
+    out.fill(0, o, o + 1 + wins.length);
+    return;
+  }
+  out[o] = areaFlat(buf, 0, n) / pl.area0;
+  for (let w = 0; w < wins.length; w++) {
+    const win = wins[w];
+    const al = xAxis ? win.alx : win.alz, be = xAxis ? win.bex : win.bez;
+    const lo = xAxis ? win.xlo : win.zlo, hi = xAxis ? win.xhi : win.zhi;
+    out[o + 1 + w] = fractionInsideFlat(buf, 0, n, pl.area0, al, be, lo - d, hi - d, NaN, NaN);
+  }
+}
+
+/** Node n's transmitted fraction, each window's fraction and its deflection at the plane from interval k's quadratics. */
+function quadraticNode(e: Evaluator, n: number, p: IntervalQuadratics, k: number): void {
+  const nw = e.wins.length;
+  if (NWD[n] === 0) {
+    NT[n] = 0; NDX[n] = 0; NDZ[n] = 0;
+    for (let w = 0; w < nw; w++) NCAP[n * nw + w] = 0;
+    return;
+  }
+  const v = NV[n], vv = v * v, ap = e.atPlane;
+  let dx = 0, dz = 0;
+  for (let i = 0; i < ap.num.length; i++) {
+    const d = ap.num[i] / vv;
+    dx += d * ap.nx[i];
+    dz += d * ap.nz[i];
+  }
+  NDX[n] = dx; NDZ[n] = dz;
+  const c = p.c, o = k * p.len, s = (1 / vv - c[o]) / c[o + 1];
+  NT[n] = quadraticAt(c, o + 2, s) * quadraticAt(c, o + 2 + 3 * (1 + nw), s);
+  for (let w = 0; w < nw; w++) NCAP[n * nw + w] = quadraticAt(c, o + 5 + 3 * w, s) * quadraticAt(c, o + 5 + 3 * (1 + nw + w), s);
+}
+
+/** The quadratic c[j] + c[j+1] s + c[j+2] s² kept within [0, 1] (a fraction of 0 or 1 can come out a rounding beyond). */
+function quadraticAt(c: Float64Array, j: number, s: number): number {
+  const f = c[j] + s * (c[j + 1] + s * c[j + 2]);
+  return f < 0 ? 0 : f > 1 ? 1 : f;
 }
 
 // the panels' sums of convergedGeometry (reused from call to call, grown on demand; every panel's are set before they are read)
@@ -840,7 +974,7 @@ function axisOut(pl: AxisPlan, kept: number): AxisNodes {
  * the transmitted fraction, the means and second moments, the captured fraction and each other window's share, and the
  * node set the profiles and the centre line read.
  */
-function assemble(e: Evaluator, m: number, total: number, cells: boolean, keep: boolean, exactMean = keep): FineGeo {
+function assemble(e: Evaluator, m: number, total: number, cells: boolean, keep: boolean, exactMean = keep, moments = true): FineGeo {
   const f = e.f;
   if (total <= 0) {
     return { fine: f, yieldGeo: f.yieldSpin, captured: 0, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: NO_NODES };
@@ -858,14 +992,15 @@ function assemble(e: Evaluator, m: number, total: number, cells: boolean, keep: 
   for (let j = 0; j < kept; j++) {
     const n = KIDX[j], wk = KW[j];
     const ix = fx0 ? 0 : n, iz = fz0 ? 0 : n;
-    const dx = NDX[n], dz = NDZ[n];
-    const t = sx0.tr[ix] * sz0.tr[iz];
+    const t = NT[n];
     tSum += wk * t;
+    for (let w = 0; w < wn; w++) shares[w] += wk * NCAP[n * wn + w];
+    if (!moments) continue;
+    const dx = NDX[n], dz = NDZ[n];
     mx += wk * t * (sx0.mean[ix] + dx);
     mz += wk * t * (sz0.mean[iz] + dz);
     sx += wk * t * (sx0.variance[ix] + (sx0.mean[ix] + dx) ** 2);
     sz += wk * t * (sz0.variance[iz] + (sz0.mean[iz] + dz) ** 2);
-    for (let w = 0; w < wn; w++) shares[w] += wk * NCAP[n * wn + w];
   }
   // the node set the profiles, the crosstalk and the centre line read, copied out of the stores (or only counted)
   let nodes: NodeSet;
