@@ -481,6 +481,35 @@ function intervalQuadratics(e: Evaluator, pa: readonly number[], pb: readonly nu
   return { c, len, q, direct };
 }
 
+/**
+ * For the tests: sub-beam f's speed range lo … hi cut at its kinks (or at `cuts` where given), each interval's quadratics
+ * and whether its check failed; `at(k, v)` the transmitted fraction and each window's captured fraction (its own first,
+ * then `others`) read off interval k's quadratics at speed v.
+ */
+export function kinkIntervals(f: FinePath, others: readonly PlaneWindow[], lo: number, hi: number, cuts?: readonly number[]): {
+  pa: number[]; pb: number[]; direct: boolean[]; at: (k: number, v: number) => { t: number; captured: number[] };
+} {
+  const e = evaluator(f, others);
+  // (as convergedPass cuts the range: a cut within 1e-9 of the range from the last one or from hi is left out)
+  const pa = [lo], pb: number[] = [];
+  const minGap = 1e-9 * (hi - lo);
+  for (const x of [...(cuts ?? kinkSpeeds(e, lo, hi))].sort((a, b) => a - b)) {
+    if (x - pa[pa.length - 1] > minGap && hi - x > minGap) { pb.push(x); pa.push(x); }
+  }
+  pb.push(hi);
+  const p = intervalQuadratics(e, pa, pb);
+  const c = p.c.slice(0, pa.length * p.len), direct = Array.from(p.direct.subarray(0, pa.length), (x) => x === 1);
+  const nw = e.wins.length;
+  const at = (k: number, v: number) => {
+    const o = k * p.len, s = (1 / (v * v) - c[o]) / c[o + 1];
+    return {
+      t: quadraticAt(c, o + 2, s) * quadraticAt(c, o + 2 + 3 * (1 + nw), s),
+      captured: Array.from({ length: nw }, (_, w) => quadraticAt(c, o + 5 + 3 * w, s) * quadraticAt(c, o + 5 + 3 * (1 + nw + w), s)),
+    };
+  };
+  return { pa, pb, direct, at };
+}
+
 // the polygon of one axis at a reading, and the intervals' quadratics and readings (reused from call to call, grown on
 // demand; every entry read is set first in the same call)
 let SAMPLE = new Float64Array(64);

@@ -1,0 +1,114 @@
+/**
+ * Between two kinks every edge of a sub-beam's polygons moves linearly in u = 1/v², so its transmitted fraction and each
+ * window's fraction along an axis are quadratics in u (src/engine/subbeam.ts, intervalQuadratics): the detector plane reads
+ * them at an interval's ends and middle and checks them at a fourth point. Against the collimator geometry of
+ * src/engine/geometry.ts clipped speed by speed (transmit, fractionInside), on a sub-beam deflected along both axes whose
+ * slow speeds a strip clips: the quadratics hold between the kinks to rounding, and an interval that spans kinks fails
+ * its check (its nodes are then evaluated one by one).
+ */
+import { describe, expect, it } from 'vitest';
+import { kinkIntervals, type FinePath, type PlaneWindow, type Track } from '../../src/engine/subbeam.ts';
+import { fractionInside, transmit, type Collimator1D } from '../../src/engine/geometry.ts';
+import type { Detector, Rect } from '../../src/beamline/types.ts';
+
+const mm = 1e-3;
+const PLANE = 1.0;
+const n = { x: Math.sin(Math.PI / 6), y: 0, z: -Math.cos(Math.PI / 6) };
+const track: Track = {
+  source: { x: 0, z: 0, width: 1 * mm, height: 1 * mm },
+  collimator: { y: 0.3, rect: { x: 0, z: 0, width: 1 * mm, height: 1 * mm } },
+  kicks: [{ exitY: 0.5, length: 0.1, accel: 1e4, n }],
+  strips: [
+    { y: 0.35, lo: -1.5 * mm, hi: 1.5 * mm, axis: 'x' }, { y: 0.35, lo: -1.5 * mm, hi: 1.5 * mm, axis: 'z' },
+    { y: 0.5, lo: -1.2 * mm, hi: 1.2 * mm, axis: 'x' }, { y: 0.5, lo: -1.2 * mm, hi: 1.2 * mm, axis: 'z' },
+  ],
+  components: [],
+};
+const win = (x: number, z: number): Rect => ({ x: x * mm, z: z * mm, width: 1 * mm, height: 1 * mm });
+const own: Detector = { id: 'D1', kind: 'detector', gap: 0, path: 'elements.D1', efficiency: 1, background: 0, dwell: 1, window: win(0.5, -1.5) };
+const others: PlaneWindow[] = [{ id: 'D2', window: win(0.5, -3), y: PLANE }, { id: 'D3', window: win(1.5, -1.5), y: PLANE }];
+const f: FinePath = {
+  system: 'test', fraction: 1, dist: { kind: 'effusive', a: 400 } as FinePath['dist'], path: ['M'], target: 'D1', plane: PLANE, yieldSpin: 1, track,
+  detector: own,
+};
+
+function collimator(axis: 'x' | 'z'): Collimator1D {
+  const w = axis === 'x' ? 'width' : 'height';
+  return { p0: -track.source![w] / 2, p1: track.source![w] / 2, q0: -track.collimator!.rect[w] / 2, q1: track.collimator!.rect[w] / 2, ys: 0.3 };
+}
+
+function deflection(y: number, v: number, axis: 'x' | 'z'): number {
+  return y < 0.5 ? 0 : (1e4 * 0.1 * (0.05 + (y - 0.5)) / (v * v)) * n[axis];
+}
+
+/** The transmitted fraction and each window's (D1, D2, D3) at speed v, every strip and window clipped at that speed. */
+function clipped(v: number): { t: number; captured: number[] } {
+  const axes = (['x', 'z'] as const).map((axis) => {
+    const c = collimator(axis);
+    const strips = track.strips.filter((s) => s.axis === axis).map((s) => ({ y: s.y, lo: s.lo - deflection(s.y, v, axis), hi: s.hi - deflection(s.y, v, axis) }));
+    return { axis, c, r: transmit(c, strips, PLANE) };
+  });
+  const captured = [own.window!, ...others.map((o) => o.window)].map((w) => {
+    const [fx, fz] = axes.map(({ axis, c, r }) => {
+      const lo = axis === 'x' ? w.x - w.width / 2 : w.z - w.height / 2, hi = axis === 'x' ? w.x + w.width / 2 : w.z + w.height / 2;
+      return fractionInside(c, r, PLANE, lo - deflection(PLANE, v, axis), hi - deflection(PLANE, v, axis));
+    });
+    return fx * fz;
+  });
+  return { t: axes[0].r.transmission * axes[1].r.transmission, captured };
+}
+
+describe('a sub-beam\'s fractions between its kinks', () => {
+  const lo = 150, hi = 2000;
+
+  it('are the quadratics in 1/v² read at each interval\'s ends and middle, to rounding', () => {
+    const q = kinkIntervals(f, others, lo, hi);
+    // the case has kinks (strips and windows starting to clip), and every check holds
+    expect(q.pa.length).toBeGreaterThan(4);
+    expect(q.direct.every((d) => !d)).toBe(true);
+    let worst = 0;
+    const caughtSomewhere = [0, 0, 0];
+    q.pa.forEach((a, k) => {
+      for (let i = 1; i < 12; i++) {
+        const v = a + ((q.pb[k] - a) * i) / 12;
+        const got = q.at(k, v), want = clipped(v);
+        worst = Math.max(worst, Math.abs(got.t - want.t));
+        want.captured.forEach((c, w) => {
+          worst = Math.max(worst, Math.abs(got.captured[w] - c));
+          caughtSomewhere[w] = Math.max(caughtSomewhere[w], c);
+        });
+      }
+    });
+    for (const c of caughtSomewhere) expect(c).toBeGreaterThan(1e-3);
+    expect(worst).toBeLessThan(1e-13);
+  });
+
+  /** The largest difference between interval k's quadratics and the fractions clipped speed by speed, at 11 inner speeds. */
+  const worstIn = (q: ReturnType<typeof kinkIntervals>, k: number) => {
+    let worst = 0;
+    for (let i = 1; i < 12; i++) {
+      const v = q.pa[k] + ((q.pb[k] - q.pa[k]) * i) / 12;
+      const got = q.at(k, v), want = clipped(v);
+      worst = Math.max(worst, Math.abs(got.t - want.t), ...want.captured.map((c, w) => Math.abs(got.captured[w] - c)));
+    }
+    return worst;
+  };
+
+  it('fail the check where an interval spans a kink that changes them, and hold where it does not', () => {
+    const kinks = kinkIntervals(f, others, lo, hi).pb.slice(0, -1);
+    // one interval from lo to hi: its quadratic is not the fractions' (they change shape at the kinks inside)
+    const whole = kinkIntervals(f, others, lo, hi, []);
+    expect(kinks.length).toBeGreaterThan(3);
+    expect(whole.direct).toEqual([true]);
+    // leaving out one kink at a time: the interval holding it fails its check, or its quadratics still hold there
+    // (a kink of a window's polygon where that window catches nothing on either side changes nothing)
+    let caught = 0;
+    for (let i = 0; i < kinks.length; i++) {
+      const q = kinkIntervals(f, others, lo, hi, kinks.filter((_, j) => j !== i));
+      expect(q.direct.filter((d, k) => d && k !== i)).toEqual([]);
+      if (q.direct[i]) caught++;
+      else expect(worstIn(q, i), `kink ${i} at ${kinks[i]} m/s`).toBeLessThan(1e-13);
+    }
+    expect(caught).toBeGreaterThan(kinks.length / 2);
+  });
+});
