@@ -282,7 +282,14 @@ export function densityShape(d: VelocityDistribution, v: number): number {
  */
 export function convergedGeometry(f: FinePath, others: readonly PlaneWindow[] = [], keep = true): { geo: FineGeo; change?: number; extraNodes?: number } {
   const clips = f.track.strips.length > 0 || !!f.detector?.window;
-  if (f.grid || !f.spec || !clips || (f.dist.kind !== 'effusive' && f.dist.kind !== 'supersonic')) return { geo: fineGeometry(f, 24, [], keep) };
+  if (!clips) {
+    // nothing clips: the whole sub-beam arrives at every speed (the collimator's rectangle unclipped, 1 along each axis),
+    // in either case the yield it had; its speed nodes are made only where something reads them (profiles, displacement)
+    if (!keep) return { geo: { fine: f, yieldGeo: f.yieldSpin, captured: 1, mean: { x: 0, z: 0 }, second: { x: 0, z: 0 }, nodes: { ...UNKEPT, plane: f.plane } } };
+    const g = fineGeometry(f, 24, [], true);
+    return { geo: g.nodes === NO_NODES ? g : { ...g, yieldGeo: f.yieldSpin } };
+  }
+  if (f.grid || !f.spec || (f.dist.kind !== 'effusive' && f.dist.kind !== 'supersonic')) return { geo: fineGeometry(f, 24, [], keep) };
   const crosstalk = others.some((o) => o.id !== f.detector?.id);
   // (its nodes are kept only where no second grid takes their place; its exact mean wherever the plane reports one)
   const own = convergedPass(f, [], keep && !crosstalk, keep);
