@@ -2,13 +2,14 @@
  * `npm run bench -- planning`: the planning tools on the samples, in one thread (best of 3 after a warm-up run),
  * and a scan through the built command line in 1 and 2 worker threads (start-up included). Figures go into
  * docs/bench.md by hand. The long items (bench H's 100 × 100 map, its budget of 10 tolerances with 10⁴ draws, the
- * 1000-point scans of every sample, 10⁶ simulated atoms) are timed once after a warm-up on a smaller case; `--quick`
- * leaves out the map and the budget.
+ * 1000-point scans of every sample, 10⁶ simulated atoms) are timed once after a warm-up on a smaller case; the map
+ * and the budget are also timed once each through the built command line in 1 and 2 threads (`cli-map-h`,
+ * `cli-budget-h`, start-up included); `--quick` leaves out the map and the budget.
  */
-import { readFileSync, readdirSync } from 'node:fs';
+import { mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
-import { loadavg } from 'node:os';
+import { loadavg, tmpdir } from 'node:os';
 import { budget, compile, evaluate, parameter, scan, type Plan, type ScanAxis } from '../src/engine/index.ts';
 import { fit } from '../src/engine/fit.ts';
 import { readMeasurements } from '../src/engine/measurements.ts';
@@ -173,6 +174,29 @@ export function benchPlanning(root: string, opts: { quick?: boolean; only?: read
         if (r.status !== 0) throw new Error(r.stderr.toString());
       });
     });
+  }
+  // the issue's map and budget of bench H through the built command line, in 1 and 2 threads (start-up included; the
+  // budget's document is bench H with the same 10 tolerances written into it)
+  if (long) {
+    const hDoc = JSON.parse(readFileSync(join(root, 'samples', 'bench-h-rb87-mj-then-eigenstate.spinyard'), 'utf8')) as Record<string, unknown>;
+    hDoc.tolerances = [
+      ['M1.axis.roll', '0.5 deg'], ['M2.axis.roll', '0.5 deg'], ['M1.field', '5 mT'], ['M2.field', '0.2 mT'], ['M1.gradient', '2 T/m'],
+      ['M2.gradient', '1 T/m'], ['S1.width', '0.01 mm', 'uniform'], ['M2.gap', '0.5 mm', 'uniform'], ['oven.velocity.temperature', '5 K'],
+      ['D1.window.z', '0.05 mm', 'uniform'],
+    ].map(([parameter, halfWidth, distribution]) => ({ parameter, halfWidth, distribution: distribution ?? 'normal' }));
+    const dir = mkdtempSync(join(tmpdir(), 'spinyard-bench-'));
+    const hFile = join(dir, 'bench-h-tolerances.spinyard');
+    writeFileSync(hFile, JSON.stringify(hDoc, null, 2));
+    const whole = (key: string, what: string, args: string[]) => item(key, `${what} (whole command, once; CPU: this process only)`, () => timed(() => {
+      const r = spawnSync(process.execPath, [bin, ...args]);
+      if (r.status !== 0) throw new Error(r.stderr.toString());
+    }));
+    for (const w of [1, 2]) {
+      whole('cli-map-h', `spinyard scan, bench H, M2.field × M2.axis.roll 100 × 100, --workers ${w}`, ['scan', hFile, '--param', 'M2.field', '--from', '5 mT', '--to', '50 mT',
+        '--points', '100', '--param', 'M2.axis.roll', '--from', '0 deg', '--to', '90 deg', '--points', '100', '--csv', '--workers', String(w)]);
+      whole('cli-budget-h', `spinyard budget, bench H, 10 tolerances, 10⁴ draws, --workers ${w}`, ['budget', hFile, '--draws', '10000', '--json', '--workers', String(w)]);
+    }
+    rmSync(dir, { recursive: true, force: true });
   }
   return out.join('\n');
 }
