@@ -313,7 +313,8 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
   const e = evaluator(f, others);
   // the phase terms kept in the weights: those the 24-panel grid resolves (the grid the plane always had)
   const phiMax = geometryGrid(d, 24).phiMax;
-  const cuts = kinkSpeeds(e, lo, hi);
+  const kinks = kinkSpeeds(e, lo, hi);
+  const cuts = [...kinks.x, ...kinks.z];
   for (let i = 1; i < GEOMETRY_BASE_PANELS; i++) cuts.push(lo + ((hi - lo) * i) / GEOMETRY_BASE_PANELS);
   cuts.sort((a, b) => a - b);
   const pa: number[] = [], pb: number[] = [];
@@ -323,9 +324,8 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
     if (c - left > minGap && hi - c > minGap) { pa.push(left); pb.push(c); left = c; }
   }
   pa.push(left); pb.push(hi);
-  // each cut interval's quadratics in u (see intervalQuadratics); panel p lies in interval ivOf[p]
-  const polys = intervalQuadratics(e, pa, pb);
-  const ivOf: number[] = pa.map((_, i) => i);
+  // each axis's quadratics in u on its own cut intervals (see axisQuadratics)
+  const qx = axisQuadratics(e, true, lo, hi, kinks.x, QS_X), qz = axisQuadratics(e, false, lo, hi, kinks.z, QS_Z);
   // the nodes' polygons are made only where something reads them: the kept nodes, the moments of the displacement
   const full = keep || exactMean;
   const nQ = 2 + e.wins.length;
@@ -351,10 +351,12 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
     const tr = specTraceAt(spec, NV.subarray(n0, nodes), phiMax);
     for (let n = n0; n < nodes; n++) NWD[n] = Math.max(0, tr[n - n0]) * densityShape(d, NV[n]);
     for (const p of todo) {
-      const k = ivOf[p], direct = polys.direct[k] === 1;
+      // the panel lies in one interval of each axis (its ends are cuts of both or inside both)
+      const mid = 0.5 * (pa[p] + pb[p]), kx = intervalOf(qx, mid), kz = intervalOf(qz, mid);
+      const direct = qx.direct[kx] === 1 || qz.direct[kz] === 1;
       for (let n = first[p]; n < first[p] + RULE; n++) {
         if (full || direct) evalNode(e, n);
-        if (!direct) quadraticNode(e, n, polys, k);
+        if (!direct) quadraticNode(e, n, qx, kx, qz, kz);
       }
     }
     if (sums.length < 2 * nQ * pa.length) {
@@ -417,7 +419,6 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
       const m = 0.5 * (pa[p] + pb[p]);
       const a = pa.length;
       pa.push(pa[p], m); pb.push(m, pb[p]);
-      ivOf.push(ivOf[p], ivOf[p]);
       next.push(a, a + 1);
       todo.push(a, a + 1);
     }
@@ -445,102 +446,127 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
 }
 
 /**
- * A sub-beam's cut intervals (pa[k] … pb[k] in speed) with each axis's transmitted fraction and each window's fraction
- * along it as a quadratic in u = 1/v². Within an interval no edge starts or stops bounding a polygon (its ends are the
- * kinks, kinkSpeeds), and every edge moves linearly in u (a strip with the deflection at its plane, a window with the
- * deflection at the sub-beam's plane), so every vertex moves linearly in u and every area is a quadratic in u: read
- * exactly (to rounding) from the axis at the interval's two ends and its middle in u, shared ends read once. A fourth
- * reading at three quarters checks it; where it differs by more than rounding (an edge the kinks' closed form missed,
- * or an interval reaching v = 0), the interval's nodes are evaluated one by one instead (`direct`). For interval k:
- * c[k·len] = u at its middle, c[k·len + 1] = the half-width h in u, then for each quantity i of `q` (x: transmitted,
- * each window; z: the same) its coefficients c0, c1, c2 in s = (u − u_mid)/h.
+ * One axis of a sub-beam with its transmitted fraction and each window's fraction along it as quadratics in u = 1/v² on
+ * the axis's own cut intervals (pa[k] … pb[k] in speed, cut at its own kinks: another axis's kinks do not change it).
+ * Within an interval no edge of this axis starts or stops bounding a polygon, and every edge moves linearly in u (a
+ * strip with the deflection at its plane, a window with the deflection at the sub-beam's plane), so every vertex moves
+ * linearly in u and every area is a quadratic in u: read exactly (to rounding) from the axis at the interval's two ends
+ * and its middle in u, shared ends read once. A fourth reading at three quarters checks it; where it differs by more
+ * than rounding (an edge the kinks' closed form missed, or an interval reaching v = 0), the nodes in that interval are
+ * evaluated one by one instead (`direct`). An axis that is the same at every speed (fixed, and not deflected at the
+ * plane) is read once, as one interval. For interval k: c[k·len] = u at its middle, c[k·len + 1] = the half-width h in
+ * u, then for each quantity i (the transmitted fraction, then each window's) its coefficients c0, c1, c2 in
+ * s = (u − u_mid)/h.
  */
-interface IntervalQuadratics { c: Float64Array; len: number; q: number; direct: Uint8Array }
+interface AxisQuadratics { pa: number[]; pb: number[]; c: Float64Array; len: number; direct: Uint8Array }
 
-function intervalQuadratics(e: Evaluator, pa: readonly number[], pb: readonly number[]): IntervalQuadratics {
-  const nw = e.wins.length, q = 2 * (1 + nw), len = 2 + 3 * q, nIv = pa.length;
-  if (IQ_C.length < nIv * len) IQ_C = new Float64Array(2 * nIv * len);
-  if (IQ_DIRECT.length < nIv) IQ_DIRECT = new Uint8Array(2 * nIv);
-  if (IQ_ENDS.length < (nIv + 3) * q) IQ_ENDS = new Float64Array(2 * (nIv + 3) * q);
-  const c = IQ_C, direct = IQ_DIRECT.fill(0, 0, nIv), ends = IQ_ENDS;
+/** The scratch of one axis's quadratics (reused from call to call, grown on demand; every entry read is set first). */
+interface QuadraticScratch { c: Float64Array; direct: Uint8Array; ends: Float64Array }
+const QS_X: QuadraticScratch = { c: new Float64Array(512), direct: new Uint8Array(64), ends: new Float64Array(128) };
+const QS_Z: QuadraticScratch = { c: new Float64Array(512), direct: new Uint8Array(64), ends: new Float64Array(128) };
+
+/** The axis's cut intervals of lo … hi at `cuts` (a cut within 1e-9 of the range from the last one or from hi left out). */
+function cutIntervals(lo: number, hi: number, cuts: readonly number[]): { pa: number[]; pb: number[] } {
+  const pa = [lo], pb: number[] = [];
+  const minGap = 1e-9 * (hi - lo);
+  for (const x of [...cuts].sort((a, b) => a - b)) {
+    if (x - pa[pa.length - 1] > minGap && hi - x > minGap) { pb.push(x); pa.push(x); }
+  }
+  pb.push(hi);
+  return { pa, pb };
+}
+
+function axisQuadratics(e: Evaluator, xAxis: boolean, lo: number, hi: number, cuts: readonly number[], sc: QuadraticScratch): AxisQuadratics {
+  const pl = xAxis ? e.px : e.pz;
+  const q = 1 + e.wins.length, len = 2 + 3 * q;
+  const still = xAxis ? !!e.constX : !!e.constZ;
+  const { pa, pb } = still ? { pa: [lo], pb: [hi] } : cutIntervals(lo, hi, cuts);
+  const nIv = pa.length;
+  if (sc.c.length < nIv * len) sc.c = new Float64Array(2 * nIv * len);
+  if (sc.direct.length < nIv) sc.direct = new Uint8Array(2 * nIv);
+  if (sc.ends.length < (nIv + 3) * q) sc.ends = new Float64Array(2 * (nIv + 3) * q);
+  const c = sc.c, direct = sc.direct.fill(0, 0, nIv), ends = sc.ends;
+  const read = (v: number, o: number) => axisSample(pl, v, atPlane(e, v, xAxis), e.wins, xAxis, ends, o);
+  if (still) {
+    // the same at every speed: one reading, constant quadratics over the whole range
+    read(hi, 0);
+    c[0] = 0; c[1] = 1;
+    for (let i = 0; i < q; i++) { c[2 + 3 * i] = ends[i]; c[3 + 3 * i] = 0; c[4 + 3 * i] = 0; }
+    return { pa, pb, c, len, direct };
+  }
+  for (let j = 0; j < nIv; j++) if (pa[j] > 0) read(pa[j], j * q);
+  read(pb[nIv - 1], nIv * q);
   // the middle's and the check's readings after the ends'
-  const mid = ends.subarray((nIv + 1) * q, (nIv + 2) * q), chk = ends.subarray((nIv + 2) * q, (nIv + 3) * q);
-  // (a reading to copy the axes that do not change from: the fastest end's, always read)
-  axisSamples(e, pb[nIv - 1], ends, nIv * q, -1);
-  for (let j = 0; j < nIv; j++) if (pa[j] > 0) axisSamples(e, pa[j], ends, j * q, nIv * q);
+  const mo = (nIv + 1) * q, co = (nIv + 2) * q;
   for (let k = 0; k < nIv; k++) {
     const uA = 1 / (pa[k] * pa[k]), uB = 1 / (pb[k] * pb[k]);
     if (!(pa[k] > 0) || !Number.isFinite(uA)) { direct[k] = 1; continue; }
     const uM = 0.5 * (uA + uB), h = 0.5 * (uA - uB);
-    axisSamples(e, 1 / Math.sqrt(uM), ends, (nIv + 1) * q, nIv * q);
-    axisSamples(e, 1 / Math.sqrt(uM + 0.5 * h), ends, (nIv + 2) * q, nIv * q);
+    read(1 / Math.sqrt(uM), mo);
+    read(1 / Math.sqrt(uM + 0.5 * h), co);
     const o = k * len;
     c[o] = uM; c[o + 1] = h;
     for (let i = 0; i < q; i++) {
       // s = +1 at the slow end (u = uA), −1 at the fast end
-      const fA = ends[k * q + i], fB = ends[(k + 1) * q + i], f1 = mid[i];
+      const fA = ends[k * q + i], fB = ends[(k + 1) * q + i], f1 = ends[mo + i], fc = ends[co + i];
       const c1 = 0.5 * (fA - fB), c2 = 0.5 * (fA + fB) - f1;
       c[o + 2 + 3 * i] = f1; c[o + 3 + 3 * i] = c1; c[o + 4 + 3 * i] = c2;
-      const size = Math.max(Math.abs(fA), Math.abs(fB), Math.abs(f1), Math.abs(chk[i]));
-      if (!(Math.abs(f1 + 0.5 * c1 + 0.25 * c2 - chk[i]) <= 1e-13 + 1e-10 * size)) direct[k] = 1;
+      const size = Math.max(Math.abs(fA), Math.abs(fB), Math.abs(f1), Math.abs(fc));
+      if (!(Math.abs(f1 + 0.5 * c1 + 0.25 * c2 - fc) <= 1e-13 + 1e-10 * size)) direct[k] = 1;
     }
   }
-  return { c, len, q, direct };
+  return { pa, pb, c, len, direct };
+}
+
+/** The deflection at the sub-beam's plane along one axis at speed v, kick by kick as deflection(). */
+function atPlane(e: Evaluator, v: number, xAxis: boolean): number {
+  const vv = v * v, ap = e.atPlane, n = xAxis ? ap.nx : ap.nz;
+  let d = 0;
+  for (let i = 0; i < ap.num.length; i++) d += (ap.num[i] / vv) * n[i];
+  return d;
+}
+
+/** The interval of an axis's quadratics that holds speed v (the last whose start is at or below it). */
+function intervalOf(q: AxisQuadratics, v: number): number {
+  let lo = 0, hi = q.pa.length - 1;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (q.pa[mid] <= v) lo = mid;
+    else hi = mid - 1;
+  }
+  return lo;
 }
 
 /**
- * For the tests: sub-beam f's speed range lo … hi cut at its kinks (or at `cuts` where given), each interval's quadratics
- * and whether its check failed; `at(k, v)` the transmitted fraction and each window's captured fraction (its own first,
- * then `others`) read off interval k's quadratics at speed v.
+ * For the tests: sub-beam f's kinks in lo … hi along each axis, and each axis's quadratics on its intervals (cut at its
+ * kinks, or at `cuts` where given); `at(v)` the transmitted fraction and each window's captured fraction (its own first,
+ * then `others`) read off the quadratics at speed v, and `direct(v)` whether the check failed in an interval holding v.
  */
-export function kinkIntervals(f: FinePath, others: readonly PlaneWindow[], lo: number, hi: number, cuts?: readonly number[]): {
-  pa: number[]; pb: number[]; direct: boolean[]; at: (k: number, v: number) => { t: number; captured: number[] };
+export function kinkIntervals(f: FinePath, others: readonly PlaneWindow[], lo: number, hi: number, cuts?: { x: readonly number[]; z: readonly number[] }): {
+  kinks: { x: number[]; z: number[] }; x: { pa: number[]; direct: boolean[] }; z: { pa: number[]; direct: boolean[] };
+  at: (v: number) => { t: number; captured: number[] }; direct: (v: number) => boolean;
 } {
   const e = evaluator(f, others);
-  // (as convergedPass cuts the range: a cut within 1e-9 of the range from the last one or from hi is left out)
-  const pa = [lo], pb: number[] = [];
-  const minGap = 1e-9 * (hi - lo);
-  for (const x of [...(cuts ?? kinkSpeeds(e, lo, hi))].sort((a, b) => a - b)) {
-    if (x - pa[pa.length - 1] > minGap && hi - x > minGap) { pb.push(x); pa.push(x); }
-  }
-  pb.push(hi);
-  const p = intervalQuadratics(e, pa, pb);
-  const c = p.c.slice(0, pa.length * p.len), direct = Array.from(p.direct.subarray(0, pa.length), (x) => x === 1);
+  const kinks = kinkSpeeds(e, lo, hi);
+  const own = (q: AxisQuadratics) => ({ ...q, c: q.c.slice(0, q.pa.length * q.len), direct: q.direct.slice(0, q.pa.length) });
+  const qx = own(axisQuadratics(e, true, lo, hi, (cuts ?? kinks).x, QS_X));
+  const qz = own(axisQuadratics(e, false, lo, hi, (cuts ?? kinks).z, QS_Z));
   const nw = e.wins.length;
-  const at = (k: number, v: number) => {
-    const o = k * p.len, s = (1 / (v * v) - c[o]) / c[o + 1];
+  const at = (v: number) => {
+    const kx = intervalOf(qx, v), kz = intervalOf(qz, v);
+    const ox = kx * qx.len, oz = kz * qz.len, u = 1 / (v * v);
+    const sx = (u - qx.c[ox]) / qx.c[ox + 1], sz = (u - qz.c[oz]) / qz.c[oz + 1];
     return {
-      t: quadraticAt(c, o + 2, s) * quadraticAt(c, o + 2 + 3 * (1 + nw), s),
-      captured: Array.from({ length: nw }, (_, w) => quadraticAt(c, o + 5 + 3 * w, s) * quadraticAt(c, o + 5 + 3 * (1 + nw + w), s)),
+      t: quadraticAt(qx.c, ox + 2, sx) * quadraticAt(qz.c, oz + 2, sz),
+      captured: Array.from({ length: nw }, (_, w) => quadraticAt(qx.c, ox + 5 + 3 * w, sx) * quadraticAt(qz.c, oz + 5 + 3 * w, sz)),
     };
   };
-  return { pa, pb, direct, at };
+  const flags = (q: AxisQuadratics) => ({ pa: q.pa, direct: Array.from(q.direct, (d) => d === 1) });
+  return { kinks, x: flags(qx), z: flags(qz), at, direct: (v) => qx.direct[intervalOf(qx, v)] === 1 || qz.direct[intervalOf(qz, v)] === 1 };
 }
 
-// the polygon of one axis at a reading, and the intervals' quadratics and readings (reused from call to call, grown on
-// demand; every entry read is set first in the same call)
+// the polygon of one axis at a reading (grown on demand)
 let SAMPLE = new Float64Array(64);
-let IQ_C = new Float64Array(1024), IQ_DIRECT = new Uint8Array(64), IQ_ENDS = new Float64Array(256);
-
-/**
- * Each axis's transmitted fraction and each window's fraction along it at speed v, into out[o …] (x, then z); an axis
- * that is the same at every speed (fixed, and not deflected at the plane) is copied from the reading at out[from …]
- * when from ≥ 0.
- */
-function axisSamples(e: Evaluator, v: number, out: Float64Array, o: number, from: number): void {
-  const vv = v * v, ap = e.atPlane;
-  let dx = 0, dz = 0;
-  for (let i = 0; i < ap.num.length; i++) {
-    const d = ap.num[i] / vv;
-    dx += d * ap.nx[i];
-    dz += d * ap.nz[i];
-  }
-  const m = 1 + e.wins.length;
-  if (from >= 0 && e.constX) out.copyWithin(o, from, from + m);
-  else axisSample(e.px, v, dx, e.wins, true, out, o);
-  if (from >= 0 && e.constZ) out.copyWithin(o + m, from + m, from + 2 * m);
-  else axisSample(e.pz, v, dz, e.wins, false, out, o + m);
-}
 
 function axisSample(pl: AxisPlan, v: number, d: number, wins: readonly NodeWindow[], xAxis: boolean, out: Float64Array, o: number): void {
   let buf = pl.pre, n = pl.nPre;
@@ -570,8 +596,8 @@ function axisSample(pl: AxisPlan, v: number, d: number, wins: readonly NodeWindo
   }
 }
 
-/** Node n's transmitted fraction, each window's fraction and its deflection at the plane from interval k's quadratics. */
-function quadraticNode(e: Evaluator, n: number, p: IntervalQuadratics, k: number): void {
+/** Node n's transmitted fraction, each window's fraction and its deflection at the plane from intervals kx and kz of the axes' quadratics. */
+function quadraticNode(e: Evaluator, n: number, qx: AxisQuadratics, kx: number, qz: AxisQuadratics, kz: number): void {
   const nw = e.wins.length;
   if (NWD[n] === 0) {
     NT[n] = 0; NDX[n] = 0; NDZ[n] = 0;
@@ -586,9 +612,10 @@ function quadraticNode(e: Evaluator, n: number, p: IntervalQuadratics, k: number
     dz += d * ap.nz[i];
   }
   NDX[n] = dx; NDZ[n] = dz;
-  const c = p.c, o = k * p.len, s = (1 / vv - c[o]) / c[o + 1];
-  NT[n] = quadraticAt(c, o + 2, s) * quadraticAt(c, o + 2 + 3 * (1 + nw), s);
-  for (let w = 0; w < nw; w++) NCAP[n * nw + w] = quadraticAt(c, o + 5 + 3 * w, s) * quadraticAt(c, o + 5 + 3 * (1 + nw + w), s);
+  const cx = qx.c, ox = kx * qx.len, sx = (1 / vv - cx[ox]) / cx[ox + 1];
+  const cz = qz.c, oz = kz * qz.len, sz = (1 / vv - cz[oz]) / cz[oz + 1];
+  NT[n] = quadraticAt(cx, ox + 2, sx) * quadraticAt(cz, oz + 2, sz);
+  for (let w = 0; w < nw; w++) NCAP[n * nw + w] = quadraticAt(cx, ox + 5 + 3 * w, sx) * quadraticAt(cz, oz + 5 + 3 * w, sz);
 }
 
 /** The quadratic c[j] + c[j+1] s + c[j+2] s² kept within [0, 1] (a fraction of 0 or 1 can come out a rounding beyond). */
@@ -1122,21 +1149,22 @@ export function fineGeometry(f: FinePath, panels: number = 24, others: readonly 
  * a p + b q = h0 + h1 u with u = 1/v² (a strip moves with the deflection at its plane, a window with the deflection at the
  * plane), so where three meet is one linear equation in u.
  */
-function kinkSpeeds(e: Evaluator, lo: number, hi: number): number[] {
-  const out: number[] = [];
+function kinkSpeeds(e: Evaluator, lo: number, hi: number): { x: number[]; z: number[] } {
   const uLo = 1 / (hi * hi), uHi = lo > 0 ? 1 / (lo * lo) : Infinity;
   const ap = e.atPlane;
-  for (const pl of [e.px, e.pz]) {
-    const xAxis = pl === e.px;
+  const axis = (xAxis: boolean): number[] => {
+    const out: number[] = [];
+    const pl = xAxis ? e.px : e.pz;
     const cPlane = deflectNumerator(ap.num, xAxis ? ap.nx : ap.nz);
     // a window whose edges along this axis repeat an earlier one's has the same kinks there
     const same = xAxis ? e.sameX : e.sameZ;
     const wins = e.wins.filter((_, w) => same[w] < 0);
     const rows = axisRows(pl, wins, xAxis, cPlane);
     axisKinks(rows, 4 + 2 * pl.strips.count, wins.length, uLo, uHi, out);
-  }
-  for (let i = 0; i < out.length; i++) out[i] = 1 / Math.sqrt(out[i]);
-  return out;
+    for (let i = 0; i < out.length; i++) out[i] = 1 / Math.sqrt(out[i]);
+    return out;
+  };
+  return { x: axis(true), z: axis(false) };
 }
 
 /** Lines a p + b q ≤ h0 + h1 u of one axis: the collimator's rectangle, each strip (two), then each window (two). */
