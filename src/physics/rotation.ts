@@ -58,9 +58,20 @@ export function vecAdd(a: Vec3, b: Vec3): Vec3 {
 /** exp(−i α n̂·J) for any operator triple (a single spin or the total F of a composite space). */
 export function rotationOperator(ops: Pick<SpinOperators, 'jx' | 'jy' | 'jz'>, n: Vec3, alpha: number): CMat {
   const u = vecUnit(n);
-  const gen = spinAlong(ops, u);
-  return spectralFunction(eigh(gen), (l) => [Math.cos(alpha * l), -Math.sin(alpha * l)]);
+  // the generator's eigenvectors do not depend on the angle: found once per spin and axis (a scan of a roll angle asks
+  // for the same two axes at every point), the same numbers as found afresh
+  let byAxis = GENERATORS.get(ops);
+  if (!byAxis) GENERATORS.set(ops, (byAxis = new Map()));
+  const key = `${u.x},${u.y},${u.z}`;
+  let eg = byAxis.get(key);
+  if (!eg) {
+    eg = eigh(spinAlong(ops, u));
+    if (byAxis.size < 64) byAxis.set(key, eg);
+  }
+  return spectralFunction(eg, (l) => [Math.cos(alpha * l), -Math.sin(alpha * l)]);
 }
+
+const GENERATORS = new WeakMap<object, Map<string, ReturnType<typeof eigh>>>();
 
 /** Wigner small-d matrix d^j(β) in the basis m = +j … −j (row m′, column m). */
 export function wignerSmallD(j2: number, beta: number): CMat {

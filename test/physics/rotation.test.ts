@@ -3,7 +3,7 @@ import fc from 'fast-check';
 import { wignerSmallD, wignerSmallDFormula, wignerD, rotationOperator, rotationToAxis, axisFromRoll, axisFromAngles } from '../../src/physics/rotation.ts';
 import { spinOperators, spinAlong } from '../../src/physics/spin.ts';
 import { cmatGet, cmatMul, cmatDagger, cmatMaxAbsDiff, cmatColumn } from '../../src/physics/cmat.ts';
-import { unitarityError } from '../../src/physics/eigh.ts';
+import { eigh, spectralFunction, unitarityError } from '../../src/physics/eigh.ts';
 
 const d = (j2: number, mp2: number, m2: number, b: number) => {
   const M = wignerSmallD(j2, b);
@@ -110,6 +110,20 @@ describe('rotationOperator', () => {
       const s = j2 % 2 === 1 ? -1 : 1;
       for (let i = 0; i <= j2; i++) expect(R.re[i * (j2 + 1) + i]).toBeCloseTo(s, 12);
       expect(unitarityError(cmatMul(R, cmatDagger(R)))).toBeLessThan(1e-12);
+    }
+  });
+});
+
+describe('rotationOperator, its generator found once per spin and axis', () => {
+  it('gives at every angle the numbers of the generator diagonalised afresh, bit for bit', () => {
+    const ops = spinOperators(7);
+    for (const n of [{ x: 0, y: 1, z: 0 }, { x: 0, y: 0, z: 1 }, { x: 1, y: 0, z: 0 }]) {
+      for (const alpha of [0.1, 1.3, -2.2, 0.1]) {
+        const fresh = spectralFunction(eigh(spinAlong(ops, n)), (l) => [Math.cos(alpha * l), -Math.sin(alpha * l)]);
+        const got = rotationOperator(ops, n, alpha);
+        expect(Array.from(got.re)).toEqual(Array.from(fresh.re));
+        expect(Array.from(got.im)).toEqual(Array.from(fresh.im));
+      }
     }
   });
 });
