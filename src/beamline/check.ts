@@ -98,7 +98,8 @@ export function rereadBeamline(doc: BeamlineDoc, line: Beamline, species: LabelS
       }
     } else problems.push({ path: t, message: 'no quantity of the line is here' });
   }
-  if (!problems.length) checkFirstSlits(ctx, oven, elements);
+  // only a slit can fail the check of the first slits: a line without one passes it as it is
+  if (!problems.length && elements.some((e) => e.kind === 'slit')) checkFirstSlits(ctx, oven, elements);
   if (problems.length) return { ok: false, problems };
   return { ok: true, line: deepFreeze({ ...line, ambient, oven, elements }), warnings };
 }

@@ -141,12 +141,16 @@ export interface Bounds {
 
 /** Check a number against bounds; the message names the bound. */
 export function bounded(ctx: ReadCtx, n: number, p: string, what: string, b: Bounds, written?: unknown): number | undefined {
-  const got = typeof written === 'string' && written.trim() !== String(n) ? abbreviate(written.trim()) : String(n);
-  if (b.positive && !(n > 0)) return problem(ctx, p, `${what} must be positive, got ${got}`);
-  if (b.nonNegative && n < 0) return problem(ctx, p, `${what} must not be negative, got ${got}`);
-  if (b.unit && (n < 0 || n > 1)) return problem(ctx, p, `${what} must lie in [0, 1], got ${got}`);
-  if (b.range && !within(n, b.range)) return problem(ctx, p, `${what} must be ${b.range.text}, got ${got}`);
+  if (b.positive && !(n > 0)) return problem(ctx, p, `${what} must be positive, got ${gotText(n, written)}`);
+  if (b.nonNegative && n < 0) return problem(ctx, p, `${what} must not be negative, got ${gotText(n, written)}`);
+  if (b.unit && (n < 0 || n > 1)) return problem(ctx, p, `${what} must lie in [0, 1], got ${gotText(n, written)}`);
+  if (b.range && !within(n, b.range)) return problem(ctx, p, `${what} must be ${b.range.text}, got ${gotText(n, written)}`);
   return n;
+}
+
+/** What a refused quantity was, for its message: the text as written (abbreviated) where it is not the number itself. */
+function gotText(n: number, written: unknown): string {
+  return typeof written === 'string' && written.trim() !== String(n) ? abbreviate(written.trim()) : String(n);
 }
 
 /** A quantity of dimension `dim` at o[k], in SI. `fallback` is used when the key is absent (optional key). */

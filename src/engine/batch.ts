@@ -21,6 +21,7 @@
 import type { Beamline, Detector, Magnet } from '../beamline/types.ts';
 import { lengthOf } from '../beamline/elements/registry.ts';
 import type { CMat } from '../physics/cmat.ts';
+import { IdentityCache } from '../physics/cache.ts';
 import { countSigma, countsIn } from './counting.ts';
 import { roundOffFloor } from './detector-plane.ts';
 import { blocksSandwich } from './blocks.ts';
@@ -30,6 +31,7 @@ import type { EvaluationSession, RegionProbe } from './replay.ts';
 import type { RunResult } from './result.ts';
 import { driftCommutesWithSort, getSorting, portComponents, routeOf } from './sorting.ts';
 import type { SpecState } from './spectral.ts';
+import type { Component, Sorting } from './system.ts';
 import { hasGeometry, type FinePath } from './subbeam.ts';
 import type { WalkCtx } from './steps/step.ts';
 import type { ScanDetector, ScanLeaf, ScanPoint } from './scan.ts';
@@ -94,6 +96,12 @@ interface Template {
   /** Yields of each arrival's ports (scratch). */
   readonly vars: Float64Array;
   readonly stride: number;
+  /** Each detector's yield and signal as its leaves add them (scratch). */
+  readonly detYield: Float64Array;
+  readonly detSignal: Float64Array;
+  /** runLine's lost fraction as the balance invariant sums it, and as the result reports it. */
+  readonly lostTotal: number;
+  readonly lost: number;
 }
 
 /**
@@ -231,37 +239,42 @@ export class RowBatch {
         vars[a * stride + p] = y * arr.fraction;
       }
     }
-    // the detector plane without geometry (detector-plane.ts evaluateGeometry), in its order of sums
-    const leaves: ScanLeaf[] = new Array(t.leaves.length);
-    const nd = t.detectors.length;
-    const dets: ScanDetector[] = new Array(nd);
-    for (let k = 0; k < nd; k++) dets[k] = { id: t.detectors[k].id, yield: 0, rate: 0, signal: 0, counts: 0, sigma: 0 };
+    // the detector plane without geometry (detector-plane.ts evaluateGeometry), in its order of sums: each detector's
+    // yield and signal summed over its leaves in the leaves' order (scratch), its object made once they are known
+    const tl = t.leaves, nl = tl.length;
+    const leaves: ScanLeaf[] = new Array(nl);
+    const dy = t.detYield, ds = t.detSignal, nd = dy.length;
+    dy.fill(0);
+    ds.fill(0);
     let total = 0;
-    for (let i = 0; i < t.leaves.length; i++) {
-      const l = t.leaves[i];
+    for (let i = 0; i < nl; i++) {
+      const l = tl[i], parts = l.parts;
       let y = 0;
-      for (const part of l.parts) y += part.a < 0 ? part.c : vars[part.a * stride + part.p];
+      for (let k = 0; k < parts.length; k++) {
+        const part = parts[k];
+        y += part.a < 0 ? part.c : vars[part.a * stride + part.p];
+      }
       y = floorOf(y);
       const rate = t.flux * y * l.eff;
       leaves[i] = { path: l.path, target: l.target, yield: y, rate };
       if (l.det >= 0) {
-        const d = dets[l.det];
-        d.yield += y;
-        d.signal += rate;
+        dy[l.det] += y;
+        ds[l.det] += rate;
       }
       total += y;
     }
+    const dets: ScanDetector[] = new Array(nd);
     for (let k = 0; k < nd; k++) {
-      const d = dets[k], det = t.detectors[k];
-      d.rate = d.signal + det.background;
-      d.counts = countsOf(d.rate, det.dwell);
-      d.sigma = sigmaOf(d.counts);
-      if (!Number.isFinite(d.yield) || !Number.isFinite(d.rate) || !Number.isFinite(d.counts) || !Number.isFinite(d.sigma)) return null;
+      const det = t.detectors[k], yieldK = dy[k], signal = ds[k];
+      const rate = signal + det.background;
+      const counts = countsOf(rate, det.dwell);
+      const sigma = sigmaOf(counts);
+      if (!Number.isFinite(yieldK) || !Number.isFinite(rate) || !Number.isFinite(counts) || !Number.isFinite(sigma)) return null;
+      dets[k] = { id: det.id, yield: yieldK, rate, signal, counts, sigma };
     }
     // runLine's balance invariant: a point that fails it warns, and is run on its own
-    const lostTotal = t.lostSpin + 0;
-    if (!(Math.abs(total + lostTotal - 1) <= 1e-12)) return null;
-    const point: ScanPoint = { index, values, detectors: dets, leaves, lost: lostTotal < 0 && lostTotal > -1e-14 ? 0 : lostTotal };
+    if (!(Math.abs(total + t.lostTotal - 1) <= 1e-12)) return null;
+    const point: ScanPoint = { index, values, detectors: dets, leaves, lost: t.lost };
     if (t.warnings) point.warnings = t.warnings.slice();
     return point;
   }
@@ -300,20 +313,18 @@ function portsAt(v: ValueAt, ctx: WalkCtx, e: Magnet): readonly PortAt[] | null 
     const sorting = getSorting(probe, e);
     const drifts = e.gap > 0 && !ctx.ambientZero && !driftCommutesWithSort(probe, e);
     if (probe.warnings.size === 0 && !drifts) {
+      const packed = packedPorts(sorting);
       const out: PortAt[] = [];
-      for (const label of sorting.ports) {
-        const comps = portComponents(sorting, label);
-        const to = routeOf(e, comps[0]);
+      for (let p = 0; p < sorting.ports.length; p++) {
+        const label = sorting.ports[p];
+        const to = routeOf(e, packed.first[p]);
         if (to !== 'stop' && ctx.byId.get(to)?.kind !== 'detector') {
           out.length = 0;
           break;
         }
-        out.push({ label, to, pack: pack(comps.map((c) => c.vector)), single: comps.length === 1, rest: false });
+        out.push({ label, to, pack: packed.packs[p], single: packed.single[p], rest: packed.complete && p === sorting.ports.length - 1 });
       }
-      if (out.length === sorting.ports.length) {
-        if (out.length > 1 && complete(out.map((x) => x.pack))) out[out.length - 1] = { ...out[out.length - 1], rest: true };
-        ports = out;
-      }
+      if (out.length === sorting.ports.length) ports = out;
     }
   } catch {
     ports = null;
@@ -322,6 +333,30 @@ function portsAt(v: ValueAt, ctx: WalkCtx, e: Magnet): readonly PortAt[] | null 
   v.lastKey = key;
   v.lastPorts = ports;
   return ports;
+}
+
+/** A sorting's ports packed (pack), in its order of ports: the same for every line that sorts this way. */
+interface PackedPorts {
+  readonly packs: readonly Float64Array[];
+  /** The first state of each port (its route, steps/magnet.ts routeOf). */
+  readonly first: readonly Component[];
+  readonly single: readonly boolean[];
+  /** The projectors sum to the identity (complete): the last port's yield is Tr ρ̄ less the others'. */
+  readonly complete: boolean;
+}
+
+/** The packed ports of a sorting, kept with it (sorting.ts keeps a sorting per magnet setting across scans and plans). */
+const packedBySorting = new IdentityCache<Sorting, PackedPorts>('packed ports of a sorting');
+
+function packedPorts(sorting: Sorting): PackedPorts {
+  let p = packedBySorting.get(sorting);
+  if (!p) {
+    const comps = sorting.ports.map((label) => portComponents(sorting, label));
+    const packs = comps.map((cs) => pack(cs.map((c) => c.vector)));
+    p = { packs, first: comps.map((cs) => cs[0]), single: comps.map((cs) => cs.length === 1), complete: packs.length > 1 && complete(packs) };
+    packedBySorting.set(sorting, p);
+  }
+  return p;
 }
 
 /**
@@ -511,9 +546,12 @@ function buildTemplate(probe: RegionProbe, row: number, line: Beamline, value: V
   // a detector only blocked sub-beams reach (run.ts emptyDetector) is not formed here: such a row is not batched
   if (!point.detectors || point.detectors.length !== detectors.length || point.detectors.some((d, k) => d.id !== detectors[k].id)) return null;
   const lostSpin = probe.arrivals[0].ctx.lost.spin;
+  const lostTotal = lostSpin + 0;
   return {
     row, line, arrivals, ports, leaves, detectors, flux, lostSpin, warnings: point.warnings,
     vars: new Float64Array(arrivals.length * stride), stride,
+    detYield: new Float64Array(detectors.length), detSignal: new Float64Array(detectors.length),
+    lostTotal, lost: lostTotal < 0 && lostTotal > -1e-14 ? 0 : lostTotal,
   };
 }
 

@@ -181,23 +181,31 @@ export function runLine(line: Beamline, opts: RunOptions = {}): RunResult {
  * finite; should a number still not be, the run fails with a message naming the element instead of printing it.
  */
 function requireFinite(line: Beamline, leaves: readonly LeafResult[], detectors: readonly DetectorResult[], lost: number): void {
-  const where = (id: string) => {
-    const i = line.elements.findIndex((e) => e.id === id);
-    return i < 0 ? id : `elements[${i}] (${id})`;
-  };
-  const bad = (what: string, v: unknown) => typeof v === 'number' && !Number.isFinite(v) ? `${what} is ${v}` : null;
   for (const l of leaves) {
-    const target = l.target === 'stop' ? (l.path.at(-1)?.split(':')[0] ?? 'oven') : l.target;
-    const found = bad('the yield', l.yield) ?? bad('the rate', l.rate) ?? bad('the displacement', l.displacement?.x) ?? bad('the displacement', l.displacement?.z)
-      ?? bad('the spread', l.spread?.x) ?? bad('the spread', l.spread?.z) ?? bad('the captured fraction', l.captured);
-    if (found) throw new RunError(`${where(target)}: ${found} on the path ${l.path.join(' ') || '(oven)'}; the set-points give no finite result (check the speeds, fields and distances of this path)`);
+    const found = notFinite('the yield', l.yield) ?? notFinite('the rate', l.rate) ?? notFinite('the displacement', l.displacement?.x) ?? notFinite('the displacement', l.displacement?.z)
+      ?? notFinite('the spread', l.spread?.x) ?? notFinite('the spread', l.spread?.z) ?? notFinite('the captured fraction', l.captured);
+    if (found) {
+      const target = l.target === 'stop' ? (l.path.at(-1)?.split(':')[0] ?? 'oven') : l.target;
+      throw new RunError(`${elementAt(line, target)}: ${found} on the path ${l.path.join(' ') || '(oven)'}; the set-points give no finite result (check the speeds, fields and distances of this path)`);
+    }
   }
   for (const d of detectors) {
-    const found = bad('the yield', d.yield) ?? bad('the rate', d.rate) ?? bad('the counts', d.counts) ?? bad('σ', d.sigma)
-      ?? bad('S/B', d.signalToBackground) ?? bad('the time to precision', d.timeToPrecision.seconds);
-    if (found) throw new RunError(`${where(d.id)}: ${found}; the set-points give no finite result (check its efficiency, background and dwell, and the flux)`);
+    const found = notFinite('the yield', d.yield) ?? notFinite('the rate', d.rate) ?? notFinite('the counts', d.counts) ?? notFinite('σ', d.sigma)
+      ?? notFinite('S/B', d.signalToBackground) ?? notFinite('the time to precision', d.timeToPrecision.seconds);
+    if (found) throw new RunError(`${elementAt(line, d.id)}: ${found}; the set-points give no finite result (check its efficiency, background and dwell, and the flux)`);
   }
   if (!Number.isFinite(lost)) throw new RunError(`the lost fraction is ${lost}; the set-points give no finite result`);
+}
+
+/** An element named by its place in the line ("elements[2] (M2)"), or the id alone where no element has it. */
+function elementAt(line: Beamline, id: string): string {
+  const i = line.elements.findIndex((e) => e.id === id);
+  return i < 0 ? id : `elements[${i}] (${id})`;
+}
+
+/** "what is v" where v is a number that is not finite, else null. */
+function notFinite(what: string, v: unknown): string | null {
+  return typeof v === 'number' && !Number.isFinite(v) ? `${what} is ${v}` : null;
 }
 
 /** Leaves in the order of their branch indices (lexicographic; no leaf's indices begin another's). */

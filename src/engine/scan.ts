@@ -214,7 +214,7 @@ export function scan(plan: Plan, axes: readonly ScanAxis[], opts: RunOptions = {
     if (opts.isCancelled?.()) throw new CancelledError('scan: cancelled');
     const idx = indices[k];
     const row = two ? idx[0] : 0, j = idx[params.length - 1], o = two ? outer!.values[row] : undefined;
-    let p = batch ? batch.point(row, j, o, idx, params.map((q, m) => q.values[idx[m]])) : null;
+    let p = batch ? batch.point(row, j, o, idx, two ? [o!, inner.values[j]] : [inner.values[j]]) : null;
     if (!p) {
       if (batch?.trying(row)) {
         const probe = batch.arm();
