@@ -187,9 +187,10 @@ export function benchPlanning(root: string, opts: { quick?: boolean; only?: read
     const dir = mkdtempSync(join(tmpdir(), 'spinyard-bench-'));
     const hFile = join(dir, 'bench-h-tolerances.spinyard');
     writeFileSync(hFile, JSON.stringify(hDoc, null, 2));
+    // (the output to a file: a map's CSV is larger than spawnSync's buffer)
     const whole = (key: string, what: string, args: string[]) => item(key, `${what} (whole command, once; CPU: this process only)`, () => timed(() => {
-      const r = spawnSync(process.execPath, [bin, ...args]);
-      if (r.status !== 0) throw new Error(r.stderr.toString());
+      const r = spawnSync(process.execPath, [bin, ...args, '-o', join(dir, 'out.txt')]);
+      if (r.status !== 0) throw new Error(`${what}: ${r.error?.message ?? r.stderr.toString()}`);
     }));
     for (const w of [1, 2]) {
       whole('cli-map-h', `spinyard scan, bench H, M2.field × M2.axis.roll 100 × 100, --workers ${w}`, ['scan', hFile, '--param', 'M2.field', '--from', '5 mT', '--to', '50 mT',
