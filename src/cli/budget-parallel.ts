@@ -1,33 +1,20 @@
 /**
  * A tolerance budget spread over threads (`spinyard budget --workers N`): this thread finds what the budget evaluates
  * (engine/budget.ts budgetSetup: the set-points' signals, the values of every sensitivity step and Monte Carlo draw),
- * deals the evaluations out in contiguous blocks, evaluates the first block itself while N − 1 worker threads each
- * compile the document once and evaluate one of the others, and makes the budget from the outcomes in their order.
- * An evaluation's numbers are a function of the document and its values alone, so the budget is the same, bit for
- * bit, for any number of workers.
+ * the evaluations are cut into chunks in order and dealt out to this thread and N − 1 worker threads as each asks for
+ * more (workers.ts dealOut), each worker compiling the document once, and the budget is made from the outcomes in
+ * their order. An evaluation's numbers are a function of the document and its values alone, so the budget is the
+ * same, bit for bit, for any number of workers.
  */
-import { budgetOutcomes, budgetResult, RunError, type BudgetOutcome, type BudgetResult, type BudgetSetup, type Plan, type RunOptions } from '../engine/index.ts';
-import type { BudgetWorkerReply } from './budget-worker.ts';
-import { blocksOf, startWorker } from './workers.ts';
+import { budgetOutcomes, budgetResult, RunError, type BudgetResult, type BudgetSetup, type Plan, type RunOptions } from '../engine/index.ts';
+import { dealOut, startWorker } from './workers.ts';
 
 export async function budgetParallel(text: string, plan: Plan, setup: BudgetSetup, opts: RunOptions, workers: number): Promise<BudgetResult> {
-  const [first, ...rest] = blocksOf(setup.sets, workers);
-  const replies = rest.map((sets) => new Promise<BudgetWorkerReply>((resolve, reject) => {
-    const worker = startWorker('budget-worker', { text });
-    worker.once('message', (m: BudgetWorkerReply) => {
-      resolve(m);
-      void worker.terminate();
-    });
-    worker.once('error', reject);
-    worker.postMessage({ ids: setup.ids, sets });
-  }));
-  let done = 0;
-  const own = first ? budgetOutcomes(plan, setup.ids, first, opts, () => opts.onProgress?.(Math.min(0.99, ++done / first.length))) : [];
-  const outcomes: BudgetOutcome[] = [...own];
-  for (const r of await Promise.all(replies)) {
-    if (r.error) throw new RunError(r.error);
-    outcomes.push(...r.outcomes);
+  try {
+    const outcomes = await dealOut(setup.sets, workers, () => startWorker('budget-worker', { text, ids: setup.ids }),
+      (chunk) => budgetOutcomes(plan, setup.ids, chunk, opts), opts.onProgress && ((done) => opts.onProgress!(done / setup.sets.length)));
+    return budgetResult(plan, setup, outcomes);
+  } catch (e) {
+    throw e instanceof RunError ? e : new RunError((e as Error).message);
   }
-  opts.onProgress?.(1);
-  return budgetResult(plan, setup, outcomes);
 }

@@ -1,24 +1,23 @@
 /**
  * A worker thread of `spinyard budget --workers N` (budget-parallel.ts): compiles the document it is given once and
- * evaluates the block of the budget's evaluations it is sent, in order, returning their outcomes.
+ * evaluates the chunks of the budget's evaluations it is sent, in order, returning their outcomes.
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { budgetOutcomes, compile, type BudgetOutcome } from '../engine/index.ts';
+import type { ChunkJob, ChunkReply } from './workers.ts';
 
-export interface BudgetWorkerData { text: string }
-export interface BudgetWorkerJob { ids: string[]; sets: Record<string, number>[] }
-export interface BudgetWorkerReply { outcomes: BudgetOutcome[]; error?: string }
+export interface BudgetWorkerData { text: string; ids: string[] }
 
-const { text } = workerData as BudgetWorkerData;
+const { text, ids } = workerData as BudgetWorkerData;
 const c = compile(text);
-parentPort!.on('message', (job: BudgetWorkerJob) => {
+parentPort!.on('message', (job: ChunkJob<Record<string, number>>) => {
   if (!c.ok) {
-    parentPort!.postMessage({ outcomes: [], error: c.problems.join('\n') } satisfies BudgetWorkerReply);
+    parentPort!.postMessage({ id: job.id, results: [], error: c.problems.join('\n') } satisfies ChunkReply<BudgetOutcome>);
     return;
   }
   try {
-    parentPort!.postMessage({ outcomes: budgetOutcomes(c.plan, job.ids, job.sets, { acceptCost: true }) } satisfies BudgetWorkerReply);
+    parentPort!.postMessage({ id: job.id, results: budgetOutcomes(c.plan, ids, job.items, { acceptCost: true }) } satisfies ChunkReply<BudgetOutcome>);
   } catch (e) {
-    parentPort!.postMessage({ outcomes: [], error: (e as Error).message } satisfies BudgetWorkerReply);
+    parentPort!.postMessage({ id: job.id, results: [], error: (e as Error).message } satisfies ChunkReply<BudgetOutcome>);
   }
 });

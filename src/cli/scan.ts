@@ -136,7 +136,7 @@ function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options
   if (workers > 1 && text !== undefined && !scanBatches(plan, axes)) {
     return { code: 0, stdout: '', stderr: '', job: async () => {
       try {
-        return deliverScan(await scanParallel(text, axes, workers), file, options);
+        return deliverScan(await scanParallel(text, axes, workers, progressOf('scan')), file, options);
       } catch (e) {
         if (e instanceof RunError) return err(e.message);
         throw e;

@@ -19,9 +19,64 @@ export function startWorker(name: 'scan-worker' | 'budget-worker', workerData: u
   return new Worker(boot, { eval: true, workerData });
 }
 
-/** Contiguous blocks of `items` for at most `workers` workers (none empty). */
-export function blocksOf<T>(items: readonly T[], workers: number): T[][] {
-  const n = Math.max(1, Math.min(workers, items.length));
-  const size = Math.ceil(items.length / n);
-  return Array.from({ length: n }, (_, w) => items.slice(w * size, (w + 1) * size)).filter((b) => b.length);
+/** A chunk of work sent to a worker, and its answer: the results of its items in order, or why it failed. */
+export interface ChunkJob<T> { id: number; items: T[] }
+export interface ChunkReply<R> { id: number; results: R[]; error?: string }
+
+/**
+ * The results of `items`, in their order, from this thread and `workers − 1` worker threads together: the items are
+ * cut into chunks in order, each worker is sent the next chunk as soon as it answers the last, and this thread
+ * evaluates chunks itself (`own`) between looking at the workers' answers. Which thread evaluated a chunk does not
+ * show in the results, since each result is a function of its item alone.
+ */
+export async function dealOut<T, R>(items: readonly T[], workers: number, start: () => Worker, own: (chunk: T[]) => R[], onDone?: (done: number) => void): Promise<R[]> {
+  const n = items.length;
+  // small enough that the threads finish together, large enough that a message carries some work
+  const size = Math.max(1, Math.min(250, Math.ceil(n / (8 * Math.max(1, workers)))));
+  const chunks: T[][] = [];
+  for (let i = 0; i < n; i += size) chunks.push(items.slice(i, i + size));
+  const results: R[][] = new Array(chunks.length);
+  let next = 0, done = 0, failed: Error | null = null;
+  const finished = () => onDone?.(done);
+  const pool = Array.from({ length: Math.max(0, Math.min(workers - 1, chunks.length - 1)) }, () => start());
+  const running = pool.map((w) => new Promise<void>((resolve) => {
+    const send = () => {
+      if (failed || next >= chunks.length) {
+        void w.terminate();
+        resolve();
+        return;
+      }
+      const id = next++;
+      w.postMessage({ id, items: chunks[id] } satisfies ChunkJob<T>);
+    };
+    w.on('message', (m: ChunkReply<R>) => {
+      if (m.error) failed ??= new Error(m.error);
+      else {
+        results[m.id] = m.results;
+        done += m.results.length;
+        finished();
+      }
+      send();
+    });
+    w.once('error', (e) => {
+      failed ??= e;
+      resolve();
+    });
+    send();
+  }));
+  // this thread takes chunks too, and between two of them lets the workers' answers in
+  try {
+    while (!failed && next < chunks.length) {
+      const id = next++;
+      results[id] = own(chunks[id]);
+      done += results[id].length;
+      finished();
+      await new Promise<void>((r) => setImmediate(r));
+    }
+  } catch (e) {
+    failed ??= e as Error;
+  }
+  await Promise.all(running);
+  if (failed) throw failed;
+  return results.flat();
 }
