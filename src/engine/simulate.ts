@@ -565,6 +565,7 @@ function followAtoms(pr: Prepared, wk: BlockWork, st: Int32Array, j0: number, j1
   const sysOf = wk.sysOf, probs = wk.probs, negative = wk.negative;
   const invV2 = wk.invV2, hitDet = wk.hitDet, hitN = wk.hitN, hitX = wk.hitX, hitZ = wk.hitZ;
   hitN.fill(0);
+  hitDet.fill(-1);
   const sysStart = pr.sysStart, sysPaths = pr.sysPaths, sysStatic = pr.sysStatic, cum31 = pr.cum31;
   const geo = pr.geo, flags = pr.flags;
   let lost = 0;
@@ -588,7 +589,6 @@ function followAtoms(pr: Prepared, wk: BlockWork, st: Int32Array, j0: number, j1
       x = Math.imul(s1, 5); t = s1 << 9;
       const w4 = Math.imul((x << 7) | (x >>> 25), 9) >>> 0;
       s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= t; s3 = (s3 << 11) | (s3 >>> 21);
-      hitDet[j - j0] = -1;
       const k = sysOf[j], q0 = sysStart[k], q1 = sysStart[k + 1];
       let p = -1;
       if (sysStatic[k] === 1) {
