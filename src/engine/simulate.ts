@@ -569,6 +569,9 @@ function followAtoms(pr: Prepared, wk: BlockWork, st: Int32Array, j0: number, j1
   const sysStart = pr.sysStart, sysPaths = pr.sysPaths, sysStatic = pr.sysStatic, cum31 = pr.cum31;
   const geo = pr.geo, flags = pr.flags;
   let lost = 0;
+  // the atom's isotope and its paths sysPaths[q0 … q1) (read per atom only where the line has more than one isotope)
+  const multi = pr.nSys > 1;
+  let k = 0, q0 = sysStart[0], q1 = sysStart[1];
   let s0 = st[0], s1 = st[1], s2 = st[2], s3 = st[3];
   for (let i0 = j0; i0 < j1; i0 += 256) {
     const i1 = Math.min(j1, i0 + 256);
@@ -589,7 +592,11 @@ function followAtoms(pr: Prepared, wk: BlockWork, st: Int32Array, j0: number, j1
       x = Math.imul(s1, 5); t = s1 << 9;
       const w4 = Math.imul((x << 7) | (x >>> 25), 9) >>> 0;
       s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= t; s3 = (s3 << 11) | (s3 >>> 21);
-      const k = sysOf[j], q0 = sysStart[k], q1 = sysStart[k + 1];
+      if (multi) {
+        k = sysOf[j];
+        q0 = sysStart[k];
+        q1 = sysStart[k + 1];
+      }
       let p = -1;
       if (sysStatic[k] === 1) {
         // the top 31 bits w of the word against the running sums T: the number of T ≤ w, counted from the sign of
