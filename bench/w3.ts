@@ -5,12 +5,15 @@
  * the largest |mean z − analytic|/SE over the two ports as the peer defines it, and the χ² of the 2 × 202
  * (port, cell) counts against w3-expected.json (cells expecting ≥ 5 counts, the rest pooled).
  *
- * Three ways, each timed as the best of 3 (wall and the process's CPU time, all threads) and each including the
- * harness's own histogram and sums, as the peer's time includes its own: `simulate` with a callback per hit (as
- * `spinyard simulate --hits` takes them); `simulation` in one thread, the histogram from the tally's hits; and the
- * same with the blocks split between this thread and a worker thread (bench/w3-worker.ts), each making its own
- * simulation of the line. The three must give the same histogram to the count; the seconds printed last are the
- * one-thread `simulation`'s.
+ * Four ways, each timed as the best of 3 (wall and the process's CPU time, all threads) and each including the
+ * harness's own histogram and sums (typed arrays), as the peer's time includes its own: `simulate` with a callback
+ * per hit (as `spinyard simulate --hits` takes them); `simulation` in one thread, the histogram from the tally's
+ * hits (the whole result, hit maps included); the same without hit maps, the hits histogrammed as each sub-block of
+ * atoms hands them out (`maps: false`, `onHits`: what the workload asks for, counts, histograms and moments, and
+ * nothing more, as the peer computes it); and the whole result with the blocks split between this thread and a
+ * worker thread (bench/w3-worker.ts), each making its own simulation of the line. The four must give the same
+ * histogram to the count; the seconds printed last are the one-thread run's without maps (the ratio line gives
+ * both one-thread figures).
  */
 import { readFileSync, writeFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
@@ -34,35 +37,28 @@ export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean
   const edges = expected.bin_edges_m;
   const lo = edges[0], hi = edges[edges.length - 1], nb = edges.length - 1;
   const port = (d: string) => (d === 'DP' ? 0 : 1);
+  // each port's cells (underflow, nb bins, overflow) and its Σz, Σz², n in typed arrays, as the peer keeps its own
+  const cells = [new Float64Array(nb + 2), new Float64Array(nb + 2)];
+  const acc = [new Float64Array(3), new Float64Array(3)];
+  const scale = nb / (hi - lo);
   let hist: number[][] = [];
-  let sum = [0, 0], sum2 = [0, 0], count = [0, 0];
   const reset = () => {
-    hist = [new Array(nb + 2).fill(0), new Array(nb + 2).fill(0)];
-    sum = [0, 0];
-    sum2 = [0, 0];
-    count = [0, 0];
+    cells.forEach((c) => c.fill(0));
+    acc.forEach((a) => a.fill(0));
   };
   const add = (p: number, z: number) => {
-    sum[p] += z;
-    sum2[p] += z * z;
-    count[p]++;
-    hist[p][cellOf(z, lo, hi, nb)]++;
+    const a = acc[p];
+    a[0] += z;
+    a[1] += z * z;
+    a[2]++;
+    cells[p][cellOf(z, lo, hi, nb, scale)]++;
   };
   // from the tallies: each chunk of hits in a loop of its own (the same cells and sums, in the same order, as add)
-  const acc = new Float64Array(3);
   const addTallies = (ids: string[], tallies: SimulationTally[]) => {
     for (const t of [...tallies].sort((a, b) => a.first - b.first)) {
       t.hits.forEach((h, d) => {
         const p = port(ids[d]);
-        const cells = new Float64Array(nb + 2);
-        acc[0] = sum[p];
-        acc[1] = sum2[p];
-        acc[2] = count[p];
-        for (const chunk of h.z) histogramChunk(chunk, cells, acc, lo, hi, nb);
-        sum[p] = acc[0];
-        sum2[p] = acc[1];
-        count[p] = acc[2];
-        cells.forEach((c, k) => (hist[p][k] += c));
+        for (const chunk of h.z) histogramChunk(chunk, 0, chunk.length, cells[p], acc[p], lo, hi, nb, scale);
       });
     }
   };
@@ -77,6 +73,16 @@ export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean
       const t = s.run(0, s.blocks);
       const r = s.finish([t]);
       addTallies(r.detectors.map((d) => d.id), [t]);
+    },
+    // what the workload asks for and no more: counts, histograms and moments, the hits taken as each sub-block gives
+    // them (no hit maps, no hits kept)
+    'simulation, one thread, no maps': () => {
+      reset();
+      const s = simulation(c.plan, {
+        atoms, seed: 7, maps: false,
+        onHits: (d, _x, z, from, n) => histogramChunk(z, from, from + n, cells[port(d)], acc[port(d)], lo, hi, nb, scale),
+      });
+      s.finish([s.run(0, s.blocks)]);
     },
   };
   // the second thread: started once (as a host keeps its pool), waited for through a shared flag
@@ -97,7 +103,7 @@ export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean
   }
   const timings: string[] = [];
   const hists: string[] = [];
-  let best = Infinity;
+  let best = Infinity, withMaps = Infinity;
   for (const [name, run] of Object.entries(ways)) {
     run();
     let wall = Infinity, cpu = Infinity;
@@ -108,14 +114,17 @@ export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean
       wall = Math.min(wall, (performance.now() - t0) / 1000);
       cpu = Math.min(cpu, (d.user + d.system) / 1e6);
     }
+    hist = cells.map((c) => Array.from(c));
     hists.push(JSON.stringify(hist));
     timings.push(`W3 ${name}: ${wall.toFixed(4)} s (CPU ${cpu.toFixed(4)} s), best of 3`);
-    if (name === 'simulation, one thread') best = wall;
+    if (name === 'simulation, one thread') withMaps = wall;
+    if (name === 'simulation, one thread, no maps') best = wall;
   }
   worker?.stop();
   if (hists.some((h) => h !== hists[0])) throw new Error('W3: the ways of running gave different histograms');
-  const mean = sum.map((s, p) => s / count[p]);
-  const se = sum2.map((s2, p) => Math.sqrt((s2 / count[p] - mean[p] ** 2) / count[p]));
+  const count = acc.map((a) => a[2]);
+  const mean = acc.map((a) => a[0] / a[2]);
+  const se = acc.map((a, p) => Math.sqrt((a[1] / a[2] - mean[p] ** 2) / a[2]));
   const portIndex = (name: string) => expected.ports.indexOf(name);
   const order = [portIndex('+1/2'), portIndex('-1/2')];
   const x = Math.max(...[0, 1].map((p) => Math.abs(mean[p] - expected.mean_z_m[order[p]]) / se[p]));
@@ -147,7 +156,7 @@ export function benchW3(peersDir: string, jsonOut: string | null, peers: boolean
     const line = (r.stdout ?? '').trim().split('\n').pop() ?? '';
     out.push(r.status === 0 ? line : `W3 numpy peer did not run: ${(r.stderr ?? '').trim().split('\n').pop()}`);
     const m = /seconds=([\d.]+)/.exec(line);
-    if (m) out.push(`W3 ratio numpy/spinyard = ${(Number(m[1]) / best).toFixed(2)} (one thread)`);
+    if (m) out.push(`W3 ratio numpy/spinyard = ${(Number(m[1]) / best).toFixed(2)} (one thread, no maps; ${(Number(m[1]) / withMaps).toFixed(2)} with the hit maps)`);
   }
   out.push(`W3 spinyard points=${atoms} seconds=${best.toFixed(4)} maxdiff_vs_expected=${x.toFixed(3)}`);
   return out.join('\n');
@@ -176,24 +185,24 @@ function startWorker(data: { doc: unknown; atoms: number; seed: number }): { por
   }
 }
 
-/** The cell of z: 0 below lo, nb + 1 at or above hi, else 1 + ⌊(z − lo)·nb/(hi − lo)⌋ (at most nb). */
-function cellOf(z: number, lo: number, hi: number, nb: number): number {
+/** The cell of z: 0 below lo, nb + 1 at or above hi, else 1 + ⌊(z − lo)·scale⌋ (at most nb), scale = nb/(hi − lo). */
+function cellOf(z: number, lo: number, hi: number, nb: number, scale: number): number {
   if (z < lo) return 0;
   if (z >= hi) return nb + 1;
-  const k = ((z - lo) * (nb / (hi - lo))) | 0;
+  const k = ((z - lo) * scale) | 0;
   return 1 + (k < nb - 1 ? k : nb - 1);
 }
 
-/** W3's cells (underflow, nb bins on [lo, hi), overflow) and the sums Σz, Σz², n of one chunk of hits, as the hit callback counts them. */
-function histogramChunk(z: Float64Array, cells: Float64Array, acc: Float64Array, lo: number, hi: number, nb: number): void {
+/** W3's cells (underflow, nb bins on [lo, hi), overflow) and the sums Σz, Σz², n of the hits z[from … end), as the hit callback counts them. */
+function histogramChunk(z: Float64Array, from: number, end: number, cells: Float64Array, acc: Float64Array, lo: number, hi: number, nb: number, scale: number): void {
   let s = acc[0], s2 = acc[1];
-  for (let i = 0; i < z.length; i++) {
+  for (let i = from; i < end; i++) {
     const v = z[i];
     s += v;
     s2 += v * v;
-    cells[cellOf(v, lo, hi, nb)]++;
+    cells[cellOf(v, lo, hi, nb, scale)]++;
   }
   acc[0] = s;
   acc[1] = s2;
-  acc[2] += z.length;
+  acc[2] += end - from;
 }

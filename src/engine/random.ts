@@ -68,6 +68,15 @@ export class Random {
     return [st[0] >>> 0, st[1] >>> 0, st[2] >>> 0, st[3] >>> 0];
   }
 
+  /**
+   * The state itself, four 32-bit words as signed integers, for a loop that steps the generator inline as fillWords
+   * does (the same words in the same order): it reads the words first and writes them back before anything else
+   * draws from this generator.
+   */
+  stateWords(): Int32Array {
+    return this.s;
+  }
+
   /** A copy in the same state (its spare normal not kept). */
   clone(): Random {
     const st = this.s;

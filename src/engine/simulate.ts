@@ -30,6 +30,18 @@ export interface SimulateOptions extends RunOptions {
   bins?: number;
   /** Receives every atom that reaches a detector inside its window: the detector, x and z on its plane (m) and its speed. */
   onHit?: (detector: string, x: number, z: number, speed: number) => void;
+  /**
+   * Whether each detector gets its hit map (default true). Without maps the tallies keep no hits' positions (their
+   * x and z lists empty), only each sub-block's statistics: every other number of the result is the same, for a host
+   * that needs the hits' counts and moments (and takes the hits themselves through onHits) without storing them.
+   */
+  maps?: boolean;
+  /**
+   * Receives each sub-block's hits on a detector inside its window, in the atoms' order: x[from … from + n) and
+   * z[from … from + n) on its plane (m), arrays the run reuses after the call. Within one `run` of a simulation
+   * the hits arrive in the atoms' order; each thread's run hands out its own blocks' hits.
+   */
+  onHits?: (detector: string, x: Float64Array, z: Float64Array, from: number, n: number) => void;
   /** Receives the engine's run of the line the atoms follow (a light run, as evaluate makes it): its signals and profiles to set beside the simulated ones. */
   onRun?: (run: RunResult) => void;
 }
@@ -157,8 +169,6 @@ function speedOf(s: SpeedSampler, rng: Random, r1: number, r2: number): number {
 
 /** Atoms per block. Each block draws from a stream of its own (below); above 8,192 so that average.ts keeps no table of a block's speeds. */
 const BLOCK = 16_384;
-/** Words drawn per atom for its path and its two transverse points. */
-const ATOM_WORDS = 5;
 /** Atoms whose path and transverse words are drawn and followed at a time (their words stay in the nearest caches). */
 const SUB = 2048;
 
@@ -328,13 +338,20 @@ class Prepared {
 class HitStore {
   n = 0;
   fill = 0;
-  cx = new Float64Array(1024);
-  cz = new Float64Array(1024);
-  readonly xs: Float64Array[] = [this.cx];
-  readonly zs: Float64Array[] = [this.cz];
+  cx: Float64Array;
+  cz: Float64Array;
+  readonly xs: Float64Array[];
+  readonly zs: Float64Array[];
   /** Per sub-block with hits: STATS numbers (subStats), in the atoms' order. */
   stats = new Float64Array(16 * STATS);
   nStats = 0;
+  /** Whether the hits' positions are kept (else only their count and statistics). */
+  constructor(readonly keep: boolean) {
+    this.cx = new Float64Array(keep ? 1024 : 0);
+    this.cz = new Float64Array(keep ? 1024 : 0);
+    this.xs = [this.cx];
+    this.zs = [this.cz];
+  }
   grow(): void {
     const size = Math.min(2 * this.cx.length, 65_536);
     this.xs[this.xs.length - 1] = this.cx.subarray(0, this.fill);
@@ -367,11 +384,13 @@ class HitStore {
     }
     subStats(x, z, from, n, this.stats, this.nStats++ * STATS);
   }
-  /** The chunks, the last cut to its hits. */
+  /** The chunks, the last cut to its hits (none where the positions are not kept). */
   done(): { n: number; x: Float64Array[]; z: Float64Array[]; stats: Float64Array } {
+    const stats = this.stats.slice(0, this.nStats * STATS);
+    if (!this.keep) return { n: this.n, x: [], z: [], stats };
     this.xs[this.xs.length - 1] = this.cx.subarray(0, this.fill);
     this.zs[this.zs.length - 1] = this.cz.subarray(0, this.fill);
-    return { n: this.n, x: this.xs, z: this.zs, stats: this.stats.slice(0, this.nStats * STATS) };
+    return { n: this.n, x: this.xs, z: this.zs, stats };
   }
 }
 
@@ -398,9 +417,8 @@ export interface SimulationTally {
 
 /** The work arrays of one block, reused from block to block. */
 class BlockWork {
-  /** The block's isotope and speed words, then a sub-block's path and transverse words. */
+  /** The block's isotope and speed words (where fillWords draws them), or the kept words of the atoms the ziggurat's common case rejects. */
   readonly words = new Int32Array(2 * BLOCK);
-  readonly atomWords = new Int32Array(ATOM_WORDS * SUB);
   readonly sysOf = new Int32Array(BLOCK);
   readonly speeds = new Float64Array(BLOCK);
   readonly invV2 = new Float64Array(BLOCK);
@@ -438,20 +456,21 @@ function drawSpeeds(pr: Prepared, rng: Random, wk: BlockWork, nb: number, withSp
       sysOf[j] = k;
     }
   } else sysOf.fill(0, 0, nb);
-  rng.fillWords(words, 2 * nb);
   const s0 = pr.samplers[0];
   if (nSys === 1 && s0.kind === EFFUSIVE) {
-    // the common case in a loop of its own: v = a √(E₁ + E₂), 1/v² = 1/(a² (E₁ + E₂))
+    // the common case in a loop of its own, its two words an atom drawn inline (fillWords' words, in its order):
+    // v = a √(E₁ + E₂), 1/v² = 1/(a² (E₁ + E₂)); the atoms with a word outside the common case keep their words
     const a = s0.value, rejected = wk.chosen;
-    const nr = effusiveSpeeds(words, speeds, invV2, rejected, nb, a, withSpeeds);
+    const nr = effusiveSpeeds(rng.stateWords(), words, speeds, invV2, rejected, nb, a, withSpeeds, ZIG_K, ZIG_W);
     for (let t = 0; t < nr; t++) {
       const j = rejected[t];
-      const g = exponentialOf(rng, words[2 * j]) + exponentialOf(rng, words[2 * j + 1]);
+      const g = exponentialOf(rng, words[2 * t]) + exponentialOf(rng, words[2 * t + 1]);
       speeds[j] = a * Math.sqrt(g);
       invV2[j] = 1 / (a * a * g);
     }
     return;
   }
+  rng.fillWords(words, 2 * nb);
   const samplers = pr.samplers;
   for (let j = 0; j < nb; j++) {
     const v = speedOf(samplers[sysOf[j]], rng, words[2 * j], words[2 * j + 1]);
@@ -461,23 +480,41 @@ function drawSpeeds(pr: Prepared, rng: Random, wk: BlockWork, nb: number, withSp
 }
 
 /**
- * Effusive speeds v = a √(E₁ + E₂) and 1/v² from two words an atom where both fall in the ziggurat's common case
- * (inside their layers' rectangles: random.ts exponentialOf), tested here; returns how many atoms have a word outside
- * and lists them in `rejected`, for the caller to draw in their order (a call's result in this loop would have every
- * exponential boxed). Nothing follows the loop but the return: a loop compiled while it runs (on stack) without having
- * seen the code after it gives up there at every later call.
+ * Effusive speeds v = a √(E₁ + E₂) and 1/v² from two words an atom, drawn here from the generator's state `st` (as
+ * fillWords draws them, written back every 256 atoms), where both fall in the ziggurat's common case (inside their
+ * layers' rectangles: random.ts exponentialOf); returns how many atoms have a word outside, lists them in `rejected`
+ * and their two words in `kept` (2t, 2t + 1 for the t-th), for the caller to draw in their order (a call's result in
+ * this loop would have every exponential boxed). The tables come as arguments: read through the module's import
+ * they cost a load of the binding each. Nothing follows the outer loop but the return: a loop compiled while it runs
+ * (on stack) without having seen the code after it gives up there at every later call.
  */
-function effusiveSpeeds(words: Int32Array, speeds: Float64Array, invV2: Float64Array, rejected: Int32Array, nb: number, a: number, withSpeeds: boolean): number {
+function effusiveSpeeds(st: Int32Array, kept: Int32Array, speeds: Float64Array, invV2: Float64Array, rejected: Int32Array, nb: number, a: number, withSpeeds: boolean, zk: Uint32Array, zw: Float64Array): number {
   const a2 = a * a;
   let nr = 0;
-  for (let j = 0; j < nb; j++) {
-    const r1 = words[2 * j], r2 = words[2 * j + 1];
-    const i1 = r1 & 255, k1 = r1 >>> 8, i2 = r2 & 255, k2 = r2 >>> 8;
-    if (k1 < ZIG_K[i1] && k2 < ZIG_K[i2]) {
-      const g = k1 * ZIG_W[i1] + k2 * ZIG_W[i2];
-      if (withSpeeds) speeds[j] = a * Math.sqrt(g);
-      invV2[j] = 1 / (a2 * g);
-    } else rejected[nr++] = j;
+  let s0 = st[0], s1 = st[1], s2 = st[2], s3 = st[3];
+  for (let j0 = 0; j0 < nb; j0 += 256) {
+    const j1 = Math.min(nb, j0 + 256);
+    for (let j = j0; j < j1; j++) {
+      // two steps of xoshiro128** (random.ts fillWords)
+      let x = Math.imul(s1, 5), t = s1 << 9;
+      const r1 = Math.imul((x << 7) | (x >>> 25), 9);
+      s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= t; s3 = (s3 << 11) | (s3 >>> 21);
+      x = Math.imul(s1, 5);
+      t = s1 << 9;
+      const r2 = Math.imul((x << 7) | (x >>> 25), 9);
+      s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= t; s3 = (s3 << 11) | (s3 >>> 21);
+      const i1 = r1 & 255, k1 = r1 >>> 8, i2 = r2 & 255, k2 = r2 >>> 8;
+      if (k1 < zk[i1] && k2 < zk[i2]) {
+        const g = k1 * zw[i1] + k2 * zw[i2];
+        if (withSpeeds) speeds[j] = a * Math.sqrt(g);
+        invV2[j] = 1 / (a2 * g);
+      } else {
+        kept[2 * nr] = r1;
+        kept[2 * nr + 1] = r2;
+        rejected[nr++] = j;
+      }
+    }
+    st[0] = s0; st[1] = s1; st[2] = s2; st[3] = s3;
   }
   return nr;
 }
@@ -516,65 +553,92 @@ function pathProbabilities(pr: Prepared, wk: BlockWork, nb: number): void {
 }
 
 /**
- * Each atom of the sub-block j0 … j1 − 1: its path by the Born rule at its speed from its first word (none: absorbed
- * in the spin operations), then its straight line from its start point (words 2 and 3) to its point in the path's
- * first slit (words 4 and 5), deflected by num/v² at each plane: clipped at the path's strips and its window, or a
- * hit on its detector's plane (hitDet; the hit's x and z in its detector's part of hitX, hitZ). Returns the atoms absorbed; the clipped are
- * counted in wk.clipped. (The hot functions return their counts rather than write them to an object after their
- * loops: see effusiveSpeeds.)
+ * Each atom of the sub-block j0 … j1 − 1: its five words drawn here from the generator's state `st` (as fillWords
+ * draws them, in the atoms' order, the state written back every 256 atoms); its path by the Born rule at its speed
+ * from its first word (none: absorbed in the spin operations), then its straight line from its start point (words 2
+ * and 3) to its point in the path's first slit (words 4 and 5), deflected by num/v² at each plane: clipped at the
+ * path's strips and its window, or a hit on its detector's plane (hitDet; the hit's x and z in its detector's part of
+ * hitX, hitZ). Returns the atoms absorbed; the clipped are counted in wk.clipped. (The hot functions return their
+ * counts rather than write them to an object after their loops: see effusiveSpeeds.)
  */
-function followAtoms(pr: Prepared, wk: BlockWork, j0: number, j1: number, pathAtoms: Float64Array, pathClipped: Float64Array): number {
-  const words = wk.atomWords, sysOf = wk.sysOf, probs = wk.probs, negative = wk.negative;
+function followAtoms(pr: Prepared, wk: BlockWork, st: Int32Array, j0: number, j1: number, pathAtoms: Float64Array, pathClipped: Float64Array): number {
+  const sysOf = wk.sysOf, probs = wk.probs, negative = wk.negative;
   const invV2 = wk.invV2, hitDet = wk.hitDet, hitN = wk.hitN, hitX = wk.hitX, hitZ = wk.hitZ;
   hitN.fill(0);
+  hitDet.fill(-1);
   const sysStart = pr.sysStart, sysPaths = pr.sysPaths, sysStatic = pr.sysStatic, cum31 = pr.cum31;
   const geo = pr.geo, flags = pr.flags;
   let lost = 0;
-  for (let j = j0; j < j1; j++) {
-    hitDet[j - j0] = -1;
-    const o = ATOM_WORDS * (j - j0);
-    const k = sysOf[j], q0 = sysStart[k], q1 = sysStart[k + 1];
-    let p = -1;
-    if (sysStatic[k] === 1) {
-      // the top 31 bits w of the word against the running sums T: the number of T ≤ w, counted from the sign of
-      // T − 1 − w (no branch on the word, which would be mispredicted about as often as the paths are near equal)
-      const w = words[o] >>> 1;
-      let q = q0;
-      for (let t = q0; t < q1; t++) q += (cum31[t] - 1 - w) >>> 31;
-      if (q < q1) p = sysPaths[q];
-    } else {
-      let left = (words[o] >>> 0) * U32;
-      for (let q = q0; q < q1; q++) {
-        const i = sysPaths[q], pq = probs[i][j];
-        if (pq < 0 && pq < negative[0]) negative[0] = pq;
-        left -= pq > 0 ? pq : 0;
-        if (left < 0) {
-          p = i;
-          break;
+  // the atom's isotope and its paths sysPaths[q0 … q1) (read per atom only where the line has more than one isotope)
+  const multi = pr.nSys > 1;
+  let k = 0, q0 = sysStart[0], q1 = sysStart[1];
+  let s0 = st[0], s1 = st[1], s2 = st[2], s3 = st[3];
+  for (let i0 = j0; i0 < j1; i0 += 256) {
+    const i1 = Math.min(j1, i0 + 256);
+    for (let j = i0; j < i1; j++) {
+      // five steps of xoshiro128** (random.ts fillWords)
+      let x = Math.imul(s1, 5), t = s1 << 9;
+      const w0 = Math.imul((x << 7) | (x >>> 25), 9);
+      s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= t; s3 = (s3 << 11) | (s3 >>> 21);
+      x = Math.imul(s1, 5); t = s1 << 9;
+      const w1 = Math.imul((x << 7) | (x >>> 25), 9) >>> 0;
+      s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= t; s3 = (s3 << 11) | (s3 >>> 21);
+      x = Math.imul(s1, 5); t = s1 << 9;
+      const w2 = Math.imul((x << 7) | (x >>> 25), 9) >>> 0;
+      s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= t; s3 = (s3 << 11) | (s3 >>> 21);
+      x = Math.imul(s1, 5); t = s1 << 9;
+      const w3 = Math.imul((x << 7) | (x >>> 25), 9) >>> 0;
+      s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= t; s3 = (s3 << 11) | (s3 >>> 21);
+      x = Math.imul(s1, 5); t = s1 << 9;
+      const w4 = Math.imul((x << 7) | (x >>> 25), 9) >>> 0;
+      s2 ^= s0; s3 ^= s1; s1 ^= s2; s0 ^= s3; s2 ^= t; s3 = (s3 << 11) | (s3 >>> 21);
+      if (multi) {
+        k = sysOf[j];
+        q0 = sysStart[k];
+        q1 = sysStart[k + 1];
+      }
+      let p = -1;
+      if (sysStatic[k] === 1) {
+        // the top 31 bits w of the word against the running sums T: the number of T ≤ w, counted from the sign of
+        // T − 1 − w (no branch on the word, which would be mispredicted about as often as the paths are near equal)
+        const w = w0 >>> 1;
+        let q = q0;
+        for (let u = q0; u < q1; u++) q += (cum31[u] - 1 - w) >>> 31;
+        if (q < q1) p = sysPaths[q];
+      } else {
+        let left = (w0 >>> 0) * U32;
+        for (let q = q0; q < q1; q++) {
+          const i = sysPaths[q], pq = probs[i][j];
+          if (pq < 0 && pq < negative[0]) negative[0] = pq;
+          left -= pq > 0 ? pq : 0;
+          if (left < 0) {
+            p = i;
+            break;
+          }
         }
       }
+      if (p < 0) {
+        lost++;
+        continue;
+      }
+      pathAtoms[p]++;
+      const i2 = invV2[j];
+      const g = 8 * p;
+      const px = geo[g] + geo[g + 1] * w1 + geo[g + 2] * w3 + geo[g + 3] * i2, pz = geo[g + 4] + geo[g + 5] * w2 + geo[g + 6] * w4 + geo[g + 7] * i2;
+      if (flags[2 * p + 1] === 1 && clipped(pr, p, w1, w2, w3, w4, i2, px, pz)) {
+        pathClipped[p]++;
+        wk.clipped++;
+        continue;
+      }
+      const d = flags[2 * p];
+      if (d >= 0) {
+        hitDet[j - j0] = d;
+        const at = d * SUB + hitN[d]++;
+        hitX[at] = px;
+        hitZ[at] = pz;
+      }
     }
-    if (p < 0) {
-      lost++;
-      continue;
-    }
-    pathAtoms[p]++;
-    const w1 = words[o + 1] >>> 0, w2 = words[o + 2] >>> 0, w3 = words[o + 3] >>> 0, w4 = words[o + 4] >>> 0;
-    const i2 = invV2[j];
-    const g = 8 * p;
-    const px = geo[g] + geo[g + 1] * w1 + geo[g + 2] * w3 + geo[g + 3] * i2, pz = geo[g + 4] + geo[g + 5] * w2 + geo[g + 6] * w4 + geo[g + 7] * i2;
-    if (flags[2 * p + 1] === 1 && clipped(pr, p, w1, w2, w3, w4, i2, px, pz)) {
-      pathClipped[p]++;
-      wk.clipped++;
-      continue;
-    }
-    const d = flags[2 * p];
-    if (d >= 0) {
-      hitDet[j - j0] = d;
-      const at = d * SUB + hitN[d]++;
-      hitX[at] = px;
-      hitZ[at] = pz;
-    }
+    st[0] = s0; st[1] = s1; st[2] = s2; st[3] = s3;
   }
   return lost;
 }
@@ -599,13 +663,15 @@ function clipped(pr: Prepared, p: number, w1: number, w2: number, w3: number, w4
   return false;
 }
 
-/** The sub-block's hits into their detectors' stores, and to `onHit` in the atoms' order. */
-function keepHits(wk: BlockWork, j0: number, j1: number, stores: readonly HitStore[], ids: readonly string[], onHit: SimulateOptions['onHit']): void {
+/** The sub-block's hits into their detectors' stores (their positions where the stores keep them), to `onHits`, and to `onHit` in the atoms' order. */
+function keepHits(wk: BlockWork, j0: number, j1: number, stores: readonly HitStore[], ids: readonly string[], onHit: SimulateOptions['onHit'], onHits: SimulateOptions['onHits']): void {
   const hitN = wk.hitN, hitX = wk.hitX, hitZ = wk.hitZ;
   for (let d = 0; d < stores.length; d++) {
     if (hitN[d] === 0) continue;
-    stores[d].append(hitX, hitZ, d * SUB, hitN[d]);
+    if (stores[d].keep) stores[d].append(hitX, hitZ, d * SUB, hitN[d]);
+    else stores[d].n += hitN[d];
     stores[d].addStats(hitX, hitZ, d * SUB, hitN[d]);
+    onHits?.(ids[d], hitX, hitZ, d * SUB, hitN[d]);
   }
   if (!onHit) return;
   const hitDet = wk.hitDet, next = new Int32Array(stores.length);
@@ -633,6 +699,7 @@ export function simulation(plan: Plan, opts: SimulateOptions = {}, values: Reado
   const atoms = opts.atoms ?? 100_000;
   const seed = opts.seed ?? 1;
   const bins = opts.bins ?? 40;
+  const maps = opts.maps ?? true;
   if (!Number.isInteger(atoms) || atoms < 1 || atoms > MAX_ATOMS) throw new RunError(`simulate: the number of atoms must be a whole number from 1 to ${MAX_ATOMS}, got ${atoms}`);
   if (!Number.isInteger(seed) || seed < 0 || seed > 0xffffffff) throw new RunError(`simulate: the seed must be a whole number from 0 to 4294967295, got ${seed}`);
   const line = lineAt(plan, values);
@@ -665,7 +732,7 @@ export function simulation(plan: Plan, opts: SimulateOptions = {}, values: Reado
     const stream = new Random(seed);
     for (let b = 0; b <= first; b++) stream.jump();
     const wk = new BlockWork(paths.length, dynamic, ids.length);
-    const stores = ids.map(() => new HitStore());
+    const stores = ids.map(() => new HitStore(maps));
     const pathAtoms = new Float64Array(paths.length), pathClipped = new Float64Array(paths.length);
     for (let b = first; b < end; b++) {
       if (opts.isCancelled?.()) throw new CancelledError('simulate: cancelled');
@@ -679,9 +746,8 @@ export function simulation(plan: Plan, opts: SimulateOptions = {}, values: Reado
       if (dynamic) pathProbabilities(pr, wk, nb);
       for (let j0 = 0; j0 < nb; j0 += SUB) {
         const j1 = Math.min(nb, j0 + SUB);
-        rng.fillWords(wk.atomWords, ATOM_WORDS * (j1 - j0));
-        wk.lostSpin += followAtoms(pr, wk, j0, j1, pathAtoms, pathClipped);
-        keepHits(wk, j0, j1, stores, ids, opts.onHit);
+        wk.lostSpin += followAtoms(pr, wk, rng.stateWords(), j0, j1, pathAtoms, pathClipped);
+        keepHits(wk, j0, j1, stores, ids, opts.onHit, opts.onHits);
       }
     }
     return { first, end, lostSpin: wk.lostSpin, clipped: wk.clipped, negative: Math.min(wk.negative[0], pr.staticNegative), pathAtoms, pathClipped, hits: stores.map((h) => h.done()) };
@@ -727,7 +793,7 @@ export function simulation(plan: Plan, opts: SimulateOptions = {}, values: Reado
         const m = moments(parts.map((t) => t.hits[di].stats), n);
         det.mean = { x: m.mx, z: m.mz };
         det.rms = { x: m.rx, z: m.rz };
-        det.map = hitMap(xs, zs, m, bins, d.kind === 'detector' ? d.window : undefined);
+        if (maps) det.map = hitMap(xs, zs, m, bins, d.kind === 'detector' ? d.window : undefined);
       }
       return det;
     });

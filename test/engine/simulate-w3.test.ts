@@ -125,5 +125,30 @@ describe('simulation: blocks split over threads', () => {
       expect(text(sim.finish([other.run(0, 2), t[1].first === 1 ? other.run(2, 4) : t[2]]))).toBe(text(whole));
       expect(() => sim.finish([t[0], t[2]])).toThrow(/tallies/);
     });
+
+    it(`${name}: a run without maps gives every other number to the last bit, and its hits per sub-block are onHit's`, () => {
+      const p = plan(readFileSync(new URL(`../../samples/${name}.spinyard`, import.meta.url), 'utf8'));
+      const atoms = 2 * testing.BLOCK + 777;
+      const hits: string[] = [];
+      const whole = simulate(p, { atoms, seed: 5, onHit: (d, x, zz) => hits.push(`${d} ${x} ${zz}`) });
+      const streamed: string[] = [];
+      const sim = simulation(p, { atoms, seed: 5, maps: false, onHits: (d, x, zz, from, n) => {
+        for (let i = from; i < from + n; i++) streamed.push(`${d} ${x[i]} ${zz[i]}`);
+      } });
+      const t = [sim.run(0, 1), sim.run(1, sim.blocks)];
+      expect(t.every((u) => u.hits.every((h) => h.x.length === 0 && h.z.length === 0))).toBe(true);
+      const bare = sim.finish(t);
+      expect(bare.detectors.every((d) => d.map === undefined)).toBe(true);
+      expect(whole.detectors.some((d) => d.map !== undefined)).toBe(true);
+      expect(text({ ...bare, detectors: bare.detectors.map((d) => ({ ...d, map: undefined })) }))
+        .toBe(text({ ...whole, detectors: whole.detectors.map((d) => ({ ...d, map: undefined })) }));
+      // onHits hands out each detector's hits of a sub-block together, onHit each atom's in turn: the same hits
+      const key = (l: string[]) => [...l].sort();
+      expect(streamed.length).toBe(hits.length);
+      expect(key(streamed)).toEqual(key(hits));
+      for (const id of whole.detectors.map((d) => d.id)) {
+        expect(streamed.filter((h) => h.startsWith(`${id} `))).toEqual(hits.filter((h) => h.startsWith(`${id} `)));
+      }
+    });
   }
 });
