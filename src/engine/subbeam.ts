@@ -314,9 +314,11 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
   // the phase terms kept in the weights: those the 24-panel grid resolves (the grid the plane always had)
   const phiMax = geometryGrid(d, 24).phiMax;
   const kinks = kinkSpeeds(e, lo, hi);
-  const cuts = [...kinks.x, ...kinks.z];
-  for (let i = 1; i < GEOMETRY_BASE_PANELS; i++) cuts.push(lo + ((hi - lo) * i) / GEOMETRY_BASE_PANELS);
-  cuts.sort((a, b) => a - b);
+  const cuts = new Float64Array(kinks.x.length + kinks.z.length + GEOMETRY_BASE_PANELS - 1);
+  cuts.set(kinks.x);
+  cuts.set(kinks.z, kinks.x.length);
+  for (let i = 1; i < GEOMETRY_BASE_PANELS; i++) cuts[kinks.x.length + kinks.z.length + i - 1] = lo + ((hi - lo) * i) / GEOMETRY_BASE_PANELS;
+  cuts.sort();
   const pa: number[] = [], pb: number[] = [];
   const minGap = 1e-9 * (hi - lo);
   let left = lo;
@@ -387,20 +389,30 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
     const W = tot[0];
     if (!(W > 0)) break;
     err.fill(0);
-    for (const p of active) for (let q = 1; q < nQ; q++) err[q] += panelError(sums, 2 * nQ * p, nQ, q, tot, floor);
+    // each panel's share of each fraction's error, found once (pe[p nQ + q])
+    if (PE.length < nQ * pa.length) PE = new Float64Array(2 * nQ * pa.length);
+    const pe = PE;
+    for (const p of active) {
+      for (let q = 1; q < nQ; q++) {
+        const x = panelError(sums, 2 * nQ * p, nQ, q, tot, floor);
+        pe[nQ * p + q] = x;
+        err[q] += x;
+      }
+    }
     let worst = 0;
     for (let q = 1; q < nQ; q++) worst = Math.max(worst, err[q]);
     if (worst <= GEOMETRY_TOLERANCE) { change = undefined; break; }
     change = worst;
     // halve the panels that hold the most of the error until what is left is a quarter of the tolerance
     const order = active.filter((p) => pb[p] - pa[p] > minWidth);
-    const key = new Map<number, number>();
+    if (KEY.length < pa.length) KEY = new Float64Array(2 * pa.length);
+    const key = KEY;
     for (const p of order) {
       let k = 0;
-      for (let q = 1; q < nQ; q++) k = Math.max(k, panelError(sums, 2 * nQ * p, nQ, q, tot, floor) / Math.max(err[q], 1e-300));
-      key.set(p, k);
+      for (let q = 1; q < nQ; q++) k = Math.max(k, pe[nQ * p + q] / Math.max(err[q], 1e-300));
+      key[p] = k;
     }
-    order.sort((a, b) => key.get(b)! - key.get(a)!);
+    order.sort((a, b) => key[b] - key[a]);
     rest.set(err);
     const split = new Set<number>();
     for (const p of order) {
@@ -409,7 +421,7 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
       if (done) break;
       if (active.length + split.size + 1 > GEOMETRY_MAX_PANELS) break;
       split.add(p);
-      for (let q = 1; q < nQ; q++) rest[q] -= panelError(sums, 2 * nQ * p, nQ, q, tot, floor);
+      for (let q = 1; q < nQ; q++) rest[q] -= pe[nQ * p + q];
     }
     if (split.size === 0) break;
     const next: number[] = [];
@@ -624,8 +636,9 @@ function quadraticAt(c: Float64Array, j: number, s: number): number {
   return f < 0 ? 0 : f > 1 ? 1 : f;
 }
 
-// the panels' sums of convergedGeometry (reused from call to call, grown on demand; every panel's are set before they are read)
-let SUMS = new Float64Array(1024);
+// the panels' sums of convergedGeometry, their shares of the errors and their order of refinement (reused from call to
+// call, grown on demand; every panel's are set before they are read)
+let SUMS = new Float64Array(1024), PE = new Float64Array(256), KEY = new Float64Array(64);
 
 /** Panel p's share (sums from o) of the error of fraction q: (|ΔQ| + |Q/W| |ΔW|) / max(|Q|, floor W). */
 function panelError(sums: Float64Array, o: number, nQ: number, q: number, tot: Float64Array, floor: number): number {
@@ -1168,16 +1181,20 @@ function kinkSpeeds(e: Evaluator, lo: number, hi: number): { x: number[]; z: num
 }
 
 /** Lines a p + b q ≤ h0 + h1 u of one axis: the collimator's rectangle, each strip (two), then each window (two). */
-interface Rows { a: Float64Array; b: Float64Array; h0: Float64Array; h1: Float64Array; eps: number }
+interface Rows {
+  a: Float64Array; b: Float64Array; h0: Float64Array; h1: Float64Array; eps: number;
+  /** Each line's slack eps (|a| + |b| + 1): a point within it of the line counts as on its side. */
+  tol: Float64Array;
+}
 
 // the rows of axisRows (reused: a sub-beam's kinks are found one axis at a time)
 let ROWS = new Float64Array(128);
 
 function axisRows(pl: AxisPlan, wins: readonly NodeWindow[], xAxis: boolean, cPlane: number): Rows {
   const k = pl.strips.count, m = 4 + 2 * k + 2 * wins.length;
-  if (ROWS.length < 4 * m) ROWS = new Float64Array(8 * m);
+  if (ROWS.length < 5 * m) ROWS = new Float64Array(10 * m);
   const buf = ROWS;
-  const r: Rows = { a: buf.subarray(0, m), b: buf.subarray(m, 2 * m), h0: buf.subarray(2 * m, 3 * m), h1: buf.subarray(3 * m, 4 * m), eps: 0 };
+  const r: Rows = { a: buf.subarray(0, m), b: buf.subarray(m, 2 * m), h0: buf.subarray(2 * m, 3 * m), h1: buf.subarray(3 * m, 4 * m), eps: 0, tol: buf.subarray(4 * m, 5 * m) };
   const set = (i: number, a: number, b: number, h0: number, h1: number) => { r.a[i] = a; r.b[i] = b; r.h0[i] = h0; r.h1[i] = h1; };
   const p0 = pl.base[0], q0 = pl.base[1], p1 = pl.base[2], q1 = pl.base[5];
   set(0, -1, 0, -p0, 0); set(1, 1, 0, p1, 0); set(2, 0, -1, -q0, 0); set(3, 0, 1, q1, 0);
@@ -1196,14 +1213,16 @@ function axisRows(pl: AxisPlan, wins: readonly NodeWindow[], xAxis: boolean, cPl
   }
   // a point counts as on the polygon within 1e-9 of the collimator's size
   r.eps = 1e-9 * Math.max(p1 - p0, q1 - q0, Math.abs(p0), Math.abs(p1), Math.abs(q0), Math.abs(q1));
+  for (let i = 0; i < m; i++) r.tol[i] = r.eps * (Math.abs(r.a[i]) + Math.abs(r.b[i]) + 1);
   return r;
 }
 
 /** Whether (p, q) keeps every line of the set (the polygon's nP lines, and window w's two when w ≥ 0) at u, within eps. */
 function keeps(r: Rows, nP: number, w: number, p: number, q: number, u: number): boolean {
-  for (let i = 0; i < nP; i++) if (r.a[i] * p + r.b[i] * q - r.h0[i] - r.h1[i] * u > r.eps * (Math.abs(r.a[i]) + Math.abs(r.b[i]) + 1)) return false;
+  const a = r.a, b = r.b, h0 = r.h0, h1 = r.h1, tol = r.tol;
+  for (let i = 0; i < nP; i++) if (a[i] * p + b[i] * q - h0[i] - h1[i] * u > tol[i]) return false;
   if (w >= 0) {
-    for (let i = nP + 2 * w; i < nP + 2 * w + 2; i++) if (r.a[i] * p + r.b[i] * q - r.h0[i] - r.h1[i] * u > r.eps * (Math.abs(r.a[i]) + Math.abs(r.b[i]) + 1)) return false;
+    for (let i = nP + 2 * w; i < nP + 2 * w + 2; i++) if (a[i] * p + b[i] * q - h0[i] - h1[i] * u > tol[i]) return false;
   }
   return true;
 }
@@ -1232,38 +1251,38 @@ function lineKept(r: Rows, nP: number, w: number, i: number, j: number, u: numbe
 /** The u = 1/v² in (uLo, uHi) where the polygon of one axis, or its part inside one of its nW windows, changes shape. */
 function axisKinks(r: Rows, nP: number, nW: number, uLo: number, uHi: number, out: number[]): void {
   const m = nP + 2 * nW;
-  const push = (u: number) => { if (u > uLo && u < uHi) out.push(u); };
+  const A = r.a, B = r.b, H0 = r.h0, H1 = r.h1;
   for (let i = 0; i < m; i++) {
     for (let j = i + 1; j < m; j++) {
       // lines of two different windows never bound one polygon; nor do a window's two lines with a third
       const wi = i < nP ? -1 : (i - nP) >> 1, wj = j < nP ? -1 : (j - nP) >> 1;
       if (wi >= 0 && wj >= 0) continue;
       const w = Math.max(wi, wj);
-      const det = r.a[i] * r.b[j] - r.a[j] * r.b[i];
-      const scale = (Math.abs(r.a[i]) + Math.abs(r.b[i])) * (Math.abs(r.a[j]) + Math.abs(r.b[j]));
+      const det = A[i] * B[j] - A[j] * B[i];
+      const scale = (Math.abs(A[i]) + Math.abs(B[i])) * (Math.abs(A[j]) + Math.abs(B[j]));
       if (Math.abs(det) <= 1e-12 * scale) {
         // parallel: where they coincide, if they move against each other there
-        const nn = r.a[i] * r.a[i] + r.b[i] * r.b[i];
-        const lam = (r.a[i] * r.a[j] + r.b[i] * r.b[j]) / nn;
-        const e1 = r.h1[j] - lam * r.h1[i], e0 = r.h0[j] - lam * r.h0[i];
-        if (Math.abs(e1) <= 1e-14 * (Math.abs(r.h1[j]) + Math.abs(lam * r.h1[i]))) continue;
+        const nn = A[i] * A[i] + B[i] * B[i];
+        const lam = (A[i] * A[j] + B[i] * B[j]) / nn;
+        const e1 = H1[j] - lam * H1[i], e0 = H0[j] - lam * H0[i];
+        if (Math.abs(e1) <= 1e-14 * (Math.abs(H1[j]) + Math.abs(lam * H1[i]))) continue;
         const u = -e0 / e1;
         if (u > uLo && u < uHi && lineKept(r, nP, w, i, j, u)) out.push(u);
         continue;
       }
       // where i and j meet: (p, q) = P0 + P1 u
-      const pp0 = (r.h0[i] * r.b[j] - r.h0[j] * r.b[i]) / det, pp1 = (r.h1[i] * r.b[j] - r.h1[j] * r.b[i]) / det;
-      const qq0 = (r.a[i] * r.h0[j] - r.a[j] * r.h0[i]) / det, qq1 = (r.a[i] * r.h1[j] - r.a[j] * r.h1[i]) / det;
+      const pp0 = (H0[i] * B[j] - H0[j] * B[i]) / det, pp1 = (H1[i] * B[j] - H1[j] * B[i]) / det;
+      const qq0 = (A[i] * H0[j] - A[j] * H0[i]) / det, qq1 = (A[i] * H1[j] - A[j] * H1[i]) / det;
+      const still = H1[i] === 0 && H1[j] === 0;
       for (let k = j + 1; k < m; k++) {
         const wk = k < nP ? -1 : (k - nP) >> 1;
         if (wk >= 0 && w >= 0) continue;
-        const ww = Math.max(w, wk);
-        if (r.h1[i] === 0 && r.h1[j] === 0 && r.h1[k] === 0) continue;
-        const g0 = r.a[k] * pp0 + r.b[k] * qq0 - r.h0[k], g1 = r.a[k] * pp1 + r.b[k] * qq1 - r.h1[k];
+        if (still && H1[k] === 0) continue;
+        const g0 = A[k] * pp0 + B[k] * qq0 - H0[k], g1 = A[k] * pp1 + B[k] * qq1 - H1[k];
         if (g1 === 0) continue;
         const u = -g0 / g1;
         if (!(u > uLo && u < uHi)) continue;
-        if (keeps(r, nP, ww, pp0 + pp1 * u, qq0 + qq1 * u, u)) push(u);
+        if (keeps(r, nP, Math.max(w, wk), pp0 + pp1 * u, qq0 + qq1 * u, u)) out.push(u);
       }
     }
   }
