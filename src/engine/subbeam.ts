@@ -616,6 +616,16 @@ function quadraticNode(e: Evaluator, n: number, qx: AxisQuadratics, kx: number, 
     for (let w = 0; w < nw; w++) NCAP[n * nw + w] = 0;
     return;
   }
+  nodeDeflection(e, n);
+  const v = NV[n], vv = v * v;
+  const cx = qx.c, ox = kx * qx.len, sx = (1 / vv - cx[ox]) / cx[ox + 1];
+  const cz = qz.c, oz = kz * qz.len, sz = (1 / vv - cz[oz]) / cz[oz + 1];
+  NT[n] = quadraticAt(cx, ox + 2, sx) * quadraticAt(cz, oz + 2, sz);
+  for (let w = 0; w < nw; w++) NCAP[n * nw + w] = quadraticAt(cx, ox + 5 + 3 * w, sx) * quadraticAt(cz, oz + 5 + 3 * w, sz);
+}
+
+/** Node n's deflection at the plane (NDX, NDZ), kick by kick as deflection(). */
+function nodeDeflection(e: Evaluator, n: number): void {
   const v = NV[n], vv = v * v, ap = e.atPlane;
   let dx = 0, dz = 0;
   for (let i = 0; i < ap.num.length; i++) {
@@ -624,10 +634,6 @@ function quadraticNode(e: Evaluator, n: number, qx: AxisQuadratics, kx: number, 
     dz += d * ap.nz[i];
   }
   NDX[n] = dx; NDZ[n] = dz;
-  const cx = qx.c, ox = kx * qx.len, sx = (1 / vv - cx[ox]) / cx[ox + 1];
-  const cz = qz.c, oz = kz * qz.len, sz = (1 / vv - cz[oz]) / cz[oz + 1];
-  NT[n] = quadraticAt(cx, ox + 2, sx) * quadraticAt(cz, oz + 2, sz);
-  for (let w = 0; w < nw; w++) NCAP[n * nw + w] = quadraticAt(cx, ox + 5 + 3 * w, sx) * quadraticAt(cz, oz + 5 + 3 * w, sz);
 }
 
 /** The quadratic c[j] + c[j+1] s + c[j+2] s² kept within [0, 1] (a fraction of 0 or 1 can come out a rounding beyond). */
@@ -973,15 +979,8 @@ function evalNode(e: Evaluator, n: number): void {
   if (!px.fixed) axisNode(px, n, v);
   if (!pz.fixed) axisNode(pz, n, v);
   const ix = px.fixed ? 0 : n, iz = pz.fixed ? 0 : n;
-  // deflection at the plane, kick by kick as deflection()
-  const vv = v * v, ap = e.atPlane;
-  let dx = 0, dz = 0;
-  for (let i = 0; i < ap.num.length; i++) {
-    const d = ap.num[i] / vv;
-    dx += d * ap.nx[i];
-    dz += d * ap.nz[i];
-  }
-  NDX[n] = dx; NDZ[n] = dz;
+  nodeDeflection(e, n);
+  const dx = NDX[n], dz = NDZ[n];
   NT[n] = px.s.tr[ix] * pz.s.tr[iz];
   const plane = e.f.plane;
   const sameX = e.sameX, sameZ = e.sameZ;

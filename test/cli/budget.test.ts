@@ -1,7 +1,7 @@
 /** `spinyard budget`: the text, JSON, messages and -o. */
 import { describe, expect, it } from 'vitest';
-import { spawnSync } from 'node:child_process';
 import { runCli } from '../../src/cli/cli.ts';
+import { sameInThreads, sameThroughBuilt } from '../fixtures/cli-threads.ts';
 
 const C = new URL('../../samples/bench-c-roll-calibration.spinyard', import.meta.url).pathname;
 const A = new URL('../../samples/bench-a-spin32-rotator.spinyard', import.meta.url).pathname;
@@ -42,28 +42,11 @@ describe('spinyard budget FILE', () => {
 
 describe('spinyard budget --workers N', () => {
   it('gives the same budget, byte for byte, in 1, 2 and 3 threads', async () => {
-    // 5 tolerances × 4 steps and 40 draws, with a draw refused or not: the outcomes come back in their order
-    const argv = ['budget', C, '--draws', '40', '--seed', '3', '--json'];
-    const one = runCli([...argv, '--workers', '1']);
-    expect(one.job).toBeUndefined();
-    expect(one.code).toBe(0);
-    for (const w of ['2', '3']) {
-      const out = runCli([...argv, '--workers', w]);
-      expect(out.job).toBeDefined();
-      const done = await out.job!();
-      expect(done.stderr).toBe('');
-      expect(done.stdout).toBe(one.stdout);
-    }
+    // 5 tolerances × 4 steps and 40 draws, dealt out in chunks: the outcomes come back in their order
+    await sameInThreads(['budget', C, '--draws', '40', '--seed', '3', '--json']);
   }, 240_000);
 
   it('does the same through the built command line (its worker module is built beside it)', () => {
-    const bin = new URL('../../bin/spinyard.js', import.meta.url).pathname;
-    const args = ['budget', C, '--draws', '30', '--json'];
-    const one = spawnSync(process.execPath, [bin, ...args, '--workers', '1'], { encoding: 'utf8' });
-    const two = spawnSync(process.execPath, [bin, ...args, '--workers', '2'], { encoding: 'utf8' });
-    expect(one.status, one.stderr).toBe(0);
-    expect(two.status, two.stderr).toBe(0);
-    expect(two.stdout).toBe(one.stdout);
-    expect(JSON.parse(two.stdout).monteCarlo.draws).toBe(30);
+    expect(JSON.parse(sameThroughBuilt(['budget', C, '--draws', '30', '--json'])).monteCarlo.draws).toBe(30);
   }, 240_000);
 });

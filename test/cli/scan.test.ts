@@ -1,10 +1,10 @@
 /** `spinyard scan`: arguments, the three outputs, messages, and -o through deliver. */
-import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runCli } from '../../src/cli/cli.ts';
+import { sameInThreads, sameThroughBuilt } from '../fixtures/cli-threads.ts';
 import { deliver } from '../../src/cli/deliver.ts';
 
 const C = new URL('../../samples/bench-c-roll-calibration.spinyard', import.meta.url).pathname;
@@ -106,31 +106,15 @@ describe('spinyard scan FILE with a scan kept in the document', () => {
 
 describe('spinyard scan --workers N', () => {
   it('gives the same result, byte for byte, in 1, 2 and 3 worker threads', async () => {
-    const argv = ['scan', new URL('../../samples/bench-h-rb87-mj-then-eigenstate.spinyard', import.meta.url).pathname,
-      '--param', 'M1.axis.roll', '--from', '0 deg', '--to', '90 deg', '--points', '7', '--param', 'oven.flux', '--from', '1e9 /s', '--to', '2e9 /s', '--points', '2', '--json'];
-    const one = runCli([...argv, '--workers', '1']);
-    expect(one.job).toBeUndefined();
-    expect(one.code).toBe(0);
-    for (const w of ['2', '3']) {
-      const out = runCli([...argv, '--workers', w]);
-      expect(out.job).toBeDefined();
-      const done = await out.job!();
-      expect(done.stderr).toBe('');
-      expect(done.stdout).toBe(one.stdout);
-    }
+    await sameInThreads(['scan', new URL('../../samples/bench-h-rb87-mj-then-eigenstate.spinyard', import.meta.url).pathname,
+      '--param', 'M1.axis.roll', '--from', '0 deg', '--to', '90 deg', '--points', '7', '--param', 'oven.flux', '--from', '1e9 /s', '--to', '2e9 /s', '--points', '2', '--json']);
     // each worker thread loads the engine afresh: about 20 s on a quiet two-core machine, several times that under a full suite
   }, 240_000);
 
   it('does the same through the built command line (its worker module is built beside it)', () => {
-    const bin = new URL('../../bin/spinyard.js', import.meta.url).pathname;
     // the oven's flux: no magnet's set-point, so the points are dealt out to the workers
-    const args = ['scan', C, '--param', 'oven.flux', '--from', '1e9 /s', '--to', '3e9 /s', '--points', '40', '--csv'];
-    const one = spawnSync(process.execPath, [bin, ...args, '--workers', '1'], { encoding: 'utf8' });
-    const two = spawnSync(process.execPath, [bin, ...args, '--workers', '2'], { encoding: 'utf8' });
-    expect(one.status).toBe(0);
-    expect(two.stderr).toBe('');
-    expect(two.stdout).toBe(one.stdout);
-    expect(one.stdout.split('\r\n')).toHaveLength(42);
+    const out = sameThroughBuilt(['scan', C, '--param', 'oven.flux', '--from', '1e9 /s', '--to', '3e9 /s', '--points', '40', '--csv']);
+    expect(out.split('\r\n')).toHaveLength(42);
   }, 240_000);
 
   it('runs a scan whose rows are formed as a batch in one thread, so that --workers does not change a digit', () => {

@@ -7,56 +7,13 @@
  * its check (its nodes are then evaluated one by one).
  */
 import { describe, expect, it } from 'vitest';
-import { kinkIntervals, type FinePath, type PlaneWindow, type Track } from '../../src/engine/subbeam.ts';
-import { fractionInside, transmit, type Collimator1D } from '../../src/engine/geometry.ts';
-import type { Detector, Rect } from '../../src/beamline/types.ts';
+import { kinkIntervals, type FinePath } from '../../src/engine/subbeam.ts';
+import { PLANE, clipped, others, own, track } from '../fixtures/deflected-subbeam.ts';
 
-const mm = 1e-3;
-const PLANE = 1.0;
-const n = { x: Math.sin(Math.PI / 6), y: 0, z: -Math.cos(Math.PI / 6) };
-const track: Track = {
-  source: { x: 0, z: 0, width: 1 * mm, height: 1 * mm },
-  collimator: { y: 0.3, rect: { x: 0, z: 0, width: 1 * mm, height: 1 * mm } },
-  kicks: [{ exitY: 0.5, length: 0.1, accel: 1e4, n }],
-  strips: [
-    { y: 0.35, lo: -1.5 * mm, hi: 1.5 * mm, axis: 'x' }, { y: 0.35, lo: -1.5 * mm, hi: 1.5 * mm, axis: 'z' },
-    { y: 0.5, lo: -1.2 * mm, hi: 1.2 * mm, axis: 'x' }, { y: 0.5, lo: -1.2 * mm, hi: 1.2 * mm, axis: 'z' },
-  ],
-  components: [],
-};
-const win = (x: number, z: number): Rect => ({ x: x * mm, z: z * mm, width: 1 * mm, height: 1 * mm });
-const own: Detector = { id: 'D1', kind: 'detector', gap: 0, path: 'elements.D1', efficiency: 1, background: 0, dwell: 1, window: win(0.5, -1.5) };
-const others: PlaneWindow[] = [{ id: 'D2', window: win(0.5, -3), y: PLANE }, { id: 'D3', window: win(1.5, -1.5), y: PLANE }];
 const f: FinePath = {
   system: 'test', fraction: 1, dist: { kind: 'effusive', a: 400 } as FinePath['dist'], path: ['M'], target: 'D1', plane: PLANE, yieldSpin: 1, track,
   detector: own,
 };
-
-function collimator(axis: 'x' | 'z'): Collimator1D {
-  const w = axis === 'x' ? 'width' : 'height';
-  return { p0: -track.source![w] / 2, p1: track.source![w] / 2, q0: -track.collimator!.rect[w] / 2, q1: track.collimator!.rect[w] / 2, ys: 0.3 };
-}
-
-function deflection(y: number, v: number, axis: 'x' | 'z'): number {
-  return y < 0.5 ? 0 : (1e4 * 0.1 * (0.05 + (y - 0.5)) / (v * v)) * n[axis];
-}
-
-/** The transmitted fraction and each window's (D1, D2, D3) at speed v, every strip and window clipped at that speed. */
-function clipped(v: number): { t: number; captured: number[] } {
-  const axes = (['x', 'z'] as const).map((axis) => {
-    const c = collimator(axis);
-    const strips = track.strips.filter((s) => s.axis === axis).map((s) => ({ y: s.y, lo: s.lo - deflection(s.y, v, axis), hi: s.hi - deflection(s.y, v, axis) }));
-    return { axis, c, r: transmit(c, strips, PLANE) };
-  });
-  const captured = [own.window!, ...others.map((o) => o.window)].map((w) => {
-    const [fx, fz] = axes.map(({ axis, c, r }) => {
-      const lo = axis === 'x' ? w.x - w.width / 2 : w.z - w.height / 2, hi = axis === 'x' ? w.x + w.width / 2 : w.z + w.height / 2;
-      return fractionInside(c, r, PLANE, lo - deflection(PLANE, v, axis), hi - deflection(PLANE, v, axis));
-    });
-    return fx * fz;
-  });
-  return { t: axes[0].r.transmission * axes[1].r.transmission, captured };
-}
 
 describe('a sub-beam\'s fractions between its kinks', () => {
   const lo = 150, hi = 2000;
