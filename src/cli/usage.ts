@@ -84,7 +84,7 @@ or θ and φ). "spinyard scan FILE --param list" lists every set-point of FILE w
   -o, --output OUT write the output to OUT (atomically; never over FILE) instead of stdout
   --stored N       run the N-th scan kept in the document ("scans"); without --param a document
                    that keeps one scan runs it
-  --workers N      evaluate the points in N worker threads (default: one per core from 200 points
+  --workers N      evaluate the points in N threads (default: one per core from 200 points
                    on, else 1); the result is the same for any N (a scan of a magnet's set-point,
                    whose rows are formed together, runs in one thread)
   --accept-cost    scan a line whose run is estimated above 10 s (as spinyard run --accept-cost)
