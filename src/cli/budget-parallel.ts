@@ -6,15 +6,11 @@
  * their order. An evaluation's numbers are a function of the document and its values alone, so the budget is the
  * same, bit for bit, for any number of workers.
  */
-import { budgetOutcomes, budgetResult, RunError, type BudgetResult, type BudgetSetup, type Plan, type RunOptions } from '../engine/index.ts';
+import { budgetOutcomes, budgetResult, type BudgetResult, type BudgetSetup, type Plan, type RunOptions } from '../engine/index.ts';
 import { dealOut, startWorker } from './workers.ts';
 
 export async function budgetParallel(text: string, plan: Plan, setup: BudgetSetup, opts: RunOptions, workers: number): Promise<BudgetResult> {
-  try {
-    const outcomes = await dealOut(setup.sets, workers, () => startWorker('budget-worker', { text, ids: setup.ids }),
-      (chunk) => budgetOutcomes(plan, setup.ids, chunk, opts), opts.onProgress && ((done) => opts.onProgress!(done / setup.sets.length)));
-    return budgetResult(plan, setup, outcomes);
-  } catch (e) {
-    throw e instanceof RunError ? e : new RunError((e as Error).message);
-  }
+  const outcomes = await dealOut(setup.sets, workers, () => startWorker('budget-worker', { text, ids: setup.ids }),
+    (chunk) => budgetOutcomes(plan, setup.ids, chunk, opts), opts.onProgress && ((done) => opts.onProgress!(done / setup.sets.length)));
+  return budgetResult(plan, setup, outcomes);
 }

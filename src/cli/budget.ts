@@ -2,7 +2,7 @@
 import { budgetOf, budgetSetup, compile, RunError, type BudgetResult, type BudgetSetup } from '../engine/index.ts';
 import { alignTable, formatNumber } from './format.ts';
 import { derivativeUnit, formatColumn } from '../beamline/numbers.ts';
-import { costGate, outputProblem, problemsOut, wholeOption } from './common.ts';
+import { costGate, outputProblem, problemsOut, wholeOption, workersOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { progressOf } from './progress.ts';
 import { availableParallelism } from 'node:os';
@@ -87,12 +87,6 @@ export function cmdBudgetWith(file: string, text: string, options: Record<string
   if (!c.ok) return problemsOut(file, c.problems);
   const gate = costGate(file, c.plan, options['accept-cost'] === true);
   if (gate) return gate;
-  let workers: number | undefined;
-  if (options.workers !== undefined) {
-    const w = String(options.workers);
-    if (!/^\s*\d+\s*$/.test(w) || Number(w) < 1 || Number(w) > 256) return err(`--workers: a whole number from 1 to 256, got "${w}"`);
-    workers = Number(w);
-  }
   const opts = { draws, seed, onProgress: progressOf('budget'), acceptCost: true };
   let setup: BudgetSetup;
   try {
@@ -102,7 +96,8 @@ export function cmdBudgetWith(file: string, text: string, options: Record<string
     throw e;
   }
   // the evaluations (4 per tolerance, and the draws) dealt out to threads from PARALLEL_FROM_POINTS of them on
-  workers ??= setup.sets.length >= PARALLEL_FROM_POINTS ? availableParallelism() : 1;
+  const workers = workersOption(options.workers, setup.sets.length >= PARALLEL_FROM_POINTS ? availableParallelism() : 1);
+  if (typeof workers === 'string') return err(workers);
   if (workers > 1) {
     return { code: 0, stdout: '', stderr: '', job: async () => {
       try {

@@ -21,6 +21,16 @@ export function wholeOption(text: unknown, name: string, max: number): number | 
   return /^\s*(\d+|\d+(\.\d+)?[eE]\+?\d+)\s*$/.test(s) && Number.isSafeInteger(n) && n <= max ? n : `--${name}: a whole number from 0 to ${max}, got "${s}"`;
 }
 
+/**
+ * The --workers option of the planning commands: the number of threads given (1 to 256), `fallback` where it is absent,
+ * or the message naming it.
+ */
+export function workersOption(text: unknown, fallback: number): number | string {
+  if (text === undefined) return fallback;
+  const w = String(text);
+  return /^\s*\d+\s*$/.test(w) && Number(w) >= 1 && Number(w) <= 256 ? Number(w) : `--workers: a whole number from 1 to 256, got "${w}"`;
+}
+
 /** Why `-o OUT` cannot be written for this input (empty, or the input document itself), or undefined. */
 export function outputProblem(file: string, output: unknown, what: string): string | undefined {
   if (typeof output !== 'string') return undefined;

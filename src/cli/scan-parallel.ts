@@ -31,13 +31,8 @@ export async function scanParallel(text: string, axes: readonly ScanAxis[], work
   if (!c.ok) throw new RunError(c.problems.join('\n'));
   const params = scanParameters(c.plan, axes);
   const indices = scanIndices(params.map((p) => p.values.length));
-  let outs: ScanPointOut[];
-  try {
-    outs = await dealOut(indices, workers, () => startWorker('scan-worker', { text, axes }), (chunk) => scanChunk(c.plan, params, chunk),
-      onProgress && ((done) => onProgress(done / indices.length)));
-  } catch (e) {
-    throw e instanceof RunError ? e : new RunError((e as Error).message);
-  }
+  const outs = await dealOut(indices, workers, () => startWorker('scan-worker', { text, axes }), (chunk) => scanChunk(c.plan, params, chunk),
+    onProgress && ((done) => onProgress(done / indices.length)));
   const warnings = new Map<string, number>();
   const points: ScanPoint[] = outs.map((p) => {
     const { warningTexts, ...point } = p;

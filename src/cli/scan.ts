@@ -9,7 +9,7 @@ import { DISPLAY_UNITS } from '../beamline/index.ts';
 import { FIGURES, ROUND_OFF, formatColumn, formatCountsColumn, isRoundOff } from '../beamline/numbers.ts';
 import { alignTable, formatNumber } from './format.ts';
 import { availableParallelism } from 'node:os';
-import { costGate, outputProblem, problemsOut } from './common.ts';
+import { costGate, outputProblem, problemsOut, workersOption } from './common.ts';
 import { scanParallel } from './scan-parallel.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { progressOf } from './progress.ts';
@@ -125,12 +125,8 @@ function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options
   const gate = costGate(file, plan, options['accept-cost'] === true);
   if (gate) return gate;
   const total = axes.reduce((n, a) => n * a.points, 1);
-  let workers = total >= PARALLEL_FROM_POINTS ? availableParallelism() : 1;
-  if (options.workers !== undefined) {
-    const w = String(options.workers);
-    if (!/^\s*\d+\s*$/.test(w) || Number(w) < 1 || Number(w) > 256) return err(`--workers: a whole number from 1 to 256, got "${w}"`);
-    workers = Number(w);
-  }
+  const workers = workersOption(options.workers, total >= PARALLEL_FROM_POINTS ? availableParallelism() : 1);
+  if (typeof workers === 'string') return err(workers);
   // a scan whose rows are formed as a batch runs whole in one thread: its points do not come out of a run each, so
   // dealt out one by one to workers they would differ in the last digits from the scan's own (engine/batch.ts)
   if (workers > 1 && text !== undefined && !scanBatches(plan, axes)) {

@@ -6,7 +6,8 @@
 import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
 import { pathToFileURL } from 'node:url';
-import { Worker } from 'node:worker_threads';
+import { Worker, parentPort } from 'node:worker_threads';
+import { RunError } from '../engine/index.ts';
 
 export function startWorker(name: 'scan-worker' | 'budget-worker', workerData: unknown): Worker {
   const here = import.meta.url;
@@ -24,10 +25,27 @@ export interface ChunkJob<T> { id: number; items: T[] }
 export interface ChunkReply<R> { id: number; results: R[]; error?: string }
 
 /**
+ * The loop of a worker module: answers every chunk it is sent with `evaluate`'s results, or with the message of what
+ * went wrong (`problem` where the worker could not even start: its document did not compile).
+ */
+export function serveChunks<T, R>(evaluate: (items: T[]) => R[], problem?: string): void {
+  parentPort!.on('message', (job: ChunkJob<T>) => {
+    let reply: ChunkReply<R>;
+    try {
+      reply = problem === undefined ? { id: job.id, results: evaluate(job.items) } : { id: job.id, results: [], error: problem };
+    } catch (e) {
+      reply = { id: job.id, results: [], error: (e as Error).message };
+    }
+    parentPort!.postMessage(reply);
+  });
+}
+
+/**
  * The results of `items`, in their order, from this thread and `workers − 1` worker threads together: the items are
  * cut into chunks in order, each worker is sent the next chunk as soon as it answers the last, and this thread
  * evaluates chunks itself (`own`) between looking at the workers' answers. Which thread evaluated a chunk does not
- * show in the results, since each result is a function of its item alone.
+ * show in the results, since each result is a function of its item alone. What a worker reports or dies of is thrown
+ * as a RunError (its message), what `own` throws as it is.
  */
 export async function dealOut<T, R>(items: readonly T[], workers: number, start: () => Worker, own: (chunk: T[]) => R[], onDone?: (done: number) => void): Promise<R[]> {
   const n = items.length;
@@ -50,7 +68,7 @@ export async function dealOut<T, R>(items: readonly T[], workers: number, start:
       w.postMessage({ id, items: chunks[id] } satisfies ChunkJob<T>);
     };
     w.on('message', (m: ChunkReply<R>) => {
-      if (m.error) failed ??= new Error(m.error);
+      if (m.error) failed ??= new RunError(m.error);
       else {
         results[m.id] = m.results;
         done += m.results.length;
@@ -59,7 +77,7 @@ export async function dealOut<T, R>(items: readonly T[], workers: number, start:
       send();
     });
     w.once('error', (e) => {
-      failed ??= e;
+      failed ??= new RunError(e.message);
       resolve();
     });
     send();

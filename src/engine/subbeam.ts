@@ -314,18 +314,9 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
   // the phase terms kept in the weights: those the 24-panel grid resolves (the grid the plane always had)
   const phiMax = geometryGrid(d, 24).phiMax;
   const kinks = kinkSpeeds(e, lo, hi);
-  const cuts = new Float64Array(kinks.x.length + kinks.z.length + GEOMETRY_BASE_PANELS - 1);
-  cuts.set(kinks.x);
-  cuts.set(kinks.z, kinks.x.length);
-  for (let i = 1; i < GEOMETRY_BASE_PANELS; i++) cuts[kinks.x.length + kinks.z.length + i - 1] = lo + ((hi - lo) * i) / GEOMETRY_BASE_PANELS;
-  cuts.sort();
-  const pa: number[] = [], pb: number[] = [];
-  const minGap = 1e-9 * (hi - lo);
-  let left = lo;
-  for (const c of cuts) {
-    if (c - left > minGap && hi - c > minGap) { pa.push(left); pb.push(c); left = c; }
-  }
-  pa.push(left); pb.push(hi);
+  const base: number[] = [];
+  for (let i = 1; i < GEOMETRY_BASE_PANELS; i++) base.push(lo + ((hi - lo) * i) / GEOMETRY_BASE_PANELS);
+  const { pa, pb } = cutIntervals(lo, hi, [...kinks.x, ...kinks.z, ...base]);
   // each axis's quadratics in u on its own cut intervals (see axisQuadratics)
   const qx = axisQuadratics(e, true, lo, hi, kinks.x, QS_X), qz = axisQuadratics(e, false, lo, hi, kinks.z, QS_Z);
   // the nodes' polygons are made only where something reads them: the kept nodes, the moments of the displacement
@@ -477,11 +468,11 @@ interface QuadraticScratch { c: Float64Array; direct: Uint8Array; ends: Float64A
 const QS_X: QuadraticScratch = { c: new Float64Array(512), direct: new Uint8Array(64), ends: new Float64Array(128) };
 const QS_Z: QuadraticScratch = { c: new Float64Array(512), direct: new Uint8Array(64), ends: new Float64Array(128) };
 
-/** The axis's cut intervals of lo … hi at `cuts` (a cut within 1e-9 of the range from the last one or from hi left out). */
+/** The intervals of lo … hi cut at `cuts` (a cut within 1e-9 of the range from the last one or from hi left out). */
 function cutIntervals(lo: number, hi: number, cuts: readonly number[]): { pa: number[]; pb: number[] } {
   const pa = [lo], pb: number[] = [];
   const minGap = 1e-9 * (hi - lo);
-  for (const x of [...cuts].sort((a, b) => a - b)) {
+  for (const x of Float64Array.from(cuts).sort()) {
     if (x - pa[pa.length - 1] > minGap && hi - x > minGap) { pb.push(x); pa.push(x); }
   }
   pb.push(hi);
@@ -498,7 +489,8 @@ function axisQuadratics(e: Evaluator, xAxis: boolean, lo: number, hi: number, cu
   if (sc.direct.length < nIv) sc.direct = new Uint8Array(2 * nIv);
   if (sc.ends.length < (nIv + 3) * q) sc.ends = new Float64Array(2 * (nIv + 3) * q);
   const c = sc.c, direct = sc.direct.fill(0, 0, nIv), ends = sc.ends;
-  const read = (v: number, o: number) => axisSample(pl, v, atPlane(e, v, xAxis), e.wins, xAxis, ends, o);
+  const ap = e.atPlane, dir = xAxis ? ap.nx : ap.nz;
+  const read = (v: number, o: number) => axisSample(pl, v, deflect(ap.num, dir, v), e.wins, xAxis, ends, o);
   if (still) {
     // the same at every speed: one reading, constant quadratics over the whole range
     read(hi, 0);
@@ -528,14 +520,6 @@ function axisQuadratics(e: Evaluator, xAxis: boolean, lo: number, hi: number, cu
     }
   }
   return { pa, pb, c, len, direct };
-}
-
-/** The deflection at the sub-beam's plane along one axis at speed v, kick by kick as deflection(). */
-function atPlane(e: Evaluator, v: number, xAxis: boolean): number {
-  const vv = v * v, ap = e.atPlane, n = xAxis ? ap.nx : ap.nz;
-  let d = 0;
-  for (let i = 0; i < ap.num.length; i++) d += (ap.num[i] / vv) * n[i];
-  return d;
 }
 
 /** The interval of an axis's quadratics that holds speed v (the last whose start is at or below it). */
@@ -626,14 +610,9 @@ function quadraticNode(e: Evaluator, n: number, qx: AxisQuadratics, kx: number, 
 
 /** Node n's deflection at the plane (NDX, NDZ), kick by kick as deflection(). */
 function nodeDeflection(e: Evaluator, n: number): void {
-  const v = NV[n], vv = v * v, ap = e.atPlane;
-  let dx = 0, dz = 0;
-  for (let i = 0; i < ap.num.length; i++) {
-    const d = ap.num[i] / vv;
-    dx += d * ap.nx[i];
-    dz += d * ap.nz[i];
-  }
-  NDX[n] = dx; NDZ[n] = dz;
+  const ap = e.atPlane;
+  NDX[n] = deflect(ap.num, ap.nx, NV[n]);
+  NDZ[n] = deflect(ap.num, ap.nz, NV[n]);
 }
 
 /** The quadratic c[j] + c[j+1] s + c[j+2] s² kept within [0, 1] (a fraction of 0 or 1 can come out a rounding beyond). */
@@ -1235,7 +1214,7 @@ function lineKept(r: Rows, nP: number, w: number, i: number, j: number, u: numbe
   const one = (k: number): boolean => {
     if (k === i || k === j) return true;
     const g0 = r.a[k] * x0 + r.b[k] * y0 - r.h0[k] - r.h1[k] * u, g1 = r.a[k] * dx + r.b[k] * dy;
-    const tol = r.eps * (Math.abs(r.a[k]) + Math.abs(r.b[k]) + 1);
+    const tol = r.tol[k];
     if (Math.abs(g1) <= 1e-12 * (Math.abs(r.a[k]) + Math.abs(r.b[k])) * Math.sqrt(nn)) return g0 <= tol;
     const t = (tol - g0) / g1;
     if (g1 > 0) thi = Math.min(thi, t);
