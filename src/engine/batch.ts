@@ -91,7 +91,6 @@ interface Template {
   readonly leaves: readonly LeafPlan[];
   readonly detectors: readonly Detector[];
   readonly flux: number;
-  readonly lostSpin: number;
   readonly warnings: number[] | undefined;
   /** Yields of each arrival's ports (scratch). */
   readonly vars: Float64Array;
@@ -545,10 +544,10 @@ function buildTemplate(probe: RegionProbe, row: number, line: Beamline, value: V
   }
   // a detector only blocked sub-beams reach (run.ts emptyDetector) is not formed here: such a row is not batched
   if (!point.detectors || point.detectors.length !== detectors.length || point.detectors.some((d, k) => d.id !== detectors[k].id)) return null;
-  const lostSpin = probe.arrivals[0].ctx.lost.spin;
-  const lostTotal = lostSpin + 0;
+  // (as runLine sums it: + 0 turns a −0 into 0)
+  const lostTotal = probe.arrivals[0].ctx.lost.spin + 0;
   return {
-    row, line, arrivals, ports, leaves, detectors, flux, lostSpin, warnings: point.warnings,
+    row, line, arrivals, ports, leaves, detectors, flux, warnings: point.warnings,
     vars: new Float64Array(arrivals.length * stride), stride,
     detYield: new Float64Array(detectors.length), detSignal: new Float64Array(detectors.length),
     lostTotal, lost: lostTotal < 0 && lostTotal > -1e-14 ? 0 : lostTotal,
