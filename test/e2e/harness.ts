@@ -145,6 +145,11 @@ export async function openApp(opts: { colorScheme?: 'light' | 'dark'; initScript
     if (m.type() === 'error') errors.push(m.text());
   });
   page.on('pageerror', (e) => errors.push(String(e)));
+  // Playwright turns the file-chooser interception on when the first listener is added, without waiting
+  // for it; a test's `waitForEvent('filechooser')` alone can lose the race with its own key press, and the
+  // chooser then never reaches it. One listener for the page's whole life keeps the interception on from
+  // before the page loads; each test still takes its chooser through waitForEvent.
+  page.on('filechooser', () => {});
   await page.goto(url);
   await page.waitForSelector('table.ports tbody tr', { timeout: 60_000 });
   return {
