@@ -42,15 +42,16 @@ export function serveChunks<T, R>(evaluate: (items: T[]) => R[], problem?: strin
 
 /**
  * The results of `items`, in their order, from this thread and `workers − 1` worker threads together: the items are
- * cut into chunks in order, each worker is sent the next chunk as soon as it answers the last, and this thread
- * evaluates chunks itself (`own`) between looking at the workers' answers. Which thread evaluated a chunk does not
+ * cut into chunks in order, each worker holds two chunks (the one it evaluates and the next, so that it never waits
+ * for this thread to look at its answer) and is sent another as it answers one, and this thread evaluates chunks
+ * itself (`own`) between looking at the workers' answers. Which thread evaluated a chunk does not
  * show in the results, since each result is a function of its item alone. What a worker reports or dies of is thrown
  * as a RunError (its message), what `own` throws as it is.
  */
 export async function dealOut<T, R>(items: readonly T[], workers: number, start: () => Worker, own: (chunk: T[]) => R[], onDone?: (done: number) => void): Promise<R[]> {
   const n = items.length;
   // small enough that the threads finish together, large enough that a message carries some work
-  const size = Math.max(1, Math.min(250, Math.ceil(n / (8 * Math.max(1, workers)))));
+  const size = Math.max(1, Math.min(100, Math.ceil(n / (16 * Math.max(1, workers)))));
   const chunks: T[][] = [];
   for (let i = 0; i < n; i += size) chunks.push(items.slice(i, i + size));
   const results: R[][] = new Array(chunks.length);
@@ -58,16 +59,21 @@ export async function dealOut<T, R>(items: readonly T[], workers: number, start:
   const finished = () => onDone?.(done);
   const pool = Array.from({ length: Math.max(0, Math.min(workers - 1, chunks.length - 1)) }, () => start());
   const running = pool.map((w) => new Promise<void>((resolve) => {
+    let held = 0;
     const send = () => {
       if (failed || next >= chunks.length) {
-        void w.terminate();
-        resolve();
+        if (held === 0) {
+          void w.terminate();
+          resolve();
+        }
         return;
       }
       const id = next++;
+      held++;
       w.postMessage({ id, items: chunks[id] } satisfies ChunkJob<T>);
     };
     w.on('message', (m: ChunkReply<R>) => {
+      held--;
       if (m.error) failed ??= new RunError(m.error);
       else {
         results[m.id] = m.results;
@@ -80,6 +86,7 @@ export async function dealOut<T, R>(items: readonly T[], workers: number, start:
       failed ??= new RunError(e.message);
       resolve();
     });
+    send();
     send();
   }));
   // this thread takes chunks too, and between two of them lets the workers' answers in
