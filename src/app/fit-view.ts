@@ -7,9 +7,9 @@
 // each column, a fitted value no finer than its σ, a simulated signal no finer than the σ of its sampling.
 import type { FitResult, FittedParameter, SimulationResult } from './core-adapter.ts';
 import type { EngineSignal, FitData } from './engine-protocol.ts';
-import { SCAN_COLORS, formatByUnit, valueSigmaColumns, type Figure } from './plan-view.ts';
+import { SCAN_COLORS, type Figure } from './plan-view.ts';
 import { fmt } from './format.ts';
-import { formatColumn, type NumberSpec } from '../beamline/numbers.ts';
+import { formatByUnit, formatColumn, valueSigmaColumns, type NumberSpec } from '../beamline/numbers.ts';
 
 type Theme = { font: { color: string }; xaxis: Record<string, unknown>; yaxis: Record<string, unknown> } & Record<string, unknown>;
 

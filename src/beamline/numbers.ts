@@ -182,6 +182,54 @@ export function formatColumn(values: readonly (number | undefined)[], spec: Numb
   });
 }
 
+/**
+ * A column whose rows are quantities of different kinds (a table with a row per parameter: an angle in deg beside a
+ * flux in /s): the rule per column applied to the rows of each unit together, so the degrees share one notation and
+ * the fluxes theirs (never "3e1 deg" because a flux in the same column needs an exponent).
+ */
+export function formatByUnit(values: readonly (number | undefined)[], spec: NumberSpec | readonly NumberSpec[], units: readonly string[], opts: { blank?: string; minus?: string } = {}): string[] {
+  const out: string[] = new Array<string>(values.length);
+  for (const unit of new Set(units)) {
+    const rows = units.flatMap((u, i) => (u === unit ? [i] : []));
+    const cells = formatColumn(rows.map((i) => values[i]), Array.isArray(spec) ? rows.map((i) => (spec as readonly NumberSpec[])[i]) : (spec as NumberSpec), opts);
+    rows.forEach((i, k) => (out[i] = cells[k]));
+  }
+  return out;
+}
+
+/**
+ * Values with their σ or error, read as "value ± σ" in one cell: the values as one column (no finer than each
+ * one's σ), the σ to 2 figures, written with exponents where the values are (never "8.51e7 ± 420000"), plain where
+ * the values are plain and the σ fit. Rows are grouped by unit as `formatByUnit` does. `minus` as formatColumn.
+ */
+export function valueSigmaColumns(values: readonly (number | undefined)[], sigmas: readonly (number | undefined)[], figures: number,
+  units: readonly string[] = values.map(() => ''), opts: { blank?: string; minus?: string } = {}): { value: string[]; sigma: string[] } {
+  const blank = opts.blank ?? '';
+  const value: string[] = new Array<string>(values.length);
+  const sigma: string[] = new Array<string>(values.length);
+  const good = (x: number | undefined): x is number => x !== undefined && Number.isFinite(x);
+  for (const unit of new Set(units)) {
+    const rows = units.flatMap((u, i) => (u === unit ? [i] : []));
+    const rv = rows.map((i) => (good(values[i]) ? roundValue(values[i]!, { figures, ...(good(sigmas[i]) && sigmas[i]! > 0 ? { error: sigmas[i] } : {}) }) : undefined));
+    // a σ below the round-off of its value (ROUND_OFF of it: a derivative that is exact, as the signal's in the flux)
+    // is round-off itself and written 0
+    const rs = rows.map((i) => (!good(sigmas[i]) ? undefined
+      : good(values[i]) && Math.abs(sigmas[i]!) < ROUND_OFF * Math.abs(values[i]!) ? roundToFigures(0, FIGURES.sigma) : roundToFigures(sigmas[i]!, FIGURES.sigma)));
+    const shownValues = rv.filter((r): r is Rounded => r !== undefined);
+    const shownSigmas = rs.filter((r): r is Rounded => r !== undefined);
+    const nv = notationOf(shownValues);
+    const ns = nv === 'exponent' ? 'exponent' : notationOf(shownSigmas);
+    rows.forEach((i, k) => {
+      value[i] = rv[k] ? writeRounded(rv[k]!, nv, opts.minus) : blank;
+      sigma[i] = rs[k] ? writeRounded(rs[k]!, ns, opts.minus) : blank;
+    });
+  }
+  return { value, sigma };
+}
+
+/** Said under a table of derivatives where one's error is written 0 (valueSigmaColumns: below its round-off). */
+export const ROUND_OFF_DERIVATIVE_NOTE = '± 0: the derivatives at both step sizes agree to round-off (the signal is linear in that set-point over its tolerance).';
+
 /** Counts with their standard deviation, and what the rule needs about them. */
 export interface CountsCell {
   counts: number;

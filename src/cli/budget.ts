@@ -1,7 +1,7 @@
 /** `spinyard budget FILE [--draws N] [--seed S] [--json] [-o OUT]`: the tolerance budget of a line (src/engine/budget.ts). */
 import { budgetOf, budgetSetup, compile, RunError, type BudgetResult, type BudgetSetup } from '../engine/index.ts';
 import { alignTable, formatNumber } from './format.ts';
-import { derivativeUnit, formatColumn } from '../beamline/numbers.ts';
+import { ROUND_OFF_DERIVATIVE_NOTE, derivativeUnit, formatColumn, valueSigmaColumns } from '../beamline/numbers.ts';
 import { costGate, outputProblem, problemsOut, wholeOption, workersOption } from './common.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { progressOf } from './progress.ts';
@@ -57,8 +57,10 @@ export function budgetText(b: BudgetResult, file: string): string {
     const t = byName.get(r.tolerance)!;
     return { r, t, s: t.sensitivities!.find((x) => x.detector === r.detector)! };
   });
-  const derivative = formatColumn(shownRanks.map((x) => x.s.derivative * x.t.factor), shownRanks.map((x) => ({ figures: 4, error: x.s.error * x.t.factor })));
-  const derivativeError = formatColumn(shownRanks.map((x) => x.s.error * x.t.factor), { figures: 2 });
+  // as the app's panel: the derivatives of each unit in their own notation, no finer than their error, an error below
+  // the round-off of its derivative (an exact one, as the signal's in the flux) written 0
+  const { value: derivative, sigma: derivativeError } = valueSigmaColumns(shownRanks.map((x) => x.s.derivative * x.t.factor),
+    shownRanks.map((x) => x.s.error * x.t.factor), 4, shownRanks.map((x) => derivativeUnit(x.t.unit)));
   const effect = formatColumn(shownRanks.map((x) => x.r.effect), { figures: 3 });
   const relative = formatColumn(shownRanks.map((x) => x.r.relative * 100), { figures: 2 });
   const share = formatColumn(shownRanks.map((x) => x.r.share * 100), { figures: 2 });
@@ -70,6 +72,7 @@ export function budgetText(b: BudgetResult, file: string): string {
   out.push(alignTable(rrows, [false, false, true, true, true, true]).split('\n').map((l) => `  ${l}`).join('\n'));
   if (moving.length > 20) out.push(`  … ${moving.length - 20} more in --json`);
   if (moving.length < b.ranking.length) out.push(`  (${b.ranking.length - moving.length} pairs where the tolerance does not move the detector's signal are left out)`);
+  if (derivativeError.includes('0')) out.push(`  ${ROUND_OFF_DERIVATIVE_NOTE}`);
   out.push('', `Method: ${b.method}.`, `Monte Carlo: ${b.monteCarlo.draws} draws, seed ${b.monteCarlo.seed}${b.monteCarlo.refused ? `, ${b.monteCarlo.refused} refused` : ''}.`);
   if (b.warnings.length) out.push('', 'Warnings', ...b.warnings.map((w) => `  - ${w}`));
   return `${out.join('\n')}\n`;

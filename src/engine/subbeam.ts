@@ -316,7 +316,7 @@ function convergedPass(f: FinePath, others: readonly PlaneWindow[], keep: boolea
   const kinks = kinkSpeeds(e, lo, hi);
   const base: number[] = [];
   for (let i = 1; i < GEOMETRY_BASE_PANELS; i++) base.push(lo + ((hi - lo) * i) / GEOMETRY_BASE_PANELS);
-  const { pa, pb } = cutIntervals(lo, hi, [...kinks.x, ...kinks.z, ...base]);
+  const { pa, pb } = cutIntervals(lo, hi, kinks.x, kinks.z, base);
   // each axis's quadratics in u on its own cut intervals (see axisQuadratics)
   const qx = axisQuadratics(e, true, lo, hi, kinks.x, QS_X), qz = axisQuadratics(e, false, lo, hi, kinks.z, QS_Z);
   // the nodes' polygons are made only where something reads them: the kept nodes, the moments of the displacement
@@ -468,11 +468,21 @@ interface QuadraticScratch { c: Float64Array; direct: Uint8Array; ends: Float64A
 const QS_X: QuadraticScratch = { c: new Float64Array(512), direct: new Uint8Array(64), ends: new Float64Array(128) };
 const QS_Z: QuadraticScratch = { c: new Float64Array(512), direct: new Uint8Array(64), ends: new Float64Array(128) };
 
-/** The intervals of lo … hi cut at `cuts` (a cut within 1e-9 of the range from the last one or from hi left out). */
-function cutIntervals(lo: number, hi: number, cuts: readonly number[]): { pa: number[]; pb: number[] } {
+// the cuts of cutIntervals, sorted (grown on demand)
+let CUTS = new Float64Array(64);
+
+/** The intervals of lo … hi cut at the speeds of `cuts` together (a cut within 1e-9 of the range from the last one or from hi left out). */
+function cutIntervals(lo: number, hi: number, ...cuts: (readonly number[])[]): { pa: number[]; pb: number[] } {
+  let n = 0;
+  for (const list of cuts) n += list.length;
+  if (CUTS.length < n) CUTS = new Float64Array(2 * n);
+  n = 0;
+  for (const list of cuts) for (let i = 0; i < list.length; i++) CUTS[n++] = list[i];
+  const sorted = CUTS.subarray(0, n).sort();
   const pa = [lo], pb: number[] = [];
   const minGap = 1e-9 * (hi - lo);
-  for (const x of Float64Array.from(cuts).sort()) {
+  for (let i = 0; i < n; i++) {
+    const x = sorted[i];
     if (x - pa[pa.length - 1] > minGap && hi - x > minGap) { pb.push(x); pa.push(x); }
   }
   pb.push(hi);
@@ -592,15 +602,17 @@ function axisSample(pl: AxisPlan, v: number, d: number, wins: readonly NodeWindo
   }
 }
 
-/** Node n's transmitted fraction, each window's fraction and its deflection at the plane from intervals kx and kz of the axes' quadratics. */
+/**
+ * Node n's transmitted fraction and each window's fraction from intervals kx and kz of the axes' quadratics. Its
+ * deflection at the plane is read only with its polygons (the moments, the kept nodes), and evalNode makes it there.
+ */
 function quadraticNode(e: Evaluator, n: number, qx: AxisQuadratics, kx: number, qz: AxisQuadratics, kz: number): void {
   const nw = e.wins.length;
   if (NWD[n] === 0) {
-    NT[n] = 0; NDX[n] = 0; NDZ[n] = 0;
+    NT[n] = 0;
     for (let w = 0; w < nw; w++) NCAP[n * nw + w] = 0;
     return;
   }
-  nodeDeflection(e, n);
   const v = NV[n], vv = v * v;
   const cx = qx.c, ox = kx * qx.len, sx = (1 / vv - cx[ox]) / cx[ox + 1];
   const cz = qz.c, oz = kz * qz.len, sz = (1 / vv - cz[oz]) / cz[oz + 1];

@@ -2,6 +2,9 @@
 import { describe, expect, it } from 'vitest';
 import { runCli } from '../../src/cli/cli.ts';
 import { sameInThreads, sameThroughBuilt } from '../fixtures/cli-threads.ts';
+import { budgetCells } from '../../src/app/plan-view.ts';
+import { ROUND_OFF_DERIVATIVE_NOTE } from '../../src/beamline/numbers.ts';
+import type { BudgetResult } from '../../src/engine/index.ts';
 
 const C = new URL('../../samples/bench-c-roll-calibration.spinyard', import.meta.url).pathname;
 const A = new URL('../../samples/bench-a-spin32-rotator.spinyard', import.meta.url).pathname;
@@ -17,6 +20,20 @@ describe('spinyard budget FILE', () => {
     expect(out.stdout).toMatch(/^\s+D2\s+4\.039e6\s+2\.75e5 \(6\.8 %\)/m);
     expect(out.stdout).toMatch(/Which tolerance moves which detector most/);
     expect(out.stdout).toMatch(/Monte Carlo: 200 draws, seed 1\./);
+  });
+
+  it('writes the ranked derivatives as the app\'s panel does: each unit in its own notation, an exact one ± 0 with the note', () => {
+    const json = JSON.parse(runCli(['budget', C, '--draws', '0', '--json']).stdout) as BudgetResult;
+    const text = runCli(['budget', C, '--draws', '0']).stdout;
+    // the signal is linear in the flux: its derivative (a yield, no unit) is plain, its difference error round-off
+    expect(text).toMatch(/^\s+D3\s+oven\.flux\s+0\.02813 ± 0\s/m);
+    expect(text).toContain(ROUND_OFF_DERIVATIVE_NOTE);
+    const cells = budgetCells(json).ranking;
+    expect(cells.length).toBeGreaterThan(5);
+    for (const c of cells) {
+      const row = new RegExp(`^\\s+${c.detector}\\s+${c.tolerance.replace(/\./g, '\\.')}\\s+(.+?)\\s{2,}`, 'm').exec(text);
+      expect(row?.[1], `${c.detector} ${c.tolerance}`).toBe(`${c.derivative} ± ${c.error}${c.per ? ` ${c.per}` : ''}`);
+    }
   });
 
   it('gives JSON that repeats for a seed', () => {

@@ -555,6 +555,7 @@ export function App({ host }: { host: Host }) {
   const warnedAll = errorMap.size > 0 ? new Set([...warned, ...errorMap.keys()]) : warned;
   const selWarnings = selected ? [...(errorMap.get(selected) ?? []).map((e) => `not run: ${e}`), ...(warnMap.get(selected) ?? [])] : [];
   const quad = result?.quadrature;
+  const quadText = quad ? (quad.nodes > 0 ? `quadrature: ${quad.nodes} nodes, error ${formatValue(quad.error, 2)}${quad.method ? ` (${quad.method})` : ''}` : `quadrature: ${quad.method ?? 'none'}`) : result ? 'quadrature: not reported' : '';
   return (
     <div className="app">
       <header className="topbar">
@@ -620,7 +621,7 @@ export function App({ host }: { host: Host }) {
       </main>
       <footer className="statusline" role="status" aria-live="polite">
         <span>{status.running ? 'computing…' : lastResult ? `run ${lastResult.seq} in ${lastResult.ms !== undefined ? Math.round(lastResult.ms) : '?'} ms` : 'no run yet'}</span>
-        <span>{quad ? (quad.nodes > 0 ? `quadrature: ${quad.nodes} nodes, error ${formatValue(quad.error, 2)}${quad.method ? ` (${quad.method})` : ''}` : `quadrature: ${quad.method ?? 'none'}`) : result ? 'quadrature: not reported' : ''}</span>
+        <span className="status-quad" title={quadText}>{quadText}</span>
         <span>{result ? `lost ${formatValue(isRoundOff(result.lost) ? 0 : result.lost, 3)}` : ''}</span>
         <span>{result ? `${result.warnings.length} warning${result.warnings.length === 1 ? '' : 's'}` : ''}</span>
         <span>Ctrl+K: commands</span>

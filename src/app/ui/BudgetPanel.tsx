@@ -8,6 +8,7 @@ import { usePlanClient } from './usePlanClient.ts';
 import type { CostQuestion } from '../cost-ask.ts';
 import type { WorkerLike } from '../engine-client.ts';
 import { fmt } from '../format.ts';
+import { ROUND_OFF_DERIVATIVE_NOTE } from '../../beamline/numbers.ts';
 import { budgetCells, setPointColumn } from '../plan-view.ts';
 import { QuantityInput } from './QuantityInput.tsx';
 
@@ -209,6 +210,7 @@ export function BudgetPanel(p: BudgetPanelProps) {
             </tbody>
           </table>
           {r.ranking.length > ranking.length && <p className="note">{r.ranking.length - ranking.length} pairs where the tolerance does not move the detector&apos;s signal are left out.</p>}
+          {cells!.ranking.some((c) => c.error === '0') && <p className="note">{ROUND_OFF_DERIVATIVE_NOTE}</p>}
           {r.warnings.filter((w) => !r.detectors.some((d) => d.nonlinear === w)).length > 0 && (
             <div className="warnings" role="note"><ul>{r.warnings.filter((w) => !r.detectors.some((d) => d.nonlinear === w)).map((w, i) => <li key={i}>{w}</li>)}</ul></div>
           )}

@@ -149,7 +149,7 @@ export function FitPanel(p: FitPanelProps) {
       )}
       <div className="plan-actions">
         <label htmlFor={fileId}>Measurements (CSV)</label>
-        <input id={fileId} type="file" name="fit-data" accept=".csv,text/csv,text/plain" onChange={(e) => readFile(e.target.files?.[0])} />
+        <input id={fileId} type="file" name="fit-data" className="file-pick" accept=".csv,text/csv,text/plain" onChange={(e) => readFile(e.target.files?.[0])} />
         {data && <span className="note" data-fit-file={data.name}>{data.name}: {data.rows} reading{data.rows === 1 ? '' : 's'}</span>}
         {fileError && <span className="field-error" role="alert">{fileError}</span>}
         {loaded && data?.name !== loaded && <span className="note" data-fit-wants={loaded}>the kept fit reads {loaded} (beside the document): pick it</span>}

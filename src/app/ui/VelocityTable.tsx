@@ -103,7 +103,7 @@ export function VelocityTable({ points, errors, commitQuantity, onRows, onImport
       )}
       <div className="field">
         <label htmlFor={fileId}>{points ? 'replace from CSV' : 'velocity table from CSV'}</label>
-        <input id={fileId} type="file" name="velocity-csv" style={{ minWidth: 0, width: '100%' }} accept=".csv,.tsv,.txt,text/csv,text/plain" onChange={(e) => {
+        <input id={fileId} type="file" name="velocity-csv" className="file-pick" accept=".csv,.tsv,.txt,text/csv,text/plain" onChange={(e) => {
           read(e.target.files?.[0]);
           e.target.value = '';
         }} />
