@@ -32,6 +32,9 @@ interface LeafAcc {
  */
 export type GeometryOf = (f: FinePath, others: readonly PlaneWindow[], keep: boolean) => { geo: FineGeo; change?: number; extraNodes?: number };
 
+/** Said of a plain run whose effusive sub-beams are deflected: what its spreads and profiles leave out. */
+export const SLOWEST_ATOMS_WARNING = 'geometry: behind a deflecting magnet the rms spread of an effusive beam is set by its slowest atoms (⟨1/v⁴⟩ diverges for a v³ flux distribution); the spreads and profiles shown leave out v < 0.05·√(2kT/M), 3e-6 of the flux, which in a real line ends on an aperture';
+
 /**
  * Builds the result's leaves and detectors from the run's paths (see module doc). With `profiles` false (RunOptions.noProfiles:
  * the planning tools) the leaves get no profile, centre line, displacement or spread and the detectors no crosstalk and no
@@ -146,8 +149,9 @@ export function evaluateGeometry(fines: readonly FinePath[], flux: number, epsil
       if (v && v.length > 0) d.neighbours = v;
     }
   }
-  if (geometry && fines.some((f) => f.dist.kind === 'effusive' && f.track.kicks.length > 0)) {
-    warnings.push('geometry: behind a deflecting magnet the rms spread of an effusive beam is set by its slowest atoms (⟨1/v⁴⟩ diverges for a v³ flux distribution); the spreads and profiles shown leave out v < 0.05·√(2kT/M), 3e-6 of the flux, which in a real line ends on an aperture');
+  // (said where spreads or profiles are shown: a run without them, a scan's point or a budget's draw, leaves it out)
+  if (geometry && profiles && fines.some((f) => f.dist.kind === 'effusive' && f.track.kicks.length > 0)) {
+    warnings.push(SLOWEST_ATOMS_WARNING);
   }
   if (unconverged.length) {
     warnings.push(`geometry: the detector-plane average over the speeds did not settle to ${GEOMETRY_TOLERANCE} of the sub-beam's flux on ${GEOMETRY_MAX_PANELS * 7} speeds for ${unconverged.length} sub-beam${unconverged.length === 1 ? '' : 's'} (the last change: ${unconverged.slice(0, 3).join('; ')}${unconverged.length > 3 ? '; …' : ''}); their transmitted and captured fractions carry that error`);

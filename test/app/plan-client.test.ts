@@ -257,12 +257,15 @@ async function scanOn(pool: number, job: PlanJob): Promise<{ answer: PlanAnswer;
 describe('a scan on a pool gives the one worker\'s result, byte for byte', () => {
   // bench B with a flux the reader warns about (the document's own warning) and its analyser's polar angle scanned:
   // every point warns, a warning of its own each; bench K's speed (warnings at some points); bench H's efficiency
-  // (points the reader refuses, two warnings a point); bench C over a grid of two rolls
+  // with M1's pole gap narrowed to 1 mm (points the reader refuses, two warnings a point: both magnets clip the
+  // collimated beam); bench C over a grid of two rolls
   const benchB = sample('bench-b-idealised-axis.spinyard').replace('"flux": "1e9 /s"', '"flux": "1e19 /s"');
+  const benchH = JSON.parse(sample('bench-h-rb87-mj-then-eigenstate.spinyard')) as { elements: { id: string; aperture?: { width: string } }[] };
+  benchH.elements.find((e) => e.id === 'M1')!.aperture!.width = '1 mm';
   const cases: [string, PlanJob][] = [
     ['bench B, M2.axis.theta, with a document warning', { kind: 'scan', text: benchB, title: 'theta', axes: [{ name: 'M2.axis.theta', from: 12 * deg, to: 180 * deg, points: 11, spacing: 'linear' }] }],
     ['bench K, oven.velocity.speed', { kind: 'scan', text: sample('bench-k-field-twist-passage.spinyard'), axes: [{ name: 'oven.velocity.speed', from: 300, to: 2000, points: 7, spacing: 'log' }] }],
-    ['bench H, D1.efficiency', { kind: 'scan', text: sample('bench-h-rb87-mj-then-eigenstate.spinyard'), axes: [{ name: 'D1.efficiency', from: 0.1, to: 1.6, points: 6, spacing: 'linear' }] }],
+    ['bench H, D1.efficiency', { kind: 'scan', text: JSON.stringify(benchH), axes: [{ name: 'D1.efficiency', from: 0.1, to: 1.6, points: 6, spacing: 'linear' }] }],
     ['bench C, M1.axis.roll × M2.axis.roll', { kind: 'scan', text: sample('bench-c-roll-calibration.spinyard'), axes: [
       { name: 'M1.axis.roll', from: 0, to: 90 * deg, points: 4, spacing: 'linear' }, { name: 'M2.axis.roll', from: 0, to: 180 * deg, points: 5, spacing: 'linear' }] }],
   ];

@@ -4,12 +4,13 @@
  * centre lines and the detectors' crosstalk and neighbours, and averages each sub-beam over the speeds for its own
  * window only (a plain run averages the other windows' shares on a grid of their own). Every other number must be the
  * one of a plain run, bit for bit (a scan point equals a plain run of the line at that set-point); the quadrature's
- * count of speeds is the lean run's own.
+ * count of speeds is the lean run's own, and the warning about what the spreads and profiles leave out is not said.
  */
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { compile, evaluate, type Plan } from '../../src/engine/plan.ts';
 import type { RunResult } from '../../src/engine/result.ts';
+import { SLOWEST_ATOMS_WARNING } from '../../src/engine/detector-plane.ts';
 
 function planOf(sample: string): Plan {
   const c = compile(readFileSync(new URL(`../../samples/${sample}.spinyard`, import.meta.url), 'utf8'));
@@ -23,6 +24,7 @@ function withoutProfiles(r: RunResult): RunResult {
     ...r,
     leaves: r.leaves.map(({ profile: _p, centreLine: _c, displacement: _d, spread: _s, ...l }) => l),
     detectors: r.detectors.map(({ crosstalk: _x, neighbours: _n, ...d }) => d),
+    warnings: r.warnings.filter((w) => w !== SLOWEST_ATOMS_WARNING),
   };
 }
 
@@ -53,5 +55,8 @@ describe('the detector plane without profiles', () => {
     const full = evaluate(planOf('bench-h-rb87-mj-then-eigenstate'), {}, { light: true });
     expect(full.leaves.filter((l) => l.profile && l.centreLine).length).toBe(4);
     expect(full.detectors.every((d) => d.crosstalk && d.crosstalk.length === 3 && d.neighbours)).toBe(true);
+    // the warning about the slowest atoms is a plain run's, beside its spreads and profiles, and not a lean run's
+    expect(full.warnings).toContain(SLOWEST_ATOMS_WARNING);
+    expect(evaluate(planOf('bench-h-rb87-mj-then-eigenstate'), {}, { light: true, noProfiles: true }).warnings).not.toContain(SLOWEST_ATOMS_WARNING);
   });
 });

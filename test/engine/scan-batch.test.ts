@@ -75,8 +75,9 @@ function offBy(p: ScanPoint, plain: RunResult | string, plan: Plan, scanWarnings
 
 function plainRun(plan: Plan, values: Record<string, number>): RunResult | string {
   try {
-    // as a scan runs its points: light (no table-resolution check, no velocity plot)
-    return evaluate(plan, values, { light: true });
+    // as a scan runs its points: light (no table-resolution check, no velocity plot) and without profiles (nor the
+    // warning about what the profiles leave out)
+    return evaluate(plan, values, { light: true, noProfiles: true });
   } catch (err) {
     return (err as Error).message;
   }
