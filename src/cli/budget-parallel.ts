@@ -9,8 +9,8 @@
 import { budgetOutcomes, budgetResult, type BudgetResult, type BudgetSetup, type Plan, type RunOptions } from '../engine/index.ts';
 import { dealOut, startWorker } from './workers.ts';
 
-export async function budgetParallel(text: string, plan: Plan, setup: BudgetSetup, opts: RunOptions, workers: number): Promise<BudgetResult> {
+export async function budgetParallel(text: string, plan: Plan, setup: BudgetSetup, opts: RunOptions, workers: number, worthMs?: number): Promise<BudgetResult> {
   const outcomes = await dealOut(setup.sets, workers, () => startWorker('budget-worker', { text, ids: setup.ids }),
-    (chunk) => budgetOutcomes(plan, setup.ids, chunk, opts), opts.onProgress && ((done) => opts.onProgress!(done / setup.sets.length)));
+    (chunk) => budgetOutcomes(plan, setup.ids, chunk, opts), opts.onProgress && ((done) => opts.onProgress!(done / setup.sets.length)), worthMs);
   return budgetResult(plan, setup, outcomes);
 }

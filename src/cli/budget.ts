@@ -7,6 +7,7 @@ import { type CliOutput, bad, ok } from './quick.ts';
 import { progressOf } from './progress.ts';
 import { availableParallelism } from 'node:os';
 import { budgetParallel } from './budget-parallel.ts';
+import { THREADS_WORTH_MS } from './workers.ts';
 import { PARALLEL_FROM_POINTS } from './scan.ts';
 
 export const BUDGET_OPTIONS = [
@@ -104,7 +105,8 @@ export function cmdBudgetWith(file: string, text: string, options: Record<string
   if (workers > 1) {
     return { code: 0, stdout: '', stderr: '', job: async () => {
       try {
-        return deliverBudget(await budgetParallel(text, c.plan, setup, opts, workers), file, options);
+        // by default the workers start only where the budget is long enough to be worth them (workers.ts)
+        return deliverBudget(await budgetParallel(text, c.plan, setup, opts, workers, options.workers === undefined ? THREADS_WORTH_MS : undefined), file, options);
       } catch (e) {
         if (e instanceof RunError) return err(e.message);
         throw e;

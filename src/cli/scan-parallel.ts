@@ -26,13 +26,13 @@ export function scanChunk(plan: Plan, params: ReturnType<typeof scanParameters>,
   });
 }
 
-export async function scanParallel(text: string, axes: readonly ScanAxis[], workers: number, onProgress?: (fraction: number) => void): Promise<ScanResult> {
+export async function scanParallel(text: string, axes: readonly ScanAxis[], workers: number, onProgress?: (fraction: number) => void, worthMs?: number): Promise<ScanResult> {
   const c = compile(text);
   if (!c.ok) throw new RunError(c.problems.join('\n'));
   const params = scanParameters(c.plan, axes);
   const indices = scanIndices(params.map((p) => p.values.length));
   const outs = await dealOut(indices, workers, () => startWorker('scan-worker', { text, axes }), (chunk) => scanChunk(c.plan, params, chunk),
-    onProgress && ((done) => onProgress(done / indices.length)));
+    onProgress && ((done) => onProgress(done / indices.length)), worthMs);
   const warnings = new Map<string, number>();
   const points: ScanPoint[] = outs.map((p) => {
     const { warningTexts, ...point } = p;

@@ -11,6 +11,7 @@ import { alignTable, formatNumber } from './format.ts';
 import { availableParallelism } from 'node:os';
 import { costGate, outputProblem, problemsOut, workersOption } from './common.ts';
 import { scanParallel } from './scan-parallel.ts';
+import { THREADS_WORTH_MS } from './workers.ts';
 import { type CliOutput, bad, ok } from './quick.ts';
 import { progressOf } from './progress.ts';
 
@@ -132,7 +133,8 @@ function scanOutput(plan: Plan, axes: readonly ScanAxis[], file: string, options
   if (workers > 1 && text !== undefined && !scanBatches(plan, axes)) {
     return { code: 0, stdout: '', stderr: '', job: async () => {
       try {
-        return deliverScan(await scanParallel(text, axes, workers, progressOf('scan')), file, options);
+        // by default the workers start only where the scan is long enough to be worth them (workers.ts)
+        return deliverScan(await scanParallel(text, axes, workers, progressOf('scan'), options.workers === undefined ? THREADS_WORTH_MS : undefined), file, options);
       } catch (e) {
         if (e instanceof RunError) return err(e.message);
         throw e;

@@ -85,8 +85,9 @@ or θ and φ). "spinyard scan FILE --param list" lists every set-point of FILE w
   --stored N       run the N-th scan kept in the document ("scans"); without --param a document
                    that keeps one scan runs it
   --workers N      evaluate the points in N threads (default: one per core from 200 points
-                   on, else 1); the result is the same for any N (a scan of a magnet's set-point,
-                   whose rows are formed together, runs in one thread)
+                   on, started once the scan's pace says it takes more than a few seconds, else
+                   1); the result is the same for any N (a scan of a magnet's set-point, whose
+                   rows are formed together, runs in one thread)
   --accept-cost    scan a line whose run is estimated above 10 s (as spinyard run --accept-cost)
 
 A value the document's reader refuses (a bound, a first slit moved onto the oven) leaves that point
@@ -108,8 +109,9 @@ quantiles), a note where the two disagree (the signal is not linear over the tol
   --draws N   Monte Carlo draws (default 1000; 0 for the first-order budget only)
   --seed S    the generator's seed (default 1): the same seed gives the same figures
   --json      the budget as JSON (format spinyard.budget, version 1)
-  --workers N evaluate in N threads (default: one per core from 200 evaluations on, else 1); the
-              budget is the same for any N
+  --workers N evaluate in N threads (default: one per core from 200 evaluations on, started once
+              the budget's pace says it takes more than a few seconds, else 1); the budget is the
+              same for any N
   -o OUT      write the output to OUT (atomically; never over FILE)
   --accept-cost  run a line whose run is estimated above 10 s (as spinyard run --accept-cost)
 `,
