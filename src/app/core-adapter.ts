@@ -20,9 +20,9 @@ import { speciesPortLabels as docSpeciesPortLabels } from '../beamline/edits.ts'
 export { outputsOf, lengthOf, KINDS } from '../beamline/elements/registry.ts';
 export { changeSpecies, documentOutputs, elementOutputs, speciesIsHyperfine, DEFAULT_HYPERFINE_FIELD, type DocOutput, type SpeciesChange } from '../beamline/edits.ts';
 import { runLine, compile, estimateLine, checkCost, type RunResult, type ParameterSlot } from '../engine/index.ts';
-export { compile, scanParameters, scanIndices, scanPoint, scanResult, scanCsv, budget, csvNumber, leafName, CancelledError, RunError, MAX_SCAN_POINTS, MAX_BUDGET_DRAWS } from '../engine/index.ts';
+export { compile, scanParameters, scanIndices, scanPoint, scanResult, scanCsv, budget, budgetSetup, budgetOutcomes, budgetResult, csvNumber, leafName, CancelledError, RunError, MAX_SCAN_POINTS, MAX_BUDGET_DRAWS } from '../engine/index.ts';
 export { CostLimitError } from '../engine/index.ts';
-export type { Plan, ParameterSlot, ScanResult, ScanPoint, ScanParameterResult, BudgetResult, BudgetTolerance, BudgetDetector, Sensitivity } from '../engine/index.ts';
+export type { Plan, ParameterSlot, ScanResult, ScanPoint, ScanParameterResult, BudgetResult, BudgetSetup, BudgetOutcome, BudgetTolerance, BudgetDetector, Sensitivity } from '../engine/index.ts';
 export { fit, fittedDocument, fittedQuantity, readMeasurements, simulate, parameter, MAX_ATOMS, MAX_READINGS } from '../engine/index.ts';
 export type { FitResult, FittedParameter, FitResidual, FreeParameter, Measurements, SimulationResult, SimulatedDetector, HitMap } from '../engine/index.ts';
 export type { ScanDoc, ToleranceDoc, FitDoc, SimulationDoc } from '../beamline/types.ts';

@@ -1,7 +1,7 @@
 // Messages between the renderer and the engine worker.
 import type { Beamline } from './core-adapter.ts';
 import type { RunResultView } from './results.ts';
-import type { BudgetResult, FitResult, ScanPoint, ScanResult, SimulationResult } from './core-adapter.ts';
+import type { BudgetOutcome, BudgetResult, FitResult, ScanPoint, ScanResult, SimulationResult } from './core-adapter.ts';
 
 export interface EngineRequest {
   seq: number;
@@ -75,10 +75,20 @@ export interface ScanBlock { start: number; end: number }
 /** A point of a block: its warnings by their texts (`warningTexts`, in the order the point numbered them), not indices. */
 export type BlockPoint = Omit<ScanPoint, 'warnings'> & { warningTexts?: string[] };
 
+// A tolerance budget spread over a pool of workers (plan-client.ts): each worker finds the budget's evaluations as one
+// worker does (budgetSetup of the engine: the set-points' run, the sensitivity steps, the seeded draws, the same in
+// every worker) and evaluates its share (`share`: the index-th of `count` contiguous shares), answering
+// "budget-block" with their outcomes in order. The client then sends the outcomes of every share, in order, to the
+// first worker ("budget-finish"), which makes the budget from them: the one worker's budget, bit for bit.
+
+/** The index-th of `count` contiguous shares of a budget's evaluations. */
+export interface BudgetShare { index: number; count: number }
+
 /** `acceptCost`: run even where the engine's estimate of the work is above its ask limit ("Run anyway"). */
 export type PlanRequest =
   | { kind: 'scan'; seq: number; text: string; axes: ScanAxisRequest[]; title?: string; block?: ScanBlock; acceptCost?: boolean }
-  | { kind: 'budget'; seq: number; text: string; draws: number; seed: number; acceptCost?: boolean }
+  | { kind: 'budget'; seq: number; text: string; draws: number; seed: number; share?: BudgetShare; acceptCost?: boolean }
+  | { kind: 'budget-finish'; seq: number; text: string; draws: number; seed: number; outcomes: BudgetOutcome[]; acceptCost?: boolean }
   | { kind: 'fit'; seq: number; text: string; csv: string; fileName: string; free: FitParameterRequest[]; state: boolean; acceptCost?: boolean }
   | { kind: 'simulate'; seq: number; text: string; atoms: number; seed: number; bins?: number; acceptCost?: boolean }
   | { kind: 'cancel'; seq: number };
@@ -88,6 +98,7 @@ export type PlanReply =
   | { type: 'scan-result'; seq: number; result: ScanResult; ms: number }
   | { type: 'scan-block'; seq: number; block: ScanBlock; head: ScanResult; points: BlockPoint[]; ms: number }
   | { type: 'budget-result'; seq: number; result: BudgetResult; ms: number }
+  | { type: 'budget-block'; seq: number; share: BudgetShare; outcomes: BudgetOutcome[]; ms: number }
   | { type: 'fit-result'; seq: number; result: FitResult; data: FitData; ms: number }
   | { type: 'simulate-result'; seq: number; result: SimulationResult; engine: EngineSignal[]; ms: number }
   | { type: 'plan-error'; seq: number; message: string; cost?: CostAsk }

@@ -1,16 +1,18 @@
 // The renderer's side of the planning workers (plan-serve.ts): one request at a time, with progress and cancel.
 // A scan is spread over a pool of `poolSize` workers (scan-blocks.ts): each evaluates a contiguous block of the
 // points, the blocks are merged in scan order (the result is the one worker's, bit for bit), the progress is the
-// points done over all blocks and Cancel stops every block. A budget, a fit and a simulated run go to the first
-// worker of the pool (the engine draws their random numbers in one sequence: they do not split). Cancel asks the
+// points done over all blocks and Cancel stops every block. A budget of BUDGET_SHARE_FROM draws or more is shared out
+// likewise (each worker finds the same evaluations and evaluates its share; the first then makes the budget from every
+// share's outcomes in order: the one worker's budget, bit for bit). A shorter budget, a fit and a simulated run go to
+// the first worker of the pool. Cancel asks the
 // workers to stop (a scan stops before its next point and keeps its compiled document for the next request); when
 // no answer comes within `graceMs`, or for a budget, a fit or a simulated run, which cannot pause, the busy workers
 // are terminated and fresh ones start with the next request. A new request while one runs replaces it. Answers of a
 // request that is not the current one are discarded.
 
-import type { BudgetResult, FitResult, ScanResult, SimulationResult } from './core-adapter.ts';
+import type { BudgetOutcome, BudgetResult, FitResult, ScanResult, SimulationResult } from './core-adapter.ts';
 import type {
-  CostAsk, EngineSignal, FitData, FitParameterRequest, PlanReply, PlanRequest, ScanBlock, WorkerReply,
+  BudgetShare, CostAsk, EngineSignal, FitData, FitParameterRequest, PlanReply, PlanRequest, ScanBlock, WorkerReply,
 } from './engine-protocol.ts';
 import type { WorkerLike } from './engine-client.ts';
 import { mergeScanBlocks, scanBlocks } from './scan-blocks.ts';
@@ -38,7 +40,7 @@ export interface PlanStatus {
 
 export type PlanAnswer =
   | { seq: number; kind: 'scan'; result: ScanResult; ms: number; workers: number }
-  | { seq: number; kind: 'budget'; result: BudgetResult; ms: number }
+  | { seq: number; kind: 'budget'; result: BudgetResult; ms: number; workers: number }
   | { seq: number; kind: 'fit'; result: FitResult; data: FitData; ms: number }
   | { seq: number; kind: 'simulate'; result: SimulationResult; engine: EngineSignal[]; ms: number }
   /** `cost`: the engine refused the work as too expensive (ask "Run anyway" unless `hard`); `job` is the request, to start again. */
@@ -52,15 +54,22 @@ export interface PlanClient {
   dispose(): void;
 }
 
-/** The share of the current request one worker has: the whole request, or a block of a scan. */
+/** The share of the current request one worker has: the whole request, a block of a scan, a share of a budget's
+ *  evaluations, or the making of a budget from every share's outcomes (`finish`). */
 interface Part {
   worker: number;
   block?: ScanBlock;
+  share?: BudgetShare;
+  finish?: boolean;
   fraction: number;
   done: boolean;
   cancelled?: boolean;
   reply?: PlanReply & { type: 'scan-block' };
+  outcomes?: BudgetOutcome[];
 }
+
+/** A budget of this many draws or more is shared out over a pool of two workers or more (fewer: the first worker). */
+export const BUDGET_SHARE_FROM = 200;
 
 export function createPlanClient(
   makeWorker: () => WorkerLike,
@@ -132,9 +141,21 @@ export function createPlanClient(
       case 'scan-result':
         part.done = true;
         return done({ seq: r.seq, kind: 'scan', result: r.result, ms: r.ms, workers: 1 });
+      case 'budget-block': {
+        part.done = true;
+        part.fraction = 1;
+        part.outcomes = r.outcomes;
+        if (parts.some((p) => !p.done)) return;
+        // every share is in: the first worker makes the budget from their outcomes, in order
+        const b = job as PlanJob & { kind: 'budget' };
+        const outcomes = [...parts].sort((x, y) => x.share!.index - y.share!.index).flatMap((p) => p.outcomes!);
+        parts = [{ worker: 0, finish: true, fraction: 1, done: false }];
+        ensure(0).postMessage({ kind: 'budget-finish', seq: status.seq, text: b.text, draws: b.draws, seed: b.seed, outcomes, ...(b.acceptCost ? { acceptCost: true } : {}) } satisfies PlanRequest);
+        return;
+      }
       case 'budget-result':
         part.done = true;
-        return done({ seq: r.seq, kind: 'budget', result: r.result, ms: r.ms });
+        return done({ seq: r.seq, kind: 'budget', result: r.result, ms: part.finish ? now() - t0 : r.ms, workers: status.workers ?? 1 });
       case 'fit-result':
         part.done = true;
         return done({ seq: r.seq, kind: 'fit', result: r.result, data: r.data, ms: r.ms });
@@ -194,7 +215,11 @@ export function createPlanClient(
       // a scan of two points or more on a pool of two workers or more: a block each; anything else whole on the first
       const total = next.kind === 'scan' ? next.axes.reduce((n, a) => n * a.points, 1) : 1;
       const blocks = size > 1 && Number.isSafeInteger(total) && total > 1 ? scanBlocks(total, size) : [];
-      parts = blocks.length > 1 ? blocks.map((block, i) => ({ worker: i, block, fraction: 0, done: false })) : [{ worker: 0, fraction: 0, done: false }];
+      // a long budget on a pool of two workers or more: a share of its evaluations each
+      const shares = next.kind === 'budget' && size > 1 && next.draws >= BUDGET_SHARE_FROM ? size : 1;
+      parts = blocks.length > 1 ? blocks.map((block, i) => ({ worker: i, block, fraction: 0, done: false }))
+        : shares > 1 ? Array.from({ length: shares }, (_, i) => ({ worker: i, share: { index: i, count: shares }, fraction: 0, done: false }))
+        : [{ worker: 0, fraction: 0, done: false }];
       Object.assign(status, { running: true, kind: next.kind, seq, progress: 0, cancelling: false, workers: parts.length });
       for (const part of parts) {
         let req: PlanRequest;
@@ -205,7 +230,7 @@ export function createPlanClient(
           };
         } else {
           const { acceptCost: _a, ...rest } = next;
-          req = { ...rest, seq, ...accept };
+          req = { ...rest, seq, ...(part.share ? { share: part.share } : {}), ...accept } as PlanRequest;
         }
         ensure(part.worker).postMessage(req);
       }

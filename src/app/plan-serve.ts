@@ -2,7 +2,8 @@
 // text it is sent (the compiled plan is kept while the text stays the same, so a second scan of one document
 // reuses what the engine derived for the first), then runs a scan point by point or a tolerance budget,
 // posting progress at most every 50 ms; a scan's `block` (its share of a scan spread over a pool of workers) runs
-// only those points and answers them with the scan's frame (scan-blocks.ts). A scan gives the event loop a turn
+// only those points and answers them with the scan's frame (scan-blocks.ts); a budget's `share` likewise evaluates its
+// share of the budget's evaluations, and "budget-finish" makes the budget from every share's outcomes. A scan gives the event loop a turn
 // every `sliceMs` so that a cancel can arrive; it then stops before its next point and answers "plan-cancelled". A budget runs in one piece
 // (the engine's budget has no place to pause); the client terminates the worker to stop it. A fit (the
 // measurements' CSV read against the compiled document) and a simulated run likewise run in one piece. Each tool first
@@ -11,8 +12,8 @@
 // runs in the worker.
 
 import {
-  compile, checkRunCost, CostLimitError, budget, scanIndices, scanParameters, scanPoint, scanResult, CancelledError, fit, readMeasurements, simulate, parameter,
-  displayUnit, type Plan, type RunResult, type ScanPoint, type ScanResult,
+  compile, checkRunCost, CostLimitError, budget, budgetSetup, budgetOutcomes, budgetResult, scanIndices, scanParameters, scanPoint, scanResult, CancelledError, fit, readMeasurements, simulate, parameter,
+  displayUnit, type BudgetSetup, type Plan, type RunResult, type ScanPoint, type ScanResult,
 } from './core-adapter.ts';
 import { blockPoints } from './scan-blocks.ts';
 import { costOf } from './cost-ask.ts';
@@ -48,7 +49,18 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     const r = compile(text);
     if (!r.ok) throw new Error(`the document cannot be read: ${r.problems.join('; ')}`);
     compiled = { text, plan: r.plan };
+    setup = undefined;
     return r.plan;
+  };
+
+  // the evaluations of the last budget shared out (its share, then its finish, find them once)
+  let setup: { plan: Plan; key: string; value: BudgetSetup } | undefined;
+  const setupOf = (plan: Plan, req: { draws: number; seed: number; acceptCost?: boolean }): BudgetSetup => {
+    const key = `${req.draws} ${req.seed} ${req.acceptCost === true}`;
+    if (setup?.plan === plan && setup.key === key) return setup.value;
+    const value = budgetSetup(plan, { draws: req.draws, seed: req.seed, ...accept(req) });
+    setup = { plan, key, value };
+    return value;
   };
 
   /** The document's line by the engine's cost estimate, before a scan's points (each then skips its own): a
@@ -108,8 +120,28 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
   const runBudget = (req: PlanRequest & { kind: 'budget' }) => {
     const t0 = now();
     const plan = planOf(req.text);
+    if (req.share) {
+      // a share of a budget spread over a pool: its evaluations' outcomes, in order
+      const setup = setupOf(plan, req);
+      const { index, count } = req.share, n = setup.sets.length;
+      const sets = setup.sets.slice(Math.floor((index * n) / count), Math.floor(((index + 1) * n) / count));
+      const tell = progress(req.seq);
+      let done = 0;
+      const outcomes = budgetOutcomes(plan, setup.ids, sets, { isCancelled: () => cancelled.has(req.seq) }, () => tell(++done / sets.length));
+      post({ type: 'budget-block', seq: req.seq, share: req.share, outcomes, ms: now() - t0 });
+      return;
+    }
     const result = budget(plan, { draws: req.draws, seed: req.seed, onProgress: progress(req.seq), isCancelled: () => cancelled.has(req.seq), ...accept(req) });
     post({ type: 'budget-result', seq: req.seq, result, ms: now() - t0 });
+  };
+
+  /** The budget made from the outcomes of every share, in order (the setup is the one the shares were found from). */
+  const finishBudget = (req: PlanRequest & { kind: 'budget-finish' }) => {
+    const t0 = now();
+    const plan = planOf(req.text);
+    const setup = setupOf(plan, req);
+    if (req.outcomes.length !== setup.sets.length) throw new Error(`the budget's shares gave ${req.outcomes.length} outcomes for ${setup.sets.length} evaluations`);
+    post({ type: 'budget-result', seq: req.seq, result: budgetResult(plan, setup, req.outcomes), ms: now() - t0 });
   };
 
   const runFit = (req: PlanRequest & { kind: 'fit' }) => {
@@ -149,6 +181,7 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
       try {
         if (req.kind === 'scan') await runScan(req);
         else if (req.kind === 'budget') runBudget(req);
+        else if (req.kind === 'budget-finish') finishBudget(req);
         else if (req.kind === 'fit') runFit(req);
         else runSimulate(req);
       } catch (e) {

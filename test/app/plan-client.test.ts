@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterEach, describe, expect, it, vi } from 'vitest';
-import { createPlanClient, type PlanAnswer, type PlanJob, type PlanStatus } from '../../src/app/plan-client.ts';
+import { BUDGET_SHARE_FROM, createPlanClient, type PlanAnswer, type PlanJob, type PlanStatus } from '../../src/app/plan-client.ts';
 import { createPlanServer } from '../../src/app/plan-serve.ts';
 import { scanBlocks } from '../../src/app/scan-blocks.ts';
 import type { WorkerLike } from '../../src/app/engine-client.ts';
@@ -103,6 +103,30 @@ describe('createPlanClient', () => {
     c.cancel();
     expect(made[1].terminated).toBe(true);
     expect(answers.at(-1)).toEqual({ seq: b, kind: 'budget', cancelled: true });
+  });
+
+  it('shares a long budget out, sends every share\'s outcomes in order to the first worker, and ends every share on cancel', () => {
+    const { made, make } = fakeWorkers();
+    const answers: PlanAnswer[] = [];
+    const c = createPlanClient(make, (a) => answers.push(a), () => {}, 400, 3);
+    const job = { ...budgetJob, draws: 500, acceptCost: true };
+    const seq = c.start(job);
+    expect(made.map((w) => w.posted)).toEqual([0, 1, 2].map((index) => [{ kind: 'budget', seq, text: '{}', draws: 500, seed: 3, share: { index, count: 3 }, acceptCost: true }]));
+    // the shares answer out of order; the outcomes go to the first worker in the order of the shares
+    made[2].reply({ type: 'budget-block', seq, share: { index: 2, count: 3 }, outcomes: [[5], 'refused'], ms: 1 });
+    made[0].reply({ type: 'budget-block', seq, share: { index: 0, count: 3 }, outcomes: [[1], [2]], ms: 1 });
+    expect(made[0].posted).toHaveLength(1);
+    made[1].reply({ type: 'budget-block', seq, share: { index: 1, count: 3 }, outcomes: [[3], [4]], ms: 1 });
+    expect(made[0].posted.at(-1)).toEqual({ kind: 'budget-finish', seq, text: '{}', draws: 500, seed: 3, outcomes: [[1], [2], [3], [4], [5], 'refused'], acceptCost: true });
+    const result = { format: 'spinyard.budget' } as never;
+    made[0].reply({ type: 'budget-result', seq, result, ms: 1 });
+    expect(answers).toEqual([{ seq, kind: 'budget', result, ms: expect.any(Number), workers: 3 }]);
+    // a cancel ends every share still running at once
+    const again = c.start(job);
+    made[1].reply({ type: 'budget-block', seq: again, share: { index: 1, count: 3 }, outcomes: [[3]], ms: 1 });
+    c.cancel();
+    expect(made.map((w) => w.terminated)).toEqual([true, false, true]);
+    expect(answers.at(-1)).toEqual({ seq: again, kind: 'budget', cancelled: true });
   });
 
   it('a refusal by the engine\'s cost estimate comes with the estimate and the request, to start again with acceptCost', () => {
@@ -299,4 +323,52 @@ describe('a scan on a pool gives the one worker\'s result, byte for byte', () =>
     expect(h.result.points.some((p) => p.error)).toBe(true);
     expect(h.result.points.some((p) => (p.warnings?.length ?? 0) >= 2)).toBe(true);
   }, 120_000);
+});
+
+/** A budget's answer and the progress on the way from a client with `pool` workers. */
+async function budgetOn(pool: number, job: PlanJob): Promise<{ answer: PlanAnswer; progress: number[]; made: number }> {
+  const w = engineWorkers();
+  const progress: number[] = [];
+  const answer = await new Promise<PlanAnswer>((resolve) => {
+    const c = createPlanClient(w.make, resolve, (s) => s.running && progress.push(s.progress), 400, pool);
+    c.start(job);
+  });
+  return { answer, progress, made: w.made() };
+}
+
+describe('a budget on a pool gives the one worker\'s budget, byte for byte', () => {
+  // bench C's five tolerances; bench H with two of its own (its magnets' rolls), whose draws cost the most
+  const benchH = JSON.parse(sample('bench-h-rb87-mj-then-eigenstate.spinyard')) as Record<string, unknown>;
+  benchH.tolerances = [{ parameter: 'M1.axis.roll', halfWidth: '0.5 deg', distribution: 'normal' }, { parameter: 'M2.field', halfWidth: '0.2 mT', distribution: 'uniform' }];
+  const cases: [string, PlanJob & { kind: 'budget' }][] = [
+    ['bench C, 600 draws', { kind: 'budget', text: sample('bench-c-roll-calibration.spinyard'), draws: 600, seed: 5 }],
+    ['bench H, 240 draws', { kind: 'budget', text: JSON.stringify(benchH), draws: 240, seed: 2 }],
+  ];
+  it.each(cases)('%s', async (_name, job) => {
+    const one = await budgetOn(1, job);
+    if (!('result' in one.answer) || one.answer.kind !== 'budget') throw new Error(`the budget did not run: ${JSON.stringify(one.answer)}`);
+    expect(one.made).toBe(1);
+    expect(one.answer.workers).toBe(1);
+    const text = JSON.stringify(one.answer.result);
+    expect(text).not.toMatch(/NaN|null/);
+    expect(one.answer.result.monteCarlo.draws).toBe(job.draws);
+    for (const pool of [2, 3]) {
+      const many = await budgetOn(pool, job);
+      if (!('result' in many.answer) || many.answer.kind !== 'budget') throw new Error(`the shared budget did not run: ${JSON.stringify(many.answer)}`);
+      expect(many.made).toBe(pool);
+      expect(many.answer.workers).toBe(pool);
+      expect(JSON.stringify(many.answer.result)).toBe(text);
+      // the progress only grows
+      expect(many.progress.every((p, i) => i === 0 || p >= many.progress[i - 1])).toBe(true);
+    }
+    // a short budget stays on the first worker
+    const short = await budgetOn(3, { ...job, draws: BUDGET_SHARE_FROM - 1 });
+    expect(short.made).toBe(1);
+    return undefined;
+  }, 120_000);
+
+  it('a share that fails fails the budget, with the engine\'s message', async () => {
+    const none = await budgetOn(2, { kind: 'budget', text: sample('bench-a-spin32-rotator.spinyard'), draws: 500, seed: 1 });
+    expect(none.answer).toMatchObject({ kind: 'budget', error: expect.stringMatching(/no tolerances/) });
+  });
 });

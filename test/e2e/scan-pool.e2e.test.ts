@@ -3,6 +3,7 @@
 // export, the numbers the chart drew and the warnings listed. Bench B's analyser polar angle warns at every point,
 // a warning of its own each (numbered by first appearance); bench C's efficiency has points the reader refuses; bench
 // C's kept roll scan is the panel's own. A long scan on two workers shows the progress of both and stops at Cancel.
+// Bench C's tolerance budget, shared over the two workers, shows the one worker's tables.
 import { afterAll, describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { openApp, runMenu, screenshotPath, waitForFreshResults, type App } from './harness.ts';
@@ -87,10 +88,13 @@ async function scansWith(n: number): Promise<{ app: App; seen: ScanSeen[] }> {
 describe('a scan on a pool of workers in Chromium', () => {
   let one: ScanSeen[];
   let two: ScanSeen[];
+  let oneApp: App;
   let twoApp: App;
 
   it('gives the same CSV, chart and warnings on one worker and on two', async () => {
-    one = (await scansWith(2)).seen;
+    const a = await scansWith(2);
+    one = a.seen;
+    oneApp = a.app;
     const b = await scansWith(3);
     two = b.seen;
     twoApp = b.app;
@@ -131,6 +135,28 @@ describe('a scan on a pool of workers in Chromium', () => {
     const again = await scanOf(twoApp, 'again');
     expect(again.workers).toBe(2);
     expect(again.csv).toBe(one[2].csv);
+    expect(twoApp.errors).toEqual([]);
+  }, 120_000);
+
+  it('gives bench C\'s tolerance budget of 1000 draws, shared over two workers, as one worker gives it', async () => {
+    const tables: string[] = [];
+    for (const [app, workers] of [[oneApp, 1], [twoApp, 2]] as const) {
+      const { page } = app;
+      await page.locator('[data-panel="scan"] h2').focus();
+      await page.keyboard.press('Alt+b');
+      const panel = page.locator('[data-panel="budget"]');
+      await panel.waitFor();
+      await expect.poll(() => panel.locator('.tolerances tbody tr[data-tolerance]').count()).toBe(5);
+      await panel.getByRole('button', { name: 'Run budget' }).click();
+      await page.waitForSelector('[data-budget-seq]', { timeout: 60_000 });
+      await expect.poll(() => panel.locator('[data-budget-workers]').getAttribute('data-budget-workers')).toBe(String(workers));
+      // every figure of the two tables (the detectors', the ranked effects')
+      tables.push((await panel.locator('table.budget-detectors, table.budget-ranking').allTextContents()).join('\n'));
+    }
+    expect(tables[0]).toMatch(/8\.397e8/);
+    expect(tables[0]).not.toMatch(/NaN/);
+    expect(tables[1]).toBe(tables[0]);
+    expect(await twoApp.page.locator('[data-budget-workers]').textContent()).toMatch(/1000 draws \(seed 1\) in .* on 2 workers/);
     expect(twoApp.errors).toEqual([]);
   }, 120_000);
 });

@@ -42,7 +42,7 @@ import { SimulatePanel } from './SimulatePanel.tsx';
 /** A worker of the engine (the same module runs the live run and the planning requests). */
 const makeEngineWorker = (): WorkerLike => new Worker(new URL('../engine.worker.ts', import.meta.url), { type: 'module' }) as never;
 /** The workers a scan is spread over: one per core but one, at most 4, at least 1 (scan-blocks.ts). */
-const SCAN_POOL = scanPoolSize(typeof navigator === 'undefined' ? undefined : navigator.hardwareConcurrency);
+const PLAN_POOL = scanPoolSize(typeof navigator === 'undefined' ? undefined : navigator.hardwareConcurrency);
 
 type ReadOk = ReturnType<typeof readDocument> & { ok: true };
 
@@ -580,7 +580,7 @@ export function App({ host }: { host: Host }) {
           </section>
           {mounted.scan && (
             <ScanPanel key={`ScanPanel-${key}`} hidden={!panels.scan} doc={good.doc} line={line} text={good.text} params={params} dark={dark} fileBase={fileBase}
-              makeWorker={makeEngineWorker} poolSize={SCAN_POOL} onCost={askCost} onClose={() => run('view.scanPanel')}
+              makeWorker={makeEngineWorker} poolSize={PLAN_POOL} onCost={askCost} onClose={() => run('view.scanPanel')}
               onKeep={(scan) => {
                 const m = planEdit({ kind: 'keepScan', scan });
                 if (m) fail('The scan was not kept', m);
@@ -595,7 +595,7 @@ export function App({ host }: { host: Host }) {
               )} />
           )}
           {mounted.budget && (
-            <BudgetPanel key={`BudgetPanel-${key}`} hidden={!panels.budget} doc={good.doc} text={good.text} params={params} makeWorker={makeEngineWorker} onCost={askCost}
+            <BudgetPanel key={`BudgetPanel-${key}`} hidden={!panels.budget} doc={good.doc} text={good.text} params={params} makeWorker={makeEngineWorker} poolSize={PLAN_POOL} onCost={askCost}
               onClose={() => run('view.budgetPanel')}
               onAdd={(tolerance) => planEdit({ kind: 'addTolerance', tolerance })}
               onSet={(index, tolerance) => planEdit({ kind: 'setTolerance', index, tolerance })}

@@ -18,6 +18,8 @@ export interface BudgetPanelProps {
   text: string;
   params: readonly ParameterSlot[];
   makeWorker(): WorkerLike;
+  /** Workers a long budget is shared out over (1: one worker). */
+  poolSize?: number;
   /** Asks whether to run work the engine refused by its cost estimate ("Run anyway" / "Don't run"). */
   onCost?(q: CostQuestion): void;
   /** A tolerance edit; resolves to the message when the document refuses it. */
@@ -39,15 +41,15 @@ export function BudgetPanel(p: BudgetPanelProps) {
   const [draws, setDraws] = useState('1000');
   const [seed, setSeed] = useState('1');
   const [answer, setAnswer] = useState<{ error?: string; cancelled?: boolean } | undefined>();
-  const [shown, setShown] = useState<{ seq: number; result: BudgetResult; ms: number; text: string } | undefined>();
+  const [shown, setShown] = useState<{ seq: number; result: BudgetResult; ms: number; text: string; workers: number } | undefined>();
   const sentText = useRef('');
   const { client, status } = usePlanClient(p.makeWorker, (a) => {
     if ('result' in a && a.kind === 'budget') {
-      setShown({ seq: a.seq, result: a.result, ms: a.ms, text: sentText.current });
+      setShown({ seq: a.seq, result: a.result, ms: a.ms, text: sentText.current, workers: a.workers });
       setAnswer(undefined);
     } else if ('error' in a) setAnswer({ error: a.error });
     else if ('cancelled' in a) setAnswer({ cancelled: true });
-  }, { onCost: p.onCost });
+  }, { poolSize: p.poolSize, onCost: p.onCost });
 
   const pick = newName && free.some((s) => s.name === newName) ? newName : (free[0]?.name ?? '');
   const pickSlot = p.params.find((s) => s.name === pick);
@@ -160,7 +162,7 @@ export function BudgetPanel(p: BudgetPanelProps) {
         )}
         {!status.running && answer?.cancelled && <span className="run-note" data-budget-cancelled>cancelled{shown ? ': the tables show the last budget that finished' : ''}</span>}
         {!status.running && answer?.error && <span className="run-error" role="alert">The budget did not run: {answer.error}</span>}
-        {shown && !status.running && !answer && <span className="note">{r!.monteCarlo.draws} draws (seed {r!.monteCarlo.seed}) in {fmt(shown.ms / 1000, 3)} s</span>}
+        {shown && !status.running && !answer && <span className="note" data-budget-workers={shown.workers}>{r!.monteCarlo.draws} draws (seed {r!.monteCarlo.seed}) in {fmt(shown.ms / 1000, 3)} s{shown.workers > 1 ? ` on ${shown.workers} workers` : ''}</span>}
       </div>
       {r && (
         <div className="budget-result" data-budget-seq={shown!.seq}>
