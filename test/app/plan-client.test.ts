@@ -267,8 +267,8 @@ function engineWorkers() {
   return { make, made: () => made };
 }
 
-/** The scan's answer from a client with `pool` workers. */
-async function scanOn(pool: number, job: PlanJob): Promise<{ answer: PlanAnswer; progress: number[]; made: number }> {
+/** The answer of a planning job (a scan, a budget) from a client with `pool` workers, and its progress on the way. */
+async function answerOn(pool: number, job: PlanJob): Promise<{ answer: PlanAnswer; progress: number[]; made: number }> {
   const w = engineWorkers();
   const progress: number[] = [];
   const answer = await new Promise<PlanAnswer>((resolve) => {
@@ -294,13 +294,13 @@ describe('a scan on a pool gives the one worker\'s result, byte for byte', () =>
       { name: 'M1.axis.roll', from: 0, to: 90 * deg, points: 4, spacing: 'linear' }, { name: 'M2.axis.roll', from: 0, to: 180 * deg, points: 5, spacing: 'linear' }] }],
   ];
   it.each(cases)('%s', async (_name, job) => {
-    const one = await scanOn(1, job);
+    const one = await answerOn(1, job);
     if (!('result' in one.answer) || one.answer.kind !== 'scan') throw new Error(`the scan did not run: ${JSON.stringify(one.answer)}`);
     expect(one.made).toBe(1);
     const text = JSON.stringify(one.answer.result);
     expect(text).not.toMatch(/NaN|null/);
     for (const pool of [2, 3, 4]) {
-      const many = await scanOn(pool, job);
+      const many = await answerOn(pool, job);
       if (!('result' in many.answer)) throw new Error(`the pooled scan did not run: ${JSON.stringify(many.answer)}`);
       const blocks = scanBlocks(one.answer.result.points.length, pool).length;
       expect(blocks).toBeGreaterThan(1);
@@ -315,26 +315,15 @@ describe('a scan on a pool gives the one worker\'s result, byte for byte', () =>
   }, 120_000);
 
   it('the cases warn as they should: the document\'s warning first, warnings at some points, refused points', async () => {
-    const b = (await scanOn(2, cases[0][1])).answer as PlanAnswer & { kind: 'scan'; result: { warnings: string[]; points: { warnings?: number[]; error?: string }[] } };
+    const b = (await answerOn(2, cases[0][1])).answer as PlanAnswer & { kind: 'scan'; result: { warnings: string[]; points: { warnings?: number[]; error?: string }[] } };
     expect(b.result.warnings[0]).toMatch(/flux/);
     expect(b.result.warnings.length).toBeGreaterThan(3);
     expect(b.result.points.filter((p) => p.warnings).length).toBeGreaterThan(3);
-    const h = (await scanOn(2, cases[2][1])).answer as typeof b;
+    const h = (await answerOn(2, cases[2][1])).answer as typeof b;
     expect(h.result.points.some((p) => p.error)).toBe(true);
     expect(h.result.points.some((p) => (p.warnings?.length ?? 0) >= 2)).toBe(true);
   }, 120_000);
 });
-
-/** A budget's answer and the progress on the way from a client with `pool` workers. */
-async function budgetOn(pool: number, job: PlanJob): Promise<{ answer: PlanAnswer; progress: number[]; made: number }> {
-  const w = engineWorkers();
-  const progress: number[] = [];
-  const answer = await new Promise<PlanAnswer>((resolve) => {
-    const c = createPlanClient(w.make, resolve, (s) => s.running && progress.push(s.progress), 400, pool);
-    c.start(job);
-  });
-  return { answer, progress, made: w.made() };
-}
 
 describe('a budget on a pool gives the one worker\'s budget, byte for byte', () => {
   // bench C's five tolerances; bench H with two of its own (its magnets' rolls), whose draws cost the most
@@ -345,7 +334,7 @@ describe('a budget on a pool gives the one worker\'s budget, byte for byte', () 
     ['bench H, 240 draws', { kind: 'budget', text: JSON.stringify(benchH), draws: 240, seed: 2 }],
   ];
   it.each(cases)('%s', async (_name, job) => {
-    const one = await budgetOn(1, job);
+    const one = await answerOn(1, job);
     if (!('result' in one.answer) || one.answer.kind !== 'budget') throw new Error(`the budget did not run: ${JSON.stringify(one.answer)}`);
     expect(one.made).toBe(1);
     expect(one.answer.workers).toBe(1);
@@ -353,7 +342,7 @@ describe('a budget on a pool gives the one worker\'s budget, byte for byte', () 
     expect(text).not.toMatch(/NaN|null/);
     expect(one.answer.result.monteCarlo.draws).toBe(job.draws);
     for (const pool of [2, 3]) {
-      const many = await budgetOn(pool, job);
+      const many = await answerOn(pool, job);
       if (!('result' in many.answer) || many.answer.kind !== 'budget') throw new Error(`the shared budget did not run: ${JSON.stringify(many.answer)}`);
       expect(many.made).toBe(pool);
       expect(many.answer.workers).toBe(pool);
@@ -362,13 +351,13 @@ describe('a budget on a pool gives the one worker\'s budget, byte for byte', () 
       expect(many.progress.every((p, i) => i === 0 || p >= many.progress[i - 1])).toBe(true);
     }
     // a short budget stays on the first worker
-    const short = await budgetOn(3, { ...job, draws: BUDGET_SHARE_FROM - 1 });
+    const short = await answerOn(3, { ...job, draws: BUDGET_SHARE_FROM - 1 });
     expect(short.made).toBe(1);
     return undefined;
   }, 120_000);
 
   it('a share that fails fails the budget, with the engine\'s message', async () => {
-    const none = await budgetOn(2, { kind: 'budget', text: sample('bench-a-spin32-rotator.spinyard'), draws: 500, seed: 1 });
+    const none = await answerOn(2, { kind: 'budget', text: sample('bench-a-spin32-rotator.spinyard'), draws: 500, seed: 1 });
     expect(none.answer).toMatchObject({ kind: 'budget', error: expect.stringMatching(/no tolerances/) });
   });
 });

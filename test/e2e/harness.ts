@@ -7,7 +7,8 @@ import { spawn, execFileSync, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readdirSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
-import { chromium, type BrowserContext, type Page } from 'playwright-core';
+import { chromium, type BrowserContext, type Locator, type Page } from 'playwright-core';
+import { expect } from 'vitest';
 import { BROWSER_ARGS, findBrowser } from '../../src/cli/find-browser.ts';
 
 export const ROOT = resolve(import.meta.dirname, '..', '..');
@@ -210,4 +211,19 @@ export async function selectElement(page: Page, id: string): Promise<void> {
 export function screenshotPath(name: string): string {
   mkdirSync(RESULTS_DIR, { recursive: true });
   return join(RESULTS_DIR, `${name}.png`);
+}
+
+/**
+ * Opens the tolerance budget panel (Alt+B from the element `from` focuses), waits for its `tolerances` rows, runs the
+ * budget and waits for its tables; the panel's locator.
+ */
+export async function runBudgetPanel(page: Page, from: string, tolerances: number): Promise<Locator> {
+  await page.locator(from).focus();
+  await page.keyboard.press('Alt+b');
+  const panel = page.locator('[data-panel="budget"]');
+  await panel.waitFor();
+  await expect.poll(() => panel.locator('.tolerances tbody tr[data-tolerance]').count()).toBe(tolerances);
+  await panel.getByRole('button', { name: 'Run budget' }).click();
+  await page.waitForSelector('[data-budget-seq]', { timeout: 60_000 });
+  return panel;
 }

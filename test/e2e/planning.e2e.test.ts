@@ -4,7 +4,7 @@
 // of both panels at 1280×720 in the light and the dark theme go to test-results/.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
-import { openApp, foreignRequests, screenshotPath, waitForFreshResults, type App } from './harness.ts';
+import { openApp, foreignRequests, runBudgetPanel, screenshotPath, waitForFreshResults, type App } from './harness.ts';
 
 let app: App;
 const SAMPLE = 'bench-c-roll-calibration.spinyard';
@@ -174,13 +174,7 @@ describe('the planning panels in Chromium', () => {
 
   it('runs the tolerance budget in the worker: D1\'s first-order σ is 4.34e7 /s', async () => {
     const { page } = app;
-    await page.locator('[data-panel="scan"] h2').focus();
-    await page.keyboard.press('Alt+b');
-    const panel = page.locator('[data-panel="budget"]');
-    await panel.waitFor();
-    await expect.poll(() => panel.locator('.tolerances tbody tr[data-tolerance]').count()).toBe(5);
-    await panel.getByRole('button', { name: 'Run budget' }).click();
-    await page.waitForSelector('[data-budget-seq]', { timeout: 60_000 });
+    const panel = await runBudgetPanel(page, '[data-panel="scan"] h2', 5);
     const sigma = Number(await panel.locator('tr[data-detector="D1"][data-linear-sigma]').getAttribute('data-linear-sigma'));
     // by hand: flux ±1e8 /s (1σ) moves S = 8.397e8 /s by 5 %, the efficiency ±0.02 uniform by 1.08e7 /s,
     // the two rolls by 1.13e6 /s each: √(4.199² + 1.077² + 2·0.113²) × 1e7 = 4.34e7 /s

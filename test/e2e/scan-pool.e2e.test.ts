@@ -6,7 +6,7 @@
 // Bench C's tolerance budget, shared over the two workers, shows the one worker's tables.
 import { afterAll, describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
-import { openApp, runMenu, screenshotPath, waitForFreshResults, type App } from './harness.ts';
+import { openApp, runBudgetPanel, runMenu, screenshotPath, waitForFreshResults, type App } from './harness.ts';
 
 /** Makes the page see `cores` logical processors (navigator.hardwareConcurrency), before the app's scripts run. */
 const cores = (n: number) => `Object.defineProperty(Navigator.prototype, 'hardwareConcurrency', { get: () => ${n}, configurable: true });`;
@@ -141,14 +141,7 @@ describe('a scan on a pool of workers in Chromium', () => {
   it('gives bench C\'s tolerance budget of 1000 draws, shared over two workers, as one worker gives it', async () => {
     const tables: string[] = [];
     for (const [app, workers] of [[oneApp, 1], [twoApp, 2]] as const) {
-      const { page } = app;
-      await page.locator('[data-panel="scan"] h2').focus();
-      await page.keyboard.press('Alt+b');
-      const panel = page.locator('[data-panel="budget"]');
-      await panel.waitFor();
-      await expect.poll(() => panel.locator('.tolerances tbody tr[data-tolerance]').count()).toBe(5);
-      await panel.getByRole('button', { name: 'Run budget' }).click();
-      await page.waitForSelector('[data-budget-seq]', { timeout: 60_000 });
+      const panel = await runBudgetPanel(app.page, '[data-panel="scan"] h2', 5);
       await expect.poll(() => panel.locator('[data-budget-workers]').getAttribute('data-budget-workers')).toBe(String(workers));
       // every figure of the two tables (the detectors', the ranked effects')
       tables.push((await panel.locator('table.budget-detectors, table.budget-ranking').allTextContents()).join('\n'));
