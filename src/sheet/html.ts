@@ -454,7 +454,8 @@ function tolerancesBlock(m: SheetModel): string {
   if (!m.tolerances) return `${head}<p>No budget: ${e(m.tolerancesNote ?? '')}</p></section>\n`;
   const pct = (x: number) => `${sheetNumber(x * 100)} %`;
   const rows = m.tolerances.map((t) => `<tr><td>${e(t.detector)}</td><td>${e(t.parameter)}</td><td>${e(t.tolerance)}</td><td class="num">${sheetNumber(t.effect)}</td><td class="num">${pct(t.relative)}</td><td class="num">${pct(t.share)}</td></tr>`).join('');
-  return `${head}<table><thead><tr><th>detector</th><th>set-point</th><th>tolerance</th><th class="num">σ of signal (counts/s)</th><th class="num">of signal</th><th class="num">share of its variance</th></tr></thead><tbody>${rows}</tbody></table>`
+  // (room for a set-point name such as oven.velocity.temperature on one line)
+  return `${head}<table class="tolerances"><colgroup>${[10, 28, 20, 16, 11, 15].map((w) => `<col style="width:${w}%">`).join('')}</colgroup><thead><tr><th>detector</th><th>set-point</th><th>tolerance</th><th class="num">σ of signal (counts/s)</th><th class="num">of signal</th><th class="num">share of its variance</th></tr></thead><tbody>${rows}</tbody></table>`
     + `<p class="meta">Each row: the spread of one detector's signal from one set-point's tolerance alone, largest relative first (the document's "tolerances"; central differences). <code>spinyard budget FILE</code> gives every entry, the combined spread and a Monte Carlo.</p></section>\n`;
 }
 
