@@ -146,9 +146,10 @@ export function createPlanClient(
         part.fraction = 1;
         part.outcomes = r.outcomes;
         if (parts.some((p) => !p.done)) return;
-        // every share is in: the first worker makes the budget from their outcomes, in order
+        // every share is in: the first worker makes the budget from their outcomes, in order (the parts are in the
+        // shares' order)
         const b = job as PlanJob & { kind: 'budget' };
-        const outcomes = [...parts].sort((x, y) => x.share!.index - y.share!.index).flatMap((p) => p.outcomes!);
+        const outcomes = parts.flatMap((p) => p.outcomes!);
         parts = [{ worker: 0, finish: true, fraction: 1, done: false }];
         ensure(0).postMessage({ kind: 'budget-finish', seq: status.seq, text: b.text, draws: b.draws, seed: b.seed, outcomes, ...(b.acceptCost ? { acceptCost: true } : {}) } satisfies PlanRequest);
         return;

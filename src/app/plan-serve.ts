@@ -15,7 +15,7 @@ import {
   compile, checkRunCost, CostLimitError, budget, budgetSetup, budgetOutcomes, budgetResult, scanIndices, scanParameters, scanPoint, scanResult, CancelledError, fit, readMeasurements, simulate, parameter,
   displayUnit, type BudgetSetup, type Plan, type RunResult, type ScanPoint, type ScanResult,
 } from './core-adapter.ts';
-import { blockPoints } from './scan-blocks.ts';
+import { blockPoints, scanBlocks } from './scan-blocks.ts';
 import { costOf } from './cost-ask.ts';
 import type { FitData, PlanReply, PlanRequest } from './engine-protocol.ts';
 
@@ -123,8 +123,9 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
     if (req.share) {
       // a share of a budget spread over a pool: its evaluations' outcomes, in order
       const setup = setupOf(plan, req);
-      const { index, count } = req.share, n = setup.sets.length;
-      const sets = setup.sets.slice(Math.floor((index * n) / count), Math.floor(((index + 1) * n) / count));
+      // the contiguous blocks a scan's points are dealt out in (scan-blocks.ts), here of the budget's evaluations
+      const block = scanBlocks(setup.sets.length, req.share.count)[req.share.index];
+      const sets = block ? setup.sets.slice(block.start, block.end) : [];
       const tell = progress(req.seq);
       let done = 0;
       const outcomes = budgetOutcomes(plan, setup.ids, sets, { isCancelled: () => cancelled.has(req.seq) }, () => tell(++done / sets.length));
@@ -139,9 +140,8 @@ export function createPlanServer(post: (m: PlanReply) => void, opts: PlanServerO
   const finishBudget = (req: PlanRequest & { kind: 'budget-finish' }) => {
     const t0 = now();
     const plan = planOf(req.text);
-    const setup = setupOf(plan, req);
-    if (req.outcomes.length !== setup.sets.length) throw new Error(`the budget's shares gave ${req.outcomes.length} outcomes for ${setup.sets.length} evaluations`);
-    post({ type: 'budget-result', seq: req.seq, result: budgetResult(plan, setup, req.outcomes), ms: now() - t0 });
+    // (budgetResult refuses outcomes that are not one per evaluation)
+    post({ type: 'budget-result', seq: req.seq, result: budgetResult(plan, setupOf(plan, req), req.outcomes), ms: now() - t0 });
   };
 
   const runFit = (req: PlanRequest & { kind: 'fit' }) => {

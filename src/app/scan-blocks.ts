@@ -6,7 +6,7 @@
 import type { ScanPoint, ScanResult } from './core-adapter.ts';
 import type { BlockPoint, ScanBlock } from './engine-protocol.ts';
 
-/** The pool's size for scans: one worker per core but one (the live run keeps its own), at most 4, at least 1. */
+/** The planning pool's size (scans, long budgets): one worker per core but one (the live run keeps its own), at most 4, at least 1. */
 export function scanPoolSize(cores: number | undefined): number {
   const n = Number.isFinite(cores) ? Math.floor(cores as number) : 1;
   return Math.max(1, Math.min(n - 1, 4));

@@ -42,7 +42,7 @@ export function serveChunks<T, R>(evaluate: (items: T[]) => R[], problem?: strin
 
 /**
  * The work a default `--workers` leaves to this thread alone: below this many milliseconds of it (this thread's
- * own pace on the first chunk times the items left), starting worker threads costs more than they give. On the
+ * pace on its latest chunk times the items left), starting worker threads costs more than they give. On the
  * machine of docs/bench.md (two vCPUs with about 1.45× the throughput of one) a worker's start (loading the
  * command line, compiling the document, its first evaluations before the JIT has compiled them, all beside this
  * thread) costs about 0.8 s, and it gives back about a third of the work: worth it from some 2.5 s of work on.

@@ -7,6 +7,7 @@
  */
 import { type CMat, cmatMul, cmatZeros } from './cmat.ts';
 import { eigh, spectralFunction } from './eigh.ts';
+import { CacheFamily, IdentityCache } from './cache.ts';
 import { spinOperators, spinAlong, type SpinOperators } from './spin.ts';
 
 export interface Vec3 {
@@ -60,18 +61,21 @@ export function rotationOperator(ops: Pick<SpinOperators, 'jx' | 'jy' | 'jz'>, n
   const u = vecUnit(n);
   // the generator's eigenvectors do not depend on the angle: found once per spin and axis (a scan of a roll angle asks
   // for the same two axes at every point), the same numbers as found afresh
-  let byAxis = GENERATORS.get(ops);
-  if (!byAxis) GENERATORS.set(ops, (byAxis = new Map()));
+  const byAxis = generators.getOr(ops, () => new Map());
   const key = `${u.x},${u.y},${u.z}`;
   let eg = byAxis.get(key);
-  if (!eg) {
+  if (eg) generatorAxes.hits++;
+  else {
+    generatorAxes.misses++;
     eg = eigh(spinAlong(ops, u));
-    if (byAxis.size < 64) byAxis.set(key, eg);
+    generatorAxes.put(byAxis, key, eg);
   }
   return spectralFunction(eg, (l) => [Math.cos(alpha * l), -Math.sin(alpha * l)]);
 }
 
-const GENERATORS = new WeakMap<object, Map<string, ReturnType<typeof eigh>>>();
+// (registered with the engine's caches: bounded, counted, emptied by clearCaches)
+const generators = new IdentityCache<object, Map<string, ReturnType<typeof eigh>>>('rotation generators by spin');
+const generatorAxes = new CacheFamily('rotation generator axes per spin', 64);
 
 /** Wigner small-d matrix d^j(β) in the basis m = +j … −j (row m′, column m). */
 export function wignerSmallD(j2: number, beta: number): CMat {
